@@ -1,0 +1,5 @@
+"""``python -m rcdoc``: the same as the ``rcdoc`` command."""
+
+from .cli import entry
+
+entry()

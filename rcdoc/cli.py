@@ -1,0 +1,159 @@
+"""The command line: ``rcdoc build``, ``rcdoc check`` (and the other commands).
+
+Thin: parses options, calls the library, prints. A ProjectError becomes one
+line on stderr and exit status 2; a failed check, exit status 1.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+from pathlib import Path
+
+from . import __version__
+from .errors import ProjectError
+
+EXIT_OK, EXIT_FAIL, EXIT_INPUT = 0, 1, 2
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message):          # usage mistakes are input mistakes: exit 2
+        self.print_usage(sys.stderr)
+        print(f"rcdoc: error: {message}", file=sys.stderr)
+        raise SystemExit(EXIT_INPUT)
+
+
+def _positive_int(text: str) -> int:
+    try:
+        v = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"'{text}' is not a whole number")
+    if v < 0:
+        raise argparse.ArgumentTypeError("must not be negative")
+    return v
+
+
+def make_parser() -> argparse.ArgumentParser:
+    p = _Parser(prog="rcdoc", description="Design notes for the RC networks on a board.")
+    p.add_argument("--version", action="version", version=f"rcdoc {__version__}")
+    sub = p.add_subparsers(dest="command", required=True, parser_class=_Parser)
+
+    def common(sp):
+        sp.add_argument("files", nargs="+", metavar="FILE", help="project files (TOML)")
+        sp.add_argument("--samples", type=_positive_int, help="Monte Carlo samples per stage")
+        sp.add_argument("--seed", type=_positive_int, help="random seed")
+        sp.add_argument("--quiet", action="store_true", help="print nothing but errors")
+        sp.add_argument("--jobs", type=_positive_int, default=None,
+                        help="parallel processes (default: the machine's cores)")
+
+    b = sub.add_parser("build", help="analyse and write the PDF note and JSON summary")
+    common(b)
+    b.add_argument("-o", "--output", metavar="DIR", help="output folder (default: build/ "
+                   "beside each project file)")
+    b.add_argument("--templates", metavar="DIR", help="folder of templates that override "
+                   "the shipped ones")
+    c = sub.add_parser("check", help="analyse and judge the checks; no PDF")
+    common(c)
+    c.add_argument("--junit", metavar="FILE", help="write a JUnit XML report")
+    return p
+
+
+def _console(quiet: bool):
+    if quiet:
+        return None
+    from rich.console import Console
+    return Console(stderr=True)
+
+
+def _progress_for(console, label: str):
+    if console is None:
+        return None
+
+    def report(stage_id: str):
+        console.print(f"[dim]{label}[/dim] analysing {stage_id}", highlight=False)
+    return report if console.is_terminal else None
+
+
+def cmd_build(args) -> int:
+    from .build import analyse_project, load_all, output_dir, write_outputs
+    template_dirs = []
+    if args.templates:
+        tdir = Path(args.templates)
+        if not tdir.is_dir():
+            raise ProjectError(f"the templates folder '{tdir}' does not exist", path="--templates")
+        template_dirs.append(tdir)
+    projects = load_all(args.files, samples=args.samples, seed=args.seed)
+    console = _console(args.quiet)
+    worst = EXIT_OK
+    for project in projects:
+        outcome = analyse_project(project, progress=_progress_for(console, project.file),
+                                  jobs=args.jobs or os.cpu_count() or 1)
+        pdf, js = write_outputs(outcome, output_dir(project.file, args.output),
+                                template_dirs=template_dirs)
+        if console is not None:
+            _print_table(console, outcome)
+            console.print(f"wrote {pdf} and {js}", highlight=False)
+        if outcome.status != "pass":
+            worst = EXIT_FAIL
+    return worst
+
+
+def cmd_check(args) -> int:
+    from .build import analyse_project, load_all, write_atomic
+    from .summary import junit
+    projects = load_all(args.files, samples=args.samples, seed=args.seed)
+    console = _console(args.quiet)
+    outcomes = []
+    for project in projects:
+        outcome = analyse_project(project, progress=_progress_for(console, project.file),
+                                  jobs=args.jobs or os.cpu_count() or 1)
+        outcomes.append(outcome)
+        if console is not None:
+            _print_table(console, outcome)
+    if args.junit:
+        write_atomic(Path(args.junit),
+                     junit([(o.project, o.results) for o in outcomes]).encode("utf-8"))
+    return EXIT_FAIL if any(o.status != "pass" for o in outcomes) else EXIT_OK
+
+
+def _print_table(console, outcome) -> None:
+    from rich.table import Table
+
+    from .note import limit_text, metric_label
+    from .quantities import format_quantity
+    from .metrics import METRICS
+    t = Table(title=f"{outcome.project.board.name} rev {outcome.project.board.revision}: "
+                    f"{outcome.status.upper()}", title_justify="left")
+    for col in ("stage", "check", "limit", "worst", "yield", "verdict"):
+        t.add_column(col)
+    for r in outcome.results:
+        if not (r.verdicts or r.ratings):
+            t.add_row(r.stage.id, "(no checks)", "", "", "", r.status)
+        for v in r.verdicts + r.ratings:
+            unit = METRICS[v.metric].unit
+            name = metric_label(v.metric, v.at_hz, v.detail) + (f" {v.part}" if v.part else "")
+            worst = format_quantity(v.worst, unit) if v.worst == v.worst else "not found"
+            style = "green" if v.status == "pass" else "bold red"
+            t.add_row(r.stage.id, name, limit_text(v, unit), worst,
+                      f"{v.yield_ * 100:.2f} %", f"[{style}]{v.status}[/{style}]")
+    console.print(t)
+
+
+COMMANDS = {"build": cmd_build, "check": cmd_check}
+
+
+def main(argv: list[str] | None = None) -> int:
+    args = make_parser().parse_args(argv)
+    try:
+        return COMMANDS[args.command](args)
+    except ProjectError as exc:
+        print(f"rcdoc: error: {exc}", file=sys.stderr)
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        print("rcdoc: interrupted; nothing was written", file=sys.stderr)
+        return 130
+
+
+def entry() -> None:
+    raise SystemExit(main())

@@ -1,0 +1,346 @@
+"""Metric computations over a batch of part values.
+
+An Evaluator holds one stage's Network and a batch of values (one row per
+Monte Carlo sample, worst-case vertex or sensitivity probe) and computes any
+registered metric for every row at once, caching the sweeps it shares
+(frequency response, step response, PWM steady state). No Python loop runs
+per row; loops run over bisection steps, time steps or parts only.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from functools import cached_property
+
+import numpy as np
+
+from . import engine
+from .model import Check, Stage
+from .network import Network
+
+DB3 = 10 * math.log10(2.0)          # 3.0103 dB: half power
+CORNER_ITERATIONS = 40               # bisection steps in log-frequency: far below 1 ppm
+TIME_POINTS = 4000                   # step-response grid
+PWM_POINTS = 1000                    # points over one PWM period
+
+
+def db(h: np.ndarray) -> np.ndarray:
+    with np.errstate(divide="ignore"):
+        return 20 * np.log10(np.abs(h))
+
+
+@dataclass(frozen=True)
+class Sweep:
+    freqs_hz: np.ndarray
+
+
+def sweep_for(stage_char_hz: float, analysis) -> np.ndarray:
+    """Log sweep: the project's range, or 3 decades either side of the stage's frequency."""
+    if analysis.sweep_hz is not None:
+        lo, hi = analysis.sweep_hz
+    else:
+        lo, hi = stage_char_hz / 1e3, stage_char_hz * 1e3
+    n = max(int(round(math.log10(hi / lo) * analysis.points_per_decade)) + 1, 2)
+    return np.logspace(math.log10(lo), math.log10(hi), n)
+
+
+class Evaluator:
+    """Computes metrics for every row of a batch of values."""
+
+    def __init__(self, stage: Stage, network: Network, values: dict[str, np.ndarray],
+                 freqs_hz: np.ndarray, passband: str, char_hz: float,
+                 temperature_k: np.ndarray | float = 298.15):
+        self.stage = stage
+        self.network = network
+        self.values = values
+        self.freqs_hz = freqs_hz
+        self.passband = passband
+        self.char_hz = char_hz
+        self.temperature_k = temperature_k
+        self.rows = len(next(iter(values.values())))
+
+    # ---- frequency domain -------------------------------------------------
+    @cached_property
+    def system(self):
+        return engine.assemble(self.network, self.values)
+
+    @cached_property
+    def h(self) -> np.ndarray:
+        return engine.ac(self.network, self.values, self.freqs_hz)
+
+    @cached_property
+    def gain_db(self) -> np.ndarray:
+        return db(self.h)
+
+    def h_rows(self, f_hz: np.ndarray) -> np.ndarray:
+        """H at one frequency per row (rows may differ): solve (G + sC) x = b row by row at once."""
+        sysm = self.system
+        s = 2j * np.pi * np.asarray(f_hz, dtype=float)
+        a = sysm.G + s[:, None, None] * sysm.C
+        b = np.broadcast_to(sysm.b.astype(complex), (a.shape[0], a.shape[1]))
+        x = np.linalg.solve(a, b[..., None])[..., 0]
+        return x[:, sysm.index[self.network.output]]
+
+    def h_at(self, f_hz: float) -> np.ndarray:
+        return self.h_rows(np.full(self.rows, float(f_hz)))
+
+    @cached_property
+    def passband_db(self) -> np.ndarray:
+        g = self.gain_db
+        if self.passband == "low":
+            return g[:, 0]
+        if self.passband == "high":
+            return g[:, -1]
+        return g.max(axis=1)
+
+    def passband_gain(self) -> np.ndarray:
+        return self.passband_db
+
+    def _crossing(self, side: str) -> np.ndarray:
+        """Frequency where the gain falls 3.01 dB below the passband, per row (NaN if outside)."""
+        g, f = self.gain_db, self.freqs_hz
+        thr = self.passband_db - DB3
+        below = g < thr[:, None]
+        rows = np.arange(self.rows)
+        if side == "up":        # gain falls with frequency above the passband
+            start = 0 if self.passband == "low" else None
+            if start is None:
+                peak = np.argmax(g, axis=1)
+                below = below & (np.arange(len(f))[None, :] > peak[:, None])
+            j = np.argmax(below, axis=1)
+            ok = below[rows, j] & (j > 0)
+            lo, hi = f[np.maximum(j - 1, 0)], f[j]
+        else:                   # gain rises with frequency below the passband
+            if self.passband == "band":
+                peak = np.argmax(g, axis=1)
+                below = below & (np.arange(len(f))[None, :] < peak[:, None])
+            jr = np.argmax(below[:, ::-1], axis=1)
+            j = len(f) - 1 - jr
+            ok = below[rows, j] & (j < len(f) - 1)
+            lo, hi = f[j], f[np.minimum(j + 1, len(f) - 1)]
+        lo, hi = lo.astype(float), hi.astype(float)
+        for _ in range(CORNER_ITERATIONS):
+            mid = np.sqrt(lo * hi)
+            under = db(self.h_rows(mid)) < thr
+            if side == "up":
+                hi, lo = np.where(under, mid, hi), np.where(under, lo, mid)
+            else:
+                lo, hi = np.where(under, mid, lo), np.where(under, hi, mid)
+        return np.where(ok, np.sqrt(lo * hi), np.nan)
+
+    def corner(self) -> np.ndarray:
+        return self._crossing("down" if self.passband == "high" else "up")
+
+    def corner_low(self) -> np.ndarray:
+        return self._crossing("down")
+
+    def corner_high(self) -> np.ndarray:
+        return self._crossing("up")
+
+    @cached_property
+    def poles(self) -> np.ndarray:
+        """Finite poles per row, sorted by magnitude (rows × n, NaN-padded)."""
+        sysm = self.system
+        sigma = 2 * np.pi * self.char_hz     # a positive shift is never a pole of a stable network
+        m = np.linalg.solve(sysm.G + sigma * sysm.C, sysm.C)
+        lam = np.linalg.eigvals(m)
+        scale = np.max(np.abs(lam), axis=1, keepdims=True)
+        finite = np.abs(lam) > 1e-9 * np.where(scale > 0, scale, 1.0)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            p = np.where(finite, sigma - 1.0 / np.where(finite, lam, 1.0), np.nan + 0j)
+        order = np.argsort(np.where(np.isnan(p.real), np.inf, np.abs(p)), axis=1)
+        return np.take_along_axis(p, order, axis=1)
+
+    def _two_poles(self):
+        p = self.poles
+        if p.shape[1] < 2:
+            nan = np.full(self.rows, np.nan)
+            return nan, nan
+        p1, p2 = p[:, 0], p[:, 1]
+        w0 = np.sqrt(np.abs(p1 * p2))
+        return w0, np.abs((p1 + p2).real)
+
+    def f0(self) -> np.ndarray:
+        w0, _ = self._two_poles()
+        return w0 / (2 * np.pi)
+
+    def q(self) -> np.ndarray:
+        w0, s = self._two_poles()
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return w0 / s
+
+    def peaking(self) -> np.ndarray:
+        return np.maximum(self.gain_db.max(axis=1) - self.passband_db, 0.0)
+
+    def gain(self, at_hz: float) -> np.ndarray:
+        return db(self.h_at(at_hz))
+
+    def phase(self, at_hz: float) -> np.ndarray:
+        return np.degrees(np.angle(self.h_at(at_hz)))
+
+    def group_delay(self, at_hz: float) -> np.ndarray:
+        # τ = −dφ/dω by a central difference; the ratio avoids phase wrapping.
+        d = 1e-4
+        h1, h2 = self.h_at(at_hz * (1 - d)), self.h_at(at_hz * (1 + d))
+        return -np.angle(h2 / h1) / (2 * np.pi * at_hz * 2 * d)
+
+    def input_impedance(self, at_hz: float) -> np.ndarray:
+        z = engine.input_impedance(self.network_unsourced, self.values, np.array([at_hz]))
+        return np.abs(z[:, 0])
+
+    @cached_property
+    def network_unsourced(self) -> Network:
+        """The network as seen at the stage's input, without the source impedance."""
+        from .kinds.base import SOURCE_L, SOURCE_R
+        els = tuple(e for e in self.network.elements if e.name not in (SOURCE_R, SOURCE_L))
+        return Network(elements=els, drive="in", output=self.network.output,
+                       opamps=self.network.opamps, path=self.network.path)
+
+    @cached_property
+    def noise_psd(self) -> np.ndarray:
+        return engine.output_noise_psd(self.network, self.values, self.freqs_hz,
+                                       temperature_k=self.temperature_k)
+
+    def noise(self) -> np.ndarray:
+        # Integrated over the sweep (trapezoid rule in linear frequency).
+        return np.sqrt(np.trapezoid(self.noise_psd, self.freqs_hz, axis=1))
+
+    # ---- time domain -------------------------------------------------------
+    @cached_property
+    def time_s(self) -> np.ndarray:
+        """Step grid long enough for the slowest decay among the rows to settle to 16+ bits."""
+        p = self.poles
+        decay = np.where(np.isnan(p.real), np.inf, np.abs(p.real))
+        slowest = np.nanmin(decay)
+        if not np.isfinite(slowest) or slowest <= 0:
+            slowest = 2 * np.pi * self.char_hz
+        t_end = 18.0 / slowest
+        return np.linspace(0.0, t_end, TIME_POINTS)
+
+    @cached_property
+    def step_probes(self) -> dict[str, np.ndarray]:
+        amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
+        probes = ["out"] + [f"v:{e.name}" for e in self.network.elements]
+        t = self.time_s
+        u = np.full(t.shape, amp)
+        u[0] = 0.0
+        return engine.transient(self.network, self.values, t, u, probes=probes)
+
+    @cached_property
+    def step(self) -> np.ndarray:
+        return self.step_probes["out"]
+
+    @cached_property
+    def final_value(self) -> np.ndarray:
+        amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
+        return np.real(self.h_rows(np.zeros(self.rows))) * amp if self.passband == "low" \
+            else self.step[:, -1]
+
+    def rise_time(self) -> np.ndarray:
+        y, t, fin = self.step, self.time_s, self.final_value
+        return _cross_time(y / fin[:, None], t, 0.9) - _cross_time(y / fin[:, None], t, 0.1)
+
+    def settling(self, within: float | None = None, bits: int | None = None) -> np.ndarray:
+        band = within if within is not None else 2.0 ** -(bits + 1)
+        y, t, fin = self.step, self.time_s, self.final_value
+        err = np.abs(y - fin[:, None]) / np.abs(fin)[:, None]
+        outside = err > band
+        last = len(t) - 1 - np.argmax(outside[:, ::-1], axis=1)
+        rows = np.arange(self.rows)
+        never = ~outside.any(axis=1)
+        nxt = np.minimum(last + 1, len(t) - 1)
+        e0, e1 = err[rows, last], err[rows, nxt]
+        # Interpolate log(error): exact for an exponential decay.
+        with np.errstate(divide="ignore", invalid="ignore"):
+            frac = np.log(e0 / band) / np.log(e0 / np.maximum(e1, 1e-300))
+        frac = np.clip(np.nan_to_num(frac, nan=0.0), 0.0, 1.0)
+        ts = t[last] + frac * (t[nxt] - t[last])
+        ts = np.where(last >= len(t) - 1, np.nan, ts)   # never settles inside the window
+        return np.where(never, 0.0, ts)
+
+    @cached_property
+    def pwm_probes(self) -> dict[str, np.ndarray]:
+        d = self.stage.drive
+        period = 1.0 / d.frequency_hz
+        t = np.arange(PWM_POINTS) * (period / PWM_POINTS)
+        u = np.where(t < d.duty * period, d.amplitude_v, 0.0)
+        probes = ["out"] + [f"v:{e.name}" for e in self.network.elements]
+        return engine.periodic_steady_state(self.network, self.values, t, u, probes=probes)
+
+    @cached_property
+    def pwm_time_s(self) -> np.ndarray:
+        period = 1.0 / self.stage.drive.frequency_hz
+        return np.arange(PWM_POINTS) * (period / PWM_POINTS)
+
+    def ripple(self) -> np.ndarray:
+        y = self.pwm_probes["out"]
+        return y.max(axis=1) - y.min(axis=1)
+
+    @cached_property
+    def drive_probes(self) -> dict[str, np.ndarray] | None:
+        d = self.stage.drive
+        if d is None:
+            return None
+        return self.pwm_probes if d.kind == "pwm" else self.step_probes
+
+    def capacitor_peaks(self) -> dict[str, np.ndarray]:
+        """Peak voltage per capacitor of the stage: stated DC bias plus the drive's peak."""
+        out = {}
+        probes = self.drive_probes
+        for role, part in self.stage.parts.items():
+            if part.kind != "C":
+                continue
+            peak = np.abs(probes[f"v:{role}"]).max(axis=1) if probes else np.zeros(self.rows)
+            out[role] = peak + (part.bias_v or 0.0)
+        return out
+
+    def resistor_powers(self) -> dict[str, np.ndarray]:
+        """Average power per resistor: over a PWM period in steady state, or after a step settles."""
+        out = {}
+        probes = self.drive_probes
+        if probes is None:
+            return out
+        for role, part in self.stage.parts.items():
+            if part.kind != "R":
+                continue
+            v = probes[f"v:{role}"]
+            r = self.values[role][:, None]
+            if self.stage.drive.kind == "pwm":
+                out[role] = np.mean(v ** 2 / r, axis=1)
+            else:
+                out[role] = v[:, -1] ** 2 / r[:, 0]
+        return out
+
+    def capacitor_voltage(self) -> np.ndarray:
+        peaks = self.capacitor_peaks()
+        if not peaks:
+            return np.zeros(self.rows)
+        return np.max(np.stack(list(peaks.values())), axis=0)
+
+    # ---- dispatch ----------------------------------------------------------
+    def metric(self, name: str, check: Check | None = None, at_hz: float | None = None):
+        at = at_hz if at_hz is not None else (check.at_hz if check else None)
+        if name in ("gain", "phase", "group_delay", "input_impedance"):
+            return getattr(self, name)(at)
+        if name == "settling":
+            if check is not None:
+                return self.settling(within=check.within, bits=check.bits)
+            return self.settling(within=0.01)
+        fn = getattr(self, name, None)
+        if fn is None or not callable(fn):
+            raise KeyError(name)
+        return fn()
+
+
+def _cross_time(y: np.ndarray, t: np.ndarray, level: float) -> np.ndarray:
+    """First time each row reaches ``level`` (linear interpolation between samples)."""
+    above = y >= level
+    j = np.argmax(above, axis=1)
+    rows = np.arange(y.shape[0])
+    ok = above[rows, j] & (j > 0)
+    j0 = np.maximum(j - 1, 0)
+    y0, y1 = y[rows, j0], y[rows, j]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        frac = np.where(y1 != y0, (level - y0) / (y1 - y0), 0.0)
+    return np.where(ok, t[j0] + frac * (t[j] - t[j0]), np.nan)

@@ -1,0 +1,150 @@
+"""What every stage kind provides, and the pieces kinds share.
+
+A kind turns a validated Stage into a Network (core circuit between "in" and
+"out"), a schematic recipe and its list of applicable metrics. The source
+impedance and the load are added here, the same way for every kind, so the
+engine and the figures see them as ordinary elements.
+"""
+
+from __future__ import annotations
+
+from typing import Any, Protocol
+
+from ..errors import ProjectError
+from ..figures.schematic import Label
+from ..model import Part, Stage
+from ..network import GROUND, Element, Network
+from ..quantities import format_quantity
+
+# Element names of the source impedance and the load; they carry fixed values.
+SOURCE_R, SOURCE_L, LOAD_R, LOAD_C = "source.r", "source.l", "load.r", "load.c"
+UNIT_OF = {"R": "ohm", "C": "F", "L": "H"}
+
+FREQUENCY_METRICS = ("corner", "passband_gain", "gain", "phase", "group_delay",
+                     "input_impedance", "noise")
+TIME_METRICS = ("rise_time", "settling", "ripple", "capacitor_voltage")
+
+
+class KindModule(Protocol):
+    NAME: str
+    OPTIONS: tuple[str, ...]          # the kind's own stage keys
+    PASSBAND: str                     # "low", "high" or "band": where the passband gain is read
+
+    def parse_options(self, table: dict, path: str) -> dict[str, Any]: ...
+    def check_roles(self, parts: dict[str, Part], options: dict, path: str) -> None: ...
+    def metrics(self, options: dict, drive) -> tuple[str, ...]: ...
+    def build(self, stage: Stage) -> Network: ...
+    def characteristic_hz(self, stage: Stage) -> float: ...
+    def schematic(self, stage: Stage): ...
+
+
+def no_options(table: dict, path: str) -> dict:
+    return {}
+
+
+def require_roles(parts: dict[str, Part], required: tuple[str, ...], path: str,
+                  optional: tuple[str, ...] = ()) -> None:
+    """Missing or extra roles are errors naming the roles the kind takes."""
+    for role in required:
+        if role not in parts:
+            raise ProjectError(f"role '{role}' is missing; this kind takes "
+                               f"{', '.join(required + optional)}", path=f"{path}.{role}")
+    for role in parts:
+        if role not in required and role not in optional:
+            raise ProjectError(f"role '{role}' is not part of this kind; it takes "
+                               f"{', '.join(required + optional)}", path=f"{path}.{role}")
+
+
+def standard_metrics(drive, extra: tuple[str, ...] = ()) -> tuple[str, ...]:
+    names = FREQUENCY_METRICS + extra
+    if drive is not None:
+        names += ("rise_time", "settling", "capacitor_voltage")
+        if drive.kind == "pwm":
+            names += ("ripple",)
+    return names
+
+
+def wrap(stage: Stage, elements: list[Element], *, output: str = "out",
+         opamps=(), path: tuple[str, ...] = ()) -> Network:
+    """Add the stage's source impedance (before "in") and load (at the output)."""
+    elements = list(elements)
+    drive = "in"
+    chain = []
+    if stage.source_l > 0:
+        elements.insert(0, Element(SOURCE_L, "L", "src_l", drive))
+        chain.insert(0, SOURCE_L)
+        drive = "src_l"
+    if stage.source_r > 0:
+        elements.insert(0, Element(SOURCE_R, "R", "src", drive))
+        chain.insert(0, SOURCE_R)
+        drive = "src"
+    if stage.load_r is not None:
+        elements.append(Element(LOAD_R, "R", output, GROUND))
+    if stage.load_c is not None:
+        elements.append(Element(LOAD_C, "C", output, GROUND))
+    return Network(elements=tuple(elements), drive=drive, output=output,
+                   opamps=tuple(opamps), path=tuple(chain) + tuple(path))
+
+
+def fixed_values(stage: Stage) -> dict[str, float]:
+    """Values of the source and load elements (ideal: no tolerance)."""
+    out = {}
+    if stage.source_r > 0:
+        out[SOURCE_R] = stage.source_r
+    if stage.source_l > 0:
+        out[SOURCE_L] = stage.source_l
+    if stage.load_r is not None:
+        out[LOAD_R] = stage.load_r
+    if stage.load_c is not None:
+        out[LOAD_C] = stage.load_c
+    return out
+
+
+def label(part: Part) -> Label:
+    return Label(part.ref or part.role.upper(), format_quantity(part.value, UNIT_OF[part.kind]))
+
+
+def source_labels(stage: Stage):
+    out = []
+    if stage.source_r > 0:
+        out.append(("R", Label("Rs", format_quantity(stage.source_r, "ohm"))))
+    if stage.source_l > 0:
+        out.append(("L", Label("Ls", format_quantity(stage.source_l, "H"))))
+    return tuple(out)
+
+
+def load_labels(stage: Stage):
+    out = []
+    if stage.load_r is not None:
+        out.append(("R", Label("RL", format_quantity(stage.load_r, "ohm"))))
+    if stage.load_c is not None:
+        out.append(("C", Label("CL", format_quantity(stage.load_c, "F"))))
+    return tuple(out)
+
+
+def parse_amplifier(t: dict, path: str) -> dict:
+    """``amplifier = { gbw = "10 MHz", gain = "120 dB" }``; default ideal (inf, inf)."""
+    from ..quantities import parse_positive, parse_quantity
+    raw = t.get("amplifier")
+    if raw is None:
+        return {"gbw_hz": float("inf"), "a0": float("inf")}
+    if not isinstance(raw, dict):
+        raise ProjectError("expected a table { gbw = \"10 MHz\", gain = \"120 dB\" }",
+                           path=f"{path}.amplifier")
+    for key in raw:
+        if key not in ("gbw", "gain"):
+            raise ProjectError(f"unknown key '{key}'; an amplifier has 'gbw' and 'gain'",
+                               path=f"{path}.amplifier.{key}")
+    gbw = (parse_positive(raw["gbw"], "Hz", f"{path}.amplifier.gbw") if "gbw" in raw
+           else float("inf"))
+    a0 = float("inf")
+    if "gain" in raw:
+        db = parse_quantity(raw["gain"], "dB", f"{path}.amplifier.gain")
+        if db <= 0:
+            raise ProjectError("open-loop gain must be above 0 dB",
+                               path=f"{path}.amplifier.gain")
+        a0 = 10 ** (db / 20)
+    return {"gbw_hz": gbw, "a0": a0}
+
+
+SECOND_ORDER_METRICS = ("f0", "q", "peaking")

@@ -1,0 +1,242 @@
+"""Tests of rcdoc.figures.charts: well-formed, deterministic, collision-free SVG.
+
+Inputs are small synthetic arrays (a first-order RC low-pass written out from
+the textbook formula H = 1 / (1 + j f/fc)); the charts compute nothing from
+them, so the tests check the SVG, not the curves.
+"""
+
+from __future__ import annotations
+
+import re
+import xml.etree.ElementTree as ET
+
+import matplotlib
+import numpy as np
+import pytest
+
+from rcdoc.figures import charts, palette
+
+SVG_NS = "{http://www.w3.org/2000/svg}"
+
+CORNER_HZ = 1591.55  # 1 / (2 pi 10 kOhm 10 nF), textbook RC corner
+F_HZ = np.logspace(1.0, 5.0, 81)
+H = 1.0 / (1.0 + 1j * F_HZ / CORNER_HZ)
+GAIN_DB = 20.0 * np.log10(np.abs(H))
+PHASE_DEG = np.degrees(np.angle(H))
+
+
+def _band() -> dict:
+    out = {}
+    for name, nominal in (("gain", GAIN_DB), ("phase", PHASE_DEG)):
+        out[f"{name}_min"] = nominal - 2.0
+        out[f"{name}_max"] = nominal + 2.0
+        out[f"{name}_lo"] = nominal - 1.0
+        out[f"{name}_hi"] = nominal + 1.0
+    return out
+
+
+def make_bode(fig_id: str, **kw) -> str:
+    return charts.bode(fig_id, F_HZ, GAIN_DB, PHASE_DEG, **kw)
+
+
+def make_bode_full(fig_id: str) -> str:
+    return make_bode(
+        fig_id, band=_band(), corner_hz=CORNER_HZ, corner_spread=(1.3e3, 1.9e3),
+        marks=[(5e3, -10.4, -72.3)],
+        limits=[{"panel": "gain", "f_lo": 5e4, "f_hi": 5e4, "min": None, "max": -30.0, "label": "≤ −30 dB"},
+                {"panel": "phase", "f_lo": None, "f_hi": 100.0, "min": -10.0, "max": None, "label": "phase"},
+                {"panel": "corner", "f_lo": None, "f_hi": None, "min": 1.4e3, "max": 1.8e3, "label": "corner"}],
+        title="RC low-pass")
+
+
+def make_phasor(fig_id: str) -> str:
+    # At the corner of an RC low-pass |V_R| = |V_C| = V/sqrt(2) and the source
+    # voltage lags the current by 45 degrees (textbook phasor triangle).
+    vr, vc = 0.7071 + 0j, -0.7071j
+    return charts.phasor(fig_id, [
+        {"label": "V_R = 0.707 V", "value": vr, "kind": "R", "tail": 0j},
+        {"label": "V_C = 0.707 V", "value": vc, "kind": "C", "tail": vr},
+        {"label": "V_in = 1.00 V", "value": vr + vc, "kind": "source", "tail": 0j},
+    ], reference_label="I", freq_hz=CORNER_HZ, angle_deg=-45.0)
+
+
+def make_time(fig_id: str) -> str:
+    t = np.linspace(0.0, 1e-3, 120)
+    tau = 1e-4
+    y = 1.0 - np.exp(-t / tau)
+    return charts.time_response(
+        fig_id, t, y, band=(1.0 - np.exp(-t / 1.2e-4), 1.0 - np.exp(-t / 0.8e-4)),
+        window={"t": 4.6e-4, "lo": 0.99, "hi": 1.01, "label": "±1 %"},
+        series=[{"t": t, "y": np.ones_like(t), "label": "drive", "role": "input"}])
+
+
+def make_histogram(fig_id: str, **kw) -> str:
+    samples = np.random.default_rng(1).normal(CORNER_HZ, 80.0, 500)
+    kw = {"lo": 1.45e3, "hi": 1.75e3, **kw}
+    return charts.histogram(fig_id, samples, nominal=CORNER_HZ, label="Corner frequency", unit="Hz", **kw)
+
+
+def make_overview(fig_id: str) -> str:
+    return charts.corner_overview(fig_id, [
+        {"label": "ain0", "nominal": CORNER_HZ, "min": 1.3e3, "max": 1.9e3, "status": "pass"},
+        {"label": "ain1", "nominal": 16e3, "min": 13e3, "max": 19e3, "status": "fail"},
+    ])
+
+
+def make_sweep(fig_id: str) -> str:
+    c = np.logspace(-11, -8, 40)
+    return charts.sweep(fig_id, c, [
+        {"y": 1.0 - np.exp(-c / 3e-10), "label": "damping ratio", "unit": "", "axis": "left"},
+        {"y": c * 48.0**2 * 250e3, "label": "resistor power", "unit": "W", "axis": "right"},
+    ], xlabel="Snubber capacitance", x_unit="F", marker_x=6.8e-10)
+
+
+MAKERS = {
+    "bode": make_bode_full,
+    "phasor": make_phasor,
+    "time_response": make_time,
+    "histogram": make_histogram,
+    "corner_overview": make_overview,
+    "sweep": make_sweep,
+}
+
+
+@pytest.fixture(scope="module")
+def rendered() -> dict:
+    """Every chart twice under one fig_id, and once under another."""
+    out = {}
+    for name, make in MAKERS.items():
+        stem = name.replace("_", "-")
+        out[name] = (make(f"{stem}-a"), make(f"{stem}-a"), make(f"{stem}-b"))
+    return out
+
+
+def _ids(svg: str) -> set[str]:
+    return set(re.findall(r'\sid="([^"]+)"', svg))
+
+
+def _refs(svg: str) -> set[str]:
+    return set(re.findall(r'href="#([^"]+)"', svg)) | set(re.findall(r"url\(#([^)]+)\)", svg))
+
+
+@pytest.mark.parametrize("name", sorted(MAKERS))
+def test_chart_is_well_formed_svg_of_text_width(rendered, name):
+    svg = rendered[name][0]
+    root = ET.fromstring(svg)
+    assert root.tag == SVG_NS + "svg"
+    # Figures are 16 cm wide = 16 / 2.54 * 72 pt (definition of the inch and the point).
+    assert float(root.get("width").removesuffix("pt")) == pytest.approx(16 / 2.54 * 72, abs=0.5)
+    assert svg.startswith("<svg"), "the XML prolog is dropped so the SVG can be inlined in HTML"
+
+
+@pytest.mark.parametrize("name", sorted(MAKERS))
+def test_same_input_gives_same_bytes(rendered, name):
+    first, second, _ = rendered[name]
+    assert first.encode() == second.encode()
+
+
+@pytest.mark.parametrize("name", sorted(MAKERS))
+def test_different_fig_ids_share_no_element_id(rendered, name):
+    a, _, b = rendered[name]
+    ids_a, ids_b = _ids(a), _ids(b)
+    assert ids_a and ids_b
+    assert not ids_a & ids_b
+    assert all(i.startswith(f"{name.replace('_', '-')}-a__") for i in ids_a)
+    # Every reference still points at an element of the same document.
+    assert _refs(a) and _refs(a) <= ids_a
+    assert _refs(b) <= ids_b
+
+
+def test_fig_ids_that_sanitise_alike_still_differ():
+    a = make_histogram("Stage 1")
+    b = make_histogram("stage-1")
+    c = make_histogram("stage_1")
+    assert not _ids(a) & _ids(b)
+    assert not _ids(a) & _ids(c)
+    assert not _ids(b) & _ids(c)
+    assert all(re.match(r"[A-Za-z_]", i) for i in _ids(a)), "XML ids must start with a letter"
+
+
+def test_output_ignores_global_rcparams():
+    reference = make_histogram("rc-check")
+    with matplotlib.rc_context({"lines.linewidth": 5.0, "font.size": 20.0, "axes.grid": False,
+                                "svg.hashsalt": "other", "axes.prop_cycle": matplotlib.cycler(color=["red"])}):
+        changed = make_histogram("rc-check")
+    assert changed == reference
+
+
+def test_bode_draws_bands_in_palette_colours(rendered):
+    svg = rendered["bode"][0]
+    plain = make_bode("bode-plain")
+    for colour in (palette.BAND_OUTER, palette.BAND_INNER):
+        assert colour in svg
+        assert colour not in plain
+
+
+def test_bode_limits_are_shaded_in_limit_colour(rendered):
+    assert palette.LIMIT in rendered["bode"][0]
+    assert palette.LIMIT_EDGE in rendered["bode"][0]
+    assert palette.LIMIT not in make_bode("bode-nolimit", band=_band())
+
+
+def test_each_limit_panel_draws_its_own_region():
+    for lim in ({"panel": "gain", "f_lo": None, "f_hi": None, "min": -50.0, "max": None, "label": "x"},
+                {"panel": "phase", "f_lo": 10.0, "f_hi": 100.0, "min": None, "max": 0.0, "label": "y"},
+                {"panel": "corner", "min": 1.4e3, "max": 1.8e3, "label": "z"}):
+        assert palette.LIMIT in make_bode("bode-one", limits=[lim]), lim["panel"]
+
+
+def test_histogram_limits_shaded_only_when_given(rendered):
+    assert palette.LIMIT in rendered["histogram"][0]
+    assert palette.LIMIT not in make_histogram("hist-free", lo=None, hi=None)
+
+
+def test_phasor_uses_part_colours(rendered):
+    svg = rendered["phasor"][0]
+    for colour in (palette.RESISTOR, palette.CAPACITOR, palette.SOURCE):
+        assert colour in svg
+    assert palette.INDUCTOR not in svg
+
+
+def test_overview_colours_rows_by_status(rendered):
+    svg = rendered["corner_overview"][0]
+    assert palette.PASS in svg and palette.FAIL in svg
+
+
+@pytest.mark.parametrize("value, unit, text", [
+    # SI prefixes (BIPM SI brochure, 9th ed., table 7); 3 significant digits: common practice.
+    (1591.549, "Hz", "1.59 kHz"),
+    (999.7, "Hz", "1.00 kHz"),
+    (0.0472, "V", "47.2 mV"),
+    (2.2e-9, "F", "2.20 nF"),
+    (-3.3e-6, "s", "\N{MINUS SIGN}3.30 µs"),
+    (0.0, "W", "0 W"),
+])
+def test_engineering_format(value, unit, text):
+    assert charts._eng(value, unit) == text
+
+
+def test_bad_inputs_raise_value_error():
+    with pytest.raises(ValueError, match="gain_db"):
+        charts.bode("x", F_HZ, GAIN_DB[:-1], PHASE_DEG)
+    with pytest.raises(ValueError, match="panel"):
+        make_bode("x", limits=[{"panel": "noise", "max": 1.0}])
+    with pytest.raises(ValueError, match="kind"):
+        charts.phasor("x", [{"label": "a", "value": 1j, "kind": "Z"}], reference_label="I", freq_hz=1.0)
+    with pytest.raises(ValueError, match="role"):
+        charts.time_response("x", [0, 1], [0, 1], series=[{"t": [0, 1], "y": [0, 1], "label": "s", "role": "?"}])
+    with pytest.raises(ValueError, match="status"):
+        charts.corner_overview("x", [{"label": "a", "nominal": 1.0, "min": 1.0, "max": 1.0, "status": "ok"}])
+    with pytest.raises(ValueError, match="fig_id"):
+        charts.histogram("", [1.0, 2.0], nominal=1.0, label="x", unit="V")
+
+
+def test_palette_is_complete_and_valid():
+    names = ("RESISTOR", "CAPACITOR", "INDUCTOR", "SOURCE", "SUM", "CURRENT", "NOMINAL", "BAND_OUTER",
+             "BAND_INNER", "LIMIT", "PASS", "FAIL", "GRID", "WITHOUT", "WITH")
+    values = [getattr(palette, n) for n in names]
+    assert all(re.fullmatch(r"#[0-9a-f]{6}", v) for v in values)
+    assert len(set(values)) == len(values), "each meaning has its own colour"
+    assert palette.COLOR_FOR_KIND == {"R": palette.RESISTOR, "C": palette.CAPACITOR, "L": palette.INDUCTOR}
+    assert palette.CSS_VARS["--rc-pass"] == palette.PASS
+    assert palette.CSS_VARS["--rc-fail"] == palette.FAIL

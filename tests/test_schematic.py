@@ -1,0 +1,366 @@
+"""Schematic recipes and their SVG rendering (rcdoc.figures.schematic).
+
+The recipes are checked against the circuits they stand for: the placement
+of parts in each stage kind is the contract in shared/project-format.md
+(cited as "format"); drawing conventions (ground symbols, junction dots,
+dashed parasitics) are common practice in schematic drawing.
+"""
+
+import re
+import subprocess
+import sys
+import xml.etree.ElementTree as ET
+
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from rcdoc.figures.schematic import (
+    Label, Recipe, Step, inductive_snubber, ladder, mfb, netlist, render_svg,
+    sallen_key, switch_snubber,
+)
+
+SVG_NS = "{http://www.w3.org/2000/svg}"
+
+R14 = Label("R14", "4.7 kΩ")
+C9 = Label("C9", "10 nF")
+RS = Label("Rs", "50 Ω")
+LS = Label("Ls", "10 nH")
+RL = Label("RL", "1 MΩ")
+CL = Label("CL", "8 pF")
+
+
+def refs(recipe):
+    return [label.ref for label in recipe.parts()]
+
+
+def path_back(recipe, name, hops):
+    """The point reached by following `hops` steps back from step `name`."""
+    for _ in range(hops):
+        name = recipe.start_of(name)
+    return name
+
+
+def parts_by_ref(recipe):
+    return {s.label.ref: s for s in recipe.steps if s.label is not None}
+
+
+def svg_root(svg_text):
+    root = ET.fromstring(svg_text)
+    assert root.tag == SVG_NS + "svg"
+    return root
+
+
+# --- Label and Recipe --------------------------------------------------------------
+
+def test_label_is_two_lines_ref_then_value():
+    assert R14.lines() == ("R14", "4.7 kΩ")
+    assert Label("", "48 Ω").lines() == ("48 Ω",)
+
+
+def test_recipe_rejects_reference_to_a_point_not_yet_drawn():
+    with pytest.raises(ValueError, match="refers to 'later'"):
+        Recipe((Step("R", "r1", start="later"), Step("dot", "later")))
+
+
+def test_recipe_rejects_duplicate_names_and_unknown_elements():
+    with pytest.raises(ValueError):
+        Recipe((Step("R", "x"), Step("C", "x")))
+    with pytest.raises(ValueError):
+        Recipe((Step("transistor", "q1"),))
+
+
+# --- ladders -----------------------------------------------------------------------
+
+def test_rc_lowpass_is_series_r_then_shunt_c():
+    # format: rc-lowpass = series R, shunt C, output across C
+    recipe = ladder([("series", "R", R14), ("shunt", "C", C9)])
+    assert refs(recipe) == ["R14", "C9"]
+    parts = parts_by_ref(recipe)
+    assert parts["R14"].element == "R" and parts["R14"].direction == "right"
+    assert parts["C9"].element == "C" and parts["C9"].direction == "down"
+    # the shunt hangs from the node where the series part ends
+    assert recipe.start_of(parts["C9"].name) == parts["R14"].name
+    texts = recipe.texts()
+    assert texts.index("IN") < texts.index("R14") < texts.index("C9") < texts.index("OUT")
+    assert "Vs" in texts
+    assert recipe.elements().count("source") == 1
+    assert "ground" in recipe.elements()
+
+
+def test_rc_highpass_swaps_the_kinds():
+    # format: rc-highpass = series C, shunt R, output across R
+    recipe = ladder([("series", "C", C9), ("shunt", "R", R14)])
+    parts = parts_by_ref(recipe)
+    assert (parts["C9"].element, parts["C9"].direction) == ("C", "right")
+    assert (parts["R14"].element, parts["R14"].direction) == ("R", "down")
+
+
+def test_ladder_with_source_and_load_frames_both():
+    sections = [("series", "R", Label(f"R{i}", "10 kΩ")) if k == 0 else
+                ("shunt", "C", Label(f"C{i}", "4.7 nF"))
+                for i in (1, 2, 3) for k in (0, 1)]
+    recipe = ladder(sections, source=[("R", RS), ("L", LS)], load=[("R", RL), ("C", CL)])
+    assert refs(recipe) == ["Rs", "Ls", "R1", "C1", "R2", "C2", "R3", "C3", "RL", "CL"]
+    parts = parts_by_ref(recipe)
+    assert parts["Ls"].element == "L"
+    boxes = {s.text: s for s in recipe.steps if s.element == "box"}
+    assert set(boxes) == {"source", "load"}
+    assert boxes["source"].members == (parts["Rs"].name, parts["Ls"].name)
+    assert boxes["load"].members == (parts["RL"].name, parts["CL"].name)
+    assert all(s.dashed for s in boxes.values())
+    # load parts are shunts after the output terminal
+    texts = recipe.texts()
+    assert texts.index("OUT") < texts.index("RL")
+    assert parts["RL"].direction == parts["CL"].direction == "down"
+    # common practice: one bottom rail, a dot wherever a branch meets it
+    # except at its far end (a corner): 3 ladder shunts + RL
+    rail = [s for s in recipe.steps if s.name == "rail"]
+    assert len(rail) == 1 and rail[0].end == parts["CL"].name
+    shunts = {p.name for p in parts.values() if p.direction == "down"}
+    rail_dots = [s for s in recipe.steps if s.element == "dot" and s.start in shunts]
+    assert len(rail_dots) == 4
+
+
+def test_ladder_without_source_parts_draws_source_straight_to_input():
+    recipe = ladder([("series", "R", R14), ("shunt", "C", C9)])
+    assert "box" not in recipe.elements()
+    source = next(s for s in recipe.steps if s.element == "source")
+    assert source.variant == "sine" and source.text == "Vs"
+
+
+def test_ladder_spreads_sections_for_long_labels():
+    short = ladder([("shunt", "C", Label("C1", "1 nF")), ("series", "R", R14),
+                    ("shunt", "C", C9)])
+    wide = ladder([("shunt", "C", Label("C1", "1 nF (X7R, 50 V rated)")),
+                   ("series", "R", R14), ("shunt", "C", C9)])
+    def run_before_r14(recipe):
+        i = next(i for i, s in enumerate(recipe.steps) if s.label == R14)
+        return recipe.steps[i - 1].length if recipe.steps[i - 1].element == "wire" else 0.0
+    assert run_before_r14(short) == 0.0
+    assert run_before_r14(wide) > 2.0
+
+
+def test_ladder_rejects_bad_positions_and_kinds():
+    with pytest.raises(ValueError):
+        ladder([("across", "R", R14)])
+    with pytest.raises(ValueError):
+        ladder([("series", "D", R14)])
+
+
+# --- op-amp circuits -----------------------------------------------------------------
+
+def _sk(**kwargs):
+    return sallen_key(Label("R1", "10 kΩ"), Label("R2", "10 kΩ"), Label("C1", "22 nF"),
+                      Label("C2", "10 nF"), **kwargs)
+
+
+def test_sallen_key_follower_places_parts_as_the_format_says():
+    recipe = _sk(opamp_label="U3")
+    parts = parts_by_ref(recipe)
+    start = recipe.start_of
+    # r1 from the input to node A, r2 from A to node B
+    assert start(parts["R1"].name) == "in"
+    assert start(parts["R2"].name) == "node_a"
+    assert path_back(recipe, "node_a", 2) == parts["R1"].name
+    # B is the + input: a wire from the end of r2 to the op-amp's + pin
+    amp = next(s for s in recipe.steps if s.element == "opamp")
+    assert amp.pin == "plus" and amp.text == "U3"
+    assert path_back(recipe, amp.name, 2) == parts["R2"].name
+    # c2 from B to ground
+    assert start(parts["C2"].name) == parts["R2"].name
+    assert any(s.element == "ground" and s.start == parts["C2"].name for s in recipe.steps)
+    # c1 from node A (up, across) to the output node
+    assert path_back(recipe, parts["C1"].name, 3) == "node_a"
+    assert any(start(s.name) == parts["C1"].name and s.end == "node_out" for s in recipe.steps)
+    assert path_back(recipe, "node_out", 2) == "op.out"
+    # follower: the - input is wired to the output; no rf, rg
+    assert set(refs(recipe)) == {"R1", "R2", "C1", "C2"}
+    assert path_back(recipe, "fb_node", 2) == "op.minus"
+    assert any(start(s.name) == "fb_node" and s.end == "node_out" for s in recipe.steps)
+
+
+def test_sallen_key_with_gain_setting_resistors():
+    recipe = _sk(rf=Label("R5", "10 kΩ"), rg=Label("R6", "5.6 kΩ"))
+    parts = parts_by_ref(recipe)
+    start = recipe.start_of
+    # rf from the - input to the output, rg from the - input to ground
+    assert start(parts["R5"].name) == "fb_node"
+    assert any(start(s.name) == parts["R5"].name and s.end == "node_out" for s in recipe.steps)
+    assert start(parts["R6"].name) == "fb_node" and parts["R6"].direction == "down"
+    assert any(s.element == "ground" and s.start == parts["R6"].name for s in recipe.steps)
+    assert not any(start(s.name) == "fb_node" and s.end == "node_out" for s in recipe.steps)
+
+
+def test_mfb_places_parts_as_the_format_says():
+    recipe = mfb(Label("R1", "10 kΩ"), Label("R2", "10 kΩ"), Label("R3", "4.7 kΩ"),
+                 Label("C1", "47 nF"), Label("C2", "2.2 nF"), load=[("C", CL)],
+                 opamp_label="U2")
+    parts = parts_by_ref(recipe)
+    start = recipe.start_of
+    amp = next(s for s in recipe.steps if s.element == "opamp")
+    assert amp.pin == "minus"
+    # r1 input -> A; c1 A -> ground; r3 A -> the - input (node M)
+    assert start(parts["R1"].name) == "in"
+    assert path_back(recipe, "node_a", 2) == parts["R1"].name
+    assert start(parts["C1"].name) == "node_a"
+    assert any(s.element == "ground" and s.start == parts["C1"].name for s in recipe.steps)
+    assert path_back(recipe, parts["R3"].name, 2) == "node_a"
+    assert path_back(recipe, "node_m", 2) == parts["R3"].name
+    assert path_back(recipe, amp.name, 2) == "node_m"
+    # + input grounded
+    plus = next(s for s in recipe.steps if s.start == "op.plus")
+    assert recipe.steps[recipe.steps.index(plus) + 1].element == "ground"
+    # c2 from the - input and r2 from A both end on the output
+    assert path_back(recipe, parts["C2"].name, 3) == "node_m"
+    assert path_back(recipe, parts["R2"].name, 3) == "node_a"
+    assert any(start(s.name) == parts["C2"].name and s.end == "node_out" for s in recipe.steps)
+    assert any(start(s.name) == parts["R2"].name and s.end == "loop_corner"
+               for s in recipe.steps)
+    assert recipe.step("loop_corner").end == "node_out"
+    assert refs(recipe)[-1] == "CL"
+
+
+# --- snubbers ------------------------------------------------------------------------
+
+def test_switch_snubber_parts_and_parasitics():
+    recipe = switch_snubber(snubber_r=Label("R40", "4.7 Ω"), snubber_c=Label("C40", "1 nF"),
+                            parasitic_l=Label("Lp", "12 nH"),
+                            parasitic_c=Label("Cp", "540 pF"), voltage_label="48 V")
+    parts = parts_by_ref(recipe)
+    assert refs(recipe) == ["Lp", "Cp", "R40", "C40"]
+    supply = next(s for s in recipe.steps if s.element == "source")
+    assert supply.variant == "dc" and supply.text == "48 V"
+    # common practice: parasitics drawn dashed and named as such
+    assert parts["Cp"].dashed and "parasitic" in parts["Cp"].lines()
+    switch = next(s for s in recipe.steps if s.element == "switch")
+    # switch, Cp and the snubber all hang from the switching node
+    assert recipe.start_of(switch.name) == "node_sw"
+    assert path_back(recipe, parts["Cp"].name, 2) == "node_sw"
+    assert path_back(recipe, parts["R40"].name, 2) == recipe.start_of(parts["Cp"].name)
+    assert recipe.start_of(parts["C40"].name) == parts["R40"].name
+
+
+def test_switch_snubber_without_snubber_parts():
+    recipe = switch_snubber(snubber_r=None, snubber_c=None, parasitic_l=Label("Lp", "12 nH"),
+                            parasitic_c=Label("Cp", "540 pF"), voltage_label="48 V")
+    assert refs(recipe) == ["Lp", "Cp"]
+    assert "switch" in recipe.elements()
+
+
+def test_inductive_snubber_dc_and_ac():
+    common = dict(snubber_r=Label("R7", "100 Ω"), snubber_c=Label("C7", "100 nF"),
+                  coil_l=Label("K1", "85 mH"), coil_r=Label("", "48 Ω"))
+    dc = inductive_snubber(voltage_label="24 V", ac=False, **common)
+    ac = inductive_snubber(voltage_label="230 V", ac=True, **common)
+    assert next(s for s in dc.steps if s.element == "source").variant == "dc"
+    assert next(s for s in ac.steps if s.element == "source").variant == "sine"
+    parts = parts_by_ref(dc)
+    assert parts["K1"].element == "coil"
+    contact = dc.step("contact")
+    assert contact.element == "switch" and dc.start_of("contact") == "contact_top"
+    # the snubber RC sits across the contact: both branches start at its top
+    assert path_back(dc, parts["R7"].name, 2) == "contact_top"
+    assert dc.start_of(parts["C7"].name) == parts["R7"].name
+    assert "48 Ω" in dc.texts()
+    bare = inductive_snubber(voltage_label="24 V", ac=False, **{
+        **common, "snubber_r": None, "snubber_c": None})
+    assert refs(bare) == ["K1", ""]
+
+
+# --- networks ------------------------------------------------------------------------
+
+LOWPASS_NET = [("R", Label("R3", "10 kΩ"), "in", "mid"), ("C", Label("C1", "1 nF"), "mid", "0"),
+               ("R", Label("R4", "10 kΩ"), "out", "mid"), ("C", Label("C2", "1 nF"), "0", "out")]
+
+
+def test_netlist_that_is_a_ladder_draws_as_the_ladder():
+    # a chain in -> mid -> out with shunts to ground is a two-section RC ladder
+    expected = ladder([("series", "R", Label("R3", "10 kΩ")), ("shunt", "C", Label("C1", "1 nF")),
+                       ("series", "R", Label("R4", "10 kΩ")), ("shunt", "C", Label("C2", "1 nF"))],
+                      load=[("R", RL)])
+    assert netlist(LOWPASS_NET, input="in", output="out", load=[("R", RL)]) == expected
+
+
+def test_bridged_t_is_drawn_on_node_buses():
+    bridged_t = [("R", Label("R1", "10 kΩ"), "in", "mid"), ("R", Label("R2", "10 kΩ"), "mid", "out"),
+                 ("C", Label("C1", "1 nF"), "in", "out"), ("C", Label("C2", "22 nF"), "mid", "0")]
+    recipe = netlist(bridged_t, input="in", output="out", source=[("R", RS)])
+    assert sorted(refs(recipe)) == ["C1", "C2", "R1", "R2", "Rs"]
+    texts = recipe.texts()
+    assert {"IN", "OUT", "mid"} <= set(texts)
+    assert any(s.element == "ground" and s.start == parts_by_ref(recipe)["C2"].name
+               for s in recipe.steps)
+    svg_root(render_svg(recipe))
+
+
+node_names = st.sampled_from(["0", "in", "out", "a", "b"])
+elements_strategy = st.lists(
+    st.tuples(st.sampled_from("RCL"), st.integers(1, 99), node_names, node_names),
+    max_size=7)
+
+
+@settings(max_examples=60, deadline=None)
+@given(elements_strategy, node_names, node_names, st.booleans())
+def test_netlist_builds_a_valid_recipe_for_any_graph(raw, input_node, output_node, loaded):
+    elements = [(kind, Label(f"{kind}{n}", f"{n} k"), a, b) for kind, n, a, b in raw]
+    recipe = netlist(elements, input=input_node, output=output_node,
+                     load=[("R", RL)] if loaded else ())
+    # every element and the load appear exactly once; Recipe itself has
+    # checked that every step refers only to points already drawn
+    expected = [e[1].ref for e in elements] + (["RL"] if loaded else [])
+    assert sorted(label.ref for label in recipe.parts()) == sorted(expected)
+
+
+@pytest.mark.parametrize("elements,input_node,output_node", [
+    ([("R", Label("R1", "1 k"), "a", "a"), ("C", Label("C1", "1 n"), "0", "0")], "in", "out"),
+    ([("R", Label("R1", "1 k"), "0", "0")], "0", "0"),
+    ([], "in", "in"),
+])
+def test_netlist_degenerate_graphs_still_render(elements, input_node, output_node):
+    svg_root(render_svg(netlist(elements, input=input_node, output=output_node)))
+
+
+# --- rendering -----------------------------------------------------------------------
+
+ALL_RECIPES = {
+    "lowpass": lambda: ladder([("series", "R", R14), ("shunt", "C", C9)]),
+    "ladder": lambda: ladder([("series", "R", R14), ("shunt", "C", C9)] * 3,
+                             source=[("R", RS), ("L", LS)], load=[("R", RL), ("C", CL)]),
+    "sallen-key": lambda: _sk(rf=Label("R5", "10 kΩ"), rg=Label("R6", "5.6 kΩ"),
+                              source=[("R", RS)], load=[("R", RL)], opamp_label="U3"),
+    "snubber": lambda: switch_snubber(
+        snubber_r=Label("R40", "4.7 Ω"), snubber_c=Label("C40", "1 nF"),
+        parasitic_l=Label("Lp", "12 nH"), parasitic_c=Label("Cp", "540 pF"),
+        voltage_label="48 V"),
+}
+
+
+@pytest.mark.parametrize("name", sorted(ALL_RECIPES))
+def test_render_svg_is_valid_deterministic_and_text_free(name):
+    recipe = ALL_RECIPES[name]()
+    first = render_svg(recipe)
+    assert render_svg(recipe) == first
+    root = svg_root(first)
+    # text drawn as outlines: no dependence on the reader's fonts
+    assert root.find(f".//{SVG_NS}text") is None
+    assert len(root.findall(f".//{SVG_NS}path")) > 10
+    width_pt = float(re.match(r"([0-9.]+)pt", root.get("width")).group(1))
+    # the widest stages stay near the 16 cm page width (453 pt)
+    assert 100 < width_pt < 530
+
+
+def test_dashed_parts_are_dashed_in_svg():
+    svg = render_svg(ALL_RECIPES["snubber"]())
+    assert re.search(r"stroke-dasharray:\s*[0-9]", svg)
+
+
+def test_render_is_byte_identical_in_a_fresh_process(tmp_path):
+    # reproducible output (rules): same recipe, same bytes across processes
+    script = ("import sys; from rcdoc.figures.schematic import *; "
+              "sys.stdout.write(render_svg(ladder([('series','R',Label('R14','4.7 kΩ')),"
+              "('shunt','C',Label('C9','10 nF'))])))")
+    out = subprocess.run([sys.executable, "-c", script], capture_output=True, check=True,
+                         env={"PYTHONHASHSEED": "123", "PATH": "/usr/bin:/bin",
+                              "PYTHONPATH": ":".join(sys.path)}).stdout.decode("utf-8")
+    assert out == render_svg(ALL_RECIPES["lowpass"]())
