@@ -185,7 +185,12 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
                 for wname, ready in (("step", True), ("pwm", stage.drive.kind == "pwm")):
                     if not ready:
                         continue
-                    y = ev.step if wname == "step" else ev.pwm_probes["out"]
+                    if wname == "step":
+                        y = ev.step
+                    else:
+                        # Ripple about each sample's own mean: the DC spread would hide it.
+                        y = ev.pwm_probes["out"]
+                        y = y - y.mean(axis=1, keepdims=True)
                     idx = np.linspace(0, y.shape[1] - 1, WAVE_POINTS).astype(int)
                     wave_env[wname].add(y[mc_idx][:, idx], None)
                     if sum(len(x) for x in waves[wname]) < WAVE_SAMPLES:
@@ -244,7 +249,9 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
     pwm = None
     if stage.drive is not None and stage.drive.kind == "pwm":
         t = nominal_ev.pwm_time_s
-        pwm = _wave(t, nominal_ev.pwm_probes["out"][0], waves["pwm"], wave_env["pwm"])
+        y0 = nominal_ev.pwm_probes["out"][0]
+        pwm = _wave(t, y0 - y0.mean(), waves["pwm"], wave_env["pwm"])
+        pwm["mean"] = float(y0.mean())
         d = stage.drive
         pwm["input"] = np.where(t < d.duty / d.frequency_hz, d.amplitude_v, 0.0)
     corner = next((m.nominal for m in metrics if m.name in ("corner", "f0")

@@ -110,3 +110,5 @@ class Project:
     board: Board
     analysis: Analysis
     stages: tuple[Stage, ...]
+    # BOM rows (rcdoc.bom.BomRow) whose designators no stage uses, in file order.
+    bom_unused: tuple = ()

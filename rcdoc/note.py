@@ -281,11 +281,10 @@ def time_figures(r: StageResult) -> list[dict]:
     if r.step is not None:
         s = r.step
         window = None
-        st = r.metric("settling")
-        for m in r.metrics:
-            if m.name == "settling":
-                st = m
-                break
+        # Show the settling band a check asks for, else the default one.
+        checked = {v.detail for v in r.verdicts if v.metric == "settling"}
+        settling = [m for m in r.metrics if m.name == "settling"]
+        st = next((m for m in settling if m.detail in checked), settling[0] if settling else None)
         fin = s["nominal"][-1]
         if st is not None and math.isfinite(st.nominal):
             band = 0.01
@@ -304,14 +303,15 @@ def time_figures(r: StageResult) -> list[dict]:
     if r.pwm is not None:
         w = r.pwm
         svg = charts.time_response(f"{r.stage.id}-pwm", w["t"], w["nominal"],
-                                   band=(w["min"], w["max"]), ylabel="Output [V]",
-                                   series=())
+                                   band=(w["min"], w["max"]),
+                                   ylabel="Output − its mean [V]", series=())
         d = r.stage.drive
         out.append({"type": "figure", "title": "PWM ripple (steady state)", "svg": svg,
                     "width": "full",
                     "caption": f"One period of the output in steady state for a "
                                f"{fq(d.amplitude_v, 'V')} PWM drive at {fq(d.frequency_hz, 'Hz')}, "
-                               f"duty {d.duty * 100:g} %; min–max band over the samples."})
+                               f"duty {d.duty * 100:g} %, shown about its mean "
+                               f"({fq(w['mean'], 'V')} nominal); min–max band over the samples."})
     return out
 
 
@@ -378,7 +378,7 @@ def _schematic_caption(r: StageResult) -> str:
         bits.append("the source impedance (Rs, Ls) is part of the analysis")
     if st.load_r is not None or st.load_c is not None:
         bits.append("the load (RL, CL) is part of the analysis")
-    return ("Values as marked. " + "; ".join(bits).capitalize() + ".") if bits else \
+    return ("Values as marked; " + "; ".join(bits) + ".") if bits else \
         "Values as marked; ideal source, output unloaded."
 
 

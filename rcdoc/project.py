@@ -140,7 +140,13 @@ def _project(data: dict, file: str, *, samples: int | None, seed: int | None) ->
                                path=f"{path}.id")
         seen[st.id] = i
         stages.append(st)
-    return Project(file=file, board=board, analysis=analysis, stages=tuple(stages))
+    unused: tuple = ()
+    if bom_rows is not None:
+        from .bom import unused_rows
+        unused = tuple(unused_rows(bom_rows, {p.ref for st in stages
+                                              for p in st.parts.values()}))
+    return Project(file=file, board=board, analysis=analysis, stages=tuple(stages),
+                   bom_unused=unused)
 
 
 def _replace(obj, **changes):

@@ -314,3 +314,12 @@ def test_missing_template_folder_is_a_project_error(tmp_path):
         report.render_pdf(make_context(), tmp_path / "n.pdf", template_dirs=[tmp_path / "nope"])
     assert "nope" in str(caught.value)
     assert not (tmp_path / "n.pdf").exists()
+
+
+def test_table_cells_keep_number_and_unit_together_and_stay_escaped():
+    # Not breaking between a value and its unit is common practice in typesetting
+    # (and SI Brochure, 9th ed., §5.4.3: a space separates number and unit).
+    assert str(report._keep_units("482 µs … 546 µs")) == (
+        '<span class="nw">482 µs</span> … <span class="nw">546 µs</span>')
+    assert str(report._keep_units("<b>1 V</b>")) == '&lt;b&gt;<span class="nw">1 V</span>&lt;/b&gt;'
+    assert str(report._keep_units("R12")) == "R12"
