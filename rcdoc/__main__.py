@@ -2,4 +2,6 @@
 
 from .cli import entry
 
-entry()
+# Guarded: worker processes started with "spawn" import the main module again.
+if __name__ == "__main__":
+    entry()

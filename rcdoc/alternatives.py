@@ -131,10 +131,10 @@ def _change(value: float, base: float, unit: str) -> str:
         return ""
     if unit in ("dB", "deg"):
         d = value - base
-        return f" ({d:+.2f} {'dB' if unit == 'dB' else '°'})"
+        return f" ({d:+.2f}{' dB' if unit == 'dB' else '°'})".replace("-", "−")
     if base == 0:
         return ""
-    return f" ({(value / base - 1) * 100:+.1f} %)"
+    return f" ({(value / base - 1) * 100:+.1f} %)".replace("-", "−")
 
 
 def alternatives_block(r: StageResult, analysis: Analysis) -> dict | None:

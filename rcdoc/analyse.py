@@ -103,7 +103,8 @@ def _metric_requests(stage: Stage, offered: tuple[str, ...]) -> list[tuple[str, 
     if "noise" in offered:
         req.append(("noise", None, None))
     if stage.drive is not None:
-        req.append(("rise_time", None, None))
+        if passband_of(stage) == "low":      # a rise time means little for a high-pass
+            req.append(("rise_time", None, None))
         req.append(("settling", None, None))
         if stage.drive.kind == "pwm":
             req.append(("ripple", None, None))

@@ -20,10 +20,11 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from .errors import ProjectError
-from .quantities import parse_positive, parse_quantity, parse_tolerance
+from .quantities import parse_positive, parse_tolerance
 
 COLUMNS = ("ref", "value", "tolerance", "dielectric", "voltage", "power", "model")
 _UNITS = {"R": "ohm", "C": "F", "L": "H"}
+MAX_BOM_BYTES = 10_000_000   # far above any board's BOM; refuses a wrong file early
 # Columns that describe only some part types. A board-wide BOM fills them for
 # the parts they fit (a resistor's working voltage in the `voltage` column is
 # not a capacitor's rating), so a part takes them only where they apply.
@@ -56,7 +57,16 @@ def read_bom(path: Path, key_path: str) -> dict[str, BomRow]:
     which is taken as a typing mistake.
     """
     name = str(path)
+    # A folder, a fifo or a device (/dev/zero) would fail obscurely or hang the
+    # loader; a BOM is a small regular file.
+    if Path(path).exists() and not Path(path).is_file():
+        raise ProjectError(f"the bill of materials '{name}' is not a regular file",
+                           path=key_path)
     try:
+        if Path(path).is_file() and Path(path).stat().st_size > MAX_BOM_BYTES:
+            raise ProjectError(f"the bill of materials '{name}' is larger than "
+                               f"{MAX_BOM_BYTES // 1_000_000} MB; is it the right file?",
+                               path=key_path)
         text = Path(path).read_text(encoding="utf-8-sig")
     except OSError as exc:
         raise ProjectError(f"cannot read the bill of materials '{name}': {exc.strerror}",

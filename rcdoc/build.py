@@ -1,21 +1,35 @@
-"""Run a whole project: load, analyse every stage, write the note and the summary.
+"""Run a whole project: load, analyse (and draw) every stage, write the note and the summary.
 
 The library side of ``rcdoc build`` and ``rcdoc check``; the command line only
 parses options and prints. Outputs are written atomically, after everything
 that can fail has been done, so a failed build leaves existing files untouched.
+
+Speed: each stage is analysed and, for a build, drawn into its note blocks
+as one unit of work. Units run in a pool of processes (``jobs``; 'forkserver'
+or 'spawn' start, never threads: matplotlib is not thread-safe), and each
+finished unit is filed in the build cache (rcdoc.cache) under a hash of
+everything it depends on, so a rebuild redoes only the stages that changed.
+Results are gathered in stage order, so the output does not depend on
+``jobs`` or on what came from the cache.
+
+What it must not do: compute physics, draw, or format; it orchestrates.
 """
 
 from __future__ import annotations
 
+import multiprocessing
 import os
+import sys
 import tempfile
-from dataclasses import dataclass
+from concurrent.futures import ProcessPoolExecutor
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Callable
 
 from .analyse import StageResult, analyse_stage
+from .cache import StageCache, stage_key
 from .errors import ProjectError
-from .model import Project
+from .model import Project, Stage
 from .project import load_project
 
 
@@ -23,25 +37,101 @@ from .project import load_project
 class Outcome:
     project: Project
     results: list[StageResult]
+    # Per-stage note contexts (note.stage_context), when the stages were drawn.
+    contexts: list[dict] | None = None
+    # Stages taken from the build cache, and stages analysed in this run.
+    cached: list[str] = field(default_factory=list)
+    computed: list[str] = field(default_factory=list)
 
     @property
     def status(self) -> str:
         return "fail" if any(r.status != "pass" for r in self.results) else "pass"
 
 
+def _stage_unit(stage: Stage, project: Project, draw: bool):
+    """One unit of work, in this process or a worker: analyse (and draw) one stage.
+
+    A ProjectError comes back as plain data: its location would not survive pickling.
+    """
+    try:
+        result = analyse_stage(stage, project.analysis)
+        context = None
+        if draw:
+            from .note import stage_context
+            context = stage_context(result, project)
+        return ("ok", result, context)
+    except ProjectError as exc:
+        return ("error", exc.message, exc.path, exc.file)
+
+
+def _pool_context():
+    """'forkserver' where there is one (Linux), else 'spawn': both start clean workers."""
+    methods = multiprocessing.get_all_start_methods()
+    if "forkserver" in methods and sys.platform.startswith("linux"):
+        ctx = multiprocessing.get_context("forkserver")
+        # Workers fork from a server that has imported rcdoc once, and do not
+        # re-run the parent's __main__ (the command line).
+        ctx.set_forkserver_preload(["rcdoc.build", "rcdoc.note"])
+        return ctx
+    return multiprocessing.get_context("spawn")
+
+
 def analyse_project(project: Project, *, progress: Callable[[str], None] | None = None,
-                    jobs: int = 1) -> Outcome:
-    results = []
-    for st in project.stages:
-        if progress:
-            progress(st.id)
-        try:
-            results.append(analyse_stage(st, project.analysis))
-        except ProjectError as exc:
-            if not exc.path:
-                exc.path = st.path
-            raise exc.located(project.file)
-    return Outcome(project, results)
+                    jobs: int = 1, draw: bool = False, out_dir: Path | None = None) -> Outcome:
+    """Analyse every stage; with ``draw`` also make each stage's note blocks.
+
+    ``jobs`` > 1 runs stages in that many worker processes. ``out_dir`` (with
+    ``draw``) enables the build cache in ``out_dir/.rcdoc-cache``.
+    """
+    stages = list(project.stages)
+    n = len(stages)
+    results: list = [None] * n
+    contexts: list = [None] * n
+    cache = StageCache.for_output(out_dir, project.file) if (draw and out_dir is not None) else None
+    keys = [stage_key(st, project) for st in stages] if cache is not None else [None] * n
+    todo = []
+    cached = []
+    for i, st in enumerate(stages):
+        hit = cache.get(keys[i]) if cache is not None else None
+        if hit is not None:
+            results[i], contexts[i] = hit
+            cached.append(st.id)
+        else:
+            todo.append(i)
+
+    def settle(i: int, answer) -> None:
+        if answer[0] == "error":
+            _, message, path, file = answer
+            raise ProjectError(message, path=path or stages[i].path, file=file).located(project.file)
+        results[i], contexts[i] = answer[1], answer[2]
+
+    workers = max(1, min(int(jobs or 1), len(todo)))
+    if workers == 1:
+        for i in todo:
+            if progress:
+                progress(stages[i].id)
+            settle(i, _stage_unit(stages[i], project, draw))
+    else:
+        with ProcessPoolExecutor(max_workers=workers, mp_context=_pool_context()) as pool:
+            futures = {}
+            for i in todo:
+                if progress:
+                    progress(stages[i].id)
+                futures[i] = pool.submit(_stage_unit, stages[i], project, draw)
+            try:
+                for i in todo:              # in stage order: the first error is the first stage's
+                    settle(i, futures[i].result())
+            except BaseException:
+                for f in futures.values():
+                    f.cancel()
+                raise
+    if cache is not None:
+        # Filed only once every stage succeeded: a failed build writes nothing.
+        for i in todo:
+            cache.put(keys[i], results[i], contexts[i])
+        cache.prune()
+    return Outcome(project, results, contexts if draw else None, cached=cached,
+                   computed=[stages[i].id for i in todo])
 
 
 def write_atomic(path: Path, data: bytes) -> None:
@@ -81,7 +171,11 @@ def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
     stem = Path(project.file).stem
     pdf_path, json_path = out_dir / f"{stem}.pdf", out_dir / f"{stem}.json"
     json_bytes = to_json(summary(project, outcome.results)).encode("utf-8")
-    context = note_context(project, outcome.results, extra_appendix=extra_appendix)
+    if outcome.contexts is not None:
+        context = note_context(project, outcome.results, extra_appendix=extra_appendix,
+                               stage_contexts=outcome.contexts)
+    else:
+        context = note_context(project, outcome.results, extra_appendix=extra_appendix)
     out_dir.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=f".{stem}.", suffix=".pdf.tmp", dir=out_dir)
     os.close(fd)

@@ -53,9 +53,19 @@ def make_parser() -> argparse.ArgumentParser:
                    "beside each project file)")
     b.add_argument("--templates", metavar="DIR", help="folder of templates that override "
                    "the shipped ones")
+    b.add_argument("--since", metavar="REV", help="add a 'changes since REV' section: the "
+                   "same file at git revision REV, compared")
     c = sub.add_parser("check", help="analyse and judge the checks; no PDF")
     common(c)
     c.add_argument("--junit", metavar="FILE", help="write a JUnit XML report")
+    d = sub.add_parser("diff", help="what changed between two revisions of a project")
+    d.add_argument("old", metavar="OLD", help="project file, or git:REV for NEW at a git revision")
+    d.add_argument("new", metavar="NEW", help="project file")
+    d.add_argument("--samples", type=_positive_int, help="Monte Carlo samples per stage")
+    d.add_argument("--seed", type=_positive_int, help="random seed")
+    i = sub.add_parser("init", help="write a commented starting project file")
+    i.add_argument("file", metavar="FILE", nargs="?", default=None,
+                   help="file to create (default: project.toml); never overwritten")
     return p
 
 
@@ -71,7 +81,7 @@ def _progress_for(console, label: str):
         return None
 
     def report(stage_id: str):
-        console.print(f"[dim]{label}[/dim] analysing {stage_id}", highlight=False)
+        console.print(f"[dim]{rich_escape(label)}[/dim] analysing {stage_id}", highlight=False)
     return report if console.is_terminal else None
 
 
@@ -80,20 +90,46 @@ def cmd_build(args) -> int:
     template_dirs = []
     if args.templates:
         tdir = Path(args.templates)
-        if not tdir.is_dir():
+        if not tdir.exists():
             raise ProjectError(f"the templates folder '{tdir}' does not exist", path="--templates")
+        if not tdir.is_dir():
+            raise ProjectError(f"'{tdir}' is not a folder of templates", path="--templates")
+        _check_template_syntax(tdir)
         template_dirs.append(tdir)
+    if args.output and Path(args.output).exists() and not Path(args.output).is_dir():
+        # Refused before any work, so the file named is left as it was.
+        raise ProjectError("the output folder given with -o is a file, not a folder",
+                           file=str(args.output))
     projects = load_all(args.files, samples=args.samples, seed=args.seed)
+    olds = []
+    if args.since:               # read every old revision before anything is written
+        from .diff import read_at_revision
+        olds = [read_at_revision(p.file, args.since, samples=args.samples, seed=args.seed)
+                for p in projects]
     console = _console(args.quiet)
     worst = EXIT_OK
-    for project in projects:
+    for k, project in enumerate(projects):
+        out_dir = output_dir(project.file, args.output)
+        # Stages are analysed and drawn together (in --jobs processes), cached in out_dir.
         outcome = analyse_project(project, progress=_progress_for(console, project.file),
+                                  jobs=args.jobs or os.cpu_count() or 1,
+                                  draw=True, out_dir=out_dir)
+        extra = []
+        if args.since:
+            from .diff import compare, since_section
+            old = analyse_project(olds[k], progress=_progress_for(console, olds[k].file),
                                   jobs=args.jobs or os.cpu_count() or 1)
-        pdf, js = write_outputs(outcome, output_dir(project.file, args.output),
-                                template_dirs=template_dirs)
+            extra.append(since_section(compare(olds[k], old.results, project, outcome.results,
+                                               old_label=f"git:{args.since}"), args.since))
+        try:
+            pdf, js = write_outputs(outcome, out_dir, template_dirs=template_dirs,
+                                    extra_appendix=extra)
+        except OSError as exc:     # e.g. no permission: one line, not a traceback
+            raise ProjectError(f"cannot write the note: {exc.strerror or exc}",
+                               file=str(exc.filename or out_dir)) from exc
         if console is not None:
             _print_table(console, outcome)
-            console.print(f"wrote {pdf} and {js}", highlight=False)
+            console.print(f"wrote {pdf} and {js}", highlight=False, markup=False)
         if outcome.status != "pass":
             worst = EXIT_FAIL
     return worst
@@ -123,8 +159,10 @@ def _print_table(console, outcome) -> None:
     from .note import limit_text, metric_label
     from .quantities import format_quantity
     from .metrics import METRICS
-    t = Table(title=f"{outcome.project.board.name} rev {outcome.project.board.revision}: "
-                    f"{outcome.status.upper()}", title_justify="left")
+    # The board's name and revision are the user's text: escape rich's [markup].
+    t = Table(title=rich_escape(f"{outcome.project.board.name} rev "
+                                f"{outcome.project.board.revision}: {outcome.status.upper()}"),
+              title_justify="left")
     for col in ("stage", "check", "limit", "worst", "yield", "verdict"):
         t.add_column(col)
     for r in outcome.results:
@@ -140,7 +178,52 @@ def _print_table(console, outcome) -> None:
     console.print(t)
 
 
-COMMANDS = {"build": cmd_build, "check": cmd_check}
+def cmd_diff(args) -> int:
+    from rich.console import Console
+
+    from .diff import diff_files, render_rich
+    render_rich(diff_files(args.old, args.new, samples=args.samples, seed=args.seed), Console())
+    return EXIT_OK
+
+
+def cmd_init(args) -> int:
+    from .init import write_starter
+    path = write_starter(args.file)
+    print(f"wrote {path}; edit it, then run: rcdoc build {path}")
+    return EXIT_OK
+
+
+def rich_escape(text: str) -> str:
+    from rich.markup import escape
+    return escape(text)
+
+
+def one_line(text: str) -> str:
+    """The message on one line: control characters (newlines, terminal escapes
+    that a key or value in the file may hold) written as escapes."""
+    return "".join(ch if ch.isprintable() or ch == " " else ascii(ch)[1:-1] for ch in text)
+
+
+def _check_template_syntax(folder: Path) -> None:
+    """Parse every template in a --templates folder before any work is done,
+    so a syntax mistake costs no analysis and names its file and line."""
+    import jinja2
+    env = jinja2.Environment()
+    for path in sorted(folder.iterdir()):
+        if path.suffix not in (".html", ".css") or not path.is_file():
+            continue
+        try:
+            env.parse(path.read_text(encoding="utf-8"), name=path.name, filename=str(path))
+        except UnicodeDecodeError:
+            raise ProjectError("the template is not UTF-8 text", file=str(path)) from None
+        except OSError as exc:
+            raise ProjectError(f"cannot read the template: {exc.strerror}",
+                               file=str(path)) from None
+        except jinja2.TemplateSyntaxError as exc:
+            raise ProjectError(f"line {exc.lineno}: {exc.message}", file=str(path)) from None
+
+
+COMMANDS = {"build": cmd_build, "check": cmd_check, "diff": cmd_diff, "init": cmd_init}
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -148,7 +231,7 @@ def main(argv: list[str] | None = None) -> int:
     try:
         return COMMANDS[args.command](args)
     except ProjectError as exc:
-        print(f"rcdoc: error: {exc}", file=sys.stderr)
+        print(f"rcdoc: error: {one_line(str(exc))}", file=sys.stderr)
         return EXIT_INPUT
     except KeyboardInterrupt:
         print("rcdoc: interrupted; nothing was written", file=sys.stderr)

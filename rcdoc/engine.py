@@ -389,6 +389,127 @@ def _solutions(
         yield ss, fs, X
 
 
+# Pole-zero evaluation: the fast path of ``ac`` and ``output_noise_psd``.
+#
+# By Cramer's rule one unknown x_o of (G + sC)·x = r0 + s·r1 is
+# det(M_o(s)) / det(M(s)), where M_o is M with column o replaced by the
+# right-hand side; both are matrix pencils, linear in s. With A = G + σC for
+# a real shift σ > 0, det(G + sC) = det(A)·Π_k (1 + μ·d_k), μ = s − σ, d_k the
+# eigenvalues of K = A⁻¹C (det(I + μK) = Π(1 + μ·d_k) holds for any matrix,
+# defective or not), and likewise for M_o with eigenvalues e_k. Hence
+#   x_o(s) = x_o(σ) · Π_k (1 + μ·e_k) / Π_k (1 + μ·d_k),
+# the zero-pole-gain form of the rational transfer function: two small
+# eigenvalue problems and one real solve per sample, then O(N) array
+# operations per (sample, frequency) instead of an O(N³) factorisation.
+# Products do not cancel, so the deep stopband keeps its relative accuracy
+# (a sum of partial fractions would not). d_k = 0 are the infinite
+# eigenvalues of a descriptor system; their factor is 1. Samples where A or
+# A_o is near-singular at σ (a zero or pole on σ, or an output that does not
+# depend on the input), or where anything comes out non-finite, are solved by
+# the direct path instead.
+_PZ_RCOND = 1e-10
+# Elements of the (samples × frequencies) work arrays per block of samples.
+_PZ_ITEMS = 1 << 15
+
+
+def _shift(f: np.ndarray) -> float:
+    """σ: the geometric middle of the swept angular frequencies (near the poles of interest)."""
+    fa = np.abs(f[np.isfinite(f) & (f != 0)])
+    if fa.size == 0:
+        return 2 * math.pi
+    return 2 * math.pi * math.sqrt(float(fa.min()) * float(fa.max()))
+
+
+def _eliminated(system: System) -> tuple[int, np.ndarray]:
+    """The drive node and the unknowns left once it and the source current are eliminated."""
+    k = system.branch[SOURCE]
+    d = int(np.flatnonzero(system.G[0, k])[0])  # the source row reads V(drive) = u
+    keep = np.array([j for j in range(system.size) if j not in (d, k)], dtype=int)
+    return d, keep
+
+
+class _Pencil:
+    """Per-sample poles of the reduced pencil (kept unknowns), shared by every ratio."""
+
+    def __init__(self, system: System, f: np.ndarray):
+        self.d_node, self.keep = _eliminated(system)
+        self.sigma = _shift(f)
+        self.G = system.G[:, self.keep[:, None], self.keep]
+        self.C = system.C[:, self.keep[:, None], self.keep]
+        A = self.G + self.sigma * self.C
+        self.ok = _rcond(A) > _PZ_RCOND
+        self.A = np.where(self.ok[:, None, None], A, np.eye(self.keep.size))
+        with np.errstate(all="ignore"):
+            self.poles = np.linalg.eigvals(np.linalg.solve(self.A, self.C))
+
+    def zpk(self, o: int, r0: np.ndarray, r1: np.ndarray | None):
+        """Gain x_o(σ) (S,), zeros as eigenvalues e (S, n) and usable rows for x_o of
+        (G + sC)·x = r0 + s·r1 (r0, r1 of shape (S, n); r1 None for no s term)."""
+        n = self.keep.size
+        rhs = r0 if r1 is None else r0 + self.sigma * r1
+        x_sigma = np.linalg.solve(self.A, rhs[..., None])[..., 0][:, o]
+        Go, Co = self.G.copy(), self.C.copy()
+        Go[:, :, o] = r0
+        Co[:, :, o] = 0.0 if r1 is None else r1
+        Ao = Go + self.sigma * Co
+        ok = self.ok & (_rcond(Ao) > _PZ_RCOND)
+        Ao = np.where(ok[:, None, None], Ao, np.eye(n))
+        with np.errstate(all="ignore"):
+            zeros = np.linalg.eigvals(np.linalg.solve(Ao, Co))
+        return x_sigma, zeros, ok
+
+    def product(self, gain: np.ndarray, eig: np.ndarray, jw: np.ndarray) -> np.ndarray:
+        """gain · Π_k (1 + (jω − σ)·eig_k) for one block of samples: (s, F)."""
+        acc = np.empty((eig.shape[0], jw.size), dtype=complex)
+        acc[...] = gain[:, None]
+        fac = np.empty_like(acc)
+        for k in range(eig.shape[1]):
+            np.multiply(eig[:, k, None], jw[None, :], out=fac)
+            fac += (1.0 - self.sigma * eig[:, k])[:, None]
+            acc *= fac
+        return acc
+
+
+def _pz_blocks(samples: int, nfreq: int) -> Iterator[slice]:
+    """Sample blocks whose (samples × frequencies) work arrays stay small (cache-sized)."""
+    ns = max(1, _PZ_ITEMS // max(nfreq, 1))
+    for s0 in range(0, samples, ns):
+        yield slice(s0, s0 + ns)
+
+
+def _ac_fast(system: System, f: np.ndarray, out: int) -> np.ndarray:
+    """V(out) per 1 V of source, (S, F): pole-zero form where it is safe, direct elsewhere."""
+    pencil = _Pencil(system, f)
+    if out == pencil.d_node:
+        return np.ones((system.samples, f.size), dtype=complex)
+    o = int(np.flatnonzero(pencil.keep == out)[0])
+    d, keep = pencil.d_node, pencil.keep
+    gain, zeros, ok = pencil.zpk(o, -system.G[:, keep, d], -system.C[:, keep, d])
+    jw = 2j * math.pi * f
+    H = np.empty((system.samples, f.size), dtype=complex)
+    with np.errstate(all="ignore"):
+        for ss in _pz_blocks(system.samples, f.size):
+            H[ss] = pencil.product(gain[ss], zeros[ss], jw)
+            H[ss] /= pencil.product(np.ones(H[ss].shape[0]), pencil.poles[ss], jw)
+    ok &= np.all(np.isfinite(H), axis=1)
+    if not np.all(ok):
+        H[~ok] = _direct(system, f, ~ok, lambda X: X[..., out])
+    return H
+
+
+def _direct(system: System, f: np.ndarray, rows: np.ndarray, take, adjoint_of=None) -> np.ndarray:
+    """The direct (one factorisation per sample and frequency) path for some samples."""
+    sub = System(G=system.G[rows], C=system.C[rows], b=system.b, index=system.index,
+                 branch=system.branch)
+    out = None
+    for ss, fs, X in _solutions(sub, f, adjoint_of=adjoint_of):
+        val = take(X)
+        if out is None:
+            out = np.empty((sub.samples, f.size) + val.shape[2:], dtype=val.dtype)
+        out[ss, fs] = val
+    return out
+
+
 def solve_ac(network: Network, values: Mapping[str, np.ndarray], freqs_hz) -> np.ndarray:
     """All unknowns (S, F, N) complex, per 1 V of source, at each frequency.
 
@@ -415,7 +536,9 @@ def _pick(network: Network, values, freqs_hz, unknown) -> np.ndarray:
 
 def ac(network: Network, values: Mapping[str, np.ndarray], freqs_hz) -> np.ndarray:
     """Transfer function V(output)/V(source), shape (S, F) complex."""
-    return _pick(network, values, freqs_hz, lambda s: s.node(network.output))
+    system = assemble(network, values)
+    f = _freqs(freqs_hz)
+    return _ac_fast(system, f, system.node(network.output))
 
 
 def source_current(network: Network, values: Mapping[str, np.ndarray], freqs_hz) -> np.ndarray:
@@ -489,10 +612,11 @@ def output_noise_psd(
     Each resistor is a noise current source of PSD 4kT/R across it
     (Johnson–Nyquist), uncorrelated with the others; the source is an ideal
     (noiseless, zero-impedance) voltage source and op-amps are noiseless.
-    The transimpedance from every node to the output comes from one adjoint
-    solve per frequency: (G + sC)ᵀ·y = e_out gives V(out) = y_a − y_b per
-    ampere injected into a and drawn from b (reciprocity of the transposed
-    system). ``temperature_k`` is a scalar or an (S,) array.
+    Each resistor's transimpedance to the output is evaluated in zero-pole-
+    gain form (see _Pencil); samples that form cannot serve take the adjoint
+    path: (G + sC)ᵀ·y = e_out gives V(out) = y_a − y_b per ampere injected
+    into a and drawn from b (reciprocity of the transposed system).
+    ``temperature_k`` is a scalar or an (S,) array.
     """
     system = assemble(network, values)
     f = _freqs(freqs_hz)
@@ -502,13 +626,59 @@ def output_noise_psd(
         raise ProjectError("the noise temperature must be a non-negative number of kelvin")
     resistors = [(system.node(e.a), system.node(e.b), vals[e.name]) for e in network.elements if e.kind == "R"]
     psd = np.zeros((samples, f.size))
-    for ss, fs, Y in _solutions(system, f, adjoint_of=system.index[network.output]):
+    out = system.index[network.output]
+
+    def accumulate(Y, rs):
         acc = np.zeros(Y.shape[:2])
         for i, j, r in resistors:
             z = (Y[..., i] if i is not None else 0.0) - (Y[..., j] if j is not None else 0.0)
-            acc += np.abs(z) ** 2 / r[ss, None]
-        psd[ss, fs] = acc
+            acc += np.abs(z) ** 2 / r[rs, None]
+        return acc
+
+    pencil = _Pencil(system, f)
+    if out == pencil.d_node:  # the output is the source node: no noise reaches it
+        return psd
+    pos = {int(u): m for m, u in enumerate(pencil.keep)}  # drive node and source: y = 0
+    o = pos[out]
+    jw = 2j * math.pi * f
+    ok = pencil.ok.copy()
+    terms = []
+    for i, j, r in resistors:
+        # Transimpedance to the output from 1 A injected into i and drawn from j.
+        e = np.zeros((samples, pencil.keep.size))
+        if i is not None and i in pos:
+            e[:, pos[i]] += 1.0
+        if j is not None and j in pos:
+            e[:, pos[j]] -= 1.0
+        if not e.any():
+            continue
+        gain, zeros, good = pencil.zpk(o, e, None)
+        ok &= good
+        terms.append((gain, zeros, r))
+    with np.errstate(all="ignore"):
+        for ss in _pz_blocks(samples, f.size):
+            den = pencil.product(np.ones(pencil.poles[ss].shape[0]), pencil.poles[ss], jw)
+            den2 = den.real ** 2 + den.imag ** 2
+            acc = np.zeros(den.shape)
+            for gain, zeros, r in terms:
+                z = pencil.product(gain[ss], zeros[ss], jw)
+                acc += (z.real ** 2 + z.imag ** 2) / r[ss, None]
+            psd[ss] = acc / den2
+    ok &= np.all(np.isfinite(psd), axis=1)
+    if not np.all(ok):
+        idx = np.flatnonzero(~ok)
+        psd[idx] = _noise_direct(system, f, idx, accumulate, out)
     return 4.0 * BOLTZMANN_J_PER_K * temp[:, None] * psd
+
+
+def _noise_direct(system: System, f: np.ndarray, idx: np.ndarray, accumulate, out: int) -> np.ndarray:
+    sub = System(G=system.G[idx], C=system.C[idx], b=system.b, index=system.index,
+                 branch=system.branch)
+    psd = np.zeros((idx.size, f.size))
+    for ss, fs, Y in _solutions(sub, f, adjoint_of=out):
+        rows = idx[ss]
+        psd[ss, fs] = accumulate(Y, rows)
+    return psd
 
 
 # --------------------------------------------------------------------------
@@ -615,10 +785,21 @@ def _march(
     kt = np.ascontiguousarray(k.T)  # (N, s)
     xt = np.ascontiguousarray(x.T)
     Wt = None if W is None else np.ascontiguousarray(np.moveaxis(W, 0, -1))  # (P, N, s)
-    for n in range(ubar.shape[1]):
-        if rec is not None:
-            rec[:, :, n] = np.einsum("pjs,js->ps", Wt, xt)
-        xt = np.einsum("ijs,js->is", Mt, xt) + kt * ubar[:, n]
+    steps = ubar.shape[1]
+    uT = np.ascontiguousarray(ubar.T)  # (T, s or 1): one contiguous row per step
+    # States are kept for a run of steps and turned into probes by one product
+    # per run, not one small product per step (same numbers, fewer calls).
+    run = 256 if rec is not None else 0
+    buf = np.empty((run, xt.shape[0], xt.shape[1])) if rec is not None else None
+    for n0 in range(0, steps, run or steps or 1):
+        m = min(run or steps, steps - n0)
+        for l in range(m):
+            if buf is not None:
+                buf[l] = xt
+            xt = np.einsum("ijs,js->is", Mt, xt)
+            xt += kt * uT[n0 + l]
+        if buf is not None and m:
+            rec[:, :, n0:n0 + m] = np.einsum("pjs,ljs->psl", Wt, buf[:m])
     return np.ascontiguousarray(xt.T)
 
 

@@ -32,8 +32,8 @@ METRICS: dict[str, Metric] = dict([
     _m("corner_high", "Hz", "Hz", "Upper corner (−3 dB)",
        description="band-pass: −3 dB below the peak, on the high side"),
     _m("passband_gain", "dB", "dB", "Passband gain",
-       description="gain at the low end of the sweep (low-pass), the high end (high-pass) "
-                   "or the peak (band-pass)"),
+       description="gain at DC (low-pass), at high frequency (high-pass) "
+                   "or at the peak (band-pass)"),
     _m("f0", "Hz", "Hz", "Natural frequency f0",
        description="from the two dominant poles: f0 = √(p1·p2)/2π"),
     _m("q", "1", "1", "Quality factor Q",

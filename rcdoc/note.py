@@ -152,6 +152,8 @@ def metrics_table(r: StageResult) -> dict:
         s = m.samples[np.isfinite(m.samples)]
         if s.size:
             lo, hi, mean, std = s.min(), s.max(), s.mean(), s.std()
+            if std <= 1e-9 * abs(mean):      # a constant, up to rounding
+                std = 0.0
         else:
             lo = hi = mean = std = math.nan
         missing = m.samples.size - s.size
@@ -341,8 +343,12 @@ def stage_context(r: StageResult, project: Project) -> dict:
     blocks: list[dict] = []
     recipe = kind.schematic(st)
     blocks.append({"type": "figure", "title": "Schematic", "svg": sch.render_svg(recipe),
-                   "width": "full", "caption": _schematic_caption(r)})
+                   "width": "natural", "caption": _schematic_caption(r)})
     blocks.append(parts_table(r))
+    from .alternatives import alternatives_block
+    alt = alternatives_block(r, project.analysis)
+    if alt:
+        blocks.append(alt)
     for t in (checks_table(r), ratings_table(r)):
         if t:
             blocks.append(t)
@@ -389,9 +395,10 @@ def _analysis_sentences(r: StageResult, project: Project):
     yield (f"{r.samples} Monte Carlo samples, seed {a.seed}, {a.distribution} tolerance "
            f"distribution" + (" (tolerance = 3σ)" if a.distribution == "normal" else "") +
            f"; ambient {temp}, one temperature per sample shared by all parts.")
-    yield (f"Sweep {fq(r.freqs_hz[0], 'Hz')} to {fq(r.freqs_hz[-1], 'Hz')}, "
-           f"{a.points_per_decade} points per decade; noise integrated over the sweep at "
-           f"{t1:g} °C.")
+    if len(r.freqs_hz):      # kinds with their own analysis (snubbers) have no sweep
+        yield (f"Sweep {fq(r.freqs_hz[0], 'Hz')} to {fq(r.freqs_hz[-1], 'Hz')}, "
+               f"{a.points_per_decade} points per decade; noise integrated over the sweep at "
+               f"{t1:g} °C.")
 
 
 def summary_rows(results: list[StageResult]) -> list[dict]:
@@ -473,7 +480,32 @@ def method_appendix() -> list[dict]:
     ]
 
 
-def note_context(project: Project, results: list[StageResult], *, extra_appendix=()) -> dict:
+def bom_appendix(project: Project) -> list[dict]:
+    """An appendix section listing the BOM rows no stage uses (none if all are used)."""
+    rows_by_line: dict[int, list] = {}
+    for row in project.bom_unused:
+        rows_by_line.setdefault(row.line, []).append(row)
+    if not rows_by_line:
+        return []
+    first = [rows[0] for _, rows in sorted(rows_by_line.items())]
+    cols = [c for c in ("value", "tolerance", "dielectric", "voltage", "power", "model")
+            if c == "value" or any(c in r.fields for r in first)]     # only filled columns
+    table = [[", ".join(r.ref for r in rows_by_line[row.line]), str(row.line)]
+             + [row.fields.get(c, "") for c in cols] for row in first]
+    n = sum(len(v) for v in rows_by_line.values())
+    return [{"title": "Bill of materials: parts not analysed", "blocks": [
+        {"type": "table", "title": "",
+         "columns": ["Ref", "BOM line"] + [c.capitalize() for c in cols],
+         "rows": table,
+         "note": f"{n} designator{'' if n == 1 else 's'} of {project.analysis.bom} that no "
+                 "stage of this note uses, as written in the bill of materials. They are not "
+                 "analysed here."}]}]
+
+
+def note_context(project: Project, results: list[StageResult], *, extra_appendix=(),
+                 stage_contexts: list[dict] | None = None) -> dict:
+    """The whole note's context. ``stage_contexts`` (one stage_context per result,
+    made in worker processes or taken from the build cache) saves drawing them here."""
     b = project.board
     a = project.analysis
     t0, t1 = a.temperature_c
@@ -491,6 +523,7 @@ def note_context(project: Project, results: list[StageResult], *, extra_appendix
         "summary": {"columns": ["Stage", "Kind", "Key result (spread)", "Checks passed",
                                 "Verdict"], "rows": summary_rows(results)},
         "overview_svg": overview_svg(results),
-        "stages": [stage_context(r, project) for r in results],
-        "appendix": list(extra_appendix) + method_appendix(),
+        "stages": (list(stage_contexts) if stage_contexts is not None
+                   else [stage_context(r, project) for r in results]),
+        "appendix": list(extra_appendix) + bom_appendix(project) + method_appendix(),
     }

@@ -104,6 +104,8 @@ def load_project(file: str | os.PathLike, *, samples: int | None = None,
             raise ProjectError("the file is not UTF-8 text")
         except tomllib.TOMLDecodeError as exc:
             raise ProjectError(f"malformed TOML: {exc}")
+        except RecursionError:   # tomllib recurses once per level of [ or {
+            raise ProjectError("malformed TOML: lists or tables nested too deeply") from None
         return _project(data, name, samples=samples, seed=seed)
     except ProjectError as exc:
         raise exc.located(name)
@@ -129,6 +131,11 @@ def _project(data: dict, file: str, *, samples: int | None, seed: int | None) ->
     if analysis.bom is not None:
         from .bom import read_bom
         bom_path = Path(file).parent / analysis.bom
+        # Confined: rcdoc reads nothing outside the project's folder.
+        home = Path(file).resolve().parent
+        if not bom_path.resolve().is_relative_to(home):
+            raise ProjectError(f"the bill of materials must lie inside the project's folder "
+                               f"({home}); '{analysis.bom}' does not", path="analysis.bom")
         bom_rows = read_bom(bom_path, "analysis.bom")
     stages = []
     seen: dict[str, int] = {}

@@ -29,7 +29,8 @@ The context (the pipeline fills it; every string is plain text and is escaped)::
 
 A block is one of::
 
-    {"type": "figure", "title": str, "svg": str, "caption": str, "width": "full"|"half"}
+    {"type": "figure", "title": str, "svg": str, "caption": str,
+     "width": "full"|"half"|"natural"}   # natural: own size, shrunk only to fit
     {"type": "table", "title": str, "columns": [str], "rows": [[str]], "note": str|None}
     {"type": "text", "title": str, "paragraphs": [str]}
 

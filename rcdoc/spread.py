@@ -109,4 +109,10 @@ def sensitivities(metric: np.ndarray, batch: Batch) -> np.ndarray:
     base = metric[0]
     probes = metric[batch.sens]
     with np.errstate(divide="ignore", invalid="ignore"):
-        return (probes - base) / (abs(base) * SENSITIVITY_STEP)
+        linear = (probes - base) / (abs(base) * SENSITIVITY_STEP)
+        # S = d ln m / d ln x. Where the metric keeps its sign, the ratio of
+        # logarithms is exact for power laws (fc = 1/(2πRC) gives −1, where the
+        # plain difference gives −1/(1 + step) = −0.999).
+        ratio = probes / base
+        logs = np.log(np.where(ratio > 0, ratio, 1.0)) / np.log1p(SENSITIVITY_STEP)
+    return np.where(ratio > 0, logs, linear)

@@ -16,7 +16,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from rcdoc.figures.schematic import (
-    Label, Recipe, Step, inductive_snubber, ladder, mfb, netlist, render_svg,
+    UNIT, Label, Recipe, Step, inductive_snubber, ladder, mfb, netlist, render_svg,
     sallen_key, switch_snubber,
 )
 
@@ -292,6 +292,177 @@ def test_bridged_t_is_drawn_on_node_buses():
     assert any(s.element == "ground" and s.start == parts_by_ref(recipe)["C2"].name
                for s in recipe.steps)
     svg_root(render_svg(recipe))
+
+
+# The damped LC filter of the example board: L3 in series, C70 across, an
+# R70 + C71 damping leg from mid to ground (inner node "damp"), R71 in series,
+# C72 across the output. A damping leg is a series RC in parallel with the
+# filter capacitor (common practice for LC supply filters).
+L3, C70, R70 = Label("L3", "10 µH"), Label("C70", "1 µF"), Label("R70", "3.3 Ω")
+C71, R71, C72 = Label("C71", "4.7 µF"), Label("R71", "1 Ω"), Label("C72", "1 µF")
+DAMPED_LC = [("L", L3, "in", "mid"), ("C", C70, "mid", "0"), ("R", R70, "mid", "damp"),
+             ("C", C71, "damp", "0"), ("R", R71, "mid", "out"), ("C", C72, "out", "0")]
+
+
+def wired_from(recipe, name):
+    """The first non-wire step reached going back from step `name`'s start."""
+    name = recipe.start_of(name)
+    while recipe.step(name).element == "wire":
+        name = recipe.start_of(name)
+    return name
+
+
+def is_grid(recipe):
+    # the grid fallback draws every node as a bus named bus_<column>
+    return any(s.name.startswith("bus_") for s in recipe.steps)
+
+
+def test_damping_leg_draws_as_a_ladder_with_a_stacked_leg():
+    recipe = netlist(DAMPED_LC, input="in", output="out", source=[("R", RS)],
+                     load=[("R", RL)])
+    assert not is_grid(recipe)
+    assert refs(recipe) == ["Rs", "L3", "C70", "R70", "C71", "R71", "C72", "RL"]
+    parts = parts_by_ref(recipe)
+    start = recipe.start_of
+    # C70 and the leg hang from the node where L3 ends; R71 leaves from there
+    assert start(parts["C70"].name) == parts["L3"].name
+    assert path_back(recipe, parts["R70"].name, 2) == parts["L3"].name
+    assert wired_from(recipe, parts["R71"].name) == parts["L3"].name
+    assert wired_from(recipe, parts["R70"].name) == parts["L3"].name
+    # stacked: C71 continues straight down from the end of R70
+    assert start(parts["C71"].name) == parts["R70"].name
+    assert parts["R70"].direction == parts["C71"].direction == "down"
+    # the leg spans the same depth as the single shunts beside it
+    assert parts["R70"].length + parts["C71"].length == pytest.approx(parts["C70"].length)
+    assert parts["R70"].length == pytest.approx(parts["C71"].length)
+    # the inner node is named, small, at the joint; chain node names are not shown
+    node = next(s for s in recipe.steps if s.text == "damp")
+    assert node.element == "text" and node.variant == "small"
+    assert node.start == parts["R70"].name
+    assert "mid" not in recipe.texts()
+    # one bottom rail from the source to the load, the leg's foot on it
+    assert recipe.step("rail").end == parts["RL"].name
+    assert any(s.element == "dot" and s.start == parts["C71"].name for s in recipe.steps)
+    svg_root(render_svg(recipe))
+
+
+def test_damping_leg_recipe_equals_the_ladder_with_a_stack_section():
+    expected = ladder([("series", "L", L3), ("shunt", "C", C70), ("shunt", "R", R70),
+                       ("stack", "C", C71, "damp"), ("series", "R", R71),
+                       ("shunt", "C", C72)], source=[("R", RS)], load=[("R", RL)])
+    got = netlist(DAMPED_LC, input="in", output="out", source=[("R", RS)], load=[("R", RL)])
+    assert got == expected
+    # deterministic: the same netlist gives the same recipe
+    assert netlist(DAMPED_LC, input="in", output="out", source=[("R", RS)],
+                   load=[("R", RL)]) == got
+
+
+def test_legs_at_one_node_keep_the_order_of_the_elements():
+    # the leg listed first is drawn first, wherever its ground end is listed
+    reordered = [DAMPED_LC[i] for i in (0, 3, 2, 1, 4, 5)]
+    assert refs(netlist(reordered, input="in", output="out")) == \
+        ["L3", "R70", "C71", "C70", "R71", "C72"]
+
+
+def test_leg_elements_may_be_listed_either_way_round():
+    flipped = [(k, lab, b, a) for k, lab, a, b in DAMPED_LC]
+    recipe = netlist(flipped, input="in", output="out")
+    assert refs(recipe) == ["L3", "C70", "R70", "C71", "R71", "C72"]
+    assert recipe.start_of(parts_by_ref(recipe)["C71"].name) == parts_by_ref(recipe)["R70"].name
+
+
+def test_three_part_leg_at_the_output_names_both_inner_nodes():
+    net = [("R", Label("R1", "10 kΩ"), "in", "out"), ("R", Label("R2", "100 Ω"), "out", "a"),
+           ("L", Label("L2", "1 mH"), "a", "b"), ("C", Label("C2", "100 nF"), "b", "0"),
+           ("C", Label("C1", "1 nF"), "out", "0")]
+    recipe = netlist(net, input="in", output="out")
+    assert not is_grid(recipe)
+    assert refs(recipe) == ["R1", "R2", "L2", "C2", "C1"]
+    parts = parts_by_ref(recipe)
+    assert recipe.start_of(parts["L2"].name) == parts["R2"].name
+    assert recipe.start_of(parts["C2"].name) == parts["L2"].name
+    small = [(s.text, s.start) for s in recipe.steps if s.variant == "small"]
+    assert small == [("a", parts["R2"].name), ("b", parts["L2"].name)]
+    # three stacked parts share the depth of the single shunt C1, and the
+    # rail lies deep enough for each to have a full part length
+    assert sum(parts[r].length for r in ("R2", "L2", "C2")) == pytest.approx(parts["C1"].length)
+    assert [parts[r].length for r in ("R2", "L2", "C2")] == pytest.approx([UNIT] * 3)
+
+
+def test_series_branch_of_several_parts_is_a_run_of_chain_steps():
+    # L then R in series from in to mid: the inner node "x" is a chain node
+    net = [("L", Label("L1", "10 µH"), "in", "x"), ("R", Label("R1", "1 Ω"), "x", "mid"),
+           ("C", Label("C1", "1 µF"), "mid", "0"), ("R", Label("R2", "1 kΩ"), "mid", "out")]
+    recipe = netlist(net, input="in", output="out")
+    parts = parts_by_ref(recipe)
+    assert not is_grid(recipe) and refs(recipe) == ["L1", "R1", "C1", "R2"]
+    assert recipe.start_of(parts["R1"].name) == parts["L1"].name
+    assert parts["R1"].direction == "right"
+
+
+@pytest.mark.parametrize("extra", [
+    # the inner node also feeds the output: no longer a leg
+    ("R", Label("R99", "1 kΩ"), "damp", "out"),
+    # a part across the whole filter bridges the chain
+    ("C", Label("C99", "10 pF"), "in", "out"),
+])
+def test_networks_that_are_no_ladder_fall_back_to_the_grid(extra):
+    recipe = netlist(DAMPED_LC + [extra], input="in", output="out")
+    assert is_grid(recipe)
+    assert sorted(refs(recipe)) == sorted([e[1].ref for e in DAMPED_LC] + [extra[1].ref])
+
+
+def test_parts_hanging_only_from_ground_are_no_leg():
+    # x connects only to ground, through two parts: a loop, not a shunt leg
+    net = [("R", R14, "in", "out"), ("C", Label("C5", "1 nF"), "x", "0"),
+           ("R", Label("R5", "1 kΩ"), "x", "0")]
+    recipe = netlist(net, input="in", output="out")
+    assert is_grid(recipe) and sorted(refs(recipe)) == ["C5", "R14", "R5"]
+
+
+def test_ladder_rejects_a_stack_without_a_shunt_above():
+    with pytest.raises(ValueError, match="stack"):
+        ladder([("series", "R", R14), ("stack", "C", C9, "x")])
+    with pytest.raises(ValueError):
+        ladder([("shunt", "R", R14), ("stack", "C", C9)])   # node name missing
+
+
+def _width_pt(svg):
+    return float(re.match(r"([0-9.]+)pt", svg_root(svg).get("width")).group(1))
+
+
+def _pt_per_unit(svg):
+    return _width_pt(svg) / float(svg_root(svg).get("viewBox").split()[2])
+
+
+def test_grid_fallback_keeps_the_page_scale():
+    # The note shows schematics at their own size and shrinks only what is
+    # wider than the text column, so a grid must fit 16 cm (453.5 pt) like
+    # the ladders, or its labels come out smaller than theirs.
+    bridged = DAMPED_LC + [("C", Label("C99", "10 pF"), "in", "out")]
+    grid = netlist(bridged, input="in", output="out", source=[("R", RS)], load=[("R", RL)])
+    assert is_grid(grid)
+    grid_svg = render_svg(grid)
+    assert _width_pt(grid_svg) < 453.5
+    # same scale as a ladder: stated size per viewBox unit is the same, so
+    # labels (one font size in drawing units) come out the same size
+    ladder_svg = render_svg(netlist(DAMPED_LC, input="in", output="out",
+                                    source=[("R", RS)], load=[("R", RL)]))
+    assert _pt_per_unit(grid_svg) == pytest.approx(_pt_per_unit(ladder_svg), rel=1e-3)
+
+
+def test_grid_spaces_hanging_parts_by_their_labels():
+    wide = Label("C1", "1 nF (C0G, 50 V rated)")
+    net = [("C", wide, "in", "0"), ("C", Label("C2", "1 nF"), "in", "0"),
+           ("R", R14, "in", "out"), ("C", C9, "out", "in")]
+    recipe = netlist(net, input="in", output="out")
+    assert is_grid(recipe)
+    xs = {s.name[len("hang_"):-2]: s.length for s in recipe.steps
+          if s.name.startswith("hang_") and s.name.endswith("~x")}
+    # the second part stands clear of the first one's 23-character label:
+    # at least one character width (about 0.2 units, common practice for
+    # DejaVu Sans at the label size) per character
+    assert xs["e2"] - xs["e1"] > 23 * 0.2
 
 
 node_names = st.sampled_from(["0", "in", "out", "a", "b"])

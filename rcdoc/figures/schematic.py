@@ -36,6 +36,7 @@ SHUNT = 2.5      # height of a shunt branch, top rail to bottom rail
 LEAD = 0.5       # short connecting wire
 SLOT = 2.25      # pitch of neighbouring shunt branches (part + its label)
 FONT_PT = 13     # label size as drawn; shown at FONT_PT * DISPLAY_SCALE
+SMALL_PT = 10    # secondary text (names of inner nodes), 6.5 pt at natural size
 # schemdraw sizes text boxes assuming half an inch per unit, so the drawing
 # keeps that scale and the SVG's stated size is shrunk instead: one unit
 # becomes 0.65 * 36 pt = 8.3 mm and labels 8.5 pt at natural size.
@@ -79,7 +80,8 @@ class Step:
     "above-left" and "above-right" run the text from above the point towards
     that side.
     dashed: drawn dashed (parasitic parts, frames). variant: "sine"/"dc" for
-    a source, "plus-top" for an op-amp drawn with + above. pin: the op-amp
+    a source, "plus-top" for an op-amp drawn with + above, "small" for a
+    text drawn small and grey just right of its point (an inner node's name). pin: the op-amp
     input placed at the start point. members: steps a box surrounds.
     """
 
@@ -222,11 +224,12 @@ def _front(pen: _Pen, source: Sequence[tuple[str, Label]], input_label: str,
 
 
 def _back(pen: _Pen, at: str, load: Sequence[tuple[str, Label]],
-          output_label: str, lead: float) -> tuple[str, list[str]]:
+          output_label: str, lead: float,
+          height: float = SHUNT) -> tuple[str, list[str]]:
     """Output terminal after a wire of `lead`, then the load's shunt parts.
 
     Returns the output terminal's name and the names of the load parts
-    (their ends lie `SHUNT` below the output).
+    (their ends lie `height` below the output).
     """
     pen("wire", start=at, direction="right", length=lead)
     out = pen("terminal", name="out", text=output_label, side="above-right")
@@ -238,7 +241,7 @@ def _back(pen: _Pen, at: str, load: Sequence[tuple[str, Label]],
         if i < len(load) - 1:
             pen("dot")
         parts.append(pen(_check_kind(kind, "load"), name=f"load_{i + 1}",
-                         direction="down", length=SHUNT, label=label,
+                         direction="down", length=height, label=label,
                          side="right", start=f"load_wire_{i + 1}"))
     if parts:
         pen("box", name="load_box", members=tuple(parts), text="load",
@@ -251,24 +254,61 @@ LOAD_LEAD = 1.25   # from the output terminal to the first load part
 
 # --- passive ladder ------------------------------------------------------------
 
-def ladder(sections: Sequence[tuple[str, str, Label]], *,
+def _legs(sections: Sequence[tuple]) -> list[int]:
+    """For each section, how many parts the shunt leg it belongs to has
+    (0 for series parts); checks positions and kinds."""
+    sizes: list[int] = []
+    for i, section in enumerate(sections):
+        position, kind = section[0], section[1]
+        _check_kind(kind, f"section {i}")
+        if position == "series":
+            sizes.append(0)
+        elif position == "shunt":
+            sizes.append(1)
+        elif position == "stack":
+            if not sizes or not sizes[-1]:
+                raise ValueError(f"section {i}: a stacked part must follow a shunt part")
+            leg_start = len(sizes) - sizes[-1]
+            sizes[leg_start:] = [sizes[-1] + 1] * (sizes[-1] + 1)
+        else:
+            raise ValueError(f"section {i}: position must be series, shunt or stack")
+        if len(section) != (4 if position == "stack" else 3):
+            raise ValueError(f"section {i}: (position, kind, label) or "
+                             "('stack', kind, label, node name)")
+    return sizes
+
+
+def _small_units(text: str) -> float:
+    return CHAR_UNITS * SMALL_PT / FONT_PT * len(text)
+
+
+NODE_CLEAR = 0.2   # from a vertical wire to the name of the node on it
+
+
+def ladder(sections: Sequence[tuple], *,
            source: Sequence[tuple[str, Label]] = (),
            load: Sequence[tuple[str, Label]] = (),
            input_label: str = "IN", output_label: str = "OUT") -> Recipe:
     """A series/shunt ladder between a driven input and a loaded output.
 
-    sections: (position, kind, label) with position "series" or "shunt" and
-    kind "R", "C" or "L", left to right. Shunt parts hang from the top rail
-    to a common bottom rail that is grounded below the source.
+    sections: left to right, (position, kind, label) with position "series"
+    or "shunt" and kind "R", "C" or "L"; or ("stack", kind, label, node):
+    a part in series below the shunt (or stacked) part before it, `node`
+    naming the inner node between the two (drawn small; "" for none).
+    Shunt legs hang from the top rail to a common bottom rail that is
+    grounded below the source; a leg of n parts gives each part 1/n of the
+    rail depth, and the rail lies deep enough for a part of UNIT per step.
     """
     pen = _Pen()
-    here = _front(pen, source, input_label)
+    sizes = _legs(sections)
+    depth = max([SHUNT] + [n * UNIT for n in sizes])
+    here = _front(pen, source, input_label, height=depth)
     bottoms: list[str] = []
     last = "terminal"
-    room = 0.0            # the last shunt's label needs this much to its right
+    room = 0.0            # the last shunt's labels need this much to its right
     series_text = None    # width of the last series part's label
-    for i, (position, kind, label) in enumerate(sections):
-        _check_kind(kind, f"section {i}")
+    for i, (section, size) in enumerate(zip(sections, sizes)):
+        position, kind, label = section[:3]
         if position == "series":
             # Stretch the section when labels would otherwise touch.
             width = _text_units(label.lines())
@@ -287,14 +327,25 @@ def ladder(sections: Sequence[tuple[str, str, Label]], *,
             if last != "terminal":
                 pen("dot", start=here)
             bottoms.append(pen(kind, name=f"shunt_{i + 1}", start=here,
-                               direction="down", length=SHUNT, label=label,
+                               direction="down", length=depth / size, label=label,
                                side="right"))
             room, last = _room_right(label), "shunt"
         else:
-            raise ValueError(f"section {i}: position must be series or shunt")
+            # A stacked part continues the leg down from the part above it;
+            # its inner node is named on the right, between the two labels.
+            above = bottoms[-1]
+            node = section[3]
+            if node:
+                pen("text", name=f"node_{i + 1}", start=above, text=node,
+                    side="right", variant="small")
+                room = max(room, NODE_CLEAR + _small_units(node) + AIR)
+            bottoms[-1] = pen(kind, name=f"stack_{i + 1}", start=above,
+                              direction="down", length=depth / size, label=label,
+                              side="right")
+            room = max(room, _room_right(label))
     lead = {"shunt": max(SLOT, room - LOAD_LEAD + 0.2), "series": LEAD,
             "terminal": UNIT}[last]
-    _out, load_parts = _back(pen, here, load, output_label, lead)
+    _out, load_parts = _back(pen, here, load, output_label, lead, depth)
     bottoms += load_parts
     # One return rail along the bottom; junction dots where branches meet it.
     if bottoms:
@@ -490,17 +541,56 @@ GROUND = "0"
 ROW = 2.0        # pitch of element rows in the node grid
 
 
-def _ladder_sections(elements: Sequence[tuple[str, Label, str, str]],
-                     input: str, output: str) -> list[tuple[str, str, Label]] | None:
-    """The network as ladder sections, or None when it is not a plain ladder.
+def _shunt_legs(elements: Sequence[tuple[str, Label, str, str]], input: str,
+                output: str) -> list[tuple[str, list[int], list[str]]] | None:
+    """The branches to ground: (top node, element indices top to bottom,
+    inner nodes top to bottom), in the order of their first element.
 
-    A ladder is one chain of non-ground elements from input to output that
-    visits each node once, with every other element from a chain node to
-    ground.
+    A leg climbs from an element on ground through nodes that touch exactly
+    two elements and are neither input nor output; the node where it stops
+    is its top. None when a climb comes back to ground (a loop hanging from
+    ground alone is no ladder).
+    """
+    touching: dict[str, list[int]] = {}
+    for i, (_k, _l, a, b) in enumerate(elements):
+        for node in {a, b}:
+            touching.setdefault(node, []).append(i)
+    legs = []
+    for i, (_k, _l, a, b) in enumerate(elements):
+        if GROUND not in (a, b):
+            continue
+        chain, inner = [i], []
+        node = b if a == GROUND else a
+        while node not in (input, output) and len(touching[node]) == 2:
+            nxt = next(j for j in touching[node] if j != chain[-1])
+            _k2, _l2, a2, b2 = elements[nxt]
+            if GROUND in (a2, b2):
+                return None
+            chain.append(nxt)
+            inner.append(node)
+            node = b2 if a2 == node else a2
+        legs.append((node, chain[::-1], inner[::-1]))
+    legs.sort(key=lambda leg: min(leg[1]))
+    return legs
+
+
+def _ladder_sections(elements: Sequence[tuple[str, Label, str, str]],
+                     input: str, output: str) -> list[tuple] | None:
+    """The network as ladder sections, or None when it is not a ladder.
+
+    A ladder is one chain of elements from input to output that visits each
+    node once, with every other element in a shunt leg: a single element
+    from a chain node to ground, or several in series from a chain node to
+    ground whose inner nodes connect to nothing else (an RC damping leg).
+    Elements in series along the chain are simply consecutive steps.
     """
     if GROUND in (input, output) or any(a == b for _k, _l, a, b in elements):
         return None
-    series = [e for e in elements if GROUND not in (e[2], e[3])]
+    legs = _shunt_legs(elements, input, output)
+    if legs is None:
+        return None
+    in_legs = {i for _top, chain, _inner in legs for i in chain}
+    series = [e for i, e in enumerate(elements) if i not in in_legs]
     path = [input]
     used: list[int] = []
     while path[-1] != output:
@@ -516,16 +606,19 @@ def _ladder_sections(elements: Sequence[tuple[str, Label, str, str]],
         path.append(nxt)
     if len(used) != len(series):
         return None
-    shunt_at: dict[str, list[tuple[str, Label]]] = {node: [] for node in path}
-    for kind, label, a, b in elements:
-        if GROUND in (a, b):
-            node = b if a == GROUND else a
-            if node not in shunt_at:
-                return None
-            shunt_at[node].append((kind, label))
-    sections: list[tuple[str, str, Label]] = []
+    legs_at: dict[str, list[tuple[list[int], list[str]]]] = {node: [] for node in path}
+    for top, chain, inner in legs:
+        if top not in legs_at:
+            return None
+        legs_at[top].append((chain, inner))
+    sections: list[tuple] = []
     for k, node in enumerate(path):
-        sections += [("shunt", kind, label) for kind, label in shunt_at[node]]
+        for chain, inner in legs_at[node]:
+            kind, label, _a, _b = elements[chain[0]]
+            sections.append(("shunt", kind, label))
+            for j, above in zip(chain[1:], inner):
+                kind, label, _a, _b = elements[j]
+                sections.append(("stack", kind, label, above))
         if k < len(used):
             kind, label, _a, _b = series[used[k]]
             sections.append(("series", kind, label))
@@ -565,6 +658,17 @@ def _node_text(node: str, terminal: str) -> str:
     return f"{terminal} ({node})"
 
 
+GRID_GAP = UNIT + 1.0   # least distance between node buses: a part and two leads
+
+
+def _hang_offsets(labels: Sequence[Label]) -> list[float]:
+    """Distances from a bus to the parts hanging side by side from it."""
+    offsets = [0.0]
+    for label in labels[:-1]:
+        offsets.append(offsets[-1] + max(SLOT, _room_right(label)))
+    return offsets[:len(labels)]
+
+
 def _grid(elements: Sequence[tuple[str, Label, str, str]], input: str,
           output: str, source: Sequence[tuple[str, Label]],
           load: Sequence[tuple[str, Label]]) -> Recipe:
@@ -585,8 +689,19 @@ def _grid(elements: Sequence[tuple[str, Label, str, str]], input: str,
             rows.append((i, kind, label, a, b))
     hanging[output] += [(kind, label, f"load_{i + 1}")
                         for i, (kind, label) in enumerate(load)]
-    gaps = [max(UNIT + 1.5, (len(hanging[node]) - 1) * SLOT + 2.5)
-            for node in columns]
+    # Parts to ground hang side by side, each clear of its left neighbour's
+    # label; a column's gap fits them and the labels of the row parts drawn
+    # in it, and no more, so the grid keeps the ladders' scale.
+    offsets = {node: _hang_offsets([label for _k, label, _n in hanging[node]])
+               for node in columns}
+    gaps = []
+    for c, node in enumerate(columns):
+        need = [GRID_GAP]
+        if hanging[node]:
+            need.append(offsets[node][-1] + _room_right(hanging[node][-1][1]))
+        need += [_text_units(label.lines()) + 2 * AIR for _i, _k, label, a, b in rows
+                 if min(col[a], col[b]) == c]
+        gaps.append(max(need))
     xs = [sum(gaps[:i]) for i in range(len(columns))]
     # Long spans go on top, so that buses of the nodes they pass over start
     # below them and the wires cross fewer buses.
@@ -642,7 +757,7 @@ def _grid(elements: Sequence[tuple[str, Label, str, str]], input: str,
     load_names: list[str] = []
     for node in columns:
         for s, (kind, label, name) in enumerate(hanging[node]):
-            at = _goto(pen, f"hang_{name}", xs[col[node]] + s * SLOT, hang_y)
+            at = _goto(pen, f"hang_{name}", xs[col[node]] + offsets[node][s], hang_y)
             if s:
                 pen("wire", start=f"hang_{hanging[node][s - 1][2]}", end=at, route="-")
             if s < len(hanging[node]) - 1 and len(hanging[node]) > 1:
@@ -667,7 +782,7 @@ def _grid(elements: Sequence[tuple[str, Label, str, str]], input: str,
 
 def _grid_source(pen: _Pen, source: Sequence[tuple[str, Label]]) -> None:
     """Source with its impedance, left of the input bus and joining its top."""
-    width = 2 * LEAD + UNIT * len(source) + 4 * LEAD
+    width = 2 * LEAD + UNIT * len(source) + 3 * LEAD
     at = _goto(pen, "source_foot", -width, -SHUNT)
     pen("ground", name="gnd_source", start=at)
     pen("source", name="vs", start=at, direction="up", length=SHUNT,
@@ -687,8 +802,9 @@ def netlist(elements: Sequence[tuple[str, Label, str, str]], *, input: str,
     """Any network of two-terminal parts; node "0" is ground.
 
     elements: (kind, label, node_a, node_b). A series/shunt ladder from
-    input to output is drawn as `ladder`; anything else as a grid of node
-    buses with one row per element.
+    input to output, shunt legs of several parts in series included, is
+    drawn as `ladder`; anything else as a grid of node buses with one row
+    per element.
     """
     sections = _ladder_sections(elements, input, output)
     if sections is not None:
@@ -737,11 +853,11 @@ def render_svg(recipe: Recipe) -> str:
     step_of = {"right": Point((1, 0)), "left": Point((-1, 0)),
                "up": Point((0, 1)), "down": Point((0, -1))}
 
-    def text_at(xy, lines, halign, valign, colour="black"):
+    def text_at(xy, lines, halign, valign, colour="black", size=FONT_PT):
         # ofst=(0, 0): the drawing's default label offset would shift text
         # diagonally away from where it is aimed.
         mark = elm.Label().at(xy).label("\n".join(lines), halign=halign,
-                                        valign=valign, fontsize=FONT_PT,
+                                        valign=valign, fontsize=size,
                                         color=colour, ofst=(0, 0))
         return d.add(mark)
 
@@ -838,7 +954,13 @@ def render_svg(recipe: Recipe) -> str:
             drawn[step.name] = [d.add(elm.Ground().at(start))]
             here = start
         elif kind == "text":
-            drawn[step.name] = beside_point(step, start, 0.2)
+            if step.variant == "small":
+                # A node's name: small, grey, level with the node, so that
+                # it reads as secondary to the part labels around it.
+                drawn[step.name] = [text_at(start + Point((NODE_CLEAR, 0)), [step.text],
+                                            "left", "center", FRAME_COLOUR, SMALL_PT)]
+            else:
+                drawn[step.name] = beside_point(step, start, 0.2)
             here = start
         elif kind == "box":
             members = [e for name in step.members for e in drawn[name]]

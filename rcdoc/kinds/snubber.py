@@ -1,0 +1,568 @@
+"""snubber: a series RC that damps a ringing switch node or an opening inductive load.
+
+This module reads the stage's keys, proposes values when ``parts`` are
+omitted, runs the analysis over the batch of snubber values (the physics is
+rcdoc.snubber) and lays out its results for the note: waveforms with and
+without the snubber, derived parasitics, stresses, energy and the trade-off
+against the snubber capacitance. It replaces the generic frequency-domain
+analysis (``analyse``). It must not compute physics itself beyond bookkeeping.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+
+import numpy as np
+
+from .. import checks as checkmod
+from .. import snubber as phys
+from .. import spread
+from ..errors import ProjectError
+from ..figures import charts
+from ..figures import schematic as sch
+from ..figures.schematic import Label
+from ..model import Part
+from ..preferred import nearest
+from ..quantities import format_quantity, parse_positive
+from . import base
+
+NAME = "snubber"
+OPTIONS = ("across", "voltage", "switching_frequency", "ringing", "parasitic", "coil", "ac",
+           "line_frequency", "stray")
+PASSBAND = "low"
+ROLES = ("r", "c")
+METRIC_NAMES = ("damping", "overshoot", "resistor_power", "capacitor_voltage", "parasitic_c",
+                "parasitic_l", "characteristic_impedance", "ring_frequency")
+ACROSS = ("switch", "inductive-load")
+SWITCH_ONLY = ("ringing", "parasitic")
+LOAD_ONLY = ("coil", "ac", "line_frequency", "stray")
+NOT_FOR_SNUBBERS = ("source", "load", "marks", "drive")
+SNUBBER_C_PER_PARASITIC = 3.0   # proposed C = 3 × C_par ("several times", common practice)
+DISPLAY_POINTS = 400
+SWEEP_POINTS = 25
+SETTLED_BAND = 0.02             # display window: until the node stays within 2 % of V
+
+
+def fq(v, unit, digits=3):
+    if not math.isfinite(v):
+        return "—"
+    if unit == "J":      # energy: the quantity formatter has no joule; same prefixes as watts
+        return format_quantity(float(v), "W", digits)[:-1] + "J"
+    return format_quantity(float(v), unit, digits)
+
+
+# --------------------------------------------------------------------------
+# project keys
+
+
+def _table(t, key, keys, required, path):
+    from ..project import check_keys, need_table
+    tab = need_table(t[key], f"{path}.{key}")
+    check_keys(tab, keys, f"{path}.{key}")
+    for k in required:
+        if k not in tab:
+            raise ProjectError(f"'{k}' is missing", path=f"{path}.{key}.{k}")
+    return tab
+
+
+def parse_options(t: dict, path: str) -> dict:
+    from ..project import need_bool
+    for key in NOT_FOR_SNUBBERS:
+        if key in t:
+            raise ProjectError(f"'{key}' does not apply to a snubber: its circuit is set by "
+                               "'across' and the keys that go with it", path=f"{path}.{key}")
+    if "across" not in t:
+        raise ProjectError("a snubber needs 'across' = \"switch\" or \"inductive-load\"",
+                           path=f"{path}.across")
+    across = t["across"]
+    if across not in ACROSS:
+        raise ProjectError(f"'{across}' is not a snubber position; use \"switch\" or "
+                           "\"inductive-load\"", path=f"{path}.across")
+    for key in ("voltage", "switching_frequency"):
+        if key not in t:
+            raise ProjectError(f"a snubber needs '{key}'", path=f"{path}.{key}")
+    o = {"across": across, "voltage_v": parse_positive(t["voltage"], "V", f"{path}.voltage"),
+         "switching_hz": parse_positive(t["switching_frequency"], "Hz",
+                                        f"{path}.switching_frequency")}
+    wrong = LOAD_ONLY if across == "switch" else SWITCH_ONLY
+    for key in wrong:
+        if key in t:
+            other = "inductive-load" if across == "switch" else "switch"
+            raise ProjectError(f"'{key}' belongs to across = \"{other}\"", path=f"{path}.{key}")
+    if across == "switch":
+        o.update(_parse_switch(t, path))
+    else:
+        coil = _table(t, "coil", ("l", "r"), ("l", "r"), path) if "coil" in t else None
+        if coil is None:
+            raise ProjectError("an inductive-load snubber needs coil = { l = ..., r = ... }",
+                               path=f"{path}.coil")
+        o["coil_l_h"] = parse_positive(coil["l"], "H", f"{path}.coil.l")
+        o["coil_r_ohm"] = parse_positive(coil["r"], "ohm", f"{path}.coil.r")
+        o["ac"] = need_bool(t.get("ac", False), f"{path}.ac")
+        if "line_frequency" in t and not o["ac"]:
+            raise ProjectError("'line_frequency' applies to an AC supply (ac = true)",
+                               path=f"{path}.line_frequency")
+        o["line_hz"] = parse_positive(t.get("line_frequency", 50.0), "Hz",
+                                      f"{path}.line_frequency")
+        o["stray_f"] = parse_positive(t.get("stray", phys.DEFAULT_STRAY_F), "F", f"{path}.stray")
+    return o
+
+
+def _parse_switch(t: dict, path: str) -> dict:
+    o: dict = {"rp_ohm": None, "measured": None}
+    if "ringing" in t:
+        ring = _table(t, "ringing", ("frequency", "with_added", "frequency_with_added"),
+                      ("frequency", "with_added", "frequency_with_added"), path)
+        f1 = parse_positive(ring["frequency"], "Hz", f"{path}.ringing.frequency")
+        cadd = parse_positive(ring["with_added"], "F", f"{path}.ringing.with_added")
+        f2 = parse_positive(ring["frequency_with_added"], "Hz",
+                            f"{path}.ringing.frequency_with_added")
+        if f2 >= f1:
+            raise ProjectError("adding capacitance must lower the ringing frequency; "
+                               f"{format_quantity(f2, 'Hz')} is not below "
+                               f"{format_quantity(f1, 'Hz')} (check the measurement)",
+                               path=f"{path}.ringing.frequency_with_added")
+        o["cp_f"], o["lp_h"] = phys.parasitics_from_ringing(f1, cadd, f2)
+        o["measured"] = (f1, cadd, f2)
+        if "parasitic" in t:
+            par = _table(t, "parasitic", ("l", "c", "r"), (), path)
+            for k in ("l", "c"):
+                if k in par:
+                    raise ProjectError("the parasitics are derived from 'ringing'; give "
+                                       "either the measurement or the values, not both",
+                                       path=f"{path}.parasitic.{k}")
+            if "r" in par:
+                o["rp_ohm"] = parse_positive(par["r"], "ohm", f"{path}.parasitic.r")
+    elif "parasitic" in t:
+        par = _table(t, "parasitic", ("l", "c", "r"), ("l", "c"), path)
+        o["lp_h"] = parse_positive(par["l"], "H", f"{path}.parasitic.l")
+        o["cp_f"] = parse_positive(par["c"], "F", f"{path}.parasitic.c")
+        if "r" in par:
+            o["rp_ohm"] = parse_positive(par["r"], "ohm", f"{path}.parasitic.r")
+    else:
+        raise ProjectError("a switch snubber needs 'ringing' (two measurements) or "
+                           "'parasitic' = { l = ..., c = ... }", path=f"{path}.ringing")
+    return o
+
+
+def check_roles(parts, options, path):
+    for role in parts:
+        if role not in ROLES:
+            raise ProjectError(f"role '{role}' is not part of a snubber; it takes r and c",
+                               path=f"{path}.{role}")
+    if len(parts) == 1:
+        missing = "c" if "r" in parts else "r"
+        raise ProjectError(f"give both r and c, or neither (to have them proposed); "
+                           f"'{missing}' is missing", path=f"{path}.{missing}")
+
+
+def metrics(options, drive):
+    return METRIC_NAMES
+
+
+def _switch_fixed(o: dict) -> tuple[float, float, float]:
+    lp, cp = o["lp_h"], o["cp_f"]
+    z0 = math.sqrt(lp / cp)
+    rp = o["rp_ohm"] if o["rp_ohm"] is not None else z0 / phys.DEFAULT_LOOP_Q
+    return lp, cp, rp
+
+
+def _ringing(o: dict) -> tuple[float, float]:
+    """(L, C) of the loop that rings without the snubber."""
+    if o["across"] == "switch":
+        return o["lp_h"], o["cp_f"]
+    return o["coil_l_h"], o["stray_f"]
+
+
+def build(stage):
+    snubbed = bool(stage.parts)
+    return (phys.switch_network(snubbed) if stage.options["across"] == "switch"
+            else phys.load_network(snubbed))
+
+
+def characteristic_hz(stage):
+    return float(phys.resonance_hz(*_ringing(stage.options)))
+
+
+def schematic(stage):
+    o, p = stage.options, stage.parts
+    r = base.label(p["r"]) if "r" in p else None
+    c = base.label(p["c"]) if "c" in p else None
+    if o["across"] == "switch":
+        return sch.switch_snubber(snubber_r=r, snubber_c=c,
+                                  parasitic_l=Label("Lp", format_quantity(o["lp_h"], "H")),
+                                  parasitic_c=Label("Cp", format_quantity(o["cp_f"], "F")),
+                                  voltage_label=format_quantity(o["voltage_v"], "V"))
+    v = format_quantity(o["voltage_v"], "V") + (" rms" if o["ac"] else "")
+    return sch.inductive_snubber(snubber_r=r, snubber_c=c,
+                                 coil_l=Label("L", format_quantity(o["coil_l_h"], "H")),
+                                 coil_r=Label("R", format_quantity(o["coil_r_ohm"], "ohm")),
+                                 voltage_label=v, ac=o["ac"])
+
+
+# --------------------------------------------------------------------------
+# proposal
+
+
+def propose(stage) -> dict[str, Part]:
+    """R near the ringing impedance, C from the parasitics (nearest E24 / E12 values).
+
+    Switch node: C = 3·C_par, R = √(Lp/Cp) (common practice). Inductive load:
+    C from the energy balance ½·L·I² = ½·C·ΔV² with ΔV the supply peak, so the
+    contact sees at most about twice the supply peak; R = √(L/C), which makes
+    the first jump I·R about the supply peak as well (common practice).
+    """
+    o = stage.options
+    if o["across"] == "switch":
+        lp, cp, _ = _switch_fixed(o)
+        c = nearest(SNUBBER_C_PER_PARASITIC * cp, "E12")
+        r = nearest(math.sqrt(lp / cp), "E24")
+    else:
+        i_a = phys.coil_current(o["voltage_v"], o["coil_l_h"], o["coil_r_ohm"], o["ac"],
+                                o["line_hz"])
+        vpk = _supply_peak(o)
+        c = nearest(o["coil_l_h"] * (i_a / vpk) ** 2, "E12")
+        r = nearest(math.sqrt(o["coil_l_h"] / c), "E24")
+    return {"r": Part(role="r", kind="R", value=r, tol_plus=0.05, tol_minus=0.05,
+                      model="proposed", path=f"{stage.path}.parts.r"),
+            "c": Part(role="c", kind="C", value=c, tol_plus=0.10, tol_minus=0.10,
+                      model="proposed", path=f"{stage.path}.parts.c")}
+
+
+def _supply_peak(o: dict) -> float:
+    return o["voltage_v"] * (math.sqrt(2.0) if o.get("ac") else 1.0)
+
+
+# --------------------------------------------------------------------------
+# analysis
+
+
+def analyse(stage, analysis):
+    from ..analyse import MetricResult, StageResult, _assumptions, _part_rows
+    proposed = not stage.parts
+    if proposed:
+        stage = dataclasses.replace(stage, parts=propose(stage))
+    batch = spread.build_batch(stage, analysis)
+    run = _switch if stage.options["across"] == "switch" else _load
+    arrays, extra, network, notes = run(stage, batch)
+    metrics = []
+    for name in METRIC_NAMES:
+        arr = np.asarray(arrays[name], dtype=float)
+        sens = spread.sensitivities(arr, batch) if arr[0] != 0 else np.zeros(len(batch.roles))
+        wc_vals = arr[batch.vertex]
+        wc_vals = wc_vals[np.isfinite(wc_vals)]
+        wc = (float(wc_vals.min()), float(wc_vals.max())) if wc_vals.size else (math.nan,) * 2
+        metrics.append(MetricResult(name=name, at_hz=None, detail="", nominal=float(arr[0]),
+                                    samples=arr[batch.mc], wc=wc,
+                                    sensitivity={r: float(s) for r, s in zip(batch.roles, sens)}))
+    by_name = {m.name: m for m in metrics}
+    verdicts = [checkmod.judge(c.metric, by_name[c.metric].samples,
+                               nominal=by_name[c.metric].nominal, wc=by_name[c.metric].wc,
+                               lo=c.min, hi=c.max, required_yield=c.required_yield)
+                for c in stage.checks]
+    ratings = []
+    for role, metric, rating in (("r", "resistor_power", stage.parts["r"].power_rating_w),
+                                 ("c", "capacitor_voltage", stage.parts["c"].voltage_rating_v)):
+        if rating is not None:
+            m = by_name[metric]
+            ratings.append(checkmod.judge(metric, m.samples, nominal=m.nominal, wc=m.wc, lo=None,
+                                          hi=rating, part=stage.parts[role].ref or role,
+                                          detail="rating"))
+    extra["json"]["proposed"] = proposed
+    if proposed:
+        notes.append("No parts were given: R and C are proposed values (marked 'proposed' in "
+                     "the parts table), analysed with the default tolerances (R ±5 %, C ±10 %).")
+    empty = np.zeros(0)
+    return StageResult(stage=stage, network=network, passband=PASSBAND,
+                       char_hz=characteristic_hz(stage), freqs_hz=empty, h_nominal=empty.astype(complex),
+                       band={}, metrics=metrics, verdicts=verdicts, ratings=ratings, phasor={},
+                       step=None, pwm=None, part_rows=_part_rows(stage, analysis),
+                       assumptions=notes + _assumptions(stage, analysis), samples=batch.samples,
+                       extra=extra)
+
+
+def _display(t: np.ndarray, t_show: float) -> np.ndarray:
+    k = int(np.searchsorted(t, t_show, side="right")) - 1
+    return np.unique(np.linspace(0, max(k, 1), DISPLAY_POINTS).astype(int))
+
+
+def _settle_time(t: np.ndarray, y: np.ndarray, final: float) -> float:
+    out = np.abs(y - final) > SETTLED_BAND * abs(final)
+    return float(t[np.flatnonzero(out)[-1]]) if out.any() else 0.0
+
+
+def _const(rows: int, v: float) -> np.ndarray:
+    return np.full(rows, float(v))
+
+
+def _switch(stage, batch):
+    o, sid = stage.options, stage.id
+    v, fsw = o["voltage_v"], o["switching_hz"]
+    lp, cp, rp = _switch_fixed(o)
+    z0, f_ring = math.sqrt(lp / cp), float(phys.resonance_hz(lp, cp))
+    w0, rows = 2 * math.pi * f_ring, batch.rows
+    vals = phys.switch_values(lp, cp, rp, rows, batch.values["r"], batch.values["c"])
+    p = phys.poles(phys.switch_network(True), vals, w0)
+    zeta = phys.damping_ratio(p)
+    t = phys.time_grid(p)
+    nominal = phys.switch_wave({k: a[:1] for k, a in vals.items()}, v, t, True)[0]
+    t_show = min(t[-1], max(1.5 * _settle_time(t, nominal, v), 8.0 / f_ring))
+    idx = _display(t, t_show)
+    env = phys.Envelope(idx)
+    edge = phys.switch_edge(vals, v, fsw, t, envelope=env,
+                            band_rows=np.arange(batch.mc.start, batch.mc.stop))
+    # Without the snubber: the node rings in Lp, Cp and the loop resistance only.
+    bare = phys.switch_values(lp, cp, rp, 1)
+    zeta_wo = float(phys.damping_ratio(phys.poles(phys.switch_network(False), bare, w0))[0])
+    t_wo = np.linspace(0.0, t[idx[-1]], 4 * DISPLAY_POINTS)
+    y_wo = phys.switch_wave(bare, v, t_wo, False)[0]
+    arrays = {"damping": zeta, "overshoot": edge["overshoot"], "resistor_power": edge["power"],
+              "capacitor_voltage": edge["cap_peak"], "parasitic_c": _const(rows, cp),
+              "parasitic_l": _const(rows, lp), "characteristic_impedance": _const(rows, z0),
+              "ring_frequency": _const(rows, f_ring)}
+    mc = batch.mc
+    r_n, c_n = stage.parts["r"].value, stage.parts["c"].value
+    wave = charts.time_response(
+        f"{sid}-ring", t[idx], nominal[idx], band=(env.lo, env.hi),
+        series=[{"t": t_wo, "y": y_wo, "label": "without snubber", "role": "without"}],
+        ylabel="Switch node [V]", nominal_label="with snubber (nominal)")
+    derived = [["Parasitic capacitance Cp", fq(cp, "F"), _how_cp(o)],
+               ["Loop inductance Lp", fq(lp, "H"), "Lp = 1/((2π·f)²·Cp)"],
+               ["Characteristic impedance Z0", fq(z0, "ohm"), "Z0 = √(Lp/Cp)"],
+               ["Ringing frequency", fq(f_ring, "Hz"), "f = 1/(2π·√(Lp·Cp))"],
+               ["Loop resistance Rp", fq(rp, "ohm"),
+                "as given" if o["rp_ohm"] is not None else
+                f"assumed: Z0/{phys.DEFAULT_LOOP_Q:g} (Q = {phys.DEFAULT_LOOP_Q:g})"]]
+    stress = [["Damping ratio ζ", f"{zeta_wo:.3f}", f"{zeta[0]:.3f}", _rng(zeta[mc], "1")],
+              ["Peak node voltage", fq(y_wo.max(), "V"), fq(edge["peak"][0], "V"),
+               _rng(edge["peak"][mc], "V")],
+              ["Overshoot above V", fq(y_wo.max() - v, "V"), fq(edge["overshoot"][0], "V"),
+               _rng(edge["overshoot"][mc], "V")],
+              ["Resistor energy, turn-off edge", "—", fq(edge["e_off"][0], "J"),
+               _rng(edge["e_off"][mc], "J")],
+              ["Resistor energy, turn-on edge (½·C·V²)", "—", fq(edge["e_on"][0], "J"),
+               _rng(edge["e_on"][mc], "J")],
+              ["Resistor power at f_sw", "—", fq(edge["power"][0], "W"),
+               _rng(edge["power"][mc], "W")],
+              ["of which C·V²·f_sw", "—", fq(c_n * v * v * fsw, "W"), "—"],
+              ["Capacitor peak voltage", "—", fq(edge["cap_peak"][0], "V"),
+               _rng(edge["cap_peak"][mc], "V")]]
+    blocks = [_figure("Switch node ringing, with and without the snubber", wave,
+                      f"Node voltage after the switch turns off (a step of {fq(v, 'V')} through "
+                      f"Lp into Cp), nominal with the min–max band of {batch.samples} Monte "
+                      "Carlo samples of R and C; without the snubber the node rings at "
+                      f"{fq(f_ring, 'Hz')} (damped by Rp only)."),
+              _tab("Derived parasitics", ["Quantity", "Value", "From"], derived, None),
+              _tab("Stresses", ["Quantity", "Without snubber", "With snubber (nominal)",
+                                "With snubber (Monte Carlo range)"], stress,
+                   "Resistor power = (turn-off edge energy + ½·C·V²) × f_sw: the turn-off "
+                   "edge from the time-domain solution, the turn-on edge when the switch "
+                   "discharges C through R. C·V²·f_sw is the hard-switching share.")]
+    blocks.append(_switch_sweep(sid, lp, cp, rp, r_n, c_n, v, fsw, w0))
+    peak_all = float(np.nanmax(edge["peak"]))
+    json = {"across": "switch", "voltage": v, "switching_frequency": fsw, "parasitic_c": cp,
+            "parasitic_l": lp, "loop_resistance": rp, "characteristic_impedance": z0,
+            "ring_frequency": f_ring, "r": r_n, "c": c_n, "damping": float(zeta[0]),
+            "damping_without": zeta_wo, "peak_voltage": float(edge["peak"][0]),
+            "peak_voltage_without": float(y_wo.max()),
+            "energy_turn_off": float(edge["e_off"][0]), "energy_turn_on": float(edge["e_on"][0]),
+            "resistor_power": float(edge["power"][0]),
+            "capacitor_voltage": float(edge["cap_peak"][0])}
+    if o["measured"]:
+        json["measured"] = dict(zip(("frequency", "with_added", "frequency_with_added"),
+                                    o["measured"]))
+    summary = (f"ζ {zeta[0]:.2f}, overshoot {fq(edge['overshoot'][0], 'V')} "
+               f"(without {fq(y_wo.max() - v, 'V')}), R {fq(edge['power'][0], 'W')}")
+    notes = [f"Switch node model: the supply of {fq(v, 'V')} feeds the node through the loop "
+             "inductance Lp and resistance Rp; the node carries Cp and the snubber R–C to "
+             "ground. The switch turning off is a step of the node's drive from 0 V to V, "
+             "applied from rest; the network is solved in the time domain (modified nodal "
+             "analysis, trapezoidal rule) for every Monte Carlo sample.",
+             "Damping ratio: of the least damped pole pair of the snubbed network, "
+             "ζ = −(p1 + p2)/(2·√(p1·p2)); 1 or more means no ringing."]
+    extra = {"blocks": blocks, "json": json, "summary": summary,
+             "peak_voltage_v": max(v, peak_all)}
+    return arrays, extra, phys.switch_network(True), notes
+
+
+def _how_cp(o):
+    if not o["measured"]:
+        return "as given"
+    f1, cadd, f2 = o["measured"]
+    return (f"ringing {fq(f1, 'Hz')}, {fq(f2, 'Hz')} with {fq(cadd, 'F')} added: "
+            "Cp = C_add/((f1/f2)² − 1)")
+
+
+def _switch_sweep(sid, lp, cp, rp, r, c, v, fsw, w0):
+    cs = np.logspace(math.log10(min(cp, c / 3)), math.log10(max(10 * cp, 3 * c)), SWEEP_POINTS)
+    vals = phys.switch_values(lp, cp, rp, cs.size, np.full(cs.size, r), cs)
+    p = phys.poles(phys.switch_network(True), vals, w0)
+    edge = phys.switch_edge(vals, v, fsw, phys.time_grid(p))
+    svg = charts.sweep(f"{sid}-tradeoff", cs, [
+        {"y": phys.damping_ratio(p), "label": "damping ratio ζ", "unit": "", "axis": "left"},
+        {"y": edge["power"], "label": "resistor power", "unit": "W", "axis": "right"}],
+        xlabel="Snubber capacitance", x_unit="F", marker_x=c)
+    return _figure("Trade-off: damping and resistor power against C", svg,
+                   f"R held at {fq(r, 'ohm')}; nominal parasitics. More C damps the ringing "
+                   "better but the resistor dissipates about C·V²·f_sw.")
+
+
+def _load(stage, batch):
+    o, sid = stage.options, stage.id
+    v, fsw, ac, line = o["voltage_v"], o["switching_hz"], o["ac"], o["line_hz"]
+    vpk, ll, rc, stray = _supply_peak(o), o["coil_l_h"], o["coil_r_ohm"], o["stray_f"]
+    i_a = phys.coil_current(v, ll, rc, ac, line)
+    rows, mc = batch.rows, batch.mc
+    r_all, c_all = batch.values["r"], batch.values["c"]
+    r_n, c_n = stage.parts["r"].value, stage.parts["c"].value
+    f_ring, z0 = float(phys.resonance_hz(ll, stray)), math.sqrt(ll / stray)
+    vals = phys.load_values(ll, rc, rows, r_ohm=r_all, c_f=c_all)
+    p = phys.poles(phys.load_network(True), vals, 1.0 / math.sqrt(ll * c_n))
+    zeta = phys.damping_ratio(p)
+    t = phys.time_grid(p, t_min=2.0 / line if ac else 0.0, t_max=10.0 / line if ac else math.inf)
+    idx = _display(t, t[-1])
+    env = phys.Envelope(idx)
+    kick = phys.load_kick(vals, i_a, ac, line, t, envelope=env,
+                          band_rows=np.arange(mc.start, mc.stop))
+    nom = phys.load_kick({k: a[:1] for k, a in vals.items()}, i_a, ac, line, t,
+                         want=("contact",))
+    bare = phys.load_values(ll, rc, 1, stray_f=stray)
+    t_wo = np.linspace(0.0, 2.5 / f_ring, 4 * DISPLAY_POINTS)
+    y_wo = phys.load_kick_unsnubbed(bare, i_a, ac, line, t_wo)[0]
+    zeta_wo = float(phys.damping_ratio(phys.poles(phys.load_network(False), bare,
+                                                  2 * math.pi * f_ring))[0])
+    # Closing: the capacitor, charged up to the supply's peak, discharges through R into the contact.
+    e_close = 0.5 * c_all * vpk ** 2
+    i_close = vpk / r_all
+    leak = (phys.load_leak(phys.load_values(ll, rc, rows, stray_f=stray, r_ohm=r_all,
+                                            c_f=c_all), v, line) if ac else None)
+    power = (kick["e_open"] + e_close) * fsw + (leak["power"] if ac else 0.0)
+    cap = np.maximum(np.maximum(kick["cap_peak"], vpk), leak["cap_peak"] if ac else 0.0)
+    arrays = {"damping": zeta, "overshoot": kick["peak"] - vpk, "resistor_power": power,
+              "capacitor_voltage": cap, "parasitic_c": _const(rows, stray),
+              "parasitic_l": _const(rows, ll), "characteristic_impedance": _const(rows, z0),
+              "ring_frequency": _const(rows, f_ring)}
+    supply = f"{fq(v, 'V')} rms" if ac else f"{fq(v, 'V')} DC"
+    w_with = charts.time_response(f"{sid}-kick", t[idx], nom["contact"][0][idx],
+                                  band=(env.lo, env.hi), ylabel="Contact voltage [V]",
+                                  nominal_label="with snubber (nominal)")
+    w_wo = charts.time_response(f"{sid}-kick-bare", t_wo, y_wo, ylabel="Contact voltage [V]",
+                                nominal_label="without snubber")
+    e_coil = 0.5 * ll * i_a ** 2
+    e_rs, e_rc = float(kick["e_open"][0]), float(kick["e_coil_r"][0])
+    e_c_end = 0.5 * c_n * kick["v_c_end"][0] ** 2
+    e_l_end = 0.5 * ll * kick["i_coil_end"][0] ** 2
+    energy = [["Stored in the coil, ½·L·I²", fq(e_coil, "J")],
+              ["Into the snubber resistor while opening", fq(e_rs, "J")],
+              ["Into the coil's own resistance", fq(e_rc, "J")],
+              ["Left on the snubber capacitor (goes into R at the next closing)",
+               fq(e_c_end, "J")],
+              ["Left in the coil at the end of the window", fq(e_l_end, "J")],
+              ["From the supply over the window (balance)",
+               fq(e_rs + e_rc + e_c_end + e_l_end - e_coil, "J")]]
+    derived = [["Coil", f"{fq(ll, 'H')}, {fq(rc, 'ohm')}", "as given"],
+               ["Current interrupted", fq(i_a, "A"),
+                "√2·V/|R + jωL| (AC, opening at the current peak)" if ac else "V/R"],
+               ["Stray capacitance across the contact", fq(stray, "F"),
+                "as given" if stray != phys.DEFAULT_STRAY_F else "assumed (default)"],
+               ["Ringing without the snubber", fq(f_ring, "Hz"), "f = 1/(2π·√(L·C_stray))"],
+               ["Characteristic impedance Z0", fq(z0, "ohm"), "Z0 = √(L/C_stray)"]]
+    stress = [["Damping ratio ζ", f"{zeta_wo:.4f}", f"{zeta[0]:.3f}", _rng(zeta[mc], "1")],
+              ["Peak contact voltage", fq(np.abs(y_wo).max(), "V"), fq(kick["peak"][0], "V"),
+               _rng(kick["peak"][mc], "V")],
+              ["Resistor energy per opening", "—", fq(kick["e_open"][0], "J"),
+               _rng(kick["e_open"][mc], "J")],
+              ["Resistor energy per closing (½·C·V_pk²)", "—", fq(e_close[0], "J"),
+               _rng(e_close[mc], "J")],
+              ["Capacitor discharge into the closing contact", "—", fq(i_close[0], "A"),
+               _rng(i_close[mc], "A")],
+              ["Resistor power at the switching frequency", "—", fq(power[0], "W"),
+               _rng(power[mc], "W")],
+              ["Capacitor peak voltage", "—", fq(cap[0], "V"), _rng(cap[mc], "V")]]
+    if ac:
+        stress.insert(5, ["Leakage through the snubber, contact open (rms)", "—",
+                          fq(leak["i_rms"][0], "A"), _rng(leak["i_rms"][mc], "A")])
+    blocks = [_figure("Contact voltage with the snubber", w_with,
+                      f"Voltage across the contact after it opens on {fq(i_a, 'A')} "
+                      f"({supply} supply), nominal with the min–max band of {batch.samples} "
+                      "Monte Carlo samples of R and C."),
+              _figure("Contact voltage without the snubber", w_wo,
+                      f"The coil's current charges only the {fq(stray, 'F')} stray capacitance: "
+                      f"it rings at {fq(f_ring, 'Hz')} towards {fq(np.abs(y_wo).max(), 'V')}. "
+                      "In practice the contact arcs, or the switch breaks down, well below "
+                      "that; this is what the snubber prevents."),
+              _tab("Derived parasitics", ["Quantity", "Value", "From"], derived, None),
+              _tab("Stresses", ["Quantity", "Without snubber", "With snubber (nominal)",
+                                "With snubber (Monte Carlo range)"], stress,
+                   "Resistor power = (opening + closing energy) × switching frequency"
+                   + (" + the leakage power as if the contact were always open (upper bound). "
+                      "The opening energy is integrated over the analysis window and so "
+                      "includes the leakage during it." if ac else ".")),
+              _tab("Where the coil's energy goes (nominal, one opening)", ["Energy", "Value"],
+                   energy, "Energies from the time-domain solution over the analysis window.")]
+    blocks.append(_load_sweep(sid, o, i_a, r_n, c_n))
+    peak_all = float(np.nanmax(kick["peak"]))
+    json = {"across": "inductive-load", "voltage": v, "ac": ac, "switching_frequency": fsw,
+            "coil_l": ll, "coil_r": rc, "current_interrupted": i_a, "coil_energy": e_coil,
+            "stray": stray, "ring_frequency_without": f_ring, "r": r_n, "c": c_n,
+            "damping": float(zeta[0]), "peak_voltage": float(kick["peak"][0]),
+            "peak_voltage_without": float(np.abs(y_wo).max()),
+            "energy_opening": e_rs, "energy_closing": float(e_close[0]),
+            "closing_current": float(i_close[0]), "resistor_power": float(power[0]),
+            "capacitor_voltage": float(cap[0])}
+    if ac:
+        json.update({"line_frequency": line, "leakage_current": float(leak["i_rms"][0]),
+                     "leakage_power": float(leak["power"][0])})
+    summary = (f"contact peak {fq(kick['peak'][0], 'V')} (without {fq(np.abs(y_wo).max(), 'V')}),"
+               f" R {fq(power[0], 'W')}")
+    notes = [("Inductive load model: the coil (L in series with its resistance) carries "
+              + ("the peak current of the AC supply when the contact opens (the worst case)"
+                 if ac else "V/R when the contact opens")
+              + ". By the compensation theorem the contact voltage is the response of the "
+              "network with the supply shorted and the contact removed to the current the "
+              "contact carried, injected across it; that current source and the branch across "
+              "the contact become an equivalent voltage source (Norton–Thevenin), solved in "
+              "the time domain for every Monte Carlo sample."),
+             "With the snubber fitted the stray capacitance is left out (far smaller than C; it "
+             "only slows the first jump of the contact voltage).",
+             "When the contact closes the snubber capacitor, charged up to the supply's peak, "
+             "discharges through R into the contact: peak current V/R, energy ½·C·V²."]
+    extra = {"blocks": blocks, "json": json, "summary": summary,
+             "peak_voltage_v": max(vpk, peak_all)}
+    return arrays, extra, phys.load_network(True), notes
+
+
+def _load_sweep(sid, o, i_a, r, c):
+    ll, rc, ac, line = o["coil_l_h"], o["coil_r_ohm"], o["ac"], o["line_hz"]
+    cs = np.logspace(math.log10(c / 10), math.log10(c * 10), SWEEP_POINTS)
+    vals = phys.load_values(ll, rc, cs.size, r_ohm=np.full(cs.size, r), c_f=cs)
+    p = phys.poles(phys.load_network(True), vals, 1.0 / math.sqrt(ll * c))
+    t = phys.time_grid(p, t_min=2.0 / line if ac else 0.0, t_max=10.0 / line if ac else math.inf)
+    kick = phys.load_kick(vals, i_a, ac, line, t)
+    power = (kick["e_open"] + 0.5 * cs * _supply_peak(o) ** 2) * o["switching_hz"]
+    svg = charts.sweep(f"{sid}-tradeoff", cs, [
+        {"y": kick["peak"], "label": "peak contact voltage", "unit": "V", "axis": "left"},
+        {"y": power, "label": "resistor power (switching)", "unit": "W", "axis": "right"}],
+        xlabel="Snubber capacitance", x_unit="F", marker_x=c)
+    return _figure("Trade-off: contact voltage and resistor power against C", svg,
+                   f"R held at {fq(r, 'ohm')}. More C lowers the kick but stores more energy, "
+                   "dumped into R at every closing" + (", and lets more current leak through "
+                                                       "the open contact." if ac else "."))
+
+
+def _rng(a: np.ndarray, unit: str) -> str:
+    a = a[np.isfinite(a)]
+    if not a.size:
+        return "—"
+    if unit == "1":
+        return f"{a.min():.3f} … {a.max():.3f}"
+    return f"{fq(a.min(), unit)} … {fq(a.max(), unit)}"
+
+
+def _figure(title, svg, caption):
+    return {"type": "figure", "title": title, "svg": svg, "width": "full", "caption": caption}
+
+
+def _tab(title, columns, rows, note):
+    return {"type": "table", "title": title, "columns": columns, "rows": rows, "note": note}

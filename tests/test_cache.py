@@ -1,0 +1,149 @@
+"""The build cache and the worker pool: a rebuild redoes only what changed, and
+neither the cache nor --jobs changes a byte of the output.
+
+Checks are "common practice" for build caches (content-addressed entries:
+same inputs -> same key, any changed input -> new key; a damaged entry is a
+miss, never an error) and for parallel builds (same result as serial).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from pathlib import Path
+
+import pytest
+
+import rcdoc.build as build
+from rcdoc.cache import CACHE_DIR_NAME, StageCache, canonical, stage_key
+from rcdoc.project import load_project
+
+PROJECT = """\
+[board]
+name = "Cache test board"
+revision = "B"
+date = "2026-03-01"
+
+[analysis]
+samples = 30
+seed = 5
+points_per_decade = 8
+
+[[stage]]
+id = "lp"
+title = "Input low-pass"
+kind = "rc-lowpass"
+source = "1 kohm"
+parts.r = { ref = "R1", value = "4k7", tolerance = "1%" }
+parts.c = { ref = "C1", value = "10 nF", tolerance = "5%", dielectric = "C0G" }
+
+[[stage]]
+id = "hp"
+title = "Pickup coupling"
+kind = "rc-highpass"
+parts.c = { ref = "C2", value = "1 uF", tolerance = "10%", dielectric = "C0G" }
+parts.r = { ref = "R2", value = "100k", tolerance = "1%" }
+"""
+
+
+@pytest.fixture
+def project_file(tmp_path):
+    path = tmp_path / "board.toml"
+    path.write_text(PROJECT, encoding="utf-8")
+    return path
+
+
+def _counting(monkeypatch):
+    """Count stage analyses run in this process."""
+    calls = []
+    real = build.analyse_stage
+
+    def counted(stage, analysis):
+        calls.append(stage.id)
+        return real(stage, analysis)
+    monkeypatch.setattr(build, "analyse_stage", counted)
+    return calls
+
+
+def test_rebuild_after_one_value_change_redoes_only_that_stage(project_file, tmp_path, monkeypatch):
+    calls = _counting(monkeypatch)
+    out = tmp_path / "out"
+    p = load_project(str(project_file))
+    first = build.analyse_project(p, draw=True, out_dir=out)
+    assert calls == ["lp", "hp"] and first.cached == []
+    entries = list((out / CACHE_DIR_NAME / "board").glob("*.pickle"))
+    assert len(entries) == 2
+
+    calls.clear()
+    again = build.analyse_project(load_project(str(project_file)), draw=True, out_dir=out)
+    assert calls == [] and again.cached == ["lp", "hp"]
+    # What came from the cache is what was computed.
+    assert again.contexts == first.contexts
+    assert [r.metrics[0].nominal for r in again.results] == [r.metrics[0].nominal for r in first.results]
+
+    project_file.write_text(PROJECT.replace('value = "100k"', 'value = "120k"'), encoding="utf-8")
+    calls.clear()
+    changed = build.analyse_project(load_project(str(project_file)), draw=True, out_dir=out)
+    assert calls == ["hp"] and changed.cached == ["lp"]
+    # Corner of an RC high-pass 1/(2πRC) moves down when R grows (textbook formula).
+    assert changed.results[1].metrics[0].nominal < first.results[1].metrics[0].nominal
+    # The stale entry of the old "hp" is pruned: one entry per stage remains.
+    assert len(list((out / CACHE_DIR_NAME / "board").glob("*.pickle"))) == 2
+
+
+def test_key_covers_stage_fields_and_analysis(project_file):
+    p = load_project(str(project_file))
+    lp, hp = p.stages
+    assert stage_key(lp, p) == stage_key(lp, load_project(str(project_file)))
+    assert stage_key(lp, p) != stage_key(hp, p)
+    r = lp.parts["r"]
+    nudged = dataclasses.replace(lp, parts={**lp.parts, "r": dataclasses.replace(r, value=r.value * (1 + 1e-15))})
+    assert stage_key(nudged, p) != stage_key(lp, p)       # exact floats: no rounding collisions
+    more = dataclasses.replace(p, analysis=dataclasses.replace(p.analysis, samples=31))
+    assert stage_key(lp, more) != stage_key(lp, p)
+    # Dict order does not matter, values do.
+    assert canonical({"a": 1.0, "b": 2.0}) == canonical({"b": 2.0, "a": 1.0})
+    assert canonical({"a": 1.0}) != canonical({"a": 1.0000000000000002})
+
+
+def test_damaged_entry_is_rebuilt(project_file, tmp_path, monkeypatch):
+    out = tmp_path / "out"
+    p = load_project(str(project_file))
+    build.analyse_project(p, draw=True, out_dir=out)
+    cache = StageCache.for_output(out, str(project_file))
+    victim = cache.root / f"{stage_key(p.stages[0], p)}.pickle"
+    victim.write_bytes(b"\x80\x05 not a pickle at all")
+    calls = _counting(monkeypatch)
+    again = build.analyse_project(p, draw=True, out_dir=out)
+    assert calls == ["lp"] and again.cached == ["hp"]
+    assert StageCache.for_output(out, str(project_file)).get(stage_key(p.stages[0], p)) is not None
+
+
+def test_failed_build_writes_no_cache(tmp_path, monkeypatch):
+    path = tmp_path / "board.toml"
+    path.write_text(PROJECT, encoding="utf-8")
+    p = load_project(str(path))
+
+    def broken(stage, analysis):
+        from rcdoc.errors import ProjectError
+        if stage.id == "hp":
+            raise ProjectError("made to fail")
+        return real(stage, analysis)
+    real = build.analyse_stage
+    monkeypatch.setattr(build, "analyse_stage", broken)
+    out = tmp_path / "out"
+    from rcdoc.errors import ProjectError
+    with pytest.raises(ProjectError) as info:
+        build.analyse_project(p, draw=True, out_dir=out)
+    assert "stage[2]" in str(info.value)      # the error names the stage that failed
+    assert not out.exists()
+
+
+def test_jobs_and_cache_give_the_same_bytes(project_file, tmp_path):
+    p = load_project(str(project_file))
+    serial = build.analyse_project(p, draw=True, jobs=1)
+    pooled = build.analyse_project(p, draw=True, jobs=2)
+    assert pooled.contexts == serial.contexts
+    a = build.write_outputs(serial, tmp_path / "a")
+    b = build.write_outputs(pooled, tmp_path / "b")
+    assert Path(a[1]).read_bytes() == Path(b[1]).read_bytes()
+    assert Path(a[0]).read_bytes() == Path(b[0]).read_bytes()
