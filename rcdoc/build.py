@@ -42,6 +42,13 @@ class Outcome:
     # Stages taken from the build cache, and stages analysed in this run.
     cached: list[str] = field(default_factory=list)
     computed: list[str] = field(default_factory=list)
+    # Cache entries to file once the outputs are written (a failed build writes nothing).
+    pending: Callable[[], None] | None = None
+
+    def commit_cache(self) -> None:
+        if self.pending is not None:
+            self.pending()
+            self.pending = None
 
     @property
     def status(self) -> str:
@@ -125,13 +132,14 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
                 for f in futures.values():
                     f.cancel()
                 raise
+    pending = None
     if cache is not None:
-        # Filed only once every stage succeeded: a failed build writes nothing.
-        for i in todo:
-            cache.put(keys[i], results[i], contexts[i])
-        cache.prune()
+        def pending():
+            for i in todo:
+                cache.put(keys[i], results[i], contexts[i])
+            cache.prune()
     return Outcome(project, results, contexts if draw else None, cached=cached,
-                   computed=[stages[i].id for i in todo])
+                   computed=[stages[i].id for i in todo], pending=pending)
 
 
 def write_atomic(path: Path, data: bytes) -> None:
@@ -140,6 +148,10 @@ def write_atomic(path: Path, data: bytes) -> None:
     try:
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
+        # mkstemp makes the file private; an output is as readable as any other file.
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)
         os.replace(tmp, path)
     except BaseException:
         if os.path.exists(tmp):
@@ -176,19 +188,27 @@ def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
                                stage_contexts=outcome.contexts)
     else:
         context = note_context(project, outcome.results, extra_appendix=extra_appendix)
+    made = [d for d in (out_dir, *out_dir.parents) if not d.exists()]
     out_dir.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=f".{stem}.", suffix=".pdf.tmp", dir=out_dir)
     os.close(fd)
     tmp_path = Path(tmp)
+    done = False
     try:
         render_pdf(context, tmp_path, template_dirs=list(template_dirs),
                    project_dir=Path(project.file).resolve().parent,
                    source_date_epoch=source_date_epoch(project))
         write_atomic(json_path, json_bytes)
         os.replace(tmp_path, pdf_path)
+        outcome.commit_cache()
+        done = True
     finally:
         if tmp_path.exists():
             tmp_path.unlink()
+        if not done:            # leave no folder this failed build created
+            for d in made:
+                if d.is_dir() and not any(d.iterdir()):
+                    d.rmdir()
     return pdf_path, json_path
 
 

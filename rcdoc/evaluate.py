@@ -280,7 +280,8 @@ class Evaluator:
 
     def rise_time(self) -> np.ndarray:
         y, t, fin = self.step, self.time_s, self.final_value
-        return _cross_time(y / fin[:, None], t, 0.9) - _cross_time(y / fin[:, None], t, 0.1)
+        r = y / fin[:, None]     # one normalised copy for both crossings
+        return _cross_time(r, t, 0.9) - _cross_time(r, t, 0.1)
 
     def settling(self, within: float | None = None, bits: int | None = None) -> np.ndarray:
         band = within if within is not None else 2.0 ** -(bits + 1)
@@ -292,7 +293,9 @@ class Evaluator:
         amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
         scale = np.abs(fin) if self.passband == "low" else \
             abs(amp) * 10 ** (self.passband_db / 20)
-        err = np.abs(y - fin[:, None]) / scale[:, None]
+        err = y - fin[:, None]   # |y − fin| / scale, in place: one (rows × T) temporary
+        np.abs(err, out=err)
+        err /= scale[:, None]
         outside = err > band
         last = len(t) - 1 - np.argmax(outside[:, ::-1], axis=1)
         rows = np.arange(self.rows)

@@ -229,8 +229,8 @@ def bode_figure(r: StageResult) -> dict:
             marks.append((m.at_hz, m.nominal, ph.nominal if ph else math.nan))
     svg = charts.bode(f"{r.stage.id}-bode", r.freqs_hz, gain, phase, band=r.band,
                       corner_hz=corner, corner_spread=spread_, marks=marks,
-                      limits=bode_limits(r), title="")
-    return {"type": "figure", "title": "Frequency response", "svg": svg, "width": "full",
+                      limits=bode_limits(r), title="", fmt="png")
+    return {"type": "figure", "title": "Frequency response", "image": svg, "width": "full",
             "caption": f"Gain and phase, nominal (line) with the spread of {r.samples} Monte "
                        "Carlo samples: outer band min–max, inner band 5–95 %. Shaded regions "
                        "are forbidden by the checks."}
@@ -262,10 +262,10 @@ def phasor_figure(r: StageResult) -> dict | None:
         angle = (math.degrees(math.atan2(ph["output"].imag, ph["output"].real))
                  if ph["output"] is not None else None)
     svg = charts.phasor(f"{r.stage.id}-phasor", vectors, reference_label=ref_label,
-                        freq_hz=ph["freq_hz"], angle_deg=angle)
+                        freq_hz=ph["freq_hz"], angle_deg=angle, fmt="png")
     what = ("the series current, common to every part on the path, is the reference direction"
             if ph["reference"] == "current" else "the source voltage is the reference direction")
-    return {"type": "figure", "title": f"Phasors at {fq(ph['freq_hz'], 'Hz')}", "svg": svg,
+    return {"type": "figure", "title": f"Phasors at {fq(ph['freq_hz'], 'Hz')}", "image": svg,
             "width": "full",
             "caption": f"Part voltages head to tail for a 1 V rms source at "
                        f"{fq(ph['freq_hz'], 'Hz')}; they add up to the source voltage; {what}."}
@@ -298,17 +298,17 @@ def time_figures(r: StageResult) -> list[dict]:
                       "label": f"settled {st.detail}: {fq(st.nominal, 's')}"}
         svg = charts.time_response(f"{r.stage.id}-step", s["t"], s["nominal"],
                                    band=(s["min"], s["max"]), window=window,
-                                   ylabel="Output [V]")
-        out.append({"type": "figure", "title": "Step response", "svg": svg, "width": "full",
+                                   ylabel="Output [V]", fmt="png")
+        out.append({"type": "figure", "title": "Step response", "image": svg, "width": "full",
                     "caption": f"Output for a {fq(r.stage.drive.amplitude_v, 'V')} step at t = 0, "
                                "nominal with the min–max band over the samples."})
     if r.pwm is not None:
         w = r.pwm
         svg = charts.time_response(f"{r.stage.id}-pwm", w["t"], w["nominal"],
                                    band=(w["min"], w["max"]),
-                                   ylabel="Output − its mean [V]", series=())
+                                   ylabel="Output − its mean [V]", series=(), fmt="png")
         d = r.stage.drive
-        out.append({"type": "figure", "title": "PWM ripple (steady state)", "svg": svg,
+        out.append({"type": "figure", "title": "PWM ripple (steady state)", "image": svg,
                     "width": "full",
                     "caption": f"One period of the output in steady state for a "
                                f"{fq(d.amplitude_v, 'V')} PWM drive at {fq(d.frequency_hz, 'Hz')}, "
@@ -330,9 +330,9 @@ def histogram_figures(r: StageResult) -> list[dict]:
         unit = METRICS[m.name].unit
         svg = charts.histogram(f"{r.stage.id}-hist-{len(out)}", s, nominal=m.nominal,
                                lo=v.min, hi=v.max, label=metric_label(m.name, m.at_hz, m.detail),
-                               unit=unit)
+                               unit=unit, fmt="png")
         out.append({"type": "figure", "title": f"Distribution: {metric_label(m.name, m.at_hz, m.detail)}",
-                    "svg": svg, "width": "half",
+                    "image": svg, "width": "half",
                     "caption": f"{s.size} samples; shaded: outside the limits."})
     return out
 
@@ -342,7 +342,7 @@ def stage_context(r: StageResult, project: Project) -> dict:
     kind = KINDS[st.kind]
     blocks: list[dict] = []
     recipe = kind.schematic(st)
-    blocks.append({"type": "figure", "title": "Schematic", "svg": sch.render_svg(recipe),
+    blocks.append({"type": "figure", "title": "Schematic", "image": sch.render_svg(recipe),
                    "width": "natural", "caption": _schematic_caption(r)})
     blocks.append(parts_table(r))
     from .alternatives import alternatives_block
@@ -419,7 +419,7 @@ def summary_rows(results: list[StageResult]) -> list[dict]:
     return rows
 
 
-def overview_svg(results: list[StageResult]) -> str | None:
+def overview_image(results: list[StageResult]) -> str | None:
     rows = []
     for r in results:
         m = next((m for m in r.metrics if m.name in ("corner", "f0", "corner_low",
@@ -432,7 +432,7 @@ def overview_svg(results: list[StageResult]) -> str | None:
                      "max": float(s.max()) if s.size else m.nominal, "status": r.status})
     if not rows:
         return None
-    return charts.corner_overview("board-overview", rows)
+    return charts.corner_overview("board-overview", rows, fmt="png")
 
 
 def method_appendix() -> list[dict]:
@@ -522,7 +522,7 @@ def note_context(project: Project, results: list[StageResult], *, extra_appendix
                      ["Hazardous voltage threshold", fq(b.hazardous_voltage_v, "V")]],
         "summary": {"columns": ["Stage", "Kind", "Key result (spread)", "Checks passed",
                                 "Verdict"], "rows": summary_rows(results)},
-        "overview_svg": overview_svg(results),
+        "overview_image": overview_image(results),
         "stages": (list(stage_contexts) if stage_contexts is not None
                    else [stage_context(r, project) for r in results]),
         "appendix": list(extra_appendix) + bom_appendix(project) + method_appendix(),

@@ -19,7 +19,7 @@ The context (the pipeline fills it; every string is plain text and is escaped)::
      "analysis": [[label, value], ...],
      "summary": {"columns": [str, ...],
                  "rows": [{"id": stage id, "cells": [str, ...]}, ...]},
-     "overview_svg": str | None,
+     "overview_image": str | None,
      "stages": [{"id": str, "title": str, "kind": str, "status": "pass"|"fail",
                  "notes": [paragraph, ...],
                  "safety": None | {"voltage": "325 V", "items": [str, ...]},
@@ -29,7 +29,7 @@ The context (the pipeline fills it; every string is plain text and is escaped)::
 
 A block is one of::
 
-    {"type": "figure", "title": str, "svg": str, "caption": str,
+    {"type": "figure", "title": str, "image": str | bytes, "caption": str,
      "width": "full"|"half"|"natural"}   # natural: own size, shrunk only to fit
     {"type": "table", "title": str, "columns": [str], "rows": [[str]], "note": str|None}
     {"type": "text", "title": str, "paragraphs": [str]}
@@ -39,7 +39,7 @@ first cell (the stage title) links to ``#stage-<id>``. A plain list of cells is
 accepted too; row *i* then links to ``stages[i]``. In every table a cell equal
 to ``"pass"`` or ``"fail"`` becomes a verdict badge and a cell that reads as a
 number (``"10.2 kHz"``, ``"-39.8 dB"``, ``"99.7 %"``) is right-aligned.
-Keys marked ``| None`` (and ``safety``, ``overview_svg``, ``appendix``,
+Keys marked ``| None`` (and ``safety``, ``overview_image``, ``appendix``,
 ``caption``, ``width``, ``note``, block ``title``) may also be left out.
 
 Figures are embedded as ``<img src="data:image/svg+xml;base64,...">``: on six
@@ -202,9 +202,15 @@ def _is_verdict(cell) -> bool:
 _XML_PROLOG_RE = re.compile(r"^\s*(?:<\?xml[^>]*\?>\s*)?(?:<!DOCTYPE[^>]*>\s*)?", re.S)
 
 
-def _figure_markup(svg: str, alt: str = "") -> Markup:
-    """The HTML that shows one SVG figure (the SVG comes from rcdoc's chart
-    and schematic modules, never from the user's file)."""
+def _figure_markup(svg: str | bytes, alt: str = "") -> Markup:
+    """The HTML that shows one figure: SVG text, or PNG bytes (charts are
+    raster: weasyprint lays out a chart's thousands of SVG paths about twenty
+    times slower than the same chart as a PNG). Figures come from rcdoc's chart
+    and schematic modules, never from the user's file."""
+    if isinstance(svg, bytes):
+        data = base64.b64encode(svg).decode("ascii")
+        return Markup('<img class="chart" src="data:image/png;base64,{}" alt="{}">').format(
+            Markup(data), alt)
     if FIGURE_EMBEDDING == "inline":
         return Markup(_XML_PROLOG_RE.sub("", svg, count=1))
     data = base64.b64encode(svg.encode("utf-8")).decode("ascii")

@@ -70,11 +70,15 @@ def test_rebuild_after_one_value_change_redoes_only_that_stage(project_file, tmp
     p = load_project(str(project_file))
     first = build.analyse_project(p, draw=True, out_dir=out)
     assert calls == ["lp", "hp"] and first.cached == []
+    # Entries are filed only once the outputs are written (write_outputs commits them).
+    assert not (out / CACHE_DIR_NAME).exists()
+    first.commit_cache()
     entries = list((out / CACHE_DIR_NAME / "board").glob("*.pickle"))
     assert len(entries) == 2
 
     calls.clear()
     again = build.analyse_project(load_project(str(project_file)), draw=True, out_dir=out)
+    again.commit_cache()
     assert calls == [] and again.cached == ["lp", "hp"]
     # What came from the cache is what was computed.
     assert again.contexts == first.contexts
@@ -83,6 +87,7 @@ def test_rebuild_after_one_value_change_redoes_only_that_stage(project_file, tmp
     project_file.write_text(PROJECT.replace('value = "100k"', 'value = "120k"'), encoding="utf-8")
     calls.clear()
     changed = build.analyse_project(load_project(str(project_file)), draw=True, out_dir=out)
+    changed.commit_cache()
     assert calls == ["hp"] and changed.cached == ["lp"]
     # Corner of an RC high-pass 1/(2πRC) moves down when R grows (textbook formula).
     assert changed.results[1].metrics[0].nominal < first.results[1].metrics[0].nominal
@@ -108,12 +113,13 @@ def test_key_covers_stage_fields_and_analysis(project_file):
 def test_damaged_entry_is_rebuilt(project_file, tmp_path, monkeypatch):
     out = tmp_path / "out"
     p = load_project(str(project_file))
-    build.analyse_project(p, draw=True, out_dir=out)
+    build.analyse_project(p, draw=True, out_dir=out).commit_cache()
     cache = StageCache.for_output(out, str(project_file))
     victim = cache.root / f"{stage_key(p.stages[0], p)}.pickle"
     victim.write_bytes(b"\x80\x05 not a pickle at all")
     calls = _counting(monkeypatch)
     again = build.analyse_project(p, draw=True, out_dir=out)
+    again.commit_cache()
     assert calls == ["lp"] and again.cached == ["hp"]
     assert StageCache.for_output(out, str(project_file)).get(stage_key(p.stages[0], p)) is not None
 

@@ -36,7 +36,6 @@ SNUBBER = (
     'ringing = { frequency = "62 MHz", with_added = "220 pF", frequency_with_added = "31 MHz" }\n'
 )
 
-CACHE_DIR = ".rcdoc-cache"
 
 # Known bytes of an earlier note; a failed build must leave them alone.
 OLD_PDF = b"%PDF-1.7\n% an earlier note, not to be touched\n%%EOF\n"
@@ -432,11 +431,6 @@ def _tree(root: Path) -> dict[str, bytes]:
     """Every file under ``root`` with its bytes (what "nothing written" compares)."""
     out = {}
     for path in sorted(root.rglob("*")):
-        if CACHE_DIR in path.parts:
-            # The analysis cache (rcdoc/cache.py) may keep the results of an
-            # analysis that succeeded before a template failed; it is not
-            # output, and a later build checks its entries before using them.
-            continue
         if path.is_file() and not path.is_symlink():
             out[str(path.relative_to(root))] = path.read_bytes()
         elif path.is_dir():

@@ -46,11 +46,11 @@ def _stage(sid: str, title: str, status: str, safety=None) -> dict:
         "notes": [f"Design intent of {title}."],
         "safety": safety,
         "blocks": [
-            {"type": "figure", "title": "Schematic", "svg": _svg(f"{sid}-sch", "#333333"),
+            {"type": "figure", "title": "Schematic", "image": _svg(f"{sid}-sch", "#333333"),
              "caption": "Series R, shunt C.", "width": "half"},
-            {"type": "figure", "title": "Phasors", "svg": _svg(f"{sid}-ph", "#1f3a5f"),
+            {"type": "figure", "title": "Phasors", "image": _svg(f"{sid}-ph", "#1f3a5f"),
              "caption": "At the corner.", "width": "half"},
-            {"type": "figure", "title": "Bode plot", "svg": _svg(f"{sid}-bode", "#2e7d4f"),
+            {"type": "figure", "title": "Bode plot", "image": _svg(f"{sid}-bode", "#2e7d4f"),
              "caption": "Band over the samples.", "width": "full"},
             {"type": "table", "title": "Checks",
              "columns": ["Metric", "Requirement", "Worst", "Verdict"],
@@ -84,7 +84,7 @@ def make_context() -> dict:
                 {"id": "mains-snubber", "cells": ["Relay contact snubber", "3.1 kHz", "97.5 %", "fail"]},
             ],
         },
-        "overview_svg": _svg("overview", "#000000"),
+        "overview_image": _svg("overview", "#000000"),
         "stages": stages,
         "appendix": [{"title": "Method", "blocks": [
             {"type": "text", "title": "Monte Carlo", "paragraphs": ["Samples drawn per part."]}]}],

@@ -131,9 +131,21 @@ def _new_figure(height_in: float) -> Figure:
     return fig
 
 
-def _finish(fig: Figure, fig_id: str, title: str) -> str:
+#: Resolution of raster charts: sharp in print at the note's 16 cm width.
+PNG_DPI = 200
+
+
+def _finish(fig: Figure, fig_id: str, title: str, fmt: str = "svg") -> str | bytes:
+    """SVG text (ids prefixed with fig_id), or PNG bytes when ``fmt == "png"``."""
     if title:
         fig.suptitle(title)
+    if fmt == "png":
+        raw = io.BytesIO()
+        # No "Software" entry and no dates: the same chart gives the same bytes.
+        fig.savefig(raw, format="png", dpi=PNG_DPI, metadata={"Software": None})
+        return raw.getvalue()
+    if fmt != "svg":
+        raise ValueError(f"fmt must be 'svg' or 'png', not {fmt!r}")
     buf = io.StringIO()
     fig.savefig(buf, format="svg", metadata={"Date": None})
     return _prefix_ids(buf.getvalue(), _id_prefix(fig_id))
@@ -287,7 +299,7 @@ def _phase_step(span: float) -> float:
 
 def bode(fig_id: str, freqs_hz, gain_db, phase_deg, *, band: Mapping | None = None,
          corner_hz: float | None = None, corner_spread: Sequence[float] | None = None,
-         marks: Sequence = (), limits: Sequence[Mapping] = (), title: str = "") -> str:
+         marks: Sequence = (), limits: Sequence[Mapping] = (), title: str = "", fmt: str = "svg") -> str | bytes:
     """Magnitude (top) and phase (bottom) against a shared log-frequency axis.
 
     `band` holds arrays "gain_min", "gain_max", "gain_lo", "gain_hi",
@@ -417,7 +429,7 @@ def bode(fig_id: str, freqs_hz, gain_db, phase_deg, *, band: Mapping | None = No
         ax_g.tick_params(labelbottom=False)
         fig.align_ylabels([ax_g, ax_p])
         _legend(fig, handles)
-        return _finish(fig, fig_id, title)
+        return _finish(fig, fig_id, title, fmt)
 
 
 def _free_side(ax, log_f: np.ndarray, curve: np.ndarray, freq: float, y: float):
@@ -537,7 +549,7 @@ _PHASOR_STYLE = {
 
 
 def phasor(fig_id: str, vectors: Sequence[Mapping], *, reference_label: str, freq_hz: float,
-           angle_deg: float | None = None, title: str = "") -> str:
+           angle_deg: float | None = None, title: str = "", fmt: str = "svg") -> str | bytes:
     """Phasors drawn tail to head in the complex plane, with the reference along +x.
 
     `vectors`: {"label", "value" (complex), "kind" ("R", "C", "L", "source",
@@ -614,7 +626,7 @@ def phasor(fig_id: str, vectors: Sequence[Mapping], *, reference_label: str, fre
         ax.set_ylabel("Imaginary [V]")
         fig.legend(handles=handles, loc="outside right upper", title=f"phasors at {_eng(freq_hz, 'Hz')}",
                    alignment="left")
-        return _finish(fig, fig_id, title)
+        return _finish(fig, fig_id, title, fmt)
 
 
 # ---------------------------------------------------------------------------
@@ -629,7 +641,7 @@ _ROLE_STYLE = {
 
 def time_response(fig_id: str, t_s, nominal, *, band=None, window: Mapping | None = None,
                   series: Sequence[Mapping] = (), ylabel: str = "Output [V]", title: str = "",
-                  nominal_label: str = "nominal") -> str:
+                  nominal_label: str = "nominal", fmt: str = "svg") -> str | bytes:
     """A waveform against time with its min-max band, settling window and extra curves.
 
     `band` = (lo, hi) arrays on `t_s`; `window` = {"t", "lo", "hi", "label"}:
@@ -681,7 +693,7 @@ def time_response(fig_id: str, t_s, nominal, *, band=None, window: Mapping | Non
         ax.set_xlabel("Time [s]")
         ax.set_ylabel(ylabel)
         _legend(fig, handles)
-        return _finish(fig, fig_id, title)
+        return _finish(fig, fig_id, title, fmt)
 
 
 # ---------------------------------------------------------------------------
@@ -689,7 +701,7 @@ def time_response(fig_id: str, t_s, nominal, *, band=None, window: Mapping | Non
 
 
 def histogram(fig_id: str, samples, *, nominal: float, lo: float | None = None, hi: float | None = None,
-              label: str, unit: str, title: str = "") -> str:
+              label: str, unit: str, title: str = "", fmt: str = "svg") -> str | bytes:
     """Histogram of Monte Carlo samples with the nominal and the limits [lo, hi]."""
     _check_fig_id(fig_id)
     x = _arr(samples, "samples")
@@ -740,14 +752,14 @@ def histogram(fig_id: str, samples, *, nominal: float, lo: float | None = None, 
         ax.set_xlabel(f"{label} [{unit}]" if unit else label)
         ax.set_ylabel("Samples per bin")
         _legend(fig, handles)
-        return _finish(fig, fig_id, title)
+        return _finish(fig, fig_id, title, fmt)
 
 
 # ---------------------------------------------------------------------------
 # Corner frequencies of all stages
 
 
-def corner_overview(fig_id: str, rows: Sequence[Mapping], title: str = "") -> str:
+def corner_overview(fig_id: str, rows: Sequence[Mapping], title: str = "", *, fmt: str = "svg") -> str | bytes:
     """One row per stage on a shared log-frequency axis: nominal and min-max, by status."""
     _check_fig_id(fig_id)
     parsed = []
@@ -795,7 +807,7 @@ def corner_overview(fig_id: str, rows: Sequence[Mapping], title: str = "") -> st
                 handles.append(Line2D([], [], color=color, marker="o", markersize=5, linewidth=3.0,
                                       alpha=1.0, label=f"{status}: nominal and min–max"))
         _legend(fig, handles)
-        return _finish(fig, fig_id, title)
+        return _finish(fig, fig_id, title, fmt)
 
 
 # ---------------------------------------------------------------------------
@@ -812,7 +824,7 @@ def _axis_label(curves: list) -> str:
 
 
 def sweep(fig_id: str, x, curves: Sequence[Mapping], *, xlabel: str, x_unit: str, logx: bool = True,
-          marker_x: float | None = None, title: str = "") -> str:
+          marker_x: float | None = None, title: str = "", fmt: str = "svg") -> str | bytes:
     """Curves against one swept quantity, on a left and optionally a right y axis.
 
     `curves` = [{"y", "label", "unit", "axis": "left"|"right"}]; `marker_x`
@@ -873,4 +885,4 @@ def sweep(fig_id: str, x, curves: Sequence[Mapping], *, xlabel: str, x_unit: str
                                   label=f"chosen {_eng(marker_x, x_unit)}"))
         ax.set_xlabel(f"{xlabel} [{x_unit}]" if x_unit else xlabel)
         _legend(fig, handles)
-        return _finish(fig, fig_id, title)
+        return _finish(fig, fig_id, title, fmt)

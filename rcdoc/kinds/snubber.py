@@ -326,7 +326,7 @@ def _switch(stage, batch):
     wave = charts.time_response(
         f"{sid}-ring", t[idx], nominal[idx], band=(env.lo, env.hi),
         series=[{"t": t_wo, "y": y_wo, "label": "without snubber", "role": "without"}],
-        ylabel="Switch node [V]", nominal_label="with snubber (nominal)")
+        ylabel="Switch node [V]", nominal_label="with snubber (nominal)", fmt="png")
     derived = [["Parasitic capacitance Cp", fq(cp, "F"), _how_cp(o)],
                ["Loop inductance Lp", fq(lp, "H"), "Lp = 1/((2π·f)²·Cp)"],
                ["Characteristic impedance Z0", fq(z0, "ohm"), "Z0 = √(Lp/Cp)"],
@@ -402,7 +402,7 @@ def _switch_sweep(sid, lp, cp, rp, r, c, v, fsw, w0):
     svg = charts.sweep(f"{sid}-tradeoff", cs, [
         {"y": phys.damping_ratio(p), "label": "damping ratio ζ", "unit": "", "axis": "left"},
         {"y": edge["power"], "label": "resistor power", "unit": "W", "axis": "right"}],
-        xlabel="Snubber capacitance", x_unit="F", marker_x=c)
+        xlabel="Snubber capacitance", x_unit="F", marker_x=c, fmt="png")
     return _figure("Trade-off: damping and resistor power against C", svg,
                    f"R held at {fq(r, 'ohm')}; nominal parasitics. More C damps the ringing "
                    "better but the resistor dissipates about C·V²·f_sw.")
@@ -446,9 +446,9 @@ def _load(stage, batch):
     supply = f"{fq(v, 'V')} rms" if ac else f"{fq(v, 'V')} DC"
     w_with = charts.time_response(f"{sid}-kick", t[idx], nom["contact"][0][idx],
                                   band=(env.lo, env.hi), ylabel="Contact voltage [V]",
-                                  nominal_label="with snubber (nominal)")
+                                  nominal_label="with snubber (nominal)", fmt="png")
     w_wo = charts.time_response(f"{sid}-kick-bare", t_wo, y_wo, ylabel="Contact voltage [V]",
-                                nominal_label="without snubber")
+                                nominal_label="without snubber", fmt="png")
     e_coil = 0.5 * ll * i_a ** 2
     e_rs, e_rc = float(kick["e_open"][0]), float(kick["e_coil_r"][0])
     e_c_end = 0.5 * c_n * kick["v_c_end"][0] ** 2
@@ -544,7 +544,7 @@ def _load_sweep(sid, o, i_a, r, c):
     svg = charts.sweep(f"{sid}-tradeoff", cs, [
         {"y": kick["peak"], "label": "peak contact voltage", "unit": "V", "axis": "left"},
         {"y": power, "label": "resistor power (switching)", "unit": "W", "axis": "right"}],
-        xlabel="Snubber capacitance", x_unit="F", marker_x=c)
+        xlabel="Snubber capacitance", x_unit="F", marker_x=c, fmt="png")
     return _figure("Trade-off: contact voltage and resistor power against C", svg,
                    f"R held at {fq(r, 'ohm')}. More C lowers the kick but stores more energy, "
                    "dumped into R at every closing" + (", and lets more current leak through "
@@ -561,7 +561,7 @@ def _rng(a: np.ndarray, unit: str) -> str:
 
 
 def _figure(title, svg, caption):
-    return {"type": "figure", "title": title, "svg": svg, "width": "full", "caption": caption}
+    return {"type": "figure", "title": title, "image": svg, "width": "full", "caption": caption}
 
 
 def _tab(title, columns, rows, note):
