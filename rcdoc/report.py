@@ -329,9 +329,20 @@ def pdf_identifier(board_name: str, revision: str) -> bytes:
 # Rendering
 
 
+class _ConfinedLoader(jinja2.FileSystemLoader):
+    """A file loader that will not follow a link out of its template folders."""
+
+    def get_source(self, environment, template):
+        source, filename, uptodate = super().get_source(environment, template)
+        real = Path(filename).resolve()
+        if not any(real.is_relative_to(Path(d).resolve()) for d in self.searchpath):
+            raise jinja2.TemplateNotFound(f"{template} (it leads outside the template folders)")
+        return source, filename, uptodate
+
+
 def _environment(search_path: Sequence[Path]) -> jinja2.Environment:
     env = jinja2.Environment(
-        loader=jinja2.FileSystemLoader([str(p) for p in search_path]),
+        loader=_ConfinedLoader([str(p) for p in search_path]),
         autoescape=True,  # everything: a user's text may hold HTML
         undefined=jinja2.StrictUndefined,  # a misspelt name is an error, not blank
         trim_blocks=True,

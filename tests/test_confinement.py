@@ -222,3 +222,20 @@ def test_fetcher_refuses_a_folder_a_fifo_and_a_parent_escape(tmp_path):
         assert fetch.refused[-1] == url
     assert fetch.fetched == [(inside / "a.css").as_uri()]
     shutil.rmtree(inside)
+
+
+def test_a_template_link_leading_outside_is_not_followed(tmp_path):
+    # A --templates folder holding a symbolic link to a file elsewhere must not
+    # make jinja read that file (common practice: confine by resolved path).
+    import jinja2
+
+    from rcdoc.report import _environment
+    secret = tmp_path / "elsewhere" / "secret.html"
+    secret.parent.mkdir()
+    secret.write_text("SECRET", encoding="utf-8")
+    user = tmp_path / "templates"
+    user.mkdir()
+    (user / "_cover.html").symlink_to(secret)
+    env = _environment([user])
+    with pytest.raises(jinja2.TemplateNotFound):
+        env.get_template("_cover.html")
