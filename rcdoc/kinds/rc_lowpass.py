@@ -2,38 +2,22 @@
 
 from __future__ import annotations
 
-import math
-
-from ..figures import schematic as sch
-from ..network import GROUND, Element
+from . import _first_order as first
 from . import base
 
 NAME = "rc-lowpass"
 OPTIONS: tuple[str, ...] = ()
 PASSBAND = "low"
-ROLES = ("r", "c")
+ROLES = first.ROLES
 parse_options = base.no_options
-
-
-def check_roles(parts, options, path):
-    base.require_roles(parts, ROLES, path)
-
-
-def metrics(options, drive):
-    return base.standard_metrics(drive)
+check_roles = first.check_roles
+metrics = first.metrics
+characteristic_hz = first.characteristic_hz
 
 
 def build(stage):
-    return base.wrap(stage, [Element("r", "R", "in", "out"), Element("c", "C", "out", GROUND)],
-                     path=("r", "c"))
-
-
-def characteristic_hz(stage):
-    # First-order corner, fc = 1/(2πRC).
-    return 1.0 / (2 * math.pi * stage.parts["r"].value * stage.parts["c"].value)
+    return first.build(stage, series="r", shunt="c")
 
 
 def schematic(stage):
-    p = stage.parts
-    return sch.ladder([("series", "R", base.label(p["r"])), ("shunt", "C", base.label(p["c"]))],
-                      source=base.source_labels(stage), load=base.load_labels(stage))
+    return first.schematic(stage, series="r", shunt="c")
