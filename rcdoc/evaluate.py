@@ -118,8 +118,7 @@ class Evaluator:
         below = g < thr[:, None]
         rows = np.arange(self.rows)
         if side == "up":        # gain falls with frequency above the passband
-            start = 0 if self.passband == "low" else None
-            if start is None:
+            if self.passband != "low":      # only the fall after the peak counts
                 peak = np.argmax(g, axis=1)
                 below = below & (np.arange(len(f))[None, :] > peak[:, None])
             j = np.argmax(below, axis=1)
