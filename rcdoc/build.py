@@ -5,10 +5,12 @@ parses options and prints. Outputs are written atomically, after everything
 that can fail has been done, so a failed build leaves existing files untouched.
 
 Speed: each stage is analysed and, for a build, drawn into its note blocks
+and (with ``jobs`` > 1) rendered into its own part of the PDF (rcdoc.assemble)
 as one unit of work. Units run in a pool of processes (``jobs``; 'forkserver'
 or 'spawn' start, never threads: matplotlib is not thread-safe), and each
 finished unit is filed in the build cache (rcdoc.cache) under a hash of
-everything it depends on, so a rebuild redoes only the stages that changed.
+everything it depends on, so a rebuild redoes only the stages that changed
+and lays out only their pages, the front matter and the appendix.
 Results are gathered in stage order, so the output does not depend on
 ``jobs`` or on what came from the cache.
 
@@ -42,6 +44,8 @@ class Outcome:
     # Stages taken from the build cache, and stages analysed in this run.
     cached: list[str] = field(default_factory=list)
     computed: list[str] = field(default_factory=list)
+    # Per-stage rendered note parts (rcdoc.assemble), or None where not made yet.
+    parts: list | None = None
     # Cache entries to file once the outputs are written (a failed build writes nothing).
     pending: Callable[[], None] | None = None
 
@@ -55,8 +59,9 @@ class Outcome:
         return "fail" if any(r.status != "pass" for r in self.results) else "pass"
 
 
-def _stage_unit(stage: Stage, project: Project, draw: bool):
-    """One unit of work, in this process or a worker: analyse (and draw) one stage.
+def _stage_unit(stage: Stage, project: Project, draw: bool, part_job=None):
+    """One unit of work, in this process or a worker: analyse (and draw) one stage,
+    and with ``part_job`` render its part of the note (rcdoc.assemble).
 
     A ProjectError comes back as plain data: its location would not survive pickling.
     """
@@ -66,9 +71,27 @@ def _stage_unit(stage: Stage, project: Project, draw: bool):
         if draw:
             from .note import stage_context
             context = stage_context(result, project)
-        return ("ok", result, context)
+        return ("ok", result, context, _part_unit(context, part_job))
     except ProjectError as exc:
         return ("error", exc.message, exc.path, exc.file)
+
+
+def _part_unit(context, part_job):
+    """A stage's part of the note, or None. Any failure here (a template
+    mistake, say) leaves the part to the final render, which reports it."""
+    if part_job is None or context is None:
+        return None
+    head, template_dirs, project_dir, epoch, key = part_job
+    try:
+        import logging
+        # As in the main process, weasyprint's messages stay in its logger
+        # (it has a NullHandler); a worker's root logger may print them.
+        logging.getLogger("weasyprint").propagate = False
+        from .assemble import stage_part
+        return stage_part(head, context, template_dirs=template_dirs, project_dir=project_dir,
+                          source_date_epoch=epoch, key=key)
+    except Exception:  # noqa: BLE001 - rendered again, and reported, in write_outputs
+        return None
 
 
 def _pool_context():
@@ -78,22 +101,36 @@ def _pool_context():
         ctx = multiprocessing.get_context("forkserver")
         # Workers fork from a server that has imported rcdoc once, and do not
         # re-run the parent's __main__ (the command line).
-        ctx.set_forkserver_preload(["rcdoc.build", "rcdoc.note"])
+        ctx.set_forkserver_preload(["rcdoc.build", "rcdoc.note", "rcdoc.assemble"])
         return ctx
     return multiprocessing.get_context("spawn")
 
 
+def _part_keys(project: Project, template_dirs, keys=None) -> list[str]:
+    """The key each stage's part of the note must carry (rcdoc.assemble.chunk_key)."""
+    from .assemble import chunk_key
+    epoch = source_date_epoch(project)
+    project_dir = Path(project.file).resolve().parent
+    return [chunk_key(keys[i] if keys and keys[i] else stage_key(st, project),
+                      list(template_dirs), epoch, project_dir)
+            for i, st in enumerate(project.stages)]
+
+
 def analyse_project(project: Project, *, progress: Callable[[str], None] | None = None,
-                    jobs: int = 1, draw: bool = False, out_dir: Path | None = None) -> Outcome:
+                    jobs: int = 1, draw: bool = False, out_dir: Path | None = None,
+                    template_dirs=()) -> Outcome:
     """Analyse every stage; with ``draw`` also make each stage's note blocks.
 
-    ``jobs`` > 1 runs stages in that many worker processes. ``out_dir`` (with
-    ``draw``) enables the build cache in ``out_dir/.rcdoc-cache``.
+    ``jobs`` > 1 runs stages in that many worker processes, which (with
+    ``draw``) also render each stage's part of the note with ``template_dirs``
+    (rcdoc.assemble). ``out_dir`` (with ``draw``) enables the build cache in
+    ``out_dir/.rcdoc-cache``.
     """
     stages = list(project.stages)
     n = len(stages)
     results: list = [None] * n
     contexts: list = [None] * n
+    parts: list = [None] * n
     cache = StageCache.for_output(out_dir, project.file) if (draw and out_dir is not None) else None
     keys = [stage_key(st, project) for st in stages] if cache is not None else [None] * n
     todo = []
@@ -102,17 +139,37 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
         hit = cache.get(keys[i]) if cache is not None else None
         if hit is not None:
             results[i], contexts[i] = hit
+            parts[i] = cache.parts.get(keys[i])
             cached.append(st.id)
         else:
             todo.append(i)
+    original_parts = list(parts)
 
     def settle(i: int, answer) -> None:
         if answer[0] == "error":
             _, message, path, file = answer
             raise ProjectError(message, path=path or stages[i].path, file=file).located(project.file)
-        results[i], contexts[i] = answer[1], answer[2]
+        results[i], contexts[i], parts[i] = answer[1], answer[2], answer[3]
 
-    workers = max(1, min(int(jobs or 1), len(todo)))
+    # Stage parts of the note are rendered where there are workers to spread
+    # them over; a serial build leaves them to write_outputs (same bytes).
+    part_jobs: list = [None] * n
+    redo: list[int] = []
+    if draw and int(jobs or 1) > 1:
+        from .assemble import can_assemble, project_head
+        try:
+            use_parts = can_assemble(list(template_dirs))
+        except ProjectError:
+            use_parts = False
+        if use_parts:
+            head = project_head(project)
+            pkeys = _part_keys(project, template_dirs, keys)
+            epoch = source_date_epoch(project)
+            project_dir = Path(project.file).resolve().parent
+            part_jobs = [(head, list(template_dirs), project_dir, epoch, k) for k in pkeys]
+            redo = [i for i in range(n) if i not in todo
+                    and (parts[i] is None or parts[i].get("key") != pkeys[i])]
+    workers = max(1, min(int(jobs or 1), len(todo) + len(redo)))
     if workers == 1:
         for i in todo:
             if progress:
@@ -124,22 +181,27 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
             for i in todo:
                 if progress:
                     progress(stages[i].id)
-                futures[i] = pool.submit(_stage_unit, stages[i], project, draw)
+                futures[i] = pool.submit(_stage_unit, stages[i], project, draw, part_jobs[i])
+            redone = {i: pool.submit(_part_unit, contexts[i], part_jobs[i]) for i in redo}
             try:
                 for i in todo:              # in stage order: the first error is the first stage's
                     settle(i, futures[i].result())
+                for i in redo:
+                    parts[i] = redone[i].result()
             except BaseException:
-                for f in futures.values():
+                for f in (*futures.values(), *redone.values()):
                     f.cancel()
                 raise
     pending = None
     if cache is not None:
         def pending():
-            for i in todo:
-                cache.put(keys[i], results[i], contexts[i])
+            for i in range(n):
+                if i in todo or parts[i] is not original_parts[i]:
+                    cache.put(keys[i], results[i], contexts[i], parts[i])
             cache.prune()
     return Outcome(project, results, contexts if draw else None, cached=cached,
-                   computed=[stages[i].id for i in todo], pending=pending)
+                   computed=[stages[i].id for i in todo], parts=parts if draw else None,
+                   pending=pending)
 
 
 def write_atomic(path: Path, data: bytes) -> None:
@@ -195,9 +257,14 @@ def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
     tmp_path = Path(tmp)
     done = False
     try:
-        render_pdf(context, tmp_path, template_dirs=list(template_dirs),
-                   project_dir=Path(project.file).resolve().parent,
-                   source_date_epoch=source_date_epoch(project))
+        used = render_pdf(context, tmp_path, template_dirs=list(template_dirs),
+                          project_dir=Path(project.file).resolve().parent,
+                          source_date_epoch=source_date_epoch(project),
+                          stage_parts=outcome.parts,
+                          stage_keys=(_part_keys(project, template_dirs)
+                                      if outcome.contexts is not None else None))
+        if used is not None and outcome.parts is not None:
+            outcome.parts[:] = used     # filed in the cache by commit_cache below
         write_atomic(json_path, json_bytes)
         os.replace(tmp_path, pdf_path)
         outcome.commit_cache()

@@ -2,7 +2,9 @@
 
 What it is for: let a rebuild after one value change redo only the stage that
 changed. Each entry holds one stage's StageResult (from which the JSON
-summary entries are made) and its note context (tables and SVG figures),
+summary entries are made), its note context (tables and SVG figures) and
+its rendered part of the note's PDF (rcdoc.assemble; that part carries its
+own key, which adds the templates, the date and the renderer's versions),
 filed under a key that hashes everything they depend on: every field of the
 stage, the analysis settings, the board, rcdoc's version and the source of
 every rcdoc module (so any code change, including the stage kind's module,
@@ -123,6 +125,8 @@ class StageCache:
     def __init__(self, root: Path):
         self.root = Path(root)
         self.used: set[str] = set()
+        # The rendered note part (rcdoc.assemble) of each entry read, by key.
+        self.parts: dict[str, dict] = {}
         self.hits = 0
         self.misses = 0
 
@@ -142,16 +146,21 @@ class StageCache:
             if (isinstance(entry, dict) and entry.get("format") == _FORMAT
                     and entry.get("key") == key and "result" in entry and "context" in entry):
                 self.hits += 1
+                if isinstance(entry.get("part"), dict):
+                    self.parts[key] = entry["part"]
                 return entry["result"], entry["context"]
         except Exception:  # noqa: BLE001 - a damaged entry is rebuilt, whatever the damage
             pass
         self.misses += 1
         return None
 
-    def put(self, key: str, result, context) -> None:
+    def put(self, key: str, result, context, part: dict | None = None) -> None:
+        """File an entry; ``part`` is the stage's rendered note part (its own
+        key inside says which templates, date and renderer it was made with)."""
         self.used.add(key)
         data = pickle.dumps({"format": _FORMAT, "key": key, "result": result,
-                             "context": context}, protocol=pickle.HIGHEST_PROTOCOL)
+                             "context": context, "part": part},
+                            protocol=pickle.HIGHEST_PROTOCOL)
         try:
             _write_atomic(self._path(key), data)
         except OSError:

@@ -113,7 +113,7 @@ def cmd_build(args) -> int:
         # Stages are analysed and drawn together (in --jobs processes), cached in out_dir.
         outcome = analyse_project(project, progress=_progress_for(console, project.file),
                                   jobs=args.jobs or os.cpu_count() or 1,
-                                  draw=True, out_dir=out_dir)
+                                  draw=True, out_dir=out_dir, template_dirs=template_dirs)
         extra = []
         if args.since:
             from .diff import compare, since_section

@@ -432,8 +432,15 @@ def render_pdf(
     template_dirs: Sequence[Path] = (),
     project_dir: Path | None = None,
     source_date_epoch: int | None = None,
-) -> None:
+    stage_parts=None,
+    stage_keys=None,
+):
     """Render the note and write it atomically to ``out_path``.
+
+    With the shipped note.html the note is rendered in parts and assembled
+    (rcdoc.assemble): ``stage_parts`` are stage parts made earlier (by the
+    build's workers or its cache), used where their key equals ``stage_keys``.
+    Returns the stage parts used (None when rendered as one document).
 
     ``template_dirs`` are searched before the shipped templates. Files may be
     read only from those folders and ``project_dir``. ``source_date_epoch``
@@ -448,6 +455,15 @@ def render_pdf(
             raise ProjectError(
                 f"SOURCE_DATE_EPOCH must be whole seconds, got {os.environ['SOURCE_DATE_EPOCH']!r}"
             ) from exc
+    from rcdoc import assemble  # noqa: PLC0415 - assemble imports this module
+
+    used = None
+    if assemble.can_assemble(template_dirs):
+        pdf_bytes, used = assemble.render_note(
+            context, template_dirs=template_dirs, project_dir=project_dir,
+            source_date_epoch=source_date_epoch, stage_parts=stage_parts, stage_keys=stage_keys)
+        _write_bytes(out_path, pdf_bytes)
+        return used
     html = render_html(
         context, template_dirs=template_dirs, source_date_epoch=source_date_epoch
     )
@@ -470,6 +486,34 @@ def render_pdf(
     try:
         with os.fdopen(fd, "wb") as fh, _font_timestamp(source_date_epoch or 0):
             document.write_pdf(fh, pdf_identifier=pdf_id, cache=cache)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.chmod(tmp_name, 0o644)
+        os.replace(tmp_name, out_path)
+    except BaseException as exc:
+        try:
+            os.unlink(tmp_name)
+        except OSError:
+            pass
+        if isinstance(exc, OSError):
+            raise ProjectError(
+                f"cannot write the note: {exc.strerror or exc}", file=str(out_path)
+            ) from exc
+        raise
+
+
+def _write_bytes(out_path: Path, data: bytes) -> None:
+    """Write ``data`` to ``out_path`` atomically (as render_pdf does)."""
+    out_path = Path(out_path)
+    try:
+        out_path.parent.mkdir(parents=True, exist_ok=True)
+        fd, tmp_name = tempfile.mkstemp(prefix=f".{out_path.name}.", suffix=".tmp",
+                                        dir=out_path.parent)
+    except OSError as exc:
+        raise ProjectError(f"cannot write the note: {exc.strerror}", file=str(out_path)) from exc
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
             fh.flush()
             os.fsync(fh.fileno())
         os.chmod(tmp_name, 0o644)
