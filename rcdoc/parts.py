@@ -50,7 +50,7 @@ DC_BIAS_FLOOR = 0.1         # the one-point square law is not trusted below this
 
 # EIA-198 class II code tables: first letter = low end of the rated range,
 # digit = high end, last letter = capacitance change band (plus, minus), as
-# fractions. Source: EIA-198 (via /work/shared/references.md).
+# fractions. Source: EIA-198.
 _LOW_C = {"X": -55.0, "Y": -30.0, "Z": 10.0}
 _HIGH_C = {"2": 45.0, "4": 65.0, "5": 85.0, "6": 105.0, "7": 125.0, "8": 150.0, "9": 200.0}
 _BAND = {

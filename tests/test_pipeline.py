@@ -2,7 +2,7 @@
 
 A failing check must give exit status 1 and mark the stage and the board as
 failed in the PDF, the JSON summary and the JUnit report; a passing board
-exits 0 (the exit statuses are specified in project-format.md). Limits are
+exits 0 (the exit statuses are specified in docs/project-format.md). Limits are
 set on either side of the textbook corner fc = 1/(2πRC) = 1.59 kHz of a
 10 kΩ / 10 nF low-pass, so which check passes is known from the formula, not
 from the program. One small build per case keeps the file fast.

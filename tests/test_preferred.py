@@ -46,7 +46,7 @@ def test_tables_are_mantissas_in_one_decade_increasing(name):
 
 
 def test_e24_matches_the_standard_listing():
-    # IEC 60063 E24 (as listed in references.md).
+    # IEC 60063 E24.
     listed = [10, 11, 12, 13, 15, 16, 18, 20, 22, 24, 27, 30,
               33, 36, 39, 43, 47, 51, 56, 62, 68, 75, 82, 91]
     assert [round(m * 10) for m in SERIES["E24"]] == listed

@@ -8,7 +8,7 @@ Sources, named beside each check:
   Arithmetic specification as implemented by Python's `decimal` module
   (`Decimal.to_eng_string`), used as an independent formatter.
 - The written forms themselves: the project's contract,
-  /work/shared/project-format.md, section "Quantities".
+  docs/project-format.md, section "Quantities".
 """
 
 from __future__ import annotations
@@ -138,7 +138,7 @@ def test_ohm_spellings():
     ("text", "expected"),
     [
         # IEC 60062 RKM code: the letter stands where the decimal point goes
-        # (examples listed in references.md: 4k7, 2u2, R47, 1M5).
+        # (examples: 4k7, 2u2, R47, 1M5).
         ("4k7", 4.7e3),
         ("4K7", 4.7e3),     # IEC 60062 writes the kilo letter in upper case
         ("R47", 0.47),
@@ -289,7 +289,7 @@ def test_parse_percent():
 @pytest.mark.parametrize(
     ("letter", "plus", "minus"),
     [
-        # IEC 60062 tolerance letters (as listed in references.md)
+        # IEC 60062 tolerance letters
         ("B", 0.001, 0.001),
         ("C", 0.0025, 0.0025),
         ("D", 0.005, 0.005),
@@ -448,7 +448,7 @@ def test_round_trip_of_zero(unit):
 @pytest.mark.parametrize(
     ("value", "expected"),
     [
-        # IEC 60062 RKM code (examples in references.md)
+        # IEC 60062 RKM code (examples 4k7, 2u2, R47, 1M5)
         (4700, "4k7"),
         (0.47, "R47"),
         (1.5e6, "1M5"),

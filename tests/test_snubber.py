@@ -1,7 +1,7 @@
 """Snubber stages: reference checks of the physics, the project keys, ratings and the build.
 
 Each reference check names its source beside it: the snubber sizing rules of
-common practice (see /work/shared/references.md), Thomson's formula
+common practice, Thomson's formula
 f = 1/(2π√(LC)), the textbook step response of a series RLC circuit, the
 energy of charging a capacitor through a resistor, conservation of energy,
 Ohm's law for AC impedances, and scipy.signal (step, lsim) on the same
@@ -71,7 +71,7 @@ def rlc_switch(lp=90e-9, cp=73e-12, rp=1.0, r=None, c=None):
 
 
 def test_halving_the_ringing_frequency_means_c_added_is_three_times_c_par():
-    # Common practice (references.md): halving the frequency means C_add = 3·C_par.
+    # Common practice: halving the frequency means C_add = 3·C_par.
     c_par, _ = phys.parasitics_from_ringing(62e6, 220e-12, 31e6)
     assert c_par == pytest.approx(220e-12 / 3, rel=1e-12)
 
@@ -137,7 +137,7 @@ def test_snubbed_node_matches_scipy_step_of_the_transfer_function():
 
 
 def test_resistor_power_is_c_v_squared_f_on_a_hard_switched_node():
-    # Common practice (references.md): P = C·V²·f_sw. Each edge puts ½·C·V² into R
+    # Common practice: P = C·V²·f_sw. Each edge puts ½·C·V² into R
     # (textbook: charging a capacitor from a step through a resistor dissipates ½·C·V²
     # whatever R is). With C_p far below C and a small loop resistance, ringing adds little.
     lp, cp, rp, r, c, v, f = 20e-9, 1e-12, 0.01, 47.0, 1e-9, 48.0, 250e3
