@@ -477,33 +477,14 @@ def render_pdf(
     document = weasyprint.HTML(string=html, base_url=str(base) + os.sep, url_fetcher=fetcher)
     pdf_id = pdf_identifier(str(board.get("name", "")), str(board.get("revision", "")))
 
-    out_dir = out_path.parent
-    try:
-        out_dir.mkdir(parents=True, exist_ok=True)
-        fd, tmp_name = tempfile.mkstemp(prefix=f".{out_path.name}.", suffix=".tmp", dir=out_dir)
-    except OSError as exc:
-        raise ProjectError(f"cannot write the note: {exc.strerror}", file=str(out_path)) from exc
-    try:
-        with os.fdopen(fd, "wb") as fh, _font_timestamp(source_date_epoch or 0):
-            document.write_pdf(fh, pdf_identifier=pdf_id, cache=cache)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.chmod(tmp_name, 0o644)
-        os.replace(tmp_name, out_path)
-    except BaseException as exc:
-        try:
-            os.unlink(tmp_name)
-        except OSError:
-            pass
-        if isinstance(exc, OSError):
-            raise ProjectError(
-                f"cannot write the note: {exc.strerror or exc}", file=str(out_path)
-            ) from exc
-        raise
+    with _font_timestamp(source_date_epoch or 0):
+        pdf_bytes = document.write_pdf(pdf_identifier=pdf_id, cache=cache)
+    _write_bytes(out_path, pdf_bytes)
+    return used
 
 
 def _write_bytes(out_path: Path, data: bytes) -> None:
-    """Write ``data`` to ``out_path`` atomically (as render_pdf does)."""
+    """Write ``data`` to ``out_path`` atomically: a temporary file beside it, then a rename."""
     out_path = Path(out_path)
     try:
         out_path.parent.mkdir(parents=True, exist_ok=True)
