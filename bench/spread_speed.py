@@ -180,8 +180,7 @@ def vectorised(stage, analysis, values: dict[str, np.ndarray], keep: int):
     for start in range(0, rows, CHUNK_ROWS):
         vals = {k: v[start:start + CHUNK_ROWS] for k, v in values.items()}
         t0 = time.perf_counter()
-        ev = Evaluator(stage, network, vals, freqs, passband, char_hz)
-        ev.__dict__["time_s"] = time_s
+        ev = Evaluator(stage, network, vals, freqs, passband, char_hz, time_s=time_s)
         out["gain_db"].append(ev.gain_db)
         out["phase_deg"].append(np.degrees(np.unwrap(np.angle(ev.h), axis=1)))
         out["corner"].append(ev.corner())

@@ -18,7 +18,7 @@ from . import checks as checkmod
 from . import engine
 from . import parts as partmodels
 from . import spread
-from .evaluate import Evaluator, db, sweep_for
+from .evaluate import Evaluator, sweep_for
 from .kinds import KINDS
 from .metrics import METRICS
 from .model import Analysis, Check, Stage
@@ -152,7 +152,7 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
 
     # Time grid shared by all rows: long enough for the slowest row to settle.
     probe = Evaluator(stage, network, batch.values, freqs, passband, char_hz)
-    time_s = _time_grid(probe, char_hz) if stage.drive is not None else None
+    time_s = probe.time_s if stage.drive is not None else None
 
     values_per_req: list[list[np.ndarray]] = [[] for _ in requests]
     gains, phases = [], []
@@ -164,9 +164,8 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
     for start in range(0, batch.rows, CHUNK_ROWS):
         rows = slice(start, min(start + CHUNK_ROWS, batch.rows))
         vals = batch.take(rows)
-        ev = Evaluator(stage, network, vals, freqs, passband, char_hz, temperature_k=t_hot_k)
-        if time_s is not None:
-            ev.__dict__["time_s"] = time_s
+        ev = Evaluator(stage, network, vals, freqs, passband, char_hz, temperature_k=t_hot_k,
+                       time_s=time_s)
         for k, (name, at, chk) in enumerate(requests):
             if name == "settling" and chk is None:
                 v = ev.settling(within=0.01)
@@ -219,9 +218,8 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
             signs = np.nan_to_num(sens) > 0
             high = np.stack([signs, ~signs])
             vv = spread.vertex_values(stage, analysis, batch.roles, high)
-            ev2 = Evaluator(stage, network, vv, freqs, passband, char_hz, temperature_k=t_hot_k)
-            if time_s is not None:
-                ev2.__dict__["time_s"] = time_s
+            ev2 = Evaluator(stage, network, vv, freqs, passband, char_hz, temperature_k=t_hot_k,
+                            time_s=time_s)
             extra = (ev2.settling(within=0.01) if name == "settling" and chk is None
                      else ev2.metric(name, chk, at_hz=at))
             wc_vals = np.concatenate([wc_vals, extra])
@@ -304,10 +302,6 @@ def _wave(t, nominal, waves, env: _Envelope) -> dict:
     return {"t": t[idx], "nominal": nominal[idx], "min": env.lo, "max": env.hi,
             "lo": np.percentile(y, BAND_PERCENTILES[0], axis=0),
             "hi": np.percentile(y, BAND_PERCENTILES[1], axis=0)}
-
-
-def _time_grid(ev: Evaluator, char_hz: float) -> np.ndarray:
-    return ev.time_s
 
 
 def _char_from_poles(stage, network, values, passband) -> float:

@@ -31,6 +31,7 @@ from typing import Callable
 from .analyse import StageResult, analyse_stage
 from .cache import StageCache, stage_key
 from .errors import ProjectError
+from .files import write_atomic
 from .model import Project, Stage
 from .project import load_project
 
@@ -192,33 +193,15 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
                 for f in (*futures.values(), *redone.values()):
                     f.cancel()
                 raise
-    pending = None
-    if cache is not None:
-        def pending():
-            for i in range(n):
-                if i in todo or parts[i] is not original_parts[i]:
-                    cache.put(keys[i], results[i], contexts[i], parts[i])
-            cache.prune()
+    def file_entries():
+        for i in range(n):
+            if i in todo or parts[i] is not original_parts[i]:
+                cache.put(keys[i], results[i], contexts[i], parts[i])
+        cache.prune()
+    pending = file_entries if cache is not None else None
     return Outcome(project, results, contexts if draw else None, cached=cached,
                    computed=[stages[i].id for i in todo], parts=parts if draw else None,
                    pending=pending)
-
-
-def write_atomic(path: Path, data: bytes) -> None:
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
-        # mkstemp makes the file private; an output is as readable as any other file.
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
 
 
 def output_dir(project_file: str, out: str | None) -> Path:

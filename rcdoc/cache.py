@@ -27,9 +27,7 @@ import dataclasses
 import hashlib
 import json
 import math
-import os
 import pickle
-import tempfile
 from functools import lru_cache
 from pathlib import Path
 from typing import Any
@@ -37,6 +35,7 @@ from typing import Any
 import numpy as np
 
 from . import __version__
+from .files import write_atomic
 
 __all__ = ["CACHE_DIR_NAME", "StageCache", "stage_key", "code_fingerprint", "canonical"]
 
@@ -106,19 +105,6 @@ def stage_key(stage, project) -> str:
     return hashlib.sha256(text.encode("utf-8")).hexdigest()
 
 
-def _write_atomic(path: Path, data: bytes) -> None:
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-
-
 class StageCache:
     """Entries of one project in ``root`` (``<out>/.rcdoc-cache/<stem>``)."""
 
@@ -162,7 +148,7 @@ class StageCache:
                              "context": context, "part": part},
                             protocol=pickle.HIGHEST_PROTOCOL)
         try:
-            _write_atomic(self._path(key), data)
+            write_atomic(self._path(key), data)
         except OSError:
             pass  # a cache that cannot be written only costs time on the next build
 

@@ -10,7 +10,6 @@ per row; loops run over bisection steps, time steps or parts only.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 from functools import cached_property
 
 import numpy as np
@@ -31,11 +30,6 @@ def db(h: np.ndarray) -> np.ndarray:
         return 20 * np.log10(np.abs(h))
 
 
-@dataclass(frozen=True)
-class Sweep:
-    freqs_hz: np.ndarray
-
-
 def sweep_for(stage_char_hz: float, analysis) -> np.ndarray:
     """Log sweep: the project's range, or 3 decades either side of the stage's frequency."""
     if analysis.sweep_hz is not None:
@@ -51,7 +45,10 @@ class Evaluator:
 
     def __init__(self, stage: Stage, network: Network, values: dict[str, np.ndarray],
                  freqs_hz: np.ndarray, passband: str, char_hz: float,
-                 temperature_k: np.ndarray | float = 298.15):
+                 temperature_k: np.ndarray | float = 298.15,
+                 time_s: np.ndarray | None = None):
+        """``time_s``: the step-response grid to use (chunks of one batch must share
+        one grid); by default one is chosen from these rows' slowest pole."""
         self.stage = stage
         self.network = network
         self.values = values
@@ -60,6 +57,8 @@ class Evaluator:
         self.char_hz = char_hz
         self.temperature_k = temperature_k
         self.rows = len(next(iter(values.values())))
+        if time_s is not None:
+            self.__dict__["time_s"] = time_s     # fills the cached property below
 
     # ---- frequency domain -------------------------------------------------
     @cached_property

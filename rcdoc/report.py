@@ -56,7 +56,6 @@ import logging
 import mimetypes
 import os
 import re
-import tempfile
 from collections.abc import Mapping, Sequence
 from datetime import datetime, timezone
 from pathlib import Path
@@ -69,6 +68,7 @@ from markupsafe import Markup, escape
 from weasyprint.urls import URLFetcher, URLFetcherResponse
 
 from rcdoc.errors import ProjectError
+from rcdoc.files import write_atomic
 
 __all__ = [
     "render_pdf",
@@ -484,28 +484,9 @@ def render_pdf(
 
 
 def _write_bytes(out_path: Path, data: bytes) -> None:
-    """Write ``data`` to ``out_path`` atomically: a temporary file beside it, then a rename."""
-    out_path = Path(out_path)
+    """Write the note atomically; a file-system failure is the user's to fix (exit 2)."""
     try:
-        out_path.parent.mkdir(parents=True, exist_ok=True)
-        fd, tmp_name = tempfile.mkstemp(prefix=f".{out_path.name}.", suffix=".tmp",
-                                        dir=out_path.parent)
+        write_atomic(Path(out_path), data)
     except OSError as exc:
-        raise ProjectError(f"cannot write the note: {exc.strerror}", file=str(out_path)) from exc
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.chmod(tmp_name, 0o644)
-        os.replace(tmp_name, out_path)
-    except BaseException as exc:
-        try:
-            os.unlink(tmp_name)
-        except OSError:
-            pass
-        if isinstance(exc, OSError):
-            raise ProjectError(
-                f"cannot write the note: {exc.strerror or exc}", file=str(out_path)
-            ) from exc
-        raise
+        raise ProjectError(f"cannot write the note: {exc.strerror or exc}",
+                           file=str(out_path)) from exc

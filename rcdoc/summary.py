@@ -18,9 +18,6 @@ from .metrics import METRICS
 from .model import Project
 from .quantities import format_quantity
 
-UNIT_NAMES = {"ohm": "ohm"}
-
-
 def _num(x) -> float | None:
     if x is None:
         return None

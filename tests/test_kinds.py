@@ -11,39 +11,18 @@ second-order sections. The engine's own tests cover raw networks.
 from __future__ import annotations
 
 import math
-import textwrap
-from pathlib import Path
 
 import numpy as np
 import pytest
 from scipy import signal
 
+from boards import analyse_one, load
 from rcdoc.analyse import analyse_stage
 from rcdoc.evaluate import Evaluator
 from rcdoc.kinds import KINDS
-from rcdoc.project import load_project
 from rcdoc.spread import build_batch
 
 TWO_PI = 2 * math.pi
-
-
-def load(tmp_path: Path, stages: str, analysis: str = "samples = 200", name: str = "p"):
-    head = textwrap.dedent(f"""\
-        [board]
-        name = "Kinds bench"
-        revision = "A"
-        date = "2026-01-01"
-        [analysis]
-        {analysis}
-        """)
-    path = tmp_path / f"{name}.toml"
-    path.write_text(head + textwrap.dedent(stages), encoding="utf-8")
-    return load_project(path)
-
-
-def analyse_one(tmp_path, stages, analysis="samples = 200", name="p"):
-    project = load(tmp_path, stages, analysis, name)
-    return analyse_stage(project.stages[0], project.analysis)
 
 
 def stage_toml(kind: str, parts: dict[str, str], extra: str = "", sid: str = "s",

@@ -11,8 +11,6 @@ Fourier-series computation, and textbook first-order RC results.
 from __future__ import annotations
 
 import math
-import textwrap
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -20,31 +18,10 @@ import scipy.constants
 from scipy import signal
 from uncertainties import ufloat
 
-from rcdoc.analyse import analyse_stage
-from rcdoc.project import load_project
+from boards import analyse_one
 
 R_OHM, C_F = 10e3, 10e-9          # RC = 100 µs, fc = 1591.55 Hz
 RC_S = R_OHM * C_F
-
-
-def load(tmp_path: Path, stages: str, analysis: str = "samples = 200", name: str = "p"):
-    """Write a small project file and load it (exercises the loader)."""
-    head = textwrap.dedent(f"""\
-        [board]
-        name = "Reference bench"
-        revision = "A"
-        date = "2026-01-01"
-        [analysis]
-        {analysis}
-        """)
-    path = tmp_path / f"{name}.toml"
-    path.write_text(head + textwrap.dedent(stages), encoding="utf-8")
-    return load_project(path)
-
-
-def analyse_one(tmp_path, stages, analysis="samples = 200", name="p"):
-    project = load(tmp_path, stages, analysis, name)
-    return analyse_stage(project.stages[0], project.analysis)
 
 
 LOWPASS = """

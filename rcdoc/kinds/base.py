@@ -22,7 +22,6 @@ UNIT_OF = {"R": "ohm", "C": "F", "L": "H"}
 
 FREQUENCY_METRICS = ("corner", "passband_gain", "gain", "phase", "group_delay",
                      "input_impedance", "noise")
-TIME_METRICS = ("rise_time", "settling", "ripple", "capacitor_voltage")
 
 
 class KindModule(Protocol):

@@ -1,0 +1,29 @@
+"""Small project files for the tests: write the TOML into tmp_path and load it
+through the real loader (so every test also exercises loading)."""
+
+import textwrap
+from pathlib import Path
+
+from rcdoc.analyse import analyse_stage
+from rcdoc.project import load_project
+
+
+def load(tmp_path: Path, stages: str, analysis: str = "samples = 200", name: str = "p",
+         board: str = "Test bench"):
+    head = textwrap.dedent(f"""\
+        [board]
+        name = "{board}"
+        revision = "A"
+        date = "2026-01-01"
+        [analysis]
+        {analysis}
+        """)
+    path = tmp_path / f"{name}.toml"
+    path.write_text(head + textwrap.dedent(stages), encoding="utf-8")
+    return load_project(path)
+
+
+def analyse_one(tmp_path, stages, analysis="samples = 200", name="p"):
+    """Load a one-stage project and analyse its stage."""
+    project = load(tmp_path, stages, analysis, name)
+    return analyse_stage(project.stages[0], project.analysis)
