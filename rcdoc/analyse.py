@@ -167,11 +167,7 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
         ev = Evaluator(stage, network, vals, freqs, passband, char_hz, temperature_k=t_hot_k,
                        time_s=time_s)
         for k, (name, at, chk) in enumerate(requests):
-            if name == "settling" and chk is None:
-                v = ev.settling(within=0.01)
-            else:
-                v = ev.metric(name, chk, at_hz=at)
-            values_per_req[k].append(np.asarray(v, dtype=float))
+            values_per_req[k].append(np.asarray(ev.metric(name, chk, at_hz=at), dtype=float))
         # Spread bands of the response over the Monte Carlo rows only.
         mc_idx = _mc_rows(rows, batch)
         if mc_idx is not None:
@@ -181,20 +177,16 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
             if sum(len(x) for x in gains) < BAND_SAMPLES:
                 gains.append(g.astype(np.float32))
                 phases.append(ph.astype(np.float32))
-            if stage.drive is not None:
-                for wname, ready in (("step", True), ("pwm", stage.drive.kind == "pwm")):
-                    if not ready:
-                        continue
-                    if wname == "step":
-                        y = ev.step
-                    else:
-                        # Ripple about each sample's own mean: the DC spread would hide it.
-                        y = ev.pwm_probes["out"]
-                        y = y - y.mean(axis=1, keepdims=True)
-                    idx = np.linspace(0, y.shape[1] - 1, WAVE_POINTS).astype(int)
-                    wave_env[wname].add(y[mc_idx][:, idx], None)
-                    if sum(len(x) for x in waves[wname]) < WAVE_SAMPLES:
-                        waves[wname].append(y[mc_idx][:, idx].astype(np.float32))
+            shown = {} if stage.drive is None else {"step": ev.step}
+            if stage.drive is not None and stage.drive.kind == "pwm":
+                # Ripple about each sample's own mean: the DC spread would hide it.
+                y = ev.pwm_probes["out"]
+                shown["pwm"] = y - y.mean(axis=1, keepdims=True)
+            for wname, y in shown.items():
+                idx = np.linspace(0, y.shape[1] - 1, WAVE_POINTS).astype(int)
+                wave_env[wname].add(y[mc_idx][:, idx], None)
+                if sum(len(x) for x in waves[wname]) < WAVE_SAMPLES:
+                    waves[wname].append(y[mc_idx][:, idx].astype(np.float32))
         if stage.drive is not None:
             for role, pk in ev.capacitor_peaks().items():
                 cap_peaks.setdefault(role, []).append(pk)
@@ -220,8 +212,7 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
             vv = spread.vertex_values(stage, analysis, batch.roles, high)
             ev2 = Evaluator(stage, network, vv, freqs, passband, char_hz, temperature_k=t_hot_k,
                             time_s=time_s)
-            extra = (ev2.settling(within=0.01) if name == "settling" and chk is None
-                     else ev2.metric(name, chk, at_hz=at))
+            extra = ev2.metric(name, chk, at_hz=at)
             wc_vals = np.concatenate([wc_vals, extra])
         finite = wc_vals[np.isfinite(wc_vals)]
         wc = (float(finite.min()), float(finite.max())) if finite.size else (math.nan, math.nan)

@@ -7,6 +7,7 @@ line on stderr and exit status 2; a failed check, exit status 1.
 from __future__ import annotations
 
 import argparse
+import math
 import os
 import sys
 from pathlib import Path
@@ -85,6 +86,11 @@ def _progress_for(console, label: str):
     return report if console.is_terminal else None
 
 
+def _jobs(args) -> int:
+    """--jobs, defaulting to the machine's cores."""
+    return args.jobs or os.cpu_count() or 1
+
+
 def cmd_build(args) -> int:
     from .build import analyse_project, load_all, output_dir, write_outputs
     template_dirs = []
@@ -112,13 +118,13 @@ def cmd_build(args) -> int:
         out_dir = output_dir(project.file, args.output)
         # Stages are analysed and drawn together (in --jobs processes), cached in out_dir.
         outcome = analyse_project(project, progress=_progress_for(console, project.file),
-                                  jobs=args.jobs or os.cpu_count() or 1,
+                                  jobs=_jobs(args),
                                   draw=True, out_dir=out_dir, template_dirs=template_dirs)
         extra = []
         if args.since:
             from .diff import compare, since_section
             old = analyse_project(olds[k], progress=_progress_for(console, olds[k].file),
-                                  jobs=args.jobs or os.cpu_count() or 1)
+                                  jobs=_jobs(args))
             extra.append(since_section(compare(olds[k], old.results, project, outcome.results,
                                                old_label=f"git:{args.since}"), args.since))
         try:
@@ -136,20 +142,25 @@ def cmd_build(args) -> int:
 
 
 def cmd_check(args) -> int:
-    from .build import analyse_project, load_all, write_atomic
+    from .build import analyse_project, load_all
+    from .files import write_atomic
     from .summary import junit
     projects = load_all(args.files, samples=args.samples, seed=args.seed)
     console = _console(args.quiet)
     outcomes = []
     for project in projects:
         outcome = analyse_project(project, progress=_progress_for(console, project.file),
-                                  jobs=args.jobs or os.cpu_count() or 1)
+                                  jobs=_jobs(args))
         outcomes.append(outcome)
         if console is not None:
             _print_table(console, outcome)
     if args.junit:
-        write_atomic(Path(args.junit),
-                     junit([(o.project, o.results) for o in outcomes]).encode("utf-8"))
+        try:
+            write_atomic(Path(args.junit),
+                         junit([(o.project, o.results) for o in outcomes]).encode("utf-8"))
+        except OSError as exc:     # e.g. a folder that cannot be written: one line, exit 2
+            raise ProjectError(f"cannot write the JUnit report: {exc.strerror or exc}",
+                               path="--junit", file=str(args.junit)) from exc
     return EXIT_FAIL if any(o.status != "pass" for o in outcomes) else EXIT_OK
 
 
@@ -171,7 +182,7 @@ def _print_table(console, outcome) -> None:
         for v in r.verdicts + r.ratings:
             unit = METRICS[v.metric].unit
             name = metric_label(v.metric, v.at_hz, v.detail) + (f" {v.part}" if v.part else "")
-            worst = format_quantity(v.worst, unit) if v.worst == v.worst else "not found"
+            worst = format_quantity(v.worst, unit) if math.isfinite(v.worst) else "not found"
             style = "green" if v.status == "pass" else "bold red"
             t.add_row(r.stage.id, name, limit_text(v, unit), worst,
                       f"{v.yield_ * 100:.2f} %", f"[{style}]{v.status}[/{style}]")

@@ -547,3 +547,16 @@ def test_rich_markup_in_names_is_printed_as_text(tmp_path, capsys):
     cap = capsys.readouterr()
     assert rc in (0, 1), cap.err
     assert "Pump [/x] [bold]" in cap.err.replace("\n", "")
+
+
+def test_junit_report_that_cannot_be_written(tmp_path, capsys):
+    # --junit into a folder that does not exist: one line naming the file and
+    # the option, exit status 2, no traceback.
+    proj = tmp_path / "board.toml"
+    proj.write_text(project(), encoding="utf-8")
+    target = tmp_path / "missing" / "deeper" / "report.xml"
+    target.parent.parent.write_bytes(b"a file, not a folder")
+    rc = cli.main(["check", str(proj), "--junit", str(target), "--quiet", "--samples", "20"])
+    err = capsys.readouterr().err
+    assert rc == 2
+    _assert_one_line(err, str(target), "--junit", ["cannot write"])
