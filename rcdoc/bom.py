@@ -12,13 +12,12 @@ objects (project.py validates the merged table like any other part table).
 
 from __future__ import annotations
 
-import csv
 import difflib
-import io
 import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from . import bom_columns as cols
 from .errors import ProjectError
 from .quantities import parse_positive, parse_tolerance
 
@@ -37,6 +36,7 @@ class BomRow:
     line: int                    # line number in the CSV (the header is line 1)
     fields: dict                 # column -> text (non-empty cells only, without `ref`)
     file: str = field(default="")  # the CSV as named in errors
+    fitted: bool = True          # False where a do-not-populate column says so
 
     @property
     def where(self) -> str:
@@ -52,9 +52,11 @@ def _key(ref: str) -> str:
 def read_bom(path: Path, key_path: str) -> dict[str, BomRow]:
     """Read the CSV; return designator (upper case) -> row. Errors name the file and line.
 
-    Columns other than the known ones are ignored (exported BOMs carry
-    quantities and descriptions), unless a name is close to a known column,
-    which is taken as a typing mistake.
+    The file may be UTF-8 (with or without a byte-order mark) or UTF-16 with its
+    mark, separated by commas, semicolons or tabs, with the header names EDA
+    tools export (rcdoc.bom_columns). Columns other than the known ones are
+    ignored (exported BOMs carry quantities and descriptions), unless a name is
+    close to a known column, which is taken as a typing mistake.
     """
     name = str(path)
     # A folder, a fifo or a device (/dev/zero) would fail obscurely or hang the
@@ -67,46 +69,34 @@ def read_bom(path: Path, key_path: str) -> dict[str, BomRow]:
             raise ProjectError(f"the bill of materials '{name}' is larger than "
                                f"{MAX_BOM_BYTES // 1_000_000} MB; is it the right file?",
                                path=key_path)
-        text = Path(path).read_text(encoding="utf-8-sig")
+        data = Path(path).read_bytes()
     except OSError as exc:
         raise ProjectError(f"cannot read the bill of materials '{name}': {exc.strerror}",
                            path=key_path)
-    except UnicodeDecodeError:
-        raise ProjectError(f"the bill of materials '{name}' is not UTF-8 text", path=key_path)
-    try:
-        rows = list(csv.reader(io.StringIO(text)))
-    except csv.Error as exc:
-        raise ProjectError(f"malformed CSV in '{name}': {exc}", path=key_path)
-    if not rows or not any(c.strip() for c in rows[0]):
+    text = cols.decode(data, name, key_path)
+    rows = cols.rows_with_lines(text, cols.sniff_separator(text), name, key_path)
+    if not rows or not any(c.strip() for c in rows[0][1]):
         raise ProjectError(f"the bill of materials '{name}' is empty (it needs a header row)",
                            path=key_path)
-    header = [h.strip().lower() for h in rows[0]]
-    for col in ("ref", "value"):
-        if col not in header:
-            raise ProjectError(f"the bill of materials '{name}' has no '{col}' column "
-                               f"(columns found: {', '.join(h for h in header if h) or 'none'})",
-                               path=key_path)
-    for h in header:
-        if h and h not in COLUMNS:
-            close = difflib.get_close_matches(h, COLUMNS, n=1, cutoff=0.75)
-            if close and close[0] not in header:
-                raise ProjectError(f"the bill of materials '{name}' has a column '{h}'; "
-                                   f"did you mean '{close[0]}'?", path=key_path)
-        if h in COLUMNS and header.count(h) > 1:
-            raise ProjectError(f"the bill of materials '{name}' has the column '{h}' twice",
-                               path=key_path)
-    used = [(i, h) for i, h in enumerate(header) if h in COLUMNS]
+    header = rows[0][1]
+    used, fitted_at, dnp_sense = cols.map_header(header, name, key_path)
+    _check_typos(header, used, fitted_at, name, key_path)
     table: dict[str, BomRow] = {}
-    for line, cells in enumerate(rows[1:], start=2):
+    for line, cells in rows[1:]:
         if not any(c.strip() for c in cells):
             continue
         if len(cells) > len(header) and any(c.strip() for c in cells[len(header):]):
             raise ProjectError(f"'{name}' line {line}: more cells than columns", path=key_path)
-        fields = {h: cells[i].strip() for i, h in used if i < len(cells) and cells[i].strip()}
+        fields = {h: cells[i].strip() for i, h in used.items()
+                  if i < len(cells) and cells[i].strip()}
+        fitted = True
+        if fitted_at is not None and fitted_at < len(cells):
+            fitted = cols.is_fitted(cells[fitted_at], dnp_sense, f"'{name}' line {line}",
+                                    header[fitted_at].strip(), key_path)
         refs = [r for r in re.split(r"[,;\s]+", fields.get("ref", "")) if r]
         if not refs:
             raise ProjectError(f"'{name}' line {line}: the 'ref' cell is empty", path=key_path)
-        if "value" not in fields:
+        if "value" not in fields and fitted:      # an unfitted row may leave it blank
             raise ProjectError(f"'{name}' line {line}: the 'value' cell is empty",
                                path=key_path)
         for ref in refs:
@@ -114,9 +104,22 @@ def read_bom(path: Path, key_path: str) -> dict[str, BomRow]:
             if k in table:
                 raise ProjectError(f"'{name}' line {line}: {ref} is already listed on line "
                                    f"{table[k].line}", path=key_path)
-            table[k] = BomRow(ref=ref, line=line, file=name,
+            table[k] = BomRow(ref=ref, line=line, file=name, fitted=fitted,
                               fields={c: v for c, v in fields.items() if c != "ref"})
     return table
+
+
+def _check_typos(header, used, fitted_at, name: str, key_path: str) -> None:
+    """A header close to a known column's name, but not one, is taken as a typing mistake."""
+    taken = set(used.values())
+    for i, cell in enumerate(header):
+        h = cell.strip().lower()
+        if not h or i in used or i == fitted_at:
+            continue
+        close = difflib.get_close_matches(h, COLUMNS, n=1, cutoff=0.75)
+        if close and close[0] not in taken:
+            raise ProjectError(f"the bill of materials '{name}' has a column '{cell.strip()}'; "
+                               f"did you mean '{close[0]}'?", path=key_path)
 
 
 def _parse(key: str, kind: str, text, path: str):
@@ -174,6 +177,10 @@ def merge_bom(part: dict, rows: dict[str, BomRow], path: str, *, bom_wins: bool,
                                + "; add a row for it or give the value here",
                                path=f"{path}.value")
         return part
+    if not row.fitted:
+        raise ProjectError(f"{row.ref} is marked do-not-populate in the {row.where}, but this "
+                           "stage uses it; fit it in the BOM or leave it out of the stage",
+                           path=f"{path}.ref")
     merged = dict(part)
     for key in row.fields:
         if key in _APPLIES and _APPLIES[key] != kind:
@@ -193,7 +200,8 @@ def merge_bom(part: dict, rows: dict[str, BomRow], path: str, *, bom_wins: bool,
 
 
 def unused_rows(rows: dict[str, BomRow], used_refs) -> list[BomRow]:
-    """BOM rows whose designators no stage uses, in file order."""
+    """Fitted BOM rows whose designators no stage uses, in file order
+    (an unfitted part is not on the board, so it is not missing from the analysis)."""
     used = {_key(r) for r in used_refs if r}
-    return sorted((r for k, r in rows.items() if k not in used),
+    return sorted((r for k, r in rows.items() if k not in used and r.fitted),
                   key=lambda r: (r.line, r.ref))
