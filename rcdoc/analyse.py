@@ -23,6 +23,7 @@ from .kinds import KINDS
 from .metrics import METRICS
 from .model import Analysis, Check, Stage
 from .network import GROUND, Network
+from .partslist import part_stresses
 
 CHUNK_ROWS = 4000            # rows of the batch solved at once: bounds memory
 BAND_SAMPLES = 20000         # percentile bands use at most this many samples
@@ -251,7 +252,8 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
                        freqs_hz=freqs, h_nominal=h_nominal, band=band, metrics=metrics,
                        verdicts=verdicts, ratings=ratings, phasor=phasor, step=step, pwm=pwm,
                        part_rows=_part_rows(stage, analysis), assumptions=_assumptions(stage, analysis),
-                       samples=batch.samples)
+                       samples=batch.samples,
+                       extra={"stresses": part_stresses(stage, batch, cap_peaks, res_powers)})
 
 
 def _mc_rows(rows: slice, batch: spread.Batch):

@@ -228,6 +228,8 @@ def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
     stem = Path(project.file).stem
     pdf_path, json_path = out_dir / f"{stem}.pdf", out_dir / f"{stem}.json"
     json_bytes = to_json(summary(project, outcome.results)).encode("utf-8")
+    from .partslist import parts_csv
+    csv_path, csv_bytes = out_dir / f"{stem}-parts.csv", parts_csv(outcome.results)
     if outcome.contexts is not None:
         context = note_context(project, outcome.results, extra_appendix=extra_appendix,
                                stage_contexts=outcome.contexts)
@@ -249,6 +251,7 @@ def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
         if used is not None and outcome.parts is not None:
             outcome.parts[:] = used     # filed in the cache by commit_cache below
         write_atomic(json_path, json_bytes)
+        write_atomic(csv_path, csv_bytes)
         os.replace(tmp_path, pdf_path)
         outcome.commit_cache()
         done = True

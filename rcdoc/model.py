@@ -76,6 +76,8 @@ class Stage:
     parts: dict[str, Part] = field(default_factory=dict)
     checks: tuple[Check, ...] = ()
     options: dict[str, Any] = field(default_factory=dict)
+    # Identical channels: role -> designator per channel, channel 1 first (rcdoc.channels).
+    channels: tuple[dict[str, str], ...] = ()
 
     @property
     def path(self) -> str:

@@ -103,11 +103,14 @@ def parts_table(r: StageResult) -> dict:
         rows.append([p.ref or "—", p.role, fq(p.value, unit, 4), tol, temp,
                      f"{fq(row['low'], unit)} … {fq(row['high'], unit)}", series, rating,
                      p.model or ""])
+    from .channels import channel_line
+    chans = channel_line(r.stage)
     return {"type": "table", "title": "Parts",
             "columns": ["Ref", "Role", "Value", "Tolerance", "Temperature / derating",
                         "Range in circuit", "Series", "Rating", "Model"],
             "rows": rows,
-            "note": "Range in circuit: lowest and highest value over tolerance, the analysed "
+            "note": (f"{chans} (identical parts, analysed once). " if chans else "")
+                    + "Range in circuit: lowest and highest value over tolerance, the analysed "
                     "temperature range and DC-bias loss. Series: the IEC 60063 series that "
                     "fits the tolerance and holds the value."}
 

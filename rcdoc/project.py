@@ -33,7 +33,7 @@ BOARD_KEYS = ("name", "revision", "date", "authors", "notes", "hazardous_voltage
 ANALYSIS_KEYS = ("samples", "seed", "distribution", "temperature", "points_per_decade",
                  "sweep", "bom", "bom_wins")
 STAGE_KEYS = ("id", "title", "kind", "notes", "source", "load", "marks", "drive",
-              "parts", "check")
+              "parts", "check", "channels")
 PART_KEYS = ("ref", "value", "tolerance", "tcr", "dielectric", "dc_bias", "bias",
              "voltage", "power", "model")
 CHECK_KEYS = ("metric", "min", "max", "at", "within", "bits", "yield")
@@ -150,8 +150,10 @@ def _project(data: dict, file: str, *, samples: int | None, seed: int | None) ->
     unused: tuple = ()
     if bom_rows is not None:
         from .bom import unused_rows
+        from .channels import used_refs
         unused = tuple(unused_rows(bom_rows, {p.ref for st in stages
-                                              for p in st.parts.values()}))
+                                              for p in st.parts.values()}
+                                   | {r for st in stages for r in used_refs(st)}))
     return Project(file=file, board=board, analysis=analysis, stages=tuple(stages),
                    bom_unused=unused)
 
@@ -428,6 +430,11 @@ def _stage(t: dict, index: int, analysis: Analysis, bom_rows) -> Stage:
     if "drive" in t:
         kw["drive"] = _drive(t["drive"], f"{path}.drive")
     raw_parts = need_table(t.get("parts", {}), f"{path}.parts")
+    if "channels" in t:             # several identical channels (rcdoc.channels)
+        from . import channels as _channels
+        kw["channels"] = _channels.parse(t["channels"], raw_parts, f"{path}.channels")
+        raw_parts = _channels.first_channel_refs(raw_parts, kw["channels"], f"{path}.parts",
+                                                 f"{path}.channels")
     parts: dict[str, Part] = {}
     for role, pt in raw_parts.items():
         ppath = f"{path}.parts.{role}"
@@ -437,6 +444,9 @@ def _stage(t: dict, index: int, analysis: Analysis, bom_rows) -> Stage:
         parts[role] = _part(role, need_table(pt, ppath), ppath, analysis, bom_rows)
     options = kind.parse_options(t, path)
     kind.check_roles(parts, options, f"{path}.parts")
+    if kw.get("channels"):
+        _channels.check_identical(parts, raw_parts, kw["channels"], f"{path}.channels",
+                                  lambda r, tb, p: _part(r, tb, p, analysis, bom_rows))
     stage_metrics = kind.metrics(options, kw.get("drive"))
     checks = tuple(_check(need_table(c, f"{path}.check[{k}]"), f"{path}.check[{k}]",
                           stage_metrics)

@@ -91,6 +91,7 @@ def summary(project: Project, results: list[StageResult]) -> dict:
             "checks": [verdict_entry(v) for v in r.verdicts + r.ratings],
             "parts": [part_entry(row) for row in r.part_rows],
             **({"snubber": r.extra["json"]} if "json" in r.extra else {}),
+            **({"channels": [dict(c) for c in r.stage.channels]} if r.stage.channels else {}),
         } for r in results],
     }
 
