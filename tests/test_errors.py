@@ -342,7 +342,7 @@ CASES = [
      "analysis.bom", ["cannot read", "bom.csv"], (), {}),
     ("bom-no-value-column",
      project(part_r('{ ref = "R1" }'), analysis=ANALYSIS + 'bom = "bom.csv"\n'),
-     "analysis.bom", ["no 'value' column"], (), {"bom.csv": "ref,val\nR1,4k7\n"}),
+     "analysis.bom", ["no 'value' column"], (), {"bom.csv": "ref,qty\nR1,1\n"}),
     ("bom-column-typo",
      project(part_r('{ ref = "R1" }'), analysis=ANALYSIS + 'bom = "bom.csv"\n'),
      "analysis.bom", ["tolerence", "did you mean 'tolerance'"], (),
