@@ -113,10 +113,9 @@ def _th(band):
 
 def _caution(nominal, slowest, slower):
     limit = format_quantity(NO_HYSTERESIS_MIN_RATE * 1e-6, "V") + "/µs"
-    rate = (f"{format_quantity(nominal * 1e-3, 'V')}/ms" if math.isfinite(nominal)
+    rate = (fq(nominal, "V/s") if math.isfinite(nominal)
             else "not defined (a level never crosses its threshold)")
-    slow = (f"; slowest sample {format_quantity(slowest * 1e-3, 'V')}/ms"
-            if math.isfinite(slowest) else "")
+    slow = f"; slowest sample {fq(slowest, 'V/s')}" if math.isfinite(slowest) else ""
     return {"type": "text", "title": "Caution: slow edge, the input needs hysteresis",
             "paragraphs": [
                 f"Edge rate at the threshold of the slower edge ({slower}): {rate}{slow}. "
