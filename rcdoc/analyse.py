@@ -125,6 +125,9 @@ def _metric_requests(stage: Stage, offered: tuple[str, ...]) -> list[tuple[str, 
 def _detail(chk: Check | None) -> str:
     if chk is None or chk.metric != "settling":
         return ""
+    if chk.bits is not None and chk.full_scale is not None:
+        from .quantities import format_quantity
+        return f"{chk.bits} bits of {format_quantity(chk.full_scale, 'V', 6)}"
     if chk.bits is not None:
         return f"{chk.bits} bits"
     return f"within {chk.within * 100:g} %"

@@ -281,7 +281,8 @@ class Evaluator:
         r = y / fin[:, None]     # one normalised copy for both crossings
         return _cross_time(r, t, 0.9) - _cross_time(r, t, 0.1)
 
-    def settling(self, within: float | None = None, bits: int | None = None) -> np.ndarray:
+    def settling(self, within: float | None = None, bits: int | None = None,
+                 full_scale: float | None = None) -> np.ndarray:
         band = within if within is not None else 2.0 ** -(bits + 1)
         y, t, fin = self.step, self.time_s, self.final_value
         # The band is a share of the output's step in the passband: |final value| for
@@ -291,6 +292,8 @@ class Evaluator:
         amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
         scale = np.abs(fin) if self.passband == "low" else \
             abs(amp) * 10 ** (self.passband_db / 20)
+        if full_scale is not None:      # half an LSB of the converter, not of the step
+            scale = np.full(self.rows, float(full_scale))
         err = y - fin[:, None]   # |y − fin| / scale, in place: one (rows × T) temporary
         np.abs(err, out=err)
         err /= scale[:, None]
@@ -374,7 +377,8 @@ class Evaluator:
             return getattr(self, name)(at)
         if name == "settling":
             if check is not None:
-                return self.settling(within=check.within, bits=check.bits)
+                return self.settling(within=check.within, bits=check.bits,
+                                     full_scale=check.full_scale)
             return self.settling(within=0.01)
         fn = getattr(self, name, None)
         if fn is None or not callable(fn):

@@ -78,6 +78,7 @@ max = "-9 dB"
 [[stage.check]]
 metric = "settling"
 bits = 16                                # to half an LSB; or within = "0.1%"
+# full_scale = "3.3 V"                   # with bits: half an LSB of the converter's full scale
 max = "25 ms"
 
 # --- Stage 2: AC coupling of a sensor signal ---------------------------------

@@ -73,4 +73,17 @@ METRICS: dict[str, Metric] = dict([
        description="snubbers: √(L/C) of the ringing loop"),
     _m("ring_frequency", "Hz", "Hz", "Ringing frequency",
        description="snubbers: ringing frequency without the snubber"),
+    _m("press_delay", "s", "s", "Press delay",
+       description="debounce: from the contact closing until the input crosses its threshold"),
+    _m("release_delay", "s", "s", "Release delay",
+       description="debounce: from the contact opening until the input crosses the other "
+                   "threshold"),
+    _m("high_level", "V", "V", "High level",
+       description="debounce: settled input voltage in the high state, leakage drawn out of "
+                   "the input"),
+    _m("low_level", "V", "V", "Low level",
+       description="debounce: settled input voltage in the low state, leakage into the input"),
+    _m("edge_rate", "V/s", "V/s", "Edge rate at threshold",
+       description="debounce: magnitude of the slope where the slower edge crosses its "
+                   "threshold"),
 ])

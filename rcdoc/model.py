@@ -44,6 +44,7 @@ class Check:
     at_hz: float | None = None
     within: float | None = None            # settling band, fraction of the final value
     bits: int | None = None                # settling to half an LSB of an N-bit converter
+    full_scale: float | None = None        # with bits: LSB = full_scale / 2^bits (volts)
     required_yield: float = 1.0
     path: str = ""
 

@@ -19,13 +19,14 @@ from .kinds import KINDS
 from .metrics import METRICS
 from .model import Project
 from .project import paragraphs
-from .quantities import format_quantity
+from .quantities import format_quantity, parse_quantity
 from .summary import board_status
 
 KIND_TITLES = {
     "rc-lowpass": "RC low-pass", "rc-highpass": "RC high-pass", "rc-ladder": "RC ladder",
     "rc-bandpass": "RC band-pass", "sallen-key-lowpass": "Sallen-Key low-pass",
     "mfb-lowpass": "Multiple-feedback low-pass", "network": "Network", "snubber": "Snubber",
+    "debounce": "Contact debounce",
 }
 
 SAFETY_ITEMS = (
@@ -295,6 +296,9 @@ def time_figures(r: StageResult) -> list[dict]:
             band = 0.01
             if st.detail.startswith("within"):
                 band = float(st.detail.split()[1]) / 100
+            elif " bits of " in st.detail:      # half an LSB of a full scale, in volts
+                n, fs = st.detail.split(" bits of ")
+                band = parse_quantity(fs, "V") / 2.0 ** (int(n) + 1) / max(abs(fin), 1e-300)
             elif st.detail.endswith("bits"):
                 band = 2.0 ** -(int(st.detail.split()[0]) + 1)
             window = {"t": st.nominal, "lo": fin * (1 - band), "hi": fin * (1 + band),
@@ -472,7 +476,8 @@ def method_appendix() -> list[dict]:
                 "better than 1 ppm. f0 and Q come from the two poles of smallest magnitude. "
                 "Rise time is 10 % to 90 % of the step response; settling is the last time "
                 "the step response is outside the band around its final value (half an LSB "
-                "of an N-bit converter is a band of 2^−(N+1)). Ripple is the peak-to-peak "
+                "of an N-bit converter is a band of 2^−(N+1) of the final value, or of the "
+                "converter's full scale where the check states one). Ripple is the peak-to-peak "
                 "output in periodic steady state. Noise is the Johnson–Nyquist noise of every "
                 "resistor (4kTR) carried to the output and integrated over the sweep, which "
                 "includes the kT/C limit of the capacitors."]},

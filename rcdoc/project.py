@@ -36,7 +36,7 @@ STAGE_KEYS = ("id", "title", "kind", "notes", "source", "load", "marks", "drive"
               "parts", "check", "channels")
 PART_KEYS = ("ref", "value", "tolerance", "tcr", "dielectric", "dc_bias", "bias",
              "voltage", "power", "model")
-CHECK_KEYS = ("metric", "min", "max", "at", "within", "bits", "yield")
+CHECK_KEYS = ("metric", "min", "max", "at", "within", "bits", "full_scale", "yield")
 
 
 def check_keys(table: dict, allowed, path: str) -> None:
@@ -379,8 +379,14 @@ def _check(t: dict, path: str, stage_metrics: tuple[str, ...]) -> Check:
             kw["within"] = w
         else:
             kw["bits"] = need_int(t["bits"], f"{path}.bits", 1, 32)
+        if "full_scale" in t:
+            if "bits" not in t:
+                raise ProjectError("'full_scale' goes with 'bits' (one LSB = full_scale / "
+                                   "2^bits); with 'within' the band is a share of the final "
+                                   "value", path=f"{path}.full_scale")
+            kw["full_scale"] = parse_positive(t["full_scale"], "V", f"{path}.full_scale")
     else:
-        for k in ("within", "bits"):
+        for k in ("within", "bits", "full_scale"):
             if k in t:
                 raise ProjectError(f"'{k}' belongs to the settling metric", path=f"{path}.{k}")
     if "yield" in t:

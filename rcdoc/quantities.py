@@ -39,6 +39,7 @@ UNITS: dict[str, str] = {
     "A": "A",
     "W": "W",
     "s": "s",
+    "V/s": "V/s",
     "degC": "°C",
     "ppm/K": "ppm/K",
     "dB": "dB",
@@ -57,6 +58,7 @@ UNIT_NAMES: dict[str, str] = {
     "A": "current",
     "W": "power",
     "s": "time",
+    "V/s": "slew rate",
     "degC": "temperature",
     "ppm/K": "temperature coefficient",
     "dB": "level",
@@ -74,6 +76,7 @@ _EXAMPLES: dict[str, str] = {
     "A": "2 A",
     "W": "0.25 W",
     "s": "20 µs",
+    "V/s": "1 kV/s",
     "degC": "-20 °C",
     "ppm/K": "100 ppm/K",
     "dB": "-30 dB",
@@ -83,7 +86,7 @@ _EXAMPLES: dict[str, str] = {
 }
 
 # Only these units take SI prefixes; a "k°C" or "mdB" is a mistake.
-_PREFIXED = frozenset({"ohm", "F", "H", "Hz", "V", "A", "W", "s", "1"})
+_PREFIXED = frozenset({"ohm", "F", "H", "Hz", "V", "A", "W", "s", "V/s", "1"})
 
 # SI prefixes as powers of ten. Upper-case K for kilo is not SI but is the
 # IEC 60062 RKM letter and common practice on resistor values ("4K7", "10K").
@@ -94,6 +97,9 @@ _PREFIX_EXP: dict[str, int] = {
 _PREFIX_SHOW: dict[int, str] = {
     -15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G", 12: "T",
 }
+
+# Slew rates per a prefixed second: "V/µs" is 10^6 V/s.
+_PER_TIME: dict[str, int] = {"V/ms": 3, "V/µs": 6, "V/us": 6, "V/ns": 9}
 
 # Unit symbols accepted after the number, per unit code: (symbol, case-insensitive).
 # "R" is deliberately absent: it means ohm only as the RKM decimal marker.
@@ -106,6 +112,7 @@ _SYMBOLS: dict[str, tuple[tuple[str, bool], ...]] = {
     "A": (("A", False),),
     "W": (("W", False),),
     "s": (("s", False),),
+    "V/s": (("V/s", False),),
     "degC": (("°C", False), ("degC", False), ("deg C", False), ("C", False)),
     "ppm/K": (("ppm/K", False), ("ppm/°C", False), ("ppm/degC", False), ("ppm/C", False),
               ("ppm", False)),
@@ -186,8 +193,10 @@ def _match_rest(rest: str, unit: str) -> tuple[int | None, bool]:
     """
     if rest == "":
         return 0, False
-    if unit == "ppm/K":
+    if unit in ("ppm/K", "V/s"):
         rest = re.sub(r"\s*/\s*", "/", rest)
+    if unit == "V/s" and rest in _PER_TIME:      # "1 V/µs" = 1 MV/s
+        return _PER_TIME[rest], True
     for symbol, fold in _SYMBOLS[unit]:
         tail = rest[-len(symbol):] if len(rest) >= len(symbol) else ""
         if (tail.lower() == symbol.lower()) if fold else (tail == symbol):

@@ -90,7 +90,8 @@ def summary(project: Project, results: list[StageResult]) -> dict:
             "metrics": [metric_entry(m) for m in r.metrics],
             "checks": [verdict_entry(v) for v in r.verdicts + r.ratings],
             "parts": [part_entry(row) for row in r.part_rows],
-            **({"snubber": r.extra["json"]} if "json" in r.extra else {}),
+            # Kind-specific results under the kind's name ("snubber", "debounce").
+            **({r.stage.kind: r.extra["json"]} if "json" in r.extra else {}),
             **({"channels": [dict(c) for c in r.stage.channels]} if r.stage.channels else {}),
         } for r in results],
     }

@@ -1,7 +1,8 @@
 """Schematics of the stages: backend-neutral drawing recipes and one SVG adapter.
 
 A stage's schematic is data first: the builders here (`ladder`, `sallen_key`,
-`mfb`, `netlist`, `switch_snubber`, `inductive_snubber`) return a `Recipe`, a
+`mfb`, `netlist`, `switch_snubber`, `inductive_snubber`,
+`debounce`) return a `Recipe`, a
 frozen list of drawing steps in the manner of a pen plotter (place a part,
 run a wire, go back to a named point). Tests read recipes; only `render_svg`
 knows schemdraw and turns a recipe into SVG text. This module formats no
@@ -532,6 +533,44 @@ def inductive_snubber(*, snubber_r: Label | None, snubber_c: Label | None,
         pen("dot", start="contact_top")
         bottoms.append(snubber)
     _rail(pen, bottoms)
+    return pen.recipe()
+
+
+# --- logic inputs ----------------------------------------------------------------
+
+
+def debounce(*, r_pull: Label, r: Label, c: Label, supply_label: str, pull: str) -> Recipe:
+    """A contact read by a logic input: pull resistor and contact at the contact
+    node (pull-up: r_pull from the supply, the contact to ground; pull-down: the
+    contact from the supply, r_pull to ground), r to the input, c to ground."""
+    pen = _Pen()
+    pen("ground", name="gnd_supply", start="origin")
+    pen("source", name="supply", start="origin", direction="up", length=SNUB_H,
+        variant="dc", text=supply_label, side="left")
+    pen("wire", direction="right", length=LEAD)
+    if pull == "up":
+        pen("R", name="r_pull", label=r_pull, text="pull-up")
+    else:
+        pen("switch", name="contact", text="contact", side="above")
+    pen("wire", direction="right", length=LEAD)
+    pen("dot", name="node")
+    if pull == "up":
+        pen("switch", name="contact", start="node", direction="down", length=SNUB_H,
+            text="contact", side="left")
+        leg = "contact"
+    else:
+        pen("R", name="r_pull", start="node", direction="down", length=SNUB_H,
+            label=r_pull, text="pull-down", side="left")
+        leg = "r_pull"
+    pen("R", name="r", start="node", direction="right", label=r)
+    pen("wire", direction="right", length=LEAD)
+    pen("dot", name="input_node")
+    pen("C", name="c", start="input_node", direction="down", length=SNUB_H, label=c,
+        side="right")
+    pen("wire", name="to_pin", start="input_node", direction="right",
+        length=max(SLOT, _room_right(c)))
+    pen("terminal", name="pin", text="logic input", side="above")
+    _rail(pen, [leg, "c"])
     return pen.recipe()
 
 

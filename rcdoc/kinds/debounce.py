@@ -1,0 +1,219 @@
+"""debounce: a mechanical contact read by a logic input through an RC.
+
+This module reads the stage's keys (supply, pull, thresholds, leakage),
+builds the rows of the analysis (the parts' Monte Carlo samples, sensitivity
+probes and worst-case corners from rcdoc.spread, each with its own draw of
+the input's thresholds; the corners also take the thresholds' extremes),
+evaluates the closed-form metrics of rcdoc.debounce on every row, judges the
+checks and lays out the note page: press and release waveforms with the
+threshold bands, the levels, and the caution about slow edges. It replaces
+the generic frequency-domain analysis (``analyse``).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+
+import numpy as np
+
+from .. import checks as checkmod
+from .. import debounce as phys
+from .. import spread
+from ..errors import ProjectError
+from ..figures import schematic as sch
+from ..network import GROUND, Element, Network
+from ..quantities import format_quantity, parse_positive, parse_quantity
+from . import base
+
+NAME = "debounce"
+OPTIONS = ("supply", "pull", "thresholds", "leakage")
+PASSBAND = "low"
+ROLES = ("r_pull", "r", "c")
+METRIC_NAMES = ("press_delay", "release_delay", "high_level", "low_level", "edge_rate")
+NOT_FOR_DEBOUNCE = ("source", "load", "marks", "drive")
+PULLS = ("up", "down")
+
+
+def fq(v, unit, digits=3):
+    return "—" if not math.isfinite(v) else format_quantity(float(v), unit, digits)
+
+
+# --------------------------------------------------------------------------
+# project keys
+
+
+def _range(raw, path: str, supply: float) -> tuple[float, float]:
+    if not isinstance(raw, list) or len(raw) != 2:
+        raise ProjectError("expected a range of two voltages, e.g. [\"1.5 V\", \"2.3 V\"]",
+                           path=path)
+    lo, hi = (parse_quantity(v, "V", f"{path}[{k}]") for k, v in enumerate(raw))
+    for k, v in enumerate((lo, hi)):
+        if not 0 < v < supply:
+            raise ProjectError(f"a threshold must lie between 0 V and the supply "
+                               f"({format_quantity(supply, 'V')})", path=f"{path}[{k}]")
+    if lo > hi:
+        raise ProjectError("write the range lowest first", path=path)
+    return lo, hi
+
+
+def parse_options(t: dict, path: str) -> dict:
+    from ..project import check_keys, need_string, need_table
+    for key in NOT_FOR_DEBOUNCE:
+        if key in t:
+            raise ProjectError(f"'{key}' does not apply to a debounce stage: its circuit is "
+                               "set by 'supply', 'pull' and the parts", path=f"{path}.{key}")
+    for key in ("supply", "thresholds"):
+        if key not in t:
+            raise ProjectError(f"a debounce stage needs '{key}'", path=f"{path}.{key}")
+    supply = parse_positive(t["supply"], "V", f"{path}.supply")
+    pull = need_string(t.get("pull", "up"), f"{path}.pull")
+    if pull not in PULLS:
+        raise ProjectError(f"'{pull}' is not a pull direction; use \"up\" or \"down\"",
+                           path=f"{path}.pull")
+    th = need_table(t["thresholds"], f"{path}.thresholds")
+    check_keys(th, ("rising", "falling"), f"{path}.thresholds")
+    for key in ("rising", "falling"):
+        if key not in th:
+            raise ProjectError(f"'{key}' is missing (the input's "
+                               f"{'V_T+' if key == 'rising' else 'V_T−'} range)",
+                               path=f"{path}.thresholds.{key}")
+    rising = _range(th["rising"], f"{path}.thresholds.rising", supply)
+    falling = _range(th["falling"], f"{path}.thresholds.falling", supply)
+    for k, what in ((0, "lowest"), (1, "highest")):
+        if falling[k] > rising[k]:
+            raise ProjectError(f"the {what} falling threshold (V_T−) is above the {what} "
+                               "rising threshold (V_T+); a Schmitt input switches lower on "
+                               "a falling edge", path=f"{path}.thresholds.falling[{k}]")
+    leak = parse_quantity(t.get("leakage", 0.0), "A", f"{path}.leakage")
+    if leak < 0:
+        raise ProjectError("leakage is a magnitude (both directions are taken); write it "
+                           "without a sign", path=f"{path}.leakage")
+    return {"supply_v": supply, "pull": pull, "rising_v": rising, "falling_v": falling,
+            "leakage_a": leak}
+
+
+def check_roles(parts, options, path):
+    base.require_roles(parts, ROLES, path)
+
+
+def metrics(options, drive):
+    return METRIC_NAMES
+
+
+def build(stage) -> Network:
+    """The contact open: the pull resistor from the rail ("in"), r, c at the input ("out")."""
+    els = [Element("r_pull", "R", "in", "contact"), Element("r", "R", "contact", "out"),
+           Element("c", "C", "out", GROUND)]
+    return Network(elements=tuple(els), drive="in", output="out", path=("r_pull", "r", "c"))
+
+
+def characteristic_hz(stage):
+    p = stage.parts
+    return 1.0 / (2 * math.pi * (p["r_pull"].value + p["r"].value) * p["c"].value)
+
+
+def schematic(stage):
+    o, p = stage.options, stage.parts
+    return sch.debounce(r_pull=base.label(p["r_pull"]), r=base.label(p["r"]),
+                        c=base.label(p["c"]), supply_label=format_quantity(o["supply_v"], "V"),
+                        pull=o["pull"])
+
+
+# --------------------------------------------------------------------------
+# rows: the parts' batch with the thresholds of each row
+
+
+def threshold_batch(stage, analysis):
+    """The parts' batch with V_T+ and V_T- per row.
+
+    Nominal and sensitivity rows take the middle of each range; Monte Carlo
+    rows a uniform draw (from a stream spawned off the stage's generator, so
+    the parts' samples stay those of every other kind); each worst-case corner
+    of the parts is repeated for the four corners of the threshold ranges.
+    """
+    batch = spread.build_batch(stage, analysis)
+    o = stage.options
+    rising, falling = o["rising_v"], o["falling_v"]
+    mid_r, mid_f = sum(rising) / 2, sum(falling) / 2
+    rng = spread.rng_for(stage, analysis).spawn(1)[0]
+    up_mc, down_mc = phys.threshold_rows(rng, batch.samples, rising, falling)
+    up_c, down_c = phys.threshold_corners(rising, falling)
+    nv, vstart = len(batch.vertices), batch.vertex.start
+    values = {k: np.concatenate([v[:vstart], np.repeat(v[batch.vertex], 4)])
+              for k, v in batch.values.items()}
+    n_sens = len(batch.roles)
+    up = np.concatenate([[mid_r], up_mc, np.full(n_sens, mid_r), np.tile(up_c, nv)])
+    down = np.concatenate([[mid_f], down_mc, np.full(n_sens, mid_f), np.tile(down_c, nv)])
+    temps = np.concatenate([batch.temperature_c[:vstart], np.full(4 * nv, np.nan)])
+    out = dataclasses.replace(batch, values=values, temperature_c=temps,
+                              vertices=np.repeat(batch.vertices, 4, axis=0))
+    return out, up, down
+
+
+def evaluate(stage, values: dict, rising, falling) -> dict:
+    o = stage.options
+    return phys.metrics(o["pull"], o["supply_v"], o["leakage_a"], values["r_pull"],
+                        values["r"], values["c"], np.asarray(rising, float),
+                        np.asarray(falling, float))
+
+
+# --------------------------------------------------------------------------
+# analysis
+
+
+def _metric_result(name, arr, batch):
+    from ..analyse import MetricResult
+    finite0 = math.isfinite(arr[0]) and arr[0] != 0
+    sens = spread.sensitivities(arr, batch) if finite0 else np.zeros(len(batch.roles))
+    wc_vals = arr[batch.vertex]
+    wc_vals = wc_vals[np.isfinite(wc_vals)]
+    wc = (float(wc_vals.min()), float(wc_vals.max())) if wc_vals.size else (math.nan,) * 2
+    return MetricResult(name=name, at_hz=None, detail="", nominal=float(arr[0]),
+                        samples=arr[batch.mc], wc=wc,
+                        sensitivity={r: float(s) for r, s in zip(batch.roles, sens)})
+
+
+def _ratings(stage, batch, arrays):
+    """Stated ratings: the pull resistor carries the supply with the contact closed,
+    the series resistor only the leakage; the capacitor sees at most the high level."""
+    o, out = stage.options, []
+    v = batch.values
+    stress = {"r_pull": ("resistor_power", o["supply_v"] ** 2 / v["r_pull"]),
+              "r": ("resistor_power", o["leakage_a"] ** 2 * v["r"]),
+              "c": ("capacitor_voltage", arrays["high_level"])}
+    for role, (metric, arr) in stress.items():
+        part = stage.parts[role]
+        rating = part.power_rating_w if part.kind == "R" else part.voltage_rating_v
+        if rating is None:
+            continue
+        arr = np.broadcast_to(np.asarray(arr, float), (batch.rows,))
+        vx = arr[batch.vertex]
+        out.append(checkmod.judge(metric, arr[batch.mc], nominal=float(arr[0]),
+                                  wc=(float(vx.min()), float(vx.max())), lo=None, hi=rating,
+                                  part=part.ref or role, detail="rating"))
+    return out
+
+
+def analyse(stage, analysis):
+    from ..analyse import StageResult, _assumptions, _part_rows
+    batch, rising, falling = threshold_batch(stage, analysis)
+    arrays = evaluate(stage, batch.values, rising, falling)
+    metrics_ = [_metric_result(name, np.asarray(arrays[name], float), batch)
+                for name in METRIC_NAMES]
+    by_name = {m.name: m for m in metrics_}
+    verdicts = [checkmod.judge(c.metric, by_name[c.metric].samples,
+                               nominal=by_name[c.metric].nominal, wc=by_name[c.metric].wc,
+                               lo=c.min, hi=c.max, required_yield=c.required_yield)
+                for c in stage.checks]
+    from . import _debounce_note as debounce_note
+    extra = debounce_note.extra(stage, batch, rising, falling, arrays)
+    empty = np.zeros(0)
+    return StageResult(stage=stage, network=build(stage), passband=PASSBAND,
+                       char_hz=characteristic_hz(stage), freqs_hz=empty,
+                       h_nominal=empty.astype(complex), band={}, metrics=metrics_,
+                       verdicts=verdicts, ratings=_ratings(stage, batch, arrays), phasor={},
+                       step=None, pwm=None, part_rows=_part_rows(stage, analysis),
+                       assumptions=debounce_note.assumptions(stage)
+                       + _assumptions(stage, analysis),
+                       samples=batch.samples, extra=extra)
