@@ -154,8 +154,9 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
     offered = kind.metrics(stage.options, stage.drive)
     requests = _metric_requests(stage, offered)
 
-    # Time grid shared by all rows: long enough for the slowest row to settle.
-    probe = Evaluator(stage, network, batch.values, freqs, passband, char_hz)
+    # Time grid shared by all rows, from the nominal alone (a row's numbers must
+    # not depend on the other rows or on --samples).
+    probe = Evaluator(stage, network, nominal_vals, freqs, passband, char_hz)
     time_s = probe.time_s if stage.drive is not None else None
 
     values_per_req: list[list[np.ndarray]] = [[] for _ in requests]

@@ -768,13 +768,15 @@ def _matvec(M: np.ndarray, x: np.ndarray) -> np.ndarray:
 
 def _march(
     M: np.ndarray,
-    k: np.ndarray,
+    k0: np.ndarray,
+    k1: np.ndarray,
     x: np.ndarray,
-    ubar: np.ndarray,
+    u0: np.ndarray,
+    u1: np.ndarray,
     W: np.ndarray | None = None,
     rec: np.ndarray | None = None,
 ) -> np.ndarray:
-    """Run x <- M·x + k·ubar[:, n] for every column n of ubar; return the final x (s, N).
+    """Run x <- M·x + k0·u0[:, n] + k1·u1[:, n] for every column n of u0; return the final x (s, N).
 
     With ``rec`` (P, s, >= n) given, W·x is recorded in rec[:, :, n] before
     each step. The loop runs over time only; each step is batched over the
@@ -782,11 +784,11 @@ def _march(
     products run several times faster that way than with samples first.
     """
     Mt = np.ascontiguousarray(np.moveaxis(M, 0, -1))  # (N, N, s)
-    kt = np.ascontiguousarray(k.T)  # (N, s)
+    k0t, k1t = np.ascontiguousarray(k0.T), np.ascontiguousarray(k1.T)  # (N, s)
     xt = np.ascontiguousarray(x.T)
     Wt = None if W is None else np.ascontiguousarray(np.moveaxis(W, 0, -1))  # (P, N, s)
-    steps = ubar.shape[1]
-    uT = np.ascontiguousarray(ubar.T)  # (T, s or 1): one contiguous row per step
+    steps = u0.shape[1]
+    u0T, u1T = np.ascontiguousarray(u0.T), np.ascontiguousarray(u1.T)  # (T, s or 1)
     # States are kept for a run of steps and turned into probes by one product
     # per run, not one small product per step (same numbers, fewer calls).
     run = 256 if rec is not None else 0
@@ -797,26 +799,70 @@ def _march(
             if buf is not None:
                 buf[l] = xt
             xt = np.einsum("ijs,js->is", Mt, xt)
-            xt += kt * uT[n0 + l]
+            xt += k0t * u0T[n0 + l]
+            xt += k1t * u1T[n0 + l]
         if buf is not None and m:
             rec[:, :, n0:n0 + m] = np.einsum("pjs,ljs->psl", Wt, buf[:m])
     return np.ascontiguousarray(xt.T)
 
 
-def _step_matrices(G: np.ndarray, C: np.ndarray, b: np.ndarray, h: float) -> tuple[np.ndarray, np.ndarray]:
-    """Trapezoidal rule for C·x' + G·x = b·u: x[n+1] = M·x[n] + k·(u[n] + u[n+1])/2.
+# Radau IIA with three stages: order 5, L-stable and stiffly accurate (the last
+# stage is the step's end). Coefficients from Hairer & Wanner, Solving Ordinary
+# Differential Equations II, section IV.5, table 5.6.
+_SQ6 = math.sqrt(6.0)
+_RADAU_C = np.array([(4 - _SQ6) / 10, (4 + _SQ6) / 10, 1.0])
+_RADAU_A = np.array([
+    [(88 - 7 * _SQ6) / 360, (296 - 169 * _SQ6) / 1800, (-2 + 3 * _SQ6) / 225],
+    [(296 + 169 * _SQ6) / 1800, (88 + 7 * _SQ6) / 360, (-2 - 3 * _SQ6) / 225],
+    [(16 - _SQ6) / 36, (16 + _SQ6) / 36, 1 / 9],
+])
+#: How the input runs between grid instants: "linear" (straight line from
+#: u[n] to u[n+1]) or "hold" (u[n] held until t[n+1], for square waves whose
+#: edges lie on the grid).
+INPUT_MODES = ("linear", "hold")
 
-    (C/h + G/2)·x[n+1] = (C/h − G/2)·x[n] + b·(u[n] + u[n+1])/2. The left
-    matrix is the pencil at s = 2/h, regular whenever the network is, also
-    when C is singular (index-1 descriptor systems such as ideal op-amps).
+
+def _step_matrices(
+    G: np.ndarray, C: np.ndarray, b: np.ndarray, h: float, hold: bool = False
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """One Radau IIA step of C·x' + G·x = b·u: x[n+1] = M·x[n] + k0·u[n] + k1·u[n+1].
+
+    Stage values X_i at t[n] + c_i·h solve C·X_i = C·x[n] + h·Σ_j a_ij·(b·u_j − G·X_j),
+    the charge balance in integral form, and x[n+1] = X_3. Hence x[n+1]
+    depends on x[n] only through its charges and fluxes C·x[n]: algebraic
+    parts (ideal op-amps, nodes without capacitors, capacitor loops through
+    the source) are met at every step and never ring, and a fast pole is
+    damped as it should be (the stability function is positive on the
+    negative real axis and vanishes at infinity), whatever h·|pole| is.
     """
-    A = C / h + G / 2
+    S, N, _ = G.shape
+    A, c = _RADAU_A, _RADAU_C
+    # Weights of u[n] and u[n+1] in each stage's input term h·Σ_j a_ij·u_j.
+    w0 = A @ (np.ones(3) if hold else 1.0 - c)
+    w1 = np.zeros(3) if hold else A @ c
+    big = np.zeros((S, 3 * N, 3 * N))
+    rhs = np.zeros((S, 3 * N, N + 2))
+    for i in range(3):
+        rows = slice(i * N, (i + 1) * N)
+        for j in range(3):
+            big[:, rows, j * N:(j + 1) * N] = h * A[i, j] * G
+        big[:, rows, rows] += C
+        rhs[:, rows, :N] = C
+        rhs[:, rows, N] = h * w0[i] * b
+        rhs[:, rows, N + 1] = h * w1[i] * b
+    # Equilibrate rows and columns: the unknowns mix volts and amperes, the
+    # rows siemens and farads per step, over many decades for stiff networks.
+    r = np.max(np.abs(big), axis=-1, keepdims=True)
+    r = np.where(r > 0, r, 1.0)
+    big, rhs = big / r, rhs / r
+    col = np.max(np.abs(big), axis=-2, keepdims=True)
+    col = np.where(col > 0, col, 1.0)
     try:
-        M = np.linalg.solve(A, C / h - G / 2)
-        k = np.linalg.solve(A, np.broadcast_to(b[:, None], A.shape[:-1] + (1,)))[..., 0]
+        sol = np.linalg.solve(big / col, rhs) / np.swapaxes(col, -1, -2)
     except np.linalg.LinAlgError:
         raise ProjectError("the network has no unique solution for this time step") from None
-    return M, k
+    last = sol[:, 2 * N:, :]
+    return last[..., :N], last[..., N], last[..., N + 1]
 
 
 def _dc_singular(system: System) -> bool:
@@ -839,23 +885,24 @@ def transient(
     probes: Sequence[str],
     *,
     initial: str = "dc",
+    input_mode: str = "linear",
 ) -> dict[str, np.ndarray]:
     """Time response of C·x' + G·x = b·u(t) on a uniform grid, per sample.
 
     ``t_s`` (T,) must be uniform (the step is t_s[1] − t_s[0]); ``u`` is the
     source voltage (V) at those instants, (T,) or (S, T), taken as linear
-    between samples (trapezoidal rule, second order, A-stable).
+    between samples (``input_mode="linear"``) or held from one sample to the
+    next (``"hold"``). Stepped by Radau IIA (order 5, L-stable; see
+    ``_step_matrices``): each sample's numbers depend on its own values and
+    the grid only, never on the other samples of the batch.
 
     Initial state, ``initial="dc"``: the DC operating point for u[0]
     (G·x0 = b·u[0]); when G is singular (a node reached through capacitors
     only, or an inductor loop) the state at rest x0 = 0 is used instead.
     ``initial="rest"``: x0 = 0 whatever u[0] is (a step applied at t_s[0]).
-    A start at rest may violate the network's algebraic constraints
-    (V(drive) = u, ideal op-amps): the first sample then shows the state at
-    rest, and the integration starts from the consistent state just after
-    t_s[0] (same charges and fluxes, algebraic equations met), found by a
-    backward-Euler step of vanishing length; the trapezoidal rule keeps the
-    constraints from there on (it would otherwise ring at every step).
+    The first sample then shows the state at rest; the first step starts from
+    its charges and fluxes (all zero), so a capacitive divider jumps at once,
+    as charge conservation says.
 
     ``probes``: node names (voltage), "v:NAME" (element voltage a − b),
     "i:NAME" (element current a -> b; also op-amp output currents and
@@ -864,6 +911,8 @@ def transient(
     """
     if initial not in ("dc", "rest"):
         raise ValueError("initial must be 'dc' or 'rest'")
+    if input_mode not in INPUT_MODES:
+        raise ValueError(f"input_mode must be one of {INPUT_MODES}")
     system = assemble(network, values)
     vals, samples = _element_values(network, values)
     t, h = _time_grid(t_s)
@@ -878,37 +927,18 @@ def transient(
         ss = slice(s0, s0 + chunk)
         G, C, W = system.G[ss], system.C[ss], spec.weights[ss]
         uc = uu if uu.shape[0] == 1 else uu[ss]
-        M, k = _step_matrices(G, C, system.b, h)
-        consistent = False
+        M, k0, k1 = _step_matrices(G, C, system.b, h, hold=input_mode == "hold")
         x = np.zeros(G.shape[:2])
         if use_dc:
             try:
                 x = np.linalg.solve(G, (system.b[None, :] * uc[:, :1])[..., None])[..., 0]
-                consistent = bool(np.all(np.isfinite(x)))
             except np.linalg.LinAlgError:
-                pass
-            if not consistent:
+                x = np.zeros(G.shape[:2])
+            if not np.all(np.isfinite(x)):
                 x = np.zeros(G.shape[:2])
         rec = out[:, ss, :]
-        rec0 = np.einsum("spn,sn->ps", W, x)
-        if not consistent:
-            # Consistent start: a backward-Euler step of vanishing length δ,
-            # (C/δ + G)·x = (C/δ)·x0 + b·u[0], leaves the charges and fluxes
-            # (C·x) as they were and satisfies the algebraic equations exactly.
-            # Rows are equilibrated because C/δ dwarfs G.
-            d = h * 1e-6
-            A = C / d + G
-            rhs = _matvec(C / d, x) + system.b[None, :] * uc[:, :1]
-            r = np.max(np.abs(A), axis=-1)
-            r = np.where(r > 0, r, 1.0)
-            try:
-                x = np.linalg.solve(A / r[..., None], (rhs / r)[..., None])[..., 0]
-            except np.linalg.LinAlgError:
-                raise ProjectError("the network has no unique solution for this time step") from None
-        ubar = 0.5 * (uc[:, :-1] + uc[:, 1:])
-        x = _march(M, k, x, ubar, W, rec)
+        x = _march(M, k0, k1, x, uc[:, :-1], uc[:, 1:], W, rec)
         rec[:, :, -1] = np.einsum("spn,sn->ps", W, x)
-        rec[:, :, 0] = rec0  # the first sample shows the initial state (at rest, for a step)
 
     result = {}
     for p, name in enumerate(spec.names):
@@ -950,21 +980,23 @@ def _consistency_rows(G: np.ndarray, C: np.ndarray, b: np.ndarray) -> tuple[np.n
 
 
 def periodic_steady_state(
-    network: Network, values: Mapping[str, np.ndarray], t_s, u, probes: Sequence[str]
+    network: Network, values: Mapping[str, np.ndarray], t_s, u, probes: Sequence[str],
+    *, input_mode: str = "linear",
 ) -> dict[str, np.ndarray]:
     """Probes (S, T) over one period in the periodic steady state of a repeating input.
 
     ``t_s`` is a uniform grid over exactly one period with the endpoint
-    excluded (period = T·dt); ``u`` (T,) or (S, T) repeats with that period.
-    With the trapezoidal step x[n+1] = M·x[n] + k·ū[n] the state after one
-    period is Φ·x0 + κ with Φ = M^T (repeated squaring) and κ the response
-    from rest; the periodic state solves (I − Φ)·x0 = κ. The trapezoidal
-    rule maps the algebraic part of a descriptor system to eigenvalue −1, so
-    for an even T that equation leaves it free; it is fixed by adding the
-    algebraic constraints at t = 0 and solving in the least-squares sense.
-    A charge that nothing can drain (a node reached through capacitors only)
-    is left at its minimum-norm value. Probes as for ``transient``.
+    excluded (period = T·dt); ``u`` (T,) or (S, T) repeats with that period,
+    between samples as ``input_mode`` says (see ``transient``). With the
+    step x[n+1] = M·x[n] + k0·u[n] + k1·u[n+1] the state after one period is
+    Φ·x0 + κ with Φ = M^T (repeated squaring) and κ the response from rest;
+    the periodic state solves (I − Φ)·x0 = κ, together with the algebraic
+    constraints at t = 0, in the least-squares sense. A charge that nothing
+    can drain (a node reached through capacitors only) is left at its
+    minimum-norm value. Probes as for ``transient``.
     """
+    if input_mode not in INPUT_MODES:
+        raise ValueError(f"input_mode must be one of {INPUT_MODES}")
     system = assemble(network, values)
     vals, samples = _element_values(network, values)
     t, h = _time_grid(t_s)
@@ -979,13 +1011,16 @@ def periodic_steady_state(
         ss = slice(s0, s0 + chunk)
         G, C, W = system.G[ss], system.C[ss], spec.weights[ss]
         uc = uu if uu.shape[0] == 1 else uu[ss]
-        ubar = 0.5 * (uc + np.roll(uc, -1, axis=1))  # the last step wraps to u[0]
-        M, k = _step_matrices(G, C, system.b, h)
+        u1 = np.roll(uc, -1, axis=1)  # the last step wraps to u[0]
+        M, k0, k1 = _step_matrices(G, C, system.b, h, hold=input_mode == "hold")
         phi = np.linalg.matrix_power(M, steps)
-        kappa = _march(M, k, np.zeros(G.shape[:2]), ubar)
+        kappa = _march(M, k0, k1, np.zeros(G.shape[:2]), uc, u1)
         rows, rhs_b = _consistency_rows(G, C, system.b)
         A = np.concatenate([np.eye(N)[None] - phi, rows], axis=1)
-        rhs = np.concatenate([kappa, rhs_b * uc[:, :1]], axis=1)
+        # The state at t = 0 meets the constraints for the input arriving there:
+        # u[0], or the held u[T−1] (the last step ends at the period's end).
+        u_at0 = uc[:, -1:] if input_mode == "hold" else uc[:, :1]
+        rhs = np.concatenate([kappa, rhs_b * u_at0], axis=1)
         # Equilibrate rows and columns: the state mixes volts and amperes.
         r = np.max(np.abs(A), axis=-1, keepdims=True)
         r = np.where(r > 0, r, 1.0)
@@ -993,7 +1028,7 @@ def periodic_steady_state(
         c = np.max(np.abs(A), axis=-2, keepdims=True)
         c = np.where(c > 0, c, 1.0)
         x = _matvec(np.linalg.pinv(A / c, rtol=1e-10), rhs) / c[:, 0, :]
-        _march(M, k, x, ubar, W, out[:, ss, :])
+        _march(M, k0, k1, x, uc, u1, W, out[:, ss, :])
 
     result = {}
     for p, name in enumerate(spec.names):

@@ -22,6 +22,7 @@ DB3 = 10 * math.log10(2.0)          # 3.0103 dB: half power
 CORNER_ITERATIONS = 40               # bisection steps in log-frequency: far below 1 ppm
 PEAK_ITERATIONS = 30                 # golden-section steps: bracket shrinks by 0.618^30 ≈ 5e-7
 TIME_POINTS = 4000                   # step-response grid
+TIME_CONSTANTS = 24.0                # step window in slowest nominal time constants
 PWM_POINTS = 1000                    # points over one PWM period
 
 
@@ -245,13 +246,15 @@ class Evaluator:
     # ---- time domain -------------------------------------------------------
     @cached_property
     def time_s(self) -> np.ndarray:
-        """Step grid long enough for the slowest decay among the rows to settle to 16+ bits."""
-        p = self.poles
+        """Step grid from the first row (the nominal in a batch) only, so that no
+        row's numbers depend on the others: long enough for the nominal to settle
+        to about 34 bits, i.e. for rows up to twice as slow to settle to 16."""
+        p = self.poles[:1]
         decay = np.where(np.isnan(p.real), np.inf, np.abs(p.real))
         slowest = np.nanmin(decay)
         if not np.isfinite(slowest) or slowest <= 0:
             slowest = 2 * np.pi * self.char_hz
-        t_end = 18.0 / slowest
+        t_end = TIME_CONSTANTS / slowest
         return np.linspace(0.0, t_end, TIME_POINTS)
 
     @cached_property
@@ -259,9 +262,8 @@ class Evaluator:
         amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
         probes = ["out"] + [f"v:{e.name}" for e in self.network.elements]
         t = self.time_s
-        # The step is applied at t = 0 from rest. (A first sample of 0 V would make
-        # the trapezoidal rule ramp the input over the first step and delay the whole
-        # response by half a step: settling came out 0.0023 RC late.)
+        # The step is applied at t = 0 from rest: the input holds its amplitude
+        # from the first instant on.
         u = np.full(t.shape, amp)
         return engine.transient(self.network, self.values, t, u, probes=probes,
                                 initial="rest")
@@ -316,9 +318,11 @@ class Evaluator:
         d = self.stage.drive
         period = 1.0 / d.frequency_hz
         t = np.arange(PWM_POINTS) * (period / PWM_POINTS)
+        # Held between instants: the edges fall on the grid, not halfway between.
         u = np.where(t < d.duty * period, d.amplitude_v, 0.0)
         probes = ["out"] + [f"v:{e.name}" for e in self.network.elements]
-        return engine.periodic_steady_state(self.network, self.values, t, u, probes=probes)
+        return engine.periodic_steady_state(self.network, self.values, t, u, probes=probes,
+                                            input_mode="hold")
 
     @cached_property
     def pwm_time_s(self) -> np.ndarray:

@@ -453,8 +453,10 @@ def method_appendix() -> list[dict]:
                 "modified nodal analysis: Kirchhoff's current law at every node, plus one "
                 "equation per voltage source, inductor and op-amp output, written as "
                 "(G + sC)·x = b. The same matrices give the frequency response (s = j2πf), "
-                "the poles (where G + sC is singular) and, with the trapezoidal rule, the "
-                "time response.",
+                "the poles (where G + sC is singular) and the time response, stepped by the "
+                "three-stage Radau IIA rule (order 5, L-stable: fast parasitic poles are damped, "
+                "never ring) on a grid set by the nominal design alone, so that no sample's "
+                "result depends on the others.",
                 "An op-amp follows the single-pole model A(s) = A0 / (1 + s·A0/(2π·GBW)); "
                 "without an amplifier table it is ideal (infinite gain).",
                 "Every row of part values (nominal, each Monte Carlo sample, each worst-case "

@@ -19,7 +19,7 @@ values (one row per Monte Carlo sample, worst-case corner or probe):
   networks): a voltage source i·R + ∫i dt / C in series with that branch. So
   the engine, whose only source is a voltage, solves the kick exactly.
 
-Time responses come from rcdoc.engine (trapezoidal rule), vectorised over the
+Time responses come from rcdoc.engine (Radau IIA steps), vectorised over the
 rows and split into chunks to bound memory; closed forms appear only in the
 tests. What it must not do: parse the project, know tolerances, format
 numbers or draw.
@@ -152,7 +152,8 @@ def damping_ratio(p: np.ndarray) -> np.ndarray:
 
 
 def time_grid(p: np.ndarray, *, t_min: float = 0.0, t_max: float = math.inf) -> np.ndarray:
-    """Uniform grid from 0 over SETTLE_TIME_CONSTANTS of the slowest decay of any row."""
+    """Uniform grid from 0 over SETTLE_TIME_CONSTANTS of the slowest decay of any row given
+    (for a Monte Carlo batch, pass the nominal row alone: no row may depend on the others)."""
     re = np.abs(p.real[np.isfinite(p.real)])
     re = re[re > 0]
     mags = np.abs(p[np.isfinite(p)])
