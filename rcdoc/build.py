@@ -23,6 +23,7 @@ import multiprocessing
 import os
 import sys
 import tempfile
+import time
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -49,6 +50,8 @@ class Outcome:
     parts: list | None = None
     # Cache entries to file once the outputs are written (a failed build writes nothing).
     pending: Callable[[], None] | None = None
+    # Seconds each stage analysed in this run took (its unit of work; none for cached stages).
+    seconds: dict[str, float] = field(default_factory=dict)
 
     def commit_cache(self) -> None:
         if self.pending is not None:
@@ -67,14 +70,24 @@ def _stage_unit(stage: Stage, project: Project, draw: bool, part_job=None):
     A ProjectError comes back as plain data: its location would not survive pickling.
     """
     try:
+        t0 = time.perf_counter()
         result = analyse_stage(stage, project.analysis)
         context = None
         if draw:
             from .note import stage_context
             context = stage_context(result, project)
-        return ("ok", result, context, _part_unit(context, part_job))
+        part = _part_unit(context, part_job)
+        return ("ok", result, context, part, time.perf_counter() - t0)
     except ProjectError as exc:
         return ("error", exc.message, exc.path, exc.file)
+
+
+def _draw_unit(result, project: Project, part_job=None):
+    """Draw (and render the part of) a stage whose analysis came from the cache,
+    filed there by ``rcdoc check`` or ``diff``, which do not draw."""
+    from .note import stage_context
+    context = stage_context(result, project)
+    return context, _part_unit(context, part_job)
 
 
 def _part_unit(context, part_job):
@@ -124,33 +137,39 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
 
     ``jobs`` > 1 runs stages in that many worker processes, which (with
     ``draw``) also render each stage's part of the note with ``template_dirs``
-    (rcdoc.assemble). ``out_dir`` (with ``draw``) enables the build cache in
-    ``out_dir/.rcdoc-cache``.
+    (rcdoc.assemble). ``out_dir`` enables the build cache in
+    ``out_dir/.rcdoc-cache``; without ``draw`` (check, diff) only the analysis
+    half of an entry is read and filed, and a later build draws what it lacks.
     """
     stages = list(project.stages)
     n = len(stages)
     results: list = [None] * n
     contexts: list = [None] * n
     parts: list = [None] * n
-    cache = StageCache.for_output(out_dir, project.file) if (draw and out_dir is not None) else None
+    cache = StageCache.for_output(out_dir, project.file) if out_dir is not None else None
     keys = [stage_key(st, project) for st in stages] if cache is not None else [None] * n
     todo = []
     cached = []
+    todraw = []            # analysed (by check or diff) but not drawn yet
     for i, st in enumerate(stages):
         hit = cache.get(keys[i]) if cache is not None else None
         if hit is not None:
             results[i], contexts[i] = hit
             parts[i] = cache.parts.get(keys[i])
             cached.append(st.id)
+            if draw and contexts[i] is None:
+                todraw.append(i)
         else:
             todo.append(i)
     original_parts = list(parts)
+    seconds: dict[str, float] = {}
 
     def settle(i: int, answer) -> None:
         if answer[0] == "error":
             _, message, path, file = answer
             raise ProjectError(message, path=path or stages[i].path, file=file).located(project.file)
         results[i], contexts[i], parts[i] = answer[1], answer[2], answer[3]
+        seconds[stages[i].id] = answer[4]
 
     # Stage parts of the note are rendered where there are workers to spread
     # them over; a serial build leaves them to write_outputs (same bytes).
@@ -168,14 +187,16 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
             epoch = source_date_epoch(project)
             project_dir = Path(project.file).resolve().parent
             part_jobs = [(head, list(template_dirs), project_dir, epoch, k) for k in pkeys]
-            redo = [i for i in range(n) if i not in todo
+            redo = [i for i in range(n) if i not in todo and i not in todraw
                     and (parts[i] is None or parts[i].get("key") != pkeys[i])]
-    workers = max(1, min(int(jobs or 1), len(todo) + len(redo)))
+    workers = max(1, min(int(jobs or 1), len(todo) + len(redo) + len(todraw)))
     if workers == 1:
         for i in todo:
             if progress:
                 progress(stages[i].id)
             settle(i, _stage_unit(stages[i], project, draw))
+        for i in todraw:
+            contexts[i], parts[i] = _draw_unit(results[i], project)
     else:
         with ProcessPoolExecutor(max_workers=workers, mp_context=_pool_context()) as pool:
             futures = {}
@@ -184,24 +205,29 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
                     progress(stages[i].id)
                 futures[i] = pool.submit(_stage_unit, stages[i], project, draw, part_jobs[i])
             redone = {i: pool.submit(_part_unit, contexts[i], part_jobs[i]) for i in redo}
+            drawn = {i: pool.submit(_draw_unit, results[i], project, part_jobs[i])
+                     for i in todraw}
             try:
                 for i in todo:              # in stage order: the first error is the first stage's
                     settle(i, futures[i].result())
                 for i in redo:
                     parts[i] = redone[i].result()
+                for i in todraw:
+                    contexts[i], parts[i] = drawn[i].result()
             except BaseException:
-                for f in (*futures.values(), *redone.values()):
+                for f in (*futures.values(), *redone.values(), *drawn.values()):
                     f.cancel()
                 raise
     def file_entries():
         for i in range(n):
-            if i in todo or parts[i] is not original_parts[i]:
+            if i in todo or i in todraw or parts[i] is not original_parts[i]:
                 cache.put(keys[i], results[i], contexts[i], parts[i])
-        cache.prune()
+        if draw:       # check and diff leave the other entries to the next build
+            cache.prune()
     pending = file_entries if cache is not None else None
     return Outcome(project, results, contexts if draw else None, cached=cached,
                    computed=[stages[i].id for i in todo], parts=parts if draw else None,
-                   pending=pending)
+                   pending=pending, seconds=seconds)
 
 
 def output_dir(project_file: str, out: str | None) -> Path:
@@ -219,7 +245,7 @@ def source_date_epoch(project: Project) -> int:
 
 
 def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
-                  extra_appendix=()) -> tuple[Path, Path]:
+                  extra_appendix=(), changes=None) -> tuple[Path, Path]:
     """Render the PDF and the JSON; both land only if both could be made."""
     from .note import note_context
     from .report import render_pdf
@@ -232,9 +258,10 @@ def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
     csv_path, csv_bytes = out_dir / f"{stem}-parts.csv", parts_csv(outcome.results)
     if outcome.contexts is not None:
         context = note_context(project, outcome.results, extra_appendix=extra_appendix,
-                               stage_contexts=outcome.contexts)
+                               stage_contexts=outcome.contexts, changes=changes)
     else:
-        context = note_context(project, outcome.results, extra_appendix=extra_appendix)
+        context = note_context(project, outcome.results, extra_appendix=extra_appendix,
+                               changes=changes)
     made = [d for d in (out_dir, *out_dir.parents) if not d.exists()]
     out_dir.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=f".{stem}.", suffix=".pdf.tmp", dir=out_dir)

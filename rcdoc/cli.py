@@ -59,11 +59,25 @@ def make_parser() -> argparse.ArgumentParser:
     c = sub.add_parser("check", help="analyse and judge the checks; no PDF")
     common(c)
     c.add_argument("--junit", metavar="FILE", help="write a JUnit XML report")
+    c.add_argument("--json", metavar="PATH", help="write the JSON summary (with several "
+                   "project files: a folder, one <stem>.json each)")
+    c.add_argument("--annotations", action="store_true", help="print one CI annotation "
+                   "line (::error file=...,line=...) per failed check on stdout")
+    c.add_argument("-o", "--output", metavar="DIR", help="the build's output folder, whose "
+                   "analysis cache is read and filled (default: build/ beside each file)")
     d = sub.add_parser("diff", help="what changed between two revisions of a project")
     d.add_argument("old", metavar="OLD", help="project file, or git:REV for NEW at a git revision")
     d.add_argument("new", metavar="NEW", help="project file")
     d.add_argument("--samples", type=_positive_int, help="Monte Carlo samples per stage")
     d.add_argument("--seed", type=_positive_int, help="random seed")
+    d.add_argument("--jobs", type=_positive_int, default=None,
+                   help="parallel processes (default: the machine's cores)")
+    d.add_argument("--json", metavar="FILE", help="write the comparison as JSON")
+    d.add_argument("--fail-on", choices=["regression"], default=None,
+                   help="exit 1 when a check went from pass to fail, a yield fell or a "
+                   "stage became unstable")
+    d.add_argument("-o", "--output", metavar="DIR", help="the build's output folder, whose "
+                   "analysis cache is read and filled (default: build/ beside each file)")
     i = sub.add_parser("init", help="write a commented starting project file")
     i.add_argument("file", metavar="FILE", nargs="?", default=None,
                    help="file to create (default: project.toml); never overwritten")
@@ -110,6 +124,8 @@ def cmd_build(args) -> int:
     olds = []
     if args.since:               # read every old revision before anything is written
         from .diff import read_at_revision
+        from .since import resolve_commit
+        commits = [resolve_commit(p.file, args.since) for p in projects]
         olds = [read_at_revision(p.file, args.since, samples=args.samples, seed=args.seed)
                 for p in projects]
     console = _console(args.quiet)
@@ -121,15 +137,17 @@ def cmd_build(args) -> int:
                                   jobs=_jobs(args),
                                   draw=True, out_dir=out_dir, template_dirs=template_dirs)
         extra = []
+        changes = None           # right after the summary, named on the cover
         if args.since:
-            from .diff import compare, since_section
+            from .diff import compare
+            from .since import changes_section
             old = analyse_project(olds[k], progress=_progress_for(console, olds[k].file),
                                   jobs=_jobs(args))
-            extra.append(since_section(compare(olds[k], old.results, project, outcome.results,
-                                               old_label=f"git:{args.since}"), args.since))
+            changes = changes_section(compare(olds[k], old.results, project, outcome.results,
+                                              old_label=f"git:{commits[k].short}"), commits[k])
         try:
             pdf, js = write_outputs(outcome, out_dir, template_dirs=template_dirs,
-                                    extra_appendix=extra)
+                                    extra_appendix=extra, changes=changes)
         except OSError as exc:     # e.g. no permission: one line, not a traceback
             raise ProjectError(f"cannot write the note: {exc.strerror or exc}",
                                file=str(exc.filename or out_dir)) from exc
@@ -142,25 +160,43 @@ def cmd_build(args) -> int:
 
 
 def cmd_check(args) -> int:
-    from .build import analyse_project, load_all
+    from .build import analyse_project, load_all, output_dir
     from .files import write_atomic
     from .summary import junit
     projects = load_all(args.files, samples=args.samples, seed=args.seed)
+    if args.json:                # where each summary goes, settled before any analysis
+        from .machine import json_targets
+        json_paths = json_targets(args.json, [p.file for p in projects])
     console = _console(args.quiet)
     outcomes = []
     for project in projects:
+        # The analysis half of build's cache: a check after a build analyses nothing.
         outcome = analyse_project(project, progress=_progress_for(console, project.file),
-                                  jobs=_jobs(args))
+                                  jobs=_jobs(args), out_dir=output_dir(project.file, args.output))
         outcomes.append(outcome)
         if console is not None:
             _print_table(console, outcome)
     if args.junit:
         try:
             write_atomic(Path(args.junit),
-                         junit([(o.project, o.results) for o in outcomes]).encode("utf-8"))
+                         junit([(o.project, o.results) for o in outcomes],
+                               [o.seconds for o in outcomes]).encode("utf-8"))
         except OSError as exc:     # e.g. a folder that cannot be written: one line, exit 2
             raise ProjectError(f"cannot write the JUnit report: {exc.strerror or exc}",
                                path="--junit", file=str(args.junit)) from exc
+    if args.json:
+        from .regression import write_json
+        from .summary import summary
+        for o, path in zip(outcomes, json_paths):
+            write_json(str(path), summary(o.project, o.results))
+    if args.annotations:
+        from .machine import annotation_lines
+        from .positions import project_lines
+        for o in outcomes:
+            for line in annotation_lines(o.project, o.results, project_lines(o.project)):
+                print(line)
+    for o in outcomes:
+        o.commit_cache()
     return EXIT_FAIL if any(o.status != "pass" for o in outcomes) else EXIT_OK
 
 
@@ -192,8 +228,16 @@ def _print_table(console, outcome) -> None:
 def cmd_diff(args) -> int:
     from rich.console import Console
 
-    from .diff import diff_files, render_rich
-    render_rich(diff_files(args.old, args.new, samples=args.samples, seed=args.seed), Console())
+    from .diff import render_rich
+    from .regression import diff_json, run_diff, write_json
+    d, regs = run_diff(args.old, args.new, samples=args.samples, seed=args.seed,
+                       jobs=_jobs(args), output=args.output)
+    render_rich(d, Console())
+    if args.json:
+        write_json(args.json, diff_json(d, regs))
+    if args.fail_on == "regression" and regs:
+        print(f"rcdoc: {len(regs)} regression{'' if len(regs) == 1 else 's'}", file=sys.stderr)
+        return EXIT_FAIL
     return EXIT_OK
 
 

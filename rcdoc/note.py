@@ -513,9 +513,10 @@ def bom_appendix(project: Project) -> list[dict]:
 
 
 def note_context(project: Project, results: list[StageResult], *, extra_appendix=(),
-                 stage_contexts: list[dict] | None = None) -> dict:
+                 stage_contexts: list[dict] | None = None, changes: dict | None = None) -> dict:
     """The whole note's context. ``stage_contexts`` (one stage_context per result,
-    made in worker processes or taken from the build cache) saves drawing them here."""
+    made in worker processes or taken from the build cache) saves drawing them here;
+    ``changes`` (rcdoc.since.changes_section) goes right after the summary."""
     b = project.board
     a = project.analysis
     t0, t1 = a.temperature_c
@@ -536,4 +537,5 @@ def note_context(project: Project, results: list[StageResult], *, extra_appendix
         "stages": (list(stage_contexts) if stage_contexts is not None
                    else [stage_context(r, project) for r in results]),
         "appendix": list(extra_appendix) + bom_appendix(project) + method_appendix(),
+        "changes": changes,
     }

@@ -75,7 +75,10 @@ def part_entry(row: dict) -> dict:
 
 
 def summary(project: Project, results: list[StageResult]) -> dict:
+    from .machine import check_extras
+    from .positions import project_lines
     a = project.analysis
+    lines = project_lines(project)     # each check's line in the file (rcdoc.positions)
     return {
         "format": 1,
         "generator": f"rcdoc {__version__}",
@@ -88,7 +91,8 @@ def summary(project: Project, results: list[StageResult]) -> dict:
             "id": r.stage.id, "kind": r.stage.kind, "title": r.stage.title,
             "status": r.status,
             "metrics": [metric_entry(m) for m in r.metrics],
-            "checks": [verdict_entry(v) for v in r.verdicts + r.ratings],
+            "checks": [{**verdict_entry(v), **extra} for v, extra
+                       in zip(r.verdicts + r.ratings, check_extras(r, lines))],
             "parts": [part_entry(row) for row in r.part_rows],
             # Kind-specific results under the kind's name ("snubber", "debounce").
             **({r.stage.kind: r.extra["json"]} if "json" in r.extra else {}),
@@ -124,21 +128,45 @@ def case_name(v) -> str:
     return name
 
 
-def junit(projects: list[tuple[Project, list[StageResult]]]) -> str:
-    """JUnit XML: one suite per project file, one test case per check or rating."""
+def junit(projects: list[tuple[Project, list[StageResult]]], seconds=None) -> str:
+    """JUnit XML: one suite per project file, one test case per check or rating.
+
+    Cases carry the project file and the line of their check (rcdoc.positions);
+    suites carry seed, samples and rcdoc's version as properties. ``seconds``
+    (one {stage id: analysis seconds} per project; 0 for a stage from the
+    cache) gives each case its stage's time shared evenly over its cases.
+    """
+    from .machine import check_extras
+    from .positions import project_lines
+    seconds = list(seconds) if seconds is not None else [{} for _ in projects]
     lines = ['<?xml version="1.0" encoding="UTF-8"?>']
     total = sum(len(r.verdicts) + len(r.ratings) for _, rs in projects for r in rs)
     fails = sum(v.status != "pass" for _, rs in projects for r in rs
                 for v in r.verdicts + r.ratings)
-    lines.append(f'<testsuites name="rcdoc" tests="{total}" failures="{fails}">')
-    for project, results in projects:
+    whole = sum(sum(s.values()) for s in seconds)
+    lines.append(f'<testsuites name="rcdoc" tests="{total}" failures="{fails}" '
+                 f'time="{whole:.3f}">')
+    for (project, results), times in zip(projects, seconds):
         n = sum(len(r.verdicts) + len(r.ratings) for r in results)
         f = sum(v.status != "pass" for r in results for v in r.verdicts + r.ratings)
-        lines.append(f'  <testsuite name={quoteattr(project.file)} tests="{n}" failures="{f}">')
+        file = quoteattr(project.file)
+        lines.append(f'  <testsuite name={file} tests="{n}" failures="{f}" '
+                     f'time="{sum(times.values()):.3f}">')
+        lines.append("    <properties>")
+        for name, value in (("seed", project.analysis.seed),
+                            ("samples", project.analysis.samples),
+                            ("rcdoc version", __version__)):
+            lines.append(f'      <property name="{name}" value={quoteattr(str(value))}/>')
+        lines.append("    </properties>")
+        where = project_lines(project)
         for r in results:
-            for v in r.verdicts + r.ratings:
+            checks = r.verdicts + r.ratings
+            each = times.get(r.stage.id, 0.0) / len(checks) if checks else 0.0
+            for v, extra in zip(checks, check_extras(r, where)):
                 cls = quoteattr(f"{project.board.name}.{r.stage.id}")
-                lines.append(f'    <testcase classname={cls} name={quoteattr(case_name(v))}>')
+                line = f' line="{extra["line"]}"' if extra["line"] is not None else ""
+                lines.append(f'    <testcase classname={cls} name={quoteattr(case_name(v))} '
+                             f'file={file}{line} time="{each:.3f}">')
                 if v.status != "pass":
                     msg = describe_verdict(v)
                     lines.append(f'      <failure message={quoteattr(msg)}>{escape(msg)}</failure>')

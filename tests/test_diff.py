@@ -202,22 +202,52 @@ def test_git_side_needs_a_file_on_the_other_side(tmp_path):
 
 @needs_git
 def test_build_since_adds_the_changes_section(repo, tmp_path, monkeypatch):
-    # The PDF itself is exercised elsewhere; here: what the build hands to the note.
+    # What the build hands to the note; the PDF is read in the test below.
     import rcdoc.build
     seen = {}
 
-    def fake_write_outputs(outcome, out_dir, *, template_dirs=(), extra_appendix=()):
+    def fake_write_outputs(outcome, out_dir, *, template_dirs=(), extra_appendix=(),
+                           changes=None):
         seen["appendix"] = list(extra_appendix)
+        seen["changes"] = changes
         return out_dir / "b.pdf", out_dir / "b.json"
 
     monkeypatch.setattr(rcdoc.build, "write_outputs", fake_write_outputs)
     status = main(["build", str(repo), "-o", str(tmp_path / "out"), "--since", "HEAD",
                    "--samples", "30", "--quiet"])
     assert status == 1                      # the new corner fails its check
-    (section,) = seen["appendix"]
-    assert section["title"] == "Changes since HEAD"
+    assert seen["appendix"] == []           # no longer at the back of the note
+    section = seen["changes"]
+    short, date = _head(repo.parent.parent)
+    assert section["title"] == f"Changes since {short} ({date})"
     parts = next(b for b in section["blocks"] if b.get("title") == "Parts")
     assert parts["rows"] == [["lp", "R1", "r", "value changed", "4.7 kΩ", "5.1 kΩ"]]
+
+
+def _head(root):
+    """HEAD's short id and commit date, asked of git directly."""
+    out = subprocess.run(["git", "log", "-1", "--format=%h %cd", "--date=short"], cwd=root,
+                         check=True, capture_output=True, text=True).stdout.split()
+    return out[0], out[1]
+
+
+@needs_git
+def test_since_head_names_the_commit_on_the_cover_and_after_the_summary(repo, tmp_path):
+    import pypdf
+    out = tmp_path / "out"
+    assert main(["build", str(repo), "-o", str(out), "--since", "HEAD", "--samples", "30",
+                 "--quiet", "--jobs", "1"]) == 1
+    short, date = _head(repo.parent.parent)
+    pages = [p.extract_text() for p in pypdf.PdfReader(out / "b.pdf").pages]
+    title = f"Changes since {short} ({date})"
+    assert title in pages[0]                                    # the cover names the commit
+    at = next(i for i, t in enumerate(pages) if i > 0 and title in t)
+    summary = next(i for i, t in enumerate(pages) if "Summary" in t and i > 0)
+    stage = next(i for i, t in enumerate(pages) if "Low-pass" in t and "Parts" in t
+                 and title not in t)
+    assert summary < at < stage                                 # right after the summary
+    assert "HEAD" not in pages[at]                              # the commit, not the name
+    assert f"git:{short}" in pages[at]
 
 
 @needs_git
@@ -225,3 +255,83 @@ def test_build_since_bad_revision_writes_nothing(repo, tmp_path):
     out = tmp_path / "out"
     assert main(["build", str(repo), "-o", str(out), "--since", "nope", "--quiet"]) == 2
     assert not out.exists()
+
+
+# --------------------------------------------------------------------------- for machines
+
+def test_fail_on_regression_exits_1_when_a_check_goes_from_pass_to_fail(tmp_path, capsys):
+    import json
+    old = write(tmp_path / "old.toml", "A", "4k7")     # corner 3.39 kHz: inside 3.2-3.5 kHz
+    new = write(tmp_path / "new.toml", "B", "5k1")     # corner 3.12 kHz: below (rc_corner)
+    report = tmp_path / "diff.json"
+    assert main(["diff", str(old), str(new), "--samples", "30", "--jobs", "1",
+                 "--json", str(report), "--fail-on", "regression"]) == 1
+    data = json.loads(report.read_text(encoding="utf-8"))
+    assert data["regressions"] == [{"stage": "lp", "what": "verdict",
+                                    "check": "Corner frequency (−3 dB)",
+                                    "before": "pass", "after": "fail"}]
+    (check,) = data["checks"]
+    assert (check["before"]["status"], check["after"]["status"]) == ("pass", "fail")
+    (metric,) = [m for m in data["metrics"] if m["metric"] == "corner"]
+    assert metric["before"] == pytest.approx(rc_corner(4700, 10e-9), rel=1e-5)
+    assert metric["after"] == pytest.approx(rc_corner(5100, 10e-9), rel=1e-5)
+    assert data["parts"][0]["fields"] == [{"name": "value", "before": "4.7 kΩ",
+                                           "after": "5.1 kΩ"}]
+    assert (data["old"]["status"], data["new"]["status"]) == ("pass", "fail")
+    # Without --fail-on the same comparison exits 0.
+    assert main(["diff", str(old), str(new), "--samples", "30", "--jobs", "1"]) == 0
+
+
+def test_fail_on_regression_exits_0_on_an_improvement(tmp_path):
+    import json
+    old = write(tmp_path / "old.toml", "A", "5k1")
+    new = write(tmp_path / "new.toml", "B", "4k7")
+    report = tmp_path / "diff.json"
+    assert main(["diff", str(old), str(new), "--samples", "30", "--jobs", "1",
+                 "--json", str(report), "--fail-on", "regression"]) == 0
+    data = json.loads(report.read_text(encoding="utf-8"))
+    assert data["regressions"] == []
+    assert data["checks"][0]["after"]["status"] == "pass"
+
+
+def _summary(stages):
+    return {"stages": stages}
+
+
+def _stage(checks, **extra):
+    return {"id": "s", "checks": checks, **extra}
+
+
+def _chk(status, y, metric="corner"):
+    return {"metric": metric, "status": status, "yield": y, "label": metric}
+
+
+def test_regressions_yield_fall_and_instability():
+    from rcdoc.regression import regressions
+    # A yield that fell while the check still passes (required yield below 1).
+    regs = regressions(_summary([_stage([_chk("pass", 0.999)])]),
+                       _summary([_stage([_chk("pass", 0.990)])]))
+    assert [(r["what"], r["before"], r["after"]) for r in regs] == [("yield", 0.999, 0.990)]
+    # A summary without samples_unstable counts as 0; 0 -> 3 is a regression.
+    regs = regressions(_summary([_stage([])]), _summary([_stage([], samples_unstable=3)]))
+    assert [(r["what"], r["before"], r["after"]) for r in regs] == [("unstable", 0, 3)]
+    # Already unstable before, an improved yield, a removed check: none.
+    assert regressions(_summary([_stage([_chk("fail", 0.5), _chk("pass", 1, "q")],
+                                        samples_unstable=2)]),
+                       _summary([_stage([_chk("fail", 0.7)], samples_unstable=5)])) == []
+
+
+def test_diff_reads_and_fills_the_build_cache(tmp_path, monkeypatch):
+    import rcdoc.build
+    calls = []
+    real = rcdoc.build.analyse_stage
+    monkeypatch.setattr(rcdoc.build, "analyse_stage",
+                        lambda st, a: calls.append(st.id) or real(st, a))
+    old = write(tmp_path / "old.toml", "A", "4k7")
+    new = write(tmp_path / "new.toml", "B", "5k1")
+    assert main(["diff", str(old), str(new), "--samples", "30", "--jobs", "1"]) == 0
+    assert calls == ["lp", "lp"]
+    calls.clear()
+    assert main(["check", str(new), "--samples", "30", "--jobs", "1", "--quiet"]) == 1
+    assert main(["diff", str(old), str(new), "--samples", "30", "--jobs", "1"]) == 0
+    assert calls == []                       # both sides, and the check, from the cache
