@@ -95,6 +95,8 @@ def parts_table(r: StageResult) -> dict:
         tol = (f"±{p.tol_plus * 100:g} %" if abs(p.tol_plus - p.tol_minus) < 1e-12
                else f"+{p.tol_plus * 100:g} / −{p.tol_minus * 100:g} %")
         temp = p.dielectric or (f"{p.tcr_ppm:g} ppm/K" if p.tcr_ppm is not None else "—")
+        if p.temperature_change:
+            temp += f" ({p.temperature_change[1] * 100:g} % at {fq(p.temperature_change[0], 'degC')})"
         if p.dc_bias and p.bias_v:
             temp += f"; {p.dc_bias[1] * 100:g} % at {fq(p.dc_bias[0], 'V')}, biased {fq(p.bias_v, 'V')}"
         rating = (fq(p.power_rating_w, "W") if p.power_rating_w else
