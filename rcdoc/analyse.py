@@ -18,8 +18,10 @@ from . import checks as checkmod
 from . import engine
 from . import parts as partmodels
 from . import spread
+from . import worstcase
 from .evaluate import Evaluator, sweep_for
 from .kinds import KINDS
+from .kinds.base import fixed_values
 from .metrics import METRICS
 from .model import Analysis, Check, Stage
 from .network import GROUND, Network
@@ -41,6 +43,7 @@ class MetricResult:
     samples: np.ndarray                  # (S,)
     wc: tuple[float, float]              # extreme-value analysis: lowest, highest
     sensitivity: dict[str, float]        # part role -> sensitivity
+    wc_method: str = worstcase.VERTICES  # how the worst-case range was found
 
     @property
     def unit(self) -> str:
@@ -205,6 +208,9 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
     for (name, at, chk), parts_ in zip(requests, values_per_req):
         full[(name, at, _detail(chk) or _default_detail(name))] = np.concatenate(parts_)
 
+    wc_ctx = _WorstCaseContext(stage, analysis, network, batch, freqs, passband, char_hz,
+                               t_hot_k, time_s)
+    line_y = wc_ctx.line_values(requests)
     # Worst-case corners for many parts: each part at the extreme its sensitivity favours.
     for (name, at, chk) in requests:
         key = (name, at, _detail(chk) or _default_detail(name))
@@ -219,14 +225,13 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
                             time_s=time_s)
             extra = ev2.metric(name, chk, at_hz=at)
             wc_vals = np.concatenate([wc_vals, extra])
-        finite = wc_vals[np.isfinite(wc_vals)]
-        wc = (float(finite.min()), float(finite.max())) if finite.size else (math.nan, math.nan)
+        wc, wc_method = wc_ctx.enclose((name, at, chk), arr, wc_vals, line_y[key])
         unit = METRICS[name].unit
         if unit in ("dB", "deg"):
             # Absolute change per percent of part change for logarithmic and angular metrics.
             sens = (arr[batch.sens] - arr[0]) / (spread.SENSITIVITY_STEP * 100)
         metrics.append(MetricResult(name=name, at_hz=at, detail=key[2], nominal=float(arr[0]),
-                                    samples=arr[batch.mc], wc=wc,
+                                    samples=arr[batch.mc], wc=wc, wc_method=wc_method,
                                     sensitivity={r: float(s) for r, s in zip(batch.roles, sens)}))
 
     verdicts = []
@@ -258,6 +263,67 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
                        part_rows=_part_rows(stage, analysis), assumptions=_assumptions(stage, analysis),
                        samples=batch.samples,
                        extra={"stresses": part_stresses(stage, batch, cap_peaks, res_powers)})
+
+
+@dataclass
+class _WorstCaseContext:
+    """What the worst-case search needs to evaluate a metric on any part values."""
+
+    stage: Stage
+    analysis: Analysis
+    network: Network
+    batch: spread.Batch
+    freqs: np.ndarray
+    passband: str
+    char_hz: float
+    t_hot_k: float
+    time_s: np.ndarray | None
+
+    def __post_init__(self):
+        ext = [partmodels.extremes(self.stage.parts[r], self.analysis) for r in self.batch.roles]
+        self.lows = np.array([e[0] for e in ext], dtype=float).reshape(-1)
+        self.highs = np.array([e[1] for e in ext], dtype=float).reshape(-1)
+
+    def part_values(self, rows) -> np.ndarray:
+        """(N, P) part values of some rows of the batch."""
+        cols = [self.batch.values[r][rows] for r in self.batch.roles]
+        return np.stack(cols, axis=1) if cols else np.zeros((0, 0))
+
+    def evaluator(self, x: np.ndarray) -> Evaluator:
+        vals = {r: x[:, k] for k, r in enumerate(self.batch.roles)}
+        for name, v in fixed_values(self.stage).items():
+            vals[name] = np.full(len(x), v)
+        return Evaluator(self.stage, self.network, vals, self.freqs, self.passband, self.char_hz,
+                         temperature_k=self.t_hot_k, time_s=self.time_s)
+
+    def line_values(self, requests) -> dict:
+        """Every requested metric along each part's walk through the nominal design."""
+        p = len(self.batch.roles)
+        if p == 0:
+            return {(n, a, _detail(c) or _default_detail(n)): np.zeros(0) for n, a, c in requests}
+        x = worstcase.line_rows(self.part_values(slice(0, 1))[0], self.lows, self.highs)
+        ev = self.evaluator(x)
+        return {(n, a, _detail(c) or _default_detail(n)):
+                np.asarray(ev.metric(n, c, at_hz=a), dtype=float) for n, a, c in requests}
+
+    def enclose(self, request, arr: np.ndarray, corner_y: np.ndarray, line_y: np.ndarray):
+        """(low, high) holding corners, nominal and samples; searched inside where needed."""
+        name, at, chk = request
+        b, p = self.batch, len(self.batch.roles)
+        method = (worstcase.VERTICES if p <= spread.FULL_VERTEX_PARTS
+                  else worstcase.SENSITIVITY_VERTICES)
+        samples = arr[b.mc]
+        found = [corner_y, arr[:1], samples, line_y]
+        if p and worstcase.needs_search(corner_y, float(arr[0]), samples,
+                                        line_y, p):
+            def evaluate(x):
+                return np.asarray(self.evaluator(x).metric(name, chk, at_hz=at), dtype=float)
+            starts, up = worstcase.start_points(
+                self.part_values(b.mc), samples, self.part_values(slice(0, 1))[0],
+                self.part_values(b.vertex), arr[b.vertex])
+            found.append(worstcase.search(evaluate, starts, up, self.lows, self.highs))
+            method += worstcase.SEARCHED
+        return worstcase.enclosing_range(np.concatenate(found)), method
 
 
 def _mc_rows(rows: slice, batch: spread.Batch):

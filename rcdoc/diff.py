@@ -237,6 +237,9 @@ def _part_fields(p) -> dict[str, tuple[Any, str]]:
         "dielectric": (p.dielectric, p.dielectric or "—"),
         "dc_bias": (p.dc_bias, "—" if p.dc_bias is None else
                     f"{p.dc_bias[1] * 100:g} % at {format_quantity(p.dc_bias[0], 'V')}"),
+        "temperature_change": (p.temperature_change, "—" if p.temperature_change is None else
+                               f"{p.temperature_change[1] * 100:g} % at "
+                               f"{format_quantity(p.temperature_change[0], 'degC')}"),
         "bias": (p.bias_v, "—" if p.bias_v is None else format_quantity(p.bias_v, "V")),
         "voltage": (p.voltage_rating_v, "—" if p.voltage_rating_v is None
                     else format_quantity(p.voltage_rating_v, "V")),

@@ -63,7 +63,9 @@ drive = { step = "2.5 V" }               # enables rise time, settling and part 
 parts.r = { ref = "R1", value = "10k", tolerance = "1%", tcr = "100 ppm/K", power = "0.1 W" }
 parts.c = { ref = "C1", value = "100 nF", tolerance = "5%", dielectric = "C0G", voltage = "25 V" }
 # Other part keys: dc_bias = { at = "12 V", change = "-40%" } with bias = "5 V"
-# (class II capacitors), model = "manufacturer part number".
+# (class II capacitors), temperature_change = { at = "85 °C", change = "-8%" }
+# (a class II part's measured point; without it the code's full band applies
+# at any temperature), model = "manufacturer part number".
 
 [[stage.check]]
 metric = "corner"                        # the -3 dB frequency

@@ -27,6 +27,7 @@ class Part:
     tcr_ppm: float | None = None          # ppm/K; resistors, film and class I capacitors
     dielectric: str | None = None          # "X7R", "C0G", "film-pp", ...
     dc_bias: tuple[float, float] | None = None  # (at volts, fractional change, e.g. -0.4)
+    temperature_change: tuple[float, float] | None = None  # class II: (at °C, fractional change)
     bias_v: float | None = None            # DC volts across the capacitor in this circuit
     voltage_rating_v: float | None = None
     power_rating_w: float | None = None

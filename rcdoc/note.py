@@ -96,6 +96,8 @@ def parts_table(r: StageResult) -> dict:
         tol = (f"±{p.tol_plus * 100:g} %" if abs(p.tol_plus - p.tol_minus) < 1e-12
                else f"+{p.tol_plus * 100:g} / −{p.tol_minus * 100:g} %")
         temp = p.dielectric or (f"{p.tcr_ppm:g} ppm/K" if p.tcr_ppm is not None else "—")
+        if p.temperature_change:
+            temp += f" ({p.temperature_change[1] * 100:g} % at {fq(p.temperature_change[0], 'degC')})"
         if p.dc_bias and p.bias_v:
             temp += f"; {p.dc_bias[1] * 100:g} % at {fq(p.dc_bias[0], 'V')}, biased {fq(p.bias_v, 'V')}"
         rating = (fq(p.power_rating_w, "W") if p.power_rating_w else
@@ -165,11 +167,15 @@ def metrics_table(r: StageResult) -> dict:
                      fq(hi, unit), fq(mean, unit), fq(std, unit) if unit not in ("dB", "deg")
                      else f"{std:.3g} {'dB' if unit == 'dB' else '°'}",
                      f"{fq(m.wc[0], unit)} … {fq(m.wc[1], unit)}"
+                     + (" (searched inside)" if "search" in m.wc_method else "")
                      + (f" ({missing} samples without a value)" if missing else "")])
     return {"type": "table", "title": "Metrics",
             "columns": ["Metric", "Nominal", "Min", "Max", "Mean", "Std dev", "Worst case"],
             "rows": rows, "note": "Min, max, mean and standard deviation over the Monte "
-                                  "Carlo samples; worst case over the parts' limits."}
+                                  "Carlo samples; worst case over the parts' limits: the "
+                                  "corners of the box of part values, searched inside the box "
+                                  "where the metric is not monotonic in a part (\"searched "
+                                  "inside\"); it holds the nominal and every sample."}
 
 
 def sensitivity_table(r: StageResult) -> dict | None:
@@ -470,7 +476,15 @@ def method_appendix() -> list[dict]:
                 "Worst case: extreme-value analysis evaluates the metric at the corners of the "
                 "box spanned by every part's lowest and highest in-circuit value (every "
                 "corner for up to 8 parts; beyond that, the two corners the sensitivities "
-                "point to). A worst-case range wider than the Monte Carlo range is expected.",
+                "point to). A worst-case range wider than the Monte Carlo range is expected. "
+                "Corners suffice only for a metric that is monotonic in every part, so each "
+                "part is also walked alone through the nominal design (9 values from its "
+                "lowest to its highest); where a walk turns back, or the nominal or a sample "
+                "lies outside the corners' range, a bounded pattern search inside the box "
+                "(from the nominal, the most extreme samples and the best corner, one step up "
+                "and down in every part, halving the steps) widens the range. The range "
+                "always holds the nominal and every sample; the JSON names the method per "
+                "metric (worst_case_method).",
                 "Sensitivity: each part is moved by 0.1 % from the nominal design; the "
                 "relative change of the metric divided by 0.1 % ranks the parts."]},
             {"type": "text", "title": "Metrics", "paragraphs": [

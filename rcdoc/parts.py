@@ -20,14 +20,18 @@ The model (every factor multiplies the marked value):
     else the dielectric's: polypropylene about −200 ppm/K, polyester about
     +400 ppm/K (common practice); a C0G/NP0 part without a stated tcr draws
     its coefficient uniformly within 0 ± 30 ppm/K (EIA-198);
-  - class II ceramics (EIA-198 codes such as X7R): the code's capacitance
-    change band is assumed reached at the edges of the rated range, with
-    25 °C as the reference. Each part draws, per sample, one end value for the
-    cold edge and one for the hot edge, uniformly within the band; between
-    25 °C and each edge the change is linear in temperature. So a part's
-    curve is a "V" or a slope, never outside the band, and a narrow analysed
-    range around 25 °C sees a proportionally small share of the band. This is
-    an assumption: real curves are smooth and part-specific.
+  - class II ceramics (EIA-198 codes such as X7R): EIA-198 bounds the
+    capacitance change (from its 25 °C value) over the code's whole rated
+    range and promises nothing tighter at any temperature inside it. So by
+    default a sample at any temperature other than 25 °C draws its change
+    uniformly within the full band (X7R: ±15 % at 30 °C as at 125 °C), and
+    the worst case takes the band's edges: the conservative reading. An
+    analysed range outside the code's rated range is an input error (the
+    code promises nothing there). A part may state a measured point,
+    ``temperature_change = (at_c, change)``: the change is then taken as
+    linear in |T − 25 °C| through that point (the same slope mirrored on the
+    other side of 25 °C), bounded by the code's band. That one-point curve is
+    an assumption; real curves are smooth and part-specific.
   - electrolytic capacitors: no temperature model beyond the tolerance.
 * DC bias (capacitors with ``dc_bias = (at_v, change)`` and ``bias_v``):
   factor 1 + change·(bias_v/at_v)², clipped at 0.1. The square law through
@@ -37,6 +41,7 @@ The model (every factor multiplies the marked value):
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass
 
@@ -210,8 +215,11 @@ def extremes(part: Part, analysis: Analysis) -> tuple[float, float]:
     if diel is not None:
         check_temperature_range(diel, t_low, t_high, part.path + ".dielectric")
     if diel is not None and diel.family == "class-2":
-        reach = float(np.max(_class2_reach(diel, np.array([t_low, t_high], dtype=float))))
-        temp_lo, temp_hi = 1.0 - diel.band_minus * reach, 1.0 + diel.band_plus * reach
+        # The change over the analysed range: 25 °C itself when inside it, and both ends.
+        t = np.array([t_low, t_high, min(max(REFERENCE_C, t_low), t_high)])
+        change = np.concatenate([_class2_change(part, diel, t, end, end)
+                                 for end in (-diel.band_minus, diel.band_plus)])
+        temp_lo, temp_hi = 1.0 + float(change.min()), 1.0 + float(change.max())
     else:
         tc_lo, tc_hi = _tc_range_ppm(part, diel)
         corners = [1.0 + tc * 1e-6 * (tt - REFERENCE_C) for tc in (tc_lo, tc_hi) for tt in (t_low, t_high)]
@@ -231,18 +239,7 @@ def assumptions(part: Part, analysis: Analysis) -> list[str]:
     diel = _dielectric_of(part)
     fixed_temperature = t_low == t_high == REFERENCE_C
     if diel is not None and diel.family == "class-2":
-        reach = float(np.max(_class2_reach(diel, np.array([t_low, t_high], dtype=float))))
-        out.append(
-            f"{label}: {diel.code} is an EIA-198 {diel.description}. The change is assumed to "
-            f"grow linearly from none at 25 °C to a value drawn uniformly within the band at "
-            f"each rated edge (an assumption; real curves are part-specific)"
-            + (
-                "; the analysis at 25 °C sees none of it."
-                if fixed_temperature else
-                f"; from {_deg(t_low)} to {_deg(t_high)} up to "
-                f"{_band(diel.band_plus * reach, diel.band_minus * reach)}."
-            )
-        )
+        out.append(f"{label}: {_class2_sentence(part, diel, analysis, fixed_temperature)}")
     elif diel is not None and diel.family == "electrolytic":
         out.append(f"{label}: electrolytic; no temperature model beyond the tolerance.")
     elif not fixed_temperature:
@@ -290,11 +287,21 @@ def _draw_tolerance(
     )
 
 
-def _class2_reach(diel: Dielectric, t: np.ndarray) -> np.ndarray:
-    """How far each temperature is from 25 °C toward the rated edge on its side, 0..1."""
-    hot = (t - REFERENCE_C) / (diel.rated_high_c - REFERENCE_C)
-    cold = (REFERENCE_C - t) / (REFERENCE_C - diel.rated_low_c)
-    return np.clip(np.where(t >= REFERENCE_C, hot, cold), 0.0, 1.0)
+def _class2_change(part: Part, diel: Dielectric, t: np.ndarray, cold, hot) -> np.ndarray:
+    """Fractional capacitance change of a class II part at temperatures ``t``.
+
+    Without a measured point: anywhere in the code's band at any temperature
+    but 25 °C (EIA-198 bounds only the whole range); ``cold``/``hot`` give the
+    value taken below and above 25 °C (per-sample draws, or one of the band's
+    edges for the extremes; scalars or arrays like ``t``). With ``temperature_change``:
+    linear in |T − 25 °C| through the stated point, bounded by the band.
+    """
+    away = t != REFERENCE_C
+    if part.temperature_change is None:
+        return np.where(away, np.where(t > REFERENCE_C, hot, cold), 0.0)
+    at_c, change = part.temperature_change
+    curve = change * np.abs(t - REFERENCE_C) / abs(at_c - REFERENCE_C)
+    return np.clip(curve, -diel.band_minus, diel.band_plus)
 
 
 def _tc_range_ppm(part: Part, diel: Dielectric | None) -> tuple[float, float]:
@@ -311,10 +318,11 @@ def _temperature_factor(
 ) -> np.ndarray:
     n = t.shape[0]
     if diel is not None and diel.family == "class-2":
+        # Two draws per sample (one each side of 25 °C) whatever the model, so the
+        # rng stream of later parts does not depend on it.
         cold_end = rng.uniform(-diel.band_minus, diel.band_plus, n)
         hot_end = rng.uniform(-diel.band_minus, diel.band_plus, n)
-        end = np.where(t >= REFERENCE_C, hot_end, cold_end)
-        return 1.0 + end * _class2_reach(diel, t)
+        return 1.0 + _class2_change(part, diel, t, cold_end, hot_end)
     tc_lo, tc_hi = _tc_range_ppm(part, diel)
     if diel is not None and part.tcr_ppm is None and diel.tc_spread_ppm > 0.0:
         # Drawn even at a fixed 25 °C so the rng stream (hence every later
@@ -368,6 +376,28 @@ def _tolerance_sentence(part: Part, distribution: str) -> str:
             "the limits (common practice)."
         )
     return f"tolerance {tol} drawn uniformly over its whole range."
+
+
+def _class2_sentence(part: Part, diel: Dielectric, analysis: Analysis, fixed: bool) -> str:
+    t_low, t_high = analysis.temperature_c
+    head = f"{diel.code} is an EIA-198 {diel.description}."
+    if fixed:
+        return head + " The analysis at 25 °C, the code's reference, sees no temperature change."
+    lo, hi = extremes(dataclasses.replace(part, tol_plus=0.0, tol_minus=0.0, dc_bias=None),
+                      analysis)
+    lo_pct, hi_pct = ((x / part.value - 1) * 100 for x in (lo, hi))
+    reached = (f"from {_deg(t_low)} to {_deg(t_high)}: {_num(lo_pct, '+.3g') if lo_pct else 0} % "
+               f"to {_num(hi_pct, '+.3g') if hi_pct else 0} %.")
+    if part.temperature_change is None:
+        return (head + " EIA-198 bounds the change over the whole range only, so the full "
+                "band is taken at any temperature other than 25 °C (the conservative "
+                "reading; each sample draws its change uniformly within the band); "
+                + reached)
+    at_c, change = part.temperature_change
+    return (head + f" Measured point stated for the part: {_num(change * 100, '+.3g')} % at "
+            f"{_deg(at_c)}; the change is taken as linear in |T − 25 °C| through it (the "
+            "same slope on the other side of 25 °C), bounded by the band (an assumption; "
+            "real curves are part-specific); " + reached)
 
 
 def _linear_tc_sentence(part: Part, diel: Dielectric | None) -> str:

@@ -35,6 +35,7 @@ ANALYSIS_KEYS = ("samples", "seed", "distribution", "temperature", "points_per_d
 STAGE_KEYS = ("id", "title", "kind", "notes", "source", "load", "marks", "drive",
               "parts", "check", "channels")
 PART_KEYS = ("ref", "value", "tolerance", "tcr", "dielectric", "dc_bias", "bias",
+             "temperature_change",
              "voltage", "power", "model")
 CHECK_KEYS = ("metric", "min", "max", "at", "within", "bits", "full_scale", "yield")
 
@@ -281,6 +282,32 @@ def _drive(value: Any, path: str) -> Drive:
     return Drive(kind="pwm", amplitude_v=amp, frequency_hz=freq, duty=duty)
 
 
+def _temperature_change(t: dict, path: str) -> tuple[float, float]:
+    """A class II part's measured point ``{ at = "85 °C", change = "-8%" }``, checked
+    against its EIA-198 code: inside the rated range, away from 25 °C, within the band."""
+    key = f"{path}.temperature_change"
+    diel = decode_dielectric(t["dielectric"], f"{path}.dielectric") if "dielectric" in t else None
+    if diel is None or diel.family != "class-2":
+        raise ProjectError("a measured temperature change applies to class II ceramics "
+                           "(a dielectric such as \"X7R\"); others take 'tcr'", path=key)
+    b = need_table(t["temperature_change"], key)
+    check_keys(b, ("at", "change"), key)
+    for k in ("at", "change"):
+        if k not in b:
+            raise ProjectError(f"'{k}' is missing", path=f"{key}.{k}")
+    at = parse_quantity(b["at"], "degC", f"{key}.at")
+    change = parse_percent(b["change"], f"{key}.change")
+    if not diel.rated_low_c <= at <= diel.rated_high_c or at == 25.0:
+        raise ProjectError(f"the measured point must lie inside the rated range of {diel.code} "
+                           f"({diel.rated_low_c:g} °C to {diel.rated_high_c:g} °C, EIA-198) "
+                           "and away from 25 °C, its reference", path=f"{key}.at")
+    if not -diel.band_minus <= change <= diel.band_plus:
+        raise ProjectError(f"a change of {change * 100:g} % is outside the band of {diel.code} "
+                           f"(+{diel.band_plus * 100:g} %/−{diel.band_minus * 100:g} %, EIA-198): "
+                           "the part would not meet its code", path=f"{key}.change")
+    return at, change
+
+
 def _part(role: str, t: dict, path: str, analysis: Analysis, bom_rows) -> Part:
     check_keys(t, PART_KEYS, path)
     kind = role[0].upper()
@@ -306,6 +333,8 @@ def _part(role: str, t: dict, path: str, analysis: Analysis, bom_rows) -> Part:
         if "tcr" in t and diel.family == "class-2":
             raise ProjectError("a class II dielectric has no tcr; its code sets the "
                                "temperature band", path=f"{path}.tcr")
+    if "temperature_change" in t:
+        kw["temperature_change"] = _temperature_change(t, path)
     if "dc_bias" in t:
         if kind != "C":
             raise ProjectError("only capacitors have a DC-bias loss", path=f"{path}.dc_bias")

@@ -64,6 +64,7 @@ from urllib.parse import urlsplit
 from urllib.request import url2pathname
 
 import jinja2
+import jinja2.sandbox
 import weasyprint
 from markupsafe import Markup, escape
 from weasyprint.urls import URLFetcher, URLFetcherResponse
@@ -342,7 +343,13 @@ class _ConfinedLoader(jinja2.FileSystemLoader):
 
 
 def _environment(search_path: Sequence[Path]) -> jinja2.Environment:
-    env = jinja2.Environment(
+    # Every template (shipped or --templates) runs in jinja2's immutable
+    # sandbox: no attribute starting with "_", no Python internals (globals,
+    # code, frames), no str.format escape, no mutation of lists or dicts. A
+    # template folder from a pull request cannot reach the environment, files
+    # or processes; what it tries ends as a SecurityError, reported as a
+    # template error with its file and line.
+    env = jinja2.sandbox.ImmutableSandboxedEnvironment(
         loader=_ConfinedLoader([str(p) for p in search_path]),
         autoescape=True,  # everything: a user's text may hold HTML
         undefined=jinja2.StrictUndefined,  # a misspelt name is an error, not blank

@@ -44,6 +44,7 @@ def metric_entry(m) -> dict:
     entry["mean"] = _num(finite.mean()) if finite.size else None
     entry["std"] = _num(finite.std()) if finite.size else None
     entry["worst_case"] = [_num(m.wc[0]), _num(m.wc[1])]
+    entry["worst_case_method"] = m.wc_method
     entry["missing"] = int(s.size - finite.size)
     return entry
 

@@ -212,6 +212,24 @@ CASES = [
      "stage[1].parts.c.dielectric", ["X9Q"], (), {}),
     ("dielectric-on-resistor", project(part_r('{ value = "4k7", dielectric = "C0G" }')),
      "stage[1].parts.r.dielectric", ["capacitors"], (), {}),
+    # A class II part's measured temperature point, checked against its EIA-198
+    # code: X7R is ±15 % over −55..+125 °C; C0G is class I (it takes a tcr).
+    ("temperature-change-outside-band",
+     project(part_c('{ value = "10 nF", dielectric = "X7R", '
+                    'temperature_change = { at = "85 °C", change = "-20%" } }')),
+     "stage[1].parts.c.temperature_change.change", ["band", "X7R"], (), {}),
+    ("temperature-change-outside-range",
+     project(part_c('{ value = "10 nF", dielectric = "X7R", '
+                    'temperature_change = { at = "150 °C", change = "-8%" } }')),
+     "stage[1].parts.c.temperature_change.at", ["rated range"], (), {}),
+    ("temperature-change-class-i",
+     project(part_c('{ value = "10 nF", dielectric = "C0G", '
+                    'temperature_change = { at = "85 °C", change = "-1%" } }')),
+     "stage[1].parts.c.temperature_change", ["class II"], (), {}),
+    ("temperature-change-missing-at",
+     project(part_c('{ value = "10 nF", dielectric = "X7R", '
+                    'temperature_change = { change = "-8%" } }')),
+     "stage[1].parts.c.temperature_change.at", ["missing"], (), {}),
     # ---- unknown kinds; roles missing or extra
     ("kind-typo", project(lowpass(**{'"rc-lowpass"': '"rc-lowpas"'})), "stage[1].kind",
      ["unknown kind", "did you mean 'rc-lowpass'"], (), {}),

@@ -18,6 +18,7 @@ import numpy as np
 from .. import checks as checkmod
 from .. import snubber as phys
 from .. import spread
+from .. import worstcase
 from ..errors import ProjectError
 from ..figures import charts
 from ..figures import schematic as sch
@@ -250,11 +251,10 @@ def analyse(stage, analysis):
     for name in METRIC_NAMES:
         arr = np.asarray(arrays[name], dtype=float)
         sens = spread.sensitivities(arr, batch) if arr[0] != 0 else np.zeros(len(batch.roles))
-        wc_vals = arr[batch.vertex]
-        wc_vals = wc_vals[np.isfinite(wc_vals)]
-        wc = (float(wc_vals.min()), float(wc_vals.max())) if wc_vals.size else (math.nan,) * 2
+        # The range holds the corners, the nominal and every sample (worstcase.py).
+        wc, method = worstcase.corners_and_samples(arr[batch.vertex], arr[:batch.mc.stop])
         metrics.append(MetricResult(name=name, at_hz=None, detail="", nominal=float(arr[0]),
-                                    samples=arr[batch.mc], wc=wc,
+                                    samples=arr[batch.mc], wc=wc, wc_method=method,
                                     sensitivity={r: float(s) for r, s in zip(batch.roles, sens)}))
     by_name = {m.name: m for m in metrics}
     verdicts = [checkmod.judge(c.metric, by_name[c.metric].samples,

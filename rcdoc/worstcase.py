@@ -1,0 +1,147 @@
+"""Worst-case ranges that enclose what they claim: corners, then the interior where needed.
+
+What it is for: turning a metric's values on the corners of the tolerance box
+(spread.py's vertex rows) into a reported worst-case range that holds the
+nominal design and every Monte Carlo sample, and searching inside the box when
+the metric is not monotonic in a part (a high-pass's group delay at its own
+corner peaks inside the box, so no corner shows the maximum).
+
+How: each part is walked alone through the nominal design (LINE_POINTS values
+from its lowest to its highest in-circuit value). When a walk turns back, or
+the nominal or a sample lies outside the corners' range, a bounded pattern
+search runs in the box of part values: started from the nominal, the most
+extreme Monte Carlo samples and the best corner, it tries one step up and down
+in every part for every start at once (all candidates are rows of one batch),
+keeps the best improving move of each start and halves the steps of a start
+that found none. The reported range is the extreme over corners, walks,
+search points, nominal and samples, so it encloses all of them by construction.
+
+What it must not do: know about kinds or draw anything; ``evaluate`` (part
+values -> metric per row) is the only way it touches the circuit.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Callable
+
+import numpy as np
+
+LINE_POINTS = 9          # values per part on the walk through the nominal design
+STARTS = 4               # Monte Carlo samples started from, per direction
+ITERATIONS = 40          # pattern-search iterations at most
+MIN_STEP = 1e-6          # stop when every step is below this share of its part's range
+FLAT = 1e-9              # relative change taken as no change (rounding of the solver)
+
+VERTICES = "vertices"                      # every corner of the box
+SENSITIVITY_VERTICES = "sensitivity vertices"   # many parts: the corners the sensitivities point to
+SEARCHED = " + interior search"
+WITH_SAMPLES = " + samples"                # corners widened to the nominal and samples
+
+
+Evaluate = Callable[[np.ndarray], np.ndarray]     # (N, P) part values -> (N,) metric
+
+
+def line_rows(nominal: np.ndarray, lows: np.ndarray, highs: np.ndarray) -> np.ndarray:
+    """(P·LINE_POINTS, P) rows: each part alone from its low to its high value."""
+    p = len(nominal)
+    frac = np.linspace(0.0, 1.0, LINE_POINTS)
+    rows = np.repeat(nominal[None, :], p * LINE_POINTS, axis=0)
+    for k in range(p):
+        rows[k * LINE_POINTS:(k + 1) * LINE_POINTS, k] = lows[k] + frac * (highs[k] - lows[k])
+    return rows
+
+
+def turns_back(line_values: np.ndarray, p: int) -> bool:
+    """True when the metric along any single part's walk rises and falls (not monotonic)."""
+    if p == 0:
+        return False
+    y = line_values.reshape(p, LINE_POINTS)
+    d = np.diff(y, axis=1)
+    scale = np.where(np.isfinite(y), np.abs(y), 0.0).max(axis=1, keepdims=True)
+    tol = FLAT * np.where(scale > 0, scale, 1.0)
+    with np.errstate(invalid="ignore"):
+        up = np.any(d > tol, axis=1)
+        down = np.any(d < -tol, axis=1)
+    return bool(np.any(up & down))
+
+
+def search(evaluate: Evaluate, starts: np.ndarray, maximise: np.ndarray,
+           lows: np.ndarray, highs: np.ndarray) -> np.ndarray:
+    """Pattern search in the box [lows, highs] from every start at once.
+
+    ``starts`` (S, P) part values, ``maximise`` (S,) bool: the direction of
+    each start. Returns the metric at every point visited that improved, (M,).
+    One batch of 2·P·S candidate rows per iteration; no loop over starts.
+    """
+    s, p = starts.shape
+    span = highs - lows
+    if s == 0 or p == 0 or not np.any(span > 0):
+        return np.zeros(0)
+    sign = np.where(maximise, 1.0, -1.0)
+    x = starts.copy()
+    fx = sign * evaluate(x)
+    fx = np.where(np.isfinite(fx), fx, -np.inf)
+    step = np.repeat((span / 4.0)[None, :], s, axis=0)
+    found = [sign * fx]
+    moves = np.concatenate([np.eye(p), -np.eye(p)])           # (2P, P) unit moves
+    for _ in range(ITERATIONS):
+        if np.all(step <= MIN_STEP * np.where(span > 0, span, 1.0)):
+            break
+        cand = x[:, None, :] + moves[None, :, :] * step[:, None, :]      # (S, 2P, P)
+        cand = np.clip(cand, lows, highs)
+        fc = sign[:, None] * evaluate(cand.reshape(-1, p)).reshape(s, 2 * p)
+        fc = np.where(np.isfinite(fc), fc, -np.inf)
+        best = np.argmax(fc, axis=1)
+        fbest = fc[np.arange(s), best]
+        better = fbest > fx + FLAT * np.abs(fx)
+        x = np.where(better[:, None], cand[np.arange(s), best], x)
+        fx = np.where(better, fbest, fx)
+        step = np.where(better[:, None], step, step / 2.0)
+        found.append(sign * fx)
+    out = np.concatenate(found)
+    return out[np.isfinite(out)]
+
+
+def start_points(samples_x: np.ndarray, samples_y: np.ndarray, nominal: np.ndarray,
+                 corners_x: np.ndarray, corners_y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Where to start: the nominal, the most extreme samples and the best corner, each way."""
+    pts, up = [], []
+    for maximise in (True, False):
+        key = samples_y if maximise else -samples_y
+        ok = np.flatnonzero(np.isfinite(key))
+        chosen = ok[np.argsort(key[ok])[::-1][:STARTS]]
+        pts += [nominal[None, :], samples_x[chosen]]
+        ckey = corners_y if maximise else -corners_y
+        cok = np.flatnonzero(np.isfinite(ckey))
+        if cok.size:
+            pts.append(corners_x[cok[np.argmax(ckey[cok])]][None, :])
+        up += [maximise] * (sum(len(a) for a in pts) - len(up))
+    return np.concatenate(pts), np.array(up, dtype=bool)
+
+
+def enclosing_range(values: np.ndarray) -> tuple[float, float]:
+    finite = values[np.isfinite(values)]
+    return (float(finite.min()), float(finite.max())) if finite.size else (math.nan, math.nan)
+
+
+def corners_and_samples(corner_y: np.ndarray, inner: np.ndarray) -> tuple[tuple[float, float], str]:
+    """Without a search: the corners' range widened to the nominal and samples where they
+    lie outside it (then the method says so)."""
+    corners = enclosing_range(corner_y)
+    wc = enclosing_range(np.concatenate([corner_y, inner]))
+    same = all(a == b or (math.isnan(a) and math.isnan(b)) for a, b in zip(wc, corners))
+    return wc, VERTICES if same else VERTICES + WITH_SAMPLES
+
+
+def needs_search(corner_y: np.ndarray, nominal: float, samples_y: np.ndarray,
+                 line_y: np.ndarray, p: int) -> bool:
+    """The corners alone do not do: a walk turns back, or a value lies outside them."""
+    lo, hi = enclosing_range(corner_y)
+    if not math.isfinite(lo):
+        return False
+    pad = FLAT * max(abs(lo), abs(hi), 1e-300)
+    inner = np.concatenate([[nominal], samples_y])
+    inner = inner[np.isfinite(inner)]
+    outside = bool(np.any(inner < lo - pad) or np.any(inner > hi + pad))
+    return outside or turns_back(line_y, p)
