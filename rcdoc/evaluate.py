@@ -228,9 +228,9 @@ class Evaluator:
     @cached_property
     def network_unsourced(self) -> Network:
         """The network as seen at the stage's input, without the source impedance."""
-        from .kinds.base import SOURCE_L, SOURCE_R
+        from .kinds.base import SOURCE_L, SOURCE_R, core_input
         els = tuple(e for e in self.network.elements if e.name not in (SOURCE_R, SOURCE_L))
-        return Network(elements=els, drive="in", output=self.network.output,
+        return Network(elements=els, drive=core_input(self.network), output=self.network.output,
                        opamps=self.network.opamps, path=self.network.path)
 
     @cached_property
@@ -257,7 +257,7 @@ class Evaluator:
     @cached_property
     def step_probes(self) -> dict[str, np.ndarray]:
         amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
-        probes = ["out"] + [f"v:{e.name}" for e in self.network.elements]
+        probes = [self.network.output] + [f"v:{e.name}" for e in self.network.elements]
         t = self.time_s
         # The step is applied at t = 0 from rest. (A first sample of 0 V would make
         # the trapezoidal rule ramp the input over the first step and delay the whole
@@ -268,7 +268,7 @@ class Evaluator:
 
     @cached_property
     def step(self) -> np.ndarray:
-        return self.step_probes["out"]
+        return self.step_probes[self.network.output]
 
     @cached_property
     def final_value(self) -> np.ndarray:
@@ -314,7 +314,7 @@ class Evaluator:
         period = 1.0 / d.frequency_hz
         t = np.arange(PWM_POINTS) * (period / PWM_POINTS)
         u = np.where(t < d.duty * period, d.amplitude_v, 0.0)
-        probes = ["out"] + [f"v:{e.name}" for e in self.network.elements]
+        probes = [self.network.output] + [f"v:{e.name}" for e in self.network.elements]
         return engine.periodic_steady_state(self.network, self.values, t, u, probes=probes)
 
     @cached_property
@@ -323,7 +323,7 @@ class Evaluator:
         return np.arange(PWM_POINTS) * (period / PWM_POINTS)
 
     def ripple(self) -> np.ndarray:
-        y = self.pwm_probes["out"]
+        y = self.pwm_probes[self.network.output]
         return y.max(axis=1) - y.min(axis=1)
 
     @cached_property

@@ -450,8 +450,11 @@ def _stage(t: dict, index: int, analysis: Analysis, bom_rows) -> Stage:
         if c.metric == "ripple" and kw["drive"].kind != "pwm":
             raise ProjectError("metric 'ripple' needs a pwm drive", path=c.path)
     notes = need_string(t.get("notes", ""), f"{path}.notes", allow_empty=True)
-    return Stage(index=index, id=sid, title=title.strip(), kind=kind_name, notes=notes,
-                 parts=parts, checks=checks, options=options, **kw)
+    stage = Stage(index=index, id=sid, title=title.strip(), kind=kind_name, notes=notes,
+                  parts=parts, checks=checks, options=options, **kw)
+    if hasattr(kind, "check_stage"):     # whole-stage checks (topology with the load)
+        kind.check_stage(stage)
+    return stage
 
 
 def _list_of_tables(value: Any, path: str) -> list:
