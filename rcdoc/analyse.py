@@ -188,7 +188,7 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
             shown = {} if stage.drive is None else {"step": ev.step}
             if stage.drive is not None and stage.drive.kind == "pwm":
                 # Ripple about each sample's own mean: the DC spread would hide it.
-                y = ev.pwm_probes["out"]
+                y = ev.pwm_probes[network.output]
                 shown["pwm"] = y - y.mean(axis=1, keepdims=True)
             for wname, y in shown.items():
                 idx = np.linspace(0, y.shape[1] - 1, WAVE_POINTS).astype(int)
@@ -249,7 +249,7 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
     pwm = None
     if stage.drive is not None and stage.drive.kind == "pwm":
         t = nominal_ev.pwm_time_s
-        y0 = nominal_ev.pwm_probes["out"][0]
+        y0 = nominal_ev.pwm_probes[network.output][0]
         pwm = _wave(t, y0 - y0.mean(), waves["pwm"], wave_env["pwm"])
         pwm["mean"] = float(y0.mean())
         d = stage.drive

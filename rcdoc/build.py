@@ -22,7 +22,6 @@ from __future__ import annotations
 import multiprocessing
 import os
 import sys
-import tempfile
 import time
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass, field
@@ -32,7 +31,7 @@ from typing import Callable
 from .analyse import StageResult, analyse_stage
 from .cache import StageCache, stage_key
 from .errors import ProjectError
-from .files import write_atomic
+from .files import commit, make_temp, remove_stale_temps
 from .model import Project, Stage
 from .project import load_project
 
@@ -106,6 +105,22 @@ def _part_unit(context, part_job):
                           source_date_epoch=epoch, key=key)
     except Exception:  # noqa: BLE001 - rendered again, and reported, in write_outputs
         return None
+
+
+def _worker_init() -> None:
+    """Workers leave Ctrl-C to the main process, which stops them (_stop_workers);
+    a worker that took the KeyboardInterrupt itself could hand back a result
+    that hides it."""
+    import signal
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+
+
+def _stop_workers(pool: ProcessPoolExecutor) -> None:
+    # ProcessPoolExecutor has no public way to end running tasks before 3.14.
+    processes = list((getattr(pool, "_processes", None) or {}).values())
+    pool.shutdown(wait=False, cancel_futures=True)
+    for p in processes:
+        p.terminate()
 
 
 def _pool_context():
@@ -198,7 +213,8 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
         for i in todraw:
             contexts[i], parts[i] = _draw_unit(results[i], project)
     else:
-        with ProcessPoolExecutor(max_workers=workers, mp_context=_pool_context()) as pool:
+        with ProcessPoolExecutor(max_workers=workers, mp_context=_pool_context(),
+                                 initializer=_worker_init) as pool:
             futures = {}
             for i in todo:
                 if progress:
@@ -214,9 +230,11 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
                     parts[i] = redone[i].result()
                 for i in todraw:
                     contexts[i], parts[i] = drawn[i].result()
-            except BaseException:
+            except BaseException as exc:
                 for f in (*futures.values(), *redone.values(), *drawn.values()):
                     f.cancel()
+                if isinstance(exc, KeyboardInterrupt):
+                    _stop_workers(pool)      # do not wait for stages still running
                 raise
     def file_entries():
         for i in range(n):
@@ -264,9 +282,10 @@ def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
                                changes=changes)
     made = [d for d in (out_dir, *out_dir.parents) if not d.exists()]
     out_dir.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{stem}.", suffix=".pdf.tmp", dir=out_dir)
-    os.close(fd)
-    tmp_path = Path(tmp)
+    remove_stale_temps(out_dir)          # left by a build that was killed
+    tmp_path = make_temp(out_dir, pdf_path.name)
+    json_tmp = make_temp(out_dir, json_path.name)
+    csv_tmp = make_temp(out_dir, csv_path.name)
     done = False
     try:
         used = render_pdf(context, tmp_path, template_dirs=list(template_dirs),
@@ -277,14 +296,17 @@ def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
                                       if outcome.contexts is not None else None))
         if used is not None and outcome.parts is not None:
             outcome.parts[:] = used     # filed in the cache by commit_cache below
-        write_atomic(json_path, json_bytes)
-        write_atomic(csv_path, csv_bytes)
-        os.replace(tmp_path, pdf_path)
+        json_tmp.write_bytes(json_bytes)
+        json_tmp.chmod(tmp_path.stat().st_mode)   # as readable as the note
+        csv_tmp.write_bytes(csv_bytes)
+        csv_tmp.chmod(tmp_path.stat().st_mode)
+        commit([(json_tmp, json_path), (csv_tmp, csv_path), (tmp_path, pdf_path)])
         outcome.commit_cache()
         done = True
     finally:
-        if tmp_path.exists():
-            tmp_path.unlink()
+        for t in (tmp_path, json_tmp, csv_tmp):
+            if t.exists():
+                t.unlink()
         if not done:            # leave no folder this failed build created
             for d in made:
                 if d.is_dir() and not any(d.iterdir()):

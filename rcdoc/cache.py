@@ -35,7 +35,7 @@ from typing import Any
 import numpy as np
 
 from . import __version__
-from .files import write_atomic
+from .files import remove_stale_temps, write_atomic
 
 __all__ = ["CACHE_DIR_NAME", "StageCache", "stage_key", "code_fingerprint", "canonical"]
 
@@ -154,6 +154,7 @@ class StageCache:
 
     def prune(self) -> None:
         """Remove this project's entries that the current build did not use."""
+        remove_stale_temps(self.root)      # left by a build that was killed
         try:
             entries = list(self.root.glob("*.pickle"))
         except OSError:

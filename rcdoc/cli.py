@@ -121,6 +121,7 @@ def cmd_build(args) -> int:
         raise ProjectError("the output folder given with -o is a file, not a folder",
                            file=str(args.output))
     projects = load_all(args.files, samples=args.samples, seed=args.seed)
+    _check_distinct_outputs(projects, args.output)
     olds = []
     if args.since:               # read every old revision before anything is written
         from .diff import read_at_revision
@@ -157,6 +158,21 @@ def cmd_build(args) -> int:
         if outcome.status != "pass":
             worst = EXIT_FAIL
     return worst
+
+
+def _check_distinct_outputs(projects, output) -> None:
+    """Two files that would write the same note (same stem, same -o) are an input
+    error before anything is written: one would overwrite the other and they
+    would share one build cache."""
+    from .build import output_dir
+    seen: dict[Path, str] = {}
+    for p in projects:
+        target = (output_dir(p.file, output) / f"{Path(p.file).stem}.pdf").resolve()
+        if target in seen:
+            raise ProjectError(f"writes the same note as '{seen[target]}' ({target}); give "
+                               "the files different names or build them into different "
+                               "folders (-o)", file=p.file)
+        seen[target] = p.file
 
 
 def cmd_check(args) -> int:
@@ -282,9 +298,11 @@ COMMANDS = {"build": cmd_build, "check": cmd_check, "diff": cmd_diff, "init": cm
 
 
 def main(argv: list[str] | None = None) -> int:
+    from .files import interrupts
     args = make_parser().parse_args(argv)
     try:
-        return COMMANDS[args.command](args)
+        with interrupts():      # Ctrl-C at any moment: status 130, no output replaced
+            return COMMANDS[args.command](args)
     except ProjectError as exc:
         print(f"rcdoc: error: {one_line(str(exc))}", file=sys.stderr)
         return EXIT_INPUT

@@ -19,7 +19,6 @@ import math
 import posixpath
 import subprocess
 import tempfile
-import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -183,9 +182,10 @@ def read_at_revision(file: str | Path, rev: str, *, samples: int | None = None,
 
 def _bom_name(text: bytes) -> str | None:
     """``[analysis].bom`` of a project text, if it reads as one (load_project judges the rest)."""
+    from .limits import read_toml
     try:
-        data = tomllib.loads(text.decode("utf-8"))
-    except (UnicodeDecodeError, tomllib.TOMLDecodeError):
+        data = read_toml(text)       # the same guards as any project file read
+    except ProjectError:
         return None
     a = data.get("analysis")
     bom = a.get("bom") if isinstance(a, dict) else None

@@ -229,9 +229,9 @@ class Evaluator:
     @cached_property
     def network_unsourced(self) -> Network:
         """The network as seen at the stage's input, without the source impedance."""
-        from .kinds.base import SOURCE_L, SOURCE_R
+        from .kinds.base import SOURCE_L, SOURCE_R, core_input
         els = tuple(e for e in self.network.elements if e.name not in (SOURCE_R, SOURCE_L))
-        return Network(elements=els, drive="in", output=self.network.output,
+        return Network(elements=els, drive=core_input(self.network), output=self.network.output,
                        opamps=self.network.opamps, path=self.network.path)
 
     @cached_property
@@ -260,7 +260,7 @@ class Evaluator:
     @cached_property
     def step_probes(self) -> dict[str, np.ndarray]:
         amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
-        probes = ["out"] + [f"v:{e.name}" for e in self.network.elements]
+        probes = [self.network.output] + [f"v:{e.name}" for e in self.network.elements]
         t = self.time_s
         # The step is applied at t = 0 from rest: the input holds its amplitude
         # from the first instant on.
@@ -270,7 +270,7 @@ class Evaluator:
 
     @cached_property
     def step(self) -> np.ndarray:
-        return self.step_probes["out"]
+        return self.step_probes[self.network.output]
 
     @cached_property
     def final_value(self) -> np.ndarray:
@@ -320,7 +320,7 @@ class Evaluator:
         t = np.arange(PWM_POINTS) * (period / PWM_POINTS)
         # Held between instants: the edges fall on the grid, not halfway between.
         u = np.where(t < d.duty * period, d.amplitude_v, 0.0)
-        probes = ["out"] + [f"v:{e.name}" for e in self.network.elements]
+        probes = [self.network.output] + [f"v:{e.name}" for e in self.network.elements]
         return engine.periodic_steady_state(self.network, self.values, t, u, probes=probes,
                                             input_mode="hold")
 
@@ -330,7 +330,7 @@ class Evaluator:
         return np.arange(PWM_POINTS) * (period / PWM_POINTS)
 
     def ripple(self) -> np.ndarray:
-        y = self.pwm_probes["out"]
+        y = self.pwm_probes[self.network.output]
         return y.max(axis=1) - y.min(axis=1)
 
     @cached_property

@@ -2,21 +2,48 @@
 
 A write goes to a temporary file beside the target and is renamed over it,
 so a failed or interrupted build never leaves a half-written file and never
-clobbers the previous one.
+clobbers the previous one. Temporary names carry the writing process's id
+(``.<name>.~rcdoc<pid>.<random>.tmp``), so a later build can tell the leftovers
+of a killed build (their process is gone) from a running build's files and
+remove them (``remove_stale_temps``); nothing else in a folder is touched.
+
+Ctrl-C: while ``interrupts()`` is active, SIGINT sets a flag (and raises
+KeyboardInterrupt). No output is renamed into place once the flag is set,
+even if some library swallowed the KeyboardInterrupt, and the command ends
+with status 130.
 """
 
 from __future__ import annotations
 
+import contextlib
 import os
+import re
+import signal
 import tempfile
+import threading
 from pathlib import Path
+
+_TEMP = re.compile(r"\..+\.~rcdoc(\d+)\.[A-Za-z0-9_]+\.tmp")
+_interrupted = False
+
+
+def temp_prefix(name: str) -> str:
+    """Prefix of rcdoc's temporary files for the output ``name`` (see _TEMP)."""
+    return f".{name}.~rcdoc{os.getpid()}."
+
+
+def make_temp(folder: Path, name: str) -> Path:
+    """An empty temporary file in ``folder`` for the output ``name``."""
+    fd, tmp = tempfile.mkstemp(prefix=temp_prefix(name), suffix=".tmp", dir=folder)
+    os.close(fd)
+    return Path(tmp)
 
 
 def write_atomic(path: Path, data: bytes) -> None:
     """Write ``data`` to ``path``: a temporary file in the same folder, then a rename."""
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    fd, tmp = tempfile.mkstemp(prefix=temp_prefix(path.name), suffix=".tmp", dir=path.parent)
     try:
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
@@ -26,8 +53,92 @@ def write_atomic(path: Path, data: bytes) -> None:
         umask = os.umask(0)
         os.umask(umask)
         os.chmod(tmp, 0o666 & ~umask)
-        os.replace(tmp, path)
+        replace(tmp, path)
     except BaseException:
         if os.path.exists(tmp):
             os.unlink(tmp)
         raise
+
+
+def replace(tmp, path) -> None:
+    """Rename a finished temporary file over ``path``, unless the build was interrupted."""
+    stop_if_interrupted()
+    os.replace(tmp, path)
+
+
+def commit(pairs) -> None:
+    """Rename several finished temporary files into place as one step: SIGINT is
+    held back while they move, so an interrupt leaves all old or all new."""
+    stop_if_interrupted()
+    can_block = hasattr(signal, "pthread_sigmask") and \
+        threading.current_thread() is threading.main_thread()
+    if can_block:
+        signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
+    try:
+        for tmp, path in pairs:
+            os.replace(tmp, path)
+    finally:
+        if can_block:
+            signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGINT})
+
+
+def remove_stale_temps(folder: Path) -> list[Path]:
+    """Remove rcdoc's temporary files in ``folder`` whose writing process is gone."""
+    removed = []
+    try:
+        entries = list(Path(folder).iterdir())
+    except OSError:
+        return removed
+    for path in entries:
+        m = _TEMP.fullmatch(path.name)
+        if m is None or not path.is_file() or path.is_symlink() or _alive(int(m.group(1))):
+            continue
+        try:
+            path.unlink()
+            removed.append(path)
+        except OSError:
+            pass
+    return removed
+
+
+def _alive(pid: int) -> bool:
+    if pid == os.getpid():
+        return True
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except (PermissionError, OSError):
+        return True      # exists (another user's) or cannot tell: leave it
+    return True
+
+
+def stop_if_interrupted() -> None:
+    if _interrupted:
+        raise KeyboardInterrupt
+
+
+def was_interrupted() -> bool:
+    return _interrupted
+
+
+@contextlib.contextmanager
+def interrupts():
+    """Record SIGINT for the duration (see the module docstring); main thread only."""
+    global _interrupted
+    _interrupted = False
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+
+    def on_sigint(signum, frame):
+        global _interrupted
+        _interrupted = True
+        raise KeyboardInterrupt
+
+    previous = signal.signal(signal.SIGINT, on_sigint)
+    try:
+        yield
+        stop_if_interrupted()       # swallowed somewhere: still an interrupted build
+    finally:
+        signal.signal(signal.SIGINT, previous)

@@ -12,21 +12,22 @@ import datetime as _dt
 import difflib
 import os
 import re
-import tomllib
 from pathlib import Path
 from typing import Any
 
 from . import kinds as _kinds
 from .bom import merge_bom
 from .errors import ProjectError
+from .limits import check_sweep, check_text, read_toml
 from .metrics import METRICS
 from .model import Analysis, Board, Check, Drive, Part, Project, Stage
 from .parts import check_temperature_range, decode_dielectric, default_tolerance
 from .quantities import parse_percent, parse_positive, parse_quantity, parse_tolerance
 
 MAX_SAMPLES = 200_000
-ID_PATTERN = re.compile(r"^[a-z0-9][a-z0-9-]*$")
-ROLE_PATTERN = re.compile(r"^[rcl][a-z0-9_]*$")
+# Matched with fullmatch: "adc0\n" is not an id ("$" would allow the newline).
+ID_PATTERN = re.compile(r"[a-z0-9][a-z0-9-]*")
+ROLE_PATTERN = re.compile(r"[rcl][a-z0-9_]*")
 PART_UNITS = {"R": "ohm", "C": "F", "L": "H"}
 
 BOARD_KEYS = ("name", "revision", "date", "authors", "notes", "hazardous_voltage")
@@ -65,6 +66,12 @@ def need_string(value: Any, path: str, *, allow_empty: bool = False) -> str:
     return value
 
 
+def one_line(value: Any, path: str, *, allow_empty: bool = False) -> str:
+    """A one-line text (a name, a title, a reference): no line breaks or control
+    characters, at most rcdoc.limits.MAX_LINE_CHARS."""
+    return check_text(need_string(value, path, allow_empty=allow_empty), path)
+
+
 def need_int(value: Any, path: str, lo: int, hi: int) -> int:
     if isinstance(value, bool) or not isinstance(value, int):
         raise ProjectError(f"expected a whole number, got {_type_name(value)}", path=path)
@@ -99,14 +106,7 @@ def load_project(file: str | os.PathLike, *, samples: int | None = None,
             raw_bytes = Path(file).read_bytes()
         except OSError as exc:
             raise ProjectError(f"cannot read the project file: {exc.strerror}")
-        try:
-            data = tomllib.loads(raw_bytes.decode("utf-8"))
-        except UnicodeDecodeError:
-            raise ProjectError("the file is not UTF-8 text")
-        except tomllib.TOMLDecodeError as exc:
-            raise ProjectError(f"malformed TOML: {exc}")
-        except RecursionError:   # tomllib recurses once per level of [ or {
-            raise ProjectError("malformed TOML: lists or tables nested too deeply") from None
+        data = read_toml(raw_bytes)     # size, encoding, TOML, integers, text (rcdoc.limits)
         return _project(data, name, samples=samples, seed=seed)
     except ProjectError as exc:
         raise exc.located(name)
@@ -192,10 +192,10 @@ def _board(t: dict) -> Board:
         authors = [authors]
     if not isinstance(authors, list):
         raise ProjectError("expected a list of names", path="board.authors")
-    authors = tuple(need_string(a, f"board.authors[{k}]") for k, a in enumerate(authors))
+    authors = tuple(one_line(a, f"board.authors[{k}]") for k, a in enumerate(authors))
     hv = parse_positive(t.get("hazardous_voltage", 60.0), "V", "board.hazardous_voltage")
-    return Board(name=need_string(t["name"], "board.name"),
-                 revision=need_string(t["revision"], "board.revision"),
+    return Board(name=one_line(t["name"], "board.name"),
+                 revision=one_line(t["revision"], "board.revision"),
                  date=date, authors=authors,
                  notes=need_string(t.get("notes", ""), "board.notes", allow_empty=True),
                  hazardous_voltage_v=hv)
@@ -237,12 +237,13 @@ def _analysis(t: dict) -> Analysis:
         lo, hi = _pair(t["sweep"], "Hz", "analysis.sweep")
         if lo <= 0:
             raise ProjectError("the sweep must start above 0 Hz", path="analysis.sweep[0]")
+        check_sweep(lo, hi, "analysis.sweep")
         if hi / lo < 10 ** 0.5:
             raise ProjectError("the sweep must span at least half a decade",
                                path="analysis.sweep")
         kw["sweep_hz"] = (lo, hi)
     if "bom" in t:
-        kw["bom"] = need_string(t["bom"], "analysis.bom")
+        kw["bom"] = one_line(t["bom"], "analysis.bom")
     if "bom_wins" in t:
         kw["bom_wins"] = need_bool(t["bom_wins"], "analysis.bom_wins")
     return Analysis(**kw)
@@ -313,7 +314,7 @@ def _part(role: str, t: dict, path: str, analysis: Analysis, bom_rows) -> Part:
     kind = role[0].upper()
     if bom_rows is not None:
         t = merge_bom(t, bom_rows, path, bom_wins=analysis.bom_wins)
-    ref = need_string(t.get("ref", ""), f"{path}.ref", allow_empty=True)
+    ref = one_line(t.get("ref", ""), f"{path}.ref", allow_empty=True)
     if "value" not in t:
         raise ProjectError("'value' is missing (give it here, or through [analysis].bom "
                            "with a 'ref')", path=f"{path}.value")
@@ -323,6 +324,7 @@ def _part(role: str, t: dict, path: str, analysis: Analysis, bom_rows) -> Part:
     kw: dict[str, Any] = {}
     if "tcr" in t:
         kw["tcr_ppm"] = parse_quantity(t["tcr"], "ppm/K", f"{path}.tcr")
+        _check_tcr(kw["tcr_ppm"], analysis.temperature_c, path)
     if "dielectric" in t:
         if kind != "C":
             raise ProjectError("only capacitors have a dielectric", path=f"{path}.dielectric")
@@ -364,9 +366,21 @@ def _part(role: str, t: dict, path: str, analysis: Analysis, bom_rows) -> Part:
                                path=f"{path}.power")
         kw["power_rating_w"] = parse_positive(t["power"], "W", f"{path}.power")
     if "model" in t:
-        kw["model"] = need_string(t["model"], f"{path}.model", allow_empty=True)
+        kw["model"] = one_line(t["model"], f"{path}.model", allow_empty=True)
     return Part(role=role, kind=kind, value=value, ref=ref, tol_plus=tol[0],
                 tol_minus=tol[1], path=path, **kw)
+
+
+def _check_tcr(tcr_ppm: float, temperature_c: tuple[float, float], path: str) -> None:
+    """The linear model value·(1 + tcr·(T − 25 °C)) must stay above zero over the range."""
+    from .parts import REFERENCE_C
+    for t_c in temperature_c:
+        factor = 1.0 + tcr_ppm * 1e-6 * (t_c - REFERENCE_C)
+        if factor <= 0:
+            raise ProjectError(f"tcr {tcr_ppm:g} ppm/K at {t_c:g} °C (analysis.temperature) "
+                               f"scales the value by {factor:.3g}: a part value cannot be zero "
+                               "or negative; check the tcr or analysis.temperature",
+                               path=f"{path}.tcr")
 
 
 def _check(t: dict, path: str, stage_metrics: tuple[str, ...]) -> Check:
@@ -441,13 +455,14 @@ def _stage(t: dict, index: int, analysis: Analysis, bom_rows) -> Stage:
     kind = _kinds.KINDS[kind_name]
     check_keys(t, STAGE_KEYS + tuple(kind.OPTIONS), path)
     sid = need_string(t["id"], f"{path}.id")
-    if not ID_PATTERN.match(sid) or len(sid) > 64:
+    if not ID_PATTERN.fullmatch(sid) or len(sid) > 64:
         raise ProjectError(f"id '{sid}' must be lower-case letters, digits and '-', "
                            "starting with a letter or digit (at most 64 characters)",
                            path=f"{path}.id")
     title = need_string(t["title"], f"{path}.title")
     if "\n" in title.strip():
         raise ProjectError("the title must be one line", path=f"{path}.title")
+    one_line(title, f"{path}.title")
     kw: dict[str, Any] = {}
     if "source" in t:
         src = _impedance(t["source"], ("r", "l"), f"{path}.source")
@@ -473,7 +488,7 @@ def _stage(t: dict, index: int, analysis: Analysis, bom_rows) -> Stage:
     parts: dict[str, Part] = {}
     for role, pt in raw_parts.items():
         ppath = f"{path}.parts.{role}"
-        if not ROLE_PATTERN.match(role):
+        if not ROLE_PATTERN.fullmatch(role):
             raise ProjectError(f"role '{role}' must start with r, c or l (the part type) "
                                "and hold lower-case letters and digits", path=ppath)
         parts[role] = _part(role, need_table(pt, ppath), ppath, analysis, bom_rows)
@@ -495,8 +510,11 @@ def _stage(t: dict, index: int, analysis: Analysis, bom_rows) -> Stage:
         if c.metric == "ripple" and kw["drive"].kind != "pwm":
             raise ProjectError("metric 'ripple' needs a pwm drive", path=c.path)
     notes = need_string(t.get("notes", ""), f"{path}.notes", allow_empty=True)
-    return Stage(index=index, id=sid, title=title.strip(), kind=kind_name, notes=notes,
-                 parts=parts, checks=checks, options=options, **kw)
+    stage = Stage(index=index, id=sid, title=title.strip(), kind=kind_name, notes=notes,
+                  parts=parts, checks=checks, options=options, **kw)
+    if hasattr(kind, "check_stage"):     # whole-stage checks (topology with the load)
+        kind.check_stage(stage)
+    return stage
 
 
 def _list_of_tables(value: Any, path: str) -> list:

@@ -18,6 +18,10 @@ from ..quantities import format_quantity
 
 # Element names of the source impedance and the load; they carry fixed values.
 SOURCE_R, SOURCE_L, LOAD_R, LOAD_C = "source.r", "source.l", "load.r", "load.c"
+# Nodes rcdoc adds between the ideal source and the stage's input. The '~' is
+# outside the node-name syntax of a `network` stage, so no user node can be
+# one of them (a user's node named like an internal one was silently merged).
+SOURCE_NODE, SOURCE_L_NODE = "~source", "~source.l"
 UNIT_OF = {"R": "ohm", "C": "F", "L": "H"}
 
 FREQUENCY_METRICS = ("corner", "passband_gain", "gain", "phase", "group_delay",
@@ -64,25 +68,35 @@ def standard_metrics(drive, extra: tuple[str, ...] = ()) -> tuple[str, ...]:
 
 
 def wrap(stage: Stage, elements: list[Element], *, output: str = "out",
-         opamps=(), path: tuple[str, ...] = ()) -> Network:
-    """Add the stage's source impedance (before "in") and load (at the output)."""
+         opamps=(), path: tuple[str, ...] = (), input: str = "in") -> Network:
+    """Add the stage's source impedance (before ``input``) and load (at the output)."""
     elements = list(elements)
-    drive = "in"
+    drive = input
     chain = []
     if stage.source_l > 0:
-        elements.insert(0, Element(SOURCE_L, "L", "src_l", drive))
+        elements.insert(0, Element(SOURCE_L, "L", SOURCE_L_NODE, drive))
         chain.insert(0, SOURCE_L)
-        drive = "src_l"
+        drive = SOURCE_L_NODE
     if stage.source_r > 0:
-        elements.insert(0, Element(SOURCE_R, "R", "src", drive))
+        elements.insert(0, Element(SOURCE_R, "R", SOURCE_NODE, drive))
         chain.insert(0, SOURCE_R)
-        drive = "src"
+        drive = SOURCE_NODE
     if stage.load_r is not None:
         elements.append(Element(LOAD_R, "R", output, GROUND))
     if stage.load_c is not None:
         elements.append(Element(LOAD_C, "C", output, GROUND))
     return Network(elements=tuple(elements), drive=drive, output=output,
                    opamps=tuple(opamps), path=tuple(chain) + tuple(path))
+
+
+def core_input(network: Network) -> str:
+    """The stage's own input node: where the source impedance (if any) ends."""
+    for name in (SOURCE_L, SOURCE_R):      # the element nearest the input first
+        try:
+            return network.element(name).b
+        except KeyError:
+            continue
+    return network.drive
 
 
 def fixed_values(stage: Stage) -> dict[str, float]:

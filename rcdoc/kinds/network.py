@@ -18,7 +18,9 @@ from . import base
 NAME = "network"
 OPTIONS = ("input", "output", "elements", "passband")
 PASSBAND = "low"      # default; a stage may say passband = "high" or "band"
-NODE = re.compile(r"^[A-Za-z0-9_]{1,32}$")
+# Node names are the user's and are used as given (fullmatch: no trailing newline).
+# Internal nodes (rcdoc.kinds.base.SOURCE_NODE...) hold a character outside this set.
+NODE = re.compile(r"[A-Za-z0-9_]{1,32}")
 
 
 def parse_options(t: dict, path: str) -> dict:
@@ -28,7 +30,7 @@ def parse_options(t: dict, path: str) -> dict:
     opts = {}
     for key in ("input", "output"):
         node = t[key]
-        if not isinstance(node, str) or not NODE.match(node):
+        if not isinstance(node, str) or not NODE.fullmatch(node):
             raise ProjectError("expected a node name (letters, digits, '_')",
                                path=f"{path}.{key}")
         if node == GROUND:
@@ -59,7 +61,7 @@ def parse_options(t: dict, path: str) -> dict:
         if not isinstance(role, str):
             raise ProjectError("expected a part role", path=f"{epath}.part")
         if (not isinstance(between, list) or len(between) != 2
-                or not all(isinstance(n, str) and NODE.match(n) for n in between)):
+                or not all(isinstance(n, str) and NODE.fullmatch(n) for n in between)):
             raise ProjectError("expected two node names, e.g. [\"in\", \"mid\"]",
                                path=f"{epath}.between")
         if between[0] == between[1]:
@@ -117,6 +119,52 @@ def _check_connectivity(options, spath):
                                    "end; a misspelt node name?)", path=f"{epath}.between")
 
 
+def check_stage(stage):
+    """Checks that need the whole stage (its load): run by the loader, before any analysis.
+
+    Common netlist practice: every node needs a DC path (resistors, inductors)
+    to ground or the driven input, else the DC solution is undefined; and no
+    loop may consist of inductors only, else the loop's DC current is.
+    """
+    o, spath = stage.options, stage.path
+    dc = _Groups()
+    dc.join(o["input"], GROUND)            # the ideal source holds the input at DC
+    if stage.load_r is not None:
+        dc.join(o["output"], GROUND)
+    for role, a, b, _ in o["elements"]:
+        if stage.parts[role].kind in ("R", "L"):
+            dc.join(a, b)
+    for role, a, b, epath in o["elements"]:
+        for n in (a, b):
+            if dc.find(n) != dc.find(GROUND):
+                raise ProjectError(f"node '{n}' has no DC path (through a resistor or an "
+                                   "inductor) to ground or the input; its DC voltage is "
+                                   "undefined", path=f"{epath}.between")
+    loops = _Groups()
+    for role, a, b, epath in o["elements"]:
+        if stage.parts[role].kind == "L":
+            if loops.find(a) == loops.find(b):
+                raise ProjectError(f"inductor '{role}' closes a loop of inductors only; "
+                                   "the current around it is undefined at DC",
+                                   path=f"{epath}.part")
+            loops.join(a, b)
+
+
+class _Groups:
+    """Union-find over node names."""
+
+    def __init__(self):
+        self.up: dict[str, str] = {}
+
+    def find(self, n: str) -> str:
+        while self.up.get(n, n) != n:
+            n = self.up[n]
+        return n
+
+    def join(self, a: str, b: str) -> None:
+        self.up[self.find(a)] = self.find(b)
+
+
 def metrics(options, drive):
     extra = ("corner_low", "corner_high") if options.get("passband") == "band" else ()
     return base.standard_metrics(drive, extra)
@@ -128,10 +176,9 @@ def passband(stage) -> str:
 
 def build(stage):
     o = stage.options
-    rename = {o["input"]: "in"}
-    els = [Element(role, stage.parts[role].kind, rename.get(a, a), rename.get(b, b))
-           for role, a, b, _ in o["elements"]]
-    return base.wrap(stage, els, output=rename.get(o["output"], o["output"]),
+    # The user's node names as given: no renaming a user's node could collide with.
+    els = [Element(role, stage.parts[role].kind, a, b) for role, a, b, _ in o["elements"]]
+    return base.wrap(stage, els, input=o["input"], output=o["output"],
                      path=_series_path(stage))
 
 

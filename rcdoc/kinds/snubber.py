@@ -86,6 +86,12 @@ def parse_options(t: dict, path: str) -> dict:
     o = {"across": across, "voltage_v": parse_positive(t["voltage"], "V", f"{path}.voltage"),
          "switching_hz": parse_positive(t["switching_frequency"], "Hz",
                                         f"{path}.switching_frequency")}
+    lo, hi = SWITCHING_RANGE_HZ
+    if not lo <= o["switching_hz"] <= hi:
+        raise ProjectError(f"a switching frequency of {format_quantity(o['switching_hz'], 'Hz')}"
+                           f" is outside the physical range {format_quantity(lo, 'Hz')} to "
+                           f"{format_quantity(hi, 'Hz')} (check the unit)",
+                           path=f"{path}.switching_frequency")
     wrong = LOAD_ONLY if across == "switch" else SWITCH_ONLY
     for key in wrong:
         if key in t:
@@ -93,6 +99,10 @@ def parse_options(t: dict, path: str) -> dict:
             raise ProjectError(f"'{key}' belongs to across = \"{other}\"", path=f"{path}.{key}")
     if across == "switch":
         o.update(_parse_switch(t, path))
+        if o["measured"] is not None and o["measured"][0] <= o["switching_hz"]:
+            raise ProjectError("the ring must be faster than the switching it follows: "
+                               f"{format_quantity(o['measured'][0], 'Hz')} is not above the "
+                               "switching frequency", path=f"{path}.ringing.frequency")
     else:
         coil = _table(t, "coil", ("l", "r"), ("l", "r"), path) if "coil" in t else None
         if coil is None:
@@ -110,6 +120,32 @@ def parse_options(t: dict, path: str) -> dict:
     return o
 
 
+# Plausibility of a ringing measurement (common practice, from memory): an
+# oscilloscope reading of a ring frequency is good to about 0.1 %, so a smaller
+# shift cannot be told from the reading error (62 MHz against 61.9999999 MHz
+# gave 21 pH and 642 W); switch-node rings on a board lie between about
+# 10 kHz (transformer leakage) and a few GHz (package parasitics).
+MIN_SHIFT = 1e-3
+RING_RANGE_HZ = (10e3, 10e9)
+SWITCHING_RANGE_HZ = (1e-3, 100e6)
+
+
+def _plausible_ringing(f1: float, f2: float, path: str) -> None:
+    lo, hi = RING_RANGE_HZ
+    for f, key in ((f1, "frequency"), (f2, "frequency_with_added")):
+        if not lo <= f <= hi:
+            raise ProjectError(f"a switch-node ring at {format_quantity(f, 'Hz')} is outside "
+                               f"the physical range {format_quantity(lo, 'Hz')} to "
+                               f"{format_quantity(hi, 'Hz')} of board parasitics (check the "
+                               "unit)", path=f"{path}.ringing.{key}")
+    if f1 / f2 - 1 < MIN_SHIFT:
+        raise ProjectError(f"the added capacitance moves the ring by only "
+                           f"{(f1 / f2 - 1) * 100:.2g} %, less than the {MIN_SHIFT * 100:g} % "
+                           "a frequency reading resolves: the parasitics cannot be told from "
+                           "the measurement error (add more capacitance, e.g. enough to "
+                           "halve the frequency)", path=f"{path}.ringing.frequency_with_added")
+
+
 def _parse_switch(t: dict, path: str) -> dict:
     o: dict = {"rp_ohm": None, "measured": None}
     if "ringing" in t:
@@ -124,6 +160,7 @@ def _parse_switch(t: dict, path: str) -> dict:
                                f"{format_quantity(f2, 'Hz')} is not below "
                                f"{format_quantity(f1, 'Hz')} (check the measurement)",
                                path=f"{path}.ringing.frequency_with_added")
+        _plausible_ringing(f1, f2, path)
         o["cp_f"], o["lp_h"] = phys.parasitics_from_ringing(f1, cadd, f2)
         o["measured"] = (f1, cadd, f2)
         if "parasitic" in t:
