@@ -26,6 +26,7 @@ KIND_TITLES = {
     "rc-lowpass": "RC low-pass", "rc-highpass": "RC high-pass", "rc-ladder": "RC ladder",
     "rc-bandpass": "RC band-pass", "sallen-key-lowpass": "Sallen-Key low-pass",
     "mfb-lowpass": "Multiple-feedback low-pass", "network": "Network", "snubber": "Snubber",
+    "sampled-input": "Converter input",
 }
 
 SAFETY_ITEMS = (
