@@ -31,6 +31,8 @@ from ..quantities import format_quantity, parse_positive, parse_quantity
 from . import _first_order as first
 from . import base
 
+WAVE_PERIODS = phys.WAVE_PERIODS
+
 NAME = "sampled-input"
 OPTIONS = ("level", "converter")
 PASSBAND = "low"
@@ -180,35 +182,50 @@ def note_blocks(r, cv: dict) -> list[dict]:
     sid = st.id
     blocks = []
     settle = r.metric("acquisition_settling")
-    t_mark = settle.nominal if settle and math.isfinite(settle.nominal) else conv["acquisition"]
+    # Shown as the deviation from the level in LSB, clipped to a window that keeps
+    # the ½-LSB band readable (the reset to the start voltage runs off the scale).
+    dev_p, dev_s = (cv["pin"] - level) / lsb, (cv["sampled"] - level) / lsb
+    during = cv["t"] % cv["period"] <= conv["acquisition"]
+    reach = max(4.0, 1.5 * float(np.max(np.abs(dev_p[during]))), 1.5 * abs(float(dev_s[-1])))
+    half = np.full(len(cv["t"]), 0.5)
+    settled = settle is not None and math.isfinite(settle.nominal)
     wave = charts.time_response(
-        f"{sid}-sampled", cv["t"], cv["sampled"],
-        window={"t": t_mark, "lo": level - lsb / 2, "hi": level + lsb / 2,
-                "label": "level ± ½ LSB"},
-        series=[{"t": cv["t"], "y": cv["pin"], "label": "pin", "role": "without"}],
-        nominal_label="sampled (nominal)", ylabel="Voltage [V]", fmt="png")
+        f"{sid}-sampled", cv["t"], np.clip(dev_s, -reach, reach),
+        window=({"t": settle.nominal, "lo": -0.5, "hi": 0.5, "label": "level ± ½ LSB"}
+                if settled else None),
+        series=[{"t": cv["t"], "y": np.clip(dev_p, -reach, reach), "label": "pin",
+                 "role": "without"}]
+        + ([] if settled else [{"t": cv["t"], "y": half, "label": "± ½ LSB", "role": "input"},
+                               {"t": cv["t"], "y": -half, "label": "", "role": "input"}]),
+        nominal_label="sampled (nominal)", ylabel="Voltage − level [LSB]", fmt="png")
     blocks.append(_figure(
         "Pin and sampled voltage (steady state)", wave,
-        f"{len(cv['t']) // (2 * phys.WAVE_POINTS)} periods at {_fq(conv['sample_rate'], 'Hz')}: "
-        "the sampling capacitor follows the pin while the switch is closed, then holds; "
-        "the strip is the level ± ½ LSB; the dashed line marks the acquisition settling "
-        "(or the end of the acquisition when the sample never settles)."))
+        f"{WAVE_PERIODS} periods at {_fq(conv['sample_rate'], 'Hz')}, as the deviation from the "
+        f"level ({_fq(level, 'V')}) in LSB of {_fq(lsb, 'V')}, clipped to ±{reach:.3g} LSB: the "
+        "sampling capacitor follows the pin while the switch is closed "
+        f"({_fq(conv['acquisition'], 's')} from each period's start), then holds. "
+        + ("The dashed line marks the acquisition settling." if settled else
+           "The sample never settles within ½ LSB of the level.")))
     msr = r.metric("max_sample_rate")
+    msr_x = msr.nominal if msr is not None else math.nan
     rate_fig = charts.sweep(
         f"{sid}-rate", cv["rates"],
-        [{"y": cv["error_rate"], "label": "sample error", "unit": "LSB"},
-         {"y": np.full(len(cv["rates"]), 0.5), "label": "+½ LSB", "unit": "LSB"},
-         {"y": np.full(len(cv["rates"]), -0.5), "label": "−½ LSB", "unit": "LSB"}],
-        xlabel="Sample rate", x_unit="Hz", marker_x=conv["sample_rate"], fmt="png")
+        [{"y": cv["error_rate"], "label": "sample error", "unit": "LSB"}],
+        xlabel="Sample rate", x_unit="Hz", marker_x=conv["sample_rate"], fmt="png",
+        allowed={"lo": -0.5, "hi": 0.5, "label": "± ½ LSB"},
+        markers=[{"x": msr_x, "label": f"highest rate {_fq(msr_x, 'Hz')}"}])
     blocks.append(_figure(
         "Sample error against sample rate", rate_fig,
-        f"Same acquisition time; chosen rate marked. Highest rate within ½ LSB (nominal): "
-        f"{_fq(msr.nominal, 'Hz') if msr else '—'}."))
+        "Same acquisition time, nominal parts; chosen rate marked. Highest rate within "
+        f"½ LSB (nominal): {_fq(msr_x, 'Hz')}"
+        + ("" if math.isfinite(msr_x) else " (none: the acquisition alone leaves more than "
+           "½ LSB)") + "."))
     c_fig = charts.sweep(
         f"{sid}-cap", cv["c"],
         [{"y": cv["error_c"], "label": "sample error", "unit": "LSB", "axis": "left"},
          {"y": cv["kickback_c"], "label": "kickback", "unit": "V", "axis": "right"}],
-        xlabel="Filter capacitance", x_unit="F", marker_x=float(st.parts["c"].value), fmt="png")
+        xlabel="Filter capacitance", x_unit="F", marker_x=float(st.parts["c"].value), fmt="png",
+        allowed={"lo": -0.5, "hi": 0.5, "label": "± ½ LSB"})
     blocks.append(_figure(
         "Sample error against the filter capacitance", c_fig,
         "R held at its value. Too little C: the sampling capacitor's charge pulls the pin "
