@@ -29,6 +29,7 @@ GRID_POINTS = 48                      # search grid over the acquisition (geomet
 GRID_FIRST = 1e-7                     # first grid time, as a share of the acquisition
 REFINE_STEPS = 40                     # golden-section / bisection steps after the grid
 RATE_STEPS = 50                       # bisection steps in log-rate for max_sample_rate
+RATE_FLOOR = 1e-9                     # lowest rate searched, as a share of 1/acquisition
 CURVE_POINTS = 61                     # points of the error-against-rate and -capacitance curves
 WAVE_POINTS = 120                     # points per interval of the waveform figure
 WAVE_PERIODS = 3
@@ -195,7 +196,7 @@ def max_sample_rate(p: Params) -> np.ndarray:
         return np.abs(sample_error(replace(p, rate=f))) <= 0.5
 
     hi = np.full(rows, f_top * (1 - 1e-9))
-    lo = np.full(rows, f_top * 1e-6)
+    lo = np.full(rows, f_top * RATE_FLOOR)
     ok_hi, ok_lo = ok(hi), ok(lo)
     for _ in range(RATE_STEPS):
         mid = np.sqrt(lo * hi)

@@ -6,6 +6,7 @@ from dataclasses import replace
 
 import numpy as np
 import pytest
+import scipy.signal as sg
 from scipy.integrate import solve_ivp
 
 from rcdoc import sampled
@@ -214,3 +215,14 @@ def test_schematic_has_switch_and_sampling_capacitor(tmp_path):
     recipe = KINDS["sampled-input"].schematic(st)
     assert {"switch", "sampling_c", "pin_c", "r", "c"} <= {s.name for s in recipe.steps}
     assert "<svg" in sch.render_svg(recipe)
+
+
+def test_frequency_response_is_the_rc_with_the_pin_capacitance(tmp_path):
+    # Reference: scipy.signal.freqs of the textbook first-order low-pass
+    # H(s) = 1/(1 + s·(R_s + r)·(c + pin_c)); the sampling capacitor is not in it.
+    r = analyse_one(tmp_path, BOARD.format(rate="100 kHz").replace(
+        'kind = "sampled-input"', 'kind = "sampled-input"\nsource = "50 ohm"'), "samples = 5")
+    tau = (50.0 + 100.0) * (220e-9 + 4e-12)
+    _, h = sg.freqs([1.0], [tau, 1.0], 2 * np.pi * r.freqs_hz)
+    assert r.h_nominal == pytest.approx(h, rel=1e-9, abs=1e-12)
+    assert r.metric("corner").nominal == pytest.approx(1 / (2 * np.pi * tau), rel=1e-6)
