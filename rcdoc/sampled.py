@@ -132,10 +132,18 @@ def _at(st: dict, dt: np.ndarray) -> np.ndarray:
     return switched.waveform(st["a"][:, :2, :2], st["b"][:, :2], st["reset"][:, :2], dt)
 
 
+def _on_grid(p: Params, st: dict) -> tuple[np.ndarray, np.ndarray]:
+    """The search grid and (v_p, v_s) on it, kept in ``st`` for the next search."""
+    if "grid" not in st:
+        t = _grid(p)
+        st["grid"] = (t, _at(st, t))
+    return st["grid"]
+
+
 def kickback(p: Params, st: dict) -> np.ndarray:
     """Largest drop of the pin below its value when the switch closes, during the acquisition."""
-    t = _grid(p)
-    vp = _at(st, t)[:, :, P]
+    t, x = _on_grid(p, st)
+    vp = x[:, :, P]
     rows = np.arange(len(vp))
     j = np.argmin(vp, axis=1)
     lo = t[np.maximum(j - 1, 0)]
@@ -169,8 +177,8 @@ def acquisition_settling(p: Params, st: dict) -> np.ndarray:
     After the acquisition the sampling capacitor holds, so "stays" means until
     the end of the acquisition.
     """
-    t = _grid(p)
-    vs = _at(st, t)[:, :, S]
+    t, x = _on_grid(p, st)
+    vs = x[:, :, S]
     outside = np.abs(vs - p.level) > 0.5 * p.lsb
     last = len(t) - 1 - np.argmax(outside[:, ::-1], axis=1)
     never_out = ~outside.any(axis=1)
