@@ -99,7 +99,8 @@ def passband_of(stage: Stage) -> str:
 def _metric_requests(stage: Stage, offered: tuple[str, ...]) -> list[tuple[str, float | None, Check | None]]:
     """The metrics the note reports for a stage: headline ones, marks, and every check's."""
     req: list[tuple[str, float | None, Check | None]] = []
-    for name in ("corner", "corner_low", "corner_high", "passband_gain", "f0", "q", "peaking"):
+    headline = ("corner", "corner_low", "corner_high", "passband_gain", "f0", "q", "peaking")
+    for name in headline + tuple(getattr(kind_of(stage), "HEADLINE", ())):
         if name in offered:
             req.append((name, None, None))
     for f in stage.marks_hz:
@@ -145,6 +146,12 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
     custom = getattr(kind, "analyse", None)
     if custom is not None:           # kinds with their own analysis (snubbers)
         return custom(stage, analysis)
+    return analyse_network(stage, analysis)
+
+
+def analyse_network(stage: Stage, analysis: Analysis, evaluator=Evaluator) -> StageResult:
+    """The standard analysis; a kind with metrics of its own passes an Evaluator subclass."""
+    kind = kind_of(stage)
     network = kind.build(stage)
     passband = passband_of(stage)
     batch = spread.build_batch(stage, analysis)
@@ -159,7 +166,7 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
 
     # Time grid shared by all rows, from the nominal alone (a row's numbers must
     # not depend on the other rows or on --samples).
-    probe = Evaluator(stage, network, nominal_vals, freqs, passband, char_hz)
+    probe = evaluator(stage, network, nominal_vals, freqs, passband, char_hz)
     time_s = probe.time_s if stage.drive is not None else None
 
     values_per_req: list[list[np.ndarray]] = [[] for _ in requests]
@@ -172,7 +179,7 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
     for start in range(0, batch.rows, CHUNK_ROWS):
         rows = slice(start, min(start + CHUNK_ROWS, batch.rows))
         vals = batch.take(rows)
-        ev = Evaluator(stage, network, vals, freqs, passband, char_hz, temperature_k=t_hot_k,
+        ev = evaluator(stage, network, vals, freqs, passband, char_hz, temperature_k=t_hot_k,
                        time_s=time_s)
         for k, (name, at, chk) in enumerate(requests):
             values_per_req[k].append(np.asarray(ev.metric(name, chk, at_hz=at), dtype=float))
@@ -221,7 +228,7 @@ def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
             signs = np.nan_to_num(sens) > 0
             high = np.stack([signs, ~signs])
             vv = spread.vertex_values(stage, analysis, batch.roles, high)
-            ev2 = Evaluator(stage, network, vv, freqs, passband, char_hz, temperature_k=t_hot_k,
+            ev2 = evaluator(stage, network, vv, freqs, passband, char_hz, temperature_k=t_hot_k,
                             time_s=time_s)
             extra = ev2.metric(name, chk, at_hz=at)
             wc_vals = np.concatenate([wc_vals, extra])

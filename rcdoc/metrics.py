@@ -86,4 +86,18 @@ METRICS: dict[str, Metric] = dict([
     _m("edge_rate", "V/s", "V/s", "Edge rate at threshold",
        description="debounce: magnitude of the slope where the slower edge crosses its "
                    "threshold"),
+    _m("sample_error", "LSB", "LSB", "Sample error",
+       description="converter input: sampled value at the end of the acquisition minus the "
+                   "level, in the periodic steady state, in LSB of the full scale"),
+    _m("kickback", "V", "V", "Kickback",
+       description="converter input: largest drop of the pin below its value when the "
+                   "switch closes, during the acquisition"),
+    _m("acquisition_settling", "s", "s", "Acquisition settling",
+       description="converter input: time from the switch closing until the sample stays "
+                   "within ½ LSB of the level; missing if never"),
+    _m("max_sample_rate", "Hz", "Hz", "Highest sample rate",
+       description="converter input: highest rate with the same acquisition time at which "
+                   "|sample error| ≤ ½ LSB"),
+    _m("input_current", "A", "A", "Input current",
+       description="converter input: average current drawn from the source in the steady state"),
 ])

@@ -27,6 +27,7 @@ KIND_TITLES = {
     "rc-bandpass": "RC band-pass", "sallen-key-lowpass": "Sallen-Key low-pass",
     "mfb-lowpass": "Multiple-feedback low-pass", "network": "Network", "snubber": "Snubber",
     "debounce": "Contact debounce",
+    "sampled-input": "Converter input",
 }
 
 SAFETY_ITEMS = (

@@ -46,6 +46,7 @@ UNITS: dict[str, str] = {
     "%": "%",
     "1": "",
     "deg": "°",
+    "LSB": "LSB",
 }
 
 #: unit code -> what a quantity in that unit is, for messages.
@@ -65,6 +66,7 @@ UNIT_NAMES: dict[str, str] = {
     "%": "percentage",
     "1": "plain number",
     "deg": "angle",
+    "LSB": "converter error in LSB",
 }
 
 _EXAMPLES: dict[str, str] = {
@@ -83,6 +85,7 @@ _EXAMPLES: dict[str, str] = {
     "%": "5%",
     "1": "0.707",
     "deg": "-45°",
+    "LSB": "0.5 LSB",
 }
 
 # Only these units take SI prefixes; a "k°C" or "mdB" is a mistake.
@@ -120,6 +123,7 @@ _SYMBOLS: dict[str, tuple[tuple[str, bool], ...]] = {
     "%": (("%", False),),
     "1": (),
     "deg": (("degrees", False), ("deg", False), ("°", False)),
+    "LSB": (("LSB", True),),
 }
 
 # Look-alike characters people paste from datasheets and word processors.

@@ -680,7 +680,8 @@ def time_response(fig_id: str, t_s, nominal, *, band=None, window: Mapping | Non
         for st, sy, label, role in curves:
             color, width, style = _ROLE_STYLE[role]
             ax.plot(st, sy, color=color, linewidth=width, linestyle=style, zorder=2.5)
-            handles.append(Line2D([], [], color=color, linewidth=width, linestyle=style, label=label))
+            if label:           # an unlabelled curve continues the one before it in the legend
+                handles.append(Line2D([], [], color=color, linewidth=width, linestyle=style, label=label))
         ax.plot(t, y, color=pal.NOMINAL, linewidth=1.5, zorder=3)
         handles.insert(0, Line2D([], [], color=pal.NOMINAL, linewidth=1.5, label=nominal_label))
 
@@ -824,11 +825,13 @@ def _axis_label(curves: list) -> str:
 
 
 def sweep(fig_id: str, x, curves: Sequence[Mapping], *, xlabel: str, x_unit: str, logx: bool = True,
-          marker_x: float | None = None, title: str = "", fmt: str = "svg") -> str | bytes:
+          marker_x: float | None = None, title: str = "", fmt: str = "svg",
+          markers: Sequence[Mapping] = (), allowed: Mapping | None = None) -> str | bytes:
     """Curves against one swept quantity, on a left and optionally a right y axis.
 
     `curves` = [{"y", "label", "unit", "axis": "left"|"right"}]; `marker_x`
-    draws a vertical line at the chosen value.
+    draws a vertical line at the chosen value, `markers` = [{"x", "label"}]
+    further ones; `allowed` = {"lo", "hi", "label"} shades a band on the left axis.
     """
     _check_fig_id(fig_id)
     xs = _arr(x, "x")
@@ -879,6 +882,16 @@ def sweep(fig_id: str, x, curves: Sequence[Mapping], *, xlabel: str, x_unit: str
         if ax_r is not None:
             ax_r.set_ylabel(_axis_label(right))
             ax_r.yaxis.set_major_formatter(_tick_formatter(right[0][2] if len({c[2] for c in right}) == 1 else ""))
+        if allowed is not None:
+            ax.axhspan(float(allowed["lo"]), float(allowed["hi"]), color=pal.ALLOWED, linewidth=0,
+                       zorder=0.5)
+            handles.append(Patch(color=pal.ALLOWED, label=str(allowed["label"])))
+        for mk in markers:
+            if np.isfinite(mk["x"]):
+                ax.axvline(float(mk["x"]), color=pal.PASS, linewidth=0.9, linestyle=(0, (4, 2)),
+                           zorder=4)
+                handles.append(Line2D([], [], color=pal.PASS, linewidth=0.9,
+                                      linestyle=(0, (4, 2)), label=str(mk["label"])))
         if marker_x is not None:
             ax.axvline(float(marker_x), color=pal.INK, linewidth=0.9, linestyle=(0, (1.5, 1.5)), zorder=4)
             handles.append(Line2D([], [], color=pal.INK, linewidth=0.9, linestyle=(0, (1.5, 1.5)),

@@ -1026,3 +1026,34 @@ def _scaled(svg: str) -> str:
     head, sep, body = svg.partition(">")
     head = re.sub(r'\b(width|height)="([0-9.]+)pt"', shrink, head)
     return head + sep + body
+
+
+def sampled_input(*, r: Label, c: Label, pin_c: Label | None, switch_r: Label,
+                  sampling_c: Label, source: Sequence[tuple[str, Label]] = ()) -> Recipe:
+    """RC in front of a converter pin: series R, C to ground at the pin, the pin
+    capacitance (dashed), then the converter's switch, its on-resistance and the
+    sampling capacitor, framed as the converter."""
+    pen = _Pen()
+    _front(pen, source, "in")
+    pen("wire", direction="right", length=LEAD)
+    pen("R", name="r", direction="right", label=r)
+    pen("dot", name="pin", text="pin", side="above")
+    pen("C", name="c", start="pin", direction="down", length=SHUNT, label=c, side="right")
+    pen("ground", start="c")
+    last, pitch = "pin", max(SLOT, _room_right(c))
+    if pin_c is not None:
+        pen("wire", name="pin_c_top", start="pin", direction="right", length=pitch)
+        pen("C", name="pin_c", start="pin_c_top", direction="down", length=SHUNT,
+            label=pin_c, dashed=True, side="right")
+        pen("ground", start="pin_c")
+        last, pitch = "pin_c_top", max(SLOT, _room_right(pin_c))
+    pen("wire", start=last, direction="right", length=pitch)
+    pen("switch", name="switch", direction="right", text="switch", side="above")
+    pen("R", name="switch_r", direction="right", label=switch_r)
+    pen("dot", name="hold", text="", side="above")
+    pen("C", name="sampling_c", start="hold", direction="down", length=SHUNT,
+        label=sampling_c, side="right")
+    pen("ground", start="sampling_c")
+    pen("box", name="converter_box", members=("switch", "switch_r", "sampling_c"),
+        text="converter", side="below", dashed=True)
+    return pen.recipe()

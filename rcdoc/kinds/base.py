@@ -110,6 +110,7 @@ def fixed_values(stage: Stage) -> dict[str, float]:
         out[LOAD_R] = stage.load_r
     if stage.load_c is not None:
         out[LOAD_C] = stage.load_c
+    out.update(stage.options.get("fixed_elements", {}))   # a kind's own fixed parts (pin capacitance)
     return out
 
 

@@ -1,0 +1,239 @@
+"""sampled-input: an RC in front of a converter's switched sampling capacitor.
+
+Reads ``level`` and the ``converter`` table, builds the RC (with the pin
+capacitance) for the usual frequency metrics, and adds the converter metrics
+(sample_error in LSB, kickback, acquisition_settling, max_sample_rate,
+input_current) as Evaluator methods, so yields, worst case and sensitivities
+come from the standard machinery. The physics is rcdoc.sampled; this module
+reads keys, hands over values and lays out the note page.
+
+The AC network is the RC with the pin capacitance and the source resistance;
+the sampling capacitor is left out of it: it is connected only during the
+acquisition, and its average effect (a load of f_s·C_s) is what
+``input_current`` reports.
+"""
+
+from __future__ import annotations
+
+import math
+from functools import cached_property
+
+import numpy as np
+
+from .. import sampled as phys
+from ..errors import ProjectError
+from ..evaluate import Evaluator
+from ..figures import charts
+from ..figures import schematic as sch
+from ..figures.schematic import Label
+from ..network import GROUND, Element
+from ..quantities import format_quantity, parse_positive, parse_quantity
+from . import _first_order as first
+from . import base
+
+WAVE_PERIODS = phys.WAVE_PERIODS
+
+NAME = "sampled-input"
+OPTIONS = ("level", "converter")
+PASSBAND = "low"
+ROLES = ("r", "c")
+PIN_C = "converter.pin_c"
+CONVERTER_KEYS = ("sampling_c", "switch_r", "pin_c", "acquisition", "sample_rate",
+                  "full_scale", "bits", "start", "leakage")
+REQUIRED = ("sampling_c", "switch_r", "acquisition", "sample_rate", "full_scale", "bits")
+METRIC_NAMES = ("sample_error", "kickback", "acquisition_settling", "max_sample_rate",
+                "input_current")
+HEADLINE = METRIC_NAMES
+check_roles = first.check_roles
+characteristic_hz = first.characteristic_hz
+
+
+def parse_options(t: dict, path: str) -> dict:
+    from ..project import check_keys, need_int, need_table
+    if "converter" not in t:
+        raise ProjectError("a sampled-input stage needs converter = { sampling_c = ..., "
+                           "switch_r = ..., acquisition = ..., sample_rate = ..., "
+                           "full_scale = ..., bits = ... }", path=f"{path}.converter")
+    cp = f"{path}.converter"
+    raw = need_table(t["converter"], cp)
+    check_keys(raw, CONVERTER_KEYS, cp)
+    for key in REQUIRED:
+        if key not in raw:
+            raise ProjectError(f"'{key}' is missing", path=f"{cp}.{key}")
+    conv = {"sampling_c": parse_positive(raw["sampling_c"], "F", f"{cp}.sampling_c"),
+            "switch_r": parse_positive(raw["switch_r"], "ohm", f"{cp}.switch_r"),
+            "acquisition": parse_positive(raw["acquisition"], "s", f"{cp}.acquisition"),
+            "sample_rate": parse_positive(raw["sample_rate"], "Hz", f"{cp}.sample_rate"),
+            "full_scale": parse_positive(raw["full_scale"], "V", f"{cp}.full_scale"),
+            "bits": need_int(raw["bits"], f"{cp}.bits", 1, 32),
+            "pin_c": parse_quantity(raw.get("pin_c", 0.0), "F", f"{cp}.pin_c"),
+            "leakage": parse_quantity(raw.get("leakage", 0.0), "A", f"{cp}.leakage")}
+    if conv["pin_c"] < 0:
+        raise ProjectError("the pin capacitance cannot be negative", path=f"{cp}.pin_c")
+    if conv["acquisition"] >= 1.0 / conv["sample_rate"]:
+        raise ProjectError(f"the acquisition ({format_quantity(conv['acquisition'], 's')}) "
+                           "must be shorter than the period 1/sample_rate "
+                           f"({format_quantity(1.0 / conv['sample_rate'], 's')})",
+                           path=f"{cp}.acquisition")
+    start = raw.get("start", 0.0)
+    conv["start"] = None if start == "previous" else parse_quantity(start, "V", f"{cp}.start")
+    level = (parse_quantity(t["level"], "V", f"{path}.level") if "level" in t
+             else conv["full_scale"])
+    fixed = {PIN_C: conv["pin_c"]} if conv["pin_c"] > 0 else {}
+    return {"converter": conv, "level_v": level, "fixed_elements": fixed}
+
+
+def metrics(options, drive):
+    return base.standard_metrics(drive, METRIC_NAMES)
+
+
+def build(stage):
+    els = [Element("r", "R", "in", "out"), Element("c", "C", "out", GROUND)]
+    if stage.options["fixed_elements"]:
+        els.append(Element(PIN_C, "C", "out", GROUND))
+    return base.wrap(stage, els, path=("r", "c"))
+
+
+def schematic(stage):
+    conv, p = stage.options["converter"], stage.parts
+    pin = Label("Cpin", format_quantity(conv["pin_c"], "F")) if conv["pin_c"] > 0 else None
+    return sch.sampled_input(r=base.label(p["r"]), c=base.label(p["c"]), pin_c=pin,
+                             switch_r=Label("Rsw", format_quantity(conv["switch_r"], "ohm")),
+                             sampling_c=Label("Cs", format_quantity(conv["sampling_c"], "F")),
+                             source=base.source_labels(stage))
+
+
+def params_for(stage, values: dict) -> phys.Params:
+    o = stage.options
+    return phys.params(values["r"], values["c"], stage.source_r, o["converter"], o["level_v"])
+
+
+class SampledEvaluator(Evaluator):
+    """The standard metrics plus the converter's, one value per row."""
+
+    @cached_property
+    def sampled(self) -> phys.Params:
+        return params_for(self.stage, self.values)
+
+    @cached_property
+    def sampled_state(self) -> dict:
+        return phys.steady(self.sampled)
+
+    def sample_error(self):
+        return phys.sample_error(self.sampled, self.sampled_state)
+
+    def kickback(self):
+        return phys.kickback(self.sampled, self.sampled_state)
+
+    def acquisition_settling(self):
+        return phys.acquisition_settling(self.sampled, self.sampled_state)
+
+    def max_sample_rate(self):
+        return phys.max_sample_rate(self.sampled)
+
+    def input_current(self):
+        return phys.input_current(self.sampled, self.sampled_state)
+
+
+def analyse(stage, analysis):
+    from ..analyse import analyse_network
+    from ..spread import build_batch
+    result = analyse_network(stage, analysis, evaluator=SampledEvaluator)
+    nominal = build_batch(stage, analysis, samples=0).take(slice(0, 1))
+    conv = stage.options["converter"]
+    curves = phys.curves(params_for(stage, nominal), float(nominal["c"][0]), conv["pin_c"])
+    result.extra["sampled"] = curves
+    result.extra["blocks"] = note_blocks(result, curves)
+    result.assumptions[:0] = assumptions(stage)
+    return result
+
+
+def assumptions(stage) -> list[str]:
+    conv = stage.options["converter"]
+    start = ("its own previous sample" if conv["start"] is None
+             else f"{format_quantity(conv['start'], 'V')} (the previous channel)")
+    return [
+        f"Converter input: the switch closes for {format_quantity(conv['acquisition'], 's')} at "
+        f"the start of each period of {format_quantity(1 / conv['sample_rate'], 's')} and "
+        "the sampling capacitor holds for the rest; the sample is its voltage when the switch "
+        f"opens. At each closing the sampling capacitor is at {start}.",
+        "The switch is a fixed resistance; charge injection, the converter's own "
+        "input buffer and the reference are not modelled. The source is ideal at the "
+        f"stage's level ({format_quantity(stage.options['level_v'], 'V')}) behind the "
+        "source resistance.",
+        "The periodic steady state is solved directly (the state that repeats after one "
+        "period), exactly within each interval; leakage is a constant current out of the pin.",
+        "The frequency response is that of the RC with the pin capacitance; the sampling "
+        "capacitor is not part of it (it is connected only during the acquisition; its "
+        "average load is the input current).",
+    ]
+
+
+def _fq(v, unit):
+    return format_quantity(float(v), unit) if math.isfinite(v) else "—"
+
+
+def note_blocks(r, cv: dict) -> list[dict]:
+    """The converter figures, drawn from the arrays the analysis computed."""
+    st = r.stage
+    conv = st.options["converter"]
+    level = st.options["level_v"]
+    lsb = conv["full_scale"] / 2.0 ** conv["bits"]
+    sid = st.id
+    blocks = []
+    settle = r.metric("acquisition_settling")
+    # Shown as the deviation from the level in LSB, clipped to a window that keeps
+    # the ½-LSB band readable (the reset to the start voltage runs off the scale).
+    dev_p, dev_s = (cv["pin"] - level) / lsb, (cv["sampled"] - level) / lsb
+    during = cv["t"] % cv["period"] <= conv["acquisition"]
+    reach = max(4.0, 1.5 * float(np.max(np.abs(dev_p[during]))), 1.5 * abs(float(dev_s[-1])))
+    half = np.full(len(cv["t"]), 0.5)
+    settled = settle is not None and math.isfinite(settle.nominal)
+    wave = charts.time_response(
+        f"{sid}-sampled", cv["t"], np.clip(dev_s, -reach, reach),
+        window=({"t": settle.nominal, "lo": -0.5, "hi": 0.5, "label": "level ± ½ LSB"}
+                if settled else None),
+        series=[{"t": cv["t"], "y": np.clip(dev_p, -reach, reach), "label": "pin",
+                 "role": "without"}]
+        + ([] if settled else [{"t": cv["t"], "y": half, "label": "± ½ LSB", "role": "input"},
+                               {"t": cv["t"], "y": -half, "label": "", "role": "input"}]),
+        nominal_label="sampled (nominal)", ylabel="Voltage − level [LSB]", fmt="png")
+    blocks.append(_figure(
+        "Pin and sampled voltage (steady state)", wave,
+        f"{WAVE_PERIODS} periods at {_fq(conv['sample_rate'], 'Hz')}, as the deviation from the "
+        f"level ({_fq(level, 'V')}) in LSB of {_fq(lsb, 'V')}, clipped to ±{reach:.3g} LSB: the "
+        "sampling capacitor follows the pin while the switch is closed "
+        f"({_fq(conv['acquisition'], 's')} from each period's start), then holds. "
+        + ("The dashed line marks the acquisition settling." if settled else
+           "The sample never settles within ½ LSB of the level.")))
+    msr = r.metric("max_sample_rate")
+    msr_x = msr.nominal if msr is not None else math.nan
+    rate_fig = charts.sweep(
+        f"{sid}-rate", cv["rates"],
+        [{"y": cv["error_rate"], "label": "sample error", "unit": "LSB"}],
+        xlabel="Sample rate", x_unit="Hz", marker_x=conv["sample_rate"], fmt="png",
+        allowed={"lo": -0.5, "hi": 0.5, "label": "± ½ LSB"},
+        markers=[{"x": msr_x, "label": f"highest rate {_fq(msr_x, 'Hz')}"}])
+    blocks.append(_figure(
+        "Sample error against sample rate", rate_fig,
+        "Same acquisition time, nominal parts; chosen rate marked. Highest rate within "
+        f"½ LSB (nominal): {_fq(msr_x, 'Hz')}"
+        + ("" if math.isfinite(msr_x) else " (none: the acquisition alone leaves more than "
+           "½ LSB)") + "."))
+    c_fig = charts.sweep(
+        f"{sid}-cap", cv["c"],
+        [{"y": cv["error_c"], "label": "sample error", "unit": "LSB", "axis": "left"},
+         {"y": cv["kickback_c"], "label": "kickback", "unit": "V", "axis": "right"}],
+        xlabel="Filter capacitance", x_unit="F", marker_x=float(st.parts["c"].value), fmt="png",
+        allowed={"lo": -0.5, "hi": 0.5, "label": "± ½ LSB"})
+    blocks.append(_figure(
+        "Sample error against the filter capacitance", c_fig,
+        "R held at its value. Too little C: the sampling capacitor's charge pulls the pin "
+        "down (kickback) and R cannot refill it within the acquisition; too much C with the "
+        "same R: the pin recovers too slowly between samples."))
+    return blocks
+
+
+def _figure(title, image, caption):
+    return {"type": "figure", "title": title, "image": image, "width": "full",
+            "caption": caption}
