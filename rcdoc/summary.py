@@ -87,6 +87,8 @@ def summary(project: Project, results: list[StageResult]) -> dict:
         "stages": [{
             "id": r.stage.id, "kind": r.stage.kind, "title": r.stage.title,
             "status": r.status,
+            **({"reason": r.reason} if r.reason else {}),
+            "samples_unstable": r.samples_unstable,
             "metrics": [metric_entry(m) for m in r.metrics],
             "checks": [verdict_entry(v) for v in r.verdicts + r.ratings],
             "parts": [part_entry(row) for row in r.part_rows],
