@@ -70,7 +70,7 @@ class StageResult:
     assumptions: list[str]
     samples: int
     extra: dict = field(default_factory=dict)   # kind-specific results (snubbers)
-    samples_unstable: int = 0            # Monte Carlo samples with a pole on or right of the jω axis
+    samples_unstable: int = 0            # Monte Carlo samples with a pole at Re s >= 0
     unstable_poles: tuple = ()           # the nominal's offending poles (rad/s), empty if stable
 
     @property
