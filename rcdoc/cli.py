@@ -177,8 +177,8 @@ def _print_table(console, outcome) -> None:
     for col in ("stage", "check", "limit", "worst", "yield", "verdict"):
         t.add_column(col)
     for r in outcome.results:
-        unstable = getattr(r, "samples_unstable", 0)
-        if getattr(r, "reason", None) or unstable:
+        unstable = r.samples_unstable
+        if r.reason or unstable:
             # Stability is judged before any check: an unstable nominal fails the stage.
             t.add_row(r.stage.id, "stability", "Re(pole) < 0",
                       "unstable" if r.reason else f"{unstable} samples unstable",
