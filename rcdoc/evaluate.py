@@ -241,13 +241,22 @@ class Evaluator:
         """compute(values, rows) -> {name: (rows, points)} over the stable rows only;
         unstable rows get NaN (their time responses and noise do not exist)."""
         ok = ~self.unstable
-        if ok.all():
-            return compute(self.values, slice(None))
+        every = bool(ok.all())
+        values = self.values if every else \
+            {k: np.broadcast_to(v, (self.rows,))[ok] for k, v in self.values.items()}
+        result = {} if ok.any() else {n: np.zeros((0, points)) for n in names}
+        # A stable row whose computation still overflows (a badly conditioned
+        # step) gets no value rather than an infinite one, and no warning.
+        with np.errstate(all="ignore"):
+            if ok.any():
+                result = compute(values, slice(None) if every else ok)
+            for y in result.values():
+                y[~np.all(np.isfinite(y), axis=1)] = np.nan
+        if every:
+            return result
         out = {n: np.full((self.rows, points), np.nan) for n in names}
-        if ok.any():
-            sub = {k: np.broadcast_to(v, (self.rows,))[ok] for k, v in self.values.items()}
-            for n, y in compute(sub, ok).items():
-                out[n][ok] = y
+        for n, y in result.items():
+            out[n][ok] = y
         return out
 
     @cached_property
@@ -318,7 +327,7 @@ class Evaluator:
         outside = err > band
         last = len(t) - 1 - np.argmax(outside[:, ::-1], axis=1)
         rows = np.arange(self.rows)
-        never = ~outside.any(axis=1)
+        never = ~outside.any(axis=1) & ~np.isnan(err).any(axis=1)   # a missing response never settled
         nxt = np.minimum(last + 1, len(t) - 1)
         e0, e1 = err[rows, last], err[rows, nxt]
         # Interpolate log(error): exact for an exponential decay.
