@@ -19,7 +19,8 @@ from . import engine
 from . import parts as partmodels
 from . import spread
 from . import worstcase
-from .evaluate import Evaluator, sweep_for
+from . import poles as polemod
+from .evaluate import Evaluator, db, sweep_for
 from .kinds import KINDS
 from .kinds.base import fixed_values
 from .metrics import METRICS
@@ -73,11 +74,18 @@ class StageResult:
     assumptions: list[str]
     samples: int
     extra: dict = field(default_factory=dict)   # kind-specific results (snubbers)
+    samples_unstable: int = 0            # Monte Carlo samples with a pole at Re s >= 0
+    unstable_poles: tuple = ()           # the nominal's offending poles (rad/s), empty if stable
+
+    @property
+    def reason(self) -> str | None:
+        """Why the stage fails beyond its checks: "unstable" when the nominal design is."""
+        return "unstable" if self.unstable_poles else None
 
     @property
     def status(self) -> str:
         bad = [v for v in self.verdicts + self.ratings if v.status != "pass"]
-        return "fail" if bad else "pass"
+        return "fail" if bad or self.reason else "pass"
 
     def metric(self, name: str, at_hz: float | None = None) -> MetricResult | None:
         for m in self.metrics:
@@ -176,6 +184,7 @@ def analyse_network(stage: Stage, analysis: Analysis, evaluator=Evaluator) -> St
     wave_env = {"step": _Envelope(), "pwm": _Envelope()}
     cap_peaks: dict[str, list] = {}
     res_powers: dict[str, list] = {}
+    unstable: list[np.ndarray] = []
     for start in range(0, batch.rows, CHUNK_ROWS):
         rows = slice(start, min(start + CHUNK_ROWS, batch.rows))
         vals = batch.take(rows)
@@ -183,9 +192,12 @@ def analyse_network(stage: Stage, analysis: Analysis, evaluator=Evaluator) -> St
                        time_s=time_s)
         for k, (name, at, chk) in enumerate(requests):
             values_per_req[k].append(np.asarray(ev.metric(name, chk, at_hz=at), dtype=float))
-        # Spread bands of the response over the Monte Carlo rows only.
+        unstable.append(ev.unstable)
+        # Spread bands of the response over the stable Monte Carlo rows only.
         mc_idx = _mc_rows(rows, batch)
         if mc_idx is not None:
+            mc_idx = mc_idx[~ev.unstable[mc_idx]]
+        if mc_idx is not None and mc_idx.size:
             g = ev.gain_db[mc_idx]
             ph = np.degrees(np.unwrap(np.angle(ev.h[mc_idx]), axis=1))
             band_acc.add(g, ph)
@@ -250,11 +262,19 @@ def analyse_network(stage: Stage, analysis: Analysis, evaluator=Evaluator) -> St
                                        required_yield=chk.required_yield, at_hz=chk.at_hz,
                                        detail=m.detail))
     ratings = _ratings(stage, batch, cap_peaks, res_powers)
+    unstable_rows = np.concatenate(unstable)
+    nominal_unstable = bool(unstable_rows[0])
+    if not gains:                    # no stable sample: the band shrinks to the nominal curve
+        g0 = db(h_nominal)[None].astype(np.float32)
+        p0 = np.degrees(np.unwrap(np.angle(h_nominal)))[None].astype(np.float32)
+        gains, phases = [g0], [p0]
+        band_acc.add(g0, p0)
     band = _band(gains, phases, band_acc)
-    step = _wave(time_s, nominal_ev.step[0] if stage.drive is not None else None,
-                 waves["step"], wave_env["step"]) if stage.drive is not None else None
+    # Time responses of an unstable nominal do not exist: no waveforms are drawn.
+    timed = stage.drive is not None and not nominal_unstable
+    step = _wave(time_s, nominal_ev.step[0], waves["step"], wave_env["step"]) if timed else None
     pwm = None
-    if stage.drive is not None and stage.drive.kind == "pwm":
+    if timed and stage.drive.kind == "pwm":
         t = nominal_ev.pwm_time_s
         y0 = nominal_ev.pwm_probes[network.output][0]
         pwm = _wave(t, y0 - y0.mean(), waves["pwm"], wave_env["pwm"])
@@ -263,13 +283,16 @@ def analyse_network(stage: Stage, analysis: Analysis, evaluator=Evaluator) -> St
         pwm["input"] = np.where(t < d.duty / d.frequency_hz, d.amplitude_v, 0.0)
     corner = next((m.nominal for m in metrics if m.name in ("corner", "f0")
                    and math.isfinite(m.nominal)), char_hz)
-    phasor = phasor_data(network, nominal_vals, corner)
+    phasor = {} if nominal_unstable else phasor_data(network, nominal_vals, corner)
+    offending = tuple(complex(p) for p in polemod.offending(nominal_ev.poles[0]))
     return StageResult(stage=stage, network=network, passband=passband, char_hz=char_hz,
                        freqs_hz=freqs, h_nominal=h_nominal, band=band, metrics=metrics,
                        verdicts=verdicts, ratings=ratings, phasor=phasor, step=step, pwm=pwm,
                        part_rows=_part_rows(stage, analysis), assumptions=_assumptions(stage, analysis),
                        samples=batch.samples,
-                       extra={"stresses": part_stresses(stage, batch, cap_peaks, res_powers)})
+                       extra={"stresses": part_stresses(stage, batch, cap_peaks, res_powers)},
+                       samples_unstable=int(unstable_rows[batch.mc].sum()),
+                       unstable_poles=offending)
 
 
 @dataclass
@@ -368,6 +391,9 @@ def _band(gains, phases, env: _Envelope) -> dict[str, np.ndarray]:
 
 def _wave(t, nominal, waves, env: _Envelope) -> dict:
     idx = np.linspace(0, len(t) - 1, WAVE_POINTS).astype(int)
+    if not waves:                    # every Monte Carlo sample unstable: the nominal alone
+        waves = [nominal[idx][None]]
+        env.add(waves[0], None)
     y = np.concatenate(waves).astype(float)
     return {"t": t[idx], "nominal": nominal[idx], "min": env.lo, "max": env.hi,
             "lo": np.percentile(y, BAND_PERCENTILES[0], axis=0),

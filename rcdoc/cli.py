@@ -229,6 +229,13 @@ def _print_table(console, outcome) -> None:
     for col in ("stage", "check", "limit", "worst", "yield", "verdict"):
         t.add_column(col)
     for r in outcome.results:
+        unstable = r.samples_unstable
+        if r.reason or unstable:
+            # Stability is judged before any check: an unstable nominal fails the stage.
+            t.add_row(r.stage.id, "stability", "Re(pole) < 0",
+                      "unstable" if r.reason else f"{unstable} samples unstable",
+                      f"{(1 - unstable / max(r.samples, 1)) * 100:.2f} %",
+                      "[bold red]fail[/bold red]" if r.reason else "")
         if not (r.verdicts or r.ratings):
             t.add_row(r.stage.id, "(no checks)", "", "", "", r.status)
         for v in r.verdicts + r.ratings:

@@ -15,6 +15,7 @@ from functools import cached_property
 import numpy as np
 
 from . import engine
+from . import poles as polemod
 from .model import Check, Stage
 from .network import Network
 
@@ -153,23 +154,22 @@ class Evaluator:
 
     @cached_property
     def poles(self) -> np.ndarray:
-        """Finite poles per row, sorted by magnitude (rows × n, NaN-padded)."""
-        sysm = self.system
-        sigma = 2 * np.pi * self.char_hz     # a positive shift is never a pole of a stable network
-        m = np.linalg.solve(sysm.G + sigma * sysm.C, sysm.C)
-        lam = np.linalg.eigvals(m)
-        scale = np.max(np.abs(lam), axis=1, keepdims=True)
-        finite = np.abs(lam) > 1e-9 * np.where(scale > 0, scale, 1.0)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            p = np.where(finite, sigma - 1.0 / np.where(finite, lam, 1.0), np.nan + 0j)
-        order = np.argsort(np.where(np.isnan(p.real), np.inf, np.abs(p)), axis=1)
-        return np.take_along_axis(p, order, axis=1)
+        """Finite poles per row, sorted by magnitude (rows × n, NaN-padded), from a
+        well-conditioned form of the network (rcdoc.poles)."""
+        return polemod.poles(self.network, self.values)
+
+    @cached_property
+    def unstable(self) -> np.ndarray:
+        """Rows with a pole in the right half-plane or on the imaginary axis."""
+        return polemod.unstable(self.poles)
 
     def _two_poles(self):
         p = self.poles
         if p.shape[1] < 2:
             nan = np.full(self.rows, np.nan)
             return nan, nan
+        if self.stage.kind == "network":
+            return _dominant_pair(p)
         p1, p2 = p[:, 0], p[:, 1]
         w0 = np.sqrt(np.abs(p1 * p2))
         return w0, np.abs((p1 + p2).real)
@@ -184,7 +184,10 @@ class Evaluator:
             return w0 / s
 
     def peaking(self) -> np.ndarray:
-        return np.maximum(self.peak_db - self.passband_db, 0.0)
+        peak = np.maximum(self.peak_db - self.passband_db, 0.0)
+        if self.stage.kind == "network":      # only where a complex pair can peak
+            peak = np.where(np.isfinite(self.f0()), peak, np.nan)
+        return peak
 
     @cached_property
     def peak_db(self) -> np.ndarray:
@@ -214,7 +217,8 @@ class Evaluator:
         return db(self.h_at(at_hz))
 
     def phase(self, at_hz: float) -> np.ndarray:
-        return np.degrees(np.angle(self.h_at(at_hz)))
+        """Phase unwrapped along the sweep from the passband, read at the mark."""
+        return _unwrapped_phase(self, float(at_hz))
 
     def group_delay(self, at_hz: float) -> np.ndarray:
         # τ = −dφ/dω by a central difference; the ratio avoids phase wrapping.
@@ -234,10 +238,36 @@ class Evaluator:
         return Network(elements=els, drive=core_input(self.network), output=self.network.output,
                        opamps=self.network.opamps, path=self.network.path)
 
+    def _on_stable(self, compute, names, points: int) -> dict[str, np.ndarray]:
+        """compute(values, rows) -> {name: (rows, points)} over the stable rows only;
+        unstable rows get NaN (their time responses and noise do not exist)."""
+        ok = ~self.unstable
+        every = bool(ok.all())
+        values = self.values if every else \
+            {k: np.broadcast_to(v, (self.rows,))[ok] for k, v in self.values.items()}
+        result = {} if ok.any() else {n: np.zeros((0, points)) for n in names}
+        # A stable row whose computation still overflows (a badly conditioned
+        # step) gets no value rather than an infinite one, and no warning.
+        with np.errstate(all="ignore"):
+            if ok.any():
+                result = compute(values, slice(None) if every else ok)
+            for y in result.values():
+                y[~np.all(np.isfinite(y), axis=1)] = np.nan
+        if every:
+            return result
+        out = {n: np.full((self.rows, points), np.nan) for n in names}
+        for n, y in result.items():
+            out[n][ok] = y
+        return out
+
     @cached_property
     def noise_psd(self) -> np.ndarray:
-        return engine.output_noise_psd(self.network, self.values, self.freqs_hz,
-                                       temperature_k=self.temperature_k)
+        def compute(values, rows):
+            t = self.temperature_k
+            t = np.broadcast_to(t, (self.rows,))[rows] if np.ndim(t) else t
+            return {"psd": engine.output_noise_psd(self.network, values, self.freqs_hz,
+                                                   temperature_k=t)}
+        return self._on_stable(compute, ["psd"], len(self.freqs_hz))["psd"]
 
     def noise(self) -> np.ndarray:
         # Integrated over the sweep (trapezoid rule in linear frequency).
@@ -246,12 +276,12 @@ class Evaluator:
     # ---- time domain -------------------------------------------------------
     @cached_property
     def time_s(self) -> np.ndarray:
-        """Step grid from the first row (the nominal in a batch) only, so that no
+        """Step grid from the nominal row only (unstable nominal: none), so that no
         row's numbers depend on the others: long enough for the nominal to settle
         to about 34 bits, i.e. for rows up to twice as slow to settle to 16."""
-        p = self.poles[:1]
+        p = self.poles[:1][~self.unstable[:1]]
         decay = np.where(np.isnan(p.real), np.inf, np.abs(p.real))
-        slowest = np.nanmin(decay)
+        slowest = np.min(decay) if decay.size else np.inf
         if not np.isfinite(slowest) or slowest <= 0:
             slowest = 2 * np.pi * self.char_hz
         t_end = TIME_CONSTANTS / slowest
@@ -265,8 +295,8 @@ class Evaluator:
         # The step is applied at t = 0 from rest: the input holds its amplitude
         # from the first instant on.
         u = np.full(t.shape, amp)
-        return engine.transient(self.network, self.values, t, u, probes=probes,
-                                initial="rest")
+        return self._on_stable(lambda values, _: engine.transient(
+            self.network, values, t, u, probes=probes, initial="rest"), probes, t.size)
 
     @cached_property
     def step(self) -> np.ndarray:
@@ -302,7 +332,7 @@ class Evaluator:
         outside = err > band
         last = len(t) - 1 - np.argmax(outside[:, ::-1], axis=1)
         rows = np.arange(self.rows)
-        never = ~outside.any(axis=1)
+        never = ~outside.any(axis=1) & ~np.isnan(err).any(axis=1)   # a missing response never settled
         nxt = np.minimum(last + 1, len(t) - 1)
         e0, e1 = err[rows, last], err[rows, nxt]
         # Interpolate log(error): exact for an exponential decay.
@@ -321,8 +351,8 @@ class Evaluator:
         # Held between instants: the edges fall on the grid, not halfway between.
         u = np.where(t < d.duty * period, d.amplitude_v, 0.0)
         probes = [self.network.output] + [f"v:{e.name}" for e in self.network.elements]
-        return engine.periodic_steady_state(self.network, self.values, t, u, probes=probes,
-                                            input_mode="hold")
+        return self._on_stable(lambda values, _: engine.periodic_steady_state(
+            self.network, values, t, u, probes=probes, input_mode="hold"), probes, t.size)
 
     @cached_property
     def pwm_time_s(self) -> np.ndarray:
@@ -375,7 +405,7 @@ class Evaluator:
         return np.max(np.stack(list(peaks.values())), axis=0)
 
     # ---- dispatch ----------------------------------------------------------
-    def metric(self, name: str, check: Check | None = None, at_hz: float | None = None):
+    def _metric(self, name: str, check: Check | None = None, at_hz: float | None = None):
         at = at_hz if at_hz is not None else (check.at_hz if check else None)
         if name in ("gain", "phase", "group_delay", "input_impedance"):
             return getattr(self, name)(at)
@@ -388,6 +418,46 @@ class Evaluator:
         if fn is None or not callable(fn):
             raise KeyError(name)
         return fn()
+
+    def metric(self, name: str, check: Check | None = None, at_hz: float | None = None):
+        """A metric per row; missing (NaN) for unstable rows, where it has no meaning."""
+        value = np.asarray(self._metric(name, check, at_hz), dtype=float)
+        return np.where(self.unstable, np.nan, value)
+
+
+def _dominant_pair(p: np.ndarray):
+    """ω0 and |p1 + p2| of the complex pair nearest the imaginary axis, per row (NaN if none)."""
+    mag = np.abs(p)
+    cplx = np.isfinite(p) & (p.imag > 1e-9 * np.where(mag > 0, mag, 1.0))
+    key = np.where(cplx, np.abs(p.real), np.inf)
+    j = np.argmin(key, axis=1)
+    rows = np.arange(p.shape[0])
+    has = cplx[rows, j]
+    pj = p[rows, j]
+    w0 = np.where(has, np.abs(pj), np.nan)      # p·p̄ = |p|²
+    return w0, np.where(has, 2 * np.abs(pj.real), np.nan)
+
+
+def _unwrapped_phase(ev: Evaluator, at_hz: float) -> np.ndarray:
+    """Phase (degrees) at ``at_hz``, continuous along the sweep from the passband end.
+
+    The sweep's points up to the mark (from the low end for a low-pass or
+    band-pass, from the high end for a high-pass) are unwrapped, the mark's
+    value is joined to its nearest swept neighbour, and the whole is shifted
+    by whole turns so that the passband end reads within ±180°.
+    """
+    f = ev.freqs_hz
+    ph_mark = np.angle(ev.h_at(at_hz))
+    if ev.passband == "high":
+        sel = f >= at_hz
+        seq = np.angle(ev.h[:, sel][:, ::-1])
+    else:
+        sel = f <= at_hz
+        seq = np.angle(ev.h[:, sel])
+    if seq.shape[1] == 0:
+        return np.degrees(ph_mark)
+    un = np.unwrap(np.concatenate([seq, ph_mark[:, None]], axis=1), axis=1)
+    return np.degrees(un[:, -1])
 
 
 def _cross_time(y: np.ndarray, t: np.ndarray, level: float) -> np.ndarray:

@@ -43,7 +43,8 @@ METRICS: dict[str, Metric] = dict([
     _m("gain", "dB", "dB", "Gain", needs_at=True,
        description="20·log10 |V(out)/V(source)| at the frequency"),
     _m("phase", "deg", "deg", "Phase", needs_at=True,
-       description="phase of V(out)/V(source) at the frequency"),
+       description="phase of V(out)/V(source) at the frequency, unwrapped along the "
+                   "sweep from the passband"),
     _m("group_delay", "s", "s", "Group delay", needs_at=True,
        description="−dφ/dω at the frequency"),
     _m("input_impedance", "ohm", "ohm", "Input impedance |Z|", needs_at=True,

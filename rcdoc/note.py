@@ -165,7 +165,8 @@ def metrics_table(r: StageResult) -> dict:
             lo = hi = mean = std = math.nan
         missing = m.samples.size - s.size
         rows.append([metric_label(m.name, m.at_hz, m.detail), fq(m.nominal, unit), fq(lo, unit),
-                     fq(hi, unit), fq(mean, unit), fq(std, unit) if unit not in ("dB", "deg")
+                     fq(hi, unit), fq(mean, unit), fq(std, unit)
+                     if unit not in ("dB", "deg") or not math.isfinite(std)
                      else f"{std:.3g} {'dB' if unit == 'dB' else '°'}",
                      f"{fq(m.wc[0], unit)} … {fq(m.wc[1], unit)}"
                      + (" (searched inside)" if "search" in m.wc_method else "")
@@ -197,7 +198,9 @@ def sensitivity_table(r: StageResult) -> dict | None:
         for m in chosen:
             s = m.sensitivity.get(role, math.nan)
             unit = METRICS[m.name].unit
-            if unit in ("dB", "deg"):
+            if not math.isfinite(s):         # e.g. an unstable nominal: no value to vary
+                cells.append("—")
+            elif unit in ("dB", "deg"):
                 cells.append(f"{s:+.3g} {'dB' if unit == 'dB' else '°'}/%")
             else:
                 cells.append(f"{s:+.3f}")
@@ -369,7 +372,9 @@ def stage_context(r: StageResult, project: Project) -> dict:
     for b in r.extra.get("blocks_before", []):
         blocks.append(b)
     blocks.append(metrics_table(r))
-    if r.h_nominal is not None and r.freqs_hz is not None and len(r.freqs_hz):
+    # An unstable nominal has no steady-state response to draw.
+    if (r.h_nominal is not None and r.freqs_hz is not None and len(r.freqs_hz)
+            and not r.unstable_poles):
         blocks.append(bode_figure(r))
     pf = phasor_figure(r)
     if pf:
@@ -388,7 +393,32 @@ def stage_context(r: StageResult, project: Project) -> dict:
         safety = {"voltage": fq(v, "V"), "items": list(SAFETY_ITEMS)}
     return {"id": st.id, "title": st.title, "kind": KIND_TITLES.get(st.kind, st.kind),
             "status": r.status, "notes": list(paragraphs(st.notes)) if st.notes else [],
-            "safety": safety, "blocks": blocks}
+            "safety": safety, "caution": stability_caution(r), "blocks": blocks}
+
+
+def pole_text(p: complex) -> str:
+    """A pole in Hz as a complex value: "120 Hz + j 3.4 kHz"."""
+    re, im = p.real / (2 * math.pi), p.imag / (2 * math.pi)
+    sign = "−" if im < 0 else "+"
+    return f"{fq(re, 'Hz')} {sign} j {fq(abs(im), 'Hz')}"
+
+
+def stability_caution(r: StageResult) -> dict | None:
+    """The caution box of an unstable stage: the offending poles of the nominal design,
+    or how many Monte Carlo samples are unstable."""
+    items = []
+    if r.unstable_poles:
+        items.append("The nominal design is unstable: it has poles in the right half-plane or "
+                     "on the imaginary axis (s/2π): "
+                     + "; ".join(pole_text(p) for p in r.unstable_poles)
+                     + ". Its metrics are missing, every check fails and no time response, "
+                     "noise or steady state is computed.")
+    if r.samples_unstable:
+        items.append(f"{r.samples_unstable} of {r.samples} Monte Carlo samples are unstable; "
+                     "their metrics are missing and they count as failing every check.")
+    if not items:
+        return None
+    return {"title": "Unstable", "items": items}
 
 
 def _schematic_caption(r: StageResult) -> str:
@@ -498,6 +528,21 @@ def method_appendix() -> list[dict]:
                 "output in periodic steady state. Noise is the Johnson–Nyquist noise of every "
                 "resistor (4kTR) carried to the output and integrated over the sweep, which "
                 "includes the kT/C limit of the capacitors."]},
+            {"type": "text", "title": "Poles and stability", "paragraphs": [
+                "Poles are computed for every row on a scaled problem: the unknowns are the "
+                "voltages across a spanning tree of the largest admittances at the network's "
+                "characteristic frequency, each part is entered in those coordinates "
+                "directly, frequency is scaled by the characteristic rate and rows and "
+                "columns are balanced, so that parts from 1 mΩ to 1 GΩ and 1 fF to 10 mF "
+                "give the closed-form values. A network stage takes f0, Q and peaking from "
+                "its complex pole pair nearest the imaginary axis; without one they are "
+                "missing.",
+                "A row is unstable when a pole p has Re p ≥ −10⁻⁹·|p| (right half-plane, "
+                "imaginary axis, or a Q above 5·10⁸ that rounding could put on either side; "
+                "a pole at s = 0 included). An unstable row has no metrics: they are "
+                "missing, every check fails on it, and its time responses, steady states "
+                "and noise are not computed. A stage whose nominal design is unstable fails, "
+                "whatever its checks."]},
             {"type": "table", "title": "Metric reference", "columns": ["Metric", "Key",
                                                                         "Unit", "Definition"],
              "rows": metric_rows, "note": None},

@@ -23,6 +23,7 @@ The context (the pipeline fills it; every string is plain text and is escaped)::
      "stages": [{"id": str, "title": str, "kind": str, "status": "pass"|"fail",
                  "notes": [paragraph, ...],
                  "safety": None | {"voltage": "325 V", "items": [str, ...]},
+                 "caution": None | {"title": "Unstable", "items": [str, ...]},
                  "blocks": [block, ...]}],
      "appendix": [{"title": str, "blocks": [block, ...]}],
      "changes": None | {"title": str, "blocks": [block, ...]},   # after the summary
@@ -40,7 +41,7 @@ first cell (the stage title) links to ``#stage-<id>``. A plain list of cells is
 accepted too; row *i* then links to ``stages[i]``. In every table a cell equal
 to ``"pass"`` or ``"fail"`` becomes a verdict badge and a cell that reads as a
 number (``"10.2 kHz"``, ``"-39.8 dB"``, ``"99.7 %"``) is right-aligned.
-Keys marked ``| None`` (and ``safety``, ``overview_image``, ``appendix``, ``changes``,
+Keys marked ``| None`` (and ``safety``, ``caution``, ``overview_image``, ``appendix``, ``changes``,
 ``caption``, ``width``, ``note``, block ``title``) may also be left out.
 
 Figures are embedded as ``<img src="data:image/svg+xml;base64,...">``: on six

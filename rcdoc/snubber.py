@@ -33,6 +33,7 @@ from typing import Iterator, Mapping
 import numpy as np
 
 from . import engine
+from . import poles as polemod
 from .network import GROUND, Element, Network
 
 DEFAULT_LOOP_Q = 30.0        # Q of an unsnubbed switch node when no loop resistance is given
@@ -116,16 +117,10 @@ def leak_network() -> Network:
 def poles(network: Network, values: Mapping[str, np.ndarray], scale_rad_s: float) -> np.ndarray:
     """Finite poles per row (S, n), NaN-padded: where G + sC is singular.
 
-    Eigenvalues λ of (G + σC)⁻¹C give the poles s = σ − 1/λ; any σ that is no
-    pole works, and a positive one never is for a passive network.
+    The shared conditioned computation (rcdoc.poles), frequency scaled by
+    ``scale_rad_s`` (the loop's resonance).
     """
-    sysm = engine.assemble(network, values)
-    sigma = float(scale_rad_s)
-    lam = np.linalg.eigvals(np.linalg.solve(sysm.G + sigma * sysm.C, sysm.C))
-    scale = np.max(np.abs(lam), axis=1, keepdims=True)
-    finite = np.abs(lam) > 1e-9 * np.where(scale > 0, scale, 1.0)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(finite, sigma - 1.0 / np.where(finite, lam, 1.0), np.nan + 0j)
+    return polemod.poles(network, values, scale_rad_s)
 
 
 def damping_ratio(p: np.ndarray) -> np.ndarray:

@@ -91,6 +91,8 @@ def summary(project: Project, results: list[StageResult]) -> dict:
         "stages": [{
             "id": r.stage.id, "kind": r.stage.kind, "title": r.stage.title,
             "status": r.status,
+            **({"reason": r.reason} if r.reason else {}),
+            "samples_unstable": r.samples_unstable,
             "metrics": [metric_entry(m) for m in r.metrics],
             "checks": [{**verdict_entry(v), **extra} for v, extra
                        in zip(r.verdicts + r.ratings, check_extras(r, lines))],

@@ -167,7 +167,8 @@ class _Groups:
 
 def metrics(options, drive):
     extra = ("corner_low", "corner_high") if options.get("passband") == "band" else ()
-    return base.standard_metrics(drive, extra)
+    # f0, Q and peaking from the dominant complex pole pair (missing without one).
+    return base.standard_metrics(drive, extra + base.SECOND_ORDER_METRICS)
 
 
 def passband(stage) -> str:

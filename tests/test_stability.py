@@ -1,0 +1,266 @@
+"""Stability, conditioned poles and the unwrapped phase at a mark.
+
+References, named beside each check: the textbook Sallen-Key low-pass with
+gain K = 1 + rf/rg, H(s) = K / (s²·r1r2c1c2 + s·(r1c2 + r2c2 + r1c1·(1 − K)) + 1)
+(nodal analysis; equal parts give Q = 1/(3 − K)); the Routh–Hurwitz criterion
+(a second-order polynomial with positive leading and constant terms is stable
+exactly when its middle coefficient is positive); the LC resonance
+ω = 1/√(LC) (Thomson's formula); the series RLC low-pass
+H(s) = 1/(s²LC + sRC + 1); the three-section RC ladder
+H(s) = 1/(s³τ³ + 5s²τ² + 6sτ + 1) through scipy.signal.freqs and numpy.unwrap.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import subprocess
+import sys
+import textwrap
+import warnings
+from pathlib import Path
+
+import numpy as np
+import pytest
+from scipy import signal
+
+from boards import analyse_one, load
+from rcdoc import poles as polemod
+from rcdoc.analyse import analyse_stage
+from rcdoc.network import Element, Network
+from rcdoc.spread import build_batch
+
+TWO_PI = 2 * math.pi
+ROOT = Path(__file__).resolve().parent.parent
+
+
+def sallen_key(r1, r2, c1, c2, rf=None, rg=None, tol="1%", drive=True, checks=True):
+    lines = ['[[stage]]', 'id = "sk"', 'title = "Sallen-Key under test"',
+             'kind = "sallen-key-lowpass"', 'marks = ["1 kHz"]']
+    if drive:
+        lines.append('drive = { step = "1 V" }')
+    parts = {"r1": r1, "r2": r2, "c1": c1, "c2": c2}
+    if rf:
+        parts.update(rf=rf, rg=rg)
+    lines += [f'parts.{k} = {{ value = "{v}", tolerance = "{tol}" }}' for k, v in parts.items()]
+    if checks:
+        lines += ['[[stage.check]]', 'metric = "q"', 'max = 1']
+    return "\n".join(lines) + "\n"
+
+
+def sk_denominator(v):
+    """Textbook Sallen-Key denominator coefficients (a2, a1, a0) per row of part values."""
+    k = 1 + v["rf"] / v["rg"] if "rf" in v else 1.0
+    a2 = v["r1"] * v["r2"] * v["c1"] * v["c2"]
+    a1 = v["r1"] * v["c2"] + v["r2"] * v["c2"] + v["r1"] * v["c1"] * (1 - k)
+    return a2, a1, np.ones_like(a2)
+
+
+# ---- the stability rule -------------------------------------------------------
+
+
+def test_gain_101_sallen_key_poles_are_the_textbook_ones_and_unstable():
+    # Equal parts, K = 101: denominator s²τ² + (3 − K)sτ + 1 (textbook), both roots
+    # in the right half-plane.
+    r, c, k = 10e3, 10e-9, 101.0
+    els = (Element("r1", "R", "in", "a"), Element("r2", "R", "a", "p"),
+           Element("c1", "C", "a", "out"), Element("c2", "C", "p", "0"),
+           Element("rf", "R", "out", "m"), Element("rg", "R", "m", "0"))
+    from rcdoc.network import OpAmp
+    net = Network(elements=els, drive="in", output="out",
+                  opamps=(OpAmp("u1", plus="p", minus="m", out="out"),))
+    vals = {"r1": [r], "r2": [r], "c1": [c], "c2": [c], "rf": [(k - 1) * 1e3], "rg": [1e3]}
+    p = polemod.poles(net, vals)[0]
+    p = np.sort_complex(p[np.isfinite(p)])
+    ref = np.sort_complex(np.roots([(r * c) ** 2, (3 - k) * r * c, 1.0]))
+    np.testing.assert_allclose(p, ref, rtol=1e-9)
+    assert np.all(ref.real > 0)
+    assert polemod.unstable(p[None])[0]
+    np.testing.assert_allclose(np.sort_complex(polemod.offending(p)), ref, rtol=1e-9)
+
+
+def test_lossless_lc_is_on_the_axis_and_unstable():
+    # Series L, shunt C, no resistance: poles ±j/√(LC) (Thomson's formula), on the
+    # imaginary axis, which the rule counts as unstable; any series resistance
+    # moves them into the left half-plane.
+    l, c = 1e-3, 1e-6
+    net = Network(elements=(Element("l", "L", "in", "out"), Element("c", "C", "out", "0")),
+                  drive="in", output="out")
+    p = polemod.poles(net, {"l": [l], "c": [c]})[0]
+    p = p[np.isfinite(p)]
+    np.testing.assert_allclose(np.sort(np.abs(p.imag)), [1 / math.sqrt(l * c)] * 2, rtol=1e-9)
+    assert polemod.unstable(p[None])[0]
+    lossy = Network(elements=(Element("r", "R", "in", "a"), Element("l", "L", "a", "out"),
+                              Element("c", "C", "out", "0")), drive="in", output="out")
+    assert not polemod.unstable(polemod.poles(lossy, {"r": [1.0], "l": [l], "c": [c]}))[0]
+
+
+def test_gain_101_board_fails_unstable_exit_1_json_reason_and_no_warning(tmp_path):
+    # K = 1 + 100k/1k = 101 ≥ 3: unstable (textbook, Q = 1/(3 − K)).
+    project = tmp_path / "sk101.toml"
+    project.write_text(textwrap.dedent("""\
+        [board]
+        name = "Unstable bench"
+        revision = "A"
+        date = "2026-01-01"
+        [analysis]
+        samples = 40
+        """) + sallen_key("10k", "10k", "10n", "10n", "100k", "1k"), encoding="utf-8")
+    env = dict(os.environ, PYTHONPATH=str(ROOT), PYTHONWARNINGS="error::RuntimeWarning")   # numpy's warnings
+    run = subprocess.run([sys.executable, "-m", "rcdoc", "build", str(project), "-o",
+                          str(tmp_path / "out"), "--jobs", "1", "--quiet"],
+                         capture_output=True, text=True, env=env, cwd=tmp_path)
+    assert run.returncode == 1, run.stderr
+    assert "Warning" not in run.stderr and "Traceback" not in run.stderr, run.stderr
+    data = json.loads((tmp_path / "out" / "sk101.json").read_text(encoding="utf-8"))
+    stage = data["stages"][0]
+    assert data["status"] == "fail" and stage["status"] == "fail"
+    assert stage["reason"] == "unstable"
+    assert stage["samples_unstable"] == 40
+    q = next(m for m in stage["metrics"] if m["metric"] == "q")
+    assert q["nominal"] is None and q["min"] is None and q["missing"] == 40
+    check = stage["checks"][0]
+    assert check["status"] == "fail" and check["yield"] == 0.0
+
+
+def test_note_of_unstable_stage_has_caution_with_poles_in_hz(tmp_path):
+    from rcdoc.note import stage_context
+    project = load(tmp_path, sallen_key("10k", "10k", "10n", "10n", "100k", "1k"),
+                   analysis="samples = 20")
+    res = analyse_stage(project.stages[0], project.analysis)
+    ctx = stage_context(res, project)
+    text = " ".join(ctx["caution"]["items"])
+    # Roots of s²τ² − 98sτ + 1 (textbook, K = 101), in Hz: 16.2 Hz and 156 kHz.
+    roots = np.roots([1.0, -98.0, 1.0]) / (TWO_PI * 10e3 * 10e-9)
+    assert sorted(roots) == pytest.approx([16.25, 155.98e3], rel=1e-3)
+    assert "16.2 Hz + j 0 Hz" in text and "156 kHz + j 0 Hz" in text
+    assert not [b for b in ctx["blocks"] if b.get("title") == "Frequency response"]
+    assert res.step is None and res.phasor == {}
+
+
+def test_near_gain_3_counts_unstable_samples_and_nans_them(tmp_path):
+    # K = 1 + 19.5k/10k = 2.95 nominal (Q = 20); 1 % parts push some samples to K ≥ 3.
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", RuntimeWarning)   # no numpy warning either
+        project = load(tmp_path, sallen_key("10k", "10k", "10n", "10n", "19.5k", "10k"),
+                       analysis="samples = 300")
+        st = project.stages[0]
+        res = analyse_stage(st, project.analysis)
+    batch = build_batch(st, project.analysis)
+    a2, a1, a0 = sk_denominator({k: v[batch.mc] for k, v in batch.values.items()})
+    # Routh–Hurwitz: unstable exactly where the middle coefficient is not positive.
+    expected = a1 <= 0
+    assert 0 < expected.sum() < expected.size
+    assert res.samples_unstable == int(expected.sum())
+    assert res.reason is None
+    q = res.metric("q").samples
+    np.testing.assert_array_equal(np.isnan(q), expected)
+    # Stable samples keep the textbook Q = √(a2·a0)/a1.
+    np.testing.assert_allclose(q[~expected], np.sqrt(a2 * a0)[~expected] / a1[~expected],
+                               rtol=1e-7)
+    for name in ("noise", "settling", "rise_time", "corner", "capacitor_voltage"):
+        s = res.metric(name).samples
+        assert np.all(np.isnan(s[expected])), name
+    noise = res.metric("noise").samples
+    assert np.all(np.isfinite(noise[~expected]))
+    assert np.all(noise[~expected] < 1e-2)                 # µV-scale, not 1e8 V
+    assert res.verdicts[0].status == "fail"                # Q = 20 > 1 anyway
+    assert res.metric("q").nominal == pytest.approx(20.0, rel=1e-9)   # 1/(3 − K)
+
+
+def test_unstable_samples_fail_a_check_they_would_pass(tmp_path):
+    # A wide Q limit that every stable sample meets: only the unstable ones fail it.
+    stage = sallen_key("10k", "10k", "10n", "10n", "19.5k", "10k", drive=False,
+                       checks=False) + '[[stage.check]]\nmetric = "q"\nmax = 1e9\n'
+    res = analyse_one(tmp_path, stage, analysis="samples = 300")
+    v = res.verdicts[0]
+    assert 0 < res.samples_unstable
+    assert v.yield_ == pytest.approx(1 - res.samples_unstable / 300)
+    assert v.status == "fail"
+
+
+# ---- conditioning ------------------------------------------------------------
+
+
+def test_extreme_values_sallen_key_gives_closed_form_q(tmp_path):
+    # Unity gain: H(s) = 1/(s²·r1r2c1c2 + s·c2(r1 + r2) + 1) (textbook), so
+    # Q = √(r1r2c1c2)/(c2(r1 + r2)): 1 GΩ, 1 mΩ, 10 mF, 1 fF give √10 = 3.162.
+    r1, r2, c1, c2 = 1e9, 1e-3, 10e-3, 1e-15
+    q_ref = math.sqrt(r1 * r2 * c1 * c2) / (c2 * (r1 + r2))
+    assert q_ref == pytest.approx(3.162, abs=5e-4)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", RuntimeWarning)   # no numpy warning, step included
+        res = analyse_one(tmp_path, sallen_key("1 Gohm", "1 mohm", "10 mF", "1 fF", tol="0.1%",
+                                               checks=False),
+                          analysis="samples = 50")
+    assert res.metric("q").nominal == pytest.approx(q_ref, rel=1e-3)
+    f0_ref = 1 / (TWO_PI * math.sqrt(r1 * r2 * c1 * c2))
+    assert res.metric("f0").nominal == pytest.approx(f0_ref, rel=1e-6)
+    # Second-order low-pass peaking 20·log10(Q/√(1 − 1/(4Q²))) (textbook): the
+    # response-based peaking and the pole-based Q agree (the response is solved on
+    # the unscaled nodal matrices, within 0.03 dB at these extremes).
+    peak_ref = 20 * math.log10(q_ref / math.sqrt(1 - 1 / (4 * q_ref ** 2)))
+    assert res.metric("peaking").nominal == pytest.approx(peak_ref, abs=0.05)
+    assert res.samples_unstable == 0
+
+
+def network_stage(elements: list[tuple[str, str, str]], parts: dict[str, str]) -> str:
+    els = ", ".join(f'{{ part = "{p}", between = ["{a}", "{b}"] }}' for p, a, b in elements)
+    lines = ['[[stage]]', 'id = "n"', 'title = "Network"', 'kind = "network"',
+             'input = "vin"', 'output = "vout"', f"elements = [{els}]"]
+    lines += [f'parts.{k} = {{ value = "{v}", tolerance = "1%" }}' for k, v in parts.items()]
+    return "\n".join(lines) + "\n"
+
+
+def test_network_offers_f0_q_from_its_complex_pair(tmp_path):
+    # Series R, L, shunt C: H(s) = 1/(s²LC + sRC + 1) (textbook): ω0 = 1/√(LC),
+    # Q = √(L/C)/R.
+    r, l, c = 10.0, 1e-3, 1e-6
+    stage = network_stage([("r1", "vin", "a"), ("l1", "a", "vout"), ("c1", "vout", "0")],
+                          {"r1": "10 ohm", "l1": "1 mH", "c1": "1 uF"})
+    res = analyse_one(tmp_path, stage, analysis="samples = 50")
+    q_ref = math.sqrt(l / c) / r
+    assert res.metric("f0").nominal == pytest.approx(1 / (TWO_PI * math.sqrt(l * c)), rel=1e-9)
+    assert res.metric("q").nominal == pytest.approx(q_ref, rel=1e-9)
+    peak_ref = 20 * math.log10(q_ref / math.sqrt(1 - 1 / (4 * q_ref ** 2)))
+    assert res.metric("peaking").nominal == pytest.approx(peak_ref, abs=0.01)
+
+
+def test_network_without_complex_pair_leaves_f0_q_missing(tmp_path):
+    # Two RC sections: real poles only (the discriminant of s²τ² + 3sτ + 1 is 5 > 0).
+    stage = network_stage([("r1", "vin", "a"), ("c1", "a", "0"), ("r2", "a", "vout"),
+                           ("c2", "vout", "0")],
+                          {"r1": "10k", "c1": "10n", "r2": "10k", "c2": "10n"})
+    res = analyse_one(tmp_path, stage, analysis="samples = 50")
+    for name in ("f0", "q", "peaking"):
+        m = res.metric(name)
+        assert math.isnan(m.nominal) and np.all(np.isnan(m.samples)), name
+    assert math.isfinite(res.metric("corner").nominal)
+
+
+# ---- phase at a mark -----------------------------------------------------------
+
+
+def test_phase_at_mark_is_unwrapped_from_the_passband(tmp_path):
+    # Three equal RC sections, each loading the last: H(s) = 1/(s³τ³ + 5s²τ² + 6sτ + 1)
+    # (textbook), evaluated by scipy.signal.freqs and unwrapped by numpy.unwrap from
+    # low frequency.
+    r, c = 10e3, 10e-9
+    tau = r * c
+    marks = [100.0, 1e3, 10e3, 30e3]
+    stage = (f'[[stage]]\nid = "lad"\ntitle = "Ladder"\nkind = "rc-ladder"\n'
+             f'marks = [{", ".join(repr(f"{m:g} Hz") for m in marks)}]\n'
+             + "".join(f'parts.{x}{k} = {{ value = "{v}", tolerance = "1%" }}\n'
+                       for k in (1, 2, 3) for x, v in (("r", "10k"), ("c", "10n"))))
+    res = analyse_one(tmp_path, stage, analysis="samples = 50")
+    f = np.concatenate([np.logspace(-1, math.log10(max(marks)), 4000), marks])
+    f = np.unique(f)
+    _, h = signal.freqs([1.0], [tau ** 3, 5 * tau ** 2, 6 * tau, 1.0], worN=TWO_PI * f)
+    ph = np.degrees(np.unwrap(np.angle(h)))
+    for m in marks:
+        ref = ph[np.searchsorted(f, m)]
+        assert res.metric("phase", m).nominal == pytest.approx(ref, abs=1e-6), m
+    # At 30 kHz the phase is well past −180°: −250°, not +110°.
+    assert res.metric("phase", 30e3).nominal == pytest.approx(-250.0, abs=5.0)
+    assert np.all(res.metric("phase", 30e3).samples < -180.0)
