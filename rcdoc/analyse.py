@@ -228,7 +228,7 @@ def analyse_network(stage: Stage, analysis: Analysis, evaluator=Evaluator) -> St
         full[(name, at, _detail(chk) or _default_detail(name))] = np.concatenate(parts_)
 
     wc_ctx = _WorstCaseContext(stage, analysis, network, batch, freqs, passband, char_hz,
-                               t_hot_k, time_s)
+                               t_hot_k, time_s, evaluator)
     line_y = wc_ctx.line_values(requests)
     # Worst-case corners for many parts: each part at the extreme its sensitivity favours.
     for (name, at, chk) in requests:
@@ -308,6 +308,7 @@ class _WorstCaseContext:
     char_hz: float
     t_hot_k: float
     time_s: np.ndarray | None
+    evaluator_cls: type = Evaluator      # a kind's own Evaluator (sampled-input) where it has one
 
     def __post_init__(self):
         ext = [partmodels.extremes(self.stage.parts[r], self.analysis) for r in self.batch.roles]
@@ -323,8 +324,8 @@ class _WorstCaseContext:
         vals = {r: x[:, k] for k, r in enumerate(self.batch.roles)}
         for name, v in fixed_values(self.stage).items():
             vals[name] = np.full(len(x), v)
-        return Evaluator(self.stage, self.network, vals, self.freqs, self.passband, self.char_hz,
-                         temperature_k=self.t_hot_k, time_s=self.time_s)
+        return self.evaluator_cls(self.stage, self.network, vals, self.freqs, self.passband,
+                                  self.char_hz, temperature_k=self.t_hot_k, time_s=self.time_s)
 
     def line_values(self, requests) -> dict:
         """Every requested metric along each part's walk through the nominal design."""

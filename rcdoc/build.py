@@ -130,7 +130,8 @@ def _pool_context():
         ctx = multiprocessing.get_context("forkserver")
         # Workers fork from a server that has imported rcdoc once, and do not
         # re-run the parent's __main__ (the command line).
-        ctx.set_forkserver_preload(["rcdoc.build", "rcdoc.note", "rcdoc.assemble"])
+        ctx.set_forkserver_preload(["rcdoc.spawnguard", "rcdoc.build", "rcdoc.note",
+                                    "rcdoc.assemble"])
         return ctx
     return multiprocessing.get_context("spawn")
 
