@@ -5,7 +5,7 @@ resident memory (``resource.getrusage(RUSAGE_SELF).ru_maxrss``, kilobytes on
 Linux), so imports and caches of one case do not count against another:
 
 - a 2-part stage (rc-lowpass) and a 5-part stage (mfb-lowpass) at the
-  largest sample count accepted (rcdoc.project.MAX_SAMPLES = 200 000), with a
+  largest sample count accepted (rcdoc.input.project.MAX_SAMPLES = 200 000), with a
   step drive so the time-domain metrics run as well;
 - a generated 200-stage board (all analysed kinds in turn) at the default
   2 000 samples, analysis only, and optionally with the PDF note (``--pdf``);
@@ -71,8 +71,8 @@ def board(kinds: list[str], samples: int) -> str:
 CHILD = textwrap.dedent("""
     import json, resource, sys, time
     t0 = time.perf_counter()
-    from rcdoc.project import load_project
-    from rcdoc.build import analyse_project, write_outputs
+    from rcdoc.input.project import load_project
+    from rcdoc.commands.build import analyse_project, write_outputs
     file, pdf, out = sys.argv[1], sys.argv[2] == "1", sys.argv[3]
     base_kb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
     t1 = time.perf_counter()
@@ -109,7 +109,7 @@ def main() -> None:
     ap.add_argument("--pdf", action="store_true", help="also write the 200-stage note")
     ap.add_argument("--quick", action="store_true", help="small numbers, to try the script")
     args = ap.parse_args()
-    from rcdoc.project import MAX_SAMPLES
+    from rcdoc.input.project import MAX_SAMPLES
     big, stages = (2000, 10) if args.quick else (MAX_SAMPLES, 200)
     kinds = list(STAGES)
     with tempfile.TemporaryDirectory(prefix="rcdoc-scale-") as tmp:

@@ -15,8 +15,8 @@ compute the same answers for every sample:
   time and its settling time to 12 bits (error below 2^-13 of the final value).
 
 Vectorised side: what ``rcdoc build`` runs for the stage -- the Evaluator of
-rcdoc.evaluate over the batch, in chunks of rcdoc.analyse.CHUNK_ROWS rows with
-the time grid shared by all rows, as rcdoc.analyse.analyse_stage does it
+rcdoc.analysis.evaluate over the batch, in chunks of rcdoc.analysis.analyse.CHUNK_ROWS rows with
+the time grid shared by all rows, as rcdoc.analysis.analyse.analyse_stage does it
 (nodal analysis of the stage's network: zero-pole-gain frequency response,
 bisection for the corner, trapezoidal time stepping). Timed end to end,
 including the time grid; split into the frequency-domain part (Bode data,
@@ -54,10 +54,10 @@ import scipy.signal as sg
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from rcdoc import spread  # noqa: E402
-from rcdoc.analyse import CHUNK_ROWS, kind_of, passband_of, _char_from_poles  # noqa: E402
-from rcdoc.evaluate import DB3, Evaluator, sweep_for  # noqa: E402
-from rcdoc.project import load_project  # noqa: E402
+from rcdoc.analysis import spread  # noqa: E402
+from rcdoc.analysis.analyse import CHUNK_ROWS, kind_of, passband_of, _char_from_poles  # noqa: E402
+from rcdoc.analysis.evaluate import DB3, Evaluator, sweep_for  # noqa: E402
+from rcdoc.input.project import load_project  # noqa: E402
 
 SETTLE_BITS = 12
 

@@ -2,15 +2,15 @@
 
 One sampled-input stage (RC in front of a multiplexed 12-bit converter),
 written as a project file and loaded by rcdoc itself; its batch of N rows
-(default 20 000 Monte Carlo samples) as rcdoc.spread draws them. Timed, in
+(default 20 000 Monte Carlo samples) as rcdoc.analysis.spread draws them. Timed, in
 one run, best of ``--repeat``:
 
 * the periodic steady state of the switched network for every row
-  (rcdoc.sampled.steady: two exact interval maps per row by the matrix
+  (rcdoc.analysis.sampled.steady: two exact interval maps per row by the matrix
   exponential, one batched linear solve; the charge integral included);
 * the plain AC sweep of the same stage's RC network over its default sweep
   (3 decades either side of the corner, 50 points per decade) for the same
-  rows (rcdoc.engine.ac).
+  rows (rcdoc.analysis.engine.ac).
 
 Prints the ratio; the target is under 20x. Run:
 python bench/switched.py [--samples N] [--repeat K]
@@ -26,11 +26,15 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from rcdoc import engine, sampled, spread  # noqa: E402
-from rcdoc.analyse import kind_of  # noqa: E402
-from rcdoc.evaluate import sweep_for  # noqa: E402
+from rcdoc.analysis import engine
+
+from rcdoc.analysis import sampled
+
+from rcdoc.analysis import spread  # noqa: E402
+from rcdoc.analysis.analyse import kind_of  # noqa: E402
+from rcdoc.analysis.evaluate import sweep_for  # noqa: E402
 from rcdoc.kinds.sampled_input import params_for  # noqa: E402
-from rcdoc.project import load_project  # noqa: E402
+from rcdoc.input.project import load_project  # noqa: E402
 
 PROJECT = """\
 [board]

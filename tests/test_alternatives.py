@@ -7,10 +7,10 @@ import math
 
 import pytest
 
-from rcdoc.alternatives import alternatives_block, stage_alternatives
-from rcdoc.analyse import analyse_stage
-from rcdoc.note import stage_context
-from rcdoc.project import load_project
+from rcdoc.analysis.alternatives import alternatives_block, stage_alternatives
+from rcdoc.analysis.analyse import analyse_stage
+from rcdoc.note.context import stage_context
+from rcdoc.input.project import load_project
 
 BOARD = """
 [board]

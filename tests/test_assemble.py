@@ -1,4 +1,4 @@
-"""Tests of rcdoc.assemble: the note rendered in parts and put together with pypdf.
+"""Tests of rcdoc.note.assemble: the note rendered in parts and put together with pypdf.
 
 PDF facts are those of ISO 32000-1 (PDF 1.7) as read back by pypdf, a
 general-purpose PDF library: page tree order, link annotations with explicit
@@ -19,9 +19,11 @@ from pathlib import Path
 import pypdf
 import pytest
 
-from rcdoc import assemble, report
-from rcdoc.note import note_context
-from rcdoc.project import load_project
+from rcdoc.note import assemble
+
+from rcdoc.note import report
+from rcdoc.note.context import note_context
+from rcdoc.input.project import load_project
 from test_report import EPOCH, make_context
 
 REPO = Path(__file__).resolve().parent.parent

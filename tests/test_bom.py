@@ -11,11 +11,11 @@ from pathlib import Path
 
 import pytest
 
-from rcdoc.analyse import analyse_stage
-from rcdoc.bom import merge_bom, read_bom, unused_rows
+from rcdoc.analysis.analyse import analyse_stage
+from rcdoc.input.bom import merge_bom, read_bom, unused_rows
 from rcdoc.errors import ProjectError
-from rcdoc.note import bom_appendix
-from rcdoc.project import load_project
+from rcdoc.note.context import bom_appendix
+from rcdoc.input.project import load_project
 
 DATA = Path(__file__).parent / "data" / "bom"
 

@@ -18,12 +18,12 @@ from pathlib import Path
 
 import pytest
 
-from rcdoc import cli
-from rcdoc.build import analyse_project
+from rcdoc.commands import cli
+from rcdoc.commands.build import analyse_project
 from rcdoc.errors import ProjectError
-from rcdoc.partslist import parts_csv
-from rcdoc.project import load_project
-from rcdoc.summary import summary
+from rcdoc.note.partslist import parts_csv
+from rcdoc.input.project import load_project
+from rcdoc.note.summary import summary
 
 BOARD = """\
 [board]

@@ -13,9 +13,9 @@ from pathlib import Path
 
 import pytest
 
-import rcdoc.build as build
-from rcdoc.cache import CACHE_DIR_NAME, StageCache, canonical, stage_key
-from rcdoc.project import load_project
+import rcdoc.commands.build as build
+from rcdoc.commands.cache import CACHE_DIR_NAME, StageCache, canonical, stage_key
+from rcdoc.input.project import load_project
 
 PROJECT = """\
 [board]

@@ -13,12 +13,12 @@ import math
 
 import pytest
 
-from rcdoc.build import analyse_project
+from rcdoc.commands.build import analyse_project
 from rcdoc.errors import ProjectError
-from rcdoc.note import parts_table
-from rcdoc.partslist import parts_csv
-from rcdoc.project import load_project
-from rcdoc.summary import summary
+from rcdoc.note.context import parts_table
+from rcdoc.note.partslist import parts_csv
+from rcdoc.input.project import load_project
+from rcdoc.note.summary import summary
 
 HEAD = """\
 [board]

@@ -1,4 +1,4 @@
-"""Tests of rcdoc.figures.charts: well-formed, deterministic, collision-free SVG.
+"""Tests of rcdoc.note.charts: well-formed, deterministic, collision-free SVG.
 
 Inputs are small synthetic arrays (a first-order RC low-pass written out from
 the textbook formula H = 1 / (1 + j f/fc)); the charts compute nothing from
@@ -14,7 +14,9 @@ import matplotlib
 import numpy as np
 import pytest
 
-from rcdoc.figures import charts, palette
+from rcdoc.note import charts
+
+from rcdoc.note import palette
 
 SVG_NS = "{http://www.w3.org/2000/svg}"
 

@@ -2,7 +2,7 @@
 
 The note's HTML is printed by weasyprint, which would otherwise follow any URL
 in the document (files anywhere, the network). rcdoc hands it a fetcher
-(rcdoc.report.make_url_fetcher) that serves data: URLs and files inside the
+(rcdoc.note.report.make_url_fetcher) that serves data: URLs and files inside the
 template folders and the project folder only, and escapes every user string.
 
 This test builds a note end to end through the command line from a project
@@ -28,7 +28,9 @@ import matplotlib
 import pytest
 from pypdf import PdfReader
 
-from rcdoc import cli, report
+from rcdoc.commands import cli
+
+from rcdoc.note import report
 
 # ------------------------------------------------------------------ the audit hook
 
@@ -229,7 +231,7 @@ def test_a_template_link_leading_outside_is_not_followed(tmp_path):
     # make jinja read that file (common practice: confine by resolved path).
     import jinja2
 
-    from rcdoc.report import _environment
+    from rcdoc.note.report import _environment
     secret = tmp_path / "elsewhere" / "secret.html"
     secret.parent.mkdir()
     secret.write_text("SECRET", encoding="utf-8")

@@ -15,9 +15,9 @@ import numpy as np
 import pytest
 
 from boards import analyse_one, load
-from rcdoc import debounce as phys
-from rcdoc import summary
-from rcdoc.analyse import analyse_stage
+from rcdoc.analysis import debounce as phys
+from rcdoc.note import summary
+from rcdoc.analysis.analyse import analyse_stage
 from rcdoc.errors import ProjectError
 
 RP, R, C, VS = 10e3, 47e3, 100e-9, 3.3

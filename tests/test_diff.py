@@ -10,8 +10,8 @@ import subprocess
 
 import pytest
 
-from rcdoc.cli import main
-from rcdoc.diff import diff_files, note_blocks, read_at_revision
+from rcdoc.commands.cli import main
+from rcdoc.commands.diff import diff_files, note_blocks, read_at_revision
 from rcdoc.errors import ProjectError
 
 PROJECT = """
@@ -203,7 +203,7 @@ def test_git_side_needs_a_file_on_the_other_side(tmp_path):
 @needs_git
 def test_build_since_adds_the_changes_section(repo, tmp_path, monkeypatch):
     # What the build hands to the note; the PDF is read in the test below.
-    import rcdoc.build
+    import rcdoc.commands.build
     seen = {}
 
     def fake_write_outputs(outcome, out_dir, *, template_dirs=(), extra_appendix=(),
@@ -212,7 +212,7 @@ def test_build_since_adds_the_changes_section(repo, tmp_path, monkeypatch):
         seen["changes"] = changes
         return out_dir / "b.pdf", out_dir / "b.json"
 
-    monkeypatch.setattr(rcdoc.build, "write_outputs", fake_write_outputs)
+    monkeypatch.setattr(rcdoc.commands.build, "write_outputs", fake_write_outputs)
     status = main(["build", str(repo), "-o", str(tmp_path / "out"), "--since", "HEAD",
                    "--samples", "30", "--quiet"])
     assert status == 1                      # the new corner fails its check
@@ -307,7 +307,7 @@ def _chk(status, y, metric="corner"):
 
 
 def test_regressions_yield_fall_and_instability():
-    from rcdoc.regression import regressions
+    from rcdoc.commands.regression import regressions
     # A yield that fell while the check still passes (required yield below 1).
     regs = regressions(_summary([_stage([_chk("pass", 0.999)])]),
                        _summary([_stage([_chk("pass", 0.990)])]))
@@ -322,10 +322,10 @@ def test_regressions_yield_fall_and_instability():
 
 
 def test_diff_reads_and_fills_the_build_cache(tmp_path, monkeypatch):
-    import rcdoc.build
+    import rcdoc.commands.build
     calls = []
-    real = rcdoc.build.analyse_stage
-    monkeypatch.setattr(rcdoc.build, "analyse_stage",
+    real = rcdoc.commands.build.analyse_stage
+    monkeypatch.setattr(rcdoc.commands.build, "analyse_stage",
                         lambda st, a: calls.append(st.id) or real(st, a))
     old = write(tmp_path / "old.toml", "A", "4k7")
     new = write(tmp_path / "new.toml", "B", "5k1")

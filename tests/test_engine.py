@@ -14,9 +14,9 @@ import pytest
 import scipy.constants
 from scipy import signal
 
-from rcdoc import engine
+from rcdoc.analysis import engine
 from rcdoc.errors import ProjectError
-from rcdoc.network import Element, Network, OpAmp
+from rcdoc.analysis.network import Element, Network, OpAmp
 
 
 def lowpass() -> Network:

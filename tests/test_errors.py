@@ -19,7 +19,7 @@ from pathlib import Path
 
 import pytest
 
-from rcdoc import cli
+from rcdoc.commands import cli
 
 BOARD = '[board]\nname = "Pump controller"\nrevision = "A"\ndate = "2026-01-01"\n'
 ANALYSIS = "[analysis]\nsamples = 20\n"
@@ -425,7 +425,7 @@ CASES = [
      "stage[1].voltage", ["greater than zero"], (), {}),
     ("snubber-corner-check", project(check('metric = "corner"\nmax = "1 MHz"\n', SNUBBER)),
      "stage[1].check[1].metric", ["does not apply"], (), {}),
-    # ---- input limits (README "Limits"; rcdoc.limits): sizes, ranges, characters
+    # ---- input limits (README "Limits"; rcdoc.input.limits): sizes, ranges, characters
     ("file-over-1mb", project() + "# " + "x" * 1_000_000 + "\n", "",
      ["1,000,000 bytes"], (), {}),
     ("notes-over-limit", project(board=BOARD + 'notes = "' + "n" * 20_001 + '"\n'),

@@ -5,9 +5,9 @@ from __future__ import annotations
 import re
 import tomllib
 
-from rcdoc.cli import main
-from rcdoc.init import STARTER
-from rcdoc.project import ANALYSIS_KEYS, BOARD_KEYS, CHECK_KEYS, PART_KEYS, load_project
+from rcdoc.commands.cli import main
+from rcdoc.commands.init import STARTER
+from rcdoc.input.project import ANALYSIS_KEYS, BOARD_KEYS, CHECK_KEYS, PART_KEYS, load_project
 
 
 def test_init_writes_a_project_that_checks(tmp_path, capsys):

@@ -1,4 +1,4 @@
-"""Input limits (rcdoc.limits) on every TOML read, and texts that stay allowed.
+"""Input limits (rcdoc.input.limits) on every TOML read, and texts that stay allowed.
 
 The catalogue in test_errors.py holds the one-file cases; here are the reads
 through git (``diff git:REV`` and ``build --since``), the very large file, and
@@ -11,9 +11,9 @@ import shutil
 
 import pytest
 
-from rcdoc import cli
+from rcdoc.commands import cli
 from rcdoc.errors import ProjectError
-from rcdoc.limits import MAX_FILE_BYTES, check_text, read_toml
+from rcdoc.input.limits import MAX_FILE_BYTES, check_text, read_toml
 from tests.boards import load
 from tests.test_diff import _git
 
@@ -86,7 +86,7 @@ def test_crlf_file_is_read_as_plain_newlines(tmp_path):
 
 
 def load_ok(path):
-    from rcdoc.project import load_project
+    from rcdoc.input.project import load_project
     return load_project(path)
 
 

@@ -1,6 +1,6 @@
 """Issue 4: the stage kinds (ladder, band-pass, Sallen-Key, MFB) against outside sources.
 
-Stages are written as small TOML files in tmp_path, loaded by rcdoc.project
+Stages are written as small TOML files in tmp_path, loaded by rcdoc.input.project
 and analysed by the per-stage pipeline, so the kinds' networks, the loader and
 the metrics are all exercised. References, named beside each check: the
 textbook transfer functions (project-format.md and nodal analysis) evaluated by
@@ -17,10 +17,10 @@ import pytest
 from scipy import signal
 
 from boards import analyse_one, load
-from rcdoc.analyse import analyse_stage
-from rcdoc.evaluate import Evaluator
+from rcdoc.analysis.analyse import analyse_stage
+from rcdoc.analysis.evaluate import Evaluator
 from rcdoc.kinds import KINDS
-from rcdoc.spread import build_batch
+from rcdoc.analysis.spread import build_batch
 
 TWO_PI = 2 * math.pi
 

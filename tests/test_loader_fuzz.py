@@ -19,11 +19,11 @@ from hypothesis import strategies as st
 
 from rcdoc.errors import ProjectError
 from rcdoc.kinds import KINDS
-from rcdoc.metrics import METRICS
-from rcdoc.model import Project
-from rcdoc.project import (ANALYSIS_KEYS, BOARD_KEYS, CHECK_KEYS, PART_KEYS, STAGE_KEYS,
+from rcdoc.analysis.metrics import METRICS
+from rcdoc.input.model import Project
+from rcdoc.input.project import (ANALYSIS_KEYS, BOARD_KEYS, CHECK_KEYS, PART_KEYS, STAGE_KEYS,
                            load_project)
-from rcdoc.quantities import (UNITS, format_quantity, format_rkm, parse_quantity,
+from rcdoc.input.quantities import (UNITS, format_quantity, format_rkm, parse_quantity,
                               parse_tolerance)
 
 FUZZ = settings(deadline=None, max_examples=150, database=None,

@@ -12,12 +12,12 @@ import xml.etree.ElementTree as ET
 
 import pytest
 
-import rcdoc.build
+import rcdoc.commands.build
 from rcdoc import __version__
-from rcdoc.cli import main
-from rcdoc.machine import escape_data, escape_property
-from rcdoc.positions import key_lines
-from rcdoc.project import load_project
+from rcdoc.commands.cli import main
+from rcdoc.note.machine import escape_data, escape_property
+from rcdoc.input.positions import key_lines
+from rcdoc.input.project import load_project
 
 BOARD = """\
 [board]
@@ -211,8 +211,8 @@ def test_no_annotations_when_everything_passes(tmp_path, capsys):
 @pytest.fixture
 def count_analyses(monkeypatch):
     calls = []
-    real = rcdoc.build.analyse_stage
-    monkeypatch.setattr(rcdoc.build, "analyse_stage",
+    real = rcdoc.commands.build.analyse_stage
+    monkeypatch.setattr(rcdoc.commands.build, "analyse_stage",
                         lambda stage, analysis: calls.append(stage.id) or real(stage, analysis))
     return calls
 

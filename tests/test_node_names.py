@@ -11,7 +11,7 @@ import numpy as np
 import pytest
 from scipy import signal
 
-from rcdoc import cli
+from rcdoc.commands import cli
 from rcdoc.errors import ProjectError
 from tests.boards import analyse_one, load
 

@@ -19,7 +19,9 @@ from pathlib import Path
 
 import pytest
 
-from rcdoc import cli, files
+from rcdoc import files
+
+from rcdoc.commands import cli
 from tests.test_errors import OLD_JSON, OLD_PDF, project
 
 pytestmark = pytest.mark.filterwarnings("ignore")
@@ -47,7 +49,7 @@ def test_same_stem_in_two_folders_with_one_output_is_refused(tmp_path, capsys):
 
 def test_same_stem_with_default_folders_is_allowed(tmp_path):
     # Without -o each file writes beside itself: different notes, different caches.
-    from rcdoc.build import load_all
+    from rcdoc.commands.build import load_all
     for sub in ("a", "b"):
         (tmp_path / sub).mkdir()
         (tmp_path / sub / "board.toml").write_text(project(), encoding="utf-8")
@@ -60,8 +62,8 @@ def test_same_stem_with_default_folders_is_allowed(tmp_path):
 @pytest.mark.parametrize("swallowed", [False, True], ids=["raised", "swallowed"])
 def test_ctrl_c_during_final_render_gives_130_and_keeps_the_note(tmp_path, capsys, monkeypatch,
                                                                  swallowed):
-    import rcdoc.report
-    real = rcdoc.report.render_pdf
+    import rcdoc.note.report
+    real = rcdoc.note.report.render_pdf
 
     def interrupted_render(context, out_path, **kw):
         used = real(context, out_path, **kw)
@@ -73,7 +75,7 @@ def test_ctrl_c_during_final_render_gives_130_and_keeps_the_note(tmp_path, capsy
             pass
         return used
 
-    monkeypatch.setattr(rcdoc.report, "render_pdf", interrupted_render)
+    monkeypatch.setattr(rcdoc.note.report, "render_pdf", interrupted_render)
     proj = tmp_path / "board.toml"
     proj.write_text(project(), encoding="utf-8")
     out = tmp_path / "out"

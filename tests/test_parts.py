@@ -6,8 +6,8 @@ import numpy as np
 import pytest
 
 from rcdoc.errors import ProjectError
-from rcdoc.model import Analysis, Part
-from rcdoc.parts import (
+from rcdoc.input.model import Analysis, Part
+from rcdoc.input.parts import (
     Dielectric,
     assumptions,
     check_temperature_range,

@@ -20,7 +20,7 @@ from pathlib import Path
 import pytest
 from pypdf import PdfReader
 
-from rcdoc import cli
+from rcdoc.commands import cli
 
 FC_HZ = 1 / (2 * math.pi * 10e3 * 10e-9)     # 1591.5 Hz (textbook first-order corner)
 
@@ -99,8 +99,8 @@ def test_failing_check_fails_stage_and_board_in_pdf_and_json(tmp_path):
 
 
 def test_check_marks_only_the_failing_stage(tmp_path):
-    from rcdoc.build import analyse_project, load_all
-    from rcdoc.summary import summary
+    from rcdoc.commands.build import analyse_project, load_all
+    from rcdoc.note.summary import summary
 
     project = write(tmp_path, "station", stage("inlet", "Inlet pressure filter", PASSING),
                     stage("outlet", "Outlet pressure filter", FAILING))
@@ -142,7 +142,7 @@ def test_passing_board_exits_zero(tmp_path):
 
 @pytest.mark.parametrize("required, status", [("40%", "pass"), ("60%", "fail")])
 def test_required_yield_decides_the_verdict(tmp_path, required, status):
-    from rcdoc.build import analyse_project, load_all
+    from rcdoc.commands.build import analyse_project, load_all
 
     # A limit at the nominal corner: R and C drawn uniformly and symmetrically, so
     # about half of the samples lie below fc (common practice: symmetric spread).

@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 from rcdoc.errors import ProjectError
-from rcdoc.preferred import (
+from rcdoc.input.preferred import (
     SERIES,
     is_preferred,
     nearest,

@@ -1,4 +1,4 @@
-"""Tests of rcdoc.quantities: reading and writing engineering quantities.
+"""Tests of rcdoc.input.quantities: reading and writing engineering quantities.
 
 Sources, named beside each check:
 - SI prefixes and their powers of ten: BIPM, "The International System of
@@ -22,7 +22,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from rcdoc.errors import ProjectError
-from rcdoc.quantities import (
+from rcdoc.input.quantities import (
     UNITS,
     format_quantity,
     format_rkm,

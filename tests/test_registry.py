@@ -2,10 +2,10 @@
 
 import pytest
 
-from rcdoc import evaluate
+from rcdoc.analysis import evaluate
 from rcdoc.kinds import KINDS
-from rcdoc.metrics import METRICS
-from rcdoc.quantities import UNITS
+from rcdoc.analysis.metrics import METRICS
+from rcdoc.input.quantities import UNITS
 
 REQUIRED = ("NAME", "OPTIONS", "PASSBAND", "parse_options", "check_roles", "metrics",
             "build", "characteristic_hz", "schematic")
@@ -31,7 +31,7 @@ def test_every_kind_provides_the_interface(kind):
 @pytest.mark.parametrize("kind", [k for k in KINDS if not hasattr(KINDS[k], "analyse")])
 def test_every_metric_a_filter_kind_offers_is_computed(kind):
     # Filter kinds go through the Evaluator: each offered metric needs its method there.
-    from rcdoc.model import Drive
+    from rcdoc.input.model import Drive
     offered = KINDS[kind].metrics({"passband": "band"}, Drive(kind="pwm", amplitude_v=1.0,
                                                                frequency_hz=1e3, duty=0.5))
     for name in offered:

@@ -1,4 +1,4 @@
-"""Tests of rcdoc.report: the note's PDF structure, escaping, confinement,
+"""Tests of rcdoc.note.report: the note's PDF structure, escaping, confinement,
 reproducibility, template overrides and template errors.
 
 The PDF facts checked (page tree, outline, document information dictionary)
@@ -15,7 +15,7 @@ from pathlib import Path
 import pypdf
 import pytest
 
-from rcdoc import report
+from rcdoc.note import report
 from rcdoc.errors import ProjectError
 
 EPOCH = 1_767_225_600  # 2026-01-01T00:00:00Z

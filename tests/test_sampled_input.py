@@ -9,10 +9,10 @@ import pytest
 import scipy.signal as sg
 from scipy.integrate import solve_ivp
 
-from rcdoc import sampled
-from rcdoc.cli import main
+from rcdoc.analysis import sampled
+from rcdoc.commands.cli import main
 from rcdoc.errors import ProjectError
-from rcdoc.figures import schematic as sch
+from rcdoc.kinds import recipes as sch
 from rcdoc.kinds import KINDS
 
 from boards import analyse_one, load

@@ -1,4 +1,4 @@
-"""Schematic recipes and their SVG rendering (rcdoc.figures.schematic).
+"""Schematic recipes and their SVG rendering (rcdoc.kinds.recipes).
 
 The recipes are checked against the circuits they stand for: the placement
 of parts in each stage kind is the contract in shared/project-format.md
@@ -15,7 +15,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from rcdoc.figures.schematic import (
+from rcdoc.kinds.recipes import (
     UNIT, Label, Recipe, Step, inductive_snubber, ladder, mfb, netlist, render_svg,
     sallen_key, switch_snubber,
 )
@@ -528,7 +528,7 @@ def test_dashed_parts_are_dashed_in_svg():
 
 def test_render_is_byte_identical_in_a_fresh_process(tmp_path):
     # reproducible output (rules): same recipe, same bytes across processes
-    script = ("import sys; from rcdoc.figures.schematic import *; "
+    script = ("import sys; from rcdoc.kinds.recipes import *; "
               "sys.stdout.write(render_svg(ladder([('series','R',Label('R14','4.7 kΩ')),"
               "('shunt','C',Label('C9','10 nF'))])))")
     out = subprocess.run([sys.executable, "-c", script], capture_output=True, check=True,

@@ -18,12 +18,12 @@ import numpy as np
 import pytest
 from scipy import signal
 
-from rcdoc import cli
-from rcdoc import snubber as phys
-from rcdoc.analyse import analyse_stage
+from rcdoc.commands import cli
+from rcdoc.analysis import snubber as phys
+from rcdoc.analysis.analyse import analyse_stage
 from rcdoc.errors import ProjectError
-from rcdoc.preferred import SERIES, is_preferred
-from rcdoc.project import load_project
+from rcdoc.input.preferred import SERIES, is_preferred
+from rcdoc.input.project import load_project
 
 BOARD = '[board]\nname = "Snubber test"\nrevision = "A"\ndate = "2026-01-01"\n'
 ANALYSIS = "[analysis]\nsamples = 200\nseed = 3\n"
@@ -284,7 +284,7 @@ stray = "100 pF"
 
 
 def test_mains_snubber_is_rated_and_carries_the_cautions(tmp_path):
-    from rcdoc.note import stage_context
+    from rcdoc.note.context import stage_context
     project = load_project(write(tmp_path, LOAD + SWITCH))
     r_load = analyse_stage(project.stages[0], project.analysis)
     r_sw = analyse_stage(project.stages[1], project.analysis)

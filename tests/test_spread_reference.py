@@ -1,7 +1,7 @@
 """Issue 3: spread, time-domain metrics and noise against sources outside the project.
 
 Every stage here goes through the loader (small TOML in tmp_path) and the
-per-stage pipeline (rcdoc.analyse.analyse_stage), so the numbers checked are
+per-stage pipeline (rcdoc.analysis.analyse.analyse_stage), so the numbers checked are
 the ones the note and the JSON print. Each check names its source beside it:
 the `uncertainties` package (first-order error propagation), scipy.signal
 (step response), scipy.constants (Boltzmann constant), an independent

@@ -26,10 +26,10 @@ import pytest
 from scipy import signal
 
 from boards import analyse_one, load
-from rcdoc import poles as polemod
-from rcdoc.analyse import analyse_stage
-from rcdoc.network import Element, Network
-from rcdoc.spread import build_batch
+from rcdoc.analysis import poles as polemod
+from rcdoc.analysis.analyse import analyse_stage
+from rcdoc.analysis.network import Element, Network
+from rcdoc.analysis.spread import build_batch
 
 TWO_PI = 2 * math.pi
 ROOT = Path(__file__).resolve().parent.parent
@@ -67,7 +67,7 @@ def test_gain_101_sallen_key_poles_are_the_textbook_ones_and_unstable():
     els = (Element("r1", "R", "in", "a"), Element("r2", "R", "a", "p"),
            Element("c1", "C", "a", "out"), Element("c2", "C", "p", "0"),
            Element("rf", "R", "out", "m"), Element("rg", "R", "m", "0"))
-    from rcdoc.network import OpAmp
+    from rcdoc.analysis.network import OpAmp
     net = Network(elements=els, drive="in", output="out",
                   opamps=(OpAmp("u1", plus="p", minus="m", out="out"),))
     vals = {"r1": [r], "r2": [r], "c1": [c], "c2": [c], "rf": [(k - 1) * 1e3], "rg": [1e3]}
@@ -125,7 +125,7 @@ def test_gain_101_board_fails_unstable_exit_1_json_reason_and_no_warning(tmp_pat
 
 
 def test_note_of_unstable_stage_has_caution_with_poles_in_hz(tmp_path):
-    from rcdoc.note import stage_context
+    from rcdoc.note.context import stage_context
     project = load(tmp_path, sallen_key("10k", "10k", "10n", "10n", "100k", "1k"),
                    analysis="samples = 20")
     res = analyse_stage(project.stages[0], project.analysis)

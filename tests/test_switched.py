@@ -1,11 +1,11 @@
-"""rcdoc.switched: exact interval maps and the periodic steady state of switched networks."""
+"""rcdoc.analysis.switched: exact interval maps and the periodic steady state of switched networks."""
 
 import numpy as np
 import pytest
 from scipy.integrate import solve_ivp
 from scipy.linalg import expm as scipy_expm
 
-from rcdoc import switched
+from rcdoc.analysis import switched
 
 
 def _rc_like(rng, rows, n, scale):

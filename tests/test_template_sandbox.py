@@ -16,7 +16,9 @@ import jinja2.sandbox
 import pytest
 from pypdf import PdfReader
 
-from rcdoc import cli, report
+from rcdoc.commands import cli
+
+from rcdoc.note import report
 from rcdoc.errors import ProjectError
 
 # Each payload, and the words of the error it must end in (file and line are

@@ -12,8 +12,10 @@ import numpy as np
 import pytest
 from scipy import signal
 
-from rcdoc import analyse, engine
-from rcdoc.network import Element, Network
+from rcdoc.analysis import analyse
+
+from rcdoc.analysis import engine
+from rcdoc.analysis.network import Element, Network
 
 from boards import analyse_one
 

@@ -9,7 +9,8 @@ import pytest
 from scipy import signal
 
 from boards import analyse_one
-from rcdoc import summary, worstcase
+from rcdoc.note import summary
+from rcdoc.analysis import worstcase
 
 R_OHM = 10e3
 F_HZ = 50.0

@@ -1,7 +1,7 @@
 """The debounce stage's page: edge waveforms, levels, the slow-edge caution, JSON.
 
 Called by rcdoc.kinds.debounce once the rows are evaluated; the waveforms are
-computed here from the closed forms of rcdoc.debounce (nominal and every
+computed here from the closed forms of rcdoc.analysis.debounce (nominal and every
 Monte Carlo row) and handed to the chart as arrays. Nothing is drawn by hand.
 """
 
@@ -11,9 +11,9 @@ import math
 
 import numpy as np
 
-from .. import debounce as phys
-from ..figures import logic_chart
-from ..quantities import format_quantity
+from rcdoc.analysis import debounce as phys
+from rcdoc.note import logic_chart
+from rcdoc.input.quantities import format_quantity
 
 MC_WAVES = 2000        # Monte Carlo rows used for the waveform bands (all of them up to this)
 # An input without hysteresis (no Schmitt trigger) needs edges faster than

@@ -10,11 +10,11 @@ from __future__ import annotations
 
 from typing import Any, Protocol
 
-from ..errors import ProjectError
-from ..figures.schematic import Label
-from ..model import Part, Stage
-from ..network import GROUND, Element, Network
-from ..quantities import format_quantity
+from rcdoc.errors import ProjectError
+from rcdoc.kinds.recipes import Label
+from rcdoc.input.model import Part, Stage
+from rcdoc.analysis.network import GROUND, Element, Network
+from rcdoc.input.quantities import format_quantity
 
 # Element names of the source impedance and the load; they carry fixed values.
 SOURCE_R, SOURCE_L, LOAD_R, LOAD_C = "source.r", "source.l", "load.r", "load.c"
@@ -138,7 +138,7 @@ def load_labels(stage: Stage):
 
 def parse_amplifier(t: dict, path: str) -> dict:
     """``amplifier = { gbw = "10 MHz", gain = "120 dB" }``; default ideal (inf, inf)."""
-    from ..quantities import parse_positive, parse_quantity
+    from rcdoc.input.quantities import parse_positive, parse_quantity
     raw = t.get("amplifier")
     if raw is None:
         return {"gbw_hz": float("inf"), "a0": float("inf")}

@@ -2,9 +2,9 @@
 
 This module reads the stage's keys (supply, pull, thresholds, leakage),
 builds the rows of the analysis (the parts' Monte Carlo samples, sensitivity
-probes and worst-case corners from rcdoc.spread, each with its own draw of
+probes and worst-case corners from rcdoc.analysis.spread, each with its own draw of
 the input's thresholds; the corners also take the thresholds' extremes),
-evaluates the closed-form metrics of rcdoc.debounce on every row, judges the
+evaluates the closed-form metrics of rcdoc.analysis.debounce on every row, judges the
 checks and lays out the note page: press and release waveforms with the
 threshold bands, the levels, and the caution about slow edges. It replaces
 the generic frequency-domain analysis (``analyse``).
@@ -17,14 +17,14 @@ import math
 
 import numpy as np
 
-from .. import checks as checkmod
-from .. import debounce as phys
-from .. import spread
-from ..errors import ProjectError
-from ..figures import schematic as sch
-from ..network import GROUND, Element, Network
-from ..quantities import format_quantity, parse_positive, parse_quantity
-from . import base
+from rcdoc.analysis import checks as checkmod
+from rcdoc.analysis import debounce as phys
+from rcdoc.analysis import spread
+from rcdoc.errors import ProjectError
+from rcdoc.kinds import recipes as sch
+from rcdoc.analysis.network import GROUND, Element, Network
+from rcdoc.input.quantities import format_quantity, parse_positive, parse_quantity
+from rcdoc.kinds import base
 
 NAME = "debounce"
 OPTIONS = ("supply", "pull", "thresholds", "leakage")
@@ -58,7 +58,7 @@ def _range(raw, path: str, supply: float) -> tuple[float, float]:
 
 
 def parse_options(t: dict, path: str) -> dict:
-    from ..project import check_keys, need_string, need_table
+    from rcdoc.input.project import check_keys, need_string, need_table
     for key in NOT_FOR_DEBOUNCE:
         if key in t:
             raise ProjectError(f"'{key}' does not apply to a debounce stage: its circuit is "
@@ -163,7 +163,7 @@ def evaluate(stage, values: dict, rising, falling) -> dict:
 
 
 def _metric_result(name, arr, batch):
-    from ..analyse import MetricResult
+    from rcdoc.analysis.analyse import MetricResult
     finite0 = math.isfinite(arr[0]) and arr[0] != 0
     sens = spread.sensitivities(arr, batch) if finite0 else np.zeros(len(batch.roles))
     wc_vals = arr[batch.vertex]
@@ -196,7 +196,7 @@ def _ratings(stage, batch, arrays):
 
 
 def analyse(stage, analysis):
-    from ..analyse import StageResult, _assumptions, _part_rows
+    from rcdoc.analysis.analyse import StageResult, _assumptions, _part_rows
     batch, rising, falling = threshold_batch(stage, analysis)
     arrays = evaluate(stage, batch.values, rising, falling)
     metrics_ = [_metric_result(name, np.asarray(arrays[name], float), batch)
@@ -206,7 +206,7 @@ def analyse(stage, analysis):
                                nominal=by_name[c.metric].nominal, wc=by_name[c.metric].wc,
                                lo=c.min, hi=c.max, required_yield=c.required_yield)
                 for c in stage.checks]
-    from . import _debounce_note as debounce_note
+    from rcdoc.kinds import _debounce_note as debounce_note
     extra = debounce_note.extra(stage, batch, rising, falling, arrays)
     empty = np.zeros(0)
     return StageResult(stage=stage, network=build(stage), passband=PASSBAND,

@@ -8,9 +8,9 @@ from __future__ import annotations
 
 import math
 
-from ..figures import schematic as sch
-from ..network import GROUND, Element, OpAmp
-from . import base
+from rcdoc.kinds import recipes as sch
+from rcdoc.analysis.network import GROUND, Element, OpAmp
+from rcdoc.kinds import base
 
 NAME = "mfb-lowpass"
 OPTIONS = ("amplifier",)

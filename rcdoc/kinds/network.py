@@ -10,10 +10,10 @@ from __future__ import annotations
 
 import re
 
-from ..errors import ProjectError
-from ..figures import schematic as sch
-from ..network import GROUND, Element
-from . import base
+from rcdoc.errors import ProjectError
+from rcdoc.kinds import recipes as sch
+from rcdoc.analysis.network import GROUND, Element
+from rcdoc.kinds import base
 
 NAME = "network"
 OPTIONS = ("input", "output", "elements", "passband")

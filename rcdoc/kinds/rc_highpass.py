@@ -2,8 +2,8 @@
 
 from __future__ import annotations
 
-from . import _first_order as first
-from . import base
+from rcdoc.kinds import _first_order as first
+from rcdoc.kinds import base
 
 NAME = "rc-highpass"
 OPTIONS: tuple[str, ...] = ()

@@ -6,10 +6,10 @@ optional rf output -> - input and rg - input -> ground.
 
 from __future__ import annotations
 
-from ..errors import ProjectError
-from ..figures import schematic as sch
-from ..network import GROUND, Element, OpAmp
-from . import base
+from rcdoc.errors import ProjectError
+from rcdoc.kinds import recipes as sch
+from rcdoc.analysis.network import GROUND, Element, OpAmp
+from rcdoc.kinds import base
 
 NAME = "sallen-key-lowpass"
 OPTIONS = ("amplifier",)

@@ -4,7 +4,7 @@ Reads ``level`` and the ``converter`` table, builds the RC (with the pin
 capacitance) for the usual frequency metrics, and adds the converter metrics
 (sample_error in LSB, kickback, acquisition_settling, max_sample_rate,
 input_current) as Evaluator methods, so yields, worst case and sensitivities
-come from the standard machinery. The physics is rcdoc.sampled; this module
+come from the standard machinery. The physics is rcdoc.analysis.sampled; this module
 reads keys, hands over values and lays out the note page.
 
 The AC network is the RC with the pin capacitance and the source resistance;
@@ -20,16 +20,16 @@ from functools import cached_property
 
 import numpy as np
 
-from .. import sampled as phys
-from ..errors import ProjectError
-from ..evaluate import Evaluator
-from ..figures import charts
-from ..figures import schematic as sch
-from ..figures.schematic import Label
-from ..network import GROUND, Element
-from ..quantities import format_quantity, parse_positive, parse_quantity
-from . import _first_order as first
-from . import base
+from rcdoc.analysis import sampled as phys
+from rcdoc.errors import ProjectError
+from rcdoc.analysis.evaluate import Evaluator
+from rcdoc.note import charts
+from rcdoc.kinds import recipes as sch
+from rcdoc.kinds.recipes import Label
+from rcdoc.analysis.network import GROUND, Element
+from rcdoc.input.quantities import format_quantity, parse_positive, parse_quantity
+from rcdoc.kinds import _first_order as first
+from rcdoc.kinds import base
 
 WAVE_PERIODS = phys.WAVE_PERIODS
 
@@ -49,7 +49,7 @@ characteristic_hz = first.characteristic_hz
 
 
 def parse_options(t: dict, path: str) -> dict:
-    from ..project import check_keys, need_int, need_table
+    from rcdoc.input.project import check_keys, need_int, need_table
     if "converter" not in t:
         raise ProjectError("a sampled-input stage needs converter = { sampling_c = ..., "
                            "switch_r = ..., acquisition = ..., sample_rate = ..., "
@@ -136,8 +136,8 @@ class SampledEvaluator(Evaluator):
 
 
 def analyse(stage, analysis):
-    from ..analyse import analyse_network
-    from ..spread import build_batch
+    from rcdoc.analysis.analyse import analyse_network
+    from rcdoc.analysis.spread import build_batch
     result = analyse_network(stage, analysis, evaluator=SampledEvaluator)
     nominal = build_batch(stage, analysis, samples=0).take(slice(0, 1))
     conv = stage.options["converter"]

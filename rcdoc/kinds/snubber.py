@@ -2,7 +2,7 @@
 
 This module reads the stage's keys, proposes values when ``parts`` are
 omitted, runs the analysis over the batch of snubber values (the physics is
-rcdoc.snubber) and lays out its results for the note: waveforms with and
+rcdoc.analysis.snubber) and lays out its results for the note: waveforms with and
 without the snubber, derived parasitics, stresses, energy and the trade-off
 against the snubber capacitance. It replaces the generic frequency-domain
 analysis (``analyse``). It must not compute physics itself beyond bookkeeping.
@@ -15,18 +15,18 @@ import math
 
 import numpy as np
 
-from .. import checks as checkmod
-from .. import snubber as phys
-from .. import spread
-from .. import worstcase
-from ..errors import ProjectError
-from ..figures import charts
-from ..figures import schematic as sch
-from ..figures.schematic import Label
-from ..model import Part
-from ..preferred import nearest
-from ..quantities import format_quantity, parse_positive
-from . import base
+from rcdoc.analysis import checks as checkmod
+from rcdoc.analysis import snubber as phys
+from rcdoc.analysis import spread
+from rcdoc.analysis import worstcase
+from rcdoc.errors import ProjectError
+from rcdoc.note import charts
+from rcdoc.kinds import recipes as sch
+from rcdoc.kinds.recipes import Label
+from rcdoc.input.model import Part
+from rcdoc.input.preferred import nearest
+from rcdoc.input.quantities import format_quantity, parse_positive
+from rcdoc.kinds import base
 
 NAME = "snubber"
 OPTIONS = ("across", "voltage", "switching_frequency", "ringing", "parasitic", "coil", "ac",
@@ -58,7 +58,7 @@ def fq(v, unit, digits=3):
 
 
 def _table(t, key, keys, required, path):
-    from ..project import check_keys, need_table
+    from rcdoc.input.project import check_keys, need_table
     tab = need_table(t[key], f"{path}.{key}")
     check_keys(tab, keys, f"{path}.{key}")
     for k in required:
@@ -68,7 +68,7 @@ def _table(t, key, keys, required, path):
 
 
 def parse_options(t: dict, path: str) -> dict:
-    from ..project import need_bool
+    from rcdoc.input.project import need_bool
     for key in NOT_FOR_SNUBBERS:
         if key in t:
             raise ProjectError(f"'{key}' does not apply to a snubber: its circuit is set by "
@@ -277,7 +277,7 @@ def _supply_peak(o: dict) -> float:
 
 
 def analyse(stage, analysis):
-    from ..analyse import MetricResult, StageResult, _assumptions, _part_rows
+    from rcdoc.analysis.analyse import MetricResult, StageResult, _assumptions, _part_rows
     proposed = not stage.parts
     if proposed:
         stage = dataclasses.replace(stage, parts=propose(stage))

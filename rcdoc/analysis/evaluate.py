@@ -1,0 +1,473 @@
+"""Metric computations over a batch of part values.
+
+An Evaluator holds one stage's Network and a batch of values (one row per
+Monte Carlo sample, worst-case vertex or sensitivity probe) and computes any
+registered metric for every row at once, caching the sweeps it shares
+(frequency response, step response, PWM steady state). No Python loop runs
+per row; loops run over bisection steps, time steps or parts only.
+"""
+
+from __future__ import annotations
+
+import math
+from functools import cached_property
+
+import numpy as np
+
+from rcdoc.analysis import engine
+from rcdoc.analysis import poles as polemod
+from rcdoc.input.model import Check, Stage
+from rcdoc.analysis.network import Network
+
+DB3 = 10 * math.log10(2.0)          # 3.0103 dB: half power
+CORNER_ITERATIONS = 40               # bisection steps in log-frequency: far below 1 ppm
+PEAK_ITERATIONS = 30                 # golden-section steps: bracket shrinks by 0.618^30 ≈ 5e-7
+TIME_POINTS = 4000                   # step-response grid
+TIME_CONSTANTS = 24.0                # step window in slowest nominal time constants
+PWM_POINTS = 1000                    # points over one PWM period
+
+
+def db(h: np.ndarray) -> np.ndarray:
+    with np.errstate(divide="ignore"):
+        return 20 * np.log10(np.abs(h))
+
+
+def sweep_for(stage_char_hz: float, analysis) -> np.ndarray:
+    """Log sweep: the project's range, or 3 decades either side of the stage's frequency."""
+    if analysis.sweep_hz is not None:
+        lo, hi = analysis.sweep_hz
+    else:
+        lo, hi = stage_char_hz / 1e3, stage_char_hz * 1e3
+    n = max(int(round(math.log10(hi / lo) * analysis.points_per_decade)) + 1, 2)
+    return np.logspace(math.log10(lo), math.log10(hi), n)
+
+
+class Evaluator:
+    """Computes metrics for every row of a batch of values."""
+
+    def __init__(self, stage: Stage, network: Network, values: dict[str, np.ndarray],
+                 freqs_hz: np.ndarray, passband: str, char_hz: float,
+                 temperature_k: np.ndarray | float = 298.15,
+                 time_s: np.ndarray | None = None):
+        """``time_s``: the step-response grid to use (chunks of one batch must share
+        one grid); by default one is chosen from these rows' slowest pole."""
+        self.stage = stage
+        self.network = network
+        self.values = values
+        self.freqs_hz = freqs_hz
+        self.passband = passband
+        self.char_hz = char_hz
+        self.temperature_k = temperature_k
+        self.rows = len(next(iter(values.values())))
+        if time_s is not None:
+            self.__dict__["time_s"] = time_s     # fills the cached property below
+
+    # ---- frequency domain -------------------------------------------------
+    @cached_property
+    def system(self):
+        return engine.assemble(self.network, self.values)
+
+    @cached_property
+    def h(self) -> np.ndarray:
+        return engine.ac(self.network, self.values, self.freqs_hz)
+
+    @cached_property
+    def gain_db(self) -> np.ndarray:
+        return db(self.h)
+
+    def h_rows(self, f_hz: np.ndarray) -> np.ndarray:
+        """H at one frequency per row (rows may differ): solve (G + sC) x = b row by row at once."""
+        sysm = self.system
+        s = 2j * np.pi * np.asarray(f_hz, dtype=float)
+        a = sysm.G + s[:, None, None] * sysm.C
+        b = np.broadcast_to(sysm.b.astype(complex), (a.shape[0], a.shape[1]))
+        x = np.linalg.solve(a, b[..., None])[..., 0]
+        return x[:, sysm.index[self.network.output]]
+
+    def h_at(self, f_hz: float) -> np.ndarray:
+        return self.h_rows(np.full(self.rows, float(f_hz)))
+
+    @cached_property
+    def passband_db(self) -> np.ndarray:
+        g = self.gain_db
+        if self.passband == "low":
+            # A low-pass's passband is DC: reading it at the first swept frequency
+            # would move the corner with the sweep's start (a sweep starting at fc/8
+            # shifted a first-order corner by 1.6 %). Fall back to the sweep's first
+            # point where the DC solution does not exist or is zero (blocking capacitor).
+            try:
+                dc = db(self.h_rows(np.zeros(self.rows)))
+            except np.linalg.LinAlgError:
+                return g[:, 0]
+            return np.where(np.isfinite(dc), dc, g[:, 0])
+        if self.passband == "high":
+            # A high-pass's passband is at high frequency: the gain keeps rising past
+            # the sweep's end (by 4e-6 dB at 1000·fc, more if the sweep ends near the
+            # corner), so take the larger of the sweep's end and far above it; a
+            # roll-off above the sweep (a source inductance) leaves the sweep's end.
+            far = db(self.h_rows(np.full(self.rows, self.freqs_hz[-1] * 1e6)))
+            return np.fmax(g[:, -1], far)
+        return self.peak_db      # band-pass: the top of the response, refined off the grid
+
+    def passband_gain(self) -> np.ndarray:
+        return self.passband_db
+
+    def _crossing(self, side: str) -> np.ndarray:
+        """Frequency where the gain falls 3.01 dB below the passband, per row (NaN if outside)."""
+        g, f = self.gain_db, self.freqs_hz
+        thr = self.passband_db - DB3
+        below = g < thr[:, None]
+        rows = np.arange(self.rows)
+        if side == "up":        # gain falls with frequency above the passband
+            if self.passband != "low":      # only the fall after the peak counts
+                peak = np.argmax(g, axis=1)
+                below = below & (np.arange(len(f))[None, :] > peak[:, None])
+            j = np.argmax(below, axis=1)
+            ok = below[rows, j] & (j > 0)
+            lo, hi = f[np.maximum(j - 1, 0)], f[j]
+        else:                   # gain rises with frequency below the passband
+            if self.passband == "band":
+                peak = np.argmax(g, axis=1)
+                below = below & (np.arange(len(f))[None, :] < peak[:, None])
+            jr = np.argmax(below[:, ::-1], axis=1)
+            j = len(f) - 1 - jr
+            ok = below[rows, j] & (j < len(f) - 1)
+            lo, hi = f[j], f[np.minimum(j + 1, len(f) - 1)]
+        lo, hi = lo.astype(float), hi.astype(float)
+        for _ in range(CORNER_ITERATIONS):
+            mid = np.sqrt(lo * hi)
+            under = db(self.h_rows(mid)) < thr
+            if side == "up":
+                hi, lo = np.where(under, mid, hi), np.where(under, lo, mid)
+            else:
+                lo, hi = np.where(under, mid, lo), np.where(under, hi, mid)
+        return np.where(ok, np.sqrt(lo * hi), np.nan)
+
+    def corner(self) -> np.ndarray:
+        return self._crossing("down" if self.passband == "high" else "up")
+
+    def corner_low(self) -> np.ndarray:
+        return self._crossing("down")
+
+    def corner_high(self) -> np.ndarray:
+        return self._crossing("up")
+
+    @cached_property
+    def poles(self) -> np.ndarray:
+        """Finite poles per row, sorted by magnitude (rows × n, NaN-padded), from a
+        well-conditioned form of the network (rcdoc.analysis.poles)."""
+        return polemod.poles(self.network, self.values)
+
+    @cached_property
+    def unstable(self) -> np.ndarray:
+        """Rows with a pole in the right half-plane or on the imaginary axis."""
+        return polemod.unstable(self.poles)
+
+    def _two_poles(self):
+        p = self.poles
+        if p.shape[1] < 2:
+            nan = np.full(self.rows, np.nan)
+            return nan, nan
+        if self.stage.kind == "network":
+            return _dominant_pair(p)
+        p1, p2 = p[:, 0], p[:, 1]
+        w0 = np.sqrt(np.abs(p1 * p2))
+        return w0, np.abs((p1 + p2).real)
+
+    def f0(self) -> np.ndarray:
+        w0, _ = self._two_poles()
+        return w0 / (2 * np.pi)
+
+    def q(self) -> np.ndarray:
+        w0, s = self._two_poles()
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return w0 / s
+
+    def peaking(self) -> np.ndarray:
+        peak = np.maximum(self.peak_db - self.passband_db, 0.0)
+        if self.stage.kind == "network":      # only where a complex pair can peak
+            peak = np.where(np.isfinite(self.f0()), peak, np.nan)
+        return peak
+
+    @cached_property
+    def peak_db(self) -> np.ndarray:
+        """Largest gain per row: the sweep's maximum refined between its neighbours.
+
+        At 50 points per decade the sweep misses the top of a Q = 2 resonance by
+        0.025 dB; a golden-section search in log-frequency over the two grid steps
+        around the sweep's maximum finds it (unimodal there).
+        """
+        g, f = self.gain_db, self.freqs_hz
+        j = np.argmax(g, axis=1)
+        a = np.log(f[np.maximum(j - 1, 0)])
+        b = np.log(f[np.minimum(j + 1, len(f) - 1)])
+        k = (math.sqrt(5.0) - 1) / 2
+        c, d = b - k * (b - a), a + k * (b - a)
+        gc, gd = db(self.h_rows(np.exp(c))), db(self.h_rows(np.exp(d)))
+        for _ in range(PEAK_ITERATIONS):
+            left = gc >= gd                   # the top lies in [a, d]
+            b, a = np.where(left, d, b), np.where(left, a, c)
+            x = np.where(left, b - k * (b - a), a + k * (b - a))
+            gx = db(self.h_rows(np.exp(x)))
+            c, d, gc, gd = (np.where(left, x, d), np.where(left, c, x),
+                            np.where(left, gx, gd), np.where(left, gc, gx))
+        return np.fmax(g[np.arange(self.rows), j], np.fmax(gc, gd))
+
+    def gain(self, at_hz: float) -> np.ndarray:
+        return db(self.h_at(at_hz))
+
+    def phase(self, at_hz: float) -> np.ndarray:
+        """Phase unwrapped along the sweep from the passband, read at the mark."""
+        return _unwrapped_phase(self, float(at_hz))
+
+    def group_delay(self, at_hz: float) -> np.ndarray:
+        # τ = −dφ/dω by a central difference; the ratio avoids phase wrapping.
+        d = 1e-4
+        h1, h2 = self.h_at(at_hz * (1 - d)), self.h_at(at_hz * (1 + d))
+        return -np.angle(h2 / h1) / (2 * np.pi * at_hz * 2 * d)
+
+    def input_impedance(self, at_hz: float) -> np.ndarray:
+        z = engine.input_impedance(self.network_unsourced, self.values, np.array([at_hz]))
+        return np.abs(z[:, 0])
+
+    @cached_property
+    def network_unsourced(self) -> Network:
+        """The network as seen at the stage's input, without the source impedance."""
+        from rcdoc.kinds.base import SOURCE_L, SOURCE_R, core_input
+        els = tuple(e for e in self.network.elements if e.name not in (SOURCE_R, SOURCE_L))
+        return Network(elements=els, drive=core_input(self.network), output=self.network.output,
+                       opamps=self.network.opamps, path=self.network.path)
+
+    def _on_stable(self, compute, names, points: int) -> dict[str, np.ndarray]:
+        """compute(values, rows) -> {name: (rows, points)} over the stable rows only;
+        unstable rows get NaN (their time responses and noise do not exist)."""
+        ok = ~self.unstable
+        every = bool(ok.all())
+        values = self.values if every else \
+            {k: np.broadcast_to(v, (self.rows,))[ok] for k, v in self.values.items()}
+        result = {} if ok.any() else {n: np.zeros((0, points)) for n in names}
+        # A stable row whose computation still overflows (a badly conditioned
+        # step) gets no value rather than an infinite one, and no warning.
+        with np.errstate(all="ignore"):
+            if ok.any():
+                result = compute(values, slice(None) if every else ok)
+            for y in result.values():
+                y[~np.all(np.isfinite(y), axis=1)] = np.nan
+        if every:
+            return result
+        out = {n: np.full((self.rows, points), np.nan) for n in names}
+        for n, y in result.items():
+            out[n][ok] = y
+        return out
+
+    @cached_property
+    def noise_psd(self) -> np.ndarray:
+        def compute(values, rows):
+            t = self.temperature_k
+            t = np.broadcast_to(t, (self.rows,))[rows] if np.ndim(t) else t
+            return {"psd": engine.output_noise_psd(self.network, values, self.freqs_hz,
+                                                   temperature_k=t)}
+        return self._on_stable(compute, ["psd"], len(self.freqs_hz))["psd"]
+
+    def noise(self) -> np.ndarray:
+        # Integrated over the sweep (trapezoid rule in linear frequency).
+        return np.sqrt(np.trapezoid(self.noise_psd, self.freqs_hz, axis=1))
+
+    # ---- time domain -------------------------------------------------------
+    @cached_property
+    def time_s(self) -> np.ndarray:
+        """Step grid from the nominal row only (unstable nominal: none), so that no
+        row's numbers depend on the others: long enough for the nominal to settle
+        to about 34 bits, i.e. for rows up to twice as slow to settle to 16."""
+        p = self.poles[:1][~self.unstable[:1]]
+        decay = np.where(np.isnan(p.real), np.inf, np.abs(p.real))
+        slowest = np.min(decay) if decay.size else np.inf
+        if not np.isfinite(slowest) or slowest <= 0:
+            slowest = 2 * np.pi * self.char_hz
+        t_end = TIME_CONSTANTS / slowest
+        return np.linspace(0.0, t_end, TIME_POINTS)
+
+    @cached_property
+    def step_probes(self) -> dict[str, np.ndarray]:
+        amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
+        probes = [self.network.output] + [f"v:{e.name}" for e in self.network.elements]
+        t = self.time_s
+        # The step is applied at t = 0 from rest: the input holds its amplitude
+        # from the first instant on.
+        u = np.full(t.shape, amp)
+        return self._on_stable(lambda values, _: engine.transient(
+            self.network, values, t, u, probes=probes, initial="rest"), probes, t.size)
+
+    @cached_property
+    def step(self) -> np.ndarray:
+        return self.step_probes[self.network.output]
+
+    @cached_property
+    def final_value(self) -> np.ndarray:
+        amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
+        return np.real(self.h_rows(np.zeros(self.rows))) * amp if self.passband == "low" \
+            else self.step[:, -1]
+
+    def rise_time(self) -> np.ndarray:
+        y, t, fin = self.step, self.time_s, self.final_value
+        r = y / fin[:, None]     # one normalised copy for both crossings
+        return _cross_time(r, t, 0.9) - _cross_time(r, t, 0.1)
+
+    def settling(self, within: float | None = None, bits: int | None = None,
+                 full_scale: float | None = None) -> np.ndarray:
+        band = within if within is not None else 2.0 ** -(bits + 1)
+        y, t, fin = self.step, self.time_s, self.final_value
+        # The band is a share of the output's step in the passband: |final value| for
+        # a low-pass; for a high-pass or band-pass, whose step response decays to 0,
+        # the height of the step it passes (relative to a final value near 0 the
+        # response never settled: a high-pass gave 18 RC instead of RC·ln 100).
+        amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
+        scale = np.abs(fin) if self.passband == "low" else \
+            abs(amp) * 10 ** (self.passband_db / 20)
+        if full_scale is not None:      # half an LSB of the converter, not of the step
+            scale = np.full(self.rows, float(full_scale))
+        err = y - fin[:, None]   # |y − fin| / scale, in place: one (rows × T) temporary
+        np.abs(err, out=err)
+        err /= scale[:, None]
+        outside = err > band
+        last = len(t) - 1 - np.argmax(outside[:, ::-1], axis=1)
+        rows = np.arange(self.rows)
+        never = ~outside.any(axis=1) & ~np.isnan(err).any(axis=1)   # a missing response never settled
+        nxt = np.minimum(last + 1, len(t) - 1)
+        e0, e1 = err[rows, last], err[rows, nxt]
+        # Interpolate log(error): exact for an exponential decay.
+        with np.errstate(divide="ignore", invalid="ignore"):
+            frac = np.log(e0 / band) / np.log(e0 / np.maximum(e1, 1e-300))
+        frac = np.clip(np.nan_to_num(frac, nan=0.0), 0.0, 1.0)
+        ts = t[last] + frac * (t[nxt] - t[last])
+        ts = np.where(last >= len(t) - 1, np.nan, ts)   # never settles inside the window
+        return np.where(never, 0.0, ts)
+
+    @cached_property
+    def pwm_probes(self) -> dict[str, np.ndarray]:
+        d = self.stage.drive
+        period = 1.0 / d.frequency_hz
+        t = np.arange(PWM_POINTS) * (period / PWM_POINTS)
+        # Held between instants: the edges fall on the grid, not halfway between.
+        u = np.where(t < d.duty * period, d.amplitude_v, 0.0)
+        probes = [self.network.output] + [f"v:{e.name}" for e in self.network.elements]
+        return self._on_stable(lambda values, _: engine.periodic_steady_state(
+            self.network, values, t, u, probes=probes, input_mode="hold"), probes, t.size)
+
+    @cached_property
+    def pwm_time_s(self) -> np.ndarray:
+        period = 1.0 / self.stage.drive.frequency_hz
+        return np.arange(PWM_POINTS) * (period / PWM_POINTS)
+
+    def ripple(self) -> np.ndarray:
+        y = self.pwm_probes[self.network.output]
+        return y.max(axis=1) - y.min(axis=1)
+
+    @cached_property
+    def drive_probes(self) -> dict[str, np.ndarray] | None:
+        d = self.stage.drive
+        if d is None:
+            return None
+        return self.pwm_probes if d.kind == "pwm" else self.step_probes
+
+    def capacitor_peaks(self) -> dict[str, np.ndarray]:
+        """Peak voltage per capacitor of the stage: stated DC bias plus the drive's peak."""
+        out = {}
+        probes = self.drive_probes
+        for role, part in self.stage.parts.items():
+            if part.kind != "C":
+                continue
+            peak = np.abs(probes[f"v:{role}"]).max(axis=1) if probes else np.zeros(self.rows)
+            out[role] = peak + (part.bias_v or 0.0)
+        return out
+
+    def resistor_powers(self) -> dict[str, np.ndarray]:
+        """Average power per resistor: over a PWM period in steady state, or after a step settles."""
+        out = {}
+        probes = self.drive_probes
+        if probes is None:
+            return out
+        for role, part in self.stage.parts.items():
+            if part.kind != "R":
+                continue
+            v = probes[f"v:{role}"]
+            r = self.values[role][:, None]
+            if self.stage.drive.kind == "pwm":
+                out[role] = np.mean(v ** 2 / r, axis=1)
+            else:
+                out[role] = v[:, -1] ** 2 / r[:, 0]
+        return out
+
+    def capacitor_voltage(self) -> np.ndarray:
+        peaks = self.capacitor_peaks()
+        if not peaks:
+            return np.zeros(self.rows)
+        return np.max(np.stack(list(peaks.values())), axis=0)
+
+    # ---- dispatch ----------------------------------------------------------
+    def _metric(self, name: str, check: Check | None = None, at_hz: float | None = None):
+        at = at_hz if at_hz is not None else (check.at_hz if check else None)
+        if name in ("gain", "phase", "group_delay", "input_impedance"):
+            return getattr(self, name)(at)
+        if name == "settling":
+            if check is not None:
+                return self.settling(within=check.within, bits=check.bits,
+                                     full_scale=check.full_scale)
+            return self.settling(within=0.01)
+        fn = getattr(self, name, None)
+        if fn is None or not callable(fn):
+            raise KeyError(name)
+        return fn()
+
+    def metric(self, name: str, check: Check | None = None, at_hz: float | None = None):
+        """A metric per row; missing (NaN) for unstable rows, where it has no meaning."""
+        value = np.asarray(self._metric(name, check, at_hz), dtype=float)
+        return np.where(self.unstable, np.nan, value)
+
+
+def _dominant_pair(p: np.ndarray):
+    """ω0 and |p1 + p2| of the complex pair nearest the imaginary axis, per row (NaN if none)."""
+    mag = np.abs(p)
+    cplx = np.isfinite(p) & (p.imag > 1e-9 * np.where(mag > 0, mag, 1.0))
+    key = np.where(cplx, np.abs(p.real), np.inf)
+    j = np.argmin(key, axis=1)
+    rows = np.arange(p.shape[0])
+    has = cplx[rows, j]
+    pj = p[rows, j]
+    w0 = np.where(has, np.abs(pj), np.nan)      # p·p̄ = |p|²
+    return w0, np.where(has, 2 * np.abs(pj.real), np.nan)
+
+
+def _unwrapped_phase(ev: Evaluator, at_hz: float) -> np.ndarray:
+    """Phase (degrees) at ``at_hz``, continuous along the sweep from the passband end.
+
+    The sweep's points up to the mark (from the low end for a low-pass or
+    band-pass, from the high end for a high-pass) are unwrapped, the mark's
+    value is joined to its nearest swept neighbour, and the whole is shifted
+    by whole turns so that the passband end reads within ±180°.
+    """
+    f = ev.freqs_hz
+    ph_mark = np.angle(ev.h_at(at_hz))
+    if ev.passband == "high":
+        sel = f >= at_hz
+        seq = np.angle(ev.h[:, sel][:, ::-1])
+    else:
+        sel = f <= at_hz
+        seq = np.angle(ev.h[:, sel])
+    if seq.shape[1] == 0:
+        return np.degrees(ph_mark)
+    un = np.unwrap(np.concatenate([seq, ph_mark[:, None]], axis=1), axis=1)
+    return np.degrees(un[:, -1])
+
+
+def _cross_time(y: np.ndarray, t: np.ndarray, level: float) -> np.ndarray:
+    """First time each row reaches ``level`` (linear interpolation between samples)."""
+    above = y >= level
+    j = np.argmax(above, axis=1)
+    rows = np.arange(y.shape[0])
+    ok = above[rows, j] & (j > 0)
+    j0 = np.maximum(j - 1, 0)
+    y0, y1 = y[rows, j0], y[rows, j]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        frac = np.where(y1 != y0, (level - y0) / (y1 - y0), 0.0)
+    return np.where(ok, t[j0] + frac * (t[j] - t[j0]), np.nan)

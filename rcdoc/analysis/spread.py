@@ -1,0 +1,118 @@
+"""Monte Carlo samples, worst-case vertices and sensitivity probes as one batch.
+
+Every way rcdoc asks "what if the parts were different" becomes rows of one
+batch of part values, so the engine and the metrics run once, vectorised, for
+all of them: row 0 is the nominal design, then the Monte Carlo samples, then
+one probe per part for the sensitivities, then the worst-case vertices
+(extreme-value analysis over the parts' limits).
+"""
+
+from __future__ import annotations
+
+import itertools
+import zlib
+from dataclasses import dataclass
+
+import numpy as np
+
+from rcdoc.input import parts as partmodels
+from rcdoc.kinds.base import fixed_values
+from rcdoc.input.model import Analysis, Stage
+
+SENSITIVITY_STEP = 1e-3     # relative change of one part for its sensitivity (finite difference)
+FULL_VERTEX_PARTS = 8       # up to this many parts, every corner of the tolerance box is tried
+
+
+@dataclass(frozen=True)
+class Batch:
+    values: dict[str, np.ndarray]      # element name -> (B,) SI values
+    temperature_c: np.ndarray          # (B,) ambient of each row
+    roles: tuple[str, ...]             # the parts that vary, in a fixed order
+    samples: int
+    vertices: np.ndarray               # (V, P) bool: part at its high extreme
+
+    @property
+    def rows(self) -> int:
+        return len(self.temperature_c)
+
+    @property
+    def mc(self) -> slice:
+        return slice(1, 1 + self.samples)
+
+    @property
+    def sens(self) -> slice:
+        start = 1 + self.samples
+        return slice(start, start + len(self.roles))
+
+    @property
+    def vertex(self) -> slice:
+        start = 1 + self.samples + len(self.roles)
+        return slice(start, start + len(self.vertices))
+
+    def take(self, rows: slice) -> dict[str, np.ndarray]:
+        return {k: v[rows] for k, v in self.values.items()}
+
+
+def rng_for(stage: Stage, analysis: Analysis) -> np.random.Generator:
+    """One generator per stage, from the seed and the stage id: moving or adding
+    stages does not change another stage's samples."""
+    return np.random.default_rng([analysis.seed, zlib.crc32(stage.id.encode())])
+
+
+def build_batch(stage: Stage, analysis: Analysis, samples: int | None = None) -> Batch:
+    n = analysis.samples if samples is None else samples
+    roles = tuple(sorted(stage.parts))
+    rng = rng_for(stage, analysis)
+    t_lo, t_hi = analysis.temperature_c
+    temps = rng.uniform(t_lo, t_hi, n) if t_hi > t_lo else np.full(n, t_lo)
+    nominal = {r: partmodels.nominal_value(stage.parts[r], analysis) for r in roles}
+    mc = {r: partmodels.sample_values(stage.parts[r], analysis, rng, temps) for r in roles}
+    ext = {r: partmodels.extremes(stage.parts[r], analysis) for r in roles}
+    p = len(roles)
+    if p <= FULL_VERTEX_PARTS:
+        vertices = np.array(list(itertools.product((False, True), repeat=p)), dtype=bool)
+        vertices = vertices.reshape(-1, p)
+    else:
+        # Too many corners: the all-low and all-high corners here; the metric-specific
+        # corners (each part at the extreme its sensitivity points to) come later.
+        vertices = np.array([[False] * p, [True] * p], dtype=bool)
+    values: dict[str, np.ndarray] = {}
+    for k, r in enumerate(roles):
+        sens = np.full(p, nominal[r])
+        sens[k] *= 1 + SENSITIVITY_STEP
+        lo, hi = ext[r]
+        vert = np.where(vertices[:, k], hi, lo)
+        values[r] = np.concatenate([[nominal[r]], mc[r], sens, vert])
+    rows = 1 + n + p + len(vertices)
+    for name, v in fixed_values(stage).items():
+        values[name] = np.full(rows, v)
+    temperature = np.concatenate([[25.0], temps, np.full(p, 25.0),
+                                  np.full(len(vertices), np.nan)])
+    return Batch(values=values, temperature_c=temperature, roles=roles, samples=n,
+                 vertices=vertices)
+
+
+def vertex_values(stage: Stage, analysis: Analysis, roles: tuple[str, ...],
+                  high: np.ndarray) -> dict[str, np.ndarray]:
+    """Values for given corners: ``high`` (V, P) bool -> element name -> (V,)."""
+    out = {}
+    for k, r in enumerate(roles):
+        lo, hi = partmodels.extremes(stage.parts[r], analysis)
+        out[r] = np.where(high[:, k], hi, lo)
+    for name, v in fixed_values(stage).items():
+        out[name] = np.full(len(high), v)
+    return out
+
+
+def sensitivities(metric: np.ndarray, batch: Batch) -> np.ndarray:
+    """Relative change of the metric per relative change of each part, (P,)."""
+    base = metric[0]
+    probes = metric[batch.sens]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        linear = (probes - base) / (abs(base) * SENSITIVITY_STEP)
+        # S = d ln m / d ln x. Where the metric keeps its sign, the ratio of
+        # logarithms is exact for power laws (fc = 1/(2πRC) gives −1, where the
+        # plain difference gives −1/(1 + step) = −0.999).
+        ratio = probes / base
+        logs = np.log(np.where(ratio > 0, ratio, 1.0)) / np.log1p(SENSITIVITY_STEP)
+    return np.where(ratio > 0, logs, linear)

@@ -1,0 +1,1 @@
+"""Commands: the command line and the build, check, diff and init commands."""

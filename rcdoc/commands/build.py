@@ -1,0 +1,320 @@
+"""Run a whole project: load, analyse (and draw) every stage, write the note and the summary.
+
+The library side of ``rcdoc build`` and ``rcdoc check``; the command line only
+parses options and prints. Outputs are written atomically, after everything
+that can fail has been done, so a failed build leaves existing files untouched.
+
+Speed: each stage is analysed and, for a build, drawn into its note blocks
+and (with ``jobs`` > 1) rendered into its own part of the PDF (rcdoc.note.assemble)
+as one unit of work. Units run in a pool of processes (``jobs``; 'forkserver'
+or 'spawn' start, never threads: matplotlib is not thread-safe), and each
+finished unit is filed in the build cache (rcdoc.commands.cache) under a hash of
+everything it depends on, so a rebuild redoes only the stages that changed
+and lays out only their pages, the front matter and the appendix.
+Results are gathered in stage order, so the output does not depend on
+``jobs`` or on what came from the cache.
+
+What it must not do: compute physics, draw, or format; it orchestrates.
+"""
+
+from __future__ import annotations
+
+import multiprocessing
+import os
+import sys
+import time
+from concurrent.futures import ProcessPoolExecutor
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Callable
+
+from rcdoc.analysis.analyse import StageResult, analyse_stage
+from rcdoc.commands.cache import StageCache, stage_key
+from rcdoc.errors import ProjectError
+from rcdoc.files import commit, make_temp, remove_stale_temps
+from rcdoc.input.model import Project, Stage
+from rcdoc.input.project import load_project
+
+
+@dataclass
+class Outcome:
+    project: Project
+    results: list[StageResult]
+    # Per-stage note contexts (note.stage_context), when the stages were drawn.
+    contexts: list[dict] | None = None
+    # Stages taken from the build cache, and stages analysed in this run.
+    cached: list[str] = field(default_factory=list)
+    computed: list[str] = field(default_factory=list)
+    # Per-stage rendered note parts (rcdoc.note.assemble), or None where not made yet.
+    parts: list | None = None
+    # Cache entries to file once the outputs are written (a failed build writes nothing).
+    pending: Callable[[], None] | None = None
+    # Seconds each stage analysed in this run took (its unit of work; none for cached stages).
+    seconds: dict[str, float] = field(default_factory=dict)
+
+    def commit_cache(self) -> None:
+        if self.pending is not None:
+            self.pending()
+            self.pending = None
+
+    @property
+    def status(self) -> str:
+        return "fail" if any(r.status != "pass" for r in self.results) else "pass"
+
+
+def _stage_unit(stage: Stage, project: Project, draw: bool, part_job=None):
+    """One unit of work, in this process or a worker: analyse (and draw) one stage,
+    and with ``part_job`` render its part of the note (rcdoc.note.assemble).
+
+    A ProjectError comes back as plain data: its location would not survive pickling.
+    """
+    try:
+        t0 = time.perf_counter()
+        result = analyse_stage(stage, project.analysis)
+        context = None
+        if draw:
+            from rcdoc.note.context import stage_context
+            context = stage_context(result, project)
+        part = _part_unit(context, part_job)
+        return ("ok", result, context, part, time.perf_counter() - t0)
+    except ProjectError as exc:
+        return ("error", exc.message, exc.path, exc.file)
+
+
+def _draw_unit(result, project: Project, part_job=None):
+    """Draw (and render the part of) a stage whose analysis came from the cache,
+    filed there by ``rcdoc check`` or ``diff``, which do not draw."""
+    from rcdoc.note.context import stage_context
+    context = stage_context(result, project)
+    return context, _part_unit(context, part_job)
+
+
+def _part_unit(context, part_job):
+    """A stage's part of the note, or None. Any failure here (a template
+    mistake, say) leaves the part to the final render, which reports it."""
+    if part_job is None or context is None:
+        return None
+    head, template_dirs, project_dir, epoch, key = part_job
+    try:
+        import logging
+        # As in the main process, weasyprint's messages stay in its logger
+        # (it has a NullHandler); a worker's root logger may print them.
+        logging.getLogger("weasyprint").propagate = False
+        from rcdoc.note.assemble import stage_part
+        return stage_part(head, context, template_dirs=template_dirs, project_dir=project_dir,
+                          source_date_epoch=epoch, key=key)
+    except Exception:  # noqa: BLE001 - rendered again, and reported, in write_outputs
+        return None
+
+
+def _worker_init() -> None:
+    """Workers leave Ctrl-C to the main process, which stops them (_stop_workers);
+    a worker that took the KeyboardInterrupt itself could hand back a result
+    that hides it."""
+    import signal
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+
+
+def _stop_workers(pool: ProcessPoolExecutor) -> None:
+    # ProcessPoolExecutor has no public way to end running tasks before 3.14.
+    processes = list((getattr(pool, "_processes", None) or {}).values())
+    pool.shutdown(wait=False, cancel_futures=True)
+    for p in processes:
+        p.terminate()
+
+
+def _pool_context():
+    """'forkserver' where there is one (Linux), else 'spawn': both start clean workers."""
+    methods = multiprocessing.get_all_start_methods()
+    if "forkserver" in methods and sys.platform.startswith("linux"):
+        ctx = multiprocessing.get_context("forkserver")
+        # Workers fork from a server that has imported rcdoc once, and do not
+        # re-run the parent's __main__ (the command line).
+        ctx.set_forkserver_preload(["rcdoc.commands.spawnguard", "rcdoc.commands.build", "rcdoc.note.context",
+                                    "rcdoc.note.assemble"])
+        return ctx
+    return multiprocessing.get_context("spawn")
+
+
+def _part_keys(project: Project, template_dirs, keys=None) -> list[str]:
+    """The key each stage's part of the note must carry (rcdoc.note.assemble.chunk_key)."""
+    from rcdoc.note.assemble import chunk_key
+    epoch = source_date_epoch(project)
+    project_dir = Path(project.file).resolve().parent
+    return [chunk_key(keys[i] if keys and keys[i] else stage_key(st, project),
+                      list(template_dirs), epoch, project_dir)
+            for i, st in enumerate(project.stages)]
+
+
+def analyse_project(project: Project, *, progress: Callable[[str], None] | None = None,
+                    jobs: int = 1, draw: bool = False, out_dir: Path | None = None,
+                    template_dirs=()) -> Outcome:
+    """Analyse every stage; with ``draw`` also make each stage's note blocks.
+
+    ``jobs`` > 1 runs stages in that many worker processes, which (with
+    ``draw``) also render each stage's part of the note with ``template_dirs``
+    (rcdoc.note.assemble). ``out_dir`` enables the build cache in
+    ``out_dir/.rcdoc-cache``; without ``draw`` (check, diff) only the analysis
+    half of an entry is read and filed, and a later build draws what it lacks.
+    """
+    stages = list(project.stages)
+    n = len(stages)
+    results: list = [None] * n
+    contexts: list = [None] * n
+    parts: list = [None] * n
+    cache = StageCache.for_output(out_dir, project.file) if out_dir is not None else None
+    keys = [stage_key(st, project) for st in stages] if cache is not None else [None] * n
+    todo = []
+    cached = []
+    todraw = []            # analysed (by check or diff) but not drawn yet
+    for i, st in enumerate(stages):
+        hit = cache.get(keys[i]) if cache is not None else None
+        if hit is not None:
+            results[i], contexts[i] = hit
+            parts[i] = cache.parts.get(keys[i])
+            cached.append(st.id)
+            if draw and contexts[i] is None:
+                todraw.append(i)
+        else:
+            todo.append(i)
+    original_parts = list(parts)
+    seconds: dict[str, float] = {}
+
+    def settle(i: int, answer) -> None:
+        if answer[0] == "error":
+            _, message, path, file = answer
+            raise ProjectError(message, path=path or stages[i].path, file=file).located(project.file)
+        results[i], contexts[i], parts[i] = answer[1], answer[2], answer[3]
+        seconds[stages[i].id] = answer[4]
+
+    # Stage parts of the note are rendered where there are workers to spread
+    # them over; a serial build leaves them to write_outputs (same bytes).
+    part_jobs: list = [None] * n
+    redo: list[int] = []
+    if draw and int(jobs or 1) > 1:
+        from rcdoc.note.assemble import can_assemble, project_head
+        try:
+            use_parts = can_assemble(list(template_dirs))
+        except ProjectError:
+            use_parts = False
+        if use_parts:
+            head = project_head(project)
+            pkeys = _part_keys(project, template_dirs, keys)
+            epoch = source_date_epoch(project)
+            project_dir = Path(project.file).resolve().parent
+            part_jobs = [(head, list(template_dirs), project_dir, epoch, k) for k in pkeys]
+            redo = [i for i in range(n) if i not in todo and i not in todraw
+                    and (parts[i] is None or parts[i].get("key") != pkeys[i])]
+    workers = max(1, min(int(jobs or 1), len(todo) + len(redo) + len(todraw)))
+    if workers == 1:
+        for i in todo:
+            if progress:
+                progress(stages[i].id)
+            settle(i, _stage_unit(stages[i], project, draw))
+        for i in todraw:
+            contexts[i], parts[i] = _draw_unit(results[i], project)
+    else:
+        with ProcessPoolExecutor(max_workers=workers, mp_context=_pool_context(),
+                                 initializer=_worker_init) as pool:
+            futures = {}
+            for i in todo:
+                if progress:
+                    progress(stages[i].id)
+                futures[i] = pool.submit(_stage_unit, stages[i], project, draw, part_jobs[i])
+            redone = {i: pool.submit(_part_unit, contexts[i], part_jobs[i]) for i in redo}
+            drawn = {i: pool.submit(_draw_unit, results[i], project, part_jobs[i])
+                     for i in todraw}
+            try:
+                for i in todo:              # in stage order: the first error is the first stage's
+                    settle(i, futures[i].result())
+                for i in redo:
+                    parts[i] = redone[i].result()
+                for i in todraw:
+                    contexts[i], parts[i] = drawn[i].result()
+            except BaseException as exc:
+                for f in (*futures.values(), *redone.values(), *drawn.values()):
+                    f.cancel()
+                if isinstance(exc, KeyboardInterrupt):
+                    _stop_workers(pool)      # do not wait for stages still running
+                raise
+    def file_entries():
+        for i in range(n):
+            if i in todo or i in todraw or parts[i] is not original_parts[i]:
+                cache.put(keys[i], results[i], contexts[i], parts[i])
+        if draw:       # check and diff leave the other entries to the next build
+            cache.prune()
+    pending = file_entries if cache is not None else None
+    return Outcome(project, results, contexts if draw else None, cached=cached,
+                   computed=[stages[i].id for i in todo], parts=parts if draw else None,
+                   pending=pending, seconds=seconds)
+
+
+def output_dir(project_file: str, out: str | None) -> Path:
+    return Path(out) if out else Path(project_file).parent / "build"
+
+
+def source_date_epoch(project: Project) -> int:
+    """The note's timestamp: SOURCE_DATE_EPOCH if set, else the board date at midnight UTC."""
+    import datetime as dt
+    env = os.environ.get("SOURCE_DATE_EPOCH", "").strip()
+    if env.isdigit():
+        return int(env)
+    d = dt.date.fromisoformat(project.board.date)
+    return int(dt.datetime(d.year, d.month, d.day, tzinfo=dt.timezone.utc).timestamp())
+
+
+def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
+                  extra_appendix=(), changes=None) -> tuple[Path, Path]:
+    """Render the PDF and the JSON; both land only if both could be made."""
+    from rcdoc.note.context import note_context
+    from rcdoc.note.report import render_pdf
+    from rcdoc.note.summary import summary, to_json
+    project = outcome.project
+    stem = Path(project.file).stem
+    pdf_path, json_path = out_dir / f"{stem}.pdf", out_dir / f"{stem}.json"
+    json_bytes = to_json(summary(project, outcome.results)).encode("utf-8")
+    from rcdoc.note.partslist import parts_csv
+    csv_path, csv_bytes = out_dir / f"{stem}-parts.csv", parts_csv(outcome.results)
+    if outcome.contexts is not None:
+        context = note_context(project, outcome.results, extra_appendix=extra_appendix,
+                               stage_contexts=outcome.contexts, changes=changes)
+    else:
+        context = note_context(project, outcome.results, extra_appendix=extra_appendix,
+                               changes=changes)
+    made = [d for d in (out_dir, *out_dir.parents) if not d.exists()]
+    out_dir.mkdir(parents=True, exist_ok=True)
+    remove_stale_temps(out_dir)          # left by a build that was killed
+    tmp_path = make_temp(out_dir, pdf_path.name)
+    json_tmp = make_temp(out_dir, json_path.name)
+    csv_tmp = make_temp(out_dir, csv_path.name)
+    done = False
+    try:
+        used = render_pdf(context, tmp_path, template_dirs=list(template_dirs),
+                          project_dir=Path(project.file).resolve().parent,
+                          source_date_epoch=source_date_epoch(project),
+                          stage_parts=outcome.parts,
+                          stage_keys=(_part_keys(project, template_dirs)
+                                      if outcome.contexts is not None else None))
+        if used is not None and outcome.parts is not None:
+            outcome.parts[:] = used     # filed in the cache by commit_cache below
+        json_tmp.write_bytes(json_bytes)
+        json_tmp.chmod(tmp_path.stat().st_mode)   # as readable as the note
+        csv_tmp.write_bytes(csv_bytes)
+        csv_tmp.chmod(tmp_path.stat().st_mode)
+        commit([(json_tmp, json_path), (csv_tmp, csv_path), (tmp_path, pdf_path)])
+        outcome.commit_cache()
+        done = True
+    finally:
+        for t in (tmp_path, json_tmp, csv_tmp):
+            if t.exists():
+                t.unlink()
+        if not done:            # leave no folder this failed build created
+            for d in made:
+                if d.is_dir() and not any(d.iterdir()):
+                    d.rmdir()
+    return pdf_path, json_path
+
+
+def load_all(files: list[str], *, samples=None, seed=None) -> list[Project]:
+    """Validate every file before anything runs: one bad file stops the whole command."""
+    return [load_project(f, samples=samples, seed=seed) for f in files]

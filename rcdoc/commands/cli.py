@@ -1,0 +1,322 @@
+"""The command line: ``rcdoc build``, ``rcdoc check`` (and the other commands).
+
+Thin: parses options, calls the library, prints. A ProjectError becomes one
+line on stderr and exit status 2; a failed check, exit status 1.
+"""
+
+from __future__ import annotations
+
+import argparse
+import math
+import os
+import sys
+from pathlib import Path
+
+from rcdoc import __version__
+from rcdoc.errors import ProjectError
+
+EXIT_OK, EXIT_FAIL, EXIT_INPUT = 0, 1, 2
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message):          # usage mistakes are input mistakes: exit 2
+        self.print_usage(sys.stderr)
+        print(f"rcdoc: error: {message}", file=sys.stderr)
+        raise SystemExit(EXIT_INPUT)
+
+
+def _positive_int(text: str) -> int:
+    try:
+        v = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"'{text}' is not a whole number")
+    if v < 0:
+        raise argparse.ArgumentTypeError("must not be negative")
+    return v
+
+
+def make_parser() -> argparse.ArgumentParser:
+    p = _Parser(prog="rcdoc", description="Design notes for the RC networks on a board.")
+    p.add_argument("--version", action="version", version=f"rcdoc {__version__}")
+    sub = p.add_subparsers(dest="command", required=True, parser_class=_Parser)
+
+    def common(sp):
+        sp.add_argument("files", nargs="+", metavar="FILE", help="project files (TOML)")
+        sp.add_argument("--samples", type=_positive_int, help="Monte Carlo samples per stage")
+        sp.add_argument("--seed", type=_positive_int, help="random seed")
+        sp.add_argument("--quiet", action="store_true", help="print nothing but errors")
+        sp.add_argument("--jobs", type=_positive_int, default=None,
+                        help="parallel processes (default: the machine's cores)")
+
+    b = sub.add_parser("build", help="analyse and write the PDF note and JSON summary")
+    common(b)
+    b.add_argument("-o", "--output", metavar="DIR", help="output folder (default: build/ "
+                   "beside each project file)")
+    b.add_argument("--templates", metavar="DIR", help="folder of templates that override "
+                   "the shipped ones")
+    b.add_argument("--since", metavar="REV", help="add a 'changes since REV' section: the "
+                   "same file at git revision REV, compared")
+    c = sub.add_parser("check", help="analyse and judge the checks; no PDF")
+    common(c)
+    c.add_argument("--junit", metavar="FILE", help="write a JUnit XML report")
+    c.add_argument("--json", metavar="PATH", help="write the JSON summary (with several "
+                   "project files: a folder, one <stem>.json each)")
+    c.add_argument("--annotations", action="store_true", help="print one CI annotation "
+                   "line (::error file=...,line=...) per failed check on stdout")
+    c.add_argument("-o", "--output", metavar="DIR", help="the build's output folder, whose "
+                   "analysis cache is read and filled (default: build/ beside each file)")
+    d = sub.add_parser("diff", help="what changed between two revisions of a project")
+    d.add_argument("old", metavar="OLD", help="project file, or git:REV for NEW at a git revision")
+    d.add_argument("new", metavar="NEW", help="project file")
+    d.add_argument("--samples", type=_positive_int, help="Monte Carlo samples per stage")
+    d.add_argument("--seed", type=_positive_int, help="random seed")
+    d.add_argument("--jobs", type=_positive_int, default=None,
+                   help="parallel processes (default: the machine's cores)")
+    d.add_argument("--json", metavar="FILE", help="write the comparison as JSON")
+    d.add_argument("--fail-on", choices=["regression"], default=None,
+                   help="exit 1 when a check went from pass to fail, a yield fell or a "
+                   "stage became unstable")
+    d.add_argument("-o", "--output", metavar="DIR", help="the build's output folder, whose "
+                   "analysis cache is read and filled (default: build/ beside each file)")
+    i = sub.add_parser("init", help="write a commented starting project file")
+    i.add_argument("file", metavar="FILE", nargs="?", default=None,
+                   help="file to create (default: project.toml); never overwritten")
+    return p
+
+
+def _console(quiet: bool):
+    if quiet:
+        return None
+    from rich.console import Console
+    return Console(stderr=True)
+
+
+def _progress_for(console, label: str):
+    if console is None:
+        return None
+
+    def report(stage_id: str):
+        console.print(f"[dim]{rich_escape(label)}[/dim] analysing {stage_id}", highlight=False)
+    return report if console.is_terminal else None
+
+
+def _jobs(args) -> int:
+    """--jobs, defaulting to the machine's cores."""
+    return args.jobs or os.cpu_count() or 1
+
+
+def cmd_build(args) -> int:
+    from rcdoc.commands.build import analyse_project, load_all, output_dir, write_outputs
+    template_dirs = []
+    if args.templates:
+        tdir = Path(args.templates)
+        if not tdir.exists():
+            raise ProjectError(f"the templates folder '{tdir}' does not exist", path="--templates")
+        if not tdir.is_dir():
+            raise ProjectError(f"'{tdir}' is not a folder of templates", path="--templates")
+        _check_template_syntax(tdir)
+        template_dirs.append(tdir)
+    if args.output and Path(args.output).exists() and not Path(args.output).is_dir():
+        # Refused before any work, so the file named is left as it was.
+        raise ProjectError("the output folder given with -o is a file, not a folder",
+                           file=str(args.output))
+    projects = load_all(args.files, samples=args.samples, seed=args.seed)
+    _check_distinct_outputs(projects, args.output)
+    olds = []
+    if args.since:               # read every old revision before anything is written
+        from rcdoc.commands.diff import read_at_revision
+        from rcdoc.commands.since import resolve_commit
+        commits = [resolve_commit(p.file, args.since) for p in projects]
+        olds = [read_at_revision(p.file, args.since, samples=args.samples, seed=args.seed)
+                for p in projects]
+    console = _console(args.quiet)
+    worst = EXIT_OK
+    for k, project in enumerate(projects):
+        out_dir = output_dir(project.file, args.output)
+        # Stages are analysed and drawn together (in --jobs processes), cached in out_dir.
+        outcome = analyse_project(project, progress=_progress_for(console, project.file),
+                                  jobs=_jobs(args),
+                                  draw=True, out_dir=out_dir, template_dirs=template_dirs)
+        extra = []
+        changes = None           # right after the summary, named on the cover
+        if args.since:
+            from rcdoc.commands.diff import compare
+            from rcdoc.commands.since import changes_section
+            old = analyse_project(olds[k], progress=_progress_for(console, olds[k].file),
+                                  jobs=_jobs(args))
+            changes = changes_section(compare(olds[k], old.results, project, outcome.results,
+                                              old_label=f"git:{commits[k].short}"), commits[k])
+        try:
+            pdf, js = write_outputs(outcome, out_dir, template_dirs=template_dirs,
+                                    extra_appendix=extra, changes=changes)
+        except OSError as exc:     # e.g. no permission: one line, not a traceback
+            raise ProjectError(f"cannot write the note: {exc.strerror or exc}",
+                               file=str(exc.filename or out_dir)) from exc
+        if console is not None:
+            _print_table(console, outcome)
+            console.print(f"wrote {pdf} and {js}", highlight=False, markup=False)
+        if outcome.status != "pass":
+            worst = EXIT_FAIL
+    return worst
+
+
+def _check_distinct_outputs(projects, output) -> None:
+    """Two files that would write the same note (same stem, same -o) are an input
+    error before anything is written: one would overwrite the other and they
+    would share one build cache."""
+    from rcdoc.commands.build import output_dir
+    seen: dict[Path, str] = {}
+    for p in projects:
+        target = (output_dir(p.file, output) / f"{Path(p.file).stem}.pdf").resolve()
+        if target in seen:
+            raise ProjectError(f"writes the same note as '{seen[target]}' ({target}); give "
+                               "the files different names or build them into different "
+                               "folders (-o)", file=p.file)
+        seen[target] = p.file
+
+
+def cmd_check(args) -> int:
+    from rcdoc.commands.build import analyse_project, load_all, output_dir
+    from rcdoc.files import write_atomic
+    from rcdoc.note.summary import junit
+    projects = load_all(args.files, samples=args.samples, seed=args.seed)
+    if args.json:                # where each summary goes, settled before any analysis
+        from rcdoc.note.machine import json_targets
+        json_paths = json_targets(args.json, [p.file for p in projects])
+    console = _console(args.quiet)
+    outcomes = []
+    for project in projects:
+        # The analysis half of build's cache: a check after a build analyses nothing.
+        outcome = analyse_project(project, progress=_progress_for(console, project.file),
+                                  jobs=_jobs(args), out_dir=output_dir(project.file, args.output))
+        outcomes.append(outcome)
+        if console is not None:
+            _print_table(console, outcome)
+    if args.junit:
+        try:
+            write_atomic(Path(args.junit),
+                         junit([(o.project, o.results) for o in outcomes],
+                               [o.seconds for o in outcomes]).encode("utf-8"))
+        except OSError as exc:     # e.g. a folder that cannot be written: one line, exit 2
+            raise ProjectError(f"cannot write the JUnit report: {exc.strerror or exc}",
+                               path="--junit", file=str(args.junit)) from exc
+    if args.json:
+        from rcdoc.commands.regression import write_json
+        from rcdoc.note.summary import summary
+        for o, path in zip(outcomes, json_paths):
+            write_json(str(path), summary(o.project, o.results))
+    if args.annotations:
+        from rcdoc.note.machine import annotation_lines
+        from rcdoc.input.positions import project_lines
+        for o in outcomes:
+            for line in annotation_lines(o.project, o.results, project_lines(o.project)):
+                print(line)
+    for o in outcomes:
+        o.commit_cache()
+    return EXIT_FAIL if any(o.status != "pass" for o in outcomes) else EXIT_OK
+
+
+def _print_table(console, outcome) -> None:
+    from rich.table import Table
+
+    from rcdoc.note.context import limit_text, metric_label
+    from rcdoc.input.quantities import format_quantity
+    from rcdoc.analysis.metrics import METRICS
+    # The board's name and revision are the user's text: escape rich's [markup].
+    t = Table(title=rich_escape(f"{outcome.project.board.name} rev "
+                                f"{outcome.project.board.revision}: {outcome.status.upper()}"),
+              title_justify="left")
+    for col in ("stage", "check", "limit", "worst", "yield", "verdict"):
+        t.add_column(col)
+    for r in outcome.results:
+        unstable = r.samples_unstable
+        if r.reason or unstable:
+            # Stability is judged before any check: an unstable nominal fails the stage.
+            t.add_row(r.stage.id, "stability", "Re(pole) < 0",
+                      "unstable" if r.reason else f"{unstable} samples unstable",
+                      f"{(1 - unstable / max(r.samples, 1)) * 100:.2f} %",
+                      "[bold red]fail[/bold red]" if r.reason else "")
+        if not (r.verdicts or r.ratings):
+            t.add_row(r.stage.id, "(no checks)", "", "", "", r.status)
+        for v in r.verdicts + r.ratings:
+            unit = METRICS[v.metric].unit
+            name = metric_label(v.metric, v.at_hz, v.detail) + (f" {v.part}" if v.part else "")
+            worst = format_quantity(v.worst, unit) if math.isfinite(v.worst) else "not found"
+            style = "green" if v.status == "pass" else "bold red"
+            t.add_row(r.stage.id, name, limit_text(v, unit), worst,
+                      f"{v.yield_ * 100:.2f} %", f"[{style}]{v.status}[/{style}]")
+    console.print(t)
+
+
+def cmd_diff(args) -> int:
+    from rich.console import Console
+
+    from rcdoc.commands.diff import render_rich
+    from rcdoc.commands.regression import diff_json, run_diff, write_json
+    d, regs = run_diff(args.old, args.new, samples=args.samples, seed=args.seed,
+                       jobs=_jobs(args), output=args.output)
+    render_rich(d, Console())
+    if args.json:
+        write_json(args.json, diff_json(d, regs))
+    if args.fail_on == "regression" and regs:
+        print(f"rcdoc: {len(regs)} regression{'' if len(regs) == 1 else 's'}", file=sys.stderr)
+        return EXIT_FAIL
+    return EXIT_OK
+
+
+def cmd_init(args) -> int:
+    from rcdoc.commands.init import write_starter
+    path = write_starter(args.file)
+    print(f"wrote {path}; edit it, then run: rcdoc build {path}")
+    return EXIT_OK
+
+
+def rich_escape(text: str) -> str:
+    from rich.markup import escape
+    return escape(text)
+
+
+def one_line(text: str) -> str:
+    """The message on one line: control characters (newlines, terminal escapes
+    that a key or value in the file may hold) written as escapes."""
+    return "".join(ch if ch.isprintable() or ch == " " else ascii(ch)[1:-1] for ch in text)
+
+
+def _check_template_syntax(folder: Path) -> None:
+    """Parse every template in a --templates folder before any work is done,
+    so a syntax mistake costs no analysis and names its file and line."""
+    import jinja2
+    env = jinja2.Environment()
+    for path in sorted(folder.iterdir()):
+        if path.suffix not in (".html", ".css") or not path.is_file():
+            continue
+        try:
+            env.parse(path.read_text(encoding="utf-8"), name=path.name, filename=str(path))
+        except UnicodeDecodeError:
+            raise ProjectError("the template is not UTF-8 text", file=str(path)) from None
+        except OSError as exc:
+            raise ProjectError(f"cannot read the template: {exc.strerror}",
+                               file=str(path)) from None
+        except jinja2.TemplateSyntaxError as exc:
+            raise ProjectError(f"line {exc.lineno}: {exc.message}", file=str(path)) from None
+
+
+COMMANDS = {"build": cmd_build, "check": cmd_check, "diff": cmd_diff, "init": cmd_init}
+
+
+def main(argv: list[str] | None = None) -> int:
+    from rcdoc.files import interrupts
+    args = make_parser().parse_args(argv)
+    try:
+        with interrupts():      # Ctrl-C at any moment: status 130, no output replaced
+            return COMMANDS[args.command](args)
+    except ProjectError as exc:
+        print(f"rcdoc: error: {one_line(str(exc))}", file=sys.stderr)
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        print("rcdoc: interrupted; nothing was written", file=sys.stderr)
+        return 130
+
+
+def entry() -> None:
+    raise SystemExit(main())

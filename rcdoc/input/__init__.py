@@ -1,0 +1,1 @@
+"""Input layer: quantities, the project loader, part models, bill of materials, preferred values."""

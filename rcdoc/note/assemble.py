@@ -1,0 +1,312 @@
+"""The note in parts: render each part with weasyprint, put the parts together with pypdf.
+
+What it is for: a rebuild after one value change should not lay out the whole
+note again. The note is rendered as separate documents ("parts"): the front
+matter (cover and summary), one part per stage, and the appendix. A stage's
+part depends only on that stage (and the board, templates, date, versions),
+so it is rendered in the worker that analyses and draws the stage and filed
+in the build cache with it (rcdoc.commands.build, rcdoc.commands.cache). ``assemble`` then
+concatenates the parts' pages and adds what spans the whole note:
+
+- "page x of y": the parts are rendered with that footer box empty; one more
+  document of N empty pages (note.html, part "numbers", same CSS) holds only
+  the page numbers, and each of its pages is laid over the matching page as
+  a form XObject (ISO 32000-1 §8.10), so the text stays extractable;
+- the outline: each part's bookmark tree, in order (ISO 32000-1 §12.3.3);
+- the links of the front matter to each stage's first page (§12.5.6.5);
+- the document information dictionary of the front part (title, author,
+  subject, creator, dates) and the fixed /ID of report.pdf_identifier.
+
+Parts are used only when note.html is the shipped one or an identical copy
+(it knows the parts); an own note.html is rendered as one document
+(report.render_pdf).
+
+What it must not do: build contexts, decide what goes in the note, or write
+files; it turns contexts into PDF bytes.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import io
+import os
+from collections.abc import Mapping, Sequence
+from pathlib import Path
+
+import pypdf
+import weasyprint
+from pypdf.annotations import Link
+from pypdf.generic import (
+    ArrayObject, DecodedStreamObject, DictionaryObject, FloatObject, NameObject,
+    TextStringObject,
+)
+
+from rcdoc.note import report
+
+__all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "render_part",
+           "stage_part", "assemble", "render_note", "project_head"]
+
+# Bump when what a part holds changes.
+_PART_FORMAT = "rcdoc-note-part-1"
+
+
+def can_assemble(template_dirs: Sequence[Path] = ()) -> bool:
+    """True when the note.html in use is the shipped one, or a byte-identical
+    copy (README: an override with assets of its own carries a copy); only
+    that file knows how to render the parts."""
+    search = report._search_path(template_dirs)
+    first = next(d for d in search if (d / report._TEMPLATE_NAME).is_file())
+    shipped = report.shipped_templates_dir()
+    if first == shipped:
+        return True
+    used = first / report._TEMPLATE_NAME
+    if not used.resolve().is_relative_to(first):     # a link leading out: not read here
+        return False
+    try:
+        return used.read_bytes() == (shipped / report._TEMPLATE_NAME).read_bytes()
+    except OSError:
+        return False
+
+
+def templates_fingerprint(template_dirs: Sequence[Path] = ()) -> str:
+    """Hash of every file in the template folders in use (names and bytes, in order)."""
+    h = hashlib.sha256()
+    for d in report._search_path(template_dirs):
+        h.update(str(d).encode() + b"\0")
+        files = []
+        for top, dirs, names in os.walk(d):       # links to folders are not followed
+            dirs.sort()
+            files += [Path(top) / name for name in names]
+        for path in sorted(files):
+            h.update(path.relative_to(d).as_posix().encode() + b"\0")
+            # Read only what the renderer may read: regular files that really
+            # lie inside the folder (a link leading out is hashed by name only).
+            real = path.resolve()
+            if real.is_relative_to(d) and real.is_file():
+                try:
+                    h.update(real.read_bytes() + b"\0")
+                except OSError:
+                    h.update(b"?\0")
+            else:
+                h.update(b"-\0")
+    return h.hexdigest()
+
+
+def chunk_key(stage_key: str, template_dirs: Sequence[Path], epoch: int | None,
+              project_dir: Path | None) -> str:
+    """The key of a stage's part: its stage key (stage, analysis, board, rcdoc's
+    code) plus the templates, the date that goes into the fonts, the project
+    folder (files a template may read) and the renderer's versions."""
+    from importlib.metadata import version
+    versions = []
+    for name in ("weasyprint", "pydyf", "fonttools", "pypdf"):
+        try:
+            versions.append(f"{name}={version(name)}")
+        except Exception:  # noqa: BLE001 - a missing library is part of the key too
+            versions.append(f"{name}=?")
+    text = "\0".join([_PART_FORMAT, stage_key, templates_fingerprint(template_dirs),
+                      str(epoch), str(Path(project_dir).resolve()) if project_dir else "",
+                      *versions])
+    return hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
+def _fetcher(template_dirs, project_dir):
+    search = report._search_path(template_dirs)
+    allowed = list(search) + ([Path(project_dir)] if project_dir is not None else [])
+    return report.make_url_fetcher(allowed)
+
+
+def _bookmarks(tree) -> list:
+    return [(str(label), (int(page), float(x), float(y)), _bookmarks(children), state)
+            for label, (page, x, y), children, state in tree]
+
+
+def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = (),
+                fetcher=None, project_dir: Path | None = None,
+                source_date_epoch: int | None = None, key: str | None = None,
+                page_count: int = 0, image_cache: dict | None = None) -> dict:
+    """One part of the note as a plain dict: ``pdf`` (bytes), ``pages``,
+    ``bookmarks`` (weasyprint's tree in PDF points), ``anchors`` (name ->
+    (page, x, y)), ``links`` (internal links: (page, target, rect)) and ``key``.
+
+    Internal links are taken out of the part's PDF (their targets are in other
+    parts) and recorded in ``links``; assemble() puts them back.
+    """
+    if fetcher is None:
+        fetcher = _fetcher(template_dirs, project_dir)
+    ctx = {**context, "part": part}
+    if part == "numbers":
+        ctx["page_count"] = page_count
+    html = report.render_html(ctx, template_dirs=template_dirs,
+                              source_date_epoch=source_date_epoch)
+    search = report._search_path(template_dirs)
+    base = next(d for d in search if (d / report._TEMPLATE_NAME).is_file())
+    document = weasyprint.HTML(string=html, base_url=str(base) + os.sep,
+                               url_fetcher=fetcher).render(
+        cache=report.cache if image_cache is None else image_cache)
+    scale = 0.75  # CSS px -> PDF pt, as weasyprint writes them (zoom 1)
+    links, anchors = [], {}
+    for i, page in enumerate(document.pages):
+        height = page.height * scale
+        kept = []
+        for link in page.links:
+            kind, target, rect, _box = link
+            if kind == "internal":
+                x1, y1, x2, y2 = rect
+                links.append((i, str(target), (x1 * scale, height - y2 * scale,
+                                               x2 * scale, height - y1 * scale)))
+            else:
+                kept.append(link)
+        page.links = kept
+        for name, (x, y, _w, _h) in page.anchors.items():
+            anchors.setdefault(str(name), (i, x * scale, height - y * scale))
+    bookmarks = _bookmarks(document.make_bookmark_tree(scale=scale, transform_pages=True))
+    with report._font_timestamp(source_date_epoch or 0):
+        pdf = document.write_pdf()
+    return {"key": key, "pdf": pdf, "pages": len(document.pages), "bookmarks": bookmarks,
+            "anchors": anchors, "links": links}
+
+
+def _head(context: Mapping) -> dict:
+    """What a stage's part shows besides the stage: the board and the generator.
+    Status and stage count (front matter and metadata only) are left out, so a
+    part does not change when another stage does."""
+    return {"title": context.get("title", ""), "generator": context.get("generator", ""),
+            "board": context.get("board", {}), "status": "pass", "analysis": [],
+            "summary": {}, "overview_image": None, "appendix": []}
+
+
+def stage_part(head: Mapping, stage_context: Mapping, *, template_dirs=(), project_dir=None,
+               source_date_epoch=None, key=None, fetcher=None) -> dict:
+    """A stage's part: the stage on its own, under the note's header and footer."""
+    ctx = {**_head(head), "stages": [stage_context]}
+    # A stage's figures appear in no other part: an image cache of its own
+    # keeps a worker from holding every figure it ever rendered.
+    return render_part(ctx, "stage", template_dirs=template_dirs, project_dir=project_dir,
+                       source_date_epoch=source_date_epoch, key=key, fetcher=fetcher,
+                       image_cache={})
+
+
+def _overlay(writer: pypdf.PdfWriter, page, over, name: str) -> None:
+    """Lay page ``over`` (of another document) on ``page`` as a form XObject."""
+    form = DecodedStreamObject()
+    form.set_data(over.get_contents().get_data() if over.get_contents() is not None else b"")
+    form[NameObject("/Type")] = NameObject("/XObject")
+    form[NameObject("/Subtype")] = NameObject("/Form")
+    form[NameObject("/BBox")] = ArrayObject([FloatObject(v) for v in over.mediabox])
+    if "/Resources" in over:
+        form[NameObject("/Resources")] = over["/Resources"].get_object().clone(writer)
+    form_ref = writer._add_object(form)
+    resources = page["/Resources"].get_object() if "/Resources" in page else None
+    if resources is None:
+        resources = DictionaryObject()
+        page[NameObject("/Resources")] = resources
+    xobjects = resources.get("/XObject")
+    if xobjects is None:
+        xobjects = DictionaryObject()
+        resources[NameObject("/XObject")] = xobjects
+    xobjects.get_object()[NameObject(name)] = form_ref
+    head, tail = DecodedStreamObject(), DecodedStreamObject()
+    head.set_data(b"q\n")
+    tail.set_data(b"\nQ\nq " + name.encode() + b" Do Q\n")
+    contents = page.get("/Contents")
+    if contents is None:
+        parts = []
+    else:
+        obj = contents.get_object()
+        parts = list(obj) if isinstance(obj, ArrayObject) else [contents]
+    page[NameObject("/Contents")] = ArrayObject(
+        [writer._add_object(head), *parts, writer._add_object(tail)])
+
+
+def assemble(parts: Sequence[dict], numbers: dict | None, *, info: Mapping | None,
+             pdf_id: bytes, lang: str | None = None) -> bytes:
+    """The note's PDF from its parts (in order) and the page-number overlay."""
+    writer = pypdf.PdfWriter()
+    offsets, anchors = [], {}
+    for part in parts:
+        offsets.append(len(writer.pages))
+        reader = pypdf.PdfReader(io.BytesIO(part["pdf"]))
+        for page in reader.pages:
+            writer.add_page(page)
+        for name, (i, x, y) in part["anchors"].items():
+            anchors.setdefault(name, (offsets[-1] + i, x, y))
+    total = len(writer.pages)
+    if numbers is not None:
+        over = pypdf.PdfReader(io.BytesIO(numbers["pdf"]))
+        for i in range(min(total, len(over.pages))):
+            # Unique names: the pages of one part share one resource dictionary.
+            _overlay(writer, writer.pages[i], over.pages[i], f"/RcPageNumber{i + 1}")
+
+    def add_tree(tree, offset, parent):
+        for label, (i, x, y), children, state in tree:
+            item = writer.add_outline_item(
+                label, offset + i, parent=parent, is_open=state != "closed",
+                fit=pypdf.generic.Fit.xyz(left=x, top=y, zoom=0))
+            add_tree(children, offset, item)
+    for part, offset in zip(parts, offsets):
+        add_tree(part["bookmarks"], offset, None)
+        for i, target, rect in part["links"]:
+            if target not in anchors:
+                continue
+            page_i, x, y = anchors[target]
+            writer.add_annotation(offset + i, Link(
+                rect=rect, border=[0, 0, 0], target_page_index=page_i,
+                fit=pypdf.generic.Fit.xyz(left=x, top=y, zoom=0)))
+    if info:
+        writer.add_metadata({k: v for k, v in info.items()})
+    if lang:
+        writer._root_object[NameObject("/Lang")] = TextStringObject(lang)
+    pid = TextStringObject(pdf_id.decode("ascii"))
+    writer._ID = ArrayObject([pid, TextStringObject(pdf_id.decode("ascii"))])
+    out = io.BytesIO()
+    writer.write(out)
+    return out.getvalue()
+
+
+def render_note(context: Mapping, *, template_dirs: Sequence[Path] = (),
+                project_dir: Path | None = None, source_date_epoch: int | None = None,
+                stage_parts: Sequence[dict | None] | None = None,
+                stage_keys: Sequence[str | None] | None = None) -> tuple[bytes, list]:
+    """The whole note as PDF bytes, from parts. ``stage_parts`` (one per stage,
+    or None where a part is missing) are used where their key equals the one in
+    ``stage_keys``; the others are rendered here. Returns the bytes and the
+    stage parts used (to be cached)."""
+    stages = list(context.get("stages") or [])
+    fetcher = _fetcher(template_dirs, project_dir)   # one fetcher for this render
+    kw = dict(template_dirs=template_dirs, project_dir=project_dir,
+              source_date_epoch=source_date_epoch, fetcher=fetcher)
+    used = []
+    for i, stage in enumerate(stages):
+        want = stage_keys[i] if stage_keys is not None else None
+        have = stage_parts[i] if stage_parts is not None else None
+        if have is None or want is None or have.get("key") != want:
+            have = stage_part(context, stage, key=want, **kw)
+        used.append(have)
+    front = render_part(context, "front", **kw)
+    parts = [front, *used]
+    if context.get("appendix"):
+        parts.append(render_part({**_head(context), "appendix": context["appendix"],
+                                  "stages": []}, "appendix", **kw))
+    total = sum(p["pages"] for p in parts)
+    numbers = render_part({**_head(context), "stages": []}, "numbers", page_count=total, **kw)
+    reader = pypdf.PdfReader(io.BytesIO(front["pdf"]))
+    info = {k: v for k, v in (reader.metadata or {}).items()}
+    lang = reader.trailer["/Root"].get("/Lang")
+    board = context.get("board") or {}
+    pdf_id = report.pdf_identifier(str(board.get("name", "")), str(board.get("revision", "")))
+    return assemble(parts, numbers, info=info, pdf_id=pdf_id,
+                    lang=str(lang) if lang is not None else None), used
+
+
+def project_head(project) -> dict:
+    """The part of note.note_context a stage's part shows (title, generator, board),
+    made from the project alone so that workers can render stage parts."""
+    from rcdoc import __version__
+    from rcdoc.input.project import paragraphs
+    b = project.board
+    return {"title": f"Design note: {b.name} rev {b.revision}",
+            "generator": f"rcdoc {__version__}",
+            "board": {"name": b.name, "revision": b.revision, "date": b.date,
+                      "authors": list(b.authors),
+                      "notes": list(paragraphs(b.notes)) if b.notes else []}}
