@@ -233,7 +233,7 @@ class Evaluator:
     @cached_property
     def network_unsourced(self) -> Network:
         """The network as seen at the stage's input, without the source impedance."""
-        from rcdoc.kinds.base import SOURCE_L, SOURCE_R, core_input
+        from rcdoc.analysis.surroundings import SOURCE_L, SOURCE_R, core_input
         els = tuple(e for e in self.network.elements if e.name not in (SOURCE_R, SOURCE_L))
         return Network(elements=els, drive=core_input(self.network), output=self.network.output,
                        opamps=self.network.opamps, path=self.network.path)
