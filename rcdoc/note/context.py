@@ -440,7 +440,9 @@ def _analysis_sentences(r: StageResult, project: Project):
 def summary_rows(results: list[StageResult]) -> list[dict]:
     rows = []
     for r in results:
-        key = next((m for m in r.metrics if m.name in ("corner", "f0", "corner_low")), None)
+        # The kind's own one-line summary, else the first frequency of its headline.
+        key = None if "summary" in r.extra else next((m for m in r.metrics if m.name in KINDS[
+            r.stage.kind].HEADLINE and METRICS[m.name].unit == "Hz"), None)
         if key is not None:
             unit = METRICS[key.name].unit
             s = key.samples[np.isfinite(key.samples)]
