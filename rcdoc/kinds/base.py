@@ -26,9 +26,16 @@ FREQUENCY_METRICS = ("corner", "passband_gain", "gain", "phase", "group_delay",
 
 
 class KindModule(Protocol):
-    NAME: str
+    """The interface every kind module provides; rcdoc.kinds.register checks it."""
+
+    NAME: str                         # the `kind` string of a stage
+    TITLE: str                        # as the note and the summary show the kind
+    ROLES: tuple[str, ...]            # part roles taken (empty: the stage names them)
     OPTIONS: tuple[str, ...]          # the kind's own stage keys
-    PASSBAND: str                     # "low", "high" or "band": where the passband gain is read
+    # "low", "high", "band" or "band-stop" (or a function of the stage): where the
+    # passband gain is read (DC, high frequency, the peak, DC).
+    PASSBAND: Any
+    HEADLINE: tuple[str, ...]         # metrics reported first, in order (metric registry names)
 
     def parse_options(self, table: dict, path: str) -> dict[str, Any]: ...
     def check_roles(self, parts: dict[str, Part], options: dict, path: str) -> None: ...
