@@ -49,7 +49,8 @@ class StageAlternatives:
     rows: tuple[Alternative, ...]
 
 
-def _requests(r: StageResult, headline: tuple[str, ...]) -> list[tuple[str, float | None, Check | None]]:
+def _requests(r: StageResult,
+              headline: tuple[str, ...]) -> list[tuple[str, float | None, Check | None]]:
     """The stage's checked metrics (or its kind's headline metrics if it has no checks)."""
     out, seen = [], set()
     for c in r.stage.checks:
