@@ -71,7 +71,7 @@ def board(kinds: list[str], samples: int) -> str:
 CHILD = textwrap.dedent("""
     import json, resource, sys, time
     t0 = time.perf_counter()
-    from rcdoc.input.project import load_project
+    from rcdoc.kinds import load_project
     from rcdoc.commands.build import analyse_project, write_outputs
     file, pdf, out = sys.argv[1], sys.argv[2] == "1", sys.argv[3]
     base_kb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss

@@ -55,9 +55,10 @@ import scipy.signal as sg
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
 from rcdoc.analysis import spread  # noqa: E402
-from rcdoc.analysis.analyse import CHUNK_ROWS, kind_of, passband_of, _char_from_poles  # noqa: E402
+from rcdoc.analysis.analyse import CHUNK_ROWS, passband_of, _char_from_poles  # noqa: E402
+from rcdoc.kinds import kind_of  # noqa: E402
 from rcdoc.analysis.evaluate import DB3, Evaluator, sweep_for  # noqa: E402
-from rcdoc.input.project import load_project  # noqa: E402
+from rcdoc.kinds import load_project  # noqa: E402
 
 SETTLE_BITS = 12
 
@@ -163,7 +164,7 @@ def vectorised(stage, analysis, values: dict[str, np.ndarray], keep: int):
     Step waveforms are kept for the first ``keep`` rows only (the ones the loop checks)."""
     kind = kind_of(stage)
     network = kind.build(stage)
-    passband = passband_of(stage)
+    passband = passband_of(stage, kind)
     char_hz = kind.characteristic_hz(stage)
     if char_hz is None:
         nominal = {k: v[:1] for k, v in values.items()}

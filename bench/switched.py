@@ -31,10 +31,10 @@ from rcdoc.analysis import engine
 from rcdoc.analysis import sampled
 
 from rcdoc.analysis import spread  # noqa: E402
-from rcdoc.analysis.analyse import kind_of  # noqa: E402
+from rcdoc.kinds import kind_of  # noqa: E402
 from rcdoc.analysis.evaluate import sweep_for  # noqa: E402
 from rcdoc.kinds.sampled_input import params_for  # noqa: E402
-from rcdoc.input.project import load_project  # noqa: E402
+from rcdoc.kinds import load_project  # noqa: E402
 
 PROJECT = """\
 [board]

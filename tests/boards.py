@@ -4,8 +4,8 @@ through the real loader (so every test also exercises loading)."""
 import textwrap
 from pathlib import Path
 
-from rcdoc.analysis.analyse import analyse_stage
-from rcdoc.input.project import load_project
+from rcdoc.kinds import analyse_stage
+from rcdoc.kinds import load_project
 
 
 def load(tmp_path: Path, stages: str, analysis: str = "samples = 200", name: str = "p",

@@ -7,10 +7,13 @@ import math
 
 import pytest
 
-from rcdoc.analysis.alternatives import alternatives_block, stage_alternatives
-from rcdoc.analysis.analyse import analyse_stage
+from rcdoc.analysis.alternatives import stage_alternatives
+from rcdoc.kinds import KINDS
+from rcdoc.note.alternatives import alternatives_block
+from rcdoc.note.context import fq, metric_label
+from rcdoc.kinds import analyse_stage
 from rcdoc.note.context import stage_context
-from rcdoc.input.project import load_project
+from rcdoc.kinds import load_project
 
 BOARD = """
 [board]
@@ -58,7 +61,7 @@ def rc_gain_db(r, c, f):
 
 def test_non_preferred_resistor_gets_e24_neighbours_and_their_metrics(tmp_path):
     p, r = analysed(tmp_path, LOWPASS.format(r="4.87k", tol="5%"))
-    alt = stage_alternatives(r, p.analysis)
+    alt = stage_alternatives(r, p.analysis, KINDS[r.stage.kind])
     assert [m[0] for m in alt.metrics] == ["corner", "gain"]
     rows = {a.step: a for a in alt.rows}
     # IEC 60063 E24 (5 %): ... 4.3, 4.7, 5.1 ...; 4.87 lies between 4.7 and 5.1.
@@ -75,7 +78,7 @@ def test_non_preferred_resistor_gets_e24_neighbours_and_their_metrics(tmp_path):
 
 def test_block_lists_design_and_neighbours(tmp_path):
     p, r = analysed(tmp_path, LOWPASS.format(r="4.87k", tol="5%"))
-    block = alternatives_block(r, p.analysis)
+    block = alternatives_block(r, p.analysis, fq, metric_label)
     assert block["type"] == "table" and len(block["rows"]) == 3
     assert [row[2] for row in block["rows"]] == ["as designed", "E24 below", "E24 above"]
     assert block["rows"][0][-1] == "all inside"
@@ -88,17 +91,17 @@ def test_block_lists_design_and_neighbours(tmp_path):
 def test_preferred_values_give_no_block(tmp_path):
     # 4.7 kΩ is an E24 value (IEC 60063).
     p, r = analysed(tmp_path, LOWPASS.format(r="4k7", tol="5%"))
-    assert stage_alternatives(r, p.analysis) is None
-    assert alternatives_block(r, p.analysis) is None
+    assert stage_alternatives(r, p.analysis, KINDS[r.stage.kind]) is None
+    assert alternatives_block(r, p.analysis, fq, metric_label) is None
 
 
 def test_series_follows_the_tolerance(tmp_path):
     # 4.87 is an E96 value (IEC 60063): preferred for a 1 % part, not for a 5 % one.
     p, r = analysed(tmp_path, LOWPASS.format(r="4.87k", tol="1%"))
-    assert stage_alternatives(r, p.analysis) is None
+    assert stage_alternatives(r, p.analysis, KINDS[r.stage.kind]) is None
     # 4.8 kΩ at 1 %: E96 neighbours 4.75 and 4.87 (IEC 60063).
     p, r = analysed(tmp_path, LOWPASS.format(r="4.8k", tol="1%"))
-    rows = {a.step: a for a in stage_alternatives(r, p.analysis).rows}
+    rows = {a.step: a for a in stage_alternatives(r, p.analysis, KINDS[r.stage.kind]).rows}
     assert rows["below"].value == pytest.approx(4750.0) and rows["below"].series == "E96"
     assert rows["above"].value == pytest.approx(4870.0)
 
@@ -125,7 +128,7 @@ max = "0.9"
 
 def test_second_order_stage_against_the_textbook(tmp_path):
     p, r = analysed(tmp_path, SALLEN_KEY)
-    alt = stage_alternatives(r, p.analysis)
+    alt = stage_alternatives(r, p.analysis, KINDS[r.stage.kind])
     rows = {a.step: a for a in alt.rows}
     assert {a.ref for a in alt.rows} == {"C1"}          # only 2.5 nF is off its series
     # IEC 60063 E24 (5 %): 2.4 and 2.7 either side of 2.5.

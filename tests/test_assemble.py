@@ -23,7 +23,7 @@ from rcdoc.note import assemble
 
 from rcdoc.note import report
 from rcdoc.note.context import note_context
-from rcdoc.input.project import load_project
+from rcdoc.kinds import load_project
 from test_report import EPOCH, make_context
 
 REPO = Path(__file__).resolve().parent.parent

@@ -11,11 +11,11 @@ from pathlib import Path
 
 import pytest
 
-from rcdoc.analysis.analyse import analyse_stage
+from rcdoc.kinds import analyse_stage
 from rcdoc.input.bom import merge_bom, read_bom, unused_rows
 from rcdoc.errors import ProjectError
 from rcdoc.note.context import bom_appendix
-from rcdoc.input.project import load_project
+from rcdoc.kinds import load_project
 
 DATA = Path(__file__).parent / "data" / "bom"
 

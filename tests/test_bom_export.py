@@ -22,7 +22,7 @@ from rcdoc.commands import cli
 from rcdoc.commands.build import analyse_project
 from rcdoc.errors import ProjectError
 from rcdoc.note.partslist import parts_csv
-from rcdoc.input.project import load_project
+from rcdoc.kinds import load_project
 from rcdoc.note.summary import summary
 
 BOARD = """\

@@ -15,7 +15,7 @@ import pytest
 
 import rcdoc.commands.build as build
 from rcdoc.commands.cache import CACHE_DIR_NAME, StageCache, canonical, stage_key
-from rcdoc.input.project import load_project
+from rcdoc.kinds import load_project
 
 PROJECT = """\
 [board]

@@ -17,7 +17,7 @@ from rcdoc.commands.build import analyse_project
 from rcdoc.errors import ProjectError
 from rcdoc.note.context import parts_table
 from rcdoc.note.partslist import parts_csv
-from rcdoc.input.project import load_project
+from rcdoc.kinds import load_project
 from rcdoc.note.summary import summary
 
 HEAD = """\

@@ -17,7 +17,7 @@ import pytest
 from boards import analyse_one, load
 from rcdoc.analysis import debounce as phys
 from rcdoc.note import summary
-from rcdoc.analysis.analyse import analyse_stage
+from rcdoc.kinds import analyse_stage
 from rcdoc.errors import ProjectError
 
 RP, R, C, VS = 10e3, 47e3, 100e-9, 3.3

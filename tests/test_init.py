@@ -7,7 +7,8 @@ import tomllib
 
 from rcdoc.commands.cli import main
 from rcdoc.commands.init import STARTER
-from rcdoc.input.project import ANALYSIS_KEYS, BOARD_KEYS, CHECK_KEYS, PART_KEYS, load_project
+from rcdoc.input.project import ANALYSIS_KEYS, BOARD_KEYS, CHECK_KEYS, PART_KEYS
+from rcdoc.kinds import load_project
 
 
 def test_init_writes_a_project_that_checks(tmp_path, capsys):

@@ -86,7 +86,7 @@ def test_crlf_file_is_read_as_plain_newlines(tmp_path):
 
 
 def load_ok(path):
-    from rcdoc.input.project import load_project
+    from rcdoc.kinds import load_project
     return load_project(path)
 
 

@@ -17,7 +17,7 @@ import pytest
 from scipy import signal
 
 from boards import analyse_one, load
-from rcdoc.analysis.analyse import analyse_stage
+from rcdoc.kinds import analyse_stage
 from rcdoc.analysis.evaluate import Evaluator
 from rcdoc.kinds import KINDS
 from rcdoc.analysis.spread import build_batch

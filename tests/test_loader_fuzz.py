@@ -21,8 +21,8 @@ from rcdoc.errors import ProjectError
 from rcdoc.kinds import KINDS
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Project
-from rcdoc.input.project import (ANALYSIS_KEYS, BOARD_KEYS, CHECK_KEYS, PART_KEYS, STAGE_KEYS,
-                           load_project)
+from rcdoc.input.project import ANALYSIS_KEYS, BOARD_KEYS, CHECK_KEYS, PART_KEYS, STAGE_KEYS
+from rcdoc.kinds import load_project
 from rcdoc.input.quantities import (UNITS, format_quantity, format_rkm, parse_quantity,
                               parse_tolerance)
 

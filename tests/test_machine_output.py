@@ -17,7 +17,7 @@ from rcdoc import __version__
 from rcdoc.commands.cli import main
 from rcdoc.note.machine import escape_data, escape_property
 from rcdoc.input.positions import key_lines
-from rcdoc.input.project import load_project
+from rcdoc.kinds import load_project
 
 BOARD = """\
 [board]

@@ -7,8 +7,8 @@ from rcdoc.kinds import KINDS
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.quantities import UNITS
 
-REQUIRED = ("NAME", "OPTIONS", "PASSBAND", "parse_options", "check_roles", "metrics",
-            "build", "characteristic_hz", "schematic")
+REQUIRED = ("NAME", "TITLE", "ROLES", "OPTIONS", "PASSBAND", "HEADLINE", "parse_options",
+            "check_roles", "metrics", "build", "characteristic_hz", "schematic")
 
 
 @pytest.mark.parametrize("name", list(METRICS))
@@ -25,7 +25,10 @@ def test_every_kind_provides_the_interface(kind):
     for attr in REQUIRED:
         assert hasattr(mod, attr), f"{kind} lacks {attr}"
     assert mod.NAME == kind
-    assert mod.PASSBAND in ("low", "high", "band")
+    assert mod.PASSBAND in ("low", "high", "band", "band-stop")
+    assert isinstance(mod.TITLE, str) and mod.TITLE
+    for name in mod.HEADLINE:
+        assert name in METRICS, f"{kind}: headline metric {name} is not registered"
 
 
 @pytest.mark.parametrize("kind", [k for k in KINDS if not hasattr(KINDS[k], "analyse")])

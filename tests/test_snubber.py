@@ -20,10 +20,10 @@ from scipy import signal
 
 from rcdoc.commands import cli
 from rcdoc.analysis import snubber as phys
-from rcdoc.analysis.analyse import analyse_stage
+from rcdoc.kinds import analyse_stage
 from rcdoc.errors import ProjectError
 from rcdoc.input.preferred import SERIES, is_preferred
-from rcdoc.input.project import load_project
+from rcdoc.kinds import load_project
 
 BOARD = '[board]\nname = "Snubber test"\nrevision = "A"\ndate = "2026-01-01"\n'
 ANALYSIS = "[analysis]\nsamples = 200\nseed = 3\n"

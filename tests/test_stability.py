@@ -27,7 +27,7 @@ from scipy import signal
 
 from boards import analyse_one, load
 from rcdoc.analysis import poles as polemod
-from rcdoc.analysis.analyse import analyse_stage
+from rcdoc.kinds import analyse_stage
 from rcdoc.analysis.network import Element, Network
 from rcdoc.analysis.spread import build_batch
 

@@ -9,7 +9,7 @@ would cost. All the designs of a stage (as designed, and each replacement)
 are rows of one batch evaluated at once by rcdoc.analysis.evaluate.Evaluator.
 
 What it must not do: change the project, judge yields (only the nominal
-design is evaluated here) or draw anything; it returns data and a table block.
+design is evaluated here) or draw anything; it returns data (rcdoc.note.alternatives makes the table).
 """
 
 from __future__ import annotations
@@ -23,13 +23,9 @@ import numpy as np
 from rcdoc.input import parts as partmodels
 from rcdoc.analysis.analyse import StageResult, _default_detail, _detail
 from rcdoc.analysis.evaluate import Evaluator
-from rcdoc.kinds import KINDS
-from rcdoc.kinds.base import fixed_values
-from rcdoc.analysis.metrics import METRICS
+from rcdoc.analysis.surroundings import fixed_values
 from rcdoc.input.model import Analysis, Check
 from rcdoc.input.preferred import neighbours
-
-HEADLINE = ("corner", "corner_low", "corner_high", "f0", "q")
 
 
 @dataclass(frozen=True)
@@ -53,8 +49,9 @@ class StageAlternatives:
     rows: tuple[Alternative, ...]
 
 
-def _requests(r: StageResult) -> list[tuple[str, float | None, Check | None]]:
-    """The stage's checked metrics (or its headline metrics if it has no checks)."""
+def _requests(r: StageResult,
+              headline: tuple[str, ...]) -> list[tuple[str, float | None, Check | None]]:
+    """The stage's checked metrics (or its kind's headline metrics if it has no checks)."""
     out, seen = [], set()
     for c in r.stage.checks:
         key = (c.metric, c.at_hz, _detail(c) or _default_detail(c.metric))
@@ -63,7 +60,7 @@ def _requests(r: StageResult) -> list[tuple[str, float | None, Check | None]]:
             out.append((c.metric, c.at_hz, c))
     if not out:
         for m in r.metrics:
-            if m.name in HEADLINE and callable(getattr(Evaluator, m.name, None)):
+            if m.name in headline and callable(getattr(Evaluator, m.name, None)):
                 out.append((m.name, m.at_hz, None))
     return out
 
@@ -76,13 +73,16 @@ def _inside(value: float, chk: Check | None) -> bool:
     return (chk.min is None or value >= chk.min) and (chk.max is None or value <= chk.max)
 
 
-def stage_alternatives(r: StageResult, analysis: Analysis) -> StageAlternatives | None:
-    """Alternatives for every non-preferred part of an analysed stage, or None if none apply."""
+def stage_alternatives(r: StageResult, analysis: Analysis, kind) -> StageAlternatives | None:
+    """Alternatives for every non-preferred part of an analysed stage, or None if none apply.
+
+    ``kind`` is the stage's kind module (rcdoc.kinds.KINDS[stage.kind]): its HEADLINE
+    gives the columns of a stage without checks."""
     st = r.stage
-    if getattr(KINDS[st.kind], "analyse", None) is not None or r.network is None:
+    if getattr(kind, "analyse", None) is not None or r.network is None:
         return None                 # kinds with their own analysis have no Evaluator metrics
     flagged = [row for row in r.part_rows if row["preferred"] is None]
-    requests = _requests(r)
+    requests = _requests(r, tuple(kind.HEADLINE))
     if not flagged or not requests:
         return None
     roles = sorted(st.parts)
@@ -124,51 +124,3 @@ def stage_alternatives(r: StageResult, analysis: Analysis) -> StageAlternatives 
     return StageAlternatives(
         metrics=tuple((n, a, _detail(c) or _default_detail(n)) for n, a, c in requests),
         checks=tuple(c for _, _, c in requests), rows=tuple(rows))
-
-
-def _change(value: float, base: float, unit: str) -> str:
-    if not (math.isfinite(value) and math.isfinite(base)):
-        return ""
-    if unit in ("dB", "deg"):
-        d = value - base
-        return f" ({d:+.2f}{' dB' if unit == 'dB' else '°'})".replace("-", "−")
-    if base == 0:
-        return ""
-    return f" ({(value / base - 1) * 100:+.1f} %)".replace("-", "−")
-
-
-def alternatives_block(r: StageResult, analysis: Analysis) -> dict | None:
-    """The note's table of preferred-value alternatives for one stage, or None."""
-    from rcdoc.note.context import fq, metric_label
-    alt = stage_alternatives(r, analysis)
-    if alt is None:
-        return None
-    units = [METRICS[n].unit for n, _, _ in alt.metrics]
-    checked = any(c is not None for c in alt.checks)
-    out_rows = []
-    base: tuple[float, ...] = ()
-    for a in alt.rows:
-        if not a.step:
-            base = a.metrics
-            label, value = "as designed", f"{fq(a.value, a.unit, 4)}"
-        else:
-            label, value = f"{a.series} {a.step}", fq(a.value, a.unit, 4)
-        cells = [a.ref or a.role, value, label]
-        for x, b, u in zip(a.metrics, base, units):
-            cells.append(fq(x, u, 4) + (_change(x, b, u) if a.step else ""))
-        if checked:
-            bad = [metric_label(n, at, d) for (n, at, d), ok, c in
-                   zip(alt.metrics, a.inside, alt.checks) if c is not None and not ok]
-            cells.append("all inside" if not bad else "outside: " + ", ".join(bad))
-        out_rows.append(cells)
-    columns = ["Part", "Value", "Design"] + [metric_label(n, at, d) for n, at, d in alt.metrics]
-    if checked:
-        columns.append("Nominal against the limits")
-    what = "checked metrics" if checked else "headline metrics (the stage has no checks)"
-    return {"type": "table", "title": "Preferred-value alternatives", "columns": columns,
-            "rows": out_rows,
-            "note": "Parts whose value is not a preferred value (IEC 60063) of the series that "
-                    "fits their tolerance, with the nearest preferred values below and above. "
-                    f"Each row gives the nominal {what} with only that part changed; "
-                    "in brackets the change from the design as drawn. Spread over tolerance "
-                    "is not re-run for the alternatives."}

@@ -21,12 +21,11 @@ from rcdoc.analysis import spread
 from rcdoc.analysis import worstcase
 from rcdoc.analysis import poles as polemod
 from rcdoc.analysis.evaluate import Evaluator, db, sweep_for
-from rcdoc.kinds import KINDS
-from rcdoc.kinds.base import fixed_values
+from rcdoc.analysis.surroundings import fixed_values
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Analysis, Check, Stage
 from rcdoc.analysis.network import GROUND, Network
-from rcdoc.note.partslist import part_stresses
+from rcdoc.analysis.stresses import part_stresses
 
 CHUNK_ROWS = 4000            # rows of the batch solved at once: bounds memory
 BAND_SAMPLES = 20000         # percentile bands use at most this many samples
@@ -94,21 +93,17 @@ class StageResult:
         return None
 
 
-def kind_of(stage: Stage):
-    return KINDS[stage.kind]
-
-
-def passband_of(stage: Stage) -> str:
-    kind = kind_of(stage)
-    fn = getattr(kind, "passband", None)
+def passband_of(stage: Stage, kind) -> str:
+    """Where the passband gain is read: the kind's PASSBAND, or its function of the stage."""
+    fn = kind.PASSBAND if callable(kind.PASSBAND) else getattr(kind, "passband", None)
     return fn(stage) if callable(fn) else kind.PASSBAND
 
 
-def _metric_requests(stage: Stage, offered: tuple[str, ...]) -> list[tuple[str, float | None, Check | None]]:
-    """The metrics the note reports for a stage: headline ones, marks, and every check's."""
+def _metric_requests(stage: Stage, offered: tuple[str, ...],
+                     kind) -> list[tuple[str, float | None, Check | None]]:
+    """The metrics the note reports for a stage: the kind's headline, marks, and every check's."""
     req: list[tuple[str, float | None, Check | None]] = []
-    headline = ("corner", "corner_low", "corner_high", "passband_gain", "f0", "q", "peaking")
-    for name in headline + tuple(getattr(kind_of(stage), "HEADLINE", ())):
+    for name in kind.HEADLINE:
         if name in offered:
             req.append((name, None, None))
     for f in stage.marks_hz:
@@ -116,7 +111,7 @@ def _metric_requests(stage: Stage, offered: tuple[str, ...]) -> list[tuple[str, 
     if "noise" in offered:
         req.append(("noise", None, None))
     if stage.drive is not None:
-        if passband_of(stage) == "low":      # a rise time means little for a high-pass
+        if passband_of(stage, kind) == "low":      # a rise time means little for a high-pass
             req.append(("rise_time", None, None))
         req.append(("settling", None, None))
         if stage.drive.kind == "pwm":
@@ -149,19 +144,19 @@ def _default_detail(name: str) -> str:
     return "within 1 %" if name == "settling" else ""
 
 
-def analyse_stage(stage: Stage, analysis: Analysis) -> StageResult:
-    kind = kind_of(stage)
+def analyse_stage(stage: Stage, analysis: Analysis, kind) -> StageResult:
+    """One stage, analysed by ``kind`` (its module from rcdoc.kinds.KINDS, passed in:
+    the analysis does not know the kinds): the kind's own analysis if it has one."""
     custom = getattr(kind, "analyse", None)
     if custom is not None:           # kinds with their own analysis (snubbers)
         return custom(stage, analysis)
-    return analyse_network(stage, analysis)
+    return analyse_network(stage, analysis, kind)
 
 
-def analyse_network(stage: Stage, analysis: Analysis, evaluator=Evaluator) -> StageResult:
+def analyse_network(stage: Stage, analysis: Analysis, kind, evaluator=Evaluator) -> StageResult:
     """The standard analysis; a kind with metrics of its own passes an Evaluator subclass."""
-    kind = kind_of(stage)
     network = kind.build(stage)
-    passband = passband_of(stage)
+    passband = passband_of(stage, kind)
     batch = spread.build_batch(stage, analysis)
     char_hz = kind.characteristic_hz(stage)
     nominal_vals = batch.take(slice(0, 1))
@@ -170,7 +165,7 @@ def analyse_network(stage: Stage, analysis: Analysis, evaluator=Evaluator) -> St
     freqs = sweep_for(char_hz, analysis)
     t_hot_k = analysis.temperature_c[1] + 273.15
     offered = kind.metrics(stage.options, stage.drive)
-    requests = _metric_requests(stage, offered)
+    requests = _metric_requests(stage, offered, kind)
 
     # Time grid shared by all rows, from the nominal alone (a row's numbers must
     # not depend on the other rows or on --samples).

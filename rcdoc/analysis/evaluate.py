@@ -21,6 +21,7 @@ from rcdoc.analysis.network import Network
 
 DB3 = 10 * math.log10(2.0)          # 3.0103 dB: half power
 CORNER_ITERATIONS = 40               # bisection steps in log-frequency: far below 1 ppm
+NOTCH_ITERATIONS = 60                # golden-section steps into a null (see Evaluator._notch)
 PEAK_ITERATIONS = 30                 # golden-section steps: bracket shrinks by 0.618^30 ≈ 5e-7
 TIME_POINTS = 4000                   # step-response grid
 TIME_CONSTANTS = 24.0                # step window in slowest nominal time constants
@@ -90,7 +91,7 @@ class Evaluator:
     @cached_property
     def passband_db(self) -> np.ndarray:
         g = self.gain_db
-        if self.passband == "low":
+        if self.passband in ("low", "band-stop"):
             # A low-pass's passband is DC: reading it at the first swept frequency
             # would move the corner with the sweep's start (a sweep starting at fc/8
             # shifted a first-order corner by 1.6 %). Fall back to the sweep's first
@@ -213,6 +214,40 @@ class Evaluator:
                             np.where(left, gx, gd), np.where(left, gc, gx))
         return np.fmax(g[np.arange(self.rows), j], np.fmax(gc, gd))
 
+    @cached_property
+    def _notch(self) -> tuple[np.ndarray, np.ndarray]:
+        """(frequency, gain in dB) of the deepest gain per row (band-stop).
+
+        The sweep's lowest point brackets the null between its neighbours; a
+        golden-section search in log-frequency narrows it (|H| falls
+        monotonically into the null from both sides). 60 steps shrink the
+        bracket by 0.618^60 ≈ 3e-13: a balanced twin-T's null is a cusp, and
+        its depth is set by how close the search gets to it.
+        """
+        g, f = self.gain_db, self.freqs_hz
+        j = np.argmin(g, axis=1)
+        a = np.log(f[np.maximum(j - 1, 0)])
+        b = np.log(f[np.minimum(j + 1, len(f) - 1)])
+        k = (math.sqrt(5.0) - 1) / 2
+        c, d = b - k * (b - a), a + k * (b - a)
+        gc, gd = db(self.h_rows(np.exp(c))), db(self.h_rows(np.exp(d)))
+        for _ in range(NOTCH_ITERATIONS):
+            left = gc <= gd                   # the null lies in [a, d]
+            b, a = np.where(left, d, b), np.where(left, a, c)
+            x = np.where(left, b - k * (b - a), a + k * (b - a))
+            gx = db(self.h_rows(np.exp(x)))
+            c, d, gc, gd = (np.where(left, x, d), np.where(left, c, x),
+                            np.where(left, gx, gd), np.where(left, gc, gx))
+        best = np.argmin(np.stack([g[np.arange(self.rows), j], gc, gd]), axis=0)
+        freq = np.choose(best, [f[j], np.exp(c), np.exp(d)])
+        return freq, np.fmin(g[np.arange(self.rows), j], np.fmin(gc, gd))
+
+    def notch_frequency(self) -> np.ndarray:
+        return self._notch[0]
+
+    def notch_depth(self) -> np.ndarray:
+        return self._notch[1] - self.passband_db
+
     def gain(self, at_hz: float) -> np.ndarray:
         return db(self.h_at(at_hz))
 
@@ -233,7 +268,7 @@ class Evaluator:
     @cached_property
     def network_unsourced(self) -> Network:
         """The network as seen at the stage's input, without the source impedance."""
-        from rcdoc.kinds.base import SOURCE_L, SOURCE_R, core_input
+        from rcdoc.analysis.surroundings import SOURCE_L, SOURCE_R, core_input
         els = tuple(e for e in self.network.elements if e.name not in (SOURCE_R, SOURCE_L))
         return Network(elements=els, drive=core_input(self.network), output=self.network.output,
                        opamps=self.network.opamps, path=self.network.path)
@@ -305,7 +340,8 @@ class Evaluator:
     @cached_property
     def final_value(self) -> np.ndarray:
         amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
-        return np.real(self.h_rows(np.zeros(self.rows))) * amp if self.passband == "low" \
+        return np.real(self.h_rows(np.zeros(self.rows))) * amp \
+            if self.passband in ("low", "band-stop") \
             else self.step[:, -1]
 
     def rise_time(self) -> np.ndarray:
@@ -322,7 +358,7 @@ class Evaluator:
         # the height of the step it passes (relative to a final value near 0 the
         # response never settled: a high-pass gave 18 RC instead of RC·ln 100).
         amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
-        scale = np.abs(fin) if self.passband == "low" else \
+        scale = np.abs(fin) if self.passband in ("low", "band-stop") else \
             abs(amp) * 10 ** (self.passband_db / 20)
         if full_scale is not None:      # half an LSB of the converter, not of the step
             scale = np.full(self.rows, float(full_scale))

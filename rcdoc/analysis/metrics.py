@@ -60,6 +60,12 @@ METRICS: dict[str, Metric] = dict([
        description="resistor thermal noise integrated over the sweep; includes kT/C"),
     _m("capacitor_voltage", "V", "V", "Peak capacitor voltage",
        description="largest peak voltage across any capacitor of the stage"),
+    _m("notch_frequency", "Hz", "Hz", "Notch frequency",
+       description="band-stop: frequency of the deepest gain, refined between the sweep's "
+                   "points"),
+    _m("notch_depth", "dB", "dB", "Notch depth",
+       description="band-stop: gain at the notch frequency relative to the passband gain "
+                   "(read at DC); negative"),
     _m("damping", "1", "1", "Damping ratio ζ",
        description="snubbers: damping ratio of the least damped pole pair with the snubber fitted"),
     _m("overshoot", "V", "V", "Overshoot",

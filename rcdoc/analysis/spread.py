@@ -16,7 +16,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from rcdoc.input import parts as partmodels
-from rcdoc.kinds.base import fixed_values
+from rcdoc.analysis.surroundings import fixed_values
 from rcdoc.input.model import Analysis, Stage
 
 SENSITIVITY_STEP = 1e-3     # relative change of one part for its sensitivity (finite difference)

@@ -28,12 +28,13 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Callable
 
-from rcdoc.analysis.analyse import StageResult, analyse_stage
+from rcdoc.analysis.analyse import StageResult
+from rcdoc.kinds import analyse_stage
 from rcdoc.commands.cache import StageCache, stage_key
 from rcdoc.errors import ProjectError
 from rcdoc.files import commit, make_temp, remove_stale_temps
 from rcdoc.input.model import Project, Stage
-from rcdoc.input.project import load_project
+from rcdoc.kinds import load_project
 
 
 @dataclass

@@ -141,7 +141,7 @@ def read_at_revision(file: str | Path, rev: str, *, samples: int | None = None,
 
     Errors in the old file are reported against "FILE at git:REV".
     """
-    from rcdoc.input.project import load_project
+    from rcdoc.kinds import load_project
     rev = rev.strip()
     if not rev or rev.startswith("-"):
         raise ProjectError(f"'{GIT_PREFIX}{rev}' names no revision; write e.g. git:HEAD~1 "
@@ -195,7 +195,7 @@ def _bom_name(text: bytes) -> str | None:
 def load_side(spec: str, other_file: str | None = None, *, samples: int | None = None,
               seed: int | None = None) -> Project:
     """A project file, or ``git:REV`` for ``other_file`` at that revision."""
-    from rcdoc.input.project import load_project
+    from rcdoc.kinds import load_project
     if spec.startswith(GIT_PREFIX):
         if other_file is None or other_file.startswith(GIT_PREFIX):
             raise ProjectError(f"'{spec}' needs the other side to be a project file: "

@@ -12,14 +12,13 @@ import datetime as _dt
 import difflib
 import os
 import re
+from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import Any, Mapping
 
-from rcdoc import kinds as _kinds
 from rcdoc.input.bom import merge_bom
 from rcdoc.errors import ProjectError
 from rcdoc.input.limits import check_sweep, check_text, read_toml
-from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Analysis, Board, Check, Drive, Part, Project, Stage
 from rcdoc.input.parts import check_temperature_range, decode_dielectric, default_tolerance
 from rcdoc.input.quantities import parse_percent, parse_positive, parse_quantity, parse_tolerance
@@ -97,9 +96,26 @@ def paragraphs(text: str) -> tuple[str, ...]:
     return tuple(" ".join(p.split()) for p in parts if p.strip())
 
 
-def load_project(file: str | os.PathLike, *, samples: int | None = None,
+@dataclass(frozen=True)
+class Registries:
+    """What the loader validates against, passed in by the caller (the input layer
+    knows neither the kinds nor the metrics): the stage kinds by name
+    (rcdoc.kinds.KINDS) and the metric registry (rcdoc.analysis.metrics.METRICS)."""
+
+    kinds: Mapping[str, Any]
+    metrics: Mapping[str, Any]
+
+
+def load_project(file: str | os.PathLike, *, kinds: Mapping[str, Any],
+                 metrics: Mapping[str, Any], samples: int | None = None,
                  seed: int | None = None) -> Project:
-    """Read and validate a project file; raise ProjectError located in it."""
+    """Read and validate a project file; raise ProjectError located in it.
+
+    ``kinds`` and ``metrics`` are the registries to validate stages and checks
+    against (commands pass rcdoc.kinds.KINDS and rcdoc.analysis.metrics.METRICS;
+    rcdoc.kinds.load_project does it for you).
+    """
+    reg = Registries(kinds, metrics)
     name = str(file)
     try:
         try:
@@ -107,12 +123,13 @@ def load_project(file: str | os.PathLike, *, samples: int | None = None,
         except OSError as exc:
             raise ProjectError(f"cannot read the project file: {exc.strerror}")
         data = read_toml(raw_bytes)     # size, encoding, TOML, integers, text (rcdoc.input.limits)
-        return _project(data, name, samples=samples, seed=seed)
+        return _project(data, name, reg, samples=samples, seed=seed)
     except ProjectError as exc:
         raise exc.located(name)
 
 
-def _project(data: dict, file: str, *, samples: int | None, seed: int | None) -> Project:
+def _project(data: dict, file: str, reg: Registries, *, samples: int | None,
+             seed: int | None) -> Project:
     check_keys(data, ("board", "analysis", "stage"), "")
     if "board" not in data:
         raise ProjectError("the [board] table is missing", path="board")
@@ -142,7 +159,7 @@ def _project(data: dict, file: str, *, samples: int | None, seed: int | None) ->
     seen: dict[str, int] = {}
     for i, raw in enumerate(raw_stages, start=1):
         path = f"stage[{i}]"
-        st = _stage(need_table(raw, path), i, analysis, bom_rows)
+        st = _stage(need_table(raw, path), i, analysis, bom_rows, reg)
         if st.id in seen:
             raise ProjectError(f"id '{st.id}' is already used by stage[{seen[st.id]}]",
                                path=f"{path}.id")
@@ -383,19 +400,20 @@ def _check_tcr(tcr_ppm: float, temperature_c: tuple[float, float], path: str) ->
                                path=f"{path}.tcr")
 
 
-def _check(t: dict, path: str, stage_metrics: tuple[str, ...]) -> Check:
+def _check(t: dict, path: str, stage_metrics: tuple[str, ...],
+           metrics: Mapping[str, Any]) -> Check:
     check_keys(t, CHECK_KEYS, path)
     if "metric" not in t:
         raise ProjectError("'metric' is missing", path=f"{path}.metric")
     name = need_string(t["metric"], f"{path}.metric")
-    if name not in METRICS:
-        close = difflib.get_close_matches(name, list(METRICS), n=1, cutoff=0.6)
+    if name not in metrics:
+        close = difflib.get_close_matches(name, list(metrics), n=1, cutoff=0.6)
         hint = f"; did you mean '{close[0]}'?" if close else ""
         raise ProjectError(f"unknown metric '{name}'{hint}", path=f"{path}.metric")
     if name not in stage_metrics:
         raise ProjectError(f"metric '{name}' does not apply to this stage kind; it offers: "
                            f"{', '.join(stage_metrics)}", path=f"{path}.metric")
-    metric = METRICS[name]
+    metric = metrics[name]
     kw: dict[str, Any] = {}
     for bound in ("min", "max"):
         if bound in t:
@@ -441,18 +459,18 @@ def _check(t: dict, path: str, stage_metrics: tuple[str, ...]) -> Check:
     return Check(metric=name, path=path, **kw)
 
 
-def _stage(t: dict, index: int, analysis: Analysis, bom_rows) -> Stage:
+def _stage(t: dict, index: int, analysis: Analysis, bom_rows, reg: Registries) -> Stage:
     path = f"stage[{index}]"
     for key in ("id", "title", "kind"):
         if key not in t:
             raise ProjectError(f"'{key}' is required", path=f"{path}.{key}")
     kind_name = need_string(t["kind"], f"{path}.kind")
-    if kind_name not in _kinds.KINDS:
-        close = difflib.get_close_matches(kind_name, list(_kinds.KINDS), n=1, cutoff=0.5)
+    if kind_name not in reg.kinds:
+        close = difflib.get_close_matches(kind_name, list(reg.kinds), n=1, cutoff=0.5)
         hint = f"; did you mean '{close[0]}'?" if close else \
-            f"; known kinds: {', '.join(_kinds.KINDS)}"
+            f"; known kinds: {', '.join(reg.kinds)}"
         raise ProjectError(f"unknown kind '{kind_name}'{hint}", path=f"{path}.kind")
-    kind = _kinds.KINDS[kind_name]
+    kind = reg.kinds[kind_name]
     check_keys(t, STAGE_KEYS + tuple(kind.OPTIONS), path)
     sid = need_string(t["id"], f"{path}.id")
     if not ID_PATTERN.fullmatch(sid) or len(sid) > 64:
@@ -499,11 +517,11 @@ def _stage(t: dict, index: int, analysis: Analysis, bom_rows) -> Stage:
                                   lambda r, tb, p: _part(r, tb, p, analysis, bom_rows))
     stage_metrics = kind.metrics(options, kw.get("drive"))
     checks = tuple(_check(need_table(c, f"{path}.check[{k}]"), f"{path}.check[{k}]",
-                          stage_metrics)
+                          stage_metrics, reg.metrics)
                    for k, c in enumerate(_list_of_tables(t.get("check", []),
                                                          f"{path}.check"), start=1))
     for c in checks:
-        if METRICS[c.metric].needs_drive and kw.get("drive") is None:
+        if reg.metrics[c.metric].needs_drive and kw.get("drive") is None:
             raise ProjectError(f"metric '{c.metric}' needs a drive: add "
                                "drive = { step = \"...\" } or a pwm drive to the stage",
                                path=c.path)

@@ -14,14 +14,11 @@ from rcdoc.errors import ProjectError
 from rcdoc.kinds.recipes import Label
 from rcdoc.input.model import Part, Stage
 from rcdoc.analysis.network import GROUND, Element, Network
+# The names around a stage live in the analysis (it needs them too); kinds use them from here.
+from rcdoc.analysis.surroundings import (  # noqa: F401
+    LOAD_C, LOAD_R, SOURCE_L, SOURCE_L_NODE, SOURCE_NODE, SOURCE_R, core_input, fixed_values)
 from rcdoc.input.quantities import format_quantity
 
-# Element names of the source impedance and the load; they carry fixed values.
-SOURCE_R, SOURCE_L, LOAD_R, LOAD_C = "source.r", "source.l", "load.r", "load.c"
-# Nodes rcdoc adds between the ideal source and the stage's input. The '~' is
-# outside the node-name syntax of a `network` stage, so no user node can be
-# one of them (a user's node named like an internal one was silently merged).
-SOURCE_NODE, SOURCE_L_NODE = "~source", "~source.l"
 UNIT_OF = {"R": "ohm", "C": "F", "L": "H"}
 
 FREQUENCY_METRICS = ("corner", "passband_gain", "gain", "phase", "group_delay",
@@ -29,9 +26,16 @@ FREQUENCY_METRICS = ("corner", "passband_gain", "gain", "phase", "group_delay",
 
 
 class KindModule(Protocol):
-    NAME: str
+    """The interface every kind module provides; rcdoc.kinds.register checks it."""
+
+    NAME: str                         # the `kind` string of a stage
+    TITLE: str                        # as the note and the summary show the kind
+    ROLES: tuple[str, ...]            # part roles taken (empty: the stage names them)
     OPTIONS: tuple[str, ...]          # the kind's own stage keys
-    PASSBAND: str                     # "low", "high" or "band": where the passband gain is read
+    # "low", "high", "band" or "band-stop" (or a function of the stage): where the
+    # passband gain is read (DC, high frequency, the peak, DC).
+    PASSBAND: Any
+    HEADLINE: tuple[str, ...]         # metrics reported first, in order (metric registry names)
 
     def parse_options(self, table: dict, path: str) -> dict[str, Any]: ...
     def check_roles(self, parts: dict[str, Part], options: dict, path: str) -> None: ...
@@ -87,31 +91,6 @@ def wrap(stage: Stage, elements: list[Element], *, output: str = "out",
         elements.append(Element(LOAD_C, "C", output, GROUND))
     return Network(elements=tuple(elements), drive=drive, output=output,
                    opamps=tuple(opamps), path=tuple(chain) + tuple(path))
-
-
-def core_input(network: Network) -> str:
-    """The stage's own input node: where the source impedance (if any) ends."""
-    for name in (SOURCE_L, SOURCE_R):      # the element nearest the input first
-        try:
-            return network.element(name).b
-        except KeyError:
-            continue
-    return network.drive
-
-
-def fixed_values(stage: Stage) -> dict[str, float]:
-    """Values of the source and load elements (ideal: no tolerance)."""
-    out = {}
-    if stage.source_r > 0:
-        out[SOURCE_R] = stage.source_r
-    if stage.source_l > 0:
-        out[SOURCE_L] = stage.source_l
-    if stage.load_r is not None:
-        out[LOAD_R] = stage.load_r
-    if stage.load_c is not None:
-        out[LOAD_C] = stage.load_c
-    out.update(stage.options.get("fixed_elements", {}))   # a kind's own fixed parts (pin capacitance)
-    return out
 
 
 def label(part: Part) -> Label:

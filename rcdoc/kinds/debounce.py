@@ -29,8 +29,10 @@ from rcdoc.kinds import base
 NAME = "debounce"
 OPTIONS = ("supply", "pull", "thresholds", "leakage")
 PASSBAND = "low"
+TITLE = "Contact debounce"
 ROLES = ("r_pull", "r", "c")
 METRIC_NAMES = ("press_delay", "release_delay", "high_level", "low_level", "edge_rate")
+HEADLINE = METRIC_NAMES
 NOT_FOR_DEBOUNCE = ("source", "load", "marks", "drive")
 PULLS = ("up", "down")
 

@@ -15,6 +15,8 @@ from rcdoc.kinds import base
 NAME = "mfb-lowpass"
 OPTIONS = ("amplifier",)
 PASSBAND = "low"
+TITLE = "Multiple-feedback low-pass"
+HEADLINE = ("corner", "passband_gain", "f0", "q", "peaking")   # metrics reported first (those the stage offers)
 ROLES = ("r1", "r2", "r3", "c1", "c2")
 
 

@@ -18,6 +18,9 @@ from rcdoc.kinds import base
 NAME = "network"
 OPTIONS = ("input", "output", "elements", "passband")
 PASSBAND = "low"      # default; a stage may say passband = "high" or "band"
+TITLE = "Network"
+HEADLINE = ("corner", "corner_low", "corner_high", "passband_gain", "f0", "q", "peaking")   # metrics reported first (those the stage offers)
+ROLES: tuple[str, ...] = ()   # the stage names its own parts (the letter gives the type)
 # Node names are the user's and are used as given (fullmatch: no trailing newline).
 # Internal nodes (rcdoc.kinds.base.SOURCE_NODE...) hold a character outside this set.
 NODE = re.compile(r"[A-Za-z0-9_]{1,32}")

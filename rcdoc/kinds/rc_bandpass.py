@@ -9,6 +9,8 @@ from rcdoc.kinds import base
 NAME = "rc-bandpass"
 OPTIONS: tuple[str, ...] = ()
 PASSBAND = "band"
+TITLE = "RC band-pass"
+HEADLINE = ("corner_low", "corner_high", "passband_gain")   # metrics reported first (those the stage offers)
 ROLES = ("c1", "r1", "r2", "c2")
 parse_options = base.no_options
 

@@ -8,6 +8,8 @@ from rcdoc.kinds import base
 NAME = "rc-highpass"
 OPTIONS: tuple[str, ...] = ()
 PASSBAND = "high"
+TITLE = "RC high-pass"
+HEADLINE = ("corner", "passband_gain")   # metrics reported first (those the stage offers)
 ROLES = ("c", "r")
 parse_options = base.no_options
 check_roles = first.check_roles

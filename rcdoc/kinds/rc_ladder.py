@@ -12,6 +12,9 @@ from rcdoc.kinds import base
 NAME = "rc-ladder"
 OPTIONS: tuple[str, ...] = ()
 PASSBAND = "low"
+TITLE = "RC ladder"
+HEADLINE = ("corner", "passband_gain", "f0", "q")   # metrics reported first (those the stage offers)
+ROLES: tuple[str, ...] = ()   # r1, c1, r2, c2, ...: as many sections as the stage gives (check_roles)
 parse_options = base.no_options
 MAX_SECTIONS = 12
 

@@ -8,6 +8,8 @@ from rcdoc.kinds import base
 NAME = "rc-lowpass"
 OPTIONS: tuple[str, ...] = ()
 PASSBAND = "low"
+TITLE = "RC low-pass"
+HEADLINE = ("corner", "passband_gain")   # metrics reported first (those the stage offers)
 ROLES = first.ROLES
 parse_options = base.no_options
 check_roles = first.check_roles

@@ -14,6 +14,8 @@ from rcdoc.kinds import base
 NAME = "sallen-key-lowpass"
 OPTIONS = ("amplifier",)
 PASSBAND = "low"
+TITLE = "Sallen-Key low-pass"
+HEADLINE = ("corner", "passband_gain", "f0", "q", "peaking")   # metrics reported first (those the stage offers)
 ROLES = ("r1", "r2", "c1", "c2")
 OPTIONAL = ("rf", "rg")
 

@@ -15,6 +15,8 @@ acquisition, and its average effect (a load of f_s·C_s) is what
 
 from __future__ import annotations
 
+import sys
+
 import math
 from functools import cached_property
 
@@ -36,6 +38,7 @@ WAVE_PERIODS = phys.WAVE_PERIODS
 NAME = "sampled-input"
 OPTIONS = ("level", "converter")
 PASSBAND = "low"
+TITLE = "Converter input"
 ROLES = ("r", "c")
 PIN_C = "converter.pin_c"
 CONVERTER_KEYS = ("sampling_c", "switch_r", "pin_c", "acquisition", "sample_rate",
@@ -43,7 +46,7 @@ CONVERTER_KEYS = ("sampling_c", "switch_r", "pin_c", "acquisition", "sample_rate
 REQUIRED = ("sampling_c", "switch_r", "acquisition", "sample_rate", "full_scale", "bits")
 METRIC_NAMES = ("sample_error", "kickback", "acquisition_settling", "max_sample_rate",
                 "input_current")
-HEADLINE = METRIC_NAMES
+HEADLINE = ("corner", "passband_gain") + METRIC_NAMES
 check_roles = first.check_roles
 characteristic_hz = first.characteristic_hz
 
@@ -138,7 +141,7 @@ class SampledEvaluator(Evaluator):
 def analyse(stage, analysis):
     from rcdoc.analysis.analyse import analyse_network
     from rcdoc.analysis.spread import build_batch
-    result = analyse_network(stage, analysis, evaluator=SampledEvaluator)
+    result = analyse_network(stage, analysis, sys.modules[__name__], evaluator=SampledEvaluator)
     nominal = build_batch(stage, analysis, samples=0).take(slice(0, 1))
     conv = stage.options["converter"]
     curves = phys.curves(params_for(stage, nominal), float(nominal["c"][0]), conv["pin_c"])

@@ -32,9 +32,11 @@ NAME = "snubber"
 OPTIONS = ("across", "voltage", "switching_frequency", "ringing", "parasitic", "coil", "ac",
            "line_frequency", "stray")
 PASSBAND = "low"
+TITLE = "Snubber"
 ROLES = ("r", "c")
 METRIC_NAMES = ("damping", "overshoot", "resistor_power", "capacitor_voltage", "parasitic_c",
                 "parasitic_l", "characteristic_impedance", "ring_frequency")
+HEADLINE = METRIC_NAMES
 ACROSS = ("switch", "inductive-load")
 SWITCH_ONLY = ("ringing", "parasitic")
 LOAD_ONLY = ("coil", "ac", "line_frequency", "stray")

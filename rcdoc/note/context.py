@@ -22,14 +22,6 @@ from rcdoc.input.project import paragraphs
 from rcdoc.input.quantities import format_quantity, parse_quantity
 from rcdoc.note.summary import board_status
 
-KIND_TITLES = {
-    "rc-lowpass": "RC low-pass", "rc-highpass": "RC high-pass", "rc-ladder": "RC ladder",
-    "rc-bandpass": "RC band-pass", "sallen-key-lowpass": "Sallen-Key low-pass",
-    "mfb-lowpass": "Multiple-feedback low-pass", "network": "Network", "snubber": "Snubber",
-    "debounce": "Contact debounce",
-    "sampled-input": "Converter input",
-}
-
 SAFETY_ITEMS = (
     "Hazardous voltage: this stage works at a voltage that can injure or kill. Only "
     "people qualified for such work should build, probe or repair it.",
@@ -362,8 +354,8 @@ def stage_context(r: StageResult, project: Project) -> dict:
     blocks.append({"type": "figure", "title": "Schematic", "image": sch.render_svg(recipe),
                    "width": "natural", "caption": _schematic_caption(r)})
     blocks.append(parts_table(r))
-    from rcdoc.analysis.alternatives import alternatives_block
-    alt = alternatives_block(r, project.analysis)
+    from rcdoc.note.alternatives import alternatives_block
+    alt = alternatives_block(r, project.analysis, fq, metric_label)
     if alt:
         blocks.append(alt)
     for t in (checks_table(r), ratings_table(r)):
@@ -391,7 +383,7 @@ def stage_context(r: StageResult, project: Project) -> dict:
     safety = None
     if v > project.board.hazardous_voltage_v:
         safety = {"voltage": fq(v, "V"), "items": list(SAFETY_ITEMS)}
-    return {"id": st.id, "title": st.title, "kind": KIND_TITLES.get(st.kind, st.kind),
+    return {"id": st.id, "title": st.title, "kind": KINDS[st.kind].TITLE,
             "status": r.status, "notes": list(paragraphs(st.notes)) if st.notes else [],
             "safety": safety, "caution": stability_caution(r), "blocks": blocks}
 
@@ -448,7 +440,9 @@ def _analysis_sentences(r: StageResult, project: Project):
 def summary_rows(results: list[StageResult]) -> list[dict]:
     rows = []
     for r in results:
-        key = next((m for m in r.metrics if m.name in ("corner", "f0", "corner_low")), None)
+        # The kind's own one-line summary, else the first frequency of its headline.
+        key = None if "summary" in r.extra else next((m for m in r.metrics if m.name in KINDS[
+            r.stage.kind].HEADLINE and METRICS[m.name].unit == "Hz"), None)
         if key is not None:
             unit = METRICS[key.name].unit
             s = key.samples[np.isfinite(key.samples)]
@@ -458,7 +452,7 @@ def summary_rows(results: list[StageResult]) -> list[dict]:
             key_text = r.extra.get("summary", "—")
         n = len(r.verdicts) + len(r.ratings)
         ok = sum(v.status == "pass" for v in r.verdicts + r.ratings)
-        rows.append({"id": r.stage.id, "cells": [r.stage.title, KIND_TITLES.get(r.stage.kind, r.stage.kind),
+        rows.append({"id": r.stage.id, "cells": [r.stage.title, KINDS[r.stage.kind].TITLE,
                                                  key_text, f"{ok} of {n}", r.status]})
     return rows
 

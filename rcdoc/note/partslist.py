@@ -20,36 +20,14 @@ import math
 
 import numpy as np
 
+# The stresses are computed in the analysis; the parts list only reads them.
+from rcdoc.analysis.stresses import _highest, part_stresses  # noqa: F401
+
 COLUMNS = ("stage", "channel", "ref", "role", "type", "value", "unit", "tolerance_plus",
            "tolerance_minus", "dielectric", "model", "stress", "stress_unit",
            "stress_nominal", "stress_worst", "rating", "margin", "status")
 _TYPES = {"R": ("resistor", "ohm"), "C": ("capacitor", "F"), "L": ("inductor", "H")}
 _STRESS = {"R": ("resistor_power", "W"), "C": ("capacitor_voltage", "V")}
-
-
-def part_stresses(stage, batch, cap_peaks: dict, res_powers: dict) -> dict[str, dict]:
-    """Per part role: the stress metric, its nominal and its worst (highest) Monte
-    Carlo value; from the arrays the analysis gathered per chunk of rows."""
-    out = {}
-    for role, part in stage.parts.items():
-        if part.kind == "C" and role in cap_peaks:
-            arr = np.concatenate(cap_peaks[role])
-        elif part.kind == "C" and part.bias_v:
-            arr = np.full(batch.rows, part.bias_v)
-        elif part.kind == "R" and role in res_powers:
-            arr = np.concatenate(res_powers[role])
-        else:
-            continue
-        out[role] = {"metric": _STRESS[part.kind][0], "nominal": float(arr[0]),
-                     "worst": _highest(arr[batch.mc])}
-    return out
-
-
-def _highest(samples: np.ndarray) -> float:
-    # As rcdoc.analysis.checks.worst_value with an upper limit: NaN if any sample has no value.
-    if samples.size == 0 or not np.all(np.isfinite(samples)):
-        return math.nan
-    return float(samples.max())
 
 
 def _stress_of(result, role: str, part) -> dict | None:
