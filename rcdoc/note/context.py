@@ -13,8 +13,10 @@ import numpy as np
 
 from rcdoc import __version__
 from rcdoc.analysis.analyse import StageResult
+from rcdoc.analysis.blocks import BODY, LEAD
 from rcdoc.note import charts
-from rcdoc.kinds import recipes as sch
+from rcdoc.note import schematic as sch
+from rcdoc.note.blocks import draw_all, kind_result
 from rcdoc.kinds import KINDS
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Project
@@ -82,7 +84,9 @@ def stage_voltage(r: StageResult) -> float:
     for p in st.parts.values():
         if p.bias_v:
             v = max(v, p.bias_v)
-    v = max(v, float(r.extra.get("peak_voltage_v", 0.0)))
+    kr = kind_result(r)
+    if kr is not None:
+        v = max(v, float(kr.peak_voltage_v))
     m = r.metric("capacitor_voltage")
     if m is not None and math.isfinite(m.nominal):
         v = max(v, m.nominal)
@@ -369,8 +373,9 @@ def stage_context(r: StageResult, project: Project) -> dict:
     for t in (checks_table(r), ratings_table(r)):
         if t:
             blocks.append(t)
-    for b in r.extra.get("blocks_before", []):
-        blocks.append(b)
+    kr = kind_result(r)
+    kind_blocks = kr.blocks() if kr is not None else ()
+    blocks += draw_all(kind_blocks, LEAD)
     blocks.append(metrics_table(r))
     # An unstable nominal has no steady-state response to draw.
     if (r.h_nominal is not None and r.freqs_hz is not None and len(r.freqs_hz)
@@ -380,7 +385,7 @@ def stage_context(r: StageResult, project: Project) -> dict:
     if pf:
         blocks.append(pf)
     blocks += time_figures(r)
-    blocks += r.extra.get("blocks", [])
+    blocks += draw_all(kind_blocks, BODY)
     blocks += histogram_figures(r)
     sens = sensitivity_table(r)
     if sens:
@@ -455,7 +460,8 @@ def summary_rows(results: list[StageResult]) -> list[dict]:
             spread_ = f" ({fq(s.min(), unit)} … {fq(s.max(), unit)})" if s.size else ""
             key_text = f"{METRICS[key.name].label.split(' (')[0]}: {fq(key.nominal, unit)}{spread_}"
         else:
-            key_text = r.extra.get("summary", "—")
+            kr = kind_result(r)
+            key_text = kr.summary if kr is not None else "—"
         n = len(r.verdicts) + len(r.ratings)
         ok = sum(v.status == "pass" for v in r.verdicts + r.ratings)
         rows.append({"id": r.stage.id, "cells": [r.stage.title, KIND_TITLES.get(r.stage.kind, r.stage.kind),
