@@ -9,7 +9,7 @@ import pytest
 
 from rcdoc.analysis.alternatives import alternatives_block, stage_alternatives
 from rcdoc.analysis.analyse import analyse_stage
-from rcdoc.note.context import stage_context
+from rcdoc.note.page import stage_context
 from rcdoc.input.project import load_project
 
 BOARD = """

@@ -12,7 +12,6 @@ from scipy.integrate import solve_ivp
 from rcdoc.analysis import sampled
 from rcdoc.commands.cli import main
 from rcdoc.errors import ProjectError
-from rcdoc.kinds import recipes as sch
 from rcdoc.note.schematic import render_svg
 from rcdoc.kinds import KINDS
 

@@ -291,7 +291,7 @@ stray = "100 pF"
 
 
 def test_mains_snubber_is_rated_and_carries_the_cautions(tmp_path):
-    from rcdoc.note.context import stage_context
+    from rcdoc.note.page import stage_context
     project = load_project(write(tmp_path, LOAD + SWITCH))
     r_load = analyse_stage(project.stages[0], project.analysis)
     r_sw = analyse_stage(project.stages[1], project.analysis)

@@ -40,7 +40,7 @@ from rcdoc.input.project import load_project
 class Outcome:
     project: Project
     results: list[StageResult]
-    # Per-stage note contexts (note.stage_context), when the stages were drawn.
+    # Per-stage note contexts (rcdoc.note.page.stage_context), when the stages were drawn.
     contexts: list[dict] | None = None
     # Stages taken from the build cache, and stages analysed in this run.
     cached: list[str] = field(default_factory=list)
@@ -73,7 +73,7 @@ def _stage_unit(stage: Stage, project: Project, draw: bool, part_job=None):
         result = analyse_stage(stage, project.analysis)
         context = None
         if draw:
-            from rcdoc.note.context import stage_context
+            from rcdoc.note.page import stage_context
             context = stage_context(result, project)
         part = _part_unit(context, part_job)
         return ("ok", result, context, part, time.perf_counter() - t0)
@@ -84,7 +84,7 @@ def _stage_unit(stage: Stage, project: Project, draw: bool, part_job=None):
 def _draw_unit(result, project: Project, part_job=None):
     """Draw (and render the part of) a stage whose analysis came from the cache,
     filed there by ``rcdoc check`` or ``diff``, which do not draw."""
-    from rcdoc.note.context import stage_context
+    from rcdoc.note.page import stage_context
     context = stage_context(result, project)
     return context, _part_unit(context, part_job)
 
@@ -123,15 +123,19 @@ def _stop_workers(pool: ProcessPoolExecutor) -> None:
         p.terminate()
 
 
-def _pool_context():
-    """'forkserver' where there is one (Linux), else 'spawn': both start clean workers."""
+def _pool_context(draw: bool):
+    """'forkserver' where there is one (Linux), else 'spawn': both start clean workers.
+
+    Only a build (``draw``) preloads the note's drawing modules: check and diff
+    never draw, so their workers never load matplotlib, schemdraw or weasyprint."""
     methods = multiprocessing.get_all_start_methods()
     if "forkserver" in methods and sys.platform.startswith("linux"):
         ctx = multiprocessing.get_context("forkserver")
         # Workers fork from a server that has imported rcdoc once, and do not
         # re-run the parent's __main__ (the command line).
-        ctx.set_forkserver_preload(["rcdoc.commands.spawnguard", "rcdoc.commands.build", "rcdoc.note.context",
-                                    "rcdoc.note.assemble"])
+        preload = ["rcdoc.commands.spawnguard", "rcdoc.commands.build"]
+        ctx.set_forkserver_preload(preload + (["rcdoc.note.page", "rcdoc.note.assemble"]
+                                              if draw else []))
         return ctx
     return multiprocessing.get_context("spawn")
 
@@ -214,7 +218,7 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
         for i in todraw:
             contexts[i], parts[i] = _draw_unit(results[i], project)
     else:
-        with ProcessPoolExecutor(max_workers=workers, mp_context=_pool_context(),
+        with ProcessPoolExecutor(max_workers=workers, mp_context=_pool_context(draw),
                                  initializer=_worker_init) as pool:
             futures = {}
             for i in todo:
@@ -266,7 +270,7 @@ def source_date_epoch(project: Project) -> int:
 def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
                   extra_appendix=(), changes=None) -> tuple[Path, Path]:
     """Render the PDF and the JSON; both land only if both could be made."""
-    from rcdoc.note.context import note_context
+    from rcdoc.note.page import note_context
     from rcdoc.note.report import render_pdf
     from rcdoc.note.summary import summary, to_json
     project = outcome.project

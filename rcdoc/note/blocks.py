@@ -11,18 +11,7 @@ from __future__ import annotations
 from rcdoc.analysis import blocks as spec
 from rcdoc.note import charts, logic_chart
 
-__all__ = ["draw", "draw_all", "kind_result"]
-
-
-def kind_result(r):
-    """The stage's kind result (rcdoc.analysis.results.KindResult), or None.
-
-    Read from ``StageResult.kind_result`` where it exists, else from where the
-    kind modules file it until then (``extra["kind_result"]``)."""
-    found = getattr(r, "kind_result", None)
-    if found is None:
-        found = (getattr(r, "extra", None) or {}).get("kind_result")
-    return found
+__all__ = ["draw", "draw_all"]
 
 
 def _figure(title: str, image, caption: str) -> dict:
