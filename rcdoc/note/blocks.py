@@ -1,7 +1,7 @@
 """Draw block specs (rcdoc.analysis.blocks) into the note's blocks.
 
 One drawer per spec type: tables and texts become the template's table and
-text blocks, charts are drawn by rcdoc.note.charts / rcdoc.note.logic_chart
+text blocks, charts are drawn by rcdoc.note.charts_time / rcdoc.note.logic_chart
 into a full-width figure with its caption. The only place where a kind's
 page turns from data into pictures.
 """
@@ -9,7 +9,7 @@ page turns from data into pictures.
 from __future__ import annotations
 
 from rcdoc.analysis import blocks as spec
-from rcdoc.note import charts, logic_chart
+from rcdoc.note import charts_time, logic_chart
 
 __all__ = ["draw", "draw_all"]
 
@@ -33,7 +33,7 @@ def _waveform(b: spec.WaveformChart) -> dict:
               {"t": b.window.t, "lo": b.window.lo, "hi": b.window.hi, "label": b.window.label})
     series = [{"t": c.t if c.t is not None else b.t_s, "y": c.y, "label": c.label,
                "role": c.role} for c in b.curves]
-    image = charts.time_response(b.fig_id, b.t_s, b.nominal, band=b.band, window=window,
+    image = charts_time.time_response(b.fig_id, b.t_s, b.nominal, band=b.band, window=window,
                                  series=series, ylabel=b.y_label,
                                  nominal_label=b.nominal_label, fmt="png")
     return _figure(b.title, image, b.caption)
@@ -43,7 +43,7 @@ def _sweep(b: spec.SweepChart) -> dict:
     curves = [{"y": c.y, "label": c.label, "unit": c.unit, "axis": c.axis} for c in b.curves]
     allowed = (None if b.allowed is None else
                {"lo": b.allowed.lo, "hi": b.allowed.hi, "label": b.allowed.label})
-    image = charts.sweep(b.fig_id, b.x, curves, xlabel=b.x_label, x_unit=b.x_unit,
+    image = charts_time.sweep(b.fig_id, b.x, curves, xlabel=b.x_label, x_unit=b.x_unit,
                          logx=b.logx, marker_x=b.marker_x, fmt="png",
                          markers=[{"x": m.x, "label": m.label} for m in b.markers],
                          allowed=allowed)

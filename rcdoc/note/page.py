@@ -21,7 +21,7 @@ from rcdoc.input.model import Project
 from rcdoc.input.project import paragraphs
 from rcdoc.input.quantities import parse_quantity
 from rcdoc.kinds import KINDS
-from rcdoc.note import charts
+from rcdoc.note import charts_freq, charts_time
 from rcdoc.note import schematic as sch
 from rcdoc.note.blocks import draw_all
 from rcdoc.note.context import (KIND_TITLES, SAFETY_ITEMS, bom_appendix, checks_table, fq,
@@ -58,7 +58,7 @@ def bode_figure(r: StageResult) -> dict:
         if m.name == "gain" and m.at_hz is not None:
             ph = r.metric("phase", m.at_hz)
             marks.append((m.at_hz, m.nominal, ph.nominal if ph else math.nan))
-    svg = charts.bode(f"{r.stage.id}-bode", r.freqs_hz, gain, phase, band=r.band,
+    svg = charts_freq.bode(f"{r.stage.id}-bode", r.freqs_hz, gain, phase, band=r.band,
                       corner_hz=corner, corner_spread=spread_, marks=marks,
                       limits=bode_limits(r), title="", fmt="png")
     return {"type": "figure", "title": "Frequency response", "image": svg, "width": "full",
@@ -92,7 +92,7 @@ def phasor_figure(r: StageResult) -> dict | None:
         ref_label = "Source voltage (reference)"
         angle = (math.degrees(math.atan2(ph["output"].imag, ph["output"].real))
                  if ph["output"] is not None else None)
-    svg = charts.phasor(f"{r.stage.id}-phasor", vectors, reference_label=ref_label,
+    svg = charts_freq.phasor(f"{r.stage.id}-phasor", vectors, reference_label=ref_label,
                         freq_hz=ph["freq_hz"], angle_deg=angle, fmt="png")
     what = ("the series current, common to every part on the path, is the reference direction"
             if ph["reference"] == "current" else "the source voltage is the reference direction")
@@ -130,7 +130,7 @@ def time_figures(r: StageResult) -> list[dict]:
                 band = 2.0 ** -(int(st.detail.split()[0]) + 1)
             window = {"t": st.nominal, "lo": fin * (1 - band), "hi": fin * (1 + band),
                       "label": f"settled {st.detail}: {fq(st.nominal, 's')}"}
-        svg = charts.time_response(f"{r.stage.id}-step", s["t"], s["nominal"],
+        svg = charts_time.time_response(f"{r.stage.id}-step", s["t"], s["nominal"],
                                    band=(s["min"], s["max"]), window=window,
                                    ylabel="Output [V]", fmt="png")
         out.append({"type": "figure", "title": "Step response", "image": svg, "width": "full",
@@ -138,7 +138,7 @@ def time_figures(r: StageResult) -> list[dict]:
                                "nominal with the min–max band over the samples."})
     if r.pwm is not None:
         w = r.pwm
-        svg = charts.time_response(f"{r.stage.id}-pwm", w["t"], w["nominal"],
+        svg = charts_time.time_response(f"{r.stage.id}-pwm", w["t"], w["nominal"],
                                    band=(w["min"], w["max"]),
                                    ylabel="Output − its mean [V]", series=(), fmt="png")
         d = r.stage.drive
@@ -162,7 +162,7 @@ def histogram_figures(r: StageResult) -> list[dict]:
         if s.size < 2:
             continue
         unit = METRICS[m.name].unit
-        svg = charts.histogram(f"{r.stage.id}-hist-{len(out)}", s, nominal=m.nominal,
+        svg = charts_time.histogram(f"{r.stage.id}-hist-{len(out)}", s, nominal=m.nominal,
                                lo=v.min, hi=v.max, label=metric_label(m.name, m.at_hz, m.detail),
                                unit=unit, fmt="png")
         out.append({"type": "figure", "title": f"Distribution: {metric_label(m.name, m.at_hz, m.detail)}",
@@ -276,7 +276,7 @@ def overview_image(results: list[StageResult]) -> str | None:
                      "max": float(s.max()) if s.size else m.nominal, "status": r.status})
     if not rows:
         return None
-    return charts.corner_overview("board-overview", rows, fmt="png")
+    return charts_time.corner_overview("board-overview", rows, fmt="png")
 
 
 def note_context(project: Project, results: list[StageResult], *, extra_appendix=(),
