@@ -1,4 +1,5 @@
 """Tests of rcdoc.note.charts (and charts_freq, charts_time): well-formed, deterministic,
+collision-free SVG.
 
 Inputs are small synthetic arrays (a first-order RC low-pass written out from
 the textbook formula H = 1 / (1 + j f/fc)); the charts compute nothing from
