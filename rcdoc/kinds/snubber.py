@@ -456,18 +456,8 @@ def _load_page(stage, batch, q):
     e_close, i_close, leak, power, cap = (q[k] for k in ("e_close", "i_close", "leak",
                                                          "power", "cap"))
     supply = f"{fq(v, 'V')} rms" if ac else f"{fq(v, 'V')} DC"
-    e_coil = 0.5 * ll * i_a ** 2
-    e_rs, e_rc = float(kick["e_open"][0]), float(kick["e_coil_r"][0])
-    e_c_end = 0.5 * c_n * kick["v_c_end"][0] ** 2
-    e_l_end = 0.5 * ll * kick["i_coil_end"][0] ** 2
-    energy = [["Stored in the coil, ½·L·I²", fq(e_coil, "J")],
-              ["Into the snubber resistor while opening", fq(e_rs, "J")],
-              ["Into the coil's own resistance", fq(e_rc, "J")],
-              ["Left on the snubber capacitor (goes into R at the next closing)",
-               fq(e_c_end, "J")],
-              ["Left in the coil at the end of the window", fq(e_l_end, "J")],
-              ["From the supply over the window (balance)",
-               fq(e_rs + e_rc + e_c_end + e_l_end - e_coil, "J")]]
+    e_coil, e_rs = 0.5 * ll * i_a ** 2, float(kick["e_open"][0])
+    energy = _energy_rows(ll, c_n, e_coil, kick)
     derived = [["Coil", f"{fq(ll, 'H')}, {fq(rc, 'ohm')}", "as given"],
                ["Current interrupted", fq(i_a, "A"),
                 "√2·V/|R + jωL| (AC, opening at the current peak)" if ac else "V/R"],
@@ -530,6 +520,21 @@ def _load_page(stage, batch, q):
     return {"across": "inductive-load", "figures": tuple(blocks),
             "record": tuple(json.items()), "summary": summary,
             "peak_voltage_v": max(vpk, peak_all)}
+
+
+def _energy_rows(ll, c_n, e_coil, kick) -> list:
+    """Where the coil's energy goes (nominal, one opening), from the kick's integrals."""
+    e_rs, e_rc = float(kick["e_open"][0]), float(kick["e_coil_r"][0])
+    e_c_end = 0.5 * c_n * kick["v_c_end"][0] ** 2
+    e_l_end = 0.5 * ll * kick["i_coil_end"][0] ** 2
+    return [["Stored in the coil, ½·L·I²", fq(e_coil, "J")],
+            ["Into the snubber resistor while opening", fq(e_rs, "J")],
+            ["Into the coil's own resistance", fq(e_rc, "J")],
+            ["Left on the snubber capacitor (goes into R at the next closing)",
+             fq(e_c_end, "J")],
+            ["Left in the coil at the end of the window", fq(e_l_end, "J")],
+            ["From the supply over the window (balance)",
+             fq(e_rs + e_rc + e_c_end + e_l_end - e_coil, "J")]]
 
 
 def _load_notes(ac):

@@ -33,9 +33,7 @@ def render_svg(recipe: Recipe) -> str:
     weasyprint. Same recipe, same bytes.
     """
     import schemdraw
-    import schemdraw.elements as elm
     from schemdraw import svgconfig
-    from schemdraw.util import Point
 
     schemdraw.use("svg")
     svgconfig.text = "path"
@@ -44,22 +42,34 @@ def render_svg(recipe: Recipe) -> str:
     d = schemdraw.Drawing(canvas="svg", show=False)
     d.config(unit=UNIT, inches_per_unit=INCHES_PER_UNIT, fontsize=FONT_PT,
              font=font, lw=LINE_PT, margin=0.2)
+    plotter = _Plotter(d)
+    for step in recipe.steps:
+        plotter.draw(step)
+    return _scaled(d.get_imagedata("svg").decode("utf-8"))
 
-    points: dict[str, Point] = {"origin": Point((0.0, 0.0))}
-    drawn: dict[str, list] = {}
-    here = points["origin"]
-    step_of = {"right": Point((1, 0)), "left": Point((-1, 0)),
-               "up": Point((0, 1)), "down": Point((0, -1))}
 
-    def text_at(xy, lines, halign, valign, colour="black", size=FONT_PT):
+class _Plotter:
+    """Draws a recipe's steps one by one, remembering named points and what each drew."""
+
+    def __init__(self, d):
+        import schemdraw.elements as elm
+        from schemdraw.util import Point
+        self.d, self.elm, self.Point = d, elm, Point
+        self.points = {"origin": Point((0.0, 0.0))}
+        self.drawn: dict[str, list] = {}
+        self.here = self.points["origin"]
+        self.step_of = {"right": Point((1, 0)), "left": Point((-1, 0)),
+                        "up": Point((0, 1)), "down": Point((0, -1))}
+
+    def text_at(self, xy, lines, halign, valign, colour="black", size=FONT_PT):
         # ofst=(0, 0): the drawing's default label offset would shift text
         # diagonally away from where it is aimed.
-        mark = elm.Label().at(xy).label("\n".join(lines), halign=halign,
-                                        valign=valign, fontsize=size,
-                                        color=colour, ofst=(0, 0))
-        return d.add(mark)
+        mark = self.elm.Label().at(xy).label("\n".join(lines), halign=halign,
+                                             valign=valign, fontsize=size,
+                                             color=colour, ofst=(0, 0))
+        return self.d.add(mark)
 
-    def beside_part(step: Step, centre: Point, clearance: float):
+    def beside_part(self, step: Step, centre, clearance: float):
         lines = step.lines()
         if not lines:
             return []
@@ -67,14 +77,14 @@ def render_svg(recipe: Recipe) -> str:
         side = step.side or ("above" if horizontal else "right")
         x, y = centre
         if side == "above":
-            return [text_at((x, y + clearance), lines, "center", "bottom")]
+            return [self.text_at((x, y + clearance), lines, "center", "bottom")]
         if side == "below":
-            return [text_at((x, y - clearance), lines, "center", "top")]
+            return [self.text_at((x, y - clearance), lines, "center", "top")]
         if side == "left":
-            return [text_at((x - clearance, y), lines, "right", "center")]
-        return [text_at((x + clearance, y), lines, "left", "center")]
+            return [self.text_at((x - clearance, y), lines, "right", "center")]
+        return [self.text_at((x + clearance, y), lines, "left", "center")]
 
-    def beside_point(step: Step, xy: Point, clearance: float = 0.2):
+    def beside_point(self, step: Step, xy, clearance: float = 0.2):
         if not step.text:
             return []
         x, y = xy
@@ -85,96 +95,112 @@ def render_svg(recipe: Recipe) -> str:
                  "above-right": ((x - 0.15, y + clearance), "left", "bottom"),
                  "left": ((x - 0.15, y - 0.15), "right", "top"),
                  "right": ((x + 0.15, y - 0.15), "left", "top")}[side]
-        return [text_at(place[0], [step.text], place[1], place[2])]
+        return [self.text_at(place[0], [step.text], place[1], place[2])]
 
-    for step in recipe.steps:
-        start = points[step.start] if step.start else here
+    def draw(self, step: Step) -> None:
+        start = self.points[step.start] if step.start else self.here
         style = {"ls": "--"} if step.dashed else {}
         kind = step.element
         if kind in PART_ELEMENTS or kind in ("source", "switch"):
-            if kind == "source":
-                part = elm.SourceSin(**style) if step.variant == "sine" \
-                    else elm.Battery(**style).reverse()
-            else:
-                part = {"R": lambda: elm.ResistorIEC(**style),
-                        "C": lambda: elm.Capacitor(**style),
-                        "L": lambda: elm.Inductor(**style),
-                        "coil": lambda: elm.Inductor(core=1, **style),
-                        "switch": lambda: elm.Switch(**style)}[kind]()
-            getattr(part.at(start), step.direction)()
-            if step.length:
-                part.length(step.length)
-            d.add(part)
-            ends = part.absanchors
-            points[f"{step.name}.start"] = Point(ends["start"])
-            points[f"{step.name}.center"] = Point(ends["center"])
-            here = Point(ends["end"])
-            drawn[step.name] = [part, *beside_part(step, Point(ends["center"]),
-                                                   _CLEARANCE[kind])]
+            self.part(step, start, style)
         elif kind == "opamp":
-            pin = {"plus": "in2", "minus": "in1", "out": "out"}[step.pin]
-            amp = elm.Opamp(leads=True)
-            if step.variant == "plus-top":
-                amp.flip()
-            d.add(amp.anchor(pin).at(start))
-            ends = amp.absanchors
-            for name, anchor in (("plus", "in2"), ("minus", "in1"), ("out", "out")):
-                points[f"{step.name}.{name}"] = Point(ends[anchor])
-            here = Point(ends["out"])
-            drawn[step.name] = [amp]
-            if step.text:
-                top = max(ends["in1"][1], ends["in2"][1]) + 0.625
-                drawn[step.name].append(text_at(
-                    (ends["in1"][0] + 0.75, top + 0.15), [step.text], "left", "bottom"))
+            self.opamp(step, start)
         elif kind == "wire":
-            if step.end:
-                goal = points[step.end]
-                if step.route == "x":
-                    goal = Point((goal[0], start[1]))
-                elif step.route == "y":
-                    goal = Point((start[0], goal[1]))
-                shape = step.route if step.route in ("-|", "|-") else "-"
-                line = elm.Wire(shape, **style).at(start).to(goal)
-            else:
-                goal = start + step_of[step.direction] * (step.length or UNIT)
-                line = elm.Line(**style).at(start).to(goal)
-            d.add(line)
-            here = goal
-            drawn[step.name] = [line]
+            self.wire(step, start, style)
         elif kind == "point":
-            here = start + step_of[step.direction] * step.length
-            drawn[step.name] = []
+            self.here = start + self.step_of[step.direction] * step.length
+            self.drawn[step.name] = []
         elif kind in ("dot", "terminal"):
-            mark = d.add(elm.Dot(open=kind == "terminal", radius=0.09).at(start))
-            here = start
-            drawn[step.name] = [mark, *beside_point(step, start, 0.3)]
+            mark = self.d.add(self.elm.Dot(open=kind == "terminal", radius=0.09).at(start))
+            self.here = start
+            self.drawn[step.name] = [mark, *self.beside_point(step, start, 0.3)]
         elif kind == "ground":
-            drawn[step.name] = [d.add(elm.Ground().at(start))]
-            here = start
+            self.drawn[step.name] = [self.d.add(self.elm.Ground().at(start))]
+            self.here = start
         elif kind == "text":
             if step.variant == "small":
                 # A node's name: small, grey, level with the node, so that
                 # it reads as secondary to the part labels around it.
-                drawn[step.name] = [text_at(start + Point((NODE_CLEAR, 0)), [step.text],
-                                            "left", "center", FRAME_COLOUR, SMALL_PT)]
+                self.drawn[step.name] = [self.text_at(start + self.Point((NODE_CLEAR, 0)),
+                                                      [step.text], "left", "center",
+                                                      FRAME_COLOUR, SMALL_PT)]
             else:
-                drawn[step.name] = beside_point(step, start, 0.2)
-            here = start
+                self.drawn[step.name] = self.beside_point(step, start, 0.2)
+            self.here = start
         elif kind == "box":
-            members = [e for name in step.members for e in drawn[name]]
-            frame = d.add(elm.EncircleBox(members, padx=0.2, pady=0.15,
-                                          cornerradius=0.1, includelabels=True)
-                          .linestyle("--").color(FRAME_COLOUR).linewidth(1.0))
-            frame_ends = frame.absanchors
-            if step.side == "below":
-                caption = text_at(Point(frame_ends["S"]) + Point((0, -0.15)),
-                                  [step.text], "center", "top", FRAME_COLOUR)
-            else:
-                caption = text_at(Point(frame_ends["N"]) + Point((0, 0.15)),
-                                  [step.text], "center", "bottom", FRAME_COLOUR)
-            drawn[step.name] = [frame, caption]
-        points[step.name] = here
-    return _scaled(d.get_imagedata("svg").decode("utf-8"))
+            self.box(step)
+        self.points[step.name] = self.here
+
+    def part(self, step: Step, start, style) -> None:
+        elm, Point, kind = self.elm, self.Point, step.element
+        if kind == "source":
+            part = elm.SourceSin(**style) if step.variant == "sine" \
+                else elm.Battery(**style).reverse()
+        else:
+            part = {"R": lambda: elm.ResistorIEC(**style),
+                    "C": lambda: elm.Capacitor(**style),
+                    "L": lambda: elm.Inductor(**style),
+                    "coil": lambda: elm.Inductor(core=1, **style),
+                    "switch": lambda: elm.Switch(**style)}[kind]()
+        getattr(part.at(start), step.direction)()
+        if step.length:
+            part.length(step.length)
+        self.d.add(part)
+        ends = part.absanchors
+        self.points[f"{step.name}.start"] = Point(ends["start"])
+        self.points[f"{step.name}.center"] = Point(ends["center"])
+        self.here = Point(ends["end"])
+        self.drawn[step.name] = [part, *self.beside_part(step, Point(ends["center"]),
+                                                         _CLEARANCE[kind])]
+
+    def opamp(self, step: Step, start) -> None:
+        Point = self.Point
+        pin = {"plus": "in2", "minus": "in1", "out": "out"}[step.pin]
+        amp = self.elm.Opamp(leads=True)
+        if step.variant == "plus-top":
+            amp.flip()
+        self.d.add(amp.anchor(pin).at(start))
+        ends = amp.absanchors
+        for name, anchor in (("plus", "in2"), ("minus", "in1"), ("out", "out")):
+            self.points[f"{step.name}.{name}"] = Point(ends[anchor])
+        self.here = Point(ends["out"])
+        self.drawn[step.name] = [amp]
+        if step.text:
+            top = max(ends["in1"][1], ends["in2"][1]) + 0.625
+            self.drawn[step.name].append(self.text_at(
+                (ends["in1"][0] + 0.75, top + 0.15), [step.text], "left", "bottom"))
+
+    def wire(self, step: Step, start, style) -> None:
+        Point, elm = self.Point, self.elm
+        if step.end:
+            goal = self.points[step.end]
+            if step.route == "x":
+                goal = Point((goal[0], start[1]))
+            elif step.route == "y":
+                goal = Point((start[0], goal[1]))
+            shape = step.route if step.route in ("-|", "|-") else "-"
+            line = elm.Wire(shape, **style).at(start).to(goal)
+        else:
+            goal = start + self.step_of[step.direction] * (step.length or UNIT)
+            line = elm.Line(**style).at(start).to(goal)
+        self.d.add(line)
+        self.here = goal
+        self.drawn[step.name] = [line]
+
+    def box(self, step: Step) -> None:
+        Point = self.Point
+        members = [e for name in step.members for e in self.drawn[name]]
+        frame = self.d.add(self.elm.EncircleBox(members, padx=0.2, pady=0.15,
+                                                cornerradius=0.1, includelabels=True)
+                           .linestyle("--").color(FRAME_COLOUR).linewidth(1.0))
+        frame_ends = frame.absanchors
+        if step.side == "below":
+            caption = self.text_at(Point(frame_ends["S"]) + Point((0, -0.15)),
+                                   [step.text], "center", "top", FRAME_COLOUR)
+        else:
+            caption = self.text_at(Point(frame_ends["N"]) + Point((0, 0.15)),
+                                   [step.text], "center", "bottom", FRAME_COLOUR)
+        self.drawn[step.name] = [frame, caption]
 
 
 def _scaled(svg: str) -> str:
