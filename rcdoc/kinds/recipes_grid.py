@@ -152,19 +152,7 @@ def _grid(elements: Sequence[tuple[str, Label, str, str]], input: str,
     pen = _Pen()
     columns = _node_order(elements, input, output)
     col = {node: i for i, node in enumerate(columns)}
-    rows: list[tuple[int, str, Label, str, str]] = []
-    hanging: dict[str, list[tuple[str, Label, str]]] = {n: [] for n in columns}
-    grounded: list[tuple[str, Label]] = []
-    for i, (kind, label, a, b) in enumerate(elements):
-        _check_kind(kind, f"element {i}")
-        if a == GROUND and b == GROUND:
-            grounded.append((kind, label))
-        elif GROUND in (a, b):
-            hanging[b if a == GROUND else a].append((kind, label, f"e{i + 1}"))
-        else:
-            rows.append((i, kind, label, a, b))
-    hanging[output] += [(kind, label, f"load_{i + 1}")
-                        for i, (kind, label) in enumerate(load)]
+    rows, hanging, grounded = _grid_sort(elements, columns, output, load)
     # Parts to ground hang side by side, each clear of its left neighbour's
     # label; a column's gap fits them and the labels of the row parts drawn
     # in it, and no more, so the grid keeps the ladders' scale.
@@ -184,20 +172,7 @@ def _grid(elements: Sequence[tuple[str, Label, str, str]], input: str,
     rows.sort(key=lambda row: (-abs(col[row[3]] - col[row[4]]), row[0]))
     row_y = [-(r + 1) * ROW for r in range(len(rows))]
     hang_y = -(len(rows) + 1) * ROW + (0.5 if not rows else 0.0)
-    # Where connections meet each bus; a bus runs between the outermost.
-    meets: dict[str, list[float]] = {node: [] for node in columns}
-    for (_i, _k, _l, a, b), y in zip(rows, row_y):
-        meets[a].append(y)
-        meets[b].append(y - 0.8 if a == b else y)
-    for node in columns:
-        if hanging[node]:
-            meets[node].append(hang_y)
-        if node in (input, output):
-            meets[node].append(0.0)
-        if meets[node] == [0.0]:
-            meets[node].append(-0.75)   # an unconnected terminal keeps a stub
-    top = {node: max(meets[node]) for node in columns}
-    bottom = {node: min(meets[node]) for node in columns}
+    top, bottom = _bus_ends(columns, rows, row_y, hanging, hang_y, input, output)
 
     def junction(node: str, y: float) -> None:
         # Only a T needs a dot; bus ends are corners (or terminals).
@@ -229,7 +204,55 @@ def _grid(elements: Sequence[tuple[str, Label, str, str]], input: str,
         else:
             pen("wire", direction="right", length=xs[right] - xs[left] - (gap + UNIT) / 2)
             junction(columns[right], y)
-    # Parts to ground hang below the last row, side by side.
+    _grid_hanging(pen, columns, col, xs, offsets, hanging, hang_y)
+    # A part with both ends on ground, drawn between two ground symbols.
+    for k, (kind, label) in enumerate(grounded):
+        at = _goto(pen, f"shorted_{k + 1}", k * (UNIT + 1.5),
+                   hang_y - SHUNT - 1.5 - ROW)
+        pen("ground", start=at)
+        pen(kind, name=f"shorted_part_{k + 1}", start=at, label=label)
+        pen("ground")
+    return pen.recipe()
+
+
+def _grid_sort(elements, columns, output, load):
+    """Elements between two nodes (rows), to ground (hanging, by node, loads
+    last at the output) and with both ends on ground."""
+    rows: list[tuple[int, str, Label, str, str]] = []
+    hanging: dict[str, list[tuple[str, Label, str]]] = {n: [] for n in columns}
+    grounded: list[tuple[str, Label]] = []
+    for i, (kind, label, a, b) in enumerate(elements):
+        _check_kind(kind, f"element {i}")
+        if a == GROUND and b == GROUND:
+            grounded.append((kind, label))
+        elif GROUND in (a, b):
+            hanging[b if a == GROUND else a].append((kind, label, f"e{i + 1}"))
+        else:
+            rows.append((i, kind, label, a, b))
+    hanging[output] += [(kind, label, f"load_{i + 1}")
+                        for i, (kind, label) in enumerate(load)]
+    return rows, hanging, grounded
+
+
+def _bus_ends(columns, rows, row_y, hanging, hang_y, input, output):
+    """Top and bottom of each node's bus: where connections meet it, outermost."""
+    meets: dict[str, list[float]] = {node: [] for node in columns}
+    for (_i, _k, _l, a, b), y in zip(rows, row_y):
+        meets[a].append(y)
+        meets[b].append(y - 0.8 if a == b else y)
+    for node in columns:
+        if hanging[node]:
+            meets[node].append(hang_y)
+        if node in (input, output):
+            meets[node].append(0.0)
+        if meets[node] == [0.0]:
+            meets[node].append(-0.75)   # an unconnected terminal keeps a stub
+    return ({node: max(meets[node]) for node in columns},
+            {node: min(meets[node]) for node in columns})
+
+
+def _grid_hanging(pen: _Pen, columns, col, xs, offsets, hanging, hang_y) -> None:
+    """Parts to ground hang below the last row, side by side; loads framed."""
     load_names: list[str] = []
     for node in columns:
         for s, (kind, label, name) in enumerate(hanging[node]):
@@ -246,14 +269,6 @@ def _grid(elements: Sequence[tuple[str, Label, str, str]], input: str,
     if load_names:
         pen("box", name="load_box", members=tuple(load_names), text="load",
             side="above", dashed=True)
-    # A part with both ends on ground, drawn between two ground symbols.
-    for k, (kind, label) in enumerate(grounded):
-        at = _goto(pen, f"shorted_{k + 1}", k * (UNIT + 1.5),
-                   hang_y - SHUNT - 1.5 - ROW)
-        pen("ground", start=at)
-        pen(kind, name=f"shorted_part_{k + 1}", start=at, label=label)
-        pen("ground")
-    return pen.recipe()
 
 
 def _grid_source(pen: _Pen, source: Sequence[tuple[str, Label]]) -> None:
