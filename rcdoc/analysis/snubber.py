@@ -21,7 +21,10 @@ values (one row per Monte Carlo sample, worst-case corner or probe):
 
 Time responses come from rcdoc.analysis.engine (Radau IIA steps), vectorised over the
 rows and split into chunks to bound memory; closed forms appear only in the
-tests. What it must not do: parse the project, know tolerances, format
+tests. ``switch_run`` and ``load_run`` do a whole stage's bookkeeping over its
+batch (metric arrays, the displayed waveforms and their band), and
+``*_tradeoff`` the sweeps against C; rcdoc.kinds.snubber lays them out.
+What it must not do: parse the project, know tolerances, format
 numbers or draw.
 """
 
