@@ -12,7 +12,7 @@ from rcdoc.kinds import KINDS
 from rcdoc.note.alternatives import alternatives_block
 from rcdoc.note.context import fq, metric_label
 from rcdoc.kinds import analyse_stage
-from rcdoc.note.context import stage_context
+from rcdoc.note.page import stage_context
 from rcdoc.kinds import load_project
 
 BOARD = """

@@ -22,7 +22,7 @@ import pytest
 from rcdoc.note import assemble
 
 from rcdoc.note import report
-from rcdoc.note.context import note_context
+from rcdoc.note.page import note_context
 from rcdoc.kinds import load_project
 from test_report import EPOCH, make_context
 

@@ -1,4 +1,5 @@
-"""Tests of rcdoc.note.charts: well-formed, deterministic, collision-free SVG.
+"""Tests of rcdoc.note.charts (and charts_freq, charts_time): well-formed, deterministic,
+collision-free SVG.
 
 Inputs are small synthetic arrays (a first-order RC low-pass written out from
 the textbook formula H = 1 / (1 + j f/fc)); the charts compute nothing from
@@ -14,7 +15,7 @@ import matplotlib
 import numpy as np
 import pytest
 
-from rcdoc.note import charts
+from rcdoc.note import charts, charts_freq, charts_time
 
 from rcdoc.note import palette
 
@@ -38,7 +39,7 @@ def _band() -> dict:
 
 
 def make_bode(fig_id: str, **kw) -> str:
-    return charts.bode(fig_id, F_HZ, GAIN_DB, PHASE_DEG, **kw)
+    return charts_freq.bode(fig_id, F_HZ, GAIN_DB, PHASE_DEG, **kw)
 
 
 def make_bode_full(fig_id: str) -> str:
@@ -55,7 +56,7 @@ def make_phasor(fig_id: str) -> str:
     # At the corner of an RC low-pass |V_R| = |V_C| = V/sqrt(2) and the source
     # voltage lags the current by 45 degrees (textbook phasor triangle).
     vr, vc = 0.7071 + 0j, -0.7071j
-    return charts.phasor(fig_id, [
+    return charts_freq.phasor(fig_id, [
         {"label": "V_R = 0.707 V", "value": vr, "kind": "R", "tail": 0j},
         {"label": "V_C = 0.707 V", "value": vc, "kind": "C", "tail": vr},
         {"label": "V_in = 1.00 V", "value": vr + vc, "kind": "source", "tail": 0j},
@@ -66,7 +67,7 @@ def make_time(fig_id: str) -> str:
     t = np.linspace(0.0, 1e-3, 120)
     tau = 1e-4
     y = 1.0 - np.exp(-t / tau)
-    return charts.time_response(
+    return charts_time.time_response(
         fig_id, t, y, band=(1.0 - np.exp(-t / 1.2e-4), 1.0 - np.exp(-t / 0.8e-4)),
         window={"t": 4.6e-4, "lo": 0.99, "hi": 1.01, "label": "±1 %"},
         series=[{"t": t, "y": np.ones_like(t), "label": "drive", "role": "input"}])
@@ -75,11 +76,11 @@ def make_time(fig_id: str) -> str:
 def make_histogram(fig_id: str, **kw) -> str:
     samples = np.random.default_rng(1).normal(CORNER_HZ, 80.0, 500)
     kw = {"lo": 1.45e3, "hi": 1.75e3, **kw}
-    return charts.histogram(fig_id, samples, nominal=CORNER_HZ, label="Corner frequency", unit="Hz", **kw)
+    return charts_time.histogram(fig_id, samples, nominal=CORNER_HZ, label="Corner frequency", unit="Hz", **kw)
 
 
 def make_overview(fig_id: str) -> str:
-    return charts.corner_overview(fig_id, [
+    return charts_time.corner_overview(fig_id, [
         {"label": "ain0", "nominal": CORNER_HZ, "min": 1.3e3, "max": 1.9e3, "status": "pass"},
         {"label": "ain1", "nominal": 16e3, "min": 13e3, "max": 19e3, "status": "fail"},
     ])
@@ -87,7 +88,7 @@ def make_overview(fig_id: str) -> str:
 
 def make_sweep(fig_id: str) -> str:
     c = np.logspace(-11, -8, 40)
-    return charts.sweep(fig_id, c, [
+    return charts_time.sweep(fig_id, c, [
         {"y": 1.0 - np.exp(-c / 3e-10), "label": "damping ratio", "unit": "", "axis": "left"},
         {"y": c * 48.0**2 * 250e3, "label": "resistor power", "unit": "W", "axis": "right"},
     ], xlabel="Snubber capacitance", x_unit="F", marker_x=6.8e-10)
@@ -220,17 +221,17 @@ def test_engineering_format(value, unit, text):
 
 def test_bad_inputs_raise_value_error():
     with pytest.raises(ValueError, match="gain_db"):
-        charts.bode("x", F_HZ, GAIN_DB[:-1], PHASE_DEG)
+        charts_freq.bode("x", F_HZ, GAIN_DB[:-1], PHASE_DEG)
     with pytest.raises(ValueError, match="panel"):
         make_bode("x", limits=[{"panel": "noise", "max": 1.0}])
     with pytest.raises(ValueError, match="kind"):
-        charts.phasor("x", [{"label": "a", "value": 1j, "kind": "Z"}], reference_label="I", freq_hz=1.0)
+        charts_freq.phasor("x", [{"label": "a", "value": 1j, "kind": "Z"}], reference_label="I", freq_hz=1.0)
     with pytest.raises(ValueError, match="role"):
-        charts.time_response("x", [0, 1], [0, 1], series=[{"t": [0, 1], "y": [0, 1], "label": "s", "role": "?"}])
+        charts_time.time_response("x", [0, 1], [0, 1], series=[{"t": [0, 1], "y": [0, 1], "label": "s", "role": "?"}])
     with pytest.raises(ValueError, match="status"):
-        charts.corner_overview("x", [{"label": "a", "nominal": 1.0, "min": 1.0, "max": 1.0, "status": "ok"}])
+        charts_time.corner_overview("x", [{"label": "a", "nominal": 1.0, "min": 1.0, "max": 1.0, "status": "ok"}])
     with pytest.raises(ValueError, match="fig_id"):
-        charts.histogram("", [1.0, 2.0], nominal=1.0, label="x", unit="V")
+        charts_time.histogram("", [1.0, 2.0], nominal=1.0, label="x", unit="V")
 
 
 def test_palette_is_complete_and_valid():

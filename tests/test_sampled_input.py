@@ -12,7 +12,7 @@ from scipy.integrate import solve_ivp
 from rcdoc.analysis import sampled
 from rcdoc.commands.cli import main
 from rcdoc.errors import ProjectError
-from rcdoc.kinds import recipes as sch
+from rcdoc.note.schematic import render_svg
 from rcdoc.kinds import KINDS
 
 from boards import analyse_one, load
@@ -214,7 +214,7 @@ def test_schematic_has_switch_and_sampling_capacitor(tmp_path):
     st = load(tmp_path, BOARD.format(rate="100 kHz")).stages[0]
     recipe = KINDS["sampled-input"].schematic(st)
     assert {"switch", "sampling_c", "pin_c", "r", "c"} <= {s.name for s in recipe.steps}
-    assert "svg" in sch.render_svg(recipe)[:20]
+    assert "svg" in render_svg(recipe)[:20]
 
 
 def test_frequency_response_is_the_rc_with_the_pin_capacitance(tmp_path):

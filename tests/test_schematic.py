@@ -16,9 +16,10 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from rcdoc.kinds.recipes import (
-    UNIT, Label, Recipe, Step, inductive_snubber, ladder, mfb, netlist, render_svg,
-    sallen_key, switch_snubber,
+    UNIT, Label, Recipe, Step, inductive_snubber, ladder, mfb, netlist, sallen_key,
+    switch_snubber,
 )
+from rcdoc.note.schematic import render_svg
 
 SVG_NS = "{http://www.w3.org/2000/svg}"
 
@@ -529,6 +530,7 @@ def test_dashed_parts_are_dashed_in_svg():
 def test_render_is_byte_identical_in_a_fresh_process(tmp_path):
     # reproducible output (rules): same recipe, same bytes across processes
     script = ("import sys; from rcdoc.kinds.recipes import *; "
+              "from rcdoc.note.schematic import render_svg; "
               "sys.stdout.write(render_svg(ladder([('series','R',Label('R14','4.7 kΩ')),"
               "('shunt','C',Label('C9','10 nF'))])))")
     out = subprocess.run([sys.executable, "-c", script], capture_output=True, check=True,

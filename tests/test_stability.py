@@ -125,7 +125,7 @@ def test_gain_101_board_fails_unstable_exit_1_json_reason_and_no_warning(tmp_pat
 
 
 def test_note_of_unstable_stage_has_caution_with_poles_in_hz(tmp_path):
-    from rcdoc.note.context import stage_context
+    from rcdoc.note.page import stage_context
     project = load(tmp_path, sallen_key("10k", "10k", "10n", "10n", "100k", "1k"),
                    analysis="samples = 20")
     res = analyse_stage(project.stages[0], project.analysis)

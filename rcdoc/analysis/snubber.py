@@ -21,7 +21,10 @@ values (one row per Monte Carlo sample, worst-case corner or probe):
 
 Time responses come from rcdoc.analysis.engine (Radau IIA steps), vectorised over the
 rows and split into chunks to bound memory; closed forms appear only in the
-tests. What it must not do: parse the project, know tolerances, format
+tests. ``switch_run`` and ``load_run`` do a whole stage's bookkeeping over its
+batch (metric arrays, the displayed waveforms and their band), and
+``*_tradeoff`` the sweeps against C; rcdoc.kinds.snubber lays them out.
+What it must not do: parse the project, know tolerances, format
 numbers or draw.
 """
 
@@ -337,3 +340,118 @@ def load_leak(values: Mapping[str, np.ndarray], voltage_rms_v: float,
     i_rms = np.abs(cur["r"]) * voltage_rms_v
     return {"i_rms": i_rms, "power": i_rms ** 2 * np.asarray(values["r"], dtype=float),
             "cap_peak": np.abs(vol["c"]) * voltage_rms_v * math.sqrt(2.0)}
+
+
+# --------------------------------------------------------------------------
+# the kind's runs over a batch (rcdoc.kinds.snubber lays out their results)
+
+DISPLAY_POINTS = 400
+SWEEP_POINTS = 25
+SETTLED_BAND = 0.02             # display window: until the node stays within 2 % of V
+
+
+def display_rows(t: np.ndarray, t_show: float) -> np.ndarray:
+    k = int(np.searchsorted(t, t_show, side="right")) - 1
+    return np.unique(np.linspace(0, max(k, 1), DISPLAY_POINTS).astype(int))
+
+
+def settle_time(t: np.ndarray, y: np.ndarray, final: float) -> float:
+    out = np.abs(y - final) > SETTLED_BAND * abs(final)
+    return float(t[np.flatnonzero(out)[-1]]) if out.any() else 0.0
+
+
+def _const(rows: int, v: float) -> np.ndarray:
+    return np.full(rows, float(v))
+
+
+def switch_run(v: float, fsw: float, lp: float, cp: float, rp: float, values, rows: int,
+               mc: slice) -> tuple[dict, dict]:
+    """A switch snubber over the batch (``values`` "r", "c" per row; row 0 nominal, ``mc``
+    the Monte Carlo rows): the metric arrays and what its page shows."""
+    z0, f_ring = math.sqrt(lp / cp), float(resonance_hz(lp, cp))
+    w0 = 2 * math.pi * f_ring
+    vals = switch_values(lp, cp, rp, rows, values["r"], values["c"])
+    p = poles(switch_network(True), vals, w0)
+    zeta = damping_ratio(p)
+    t = time_grid(p[:1])       # the nominal's grid: no row depends on the others
+    nominal = switch_wave({k: a[:1] for k, a in vals.items()}, v, t, True)[0]
+    t_show = min(t[-1], max(1.5 * settle_time(t, nominal, v), 8.0 / f_ring))
+    idx = display_rows(t, t_show)
+    env = Envelope(idx)
+    edge = switch_edge(vals, v, fsw, t, envelope=env,
+                       band_rows=np.arange(mc.start, mc.stop))
+    # Without the snubber: the node rings in Lp, Cp and the loop resistance only.
+    bare = switch_values(lp, cp, rp, 1)
+    zeta_wo = float(damping_ratio(poles(switch_network(False), bare, w0))[0])
+    t_wo = np.linspace(0.0, t[idx[-1]], 4 * DISPLAY_POINTS)
+    y_wo = switch_wave(bare, v, t_wo, False)[0]
+    arrays = {"damping": zeta, "overshoot": edge["overshoot"], "resistor_power": edge["power"],
+              "capacitor_voltage": edge["cap_peak"], "parasitic_c": _const(rows, cp),
+              "parasitic_l": _const(rows, lp), "characteristic_impedance": _const(rows, z0),
+              "ring_frequency": _const(rows, f_ring)}
+    q = {"v": v, "fsw": fsw, "lp": lp, "cp": cp, "rp": rp, "z0": z0, "f_ring": f_ring,
+         "w0": w0, "zeta": zeta, "zeta_wo": zeta_wo, "edge": edge, "t_wo": t_wo, "y_wo": y_wo,
+         "t": t[idx], "nominal": nominal[idx], "band": (env.lo, env.hi)}
+    return arrays, q
+
+
+def load_run(v: float, fsw: float, ac: bool, line: float, ll: float, rc: float, stray: float,
+             c_n: float, values, rows: int, mc: slice) -> tuple[dict, dict]:
+    """An inductive-load snubber over the batch (``values`` "r", "c" per row; row 0
+    nominal with C = ``c_n``): the metric arrays and what its page shows."""
+    vpk = v * (math.sqrt(2.0) if ac else 1.0)
+    i_a = coil_current(v, ll, rc, ac, line)
+    r_all, c_all = values["r"], values["c"]
+    f_ring, z0 = float(resonance_hz(ll, stray)), math.sqrt(ll / stray)
+    vals = load_values(ll, rc, rows, r_ohm=r_all, c_f=c_all)
+    p = poles(load_network(True), vals, 1.0 / math.sqrt(ll * c_n))
+    zeta = damping_ratio(p)
+    t = time_grid(p[:1], t_min=2.0 / line if ac else 0.0,     # the nominal's grid
+                  t_max=10.0 / line if ac else math.inf)
+    idx = display_rows(t, t[-1])
+    env = Envelope(idx)
+    kick = load_kick(vals, i_a, ac, line, t, envelope=env,
+                     band_rows=np.arange(mc.start, mc.stop))
+    nom = load_kick({k: a[:1] for k, a in vals.items()}, i_a, ac, line, t,
+                    want=("contact",))
+    bare = load_values(ll, rc, 1, stray_f=stray)
+    t_wo = np.linspace(0.0, 2.5 / f_ring, 4 * DISPLAY_POINTS)
+    y_wo = load_kick_unsnubbed(bare, i_a, ac, line, t_wo)[0]
+    zeta_wo = float(damping_ratio(poles(load_network(False), bare,
+                                        2 * math.pi * f_ring))[0])
+    # Closing: the capacitor, charged up to the supply's peak, discharges through R into the contact.
+    e_close = 0.5 * c_all * vpk ** 2
+    i_close = vpk / r_all
+    leak = (load_leak(load_values(ll, rc, rows, stray_f=stray, r_ohm=r_all,
+                                      c_f=c_all), v, line) if ac else None)
+    power = (kick["e_open"] + e_close) * fsw + (leak["power"] if ac else 0.0)
+    cap = np.maximum(np.maximum(kick["cap_peak"], vpk), leak["cap_peak"] if ac else 0.0)
+    arrays = {"damping": zeta, "overshoot": kick["peak"] - vpk, "resistor_power": power,
+              "capacitor_voltage": cap, "parasitic_c": _const(rows, stray),
+              "parasitic_l": _const(rows, ll), "characteristic_impedance": _const(rows, z0),
+              "ring_frequency": _const(rows, f_ring)}
+    q = {"i_a": i_a, "f_ring": f_ring, "z0": z0, "zeta": zeta, "zeta_wo": zeta_wo,
+         "kick": kick, "t_wo": t_wo, "y_wo": y_wo, "e_close": e_close, "i_close": i_close,
+         "leak": leak, "power": power, "cap": cap, "t": t[idx],
+         "nominal": nom["contact"][0][idx], "band": (env.lo, env.hi)}
+    return arrays, q
+
+
+def switch_tradeoff(lp, cp, rp, r, c, v, fsw, w0):
+    """Damping ratio and resistor power of the nominal switch node against C (R held)."""
+    cs = np.logspace(math.log10(min(cp, c / 3)), math.log10(max(10 * cp, 3 * c)), SWEEP_POINTS)
+    vals = switch_values(lp, cp, rp, cs.size, np.full(cs.size, r), cs)
+    p = poles(switch_network(True), vals, w0)
+    edge = switch_edge(vals, v, fsw, time_grid(p))
+    return cs, damping_ratio(p), edge["power"]
+
+
+def load_tradeoff(ll, rc, ac, line, i_a, vpk, fsw, r, c):
+    """Peak contact voltage and switching resistor power against C (R held)."""
+    cs = np.logspace(math.log10(c / 10), math.log10(c * 10), SWEEP_POINTS)
+    vals = load_values(ll, rc, cs.size, r_ohm=np.full(cs.size, r), c_f=cs)
+    p = poles(load_network(True), vals, 1.0 / math.sqrt(ll * c))
+    t = time_grid(p, t_min=2.0 / line if ac else 0.0, t_max=10.0 / line if ac else math.inf)
+    kick = load_kick(vals, i_a, ac, line, t)
+    power = (kick["e_open"] + 0.5 * cs * vpk ** 2) * fsw
+    return cs, kick["peak"], power

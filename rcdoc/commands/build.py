@@ -41,7 +41,7 @@ from rcdoc.kinds import load_project
 class Outcome:
     project: Project
     results: list[StageResult]
-    # Per-stage note contexts (note.stage_context), when the stages were drawn.
+    # Per-stage note contexts (rcdoc.note.page.stage_context), when the stages were drawn.
     contexts: list[dict] | None = None
     # Stages taken from the build cache, and stages analysed in this run.
     cached: list[str] = field(default_factory=list)
@@ -74,7 +74,7 @@ def _stage_unit(stage: Stage, project: Project, draw: bool, part_job=None):
         result = analyse_stage(stage, project.analysis)
         context = None
         if draw:
-            from rcdoc.note.context import stage_context
+            from rcdoc.note.page import stage_context
             context = stage_context(result, project)
         part = _part_unit(context, part_job)
         return ("ok", result, context, part, time.perf_counter() - t0)
@@ -85,7 +85,7 @@ def _stage_unit(stage: Stage, project: Project, draw: bool, part_job=None):
 def _draw_unit(result, project: Project, part_job=None):
     """Draw (and render the part of) a stage whose analysis came from the cache,
     filed there by ``rcdoc check`` or ``diff``, which do not draw."""
-    from rcdoc.note.context import stage_context
+    from rcdoc.note.page import stage_context
     context = stage_context(result, project)
     return context, _part_unit(context, part_job)
 
@@ -124,15 +124,19 @@ def _stop_workers(pool: ProcessPoolExecutor) -> None:
         p.terminate()
 
 
-def _pool_context():
-    """'forkserver' where there is one (Linux), else 'spawn': both start clean workers."""
+def _pool_context(draw: bool):
+    """'forkserver' where there is one (Linux), else 'spawn': both start clean workers.
+
+    Only a build (``draw``) preloads the note's drawing modules: check and diff
+    never draw, so their workers never load matplotlib, schemdraw or weasyprint."""
     methods = multiprocessing.get_all_start_methods()
     if "forkserver" in methods and sys.platform.startswith("linux"):
         ctx = multiprocessing.get_context("forkserver")
         # Workers fork from a server that has imported rcdoc once, and do not
         # re-run the parent's __main__ (the command line).
-        ctx.set_forkserver_preload(["rcdoc.commands.spawnguard", "rcdoc.commands.build", "rcdoc.note.context",
-                                    "rcdoc.note.assemble"])
+        preload = ["rcdoc.commands.spawnguard", "rcdoc.commands.build"]
+        ctx.set_forkserver_preload(preload + (["rcdoc.note.page", "rcdoc.note.assemble"]
+                                              if draw else []))
         return ctx
     return multiprocessing.get_context("spawn")
 
@@ -165,8 +169,48 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
     parts: list = [None] * n
     cache = StageCache.for_output(out_dir, project.file) if out_dir is not None else None
     keys = [stage_key(st, project) for st in stages] if cache is not None else [None] * n
-    todo = []
-    cached = []
+    todo, cached, todraw = _from_cache(cache, keys, stages, draw, results, contexts, parts)
+    original_parts = list(parts)
+    seconds: dict[str, float] = {}
+
+    def settle(i: int, answer) -> None:
+        if answer[0] == "error":
+            _, message, path, file = answer
+            raise ProjectError(message, path=path or stages[i].path, file=file).located(project.file)
+        results[i], contexts[i], parts[i] = answer[1], answer[2], answer[3]
+        seconds[stages[i].id] = answer[4]
+
+    part_jobs, redo = ([None] * n, [])
+    if draw and int(jobs or 1) > 1:
+        part_jobs, redo = _part_jobs(project, template_dirs, keys, todo, todraw, parts)
+    workers = max(1, min(int(jobs or 1), len(todo) + len(redo) + len(todraw)))
+    if workers == 1:
+        for i in todo:
+            if progress:
+                progress(stages[i].id)
+            settle(i, _stage_unit(stages[i], project, draw))
+        for i in todraw:
+            contexts[i], parts[i] = _draw_unit(results[i], project)
+    else:
+        _run_pool(workers, project, draw, (todo, redo, todraw), part_jobs, progress, settle,
+                  results, contexts, parts)
+
+    def file_entries():
+        for i in range(n):
+            if i in todo or i in todraw or parts[i] is not original_parts[i]:
+                cache.put(keys[i], results[i], contexts[i], parts[i])
+        if draw:       # check and diff leave the other entries to the next build
+            cache.prune()
+    pending = file_entries if cache is not None else None
+    return Outcome(project, results, contexts if draw else None, cached=cached,
+                   computed=[stages[i].id for i in todo], parts=parts if draw else None,
+                   pending=pending, seconds=seconds)
+
+
+def _from_cache(cache, keys, stages, draw, results, contexts, parts):
+    """Fill what the build cache holds; returns the stages to analyse, the ids
+    taken from the cache, and the cached stages still to draw."""
+    todo, cached = [], []
     todraw = []            # analysed (by check or diff) but not drawn yet
     for i, st in enumerate(stages):
         hit = cache.get(keys[i]) if cache is not None else None
@@ -178,76 +222,61 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
                 todraw.append(i)
         else:
             todo.append(i)
-    original_parts = list(parts)
-    seconds: dict[str, float] = {}
+    return todo, cached, todraw
 
-    def settle(i: int, answer) -> None:
-        if answer[0] == "error":
-            _, message, path, file = answer
-            raise ProjectError(message, path=path or stages[i].path, file=file).located(project.file)
-        results[i], contexts[i], parts[i] = answer[1], answer[2], answer[3]
-        seconds[stages[i].id] = answer[4]
 
-    # Stage parts of the note are rendered where there are workers to spread
-    # them over; a serial build leaves them to write_outputs (same bytes).
-    part_jobs: list = [None] * n
-    redo: list[int] = []
-    if draw and int(jobs or 1) > 1:
-        from rcdoc.note.assemble import can_assemble, project_head
-        try:
-            use_parts = can_assemble(list(template_dirs))
-        except ProjectError:
-            use_parts = False
-        if use_parts:
-            head = project_head(project)
-            pkeys = _part_keys(project, template_dirs, keys)
-            epoch = source_date_epoch(project)
-            project_dir = Path(project.file).resolve().parent
-            part_jobs = [(head, list(template_dirs), project_dir, epoch, k) for k in pkeys]
-            redo = [i for i in range(n) if i not in todo and i not in todraw
-                    and (parts[i] is None or parts[i].get("key") != pkeys[i])]
-    workers = max(1, min(int(jobs or 1), len(todo) + len(redo) + len(todraw)))
-    if workers == 1:
+def _part_jobs(project: Project, template_dirs, keys, todo, todraw, parts):
+    """Stage parts of the note are rendered where there are workers to spread
+    them over (a serial build leaves them to write_outputs: same bytes).
+    Returns each stage's part job (or None) and the cached stages whose part
+    must be made again."""
+    n = len(project.stages)
+    from rcdoc.note.assemble import can_assemble, project_head
+    try:
+        use_parts = can_assemble(list(template_dirs))
+    except ProjectError:
+        use_parts = False
+    if not use_parts:
+        return [None] * n, []
+    head = project_head(project)
+    pkeys = _part_keys(project, template_dirs, keys)
+    epoch = source_date_epoch(project)
+    project_dir = Path(project.file).resolve().parent
+    part_jobs = [(head, list(template_dirs), project_dir, epoch, k) for k in pkeys]
+    redo = [i for i in range(n) if i not in todo and i not in todraw
+            and (parts[i] is None or parts[i].get("key") != pkeys[i])]
+    return part_jobs, redo
+
+
+def _run_pool(workers, project, draw, work, part_jobs, progress, settle, results, contexts,
+              parts) -> None:
+    """Run the units of work (stages to analyse, parts to redo, cached stages to
+    draw) in a pool of worker processes; results are taken in stage order."""
+    todo, redo, todraw = work
+    stages = project.stages
+    with ProcessPoolExecutor(max_workers=workers, mp_context=_pool_context(draw),
+                             initializer=_worker_init) as pool:
+        futures = {}
         for i in todo:
             if progress:
                 progress(stages[i].id)
-            settle(i, _stage_unit(stages[i], project, draw))
-        for i in todraw:
-            contexts[i], parts[i] = _draw_unit(results[i], project)
-    else:
-        with ProcessPoolExecutor(max_workers=workers, mp_context=_pool_context(),
-                                 initializer=_worker_init) as pool:
-            futures = {}
-            for i in todo:
-                if progress:
-                    progress(stages[i].id)
-                futures[i] = pool.submit(_stage_unit, stages[i], project, draw, part_jobs[i])
-            redone = {i: pool.submit(_part_unit, contexts[i], part_jobs[i]) for i in redo}
-            drawn = {i: pool.submit(_draw_unit, results[i], project, part_jobs[i])
-                     for i in todraw}
-            try:
-                for i in todo:              # in stage order: the first error is the first stage's
-                    settle(i, futures[i].result())
-                for i in redo:
-                    parts[i] = redone[i].result()
-                for i in todraw:
-                    contexts[i], parts[i] = drawn[i].result()
-            except BaseException as exc:
-                for f in (*futures.values(), *redone.values(), *drawn.values()):
-                    f.cancel()
-                if isinstance(exc, KeyboardInterrupt):
-                    _stop_workers(pool)      # do not wait for stages still running
-                raise
-    def file_entries():
-        for i in range(n):
-            if i in todo or i in todraw or parts[i] is not original_parts[i]:
-                cache.put(keys[i], results[i], contexts[i], parts[i])
-        if draw:       # check and diff leave the other entries to the next build
-            cache.prune()
-    pending = file_entries if cache is not None else None
-    return Outcome(project, results, contexts if draw else None, cached=cached,
-                   computed=[stages[i].id for i in todo], parts=parts if draw else None,
-                   pending=pending, seconds=seconds)
+            futures[i] = pool.submit(_stage_unit, stages[i], project, draw, part_jobs[i])
+        redone = {i: pool.submit(_part_unit, contexts[i], part_jobs[i]) for i in redo}
+        drawn = {i: pool.submit(_draw_unit, results[i], project, part_jobs[i])
+                 for i in todraw}
+        try:
+            for i in todo:              # in stage order: the first error is the first stage's
+                settle(i, futures[i].result())
+            for i in redo:
+                parts[i] = redone[i].result()
+            for i in todraw:
+                contexts[i], parts[i] = drawn[i].result()
+        except BaseException as exc:
+            for f in (*futures.values(), *redone.values(), *drawn.values()):
+                f.cancel()
+            if isinstance(exc, KeyboardInterrupt):
+                _stop_workers(pool)      # do not wait for stages still running
+            raise
 
 
 def output_dir(project_file: str, out: str | None) -> Path:
@@ -267,7 +296,7 @@ def source_date_epoch(project: Project) -> int:
 def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
                   extra_appendix=(), changes=None) -> tuple[Path, Path]:
     """Render the PDF and the JSON; both land only if both could be made."""
-    from rcdoc.note.context import note_context
+    from rcdoc.note.page import note_context
     from rcdoc.note.report import render_pdf
     from rcdoc.note.summary import summary, to_json
     project = outcome.project

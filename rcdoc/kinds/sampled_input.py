@@ -5,7 +5,8 @@ capacitance) for the usual frequency metrics, and adds the converter metrics
 (sample_error in LSB, kickback, acquisition_settling, max_sample_rate,
 input_current) as Evaluator methods, so yields, worst case and sensitivities
 come from the standard machinery. The physics is rcdoc.analysis.sampled; this module
-reads keys, hands over values and lays out the note page.
+reads keys, hands over values and describes the note page as block specs
+(rcdoc.analysis.blocks) in a SampledInputResult; the note draws them.
 
 The AC network is the RC with the pin capacitance and the source resistance;
 the sampling capacitor is left out of it: it is connected only during the
@@ -15,9 +16,10 @@ acquisition, and its average effect (a load of f_s·C_s) is what
 
 from __future__ import annotations
 
+import dataclasses
 import sys
-
 import math
+from dataclasses import dataclass
 from functools import cached_property
 
 import numpy as np
@@ -25,7 +27,8 @@ import numpy as np
 from rcdoc.analysis import sampled as phys
 from rcdoc.errors import ProjectError
 from rcdoc.analysis.evaluate import Evaluator
-from rcdoc.note import charts
+from rcdoc.analysis.blocks import (Curve, LevelBand, Marker, SettleWindow, SweepChart,
+                                   WaveformChart)
 from rcdoc.kinds import recipes as sch
 from rcdoc.kinds.recipes import Label
 from rcdoc.analysis.network import GROUND, Element
@@ -145,10 +148,31 @@ def analyse(stage, analysis):
     nominal = build_batch(stage, analysis, samples=0).take(slice(0, 1))
     conv = stage.options["converter"]
     curves = phys.curves(params_for(stage, nominal), float(nominal["c"][0]), conv["pin_c"])
-    result.extra["sampled"] = curves
-    result.extra["blocks"] = note_blocks(result, curves)
-    result.assumptions[:0] = assumptions(stage)
-    return result
+    kind_result = SampledInputResult(figures=note_blocks(result, curves))
+    return dataclasses.replace(result, extra={**result.extra, **_stage_extra(kind_result)},
+                               assumptions=assumptions(stage) + list(result.assumptions))
+
+
+@dataclass(frozen=True)
+class SampledInputResult:
+    """The converter input's own results (the KindResult of rcdoc.analysis.results):
+    its figures; its numbers are metrics of the generic analysis."""
+    figures: tuple            # block specs of the page (rcdoc.analysis.blocks)
+    summary: str = "—"        # the summary table shows the corner frequency instead
+    # Voltages of this stage are those of the generic analysis (drive, capacitor
+    # voltage); the converter adds none.
+    peak_voltage_v: float = 0.0
+
+    def blocks(self) -> tuple:
+        return self.figures
+
+    def json(self) -> dict:
+        return {}           # the converter metrics are in the stage's metrics already
+
+
+def _stage_extra(kind_result: SampledInputResult) -> dict:
+    """Where the kind result travels in StageResult (until StageResult.kind_result)."""
+    return {"kind_result": kind_result}
 
 
 def assumptions(stage) -> list[str]:
@@ -176,8 +200,8 @@ def _fq(v, unit):
     return format_quantity(float(v), unit) if math.isfinite(v) else "—"
 
 
-def note_blocks(r, cv: dict) -> list[dict]:
-    """The converter figures, drawn from the arrays the analysis computed."""
+def note_blocks(r, cv: dict) -> tuple:
+    """The converter figures (block specs) from the arrays the analysis computed."""
     st = r.stage
     conv = st.options["converter"]
     level = st.options["level_v"]
@@ -192,51 +216,37 @@ def note_blocks(r, cv: dict) -> list[dict]:
     reach = max(4.0, 1.5 * float(np.max(np.abs(dev_p[during]))), 1.5 * abs(float(dev_s[-1])))
     half = np.full(len(cv["t"]), 0.5)
     settled = settle is not None and math.isfinite(settle.nominal)
-    wave = charts.time_response(
-        f"{sid}-sampled", cv["t"], np.clip(dev_s, -reach, reach),
-        window=({"t": settle.nominal, "lo": -0.5, "hi": 0.5, "label": "level ± ½ LSB"}
-                if settled else None),
-        series=[{"t": cv["t"], "y": np.clip(dev_p, -reach, reach), "label": "pin",
-                 "role": "without"}]
-        + ([] if settled else [{"t": cv["t"], "y": half, "label": "± ½ LSB", "role": "input"},
-                               {"t": cv["t"], "y": -half, "label": "", "role": "input"}]),
-        nominal_label="sampled (nominal)", ylabel="Voltage − level [LSB]", fmt="png")
-    blocks.append(_figure(
-        "Pin and sampled voltage (steady state)", wave,
+    blocks.append(WaveformChart(
+        f"{sid}-sampled", "Pin and sampled voltage (steady state)",
         f"{WAVE_PERIODS} periods at {_fq(conv['sample_rate'], 'Hz')}, as the deviation from the "
         f"level ({_fq(level, 'V')}) in LSB of {_fq(lsb, 'V')}, clipped to ±{reach:.3g} LSB: the "
         "sampling capacitor follows the pin while the switch is closed "
         f"({_fq(conv['acquisition'], 's')} from each period's start), then holds. "
         + ("The dashed line marks the acquisition settling." if settled else
-           "The sample never settles within ½ LSB of the level.")))
+           "The sample never settles within ½ LSB of the level."),
+        cv["t"], np.clip(dev_s, -reach, reach), "Voltage − level [LSB]", "sampled (nominal)",
+        window=SettleWindow(settle.nominal, -0.5, 0.5, "level ± ½ LSB") if settled else None,
+        curves=(Curve("pin", np.clip(dev_p, -reach, reach), "without", cv["t"]),)
+        + (() if settled else (Curve("± ½ LSB", half, "input", cv["t"]),
+                               Curve("", -half, "input", cv["t"])))))
     msr = r.metric("max_sample_rate")
     msr_x = msr.nominal if msr is not None else math.nan
-    rate_fig = charts.sweep(
-        f"{sid}-rate", cv["rates"],
-        [{"y": cv["error_rate"], "label": "sample error", "unit": "LSB"}],
-        xlabel="Sample rate", x_unit="Hz", marker_x=conv["sample_rate"], fmt="png",
-        allowed={"lo": -0.5, "hi": 0.5, "label": "± ½ LSB"},
-        markers=[{"x": msr_x, "label": f"highest rate {_fq(msr_x, 'Hz')}"}])
-    blocks.append(_figure(
-        "Sample error against sample rate", rate_fig,
+    blocks.append(SweepChart(
+        f"{sid}-rate", "Sample error against sample rate",
         "Same acquisition time, nominal parts; chosen rate marked. Highest rate within "
         f"½ LSB (nominal): {_fq(msr_x, 'Hz')}"
         + ("" if math.isfinite(msr_x) else " (none: the acquisition alone leaves more than "
-           "½ LSB)") + "."))
-    c_fig = charts.sweep(
-        f"{sid}-cap", cv["c"],
-        [{"y": cv["error_c"], "label": "sample error", "unit": "LSB", "axis": "left"},
-         {"y": cv["kickback_c"], "label": "kickback", "unit": "V", "axis": "right"}],
-        xlabel="Filter capacitance", x_unit="F", marker_x=float(st.parts["c"].value), fmt="png",
-        allowed={"lo": -0.5, "hi": 0.5, "label": "± ½ LSB"})
-    blocks.append(_figure(
-        "Sample error against the filter capacitance", c_fig,
+           "½ LSB)") + ".",
+        cv["rates"], "Sample rate", "Hz", (Curve("sample error", cv["error_rate"], unit="LSB"),),
+        marker_x=conv["sample_rate"], allowed=LevelBand(-0.5, 0.5, "± ½ LSB"),
+        markers=(Marker(msr_x, f"highest rate {_fq(msr_x, 'Hz')}"),)))
+    blocks.append(SweepChart(
+        f"{sid}-cap", "Sample error against the filter capacitance",
         "R held at its value. Too little C: the sampling capacitor's charge pulls the pin "
         "down (kickback) and R cannot refill it within the acquisition; too much C with the "
-        "same R: the pin recovers too slowly between samples."))
-    return blocks
-
-
-def _figure(title, image, caption):
-    return {"type": "figure", "title": title, "image": image, "width": "full",
-            "caption": caption}
+        "same R: the pin recovers too slowly between samples.",
+        cv["c"], "Filter capacitance", "F",
+        (Curve("sample error", cv["error_c"], unit="LSB", axis="left"),
+         Curve("kickback", cv["kickback_c"], unit="V", axis="right")),
+        marker_x=float(st.parts["c"].value), allowed=LevelBand(-0.5, 0.5, "± ½ LSB")))
+    return tuple(blocks)

@@ -2,16 +2,19 @@
 
 This module reads the stage's keys, proposes values when ``parts`` are
 omitted, runs the analysis over the batch of snubber values (the physics is
-rcdoc.analysis.snubber) and lays out its results for the note: waveforms with and
-without the snubber, derived parasitics, stresses, energy and the trade-off
-against the snubber capacitance. It replaces the generic frequency-domain
-analysis (``analyse``). It must not compute physics itself beyond bookkeeping.
+rcdoc.analysis.snubber) and returns a SnubberResult whose block specs
+(rcdoc.analysis.blocks) describe its page: waveforms with and without the
+snubber, derived parasitics, stresses, energy and the trade-off against the
+snubber capacitance; the note draws them. It replaces the generic
+frequency-domain analysis (``analyse``). It must not compute physics itself
+beyond bookkeeping, and never draws.
 """
 
 from __future__ import annotations
 
 import dataclasses
 import math
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -19,8 +22,8 @@ from rcdoc.analysis import checks as checkmod
 from rcdoc.analysis import snubber as phys
 from rcdoc.analysis import spread
 from rcdoc.analysis import worstcase
+from rcdoc.analysis.blocks import Curve, SweepChart, TableBlock, WaveformChart
 from rcdoc.errors import ProjectError
-from rcdoc.note import charts
 from rcdoc.kinds import recipes as sch
 from rcdoc.kinds.recipes import Label
 from rcdoc.input.model import Part
@@ -42,9 +45,6 @@ SWITCH_ONLY = ("ringing", "parasitic")
 LOAD_ONLY = ("coil", "ac", "line_frequency", "stray")
 NOT_FOR_SNUBBERS = ("source", "load", "marks", "drive")
 SNUBBER_C_PER_PARASITIC = 3.0   # proposed C = 3 × C_par ("several times", common practice)
-DISPLAY_POINTS = 400
-SWEEP_POINTS = 25
-SETTLED_BAND = 0.02             # display window: until the node stays within 2 % of V
 
 
 def fq(v, unit, digits=3):
@@ -53,6 +53,28 @@ def fq(v, unit, digits=3):
     if unit == "J":      # energy: the quantity formatter has no joule; same prefixes as watts
         return format_quantity(float(v), "W", digits)[:-1] + "J"
     return format_quantity(float(v), unit, digits)
+
+
+@dataclass(frozen=True)
+class SnubberResult:
+    """The snubber's own results (the KindResult of rcdoc.analysis.results)."""
+    across: str
+    proposed: bool
+    summary: str               # one line for the summary table
+    peak_voltage_v: float      # highest voltage over all samples, supply included
+    record: tuple              # (key, value) pairs of the JSON entry, in order
+    figures: tuple             # block specs of the page (rcdoc.analysis.blocks)
+
+    def blocks(self) -> tuple:
+        return self.figures
+
+    def json(self) -> dict:
+        return {**dict(self.record), "proposed": self.proposed}
+
+
+def _stage_extra(kind_result: SnubberResult) -> dict:
+    """Where the kind result travels in StageResult (until StageResult.kind_result)."""
+    return {"kind_result": kind_result, "json": kind_result.json()}
 
 
 # --------------------------------------------------------------------------
@@ -308,7 +330,7 @@ def analyse(stage, analysis):
             ratings.append(checkmod.judge(metric, m.samples, nominal=m.nominal, wc=m.wc, lo=None,
                                           hi=rating, part=stage.parts[role].ref or role,
                                           detail="rating"))
-    extra["json"]["proposed"] = proposed
+    kind_result = SnubberResult(proposed=proposed, **extra)
     if proposed:
         notes.append("No parts were given: R and C are proposed values (marked 'proposed' in "
                      "the parts table), analysed with the default tolerances (R ±5 %, C ±10 %).")
@@ -318,54 +340,32 @@ def analyse(stage, analysis):
                        band={}, metrics=metrics, verdicts=verdicts, ratings=ratings, phasor={},
                        step=None, pwm=None, part_rows=_part_rows(stage, analysis),
                        assumptions=notes + _assumptions(stage, analysis), samples=batch.samples,
-                       extra=extra)
-
-
-def _display(t: np.ndarray, t_show: float) -> np.ndarray:
-    k = int(np.searchsorted(t, t_show, side="right")) - 1
-    return np.unique(np.linspace(0, max(k, 1), DISPLAY_POINTS).astype(int))
-
-
-def _settle_time(t: np.ndarray, y: np.ndarray, final: float) -> float:
-    out = np.abs(y - final) > SETTLED_BAND * abs(final)
-    return float(t[np.flatnonzero(out)[-1]]) if out.any() else 0.0
-
-
-def _const(rows: int, v: float) -> np.ndarray:
-    return np.full(rows, float(v))
+                       extra=_stage_extra(kind_result))
 
 
 def _switch(stage, batch):
-    o, sid = stage.options, stage.id
-    v, fsw = o["voltage_v"], o["switching_hz"]
-    lp, cp, rp = _switch_fixed(o)
-    z0, f_ring = math.sqrt(lp / cp), float(phys.resonance_hz(lp, cp))
-    w0, rows = 2 * math.pi * f_ring, batch.rows
-    vals = phys.switch_values(lp, cp, rp, rows, batch.values["r"], batch.values["c"])
-    p = phys.poles(phys.switch_network(True), vals, w0)
-    zeta = phys.damping_ratio(p)
-    t = phys.time_grid(p[:1])       # the nominal's grid: no row depends on the others
-    nominal = phys.switch_wave({k: a[:1] for k, a in vals.items()}, v, t, True)[0]
-    t_show = min(t[-1], max(1.5 * _settle_time(t, nominal, v), 8.0 / f_ring))
-    idx = _display(t, t_show)
-    env = phys.Envelope(idx)
-    edge = phys.switch_edge(vals, v, fsw, t, envelope=env,
-                            band_rows=np.arange(batch.mc.start, batch.mc.stop))
-    # Without the snubber: the node rings in Lp, Cp and the loop resistance only.
-    bare = phys.switch_values(lp, cp, rp, 1)
-    zeta_wo = float(phys.damping_ratio(phys.poles(phys.switch_network(False), bare, w0))[0])
-    t_wo = np.linspace(0.0, t[idx[-1]], 4 * DISPLAY_POINTS)
-    y_wo = phys.switch_wave(bare, v, t_wo, False)[0]
-    arrays = {"damping": zeta, "overshoot": edge["overshoot"], "resistor_power": edge["power"],
-              "capacitor_voltage": edge["cap_peak"], "parasitic_c": _const(rows, cp),
-              "parasitic_l": _const(rows, lp), "characteristic_impedance": _const(rows, z0),
-              "ring_frequency": _const(rows, f_ring)}
-    mc = batch.mc
+    o = stage.options
+    v = o["voltage_v"]
+    arrays, q = phys.switch_run(v, o["switching_hz"], *_switch_fixed(o), batch.values,
+                                batch.rows, batch.mc)
+    return arrays, _switch_page(stage, batch, q), phys.switch_network(True), _switch_notes(v)
+
+
+def _load(stage, batch):
+    o = stage.options
+    arrays, q = phys.load_run(o["voltage_v"], o["switching_hz"], o["ac"], o["line_hz"],
+                              o["coil_l_h"], o["coil_r_ohm"], o["stray_f"],
+                              stage.parts["c"].value, batch.values, batch.rows, batch.mc)
+    return arrays, _load_page(stage, batch, q), phys.load_network(True), _load_notes(o["ac"])
+
+
+def _switch_page(stage, batch, q):
+    """The switch snubber's page (block specs), JSON entry and summary line."""
+    o, sid, mc = stage.options, stage.id, batch.mc
+    v, fsw, lp, cp, rp, z0, f_ring = (q[k] for k in ("v", "fsw", "lp", "cp", "rp", "z0",
+                                                      "f_ring"))
+    zeta, zeta_wo, edge, t_wo, y_wo = (q[k] for k in ("zeta", "zeta_wo", "edge", "t_wo", "y_wo"))
     r_n, c_n = stage.parts["r"].value, stage.parts["c"].value
-    wave = charts.time_response(
-        f"{sid}-ring", t[idx], nominal[idx], band=(env.lo, env.hi),
-        series=[{"t": t_wo, "y": y_wo, "label": "without snubber", "role": "without"}],
-        ylabel="Switch node [V]", nominal_label="with snubber (nominal)", fmt="png")
     derived = [["Parasitic capacitance Cp", fq(cp, "F"), _how_cp(o)],
                ["Loop inductance Lp", fq(lp, "H"), "Lp = 1/((2π·f)²·Cp)"],
                ["Characteristic impedance Z0", fq(z0, "ohm"), "Z0 = √(Lp/Cp)"],
@@ -387,18 +387,21 @@ def _switch(stage, batch):
               ["of which C·V²·f_sw", "—", fq(c_n * v * v * fsw, "W"), "—"],
               ["Capacitor peak voltage", "—", fq(edge["cap_peak"][0], "V"),
                _rng(edge["cap_peak"][mc], "V")]]
-    blocks = [_figure("Switch node ringing, with and without the snubber", wave,
-                      f"Node voltage after the switch turns off (a step of {fq(v, 'V')} through "
-                      f"Lp into Cp), nominal with the min–max band of {batch.samples} Monte "
-                      "Carlo samples of R and C; without the snubber the node rings at "
-                      f"{fq(f_ring, 'Hz')} (damped by Rp only)."),
+    blocks = [WaveformChart(
+                  f"{sid}-ring", "Switch node ringing, with and without the snubber",
+                  f"Node voltage after the switch turns off (a step of {fq(v, 'V')} through "
+                  f"Lp into Cp), nominal with the min–max band of {batch.samples} Monte "
+                  "Carlo samples of R and C; without the snubber the node rings at "
+                  f"{fq(f_ring, 'Hz')} (damped by Rp only).",
+                  q["t"], q["nominal"], "Switch node [V]", "with snubber (nominal)",
+                  band=q["band"], curves=(Curve("without snubber", y_wo, "without", t_wo),)),
               _tab("Derived parasitics", ["Quantity", "Value", "From"], derived, None),
               _tab("Stresses", ["Quantity", "Without snubber", "With snubber (nominal)",
                                 "With snubber (Monte Carlo range)"], stress,
                    "Resistor power = (turn-off edge energy + ½·C·V²) × f_sw: the turn-off "
                    "edge from the time-domain solution, the turn-on edge when the switch "
                    "discharges C through R. C·V²·f_sw is the hard-switching share.")]
-    blocks.append(_switch_sweep(sid, lp, cp, rp, r_n, c_n, v, fsw, w0))
+    blocks.append(_switch_sweep(sid, lp, cp, rp, r_n, c_n, v, fsw, q["w0"]))
     peak_all = float(np.nanmax(edge["peak"]))
     json = {"across": "switch", "voltage": v, "switching_frequency": fsw, "parasitic_c": cp,
             "parasitic_l": lp, "loop_resistance": rp, "characteristic_impedance": z0,
@@ -413,16 +416,18 @@ def _switch(stage, batch):
                                     o["measured"]))
     summary = (f"ζ {zeta[0]:.2f}, overshoot {fq(edge['overshoot'][0], 'V')} "
                f"(without {fq(y_wo.max() - v, 'V')}), R {fq(edge['power'][0], 'W')}")
-    notes = [f"Switch node model: the supply of {fq(v, 'V')} feeds the node through the loop "
-             "inductance Lp and resistance Rp; the node carries Cp and the snubber R–C to "
-             "ground. The switch turning off is a step of the node's drive from 0 V to V, "
-             "applied from rest; the network is solved in the time domain (modified nodal "
-             "analysis, Radau IIA steps) for every Monte Carlo sample.",
-             "Damping ratio: of the least damped pole pair of the snubbed network, "
-             "ζ = −(p1 + p2)/(2·√(p1·p2)); 1 or more means no ringing."]
-    extra = {"blocks": blocks, "json": json, "summary": summary,
-             "peak_voltage_v": max(v, peak_all)}
-    return arrays, extra, phys.switch_network(True), notes
+    return {"across": "switch", "figures": tuple(blocks), "record": tuple(json.items()),
+            "summary": summary, "peak_voltage_v": max(v, peak_all)}
+
+
+def _switch_notes(v):
+    return [f"Switch node model: the supply of {fq(v, 'V')} feeds the node through the loop "
+            "inductance Lp and resistance Rp; the node carries Cp and the snubber R–C to "
+            "ground. The switch turning off is a step of the node's drive from 0 V to V, "
+            "applied from rest; the network is solved in the time domain (modified nodal "
+            "analysis, Radau IIA steps) for every Monte Carlo sample.",
+            "Damping ratio: of the least damped pole pair of the snubbed network, "
+            "ζ = −(p1 + p2)/(2·√(p1·p2)); 1 or more means no ringing."]
 
 
 def _how_cp(o):
@@ -434,73 +439,27 @@ def _how_cp(o):
 
 
 def _switch_sweep(sid, lp, cp, rp, r, c, v, fsw, w0):
-    cs = np.logspace(math.log10(min(cp, c / 3)), math.log10(max(10 * cp, 3 * c)), SWEEP_POINTS)
-    vals = phys.switch_values(lp, cp, rp, cs.size, np.full(cs.size, r), cs)
-    p = phys.poles(phys.switch_network(True), vals, w0)
-    edge = phys.switch_edge(vals, v, fsw, phys.time_grid(p))
-    svg = charts.sweep(f"{sid}-tradeoff", cs, [
-        {"y": phys.damping_ratio(p), "label": "damping ratio ζ", "unit": "", "axis": "left"},
-        {"y": edge["power"], "label": "resistor power", "unit": "W", "axis": "right"}],
-        xlabel="Snubber capacitance", x_unit="F", marker_x=c, fmt="png")
-    return _figure("Trade-off: damping and resistor power against C", svg,
-                   f"R held at {fq(r, 'ohm')}; nominal parasitics. More C damps the ringing "
-                   "better but the resistor dissipates about C·V²·f_sw.")
+    cs, zeta, power = phys.switch_tradeoff(lp, cp, rp, r, c, v, fsw, w0)
+    return _tradeoff(sid, "Trade-off: damping and resistor power against C",
+                     f"R held at {fq(r, 'ohm')}; nominal parasitics. More C damps the ringing "
+                     "better but the resistor dissipates about C·V²·f_sw.", cs, c,
+                     (Curve("damping ratio ζ", zeta, unit="", axis="left"),
+                      Curve("resistor power", power, unit="W", axis="right")))
 
 
-def _load(stage, batch):
-    o, sid = stage.options, stage.id
+def _load_page(stage, batch, q):
+    """The inductive-load snubber's page (block specs), JSON entry and summary line."""
+    o, sid, mc = stage.options, stage.id, batch.mc
     v, fsw, ac, line = o["voltage_v"], o["switching_hz"], o["ac"], o["line_hz"]
     vpk, ll, rc, stray = _supply_peak(o), o["coil_l_h"], o["coil_r_ohm"], o["stray_f"]
-    i_a = phys.coil_current(v, ll, rc, ac, line)
-    rows, mc = batch.rows, batch.mc
-    r_all, c_all = batch.values["r"], batch.values["c"]
     r_n, c_n = stage.parts["r"].value, stage.parts["c"].value
-    f_ring, z0 = float(phys.resonance_hz(ll, stray)), math.sqrt(ll / stray)
-    vals = phys.load_values(ll, rc, rows, r_ohm=r_all, c_f=c_all)
-    p = phys.poles(phys.load_network(True), vals, 1.0 / math.sqrt(ll * c_n))
-    zeta = phys.damping_ratio(p)
-    t = phys.time_grid(p[:1], t_min=2.0 / line if ac else 0.0,     # the nominal's grid
-                       t_max=10.0 / line if ac else math.inf)
-    idx = _display(t, t[-1])
-    env = phys.Envelope(idx)
-    kick = phys.load_kick(vals, i_a, ac, line, t, envelope=env,
-                          band_rows=np.arange(mc.start, mc.stop))
-    nom = phys.load_kick({k: a[:1] for k, a in vals.items()}, i_a, ac, line, t,
-                         want=("contact",))
-    bare = phys.load_values(ll, rc, 1, stray_f=stray)
-    t_wo = np.linspace(0.0, 2.5 / f_ring, 4 * DISPLAY_POINTS)
-    y_wo = phys.load_kick_unsnubbed(bare, i_a, ac, line, t_wo)[0]
-    zeta_wo = float(phys.damping_ratio(phys.poles(phys.load_network(False), bare,
-                                                  2 * math.pi * f_ring))[0])
-    # Closing: the capacitor, charged up to the supply's peak, discharges through R into the contact.
-    e_close = 0.5 * c_all * vpk ** 2
-    i_close = vpk / r_all
-    leak = (phys.load_leak(phys.load_values(ll, rc, rows, stray_f=stray, r_ohm=r_all,
-                                            c_f=c_all), v, line) if ac else None)
-    power = (kick["e_open"] + e_close) * fsw + (leak["power"] if ac else 0.0)
-    cap = np.maximum(np.maximum(kick["cap_peak"], vpk), leak["cap_peak"] if ac else 0.0)
-    arrays = {"damping": zeta, "overshoot": kick["peak"] - vpk, "resistor_power": power,
-              "capacitor_voltage": cap, "parasitic_c": _const(rows, stray),
-              "parasitic_l": _const(rows, ll), "characteristic_impedance": _const(rows, z0),
-              "ring_frequency": _const(rows, f_ring)}
+    i_a, f_ring, z0, zeta, zeta_wo, kick, t_wo, y_wo = (
+        q[k] for k in ("i_a", "f_ring", "z0", "zeta", "zeta_wo", "kick", "t_wo", "y_wo"))
+    e_close, i_close, leak, power, cap = (q[k] for k in ("e_close", "i_close", "leak",
+                                                         "power", "cap"))
     supply = f"{fq(v, 'V')} rms" if ac else f"{fq(v, 'V')} DC"
-    w_with = charts.time_response(f"{sid}-kick", t[idx], nom["contact"][0][idx],
-                                  band=(env.lo, env.hi), ylabel="Contact voltage [V]",
-                                  nominal_label="with snubber (nominal)", fmt="png")
-    w_wo = charts.time_response(f"{sid}-kick-bare", t_wo, y_wo, ylabel="Contact voltage [V]",
-                                nominal_label="without snubber", fmt="png")
-    e_coil = 0.5 * ll * i_a ** 2
-    e_rs, e_rc = float(kick["e_open"][0]), float(kick["e_coil_r"][0])
-    e_c_end = 0.5 * c_n * kick["v_c_end"][0] ** 2
-    e_l_end = 0.5 * ll * kick["i_coil_end"][0] ** 2
-    energy = [["Stored in the coil, ½·L·I²", fq(e_coil, "J")],
-              ["Into the snubber resistor while opening", fq(e_rs, "J")],
-              ["Into the coil's own resistance", fq(e_rc, "J")],
-              ["Left on the snubber capacitor (goes into R at the next closing)",
-               fq(e_c_end, "J")],
-              ["Left in the coil at the end of the window", fq(e_l_end, "J")],
-              ["From the supply over the window (balance)",
-               fq(e_rs + e_rc + e_c_end + e_l_end - e_coil, "J")]]
+    e_coil, e_rs = 0.5 * ll * i_a ** 2, float(kick["e_open"][0])
+    energy = _energy_rows(ll, c_n, e_coil, kick)
     derived = [["Coil", f"{fq(ll, 'H')}, {fq(rc, 'ohm')}", "as given"],
                ["Current interrupted", fq(i_a, "A"),
                 "√2·V/|R + jωL| (AC, opening at the current peak)" if ac else "V/R"],
@@ -523,15 +482,19 @@ def _load(stage, batch):
     if ac:
         stress.insert(5, ["Leakage through the snubber, contact open (rms)", "—",
                           fq(leak["i_rms"][0], "A"), _rng(leak["i_rms"][mc], "A")])
-    blocks = [_figure("Contact voltage with the snubber", w_with,
-                      f"Voltage across the contact after it opens on {fq(i_a, 'A')} "
-                      f"({supply} supply), nominal with the min–max band of {batch.samples} "
-                      "Monte Carlo samples of R and C."),
-              _figure("Contact voltage without the snubber", w_wo,
-                      f"The coil's current charges only the {fq(stray, 'F')} stray capacitance: "
-                      f"it rings at {fq(f_ring, 'Hz')} towards {fq(np.abs(y_wo).max(), 'V')}. "
-                      "In practice the contact arcs, or the switch breaks down, well below "
-                      "that; this is what the snubber prevents."),
+    blocks = [WaveformChart(
+                  f"{sid}-kick", "Contact voltage with the snubber",
+                  f"Voltage across the contact after it opens on {fq(i_a, 'A')} "
+                  f"({supply} supply), nominal with the min–max band of {batch.samples} "
+                  "Monte Carlo samples of R and C.", q["t"], q["nominal"],
+                  "Contact voltage [V]", "with snubber (nominal)", band=q["band"]),
+              WaveformChart(
+                  f"{sid}-kick-bare", "Contact voltage without the snubber",
+                  f"The coil's current charges only the {fq(stray, 'F')} stray capacitance: "
+                  f"it rings at {fq(f_ring, 'Hz')} towards {fq(np.abs(y_wo).max(), 'V')}. "
+                  "In practice the contact arcs, or the switch breaks down, well below "
+                  "that; this is what the snubber prevents.", t_wo, y_wo,
+                  "Contact voltage [V]", "without snubber"),
               _tab("Derived parasitics", ["Quantity", "Value", "From"], derived, None),
               _tab("Stresses", ["Quantity", "Without snubber", "With snubber (nominal)",
                                 "With snubber (Monte Carlo range)"], stress,
@@ -556,39 +519,52 @@ def _load(stage, batch):
                      "leakage_power": float(leak["power"][0])})
     summary = (f"contact peak {fq(kick['peak'][0], 'V')} (without {fq(np.abs(y_wo).max(), 'V')}),"
                f" R {fq(power[0], 'W')}")
-    notes = [("Inductive load model: the coil (L in series with its resistance) carries "
-              + ("the peak current of the AC supply when the contact opens (the worst case)"
-                 if ac else "V/R when the contact opens")
-              + ". By the compensation theorem the contact voltage is the response of the "
-              "network with the supply shorted and the contact removed to the current the "
-              "contact carried, injected across it; that current source and the branch across "
-              "the contact become an equivalent voltage source (Norton–Thevenin), solved in "
-              "the time domain for every Monte Carlo sample."),
-             "With the snubber fitted the stray capacitance is left out (far smaller than C; it "
-             "only slows the first jump of the contact voltage).",
-             "When the contact closes the snubber capacitor, charged up to the supply's peak, "
-             "discharges through R into the contact: peak current V/R, energy ½·C·V²."]
-    extra = {"blocks": blocks, "json": json, "summary": summary,
-             "peak_voltage_v": max(vpk, peak_all)}
-    return arrays, extra, phys.load_network(True), notes
+    return {"across": "inductive-load", "figures": tuple(blocks),
+            "record": tuple(json.items()), "summary": summary,
+            "peak_voltage_v": max(vpk, peak_all)}
+
+
+def _energy_rows(ll, c_n, e_coil, kick) -> list:
+    """Where the coil's energy goes (nominal, one opening), from the kick's integrals."""
+    e_rs, e_rc = float(kick["e_open"][0]), float(kick["e_coil_r"][0])
+    e_c_end = 0.5 * c_n * kick["v_c_end"][0] ** 2
+    e_l_end = 0.5 * ll * kick["i_coil_end"][0] ** 2
+    return [["Stored in the coil, ½·L·I²", fq(e_coil, "J")],
+            ["Into the snubber resistor while opening", fq(e_rs, "J")],
+            ["Into the coil's own resistance", fq(e_rc, "J")],
+            ["Left on the snubber capacitor (goes into R at the next closing)",
+             fq(e_c_end, "J")],
+            ["Left in the coil at the end of the window", fq(e_l_end, "J")],
+            ["From the supply over the window (balance)",
+             fq(e_rs + e_rc + e_c_end + e_l_end - e_coil, "J")]]
+
+
+def _load_notes(ac):
+    return [("Inductive load model: the coil (L in series with its resistance) carries "
+             + ("the peak current of the AC supply when the contact opens (the worst case)"
+                if ac else "V/R when the contact opens")
+             + ". By the compensation theorem the contact voltage is the response of the "
+             "network with the supply shorted and the contact removed to the current the "
+             "contact carried, injected across it; that current source and the branch across "
+             "the contact become an equivalent voltage source (Norton–Thevenin), solved in "
+             "the time domain for every Monte Carlo sample."),
+            "With the snubber fitted the stray capacitance is left out (far smaller than C; it "
+            "only slows the first jump of the contact voltage).",
+            "When the contact closes the snubber capacitor, charged up to the supply's peak, "
+            "discharges through R into the contact: peak current V/R, energy ½·C·V²."]
 
 
 def _load_sweep(sid, o, i_a, r, c):
-    ll, rc, ac, line = o["coil_l_h"], o["coil_r_ohm"], o["ac"], o["line_hz"]
-    cs = np.logspace(math.log10(c / 10), math.log10(c * 10), SWEEP_POINTS)
-    vals = phys.load_values(ll, rc, cs.size, r_ohm=np.full(cs.size, r), c_f=cs)
-    p = phys.poles(phys.load_network(True), vals, 1.0 / math.sqrt(ll * c))
-    t = phys.time_grid(p, t_min=2.0 / line if ac else 0.0, t_max=10.0 / line if ac else math.inf)
-    kick = phys.load_kick(vals, i_a, ac, line, t)
-    power = (kick["e_open"] + 0.5 * cs * _supply_peak(o) ** 2) * o["switching_hz"]
-    svg = charts.sweep(f"{sid}-tradeoff", cs, [
-        {"y": kick["peak"], "label": "peak contact voltage", "unit": "V", "axis": "left"},
-        {"y": power, "label": "resistor power (switching)", "unit": "W", "axis": "right"}],
-        xlabel="Snubber capacitance", x_unit="F", marker_x=c, fmt="png")
-    return _figure("Trade-off: contact voltage and resistor power against C", svg,
-                   f"R held at {fq(r, 'ohm')}. More C lowers the kick but stores more energy, "
-                   "dumped into R at every closing" + (", and lets more current leak through "
-                                                       "the open contact." if ac else "."))
+    ac = o["ac"]
+    cs, peak, power = phys.load_tradeoff(o["coil_l_h"], o["coil_r_ohm"], ac, o["line_hz"], i_a,
+                                         _supply_peak(o), o["switching_hz"], r, c)
+    return _tradeoff(sid, "Trade-off: contact voltage and resistor power against C",
+                     f"R held at {fq(r, 'ohm')}. More C lowers the kick but stores more "
+                     "energy, dumped into R at every closing"
+                     + (", and lets more current leak through the open contact." if ac
+                        else "."), cs, c,
+                     (Curve("peak contact voltage", peak, unit="V", axis="left"),
+                      Curve("resistor power (switching)", power, unit="W", axis="right")))
 
 
 def _rng(a: np.ndarray, unit: str) -> str:
@@ -600,9 +576,10 @@ def _rng(a: np.ndarray, unit: str) -> str:
     return f"{fq(a.min(), unit)} … {fq(a.max(), unit)}"
 
 
-def _figure(title, svg, caption):
-    return {"type": "figure", "title": title, "image": svg, "width": "full", "caption": caption}
+def _tradeoff(sid, title, caption, cs, c, curves) -> SweepChart:
+    return SweepChart(f"{sid}-tradeoff", title, caption, cs, "Snubber capacitance", "F",
+                      curves, marker_x=c)
 
 
 def _tab(title, columns, rows, note):
-    return {"type": "table", "title": title, "columns": columns, "rows": rows, "note": note}
+    return TableBlock(title, columns, rows, note)

@@ -1,8 +1,10 @@
-"""The design note's content: StageResults -> the report context (tables,
-figures as SVG text, paragraphs) that templates/note.html lays out.
+"""The design note's content, drawing-free part: number formatting, the stage's
+tables (parts, checks, ratings, metrics, sensitivities), the summary rows and
+the appendix texts.
 
-Figures are drawn by rcdoc.note from the results' arrays; nothing here
-computes physics, and nothing here knows HTML.
+rcdoc.note.page builds the whole report context (with the figures) from these;
+the terminal, the diff and the machine-readable outputs read the formatting
+helpers here without loading any drawing library.
 """
 
 from __future__ import annotations
@@ -11,16 +13,11 @@ import math
 
 import numpy as np
 
-from rcdoc import __version__
 from rcdoc.analysis.analyse import StageResult
-from rcdoc.note import charts
-from rcdoc.kinds import recipes as sch
-from rcdoc.kinds import KINDS
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Project
-from rcdoc.input.project import paragraphs
-from rcdoc.input.quantities import format_quantity, parse_quantity
-from rcdoc.note.summary import board_status
+from rcdoc.input.quantities import format_quantity
+from rcdoc.kinds import KINDS
 
 SAFETY_ITEMS = (
     "Hazardous voltage: this stage works at a voltage that can injure or kill. Only "
@@ -74,7 +71,9 @@ def stage_voltage(r: StageResult) -> float:
     for p in st.parts.values():
         if p.bias_v:
             v = max(v, p.bias_v)
-    v = max(v, float(r.extra.get("peak_voltage_v", 0.0)))
+    kr = kind_result(r)
+    if kr is not None:
+        v = max(v, float(kr.peak_voltage_v))
     m = r.metric("capacitor_voltage")
     if m is not None and math.isfinite(m.nominal):
         v = max(v, m.nominal)
@@ -206,271 +205,28 @@ def sensitivity_table(r: StageResult) -> dict | None:
                     "design; parts ranked by their largest effect."}
 
 
-def bode_limits(r: StageResult) -> list[dict]:
-    out = []
-    for c in r.stage.checks:
-        if c.metric in ("gain", "phase"):
-            out.append({"panel": c.metric, "f_lo": c.at_hz, "f_hi": c.at_hz, "min": c.min,
-                        "max": c.max, "label": metric_label(c.metric, c.at_hz)})
-        elif c.metric in ("corner", "corner_low", "corner_high", "f0"):
-            out.append({"panel": "corner", "f_lo": None, "f_hi": None, "min": c.min,
-                        "max": c.max, "label": metric_label(c.metric)})
-    return out
-
-
-def bode_figure(r: StageResult) -> dict:
-    gain = 20 * np.log10(np.abs(r.h_nominal))
-    phase = np.degrees(np.unwrap(np.angle(r.h_nominal)))
-    corner_m = next((m for m in r.metrics if m.name in ("corner", "f0")), None)
-    corner = corner_m.nominal if corner_m and math.isfinite(corner_m.nominal) else None
-    spread_ = None
-    if corner_m is not None:
-        s = corner_m.samples[np.isfinite(corner_m.samples)]
-        if s.size:
-            spread_ = (float(s.min()), float(s.max()))
-    marks = []
-    for m in r.metrics:
-        if m.name == "gain" and m.at_hz is not None:
-            ph = r.metric("phase", m.at_hz)
-            marks.append((m.at_hz, m.nominal, ph.nominal if ph else math.nan))
-    svg = charts.bode(f"{r.stage.id}-bode", r.freqs_hz, gain, phase, band=r.band,
-                      corner_hz=corner, corner_spread=spread_, marks=marks,
-                      limits=bode_limits(r), title="", fmt="png")
-    return {"type": "figure", "title": "Frequency response", "image": svg, "width": "full",
-            "caption": f"Gain and phase, nominal (line) with the spread of {r.samples} Monte "
-                       "Carlo samples: outer band min–max, inner band 5–95 %. Shaded regions "
-                       "are forbidden by the checks."}
-
-
-def phasor_figure(r: StageResult) -> dict | None:
-    ph = r.phasor
-    if not ph:
-        return None
-    vectors, tail = [], 0j
-    for name, kind, v in ph["vectors"]:
-        ref = _ref_of(r, name)
-        vectors.append({"label": f"V({ref}) {abs(v):.3g} V", "value": v, "kind": kind,
-                        "tail": tail})
-        tail += v
-    if ph["closing"] is not None:
-        node, v = ph["closing"]
-        vectors.append({"label": f"V({node}) to ground {abs(v):.3g} V", "value": v,
-                        "kind": "C", "tail": tail})
-    vectors.append({"label": "Source 1 V", "value": ph["source"], "kind": "source", "tail": 0j})
-    if ph["output"] is not None and ph["closing"] is not None:
-        vectors.append({"label": f"Output {abs(ph['output']):.3g} V", "value": ph["output"],
-                        "kind": "sum", "tail": 0j})
-    if ph["reference"] == "current":
-        ref_label = f"Current {fq(abs(ph['current']), 'A')} (reference)"
-        angle = math.degrees(math.atan2(ph["source"].imag, ph["source"].real))
-    else:
-        ref_label = "Source voltage (reference)"
-        angle = (math.degrees(math.atan2(ph["output"].imag, ph["output"].real))
-                 if ph["output"] is not None else None)
-    svg = charts.phasor(f"{r.stage.id}-phasor", vectors, reference_label=ref_label,
-                        freq_hz=ph["freq_hz"], angle_deg=angle, fmt="png")
-    what = ("the series current, common to every part on the path, is the reference direction"
-            if ph["reference"] == "current" else "the source voltage is the reference direction")
-    return {"type": "figure", "title": f"Phasors at {fq(ph['freq_hz'], 'Hz')}", "image": svg,
-            "width": "full",
-            "caption": f"Part voltages head to tail for a 1 V rms source at "
-                       f"{fq(ph['freq_hz'], 'Hz')}; they add up to the source voltage; {what}."}
-
-
-def _ref_of(r: StageResult, element: str) -> str:
-    p = r.stage.parts.get(element)
-    if p is not None:
-        return p.ref or p.role
-    return {"source.r": "Rs", "source.l": "Ls", "load.r": "RL", "load.c": "CL"}.get(element, element)
-
-
-def time_figures(r: StageResult) -> list[dict]:
-    out = []
-    if r.step is not None:
-        s = r.step
-        window = None
-        # Show the settling band a check asks for, else the default one.
-        checked = {v.detail for v in r.verdicts if v.metric == "settling"}
-        settling = [m for m in r.metrics if m.name == "settling"]
-        st = next((m for m in settling if m.detail in checked), settling[0] if settling else None)
-        fin = s["nominal"][-1]
-        if st is not None and math.isfinite(st.nominal):
-            band = 0.01
-            if st.detail.startswith("within"):
-                band = float(st.detail.split()[1]) / 100
-            elif " bits of " in st.detail:      # half an LSB of a full scale, in volts
-                n, fs = st.detail.split(" bits of ")
-                band = parse_quantity(fs, "V") / 2.0 ** (int(n) + 1) / max(abs(fin), 1e-300)
-            elif st.detail.endswith("bits"):
-                band = 2.0 ** -(int(st.detail.split()[0]) + 1)
-            window = {"t": st.nominal, "lo": fin * (1 - band), "hi": fin * (1 + band),
-                      "label": f"settled {st.detail}: {fq(st.nominal, 's')}"}
-        svg = charts.time_response(f"{r.stage.id}-step", s["t"], s["nominal"],
-                                   band=(s["min"], s["max"]), window=window,
-                                   ylabel="Output [V]", fmt="png")
-        out.append({"type": "figure", "title": "Step response", "image": svg, "width": "full",
-                    "caption": f"Output for a {fq(r.stage.drive.amplitude_v, 'V')} step at t = 0, "
-                               "nominal with the min–max band over the samples."})
-    if r.pwm is not None:
-        w = r.pwm
-        svg = charts.time_response(f"{r.stage.id}-pwm", w["t"], w["nominal"],
-                                   band=(w["min"], w["max"]),
-                                   ylabel="Output − its mean [V]", series=(), fmt="png")
-        d = r.stage.drive
-        out.append({"type": "figure", "title": "PWM ripple (steady state)", "image": svg,
-                    "width": "full",
-                    "caption": f"One period of the output in steady state for a "
-                               f"{fq(d.amplitude_v, 'V')} PWM drive at {fq(d.frequency_hz, 'Hz')}, "
-                               f"duty {d.duty * 100:g} %, shown about its mean "
-                               f"({fq(w['mean'], 'V')} nominal); min–max band over the samples."})
-    return out
-
-
-def histogram_figures(r: StageResult) -> list[dict]:
-    out = []
-    for v in r.verdicts:
-        m = next((m for m in r.metrics if (m.name, m.at_hz, m.detail) ==
-                  (v.metric, v.at_hz, v.detail)), None)
-        if m is None:
-            continue
-        s = m.samples[np.isfinite(m.samples)]
-        if s.size < 2:
-            continue
-        unit = METRICS[m.name].unit
-        svg = charts.histogram(f"{r.stage.id}-hist-{len(out)}", s, nominal=m.nominal,
-                               lo=v.min, hi=v.max, label=metric_label(m.name, m.at_hz, m.detail),
-                               unit=unit, fmt="png")
-        out.append({"type": "figure", "title": f"Distribution: {metric_label(m.name, m.at_hz, m.detail)}",
-                    "image": svg, "width": "half",
-                    "caption": f"{s.size} samples; shaded: outside the limits."})
-    return out
-
-
-def stage_context(r: StageResult, project: Project) -> dict:
-    st = r.stage
-    kind = KINDS[st.kind]
-    blocks: list[dict] = []
-    recipe = kind.schematic(st)
-    blocks.append({"type": "figure", "title": "Schematic", "image": sch.render_svg(recipe),
-                   "width": "natural", "caption": _schematic_caption(r)})
-    blocks.append(parts_table(r))
-    from rcdoc.note.alternatives import alternatives_block
-    alt = alternatives_block(r, project.analysis, fq, metric_label)
-    if alt:
-        blocks.append(alt)
-    for t in (checks_table(r), ratings_table(r)):
-        if t:
-            blocks.append(t)
-    for b in r.extra.get("blocks_before", []):
-        blocks.append(b)
-    blocks.append(metrics_table(r))
-    # An unstable nominal has no steady-state response to draw.
-    if (r.h_nominal is not None and r.freqs_hz is not None and len(r.freqs_hz)
-            and not r.unstable_poles):
-        blocks.append(bode_figure(r))
-    pf = phasor_figure(r)
-    if pf:
-        blocks.append(pf)
-    blocks += time_figures(r)
-    blocks += r.extra.get("blocks", [])
-    blocks += histogram_figures(r)
-    sens = sensitivity_table(r)
-    if sens:
-        blocks.append(sens)
-    blocks.append({"type": "text", "title": "Assumptions",
-                   "paragraphs": list(_analysis_sentences(r, project)) + list(r.assumptions)})
-    v = stage_voltage(r)
-    safety = None
-    if v > project.board.hazardous_voltage_v:
-        safety = {"voltage": fq(v, "V"), "items": list(SAFETY_ITEMS)}
-    return {"id": st.id, "title": st.title, "kind": KINDS[st.kind].TITLE,
-            "status": r.status, "notes": list(paragraphs(st.notes)) if st.notes else [],
-            "safety": safety, "caution": stability_caution(r), "blocks": blocks}
-
-
-def pole_text(p: complex) -> str:
-    """A pole in Hz as a complex value: "120 Hz + j 3.4 kHz"."""
-    re, im = p.real / (2 * math.pi), p.imag / (2 * math.pi)
-    sign = "−" if im < 0 else "+"
-    return f"{fq(re, 'Hz')} {sign} j {fq(abs(im), 'Hz')}"
-
-
-def stability_caution(r: StageResult) -> dict | None:
-    """The caution box of an unstable stage: the offending poles of the nominal design,
-    or how many Monte Carlo samples are unstable."""
-    items = []
-    if r.unstable_poles:
-        items.append("The nominal design is unstable: it has poles in the right half-plane or "
-                     "on the imaginary axis (s/2π): "
-                     + "; ".join(pole_text(p) for p in r.unstable_poles)
-                     + ". Its metrics are missing, every check fails and no time response, "
-                     "noise or steady state is computed.")
-    if r.samples_unstable:
-        items.append(f"{r.samples_unstable} of {r.samples} Monte Carlo samples are unstable; "
-                     "their metrics are missing and they count as failing every check.")
-    if not items:
-        return None
-    return {"title": "Unstable", "items": items}
-
-
-def _schematic_caption(r: StageResult) -> str:
-    st = r.stage
-    bits = []
-    if st.source_r or st.source_l:
-        bits.append("the source impedance (Rs, Ls) is part of the analysis")
-    if st.load_r is not None or st.load_c is not None:
-        bits.append("the load (RL, CL) is part of the analysis")
-    return ("Values as marked; " + "; ".join(bits) + ".") if bits else \
-        "Values as marked; ideal source, output unloaded."
-
-
-def _analysis_sentences(r: StageResult, project: Project):
-    a = project.analysis
-    t0, t1 = a.temperature_c
-    temp = f"{t0:g} °C" if t0 == t1 else f"{t0:g} °C to {t1:g} °C"
-    yield (f"{r.samples} Monte Carlo samples, seed {a.seed}, {a.distribution} tolerance "
-           f"distribution" + (" (tolerance = 3σ)" if a.distribution == "normal" else "") +
-           f"; ambient {temp}, one temperature per sample shared by all parts.")
-    if len(r.freqs_hz):      # kinds with their own analysis (snubbers) have no sweep
-        yield (f"Sweep {fq(r.freqs_hz[0], 'Hz')} to {fq(r.freqs_hz[-1], 'Hz')}, "
-               f"{a.points_per_decade} points per decade; noise integrated over the sweep at "
-               f"{t1:g} °C.")
-
-
 def summary_rows(results: list[StageResult]) -> list[dict]:
     rows = []
     for r in results:
         # The kind's own one-line summary, else the first frequency of its headline.
-        key = None if "summary" in r.extra else next((m for m in r.metrics if m.name in KINDS[
-            r.stage.kind].HEADLINE and METRICS[m.name].unit == "Hz"), None)
+        kr = kind_result(r)
+        own = kr is not None and kr.summary not in ("", "—")
+        key = None if own else next(
+            (m for m in r.metrics if m.name in KINDS[r.stage.kind].HEADLINE
+             and METRICS[m.name].unit == "Hz"), None)
         if key is not None:
             unit = METRICS[key.name].unit
             s = key.samples[np.isfinite(key.samples)]
             spread_ = f" ({fq(s.min(), unit)} … {fq(s.max(), unit)})" if s.size else ""
             key_text = f"{METRICS[key.name].label.split(' (')[0]}: {fq(key.nominal, unit)}{spread_}"
         else:
-            key_text = r.extra.get("summary", "—")
+            kr = kind_result(r)
+            key_text = kr.summary if kr is not None else "—"
         n = len(r.verdicts) + len(r.ratings)
         ok = sum(v.status == "pass" for v in r.verdicts + r.ratings)
         rows.append({"id": r.stage.id, "cells": [r.stage.title, KINDS[r.stage.kind].TITLE,
                                                  key_text, f"{ok} of {n}", r.status]})
     return rows
-
-
-def overview_image(results: list[StageResult]) -> str | None:
-    rows = []
-    for r in results:
-        m = next((m for m in r.metrics if m.name in ("corner", "f0", "corner_low",
-                                                      "ring_frequency")), None)
-        if m is None or not math.isfinite(m.nominal):
-            continue
-        s = m.samples[np.isfinite(m.samples)]
-        rows.append({"label": r.stage.id, "nominal": m.nominal,
-                     "min": float(s.min()) if s.size else m.nominal,
-                     "max": float(s.max()) if s.size else m.nominal, "status": r.status})
-    if not rows:
-        return None
-    return charts.corner_overview("board-overview", rows, fmt="png")
 
 
 def method_appendix() -> list[dict]:
@@ -566,30 +322,12 @@ def bom_appendix(project: Project) -> list[dict]:
                  "analysed here."}]}]
 
 
-def note_context(project: Project, results: list[StageResult], *, extra_appendix=(),
-                 stage_contexts: list[dict] | None = None, changes: dict | None = None) -> dict:
-    """The whole note's context. ``stage_contexts`` (one stage_context per result,
-    made in worker processes or taken from the build cache) saves drawing them here;
-    ``changes`` (rcdoc.commands.since.changes_section) goes right after the summary."""
-    b = project.board
-    a = project.analysis
-    t0, t1 = a.temperature_c
-    return {
-        "title": f"Design note: {b.name} rev {b.revision}",
-        "generator": f"rcdoc {__version__}",
-        "board": {"name": b.name, "revision": b.revision, "date": b.date,
-                  "authors": list(b.authors), "notes": list(paragraphs(b.notes)) if b.notes else []},
-        "status": board_status(results),
-        "analysis": [["Stages", str(len(results))],
-                     ["Monte Carlo samples per stage", str(a.samples)],
-                     ["Seed", str(a.seed)], ["Tolerance distribution", a.distribution],
-                     ["Ambient temperature", f"{t0:g} °C" if t0 == t1 else f"{t0:g} °C to {t1:g} °C"],
-                     ["Hazardous voltage threshold", fq(b.hazardous_voltage_v, "V")]],
-        "summary": {"columns": ["Stage", "Kind", "Key result (spread)", "Checks passed",
-                                "Verdict"], "rows": summary_rows(results)},
-        "overview_image": overview_image(results),
-        "stages": (list(stage_contexts) if stage_contexts is not None
-                   else [stage_context(r, project) for r in results]),
-        "appendix": list(extra_appendix) + bom_appendix(project) + method_appendix(),
-        "changes": changes,
-    }
+def kind_result(r: StageResult):
+    """The stage's kind result (rcdoc.analysis.results.KindResult), or None.
+
+    Read from ``StageResult.kind_result`` where it exists, else from where the
+    kind modules file it until then (``extra["kind_result"]``)."""
+    found = getattr(r, "kind_result", None)
+    if found is None:
+        found = (getattr(r, "extra", None) or {}).get("kind_result")
+    return found

@@ -1,0 +1,292 @@
+"""Charts over time and samples: time response, histogram, corner overview, sweep.
+
+Drawn from arrays the engine computed, with the shared figure life cycle and
+formatting of rcdoc.note.charts (deterministic SVG or PNG).
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Mapping, Sequence
+
+import numpy as np
+from matplotlib.lines import Line2D
+from matplotlib.patches import Patch
+
+from rcdoc.note import palette as pal
+from rcdoc.note.charts import (_arr, _AxisEngFormatter, _check_fig_id, _eng, _finish, _finite,
+                               _grid, _legend, _log_axis, _new_figure, _same_shape, _styled,
+                               _tick_formatter)
+
+
+# ---------------------------------------------------------------------------
+# Time response
+
+_ROLE_STYLE = {
+    "without": (pal.WITHOUT, 1.1, "-"),
+    "with": (pal.WITH, 1.4, "-"),
+    "input": (pal.INPUT, 0.9, (0, (3, 1.5))),
+}
+
+
+def time_response(fig_id: str, t_s, nominal, *, band=None, window: Mapping | None = None,
+                  series: Sequence[Mapping] = (), ylabel: str = "Output [V]", title: str = "",
+                  nominal_label: str = "nominal", fmt: str = "svg") -> str | bytes:
+    """A waveform against time with its min-max band, settling window and extra curves.
+
+    `band` = (lo, hi) arrays on `t_s`; `window` = {"t", "lo", "hi", "label"}:
+    the tolerance strip [lo, hi] and a line at the settling time t; `series` =
+    [{"t", "y", "label", "role": "without"|"with"|"input"}].
+    """
+    _check_fig_id(fig_id)
+    t = _arr(t_s, "t_s")
+    y = _same_shape(t, _arr(nominal, "nominal"), "nominal")
+    curves = []
+    for i, s in enumerate(series):
+        role = s.get("role")
+        if role not in _ROLE_STYLE:
+            raise ValueError(f"series[{i}].role must be one of {sorted(_ROLE_STYLE)}, got {role!r}")
+        st = _arr(s["t"], f"series[{i}].t")
+        curves.append((st, _same_shape(st, _arr(s["y"], f"series[{i}].y"), f"series[{i}].y"),
+                       str(s["label"]), role))
+
+    with _styled(fig_id):
+        fig = _new_figure(3.3)
+        ax = fig.add_subplot()
+        _grid(ax)
+        handles = []
+        if window is not None:
+            w_t, w_lo, w_hi = float(window["t"]), float(window["lo"]), float(window["hi"])
+            ax.axhspan(w_lo, w_hi, color=pal.ALLOWED, linewidth=0, zorder=0.5)
+            ax.axvline(w_t, color=pal.PASS, linewidth=0.9, linestyle=(0, (4, 2)), zorder=2)
+            handles.append(Patch(color=pal.ALLOWED, label=str(window.get("label", "tolerance"))))
+            handles.append(Line2D([], [], color=pal.PASS, linewidth=0.9, linestyle=(0, (4, 2)),
+                                  label=f"settled at {_eng(w_t, 's')}"))
+        if band is not None:
+            lo = _same_shape(t, _arr(band[0], "band[0]"), "band[0]")
+            hi = _same_shape(t, _arr(band[1], "band[1]"), "band[1]")
+            ax.fill_between(t, lo, hi, color=pal.BAND_OUTER, linewidth=0, zorder=1)
+            handles.append(Patch(color=pal.BAND_OUTER, label="Monte Carlo min–max"))
+        for st, sy, label, role in curves:
+            color, width, style = _ROLE_STYLE[role]
+            ax.plot(st, sy, color=color, linewidth=width, linestyle=style, zorder=2.5)
+            if label:           # an unlabelled curve continues the one before it in the legend
+                handles.append(Line2D([], [], color=color, linewidth=width, linestyle=style, label=label))
+        ax.plot(t, y, color=pal.NOMINAL, linewidth=1.5, zorder=3)
+        handles.insert(0, Line2D([], [], color=pal.NOMINAL, linewidth=1.5, label=nominal_label))
+
+        t_all = _finite(t, *(c[0] for c in curves))
+        if t_all.size and t_all.max() > t_all.min():
+            ax.set_xlim(float(t_all.min()), float(t_all.max()))
+        ax.xaxis.set_major_formatter(_AxisEngFormatter())
+        unit = re.search(r"\[([^\]]*)\]\s*$", ylabel)
+        ax.yaxis.set_major_formatter(_tick_formatter(unit.group(1) if unit else ""))
+        ax.set_xlabel("Time [s]")
+        ax.set_ylabel(ylabel)
+        _legend(fig, handles)
+        return _finish(fig, fig_id, title, fmt)
+
+
+# ---------------------------------------------------------------------------
+# Histogram of Monte Carlo samples
+
+
+def histogram(fig_id: str, samples, *, nominal: float, lo: float | None = None, hi: float | None = None,
+              label: str, unit: str, title: str = "", fmt: str = "svg") -> str | bytes:
+    """Histogram of Monte Carlo samples with the nominal and the limits [lo, hi]."""
+    _check_fig_id(fig_id)
+    x = _arr(samples, "samples")
+    x = x[np.isfinite(x)]
+    if x.size == 0:
+        raise ValueError("samples: no finite values")
+    nominal = float(nominal)
+
+    with _styled(fig_id):
+        fig = _new_figure(2.9)
+        ax = fig.add_subplot()
+        ax.grid(True, axis="y", color=pal.GRID, linewidth=0.6)
+        x_min, x_max = float(x.min()), float(x.max())
+        if x_max > x_min:
+            edges = np.histogram_bin_edges(x, bins="auto")
+            if edges.size > 61:
+                edges = np.linspace(x_min, x_max, 61)
+        else:
+            half = abs(x_min) * 1e-3 or 1e-12
+            edges = np.array([x_min - half, x_min + half])
+        counts, edges = np.histogram(x, bins=edges)
+        ax.stairs(counts, edges, fill=True, color=pal.BAND_INNER, zorder=2)
+        ax.stairs(counts, edges, color=pal.NOMINAL, linewidth=0.7, zorder=2.1)
+        handles = [Patch(facecolor=pal.BAND_INNER, edgecolor=pal.NOMINAL, linewidth=0.7,
+                         label=f"Monte Carlo, {x.size} samples")]
+        ax.axvline(nominal, color=pal.INK, linewidth=1.4, zorder=3)
+        handles.append(Line2D([], [], color=pal.INK, linewidth=1.4, label=f"nominal {_eng(nominal, unit)}"))
+
+        bounds = [x_min, x_max, nominal] + [v for v in (lo, hi) if v is not None]
+        span = max(bounds) - min(bounds) or abs(nominal) or 1.0
+        left, right = min(bounds) - 0.08 * span, max(bounds) + 0.08 * span
+        ax.set_xlim(left, right)
+        ax.set_ylim(0, max(int(counts.max()), 1) * 1.12)
+        outside = 0
+        if lo is not None:
+            ax.axvspan(left, float(lo), facecolor=pal.LIMIT, edgecolor="none", zorder=0.5)
+            ax.axvline(float(lo), color=pal.LIMIT_EDGE, linewidth=1.2, zorder=2.5)
+            outside += int(np.count_nonzero(x < float(lo)))
+        if hi is not None:
+            ax.axvspan(float(hi), right, facecolor=pal.LIMIT, edgecolor="none", zorder=0.5)
+            ax.axvline(float(hi), color=pal.LIMIT_EDGE, linewidth=1.2, zorder=2.5)
+            outside += int(np.count_nonzero(x > float(hi)))
+        if lo is not None or hi is not None:
+            handles.append(Patch(facecolor=pal.LIMIT, edgecolor=pal.LIMIT_EDGE, linewidth=0.8,
+                                 label=f"outside requirement ({outside} of {x.size})"))
+
+        ax.xaxis.set_major_formatter(_tick_formatter(unit))
+        ax.set_xlabel(f"{label} [{unit}]" if unit else label)
+        ax.set_ylabel("Samples per bin")
+        _legend(fig, handles)
+        return _finish(fig, fig_id, title, fmt)
+
+
+# ---------------------------------------------------------------------------
+# Corner frequencies of all stages
+
+
+def corner_overview(fig_id: str, rows: Sequence[Mapping], title: str = "", *, fmt: str = "svg") -> str | bytes:
+    """One row per stage on a shared log-frequency axis: nominal and min-max, by status."""
+    _check_fig_id(fig_id)
+    parsed = []
+    for i, row in enumerate(rows):
+        status = row.get("status")
+        if status not in ("pass", "fail"):
+            raise ValueError(f"rows[{i}].status must be 'pass' or 'fail', got {status!r}")
+        nom = float(row["nominal"])
+        f_min = float(row["min"]) if row.get("min") is not None else nom
+        f_max = float(row["max"]) if row.get("max") is not None else nom
+        if min(nom, f_min, f_max) <= 0 or not all(map(math.isfinite, (nom, f_min, f_max))):
+            raise ValueError(f"rows[{i}]: frequencies must be positive and finite")
+        parsed.append((str(row["label"]), nom, f_min, f_max, status))
+    if not parsed:
+        raise ValueError("rows: need at least one stage")
+
+    with _styled(fig_id):
+        fig = _new_figure(1.2 + 0.3 * len(parsed))
+        ax = fig.add_subplot()
+        _grid(ax)
+        for i, (label, nom, f_min, f_max, status) in enumerate(parsed):
+            color = pal.PASS if status == "pass" else pal.FAIL
+            ax.plot([f_min, f_max], [i, i], color=color, linewidth=3.0, alpha=0.45,
+                    solid_capstyle="butt", zorder=2)
+            ax.plot([nom], [i], marker="o", markersize=5, color=color, linestyle="none", zorder=3)
+            ax.annotate(_eng(nom, "Hz"), xy=(f_max, i), xytext=(6, 0), textcoords="offset points",
+                        ha="left", va="center", color=pal.INK, zorder=4)
+        lo = min(p[2] for p in parsed)
+        hi = max(p[3] for p in parsed)
+        # At least a decade on each side keeps single stages readable and leaves room for values.
+        x_lo = 10.0 ** math.floor(math.log10(lo) - 0.3)
+        x_hi = 10.0 ** math.ceil(math.log10(hi) + 0.5)
+        ax.set_xscale("log")
+        ax.set_xlim(x_lo, x_hi)
+        _log_axis(ax.xaxis, x_lo, x_hi)
+        ax.grid(False, which="minor")
+        ax.set_ylim(len(parsed) - 0.4, -0.6)
+        ax.set_yticks(range(len(parsed)), [p[0] for p in parsed])
+        ax.tick_params(axis="y", length=0)
+        ax.grid(False, axis="y", which="both")
+        ax.set_xlabel("Corner frequency [Hz]")
+        handles = []
+        for status, color in (("pass", pal.PASS), ("fail", pal.FAIL)):
+            if any(p[4] == status for p in parsed):
+                handles.append(Line2D([], [], color=color, marker="o", markersize=5, linewidth=3.0,
+                                      alpha=1.0, label=f"{status}: nominal and min–max"))
+        _legend(fig, handles)
+        return _finish(fig, fig_id, title, fmt)
+
+
+# ---------------------------------------------------------------------------
+# General x-y sweep
+
+
+def _axis_label(curves: list) -> str:
+    units = {c[2] for c in curves}
+    if len(units) == 1:
+        unit = units.pop()
+        names = " / ".join(dict.fromkeys(c[1] for c in curves))
+        return f"{names} [{unit}]" if unit else names
+    return ", ".join(f"{c[1]} [{c[2]}]" if c[2] else c[1] for c in curves)
+
+
+def sweep(fig_id: str, x, curves: Sequence[Mapping], *, xlabel: str, x_unit: str, logx: bool = True,
+          marker_x: float | None = None, title: str = "", fmt: str = "svg",
+          markers: Sequence[Mapping] = (), allowed: Mapping | None = None) -> str | bytes:
+    """Curves against one swept quantity, on a left and optionally a right y axis.
+
+    `curves` = [{"y", "label", "unit", "axis": "left"|"right"}]; `marker_x`
+    draws a vertical line at the chosen value, `markers` = [{"x", "label"}]
+    further ones; `allowed` = {"lo", "hi", "label"} shades a band on the left axis.
+    """
+    _check_fig_id(fig_id)
+    xs = _arr(x, "x")
+    parsed = []
+    for i, c in enumerate(curves):
+        side = c.get("axis", "left")
+        if side not in ("left", "right"):
+            raise ValueError(f"curves[{i}].axis must be 'left' or 'right', got {side!r}")
+        parsed.append((_same_shape(xs, _arr(c["y"], f"curves[{i}].y"), f"curves[{i}].y"),
+                       str(c["label"]), str(c.get("unit", "")), side))
+    if not parsed:
+        raise ValueError("curves: need at least one curve")
+    xpos = xs[np.isfinite(xs) & (xs > 0)] if logx else xs[np.isfinite(xs)]
+    if xpos.size < 2:
+        raise ValueError("x: need at least two usable values")
+
+    with _styled(fig_id):
+        fig = _new_figure(3.2)
+        ax = fig.add_subplot()
+        _grid(ax)
+        left = [c for c in parsed if c[3] == "left"]
+        right = [c for c in parsed if c[3] == "right"]
+        ax_r = None
+        if right:
+            ax_r = ax.twinx()
+            ax_r.spines["right"].set_visible(True)
+            ax_r.grid(False)
+        x_lo, x_hi = float(xpos.min()), float(xpos.max())
+        if logx:
+            ax.set_xscale("log")
+            ax.set_xlim(x_lo, x_hi)
+            _log_axis(ax.xaxis, x_lo, x_hi)
+        else:
+            ax.set_xlim(x_lo, x_hi)
+            ax.xaxis.set_major_formatter(_tick_formatter(x_unit))
+        handles = []
+        colors = iter(pal.SERIES_CYCLE * (1 + len(parsed) // len(pal.SERIES_CYCLE)))
+        for y, label, unit, side in parsed:
+            color = next(colors)
+            target, style = (ax, "-") if side == "left" else (ax_r, (0, (5, 2)))
+            target.plot(xs, y, color=color, linewidth=1.5, linestyle=style, zorder=3)
+            axis_note = "" if ax_r is None else (" (left axis)" if side == "left" else " (right axis)")
+            handles.append(Line2D([], [], color=color, linewidth=1.5, linestyle=style,
+                                  label=f"{label}{axis_note}"))
+        if left:
+            ax.set_ylabel(_axis_label(left))
+            ax.yaxis.set_major_formatter(_tick_formatter(left[0][2] if len({c[2] for c in left}) == 1 else ""))
+        if ax_r is not None:
+            ax_r.set_ylabel(_axis_label(right))
+            ax_r.yaxis.set_major_formatter(_tick_formatter(right[0][2] if len({c[2] for c in right}) == 1 else ""))
+        if allowed is not None:
+            ax.axhspan(float(allowed["lo"]), float(allowed["hi"]), color=pal.ALLOWED, linewidth=0,
+                       zorder=0.5)
+            handles.append(Patch(color=pal.ALLOWED, label=str(allowed["label"])))
+        for mk in markers:
+            if np.isfinite(mk["x"]):
+                ax.axvline(float(mk["x"]), color=pal.PASS, linewidth=0.9, linestyle=(0, (4, 2)),
+                           zorder=4)
+                handles.append(Line2D([], [], color=pal.PASS, linewidth=0.9,
+                                      linestyle=(0, (4, 2)), label=str(mk["label"])))
+        if marker_x is not None:
+            ax.axvline(float(marker_x), color=pal.INK, linewidth=0.9, linestyle=(0, (1.5, 1.5)), zorder=4)
+            handles.append(Line2D([], [], color=pal.INK, linewidth=0.9, linestyle=(0, (1.5, 1.5)),
+                                  label=f"chosen {_eng(marker_x, x_unit)}"))
+        ax.set_xlabel(f"{xlabel} [{x_unit}]" if x_unit else xlabel)
+        _legend(fig, handles)
+        return _finish(fig, fig_id, title, fmt)
