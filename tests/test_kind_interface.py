@@ -119,7 +119,8 @@ def test_a_kind_defined_in_one_module_gets_the_loader_and_the_analysis(divider, 
 
 
 def test_a_kind_defined_in_one_module_gets_check_json_note_and_summary(divider, tmp_path):
-    from rcdoc.note.context import stage_context, summary_rows
+    from rcdoc.note.context import summary_rows
+    from rcdoc.note.page import stage_context
     f = tmp_path / "board.toml"
     f.write_text(project_text())
     out = tmp_path / "summary.json"
