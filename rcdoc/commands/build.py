@@ -100,6 +100,8 @@ def _part_unit(context, part_job):
         # As in the main process, weasyprint's messages stay in its logger
         # (it has a NullHandler); a worker's root logger may print them.
         logging.getLogger("weasyprint").propagate = False
+        logging.getLogger("fontTools").addHandler(logging.NullHandler())  # font subsetting notes
+        logging.getLogger("fontTools").propagate = False
         from rcdoc.note.assemble import stage_part
         return stage_part(head, context, template_dirs=template_dirs, project_dir=project_dir,
                           source_date_epoch=epoch, key=key)
@@ -148,7 +150,8 @@ def _part_keys(project: Project, template_dirs, keys=None) -> list[str]:
 
 def analyse_project(project: Project, *, progress: Callable[[str], None] | None = None,
                     jobs: int = 1, draw: bool = False, out_dir: Path | None = None,
-                    template_dirs=()) -> Outcome:
+                    template_dirs=(),
+                    on_done: Callable[[str, float | None], None] | None = None) -> Outcome:
     """Analyse every stage; with ``draw`` also make each stage's note blocks.
 
     ``jobs`` > 1 runs stages in that many worker processes, which (with
@@ -156,6 +159,7 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
     (rcdoc.note.assemble). ``out_dir`` enables the build cache in
     ``out_dir/.rcdoc-cache``; without ``draw`` (check, diff) only the analysis
     half of an entry is read and filed, and a later build draws what it lacks.
+    ``on_done(stage_id, seconds)`` is called as each stage is done (seconds None: cached).
     """
     stages = list(project.stages)
     n = len(stages)
@@ -173,6 +177,8 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
             results[i], contexts[i] = hit
             parts[i] = cache.parts.get(keys[i])
             cached.append(st.id)
+            if on_done:
+                on_done(st.id, None)
             if draw and contexts[i] is None:
                 todraw.append(i)
         else:
@@ -186,6 +192,8 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
             raise ProjectError(message, path=path or stages[i].path, file=file).located(project.file)
         results[i], contexts[i], parts[i] = answer[1], answer[2], answer[3]
         seconds[stages[i].id] = answer[4]
+        if on_done:
+            on_done(stages[i].id, answer[4])
 
     # Stage parts of the note are rendered where there are workers to spread
     # them over; a serial build leaves them to write_outputs (same bytes).

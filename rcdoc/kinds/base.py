@@ -14,7 +14,7 @@ from rcdoc.errors import ProjectError
 from rcdoc.kinds.recipes import Label
 from rcdoc.input.model import Part, Stage
 from rcdoc.analysis.network import GROUND, Element, Network
-from rcdoc.input.quantities import format_quantity
+from rcdoc.input.quantities import PART_UNITS, format_quantity
 
 # Element names of the source impedance and the load; they carry fixed values.
 SOURCE_R, SOURCE_L, LOAD_R, LOAD_C = "source.r", "source.l", "load.r", "load.c"
@@ -22,7 +22,7 @@ SOURCE_R, SOURCE_L, LOAD_R, LOAD_C = "source.r", "source.l", "load.r", "load.c"
 # outside the node-name syntax of a `network` stage, so no user node can be
 # one of them (a user's node named like an internal one was silently merged).
 SOURCE_NODE, SOURCE_L_NODE = "~source", "~source.l"
-UNIT_OF = {"R": "ohm", "C": "F", "L": "H"}
+UNIT_OF = PART_UNITS
 
 FREQUENCY_METRICS = ("corner", "passband_gain", "gain", "phase", "group_delay",
                      "input_impedance", "noise")

@@ -48,8 +48,6 @@ SETTLED_BAND = 0.02             # display window: until the node stays within 2 
 def fq(v, unit, digits=3):
     if not math.isfinite(v):
         return "—"
-    if unit == "J":      # energy: the quantity formatter has no joule; same prefixes as watts
-        return format_quantity(float(v), "W", digits)[:-1] + "J"
     return format_quantity(float(v), unit, digits)
 
 

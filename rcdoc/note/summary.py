@@ -16,7 +16,7 @@ from rcdoc import __version__
 from rcdoc.analysis.analyse import StageResult
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Project
-from rcdoc.input.quantities import format_quantity
+from rcdoc.input.quantities import PART_UNITS, format_quantity
 
 def _num(x) -> float | None:
     if x is None:
@@ -68,7 +68,7 @@ def part_entry(row: dict) -> dict:
     tol = p.tol_plus if abs(p.tol_plus - p.tol_minus) < 1e-12 else \
         {"plus": p.tol_plus, "minus": p.tol_minus}
     entry = {"role": p.role, "ref": p.ref, "value": p.value,
-             "unit": {"R": "ohm", "C": "F", "L": "H"}[p.kind], "tolerance": tol,
+             "unit": PART_UNITS[p.kind], "tolerance": tol,
              "preferred": row["preferred"]}
     if p.dielectric:
         entry["dielectric"] = p.dielectric
