@@ -125,8 +125,11 @@ def heading(d: ProjectDiff) -> str:
 
 def render_rich(d: ProjectDiff, console) -> None:
     """Print the differences as terminal tables (rich)."""
+    from rich.markup import escape
     from rich.table import Table
-    console.print(heading(d), highlight=False)
+
+    from rcdoc.commands.terminal import for_console
+    console.print(for_console(heading(d), console.file), highlight=False, markup=False)
     if d.empty:
         console.print("no differences in stages, parts, metrics or verdicts", highlight=False)
         return
@@ -145,6 +148,7 @@ def render_rich(d: ProjectDiff, console) -> None:
         for row in rows:
             cells = []
             for k, cell in enumerate(row):
+                cell = escape(for_console(cell, console.file))   # ASCII consoles; user text
                 if columns[k] in ("before", "after") and cell in ("pass", "fail"):
                     style = "green" if cell == "pass" else "bold red"
                     cell = f"[{style}]{cell}[/{style}]"
