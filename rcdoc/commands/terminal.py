@@ -80,22 +80,23 @@ def third_party_quiet():
     """Warnings and log records of the libraries under the renderer (fontTools'
     font subsetting, weasyprint) are captured, not printed: they are about
     fonts, not about the board, and a CI log is read for the board."""
-    loggers = [logging.getLogger(n) for n in ("fontTools", "weasyprint")]
-    saved = [(lg, lg.propagate, lg.level) for lg in loggers]
+    # fontTools logs its font-subsetting notes at WARNING with no handler of its
+    # own, so Python's last-resort handler prints them; weasyprint's messages
+    # already stay in its logger (rcdoc.note.report), whose levels are left alone.
+    loggers = [logging.getLogger("fontTools")]
+    saved = [(lg, lg.propagate) for lg in loggers]
     null = logging.NullHandler()
     for lg in loggers:
         lg.addHandler(null)
         lg.propagate = False
-        lg.setLevel(logging.ERROR)
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
             yield
     finally:
-        for lg, propagate, level in saved:
+        for lg, propagate in saved:
             lg.removeHandler(null)
             lg.propagate = propagate
-            lg.setLevel(level)
 
 
 # --------------------------------------------------------------------------- progress
@@ -294,7 +295,7 @@ def failure_lines(rows: list[Row], width: int) -> list[str]:
     failed = [r for r in rows if r.verdict != "pass"]
     checks = sum(r.check != "(no checks)" for r in rows)
     if not failed:
-        return [f"all {checks} checks pass"]
+        return ["the check passes" if checks == 1 else f"all {checks} checks pass"]
     out = [f"{len(failed)} of {checks} checks fail:"]
     for r in failed:
         out.append(_fold(f"  {r.stage}: {r.check}: worst {r.worst}, limit {r.limit}, "
