@@ -207,12 +207,13 @@ def test_overview_colours_rows_by_status(rendered):
 
 
 @pytest.mark.parametrize("value, unit, text", [
-    # SI prefixes (BIPM SI brochure, 9th ed., table 7); 3 significant digits: common practice.
+    # SI prefixes (BIPM SI brochure, 9th ed., table 7); 3 significant digits with
+    # trailing zeros dropped, the one rule of rcdoc.input.quantities: common practice.
     (1591.549, "Hz", "1.59 kHz"),
-    (999.7, "Hz", "1.00 kHz"),
+    (999.7, "Hz", "1 kHz"),
     (0.0472, "V", "47.2 mV"),
-    (2.2e-9, "F", "2.20 nF"),
-    (-3.3e-6, "s", "\N{MINUS SIGN}3.30 µs"),
+    (2.2e-9, "F", "2.2 nF"),
+    (-3.3e-6, "s", "\N{MINUS SIGN}3.3 µs"),
     (0.0, "W", "0 W"),
 ])
 def test_engineering_format(value, unit, text):

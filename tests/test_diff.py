@@ -11,7 +11,8 @@ import subprocess
 import pytest
 
 from rcdoc.commands.cli import main
-from rcdoc.commands.diff import diff_files, note_blocks, read_at_revision
+from rcdoc.commands.diff import diff_files, read_at_revision
+from rcdoc.commands.diff_render import note_blocks
 from rcdoc.errors import ProjectError
 
 PROJECT = """

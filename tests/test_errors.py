@@ -634,7 +634,8 @@ def test_rich_markup_in_names_is_printed_as_text(tmp_path, capsys):
     rc = cli.main(["check", str(proj)])
     cap = capsys.readouterr()
     assert rc in (0, 1), cap.err
-    assert "Pump [/x] [bold]" in cap.err.replace("\n", "")
+    # the check table is a result: on stdout (issue 15)
+    assert "Pump [/x] [bold]" in cap.out.replace("\n", "")
 
 
 def test_junit_report_that_cannot_be_written(tmp_path, capsys):

@@ -389,7 +389,7 @@ def test_tolerance_errors(value):
         (0.70711, "1", "0.707"),
         (2, "1", "2"),
         (999.6, "V", "1 kV"),          # rounding carries into the next prefix
-        (1e-18, "F", "1e-18 F"),       # beyond femto: plain exponent
+        (1e-18, "F", "0.001 fF"),      # beyond femto: the last prefix, never an exponent
     ],
 )
 def test_format_quantity(value, unit, expected):
@@ -520,3 +520,55 @@ def test_any_tolerance_is_valid_or_a_project_error(value):
     else:
         assert 0 <= plus <= 10 and 0 <= minus < 1
         assert math.isfinite(plus) and math.isfinite(minus)
+
+
+# ----------------------------------------------------------- the one formatter's rules
+
+
+def test_below_resolution_is_zero_or_a_bound_for_stresses():
+    from rcdoc.input.quantities import format_quantity as fmt
+    # rounding noise of a passband gain (issue 16: "-9.64e-16 dB")
+    assert fmt(-9.64e-16, "dB", resolution=1e-4) == "0 dB"
+    # a stress is never claimed to be zero: "< 1 pW" (issue 16: "2.31e-20 W")
+    assert fmt(2.31e-20, "W", resolution=1e-12, stress=True) == "< 1 pW"
+    assert fmt(0.0, "W", resolution=1e-12, stress=True) == "0 W"
+    assert fmt(62e-9, "W", resolution=1e-12, stress=True) == "62 nW"
+
+
+def test_note_minus_and_spacing():
+    from rcdoc.input.quantities import NOTE_MINUS, format_quantity as fmt
+    assert fmt(-39.5, "dB", minus=NOTE_MINUS) == "\u221239.5 dB"
+    assert fmt(-86.8, "deg", minus=NOTE_MINUS) == "\u221286.8°"    # no space before °
+    assert fmt(0.0939, "deg") == "0.0939°"
+    assert fmt(10.2e3, "Hz") == "10.2 kHz"
+    assert fmt(0.05, "%") == "5 %"
+
+
+def test_joules_take_prefixes():
+    # energy per edge, ½·C·V² for 100 nF at 10 V = 5 µJ (textbook)
+    assert format_quantity(0.5 * 100e-9 * 10**2, "J") == "5 µJ"
+    assert parse_quantity("2 mJ", "J") == pytest.approx(2e-3)
+
+
+@given(
+    magnitude=st.floats(min_value=1e-30, max_value=1e30, allow_nan=False, allow_infinity=False),
+    unit=st.sampled_from(ALL_UNITS),
+)
+@FAST
+def test_never_an_exponent_form(magnitude, unit):
+    text = format_quantity(magnitude, unit, digits=6)
+    assert "e" not in text.replace("deg", "").lower().replace("ppm", "").replace("sb", ""), text
+
+
+@pytest.mark.parametrize(
+    ("worst", "limit", "unit"),
+    [(-39.52, -39.5, "dB"), (470.2e3, 470e3, "ohm"), (1.0004e3, 1e3, "Hz"),
+     (0.999999, 1.0, "1")],
+)
+def test_distinct_digits_tells_different_values_apart(worst, limit, unit):
+    from rcdoc.input.quantities import distinct_digits
+    d = distinct_digits([worst, limit], unit)
+    assert format_quantity(worst, unit, d) != format_quantity(limit, unit, d)
+    assert 3 <= d <= 6
+    # equal values need no extra digits
+    assert distinct_digits([limit, limit], unit) == 3

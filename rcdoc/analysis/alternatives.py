@@ -21,6 +21,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from rcdoc.input import parts as partmodels
+from rcdoc.input.quantities import PART_UNITS
 from rcdoc.analysis.analyse import StageResult, _default_detail, _detail
 from rcdoc.analysis.evaluate import Evaluator
 from rcdoc.analysis.surroundings import fixed_values
@@ -117,7 +118,7 @@ def stage_alternatives(r: StageResult, analysis: Analysis, kind) -> StageAlterna
         p = st.parts[role]
         vals = tuple(float(x) for x in table[k])
         rows.append(Alternative(role=role, ref=p.ref, value=v,
-                                unit={"R": "ohm", "C": "F", "L": "H"}[p.kind], series=series,
+                                unit=PART_UNITS[p.kind], series=series,
                                 step=step, metrics=vals,
                                 inside=tuple(_inside(x, c) for x, (_, _, c) in
                                              zip(vals, requests))))

@@ -101,6 +101,8 @@ def _part_unit(context, part_job):
         # As in the main process, weasyprint's messages stay in its logger
         # (it has a NullHandler); a worker's root logger may print them.
         logging.getLogger("weasyprint").propagate = False
+        logging.getLogger("fontTools").addHandler(logging.NullHandler())  # font subsetting notes
+        logging.getLogger("fontTools").propagate = False
         from rcdoc.note.assemble import stage_part
         return stage_part(head, context, template_dirs=template_dirs, project_dir=project_dir,
                           source_date_epoch=epoch, key=key)
@@ -153,7 +155,8 @@ def _part_keys(project: Project, template_dirs, keys=None) -> list[str]:
 
 def analyse_project(project: Project, *, progress: Callable[[str], None] | None = None,
                     jobs: int = 1, draw: bool = False, out_dir: Path | None = None,
-                    template_dirs=()) -> Outcome:
+                    template_dirs=(),
+                    on_done: Callable[[str, float | None], None] | None = None) -> Outcome:
     """Analyse every stage; with ``draw`` also make each stage's note blocks.
 
     ``jobs`` > 1 runs stages in that many worker processes, which (with
@@ -161,6 +164,7 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
     (rcdoc.note.assemble). ``out_dir`` enables the build cache in
     ``out_dir/.rcdoc-cache``; without ``draw`` (check, diff) only the analysis
     half of an entry is read and filed, and a later build draws what it lacks.
+    ``on_done(stage_id, seconds)`` is called as each stage is done (seconds None: cached).
     """
     stages = list(project.stages)
     n = len(stages)
@@ -170,6 +174,9 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
     cache = StageCache.for_output(out_dir, project.file) if out_dir is not None else None
     keys = [stage_key(st, project) for st in stages] if cache is not None else [None] * n
     todo, cached, todraw = _from_cache(cache, keys, stages, draw, results, contexts, parts)
+    if on_done:
+        for sid in cached:
+            on_done(sid, None)
     original_parts = list(parts)
     seconds: dict[str, float] = {}
 
@@ -179,6 +186,8 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
             raise ProjectError(message, path=path or stages[i].path, file=file).located(project.file)
         results[i], contexts[i], parts[i] = answer[1], answer[2], answer[3]
         seconds[stages[i].id] = answer[4]
+        if on_done:
+            on_done(stages[i].id, answer[4])
 
     part_jobs, redo = ([None] * n, [])
     if draw and int(jobs or 1) > 1:

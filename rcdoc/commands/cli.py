@@ -7,7 +7,6 @@ line on stderr and exit status 2; a failed check, exit status 1.
 from __future__ import annotations
 
 import argparse
-import math
 import os
 import sys
 from pathlib import Path
@@ -84,20 +83,25 @@ def make_parser() -> argparse.ArgumentParser:
     return p
 
 
-def _console(quiet: bool):
-    if quiet:
-        return None
-    from rich.console import Console
-    return Console(stderr=True)
+def _analyse(project, args, **kw):
+    """One project's analysis with its progress on stderr (nothing with --quiet)."""
+    from rcdoc.commands.build import analyse_project
+    from rcdoc.commands.terminal import Progress
+    progress = None if getattr(args, "quiet", False) else Progress()
+    if progress is not None:
+        progress.start(project.file, len(project.stages))
+    try:
+        return analyse_project(project, jobs=_jobs(args),
+                               on_done=progress.done if progress else None, **kw)
+    finally:
+        if progress is not None:
+            progress.stop()
 
 
-def _progress_for(console, label: str):
-    if console is None:
-        return None
-
-    def report(stage_id: str):
-        console.print(f"[dim]{rich_escape(label)}[/dim] analysing {stage_id}", highlight=False)
-    return report if console.is_terminal else None
+def _say(text: str) -> None:
+    """A result line on stdout, in what the console can encode."""
+    from rcdoc.commands.terminal import for_console
+    print(for_console(text, sys.stdout), flush=True)
 
 
 def _jobs(args) -> int:
@@ -106,7 +110,8 @@ def _jobs(args) -> int:
 
 
 def cmd_build(args) -> int:
-    from rcdoc.commands.build import analyse_project, load_all, output_dir, write_outputs
+    from rcdoc.commands.build import load_all, output_dir, write_outputs
+    from rcdoc.commands.terminal import print_outcome
     template_dirs = []
     if args.templates:
         tdir = Path(args.templates)
@@ -129,21 +134,18 @@ def cmd_build(args) -> int:
         commits = [resolve_commit(p.file, args.since) for p in projects]
         olds = [read_at_revision(p.file, args.since, samples=args.samples, seed=args.seed)
                 for p in projects]
-    console = _console(args.quiet)
     worst = EXIT_OK
     for k, project in enumerate(projects):
         out_dir = output_dir(project.file, args.output)
         # Stages are analysed and drawn together (in --jobs processes), cached in out_dir.
-        outcome = analyse_project(project, progress=_progress_for(console, project.file),
-                                  jobs=_jobs(args),
-                                  draw=True, out_dir=out_dir, template_dirs=template_dirs)
+        outcome = _analyse(project, args, draw=True, out_dir=out_dir,
+                           template_dirs=template_dirs)
         extra = []
         changes = None           # right after the summary, named on the cover
         if args.since:
             from rcdoc.commands.diff import compare
             from rcdoc.commands.since import changes_section
-            old = analyse_project(olds[k], progress=_progress_for(console, olds[k].file),
-                                  jobs=_jobs(args))
+            old = _analyse(olds[k], args)
             changes = changes_section(compare(olds[k], old.results, project, outcome.results,
                                               old_label=f"git:{commits[k].short}"), commits[k])
         try:
@@ -152,9 +154,9 @@ def cmd_build(args) -> int:
         except OSError as exc:     # e.g. no permission: one line, not a traceback
             raise ProjectError(f"cannot write the note: {exc.strerror or exc}",
                                file=str(exc.filename or out_dir)) from exc
-        if console is not None:
-            _print_table(console, outcome)
-            console.print(f"wrote {pdf} and {js}", highlight=False, markup=False)
+        if not args.quiet:
+            print_outcome(outcome)
+            _say(f"wrote {pdf} and {js}")
         if outcome.status != "pass":
             worst = EXIT_FAIL
     return worst
@@ -176,22 +178,21 @@ def _check_distinct_outputs(projects, output) -> None:
 
 
 def cmd_check(args) -> int:
-    from rcdoc.commands.build import analyse_project, load_all, output_dir
+    from rcdoc.commands.build import load_all, output_dir
+    from rcdoc.commands.terminal import print_outcome
     from rcdoc.files import write_atomic
     from rcdoc.note.summary import junit
     projects = load_all(args.files, samples=args.samples, seed=args.seed)
     if args.json:                # where each summary goes, settled before any analysis
         from rcdoc.note.machine import json_targets
         json_paths = json_targets(args.json, [p.file for p in projects])
-    console = _console(args.quiet)
     outcomes = []
     for project in projects:
         # The analysis half of build's cache: a check after a build analyses nothing.
-        outcome = analyse_project(project, progress=_progress_for(console, project.file),
-                                  jobs=_jobs(args), out_dir=output_dir(project.file, args.output))
+        outcome = _analyse(project, args, out_dir=output_dir(project.file, args.output))
         outcomes.append(outcome)
-        if console is not None:
-            _print_table(console, outcome)
+        if not args.quiet:
+            print_outcome(outcome)
     if args.junit:
         try:
             write_atomic(Path(args.junit),
@@ -216,42 +217,10 @@ def cmd_check(args) -> int:
     return EXIT_FAIL if any(o.status != "pass" for o in outcomes) else EXIT_OK
 
 
-def _print_table(console, outcome) -> None:
-    from rich.table import Table
-
-    from rcdoc.note.context import limit_text, metric_label
-    from rcdoc.input.quantities import format_quantity
-    from rcdoc.analysis.metrics import METRICS
-    # The board's name and revision are the user's text: escape rich's [markup].
-    t = Table(title=rich_escape(f"{outcome.project.board.name} rev "
-                                f"{outcome.project.board.revision}: {outcome.status.upper()}"),
-              title_justify="left")
-    for col in ("stage", "check", "limit", "worst", "yield", "verdict"):
-        t.add_column(col)
-    for r in outcome.results:
-        unstable = r.samples_unstable
-        if r.reason or unstable:
-            # Stability is judged before any check: an unstable nominal fails the stage.
-            t.add_row(r.stage.id, "stability", "Re(pole) < 0",
-                      "unstable" if r.reason else f"{unstable} samples unstable",
-                      f"{(1 - unstable / max(r.samples, 1)) * 100:.2f} %",
-                      "[bold red]fail[/bold red]" if r.reason else "")
-        if not (r.verdicts or r.ratings):
-            t.add_row(r.stage.id, "(no checks)", "", "", "", r.status)
-        for v in r.verdicts + r.ratings:
-            unit = METRICS[v.metric].unit
-            name = metric_label(v.metric, v.at_hz, v.detail) + (f" {v.part}" if v.part else "")
-            worst = format_quantity(v.worst, unit) if math.isfinite(v.worst) else "not found"
-            style = "green" if v.status == "pass" else "bold red"
-            t.add_row(r.stage.id, name, limit_text(v, unit), worst,
-                      f"{v.yield_ * 100:.2f} %", f"[{style}]{v.status}[/{style}]")
-    console.print(t)
-
-
 def cmd_diff(args) -> int:
     from rich.console import Console
 
-    from rcdoc.commands.diff import render_rich
+    from rcdoc.commands.diff_render import render_rich
     from rcdoc.commands.regression import diff_json, run_diff, write_json
     d, regs = run_diff(args.old, args.new, samples=args.samples, seed=args.seed,
                        jobs=_jobs(args), output=args.output)
@@ -267,7 +236,7 @@ def cmd_diff(args) -> int:
 def cmd_init(args) -> int:
     from rcdoc.commands.init import write_starter
     path = write_starter(args.file)
-    print(f"wrote {path}; edit it, then run: rcdoc build {path}")
+    _say(f"wrote {path}; edit it, then run: rcdoc build {path}")
     return EXIT_OK
 
 
@@ -305,10 +274,13 @@ COMMANDS = {"build": cmd_build, "check": cmd_check, "diff": cmd_diff, "init": cm
 
 
 def main(argv: list[str] | None = None) -> int:
+    from rcdoc.commands.terminal import third_party_quiet
     from rcdoc.files import interrupts
     args = make_parser().parse_args(argv)
     try:
-        with interrupts():      # Ctrl-C at any moment: status 130, no output replaced
+        # Ctrl-C at any moment: status 130, no output replaced. The renderer's
+        # libraries' warnings (fonts) are captured: results on stdout, errors on stderr.
+        with interrupts(), third_party_quiet():
             return COMMANDS[args.command](args)
     except ProjectError as exc:
         print(f"rcdoc: error: {one_line(str(exc))}", file=sys.stderr)

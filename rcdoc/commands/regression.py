@@ -82,7 +82,7 @@ def _verdict(v) -> dict | None:
 def diff_json(d, regs: list[dict]) -> dict:
     """The comparison (rcdoc.commands.diff.ProjectDiff) and its regressions as plain JSON data.
     Stage and part settings are given as the texts the note shows."""
-    from rcdoc.commands.diff import metric_name, verdict_name
+    from rcdoc.commands.diff_render import metric_name, verdict_name
     return {
         "format": 1,
         "generator": f"rcdoc {__version__}",

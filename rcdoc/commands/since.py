@@ -54,6 +54,6 @@ def resolve_commit(file: str | Path, rev: str) -> Commit:
 
 def changes_section(d, commit: Commit) -> dict:
     """The note's "Changes since <short id> (<date>)" section (after the summary)."""
-    from rcdoc.commands.diff import note_blocks
+    from rcdoc.commands.diff_render import note_blocks
     return {"title": commit.title, "commit": commit.full, "rev": commit.rev,
             "blocks": note_blocks(d)}

@@ -19,10 +19,10 @@ from pathlib import Path
 
 from rcdoc.input import bom_columns as cols
 from rcdoc.errors import ProjectError
-from rcdoc.input.quantities import parse_positive, parse_tolerance
+from rcdoc.input.quantities import PART_UNITS, parse_positive, parse_tolerance
 
 COLUMNS = ("ref", "value", "tolerance", "dielectric", "voltage", "power", "model")
-_UNITS = {"R": "ohm", "C": "F", "L": "H"}
+_UNITS = PART_UNITS
 MAX_BOM_BYTES = 10_000_000   # far above any board's BOM; refuses a wrong file early
 # Columns that describe only some part types. A board-wide BOM fills them for
 # the parts they fit (a resistor's working voltage in the `voltage` column is

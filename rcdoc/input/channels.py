@@ -20,14 +20,14 @@ import difflib
 from typing import Any, Callable
 
 from rcdoc.errors import ProjectError
-from rcdoc.input.quantities import format_quantity
+from rcdoc.input.quantities import PART_UNITS, format_quantity
 
 # Part fields that make two parts the same part for the analysis (the model
 # number is not among them: a second source with the same data is identical).
 _SAME = (("value", "value"), ("tol_plus", "tolerance"), ("tol_minus", "tolerance"),
          ("tcr_ppm", "tcr"), ("dielectric", "dielectric"), ("dc_bias", "dc_bias"),
          ("bias_v", "bias"), ("voltage_rating_v", "voltage"), ("power_rating_w", "power"))
-_UNITS = {"R": "ohm", "C": "F", "L": "H"}
+_UNITS = PART_UNITS
 
 
 def parse(raw: Any, raw_parts: dict, path: str) -> tuple[dict[str, str], ...]:

@@ -21,13 +21,13 @@ from rcdoc.errors import ProjectError
 from rcdoc.input.limits import check_sweep, check_text, read_toml
 from rcdoc.input.model import Analysis, Board, Check, Drive, Part, Project, Stage
 from rcdoc.input.parts import check_temperature_range, decode_dielectric, default_tolerance
-from rcdoc.input.quantities import parse_percent, parse_positive, parse_quantity, parse_tolerance
+from rcdoc.input.quantities import (PART_UNITS, parse_percent, parse_positive, parse_quantity,
+                                    parse_tolerance)
 
 MAX_SAMPLES = 200_000
 # Matched with fullmatch: "adc0\n" is not an id ("$" would allow the newline).
 ID_PATTERN = re.compile(r"[a-z0-9][a-z0-9-]*")
 ROLE_PATTERN = re.compile(r"[rcl][a-z0-9_]*")
-PART_UNITS = {"R": "ohm", "C": "F", "L": "H"}
 
 BOARD_KEYS = ("name", "revision", "date", "authors", "notes", "hazardous_voltage")
 ANALYSIS_KEYS = ("samples", "seed", "distribution", "temperature", "points_per_decade",

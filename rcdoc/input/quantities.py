@@ -2,10 +2,12 @@
 
 Parses what a user writes in a project file or a bill of materials ("4.7 kΩ",
 "4k7", "100n", "-20 °C", "+80%/-20%") into plain floats in SI base units, and
-formats floats for the note ("4.7 kΩ", "-3.01 dB"). Every mistake in the text
-is a ProjectError that names the key path.
+formats floats with the one formatter every output uses ("4.7 kΩ", "-3.01 dB";
+rules above ``format_quantity``). Every mistake in the text is a ProjectError
+that names the key path.
 
-This module must not know about stages, parts or metrics, hold state, or
+This module must not know about stages or metrics (beyond the unit of a part
+letter, ``PART_UNITS``), hold state, or
 decide whether a value is sensible for its purpose (zero, negative, out of
 range): the caller does that (``parse_positive`` is the one shortcut).
 """
@@ -21,6 +23,10 @@ from rcdoc.errors import ProjectError
 __all__ = [
     "UNITS",
     "UNIT_NAMES",
+    "NOTE_MINUS",
+    "PART_UNITS",
+    "distinct_digits",
+    "format_eng",
     "format_quantity",
     "format_rkm",
     "parse_percent",
@@ -38,6 +44,7 @@ UNITS: dict[str, str] = {
     "V": "V",
     "A": "A",
     "W": "W",
+    "J": "J",
     "s": "s",
     "V/s": "V/s",
     "degC": "°C",
@@ -58,6 +65,7 @@ UNIT_NAMES: dict[str, str] = {
     "V": "voltage",
     "A": "current",
     "W": "power",
+    "J": "energy",
     "s": "time",
     "V/s": "slew rate",
     "degC": "temperature",
@@ -77,6 +85,7 @@ _EXAMPLES: dict[str, str] = {
     "V": "48 V",
     "A": "2 A",
     "W": "0.25 W",
+    "J": "2 mJ",
     "s": "20 µs",
     "V/s": "1 kV/s",
     "degC": "-20 °C",
@@ -89,7 +98,7 @@ _EXAMPLES: dict[str, str] = {
 }
 
 # Only these units take SI prefixes; a "k°C" or "mdB" is a mistake.
-_PREFIXED = frozenset({"ohm", "F", "H", "Hz", "V", "A", "W", "s", "V/s", "1"})
+_PREFIXED = frozenset({"ohm", "F", "H", "Hz", "V", "A", "W", "J", "s", "V/s", "1"})
 
 # SI prefixes as powers of ten. Upper-case K for kilo is not SI but is the
 # IEC 60062 RKM letter and common practice on resistor values ("4K7", "10K").
@@ -114,6 +123,7 @@ _SYMBOLS: dict[str, tuple[tuple[str, bool], ...]] = {
     "V": (("V", False),),
     "A": (("A", False),),
     "W": (("W", False),),
+    "J": (("J", False),),
     "s": (("s", False),),
     "V/s": (("V/s", False),),
     "degC": (("°C", False), ("degC", False), ("deg C", False), ("C", False)),
@@ -429,6 +439,24 @@ def parse_tolerance(value: object, path: str = "") -> tuple[float, float]:
 
 
 # --------------------------------------------------------------------------- formatting
+#
+# One formatter for every unit (the note, the terminal, the JSON's text, the
+# charts all call it). Rules, for every unit:
+# - engineering prefixes f to T on the physical units; never an exponent form
+#   (a value beyond the prefixes keeps the last prefix: "0.001 fF");
+# - ``digits`` significant figures, trailing zeros stripped (angles keep them);
+# - a space between number and unit ("10.2 kHz", "−39.5 dB", "5 %") except
+#   before the degree sign of an angle ("−86.8°"): SI Brochure, 9th ed., 5.4.3;
+# - the minus sign is ``minus``: U+2212 in the note, ASCII "-" (the default)
+#   on terminals and in JSON and JUnit text;
+# - |value| below ``resolution`` is rounding noise: shown as 0, or as
+#   "< resolution" for a stress, where 0 would claim too much.
+
+#: The unit of a part, by its letter (R, C, L): one copy, imported everywhere.
+PART_UNITS: dict[str, str] = {"R": "ohm", "C": "F", "L": "H"}
+
+NOTE_MINUS = "\u2212"
+_MAX_DIGITS = 6
 
 
 def _digits(value: float, digits: int) -> tuple[str, int]:
@@ -454,37 +482,33 @@ def _place(ds: str, point: int, keep_zeros: bool = False, min_decimals: int = 0)
 
 
 def _plain(value: float, digits: int, keep_zeros: bool = False, min_decimals: int = 0) -> str:
-    """``digits`` significant figures without a prefix; exponent form when far from 1."""
+    """``digits`` significant figures without a prefix, in positional notation."""
     if not math.isfinite(value):  # a finite fraction can overflow as a percentage
         return str(value)
     sign = "-" if value < 0 else ""
     ds, exp = _digits(value, digits)
-    if value == 0 or -5 <= exp < 9:
-        return sign + _place(ds, exp + 1, keep_zeros, min_decimals)
-    return sign + _exponent(ds, exp)
+    return sign + _place(ds, exp + 1, keep_zeros, min_decimals)
 
 
-def _exponent(ds: str, exp: int) -> str:
-    return f"{_place(ds, 1)}e{exp}"
+def format_eng(value: float, symbol: str, digits: int = 3) -> str:
+    """``value`` with an engineering prefix before ``symbol`` (any text, may be "").
 
-
-def format_quantity(value: float, unit: str, digits: int = 3) -> str:
-    """Format an SI float for the note: 4700, "ohm" -> "4.7 kΩ"; 1e-8, "F" -> "10 nF".
-
-    Engineering notation with SI prefixes (f to T) for the physical units,
-    ``digits`` significant figures, trailing zeros stripped. dB, °C, ppm/K,
-    "%" (``value`` is a fraction: 0.05 -> "5 %") and "1" take no prefix;
-    angles keep their zeros and at least one decimal ("-45.0°"), as phase
-    tables are usually written. A space separates number and unit except
-    before "°" (SI Brochure, 9th ed., 5.4.3). Values beyond the prefixes fall
-    back to an exponent ("1e-18 F").
+    The prefix is the one for the value's power of ten, kept within f to T.
+    ASCII minus; ``format_quantity`` applies the minus and resolution rules.
     """
-    if unit not in UNITS:
-        raise ValueError(f"unknown unit code {unit!r}")
     value = float(value)
-    symbol = UNITS[unit]
     if not math.isfinite(value):
         return f"{value} {symbol}".rstrip()
+    if value == 0:
+        return f"0 {symbol}".rstrip()
+    sign = "-" if value < 0 else ""
+    ds, exp = _digits(value, digits)
+    group = min(max((exp // 3) * 3, -15), 12)
+    return f"{sign}{_place(ds, exp - group + 1)} {_PREFIX_SHOW[group]}{symbol}".rstrip()
+
+
+def _format(value: float, unit: str, digits: int) -> str:
+    symbol = UNITS[unit]
     if unit == "%":
         return f"{_plain(value * 100, digits)} %"
     if unit == "deg":
@@ -493,23 +517,47 @@ def format_quantity(value: float, unit: str, digits: int = 3) -> str:
         return _plain(value, digits)
     if unit not in _PREFIXED:
         return f"{_plain(value, digits)} {symbol}"
-    if value == 0:
-        return f"0 {symbol}"
-    sign = "-" if value < 0 else ""
-    ds, exp = _digits(value, digits)
-    group = (exp // 3) * 3
-    if group not in _PREFIX_SHOW:
-        return f"{sign}{_exponent(ds, exp)} {symbol}"
-    return f"{sign}{_place(ds, exp - group + 1)} {_PREFIX_SHOW[group]}{symbol}"
+    return format_eng(value, symbol, digits)
 
 
+def format_quantity(value: float, unit: str, digits: int = 3, *, resolution: float = 0.0,
+                    stress: bool = False, minus: str = "-") -> str:
+    """Format an SI float: 4700, "ohm" -> "4.7 kΩ"; 1e-8, "F" -> "10 nF".
+
+    The rules are above this function. dB, °C, ppm/K, "%" (``value`` is a
+    fraction: 0.05 -> "5 %") and "1" take no prefix; angles keep their zeros
+    and at least one decimal ("-45.0°"), as phase tables are usually written.
+    """
+    if unit not in UNITS:
+        raise ValueError(f"unknown unit code {unit!r}")
+    value = float(value)
+    if not math.isfinite(value):
+        return f"{value} {UNITS[unit]}".rstrip()
+    if resolution > 0 and abs(value) < resolution:
+        if stress and value != 0:
+            return "< " + _format(resolution, unit, digits)
+        value = 0.0
+    return _format(value, unit, digits).replace("-", minus)
+
+
+def distinct_digits(values, unit: str, digits: int = 3, *, resolution: float = 0.0) -> int:
+    """Fewest significant figures, from ``digits`` up to 6, at which values that
+    differ are printed differently (a worst value beside its limit, the two ends
+    of a tight part's range)."""
+    vals = [float(v) for v in values if v is not None and math.isfinite(float(v))]
+    vals = [0.0 if abs(v) < resolution else v for v in vals]
+    for d in range(digits, _MAX_DIGITS + 1):
+        seen: dict[str, float] = {}
+        if all(seen.setdefault(_format(v, unit, d), v) == v for v in vals):
+            return d
+    return _MAX_DIGITS
 def format_rkm(value: float, unit_letter_for_ohm: bool = True, digits: int = 3) -> str:
     """The IEC 60062 "RKM" code of a value: 4700 -> "4k7", 0.47 -> "R47", 2.2e-6 -> "2u2".
 
     With ``unit_letter_for_ohm`` the units decade uses "R" (4.7 -> "4R7") and
     values from 1 mΩ to 1 Ω are written "R047"; otherwise the units decade is a
     plain decimal ("4.7"). A lone integer digit gets a trailing zero
-    ("1k0"), common practice on marked parts. Beyond f to T: exponent form.
+    ("1k0"), common practice on marked parts. Beyond f to T: the last prefix.
     """
     value = float(value)
     if not math.isfinite(value):
@@ -520,9 +568,7 @@ def format_rkm(value: float, unit_letter_for_ohm: bool = True, digits: int = 3) 
     ds, exp = _digits(value, digits)
     if unit_letter_for_ohm and -3 <= exp < 0:
         return sign + "R" + _place(ds, exp + 1).split(".")[1]
-    group = (exp // 3) * 3
-    if group not in _PREFIX_SHOW:
-        return sign + _exponent(ds, exp)
+    group = min(max((exp // 3) * 3, -15), 12)   # beyond f to T: keep the last prefix
     if group == 0:
         letter = "R" if unit_letter_for_ohm else "."
     else:

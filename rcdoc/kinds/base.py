@@ -17,9 +17,9 @@ from rcdoc.analysis.network import GROUND, Element, Network
 # The names around a stage live in the analysis (it needs them too); kinds use them from here.
 from rcdoc.analysis.surroundings import (  # noqa: F401
     LOAD_C, LOAD_R, SOURCE_L, SOURCE_L_NODE, SOURCE_NODE, SOURCE_R, core_input, fixed_values)
-from rcdoc.input.quantities import format_quantity
+from rcdoc.input.quantities import PART_UNITS, format_quantity
 
-UNIT_OF = {"R": "ohm", "C": "F", "L": "H"}
+UNIT_OF = PART_UNITS
 
 FREQUENCY_METRICS = ("corner", "passband_gain", "gain", "phase", "group_delay",
                      "input_impedance", "noise")

@@ -50,8 +50,6 @@ SNUBBER_C_PER_PARASITIC = 3.0   # proposed C = 3 × C_par ("several times", comm
 def fq(v, unit, digits=3):
     if not math.isfinite(v):
         return "—"
-    if unit == "J":      # energy: the quantity formatter has no joule; same prefixes as watts
-        return format_quantity(float(v), "W", digits)[:-1] + "J"
     return format_quantity(float(v), unit, digits)
 
 

@@ -36,6 +36,7 @@ from matplotlib import ticker
 from matplotlib.backends.backend_svg import FigureCanvasSVG
 from matplotlib.figure import Figure
 
+from rcdoc.input.quantities import format_eng
 from rcdoc.note import palette as pal
 
 __all__ = ["bode", "phasor", "time_response", "histogram", "corner_overview", "sweep"]
@@ -174,18 +175,8 @@ def _prefix_ids(svg: str, prefix: str) -> str:
 
 
 def _eng(value: float, unit: str = "") -> str:
-    """Format with 3 significant digits and an SI prefix: 1591.5 -> '1.59 k'+unit."""
-    value = float(value)
-    if not math.isfinite(value):
-        return f"{value} {unit}".strip()
-    if value == 0.0:
-        return f"0 {unit}".strip()
-    value = float(f"{value:.3g}")  # round first, so 999.7 becomes 1.00 k, not 1000
-    exp3 = max(min(int(math.floor(math.log10(abs(value)) / 3.0) * 3), 12), -15)
-    mant = value / 10.0**exp3
-    digits = max(0, 2 - int(math.floor(math.log10(abs(mant)) + 1e-9)))
-    text = f"{mant:.{digits}f}"
-    return f"{text} {_PREFIXES[exp3]}{unit}".strip().replace("-", _MINUS)
+    """An SI-prefixed label, 1591.5 -> '1.59 k'+unit: the one formatter, note minus."""
+    return format_eng(value, unit).replace("-", _MINUS)
 
 
 def _num(value: float, fmt: str = ".1f") -> str:

@@ -16,7 +16,8 @@ import numpy as np
 from rcdoc.analysis.analyse import StageResult
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Project
-from rcdoc.input.quantities import format_quantity
+from rcdoc.input.quantities import (NOTE_MINUS, PART_UNITS, distinct_digits, format_quantity,
+                                    parse_quantity)
 from rcdoc.kinds import KINDS
 
 SAFETY_ITEMS = (
@@ -35,10 +36,16 @@ SAFETY_ITEMS = (
 )
 
 
-def fq(value, unit: str, digits: int = 3) -> str:
+def fq(value, unit: str, digits: int = 3, metric: str | None = None) -> str:
+    """A number for the note: the one formatter, U+2212 minus; with ``metric``,
+    that metric's resolution and digits from the registry."""
     if value is None or (isinstance(value, float) and not math.isfinite(value)):
         return "—"
-    return format_quantity(float(value), unit, digits)
+    if metric is None:
+        return format_quantity(float(value), unit, digits, minus=NOTE_MINUS)
+    m = METRICS[metric]
+    return format_quantity(float(value), unit, max(digits, m.digits), minus=NOTE_MINUS,
+                           resolution=m.resolution, stress=m.stress)
 
 
 def metric_label(m_name: str, at_hz=None, detail: str = "") -> str:
@@ -50,16 +57,36 @@ def metric_label(m_name: str, at_hz=None, detail: str = "") -> str:
     return label
 
 
-def limit_text(v, unit: str) -> str:
+def limit_text(v, unit: str, minus: str = NOTE_MINUS) -> str:
+    """A verdict's limit, with enough digits that it reads differently from the
+    worst value when they differ (``verdict_digits``)."""
+    digits = verdict_digits(v, unit)
+
+    def f(x):
+        return format_quantity(x, unit, digits, minus=minus)
     if v.min is not None and v.max is not None:
-        return f"{fq(v.min, unit)} … {fq(v.max, unit)}"
+        return f"{f(v.min)} … {f(v.max)}"
     if v.min is not None:
-        return f"≥ {fq(v.min, unit)}"
-    return f"≤ {fq(v.max, unit)}"
+        return f"≥ {f(v.min)}"
+    return f"≤ {f(v.max)}"
+
+
+def verdict_digits(v, unit: str) -> int:
+    """Significant figures that print a verdict's worst value and limits apart."""
+    m = METRICS.get(v.metric)
+    return distinct_digits([v.worst, v.min, v.max], unit, m.digits if m else 3,
+                           resolution=m.resolution if m else 0.0)
 
 
 def pct(x: float) -> str:
-    return f"{x * 100:.2f} %" if x < 1 else "100 %"
+    """A yield: two decimals, and never "100.00 %" for a yield below 100 %."""
+    if x >= 1:
+        return "100 %"
+    for decimals in range(2, 7):
+        text = f"{x * 100:.{decimals}f}"
+        if float(text) < 100:
+            return f"{text} %"
+    return f"{x * 100:.6f} %"
 
 
 def stage_voltage(r: StageResult) -> float:
@@ -84,7 +111,7 @@ def parts_table(r: StageResult) -> dict:
     rows = []
     for row in r.part_rows:
         p = row["part"]
-        unit = {"R": "ohm", "C": "F", "L": "H"}[p.kind]
+        unit = PART_UNITS[p.kind]
         tol = (f"±{p.tol_plus * 100:g} %" if abs(p.tol_plus - p.tol_minus) < 1e-12
                else f"+{p.tol_plus * 100:g} / −{p.tol_minus * 100:g} %")
         temp = p.dielectric or (f"{p.tcr_ppm:g} ppm/K" if p.tcr_ppm is not None else "—")
@@ -116,8 +143,9 @@ def checks_table(r: StageResult) -> dict | None:
     rows = []
     for v in r.verdicts:
         unit = METRICS[v.metric].unit
+        d = verdict_digits(v, unit)          # worst and limit print apart when they differ
         rows.append([metric_label(v.metric, v.at_hz, v.detail), limit_text(v, unit),
-                     fq(v.nominal, unit), fq(v.worst, unit),
+                     fq(v.nominal, unit, d, v.metric), fq(v.worst, unit, d, v.metric),
                      f"{fq(v.wc_low, unit)} … {fq(v.wc_high, unit)}",
                      pct(v.yield_), pct(v.required_yield), v.status])
     return {"type": "table", "title": "Checks",

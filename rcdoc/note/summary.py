@@ -16,7 +16,7 @@ from rcdoc import __version__
 from rcdoc.analysis.analyse import StageResult
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Project
-from rcdoc.input.quantities import format_quantity
+from rcdoc.input.quantities import PART_UNITS, distinct_digits, format_quantity
 
 def _num(x) -> float | None:
     if x is None:
@@ -68,7 +68,7 @@ def part_entry(row: dict) -> dict:
     tol = p.tol_plus if abs(p.tol_plus - p.tol_minus) < 1e-12 else \
         {"plus": p.tol_plus, "minus": p.tol_minus}
     entry = {"role": p.role, "ref": p.ref, "value": p.value,
-             "unit": {"R": "ohm", "C": "F", "L": "H"}[p.kind], "tolerance": tol,
+             "unit": PART_UNITS[p.kind], "tolerance": tol,
              "preferred": row["preferred"]}
     if p.dielectric:
         entry["dielectric"] = p.dielectric
@@ -109,13 +109,20 @@ def to_json(data: dict) -> str:
 
 
 def describe_verdict(v) -> str:
-    unit = METRICS[v.metric].unit
+    """A failed check in one line (JUnit, CI annotations); the worst value and the
+    limit get enough digits to read differently when they differ."""
+    m = METRICS[v.metric]
+    unit = m.unit
+    d = distinct_digits([v.worst, v.min, v.max], unit, m.digits, resolution=m.resolution)
+
+    def q(x):
+        return format_quantity(x, unit, d, resolution=m.resolution, stress=m.stress)
     lim = []
     if v.min is not None:
-        lim.append(f"min {format_quantity(v.min, unit)}")
+        lim.append(f"min {q(v.min)}")
     if v.max is not None:
-        lim.append(f"max {format_quantity(v.max, unit)}")
-    worst = format_quantity(v.worst, unit) if math.isfinite(v.worst) else "not found"
+        lim.append(f"max {q(v.max)}")
+    worst = q(v.worst) if math.isfinite(v.worst) else "not found"
     return (f"{' '.join(lim)}; worst {worst}; yield {v.yield_ * 100:.2f} % "
             f"(required {v.required_yield * 100:g} %)")
 
