@@ -59,7 +59,7 @@ CLI = "import sys; from rcdoc.commands.cli import main; sys.exit(main(sys.argv[1
 # A fresh process that runs a command and reports the command's resource use alone:
 # getrusage(RUSAGE_CHILDREN) counts the processes that were waited for; pool workers
 # forked by a forkserver may not be, so the CPU of the whole process tree is also
-# sampled from /proc every 50 ms (Linux; each process's last < 50 ms is missed) and
+# sampled from /proc every 0.2 s (Linux; each process's last < 0.2 s is missed) and
 # the larger of the two is the CPU time. peak_mib: ru_maxrss, the largest single
 # process; tree_mib: the largest sampled sum of the tree's resident sizes.
 WRAP = r"""
@@ -91,7 +91,7 @@ while linux and p.poll() is None:
     seen = tree(p.pid)
     cpu.update({pid: v[1] for pid, v in seen.items()})
     tree_peak = max(tree_peak, sum(v[2] for v in seen.values()))
-    time.sleep(0.05)
+    time.sleep(0.2)
 err = p.communicate()[1]
 w = time.perf_counter() - t
 u = resource.getrusage(resource.RUSAGE_CHILDREN)
