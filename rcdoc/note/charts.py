@@ -39,8 +39,6 @@ from matplotlib.figure import Figure
 from rcdoc.input.quantities import format_eng
 from rcdoc.note import palette as pal
 
-__all__ = ["bode", "phasor", "time_response", "histogram", "corner_overview", "sweep"]
-
 WIDTH_IN = 16.0 / 2.54  # the note's text width, 16 cm
 
 # Units whose values are not scaled with SI prefixes on an axis.
