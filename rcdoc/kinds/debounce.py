@@ -169,8 +169,8 @@ def _metric_result(name, arr, batch):
     wc_vals = arr[batch.vertex]
     wc_vals = wc_vals[np.isfinite(wc_vals)]
     wc = (float(wc_vals.min()), float(wc_vals.max())) if wc_vals.size else (math.nan,) * 2
-    return MetricResult(name=name, at_hz=None, detail="", nominal=float(arr[0]),
-                        samples=arr[batch.mc], wc=wc,
+    return MetricResult(name=name, at_hz=None, param=None, nominal=float(arr[0]),
+                        samples=arr[batch.mc], worst_case=wc, worst_case_method="vertices",
                         sensitivity={r: float(s) for r, s in zip(batch.roles, sens)})
 
 
@@ -197,6 +197,7 @@ def _ratings(stage, batch, arrays):
 
 def analyse(stage, analysis):
     from rcdoc.analysis.analyse import StageResult, _assumptions, _part_rows
+    from rcdoc.analysis.results import LegacyKindResult
     batch, rising, falling = threshold_batch(stage, analysis)
     arrays = evaluate(stage, batch.values, rising, falling)
     metrics_ = [_metric_result(name, np.asarray(arrays[name], float), batch)
@@ -211,9 +212,9 @@ def analyse(stage, analysis):
     empty = np.zeros(0)
     return StageResult(stage=stage, network=build(stage), passband=PASSBAND,
                        char_hz=characteristic_hz(stage), freqs_hz=empty,
-                       h_nominal=empty.astype(complex), band={}, metrics=metrics_,
-                       verdicts=verdicts, ratings=_ratings(stage, batch, arrays), phasor={},
-                       step=None, pwm=None, part_rows=_part_rows(stage, analysis),
+                       h_nominal=empty.astype(complex), band=None, metrics=metrics_,
+                       verdicts=verdicts, ratings=_ratings(stage, batch, arrays), phasors=None,
+                       step=None, pwm=None, parts=_part_rows(stage, analysis),
                        assumptions=debounce_note.assumptions(stage)
                        + _assumptions(stage, analysis),
-                       samples=batch.samples, extra=extra)
+                       samples=batch.samples, kind_result=LegacyKindResult(extra))

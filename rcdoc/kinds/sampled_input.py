@@ -142,10 +142,11 @@ def analyse(stage, analysis):
     nominal = build_batch(stage, analysis, samples=0).take(slice(0, 1))
     conv = stage.options["converter"]
     curves = phys.curves(params_for(stage, nominal), float(nominal["c"][0]), conv["pin_c"])
-    result.extra["sampled"] = curves
-    result.extra["blocks"] = note_blocks(result, curves)
-    result.assumptions[:0] = assumptions(stage)
-    return result
+    from dataclasses import replace
+    from rcdoc.analysis.results import LegacyKindResult
+    return replace(result, assumptions=tuple(assumptions(stage)) + result.assumptions,
+                   kind_result=LegacyKindResult({"sampled": curves,
+                                                 "blocks": note_blocks(result, curves)}))
 
 
 def assumptions(stage) -> list[str]:

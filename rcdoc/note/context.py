@@ -82,7 +82,8 @@ def stage_voltage(r: StageResult) -> float:
     for p in st.parts.values():
         if p.bias_v:
             v = max(v, p.bias_v)
-    v = max(v, float(r.extra.get("peak_voltage_v", 0.0)))
+    if r.kind_result is not None:
+        v = max(v, float(r.kind_result.peak_voltage_v))
     m = r.metric("capacitor_voltage")
     if m is not None and math.isfinite(m.nominal):
         v = max(v, m.nominal)
@@ -91,8 +92,8 @@ def stage_voltage(r: StageResult) -> float:
 
 def parts_table(r: StageResult) -> dict:
     rows = []
-    for row in r.part_rows:
-        p = row["part"]
+    for row in r.parts:
+        p = row.part
         unit = {"R": "ohm", "C": "F", "L": "H"}[p.kind]
         tol = (f"±{p.tol_plus * 100:g} %" if abs(p.tol_plus - p.tol_minus) < 1e-12
                else f"+{p.tol_plus * 100:g} / −{p.tol_minus * 100:g} %")
@@ -103,9 +104,9 @@ def parts_table(r: StageResult) -> dict:
             temp += f"; {p.dc_bias[1] * 100:g} % at {fq(p.dc_bias[0], 'V')}, biased {fq(p.bias_v, 'V')}"
         rating = (fq(p.power_rating_w, "W") if p.power_rating_w else
                   fq(p.voltage_rating_v, "V") if p.voltage_rating_v else "—")
-        series = row["preferred"] or f"not {row['series']}"
+        series = row.preferred or f"not {row.series}"
         rows.append([p.ref or "—", p.role, fq(p.value, unit, 4), tol, temp,
-                     f"{fq(row['low'], unit)} … {fq(row['high'], unit)}", series, rating,
+                     f"{fq(row.low, unit)} … {fq(row.high, unit)}", series, rating,
                      p.model or ""])
     from rcdoc.input.channels import channel_line
     chans = channel_line(r.stage)
@@ -241,7 +242,7 @@ def bode_figure(r: StageResult) -> dict:
         if m.name == "gain" and m.at_hz is not None:
             ph = r.metric("phase", m.at_hz)
             marks.append((m.at_hz, m.nominal, ph.nominal if ph else math.nan))
-    svg = charts.bode(f"{r.stage.id}-bode", r.freqs_hz, gain, phase, band=r.band,
+    svg = charts.bode(f"{r.stage.id}-bode", r.freqs_hz, gain, phase, band=r.band.as_mapping(),
                       corner_hz=corner, corner_spread=spread_, marks=marks,
                       limits=bode_limits(r), title="", fmt="png")
     return {"type": "figure", "title": "Frequency response", "image": svg, "width": "full",
@@ -251,38 +252,38 @@ def bode_figure(r: StageResult) -> dict:
 
 
 def phasor_figure(r: StageResult) -> dict | None:
-    ph = r.phasor
-    if not ph:
+    ph = r.phasors
+    if ph is None:
         return None
     vectors, tail = [], 0j
-    for name, kind, v in ph["vectors"]:
+    for name, kind, v in ph.vectors:
         ref = _ref_of(r, name)
         vectors.append({"label": f"V({ref}) {abs(v):.3g} V", "value": v, "kind": kind,
                         "tail": tail})
         tail += v
-    if ph["closing"] is not None:
-        node, v = ph["closing"]
+    if ph.closing is not None:
+        node, v = ph.closing
         vectors.append({"label": f"V({node}) to ground {abs(v):.3g} V", "value": v,
                         "kind": "C", "tail": tail})
-    vectors.append({"label": "Source 1 V", "value": ph["source"], "kind": "source", "tail": 0j})
-    if ph["output"] is not None and ph["closing"] is not None:
-        vectors.append({"label": f"Output {abs(ph['output']):.3g} V", "value": ph["output"],
+    vectors.append({"label": "Source 1 V", "value": ph.source, "kind": "source", "tail": 0j})
+    if ph.output is not None and ph.closing is not None:
+        vectors.append({"label": f"Output {abs(ph.output):.3g} V", "value": ph.output,
                         "kind": "sum", "tail": 0j})
-    if ph["reference"] == "current":
-        ref_label = f"Current {fq(abs(ph['current']), 'A')} (reference)"
-        angle = math.degrees(math.atan2(ph["source"].imag, ph["source"].real))
+    if ph.reference == "current":
+        ref_label = f"Current {fq(abs(ph.current), 'A')} (reference)"
+        angle = math.degrees(math.atan2(ph.source.imag, ph.source.real))
     else:
         ref_label = "Source voltage (reference)"
-        angle = (math.degrees(math.atan2(ph["output"].imag, ph["output"].real))
-                 if ph["output"] is not None else None)
+        angle = (math.degrees(math.atan2(ph.output.imag, ph.output.real))
+                 if ph.output is not None else None)
     svg = charts.phasor(f"{r.stage.id}-phasor", vectors, reference_label=ref_label,
-                        freq_hz=ph["freq_hz"], angle_deg=angle, fmt="png")
+                        freq_hz=ph.freq_hz, angle_deg=angle, fmt="png")
     what = ("the series current, common to every part on the path, is the reference direction"
-            if ph["reference"] == "current" else "the source voltage is the reference direction")
-    return {"type": "figure", "title": f"Phasors at {fq(ph['freq_hz'], 'Hz')}", "image": svg,
+            if ph.reference == "current" else "the source voltage is the reference direction")
+    return {"type": "figure", "title": f"Phasors at {fq(ph.freq_hz, 'Hz')}", "image": svg,
             "width": "full",
             "caption": f"Part voltages head to tail for a 1 V rms source at "
-                       f"{fq(ph['freq_hz'], 'Hz')}; they add up to the source voltage; {what}."}
+                       f"{fq(ph.freq_hz, 'Hz')}; they add up to the source voltage; {what}."}
 
 
 def _ref_of(r: StageResult, element: str) -> str:
@@ -301,28 +302,21 @@ def time_figures(r: StageResult) -> list[dict]:
         checked = {v.detail for v in r.verdicts if v.metric == "settling"}
         settling = [m for m in r.metrics if m.name == "settling"]
         st = next((m for m in settling if m.detail in checked), settling[0] if settling else None)
-        fin = s["nominal"][-1]
+        fin = s.nominal[-1]
         if st is not None and math.isfinite(st.nominal):
-            band = 0.01
-            if st.detail.startswith("within"):
-                band = float(st.detail.split()[1]) / 100
-            elif " bits of " in st.detail:      # half an LSB of a full scale, in volts
-                n, fs = st.detail.split(" bits of ")
-                band = parse_quantity(fs, "V") / 2.0 ** (int(n) + 1) / max(abs(fin), 1e-300)
-            elif st.detail.endswith("bits"):
-                band = 2.0 ** -(int(st.detail.split()[0]) + 1)
+            band = st.param.fraction(fin)    # the typed settling band (analysis/results.py)
             window = {"t": st.nominal, "lo": fin * (1 - band), "hi": fin * (1 + band),
                       "label": f"settled {st.detail}: {fq(st.nominal, 's')}"}
-        svg = charts.time_response(f"{r.stage.id}-step", s["t"], s["nominal"],
-                                   band=(s["min"], s["max"]), window=window,
+        svg = charts.time_response(f"{r.stage.id}-step", s.t_s, s.nominal,
+                                   band=(s.min, s.max), window=window,
                                    ylabel="Output [V]", fmt="png")
         out.append({"type": "figure", "title": "Step response", "image": svg, "width": "full",
                     "caption": f"Output for a {fq(r.stage.drive.amplitude_v, 'V')} step at t = 0, "
                                "nominal with the min–max band over the samples."})
     if r.pwm is not None:
         w = r.pwm
-        svg = charts.time_response(f"{r.stage.id}-pwm", w["t"], w["nominal"],
-                                   band=(w["min"], w["max"]),
+        svg = charts.time_response(f"{r.stage.id}-pwm", w.t_s, w.nominal,
+                                   band=(w.min, w.max),
                                    ylabel="Output − its mean [V]", series=(), fmt="png")
         d = r.stage.drive
         out.append({"type": "figure", "title": "PWM ripple (steady state)", "image": svg,
@@ -330,7 +324,7 @@ def time_figures(r: StageResult) -> list[dict]:
                     "caption": f"One period of the output in steady state for a "
                                f"{fq(d.amplitude_v, 'V')} PWM drive at {fq(d.frequency_hz, 'Hz')}, "
                                f"duty {d.duty * 100:g} %, shown about its mean "
-                               f"({fq(w['mean'], 'V')} nominal); min–max band over the samples."})
+                               f"({fq(w.mean, 'V')} nominal); min–max band over the samples."})
     return out
 
 
@@ -369,7 +363,7 @@ def stage_context(r: StageResult, project: Project) -> dict:
     for t in (checks_table(r), ratings_table(r)):
         if t:
             blocks.append(t)
-    for b in r.extra.get("blocks_before", []):
+    for b in getattr(r.kind_result, "blocks_before", tuple)():
         blocks.append(b)
     blocks.append(metrics_table(r))
     # An unstable nominal has no steady-state response to draw.
@@ -380,7 +374,7 @@ def stage_context(r: StageResult, project: Project) -> dict:
     if pf:
         blocks.append(pf)
     blocks += time_figures(r)
-    blocks += r.extra.get("blocks", [])
+    blocks += list(r.kind_result.blocks()) if r.kind_result is not None else []
     blocks += histogram_figures(r)
     sens = sensitivity_table(r)
     if sens:
@@ -455,7 +449,7 @@ def summary_rows(results: list[StageResult]) -> list[dict]:
             spread_ = f" ({fq(s.min(), unit)} … {fq(s.max(), unit)})" if s.size else ""
             key_text = f"{METRICS[key.name].label.split(' (')[0]}: {fq(key.nominal, unit)}{spread_}"
         else:
-            key_text = r.extra.get("summary", "—")
+            key_text = r.kind_result.summary if r.kind_result is not None else "—"
         n = len(r.verdicts) + len(r.ratings)
         ok = sum(v.status == "pass" for v in r.verdicts + r.ratings)
         rows.append({"id": r.stage.id, "cells": [r.stage.title, KIND_TITLES.get(r.stage.kind, r.stage.kind),

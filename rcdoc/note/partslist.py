@@ -27,24 +27,6 @@ _TYPES = {"R": ("resistor", "ohm"), "C": ("capacitor", "F"), "L": ("inductor", "
 _STRESS = {"R": ("resistor_power", "W"), "C": ("capacitor_voltage", "V")}
 
 
-def part_stresses(stage, batch, cap_peaks: dict, res_powers: dict) -> dict[str, dict]:
-    """Per part role: the stress metric, its nominal and its worst (highest) Monte
-    Carlo value; from the arrays the analysis gathered per chunk of rows."""
-    out = {}
-    for role, part in stage.parts.items():
-        if part.kind == "C" and role in cap_peaks:
-            arr = np.concatenate(cap_peaks[role])
-        elif part.kind == "C" and part.bias_v:
-            arr = np.full(batch.rows, part.bias_v)
-        elif part.kind == "R" and role in res_powers:
-            arr = np.concatenate(res_powers[role])
-        else:
-            continue
-        out[role] = {"metric": _STRESS[part.kind][0], "nominal": float(arr[0]),
-                     "worst": _highest(arr[batch.mc])}
-    return out
-
-
 def _highest(samples: np.ndarray) -> float:
     # As rcdoc.analysis.checks.worst_value with an upper limit: NaN if any sample has no value.
     if samples.size == 0 or not np.all(np.isfinite(samples)):
@@ -58,7 +40,8 @@ def _stress_of(result, role: str, part) -> dict | None:
         if v.part == (part.ref or role) and v.metric == _STRESS.get(part.kind, ("",))[0]:
             return {"metric": v.metric, "nominal": v.nominal, "worst": v.worst,
                     "rating": v.max, "status": v.status}
-    kept = result.extra.get("stresses", {}).get(role)
+    st = result.stresses.get(role)     # computed by the analysis (rcdoc.analysis.analyse)
+    kept = {"metric": st.metric, "nominal": st.nominal, "worst": st.worst} if st else None
     if kept is None and result.stage.kind == "snubber" and part.kind in _STRESS:
         m = result.metric(_STRESS[part.kind][0])    # a snubber's one R and one C
         if m is not None:
@@ -79,8 +62,8 @@ def rows(results) -> list[list[str]]:
     for r in results:
         chans = r.stage.channels or ({},)
         for k, chan in enumerate(chans, start=1):
-            for row in r.part_rows:
-                p = row["part"]
+            for row in r.parts:
+                p = row.part
                 kind, unit = _TYPES[p.kind]
                 s = _stress_of(r, p.role, p) or {}
                 rating, worst = s.get("rating"), s.get("worst")
