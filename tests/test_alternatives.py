@@ -7,7 +7,8 @@ import math
 
 import pytest
 
-from rcdoc.analysis.alternatives import alternatives_block, stage_alternatives
+from rcdoc.analysis import alternatives as alternatives_mod
+from rcdoc.analysis.alternatives import ALT_SAMPLES, alternatives_block, stage_alternatives
 from rcdoc.analysis.analyse import analyse_stage
 from rcdoc.note.context import stage_context
 from rcdoc.input.project import load_project
@@ -148,3 +149,54 @@ def test_stage_page_shows_the_block_after_the_parts_table(tmp_path):
     titles = [b.get("title") for b in stage_context(r, p)["blocks"]]
     i = titles.index("Parts")
     assert titles[i + 1] == "Preferred-value alternatives"
+
+
+def test_alternatives_are_part_of_the_analysis_and_the_note_only_formats_them(tmp_path,
+                                                                              monkeypatch):
+    p, r = analysed(tmp_path, LOWPASS.format(r="4.87k", tol="5%"))
+    assert r.alternatives is not None and r.alternatives.samples == ALT_SAMPLES
+
+    def no_physics(*a, **k):
+        raise AssertionError("the note re-ran the physics")
+    monkeypatch.setattr(alternatives_mod, "Evaluator", no_physics)
+    monkeypatch.setattr(alternatives_mod.spread, "build_batch", no_physics)
+    block = alternatives_block(r, p.analysis)
+    assert block["columns"][-2] == f"Yield ({ALT_SAMPLES} samples)"
+    assert len(block["rows"]) == 3
+
+
+# A corner window cutting through the spread, so that yields lie well inside 0 … 1.
+SPLIT = BOARD.replace("samples = 20", "samples = 4000\nseed = 7") + """
+[[stage]]
+id = "lp"
+title = "Low-pass"
+kind = "rc-lowpass"
+parts.r = { ref = "R1", value = "4.87k", tolerance = "5%" }
+parts.c = { ref = "C1", value = "10 nF", tolerance = "5%", dielectric = "C0G" }
+[[stage.check]]
+metric = "corner"
+min = "3.2 kHz"
+max = "3.4 kHz"
+"""
+
+
+def test_alternative_yields_agree_with_a_direct_monte_carlo(tmp_path):
+    p, r = analysed(tmp_path, SPLIT)
+    alt = r.alternatives
+    n_alt = alt.samples
+    checked = 0
+    for a in alt.rows:
+        # The changed design analysed directly: 4000 samples from another seed.
+        text = SPLIT.replace('"4.87k"', f'"{a.value:.6g}"').replace("seed = 7", "seed = 99")
+        f = tmp_path / f"direct-{a.step or 'design'}.toml"
+        f.write_text(text, encoding="utf-8")
+        pd = load_project(f)
+        direct = analyse_stage(pd.stages[0], pd.analysis).verdicts[0]
+        y_alt, y_dir = a.yields[0], direct.yield_
+        # Two independent binomial estimates: their difference has standard error
+        # sqrt(p(1-p)/n1 + p(1-p)/n2) (binomial distribution, textbook); 4 SE bound.
+        pp = min(max(y_dir, 1.0 / n_alt), 1 - 1.0 / n_alt)
+        se = math.sqrt(pp * (1 - pp) * (1 / n_alt + 1 / pd.analysis.samples))
+        assert abs(y_alt - y_dir) <= 4 * se, (a.step, y_alt, y_dir, se)
+        checked += 0.05 < y_dir < 0.95
+    assert checked >= 2          # the window cuts through at least two designs' spread

@@ -238,18 +238,18 @@ def test_proposed_values_are_preferred_and_near_the_rules(tmp_path):
     step24, step12 = 10 ** (1 / len(SERIES["E24"])), 10 ** (1 / len(SERIES["E12"]))
     assert 1 / step24 <= rv / z0 <= step24                     # R near Z0 (common practice)
     assert 1 / step12 <= cv / (3 * c_par) <= step12            # C a few times C_par
-    assert r.extra["json"]["proposed"] is True
+    assert r.kind_result.json()["proposed"] is True
     assert r.stage.parts["r"].model == "proposed"
     names = {m.name for m in r.metrics}
     assert {"damping", "overshoot", "resistor_power", "capacitor_voltage", "parasitic_c",
             "parasitic_l", "characteristic_impedance", "ring_frequency"} <= names
     assert r.metric("parasitic_c").nominal == pytest.approx(c_par, rel=1e-9)
     # The snubber damps: overshoot and damping both better than without it.
-    js = r.extra["json"]
+    js = r.kind_result.json()
     assert js["damping"] > 5 * js["damping_without"]
     assert js["peak_voltage"] < js["peak_voltage_without"]
-    assert any(b["type"] == "figure" and "ringing" in b["title"] for b in r.extra["blocks"])
-    assert any(b.get("title", "").startswith("Trade-off") for b in r.extra["blocks"])
+    assert any(b["type"] == "figure" and "ringing" in b["title"] for b in r.kind_result.blocks())
+    assert any(b.get("title", "").startswith("Trade-off") for b in r.kind_result.blocks())
 
 
 def test_proposed_load_snubber_keeps_the_kick_near_twice_the_supply(tmp_path):
@@ -274,13 +274,13 @@ stray = "100 pF"
     assert is_preferred(cv, "E12") and is_preferred(rv, "E24")
     assert cv == pytest.approx(ll * (i0 / 24) ** 2, rel=0.12)
     assert rv == pytest.approx(math.sqrt(ll / cv), rel=0.1)
-    js = r.extra["json"]
+    js = r.kind_result.json()
     assert js["coil_energy"] == pytest.approx(0.5 * ll * i0 ** 2, rel=1e-12)
     assert 0.95 * 24 < js["peak_voltage"] < 2.3 * 24
     assert r.metric("damping").nominal == pytest.approx(1.0, abs=0.1)
     assert js["closing_current"] == pytest.approx(24 / rv, rel=1e-12)   # Ohm's law
     assert r.metric("parasitic_c").nominal == pytest.approx(100e-12)
-    assert r.extra["peak_voltage_v"] < 60
+    assert r.kind_result.peak_voltage_v < 60
 
 
 def test_mains_snubber_is_rated_and_carries_the_cautions(tmp_path):
@@ -292,13 +292,13 @@ def test_mains_snubber_is_rated_and_carries_the_cautions(tmp_path):
     assert {v.metric for v in r_load.ratings} == {"resistor_power", "capacitor_voltage"}
     assert r_load.status == "pass"
     # 230 V rms is 325 V peak (√2·rms): above the default 60 V, so the page has the cautions.
-    assert r_load.extra["peak_voltage_v"] >= 230 * math.sqrt(2)
+    assert r_load.kind_result.peak_voltage_v >= 230 * math.sqrt(2)
     assert stage_context(r_load, project)["safety"] is not None
-    assert r_sw.extra["peak_voltage_v"] > 48
+    assert r_sw.kind_result.peak_voltage_v > 48
     assert stage_context(r_sw, project)["safety"] is not None      # 48 V rings above 60 V
     low = load_project(write(tmp_path, SWITCH.replace('"48 V"', '"12 V"'), "low.toml"))
     r_low = analyse_stage(low.stages[0], low.analysis)
-    assert r_low.extra["peak_voltage_v"] < 60
+    assert r_low.kind_result.peak_voltage_v < 60
     assert stage_context(r_low, low)["safety"] is None
 
 

@@ -163,12 +163,12 @@ def alternatives_block(r: StageResult, analysis: Analysis) -> dict | None:
         if checked:
             bad = [metric_label(n, at, d) for (n, at, d), ok, c in
                    zip(alt.metrics, a.inside, alt.checks) if c is not None and not ok]
-            cells.append("all inside" if not bad else "outside: " + ", ".join(bad))
             cells.append(_yields_text(alt, a))
+            cells.append("all inside" if not bad else "outside: " + ", ".join(bad))
         out_rows.append(cells)
     columns = ["Part", "Value", "Design"] + [metric_label(n, at, d) for n, at, d in alt.metrics]
     if checked:
-        columns += ["Nominal against the limits", f"Yield ({alt.samples} samples)"]
+        columns += [f"Yield ({alt.samples} samples)", "Nominal against the limits"]
     what = "checked metrics" if checked else "headline metrics (the stage has no checks)"
     return {"type": "table", "title": "Preferred-value alternatives", "columns": columns,
             "rows": out_rows,
