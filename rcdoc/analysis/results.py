@@ -56,6 +56,14 @@ class FrozenMap(Mapping):
         raise AttributeError("FrozenMap is read-only")
 
 
+class _ReadOnlyAgain:
+    """Unpickled (from a worker or the build cache), arrays are read-only again."""
+
+    def __setstate__(self, state):
+        self.__dict__.update(state)
+        self.__post_init__()
+
+
 def _frozen(arr) -> np.ndarray | None:
     """A read-only array (a view when the input is an array already)."""
     if arr is None:
@@ -110,7 +118,7 @@ def param_of(name: str, chk: Check | None) -> SettlingBand | None:
 
 
 @dataclass(frozen=True)
-class MetricResult:
+class MetricResult(_ReadOnlyAgain):
     """One metric of one stage: nominal, Monte Carlo samples, worst case, sensitivities."""
 
     name: str
@@ -154,7 +162,7 @@ class MetricResult:
 
 
 @dataclass(frozen=True)
-class Waveform:
+class Waveform(_ReadOnlyAgain):
     """A time response for the figures: nominal, 5–95 % band and min–max over samples."""
 
     t_s: np.ndarray
@@ -172,7 +180,7 @@ class Waveform:
 
 
 @dataclass(frozen=True)
-class ResponseBand:
+class ResponseBand(_ReadOnlyAgain):
     """The spread of the Bode response over the stable Monte Carlo samples, (F,) each."""
 
     gain_min: np.ndarray
@@ -293,7 +301,7 @@ class LegacyKindResult:
 
 
 @dataclass(frozen=True)
-class StageResult:
+class StageResult(_ReadOnlyAgain):
     """Everything known about one analysed stage."""
 
     stage: Stage
