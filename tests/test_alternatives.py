@@ -8,7 +8,9 @@ import math
 import pytest
 
 from rcdoc.analysis import alternatives as alternatives_mod
-from rcdoc.analysis.alternatives import ALT_SAMPLES, alternatives_block, stage_alternatives
+from rcdoc.analysis.alternatives import ALT_SAMPLES, stage_alternatives
+from rcdoc.note.alternatives import alternatives_block
+from rcdoc.note.context import fq, metric_label
 from rcdoc.analysis.analyse import analyse_stage
 from rcdoc.note.context import stage_context
 from rcdoc.input.project import load_project
@@ -76,7 +78,7 @@ def test_non_preferred_resistor_gets_e24_neighbours_and_their_metrics(tmp_path):
 
 def test_block_lists_design_and_neighbours(tmp_path):
     p, r = analysed(tmp_path, LOWPASS.format(r="4.87k", tol="5%"))
-    block = alternatives_block(r, p.analysis)
+    block = alternatives_block(r, fq, metric_label)
     assert block["type"] == "table" and len(block["rows"]) == 3
     assert [row[2] for row in block["rows"]] == ["as designed", "E24 below", "E24 above"]
     assert block["rows"][0][-1] == "all inside"
@@ -90,7 +92,7 @@ def test_preferred_values_give_no_block(tmp_path):
     # 4.7 kΩ is an E24 value (IEC 60063).
     p, r = analysed(tmp_path, LOWPASS.format(r="4k7", tol="5%"))
     assert stage_alternatives(r, p.analysis) is None
-    assert alternatives_block(r, p.analysis) is None
+    assert alternatives_block(r, fq, metric_label) is None
 
 
 def test_series_follows_the_tolerance(tmp_path):
@@ -160,7 +162,7 @@ def test_alternatives_are_part_of_the_analysis_and_the_note_only_formats_them(tm
         raise AssertionError("the note re-ran the physics")
     monkeypatch.setattr(alternatives_mod, "Evaluator", no_physics)
     monkeypatch.setattr(alternatives_mod.spread, "build_batch", no_physics)
-    block = alternatives_block(r, p.analysis)
+    block = alternatives_block(r, fq, metric_label)
     assert block["columns"][-2] == f"Yield ({ALT_SAMPLES} samples)"
     assert len(block["rows"]) == 3
 

@@ -8,7 +8,7 @@ every checked metric of the stage and each check's yield over a reduced Monte
 Carlo run (ALT_SAMPLES samples from the project's seed, the same draws for
 every design, so the designs differ only by the part changed). It runs during
 the analysis (rcdoc.analysis.analyse.analyse_stage) and its result is a typed
-field of the StageResult; the note only formats it.
+field of the StageResult; the note only formats it (rcdoc.note.alternatives).
 
 What it must not do: change the project or draw anything.
 """
@@ -23,7 +23,6 @@ import numpy as np
 from rcdoc.analysis import checks as checkmod
 from rcdoc.analysis import spread
 from rcdoc.analysis.evaluate import Evaluator
-from rcdoc.analysis.metrics import METRICS
 from rcdoc.analysis.results import (Alternative, StageAlternatives, StageResult,
                                     param_of)
 from rcdoc.input.model import Analysis, Check
@@ -124,68 +123,3 @@ def stage_alternatives(r: StageResult, analysis: Analysis,
     return StageAlternatives(metrics=tuple(_key(n, a, c) for n, a, c in requests),
                              checks=tuple(c for _, _, c in requests), rows=tuple(rows),
                              samples=samples, seed=analysis.seed)
-
-
-def _change(value: float, base: float, unit: str) -> str:
-    if not (math.isfinite(value) and math.isfinite(base)):
-        return ""
-    if unit in ("dB", "deg"):
-        d = value - base
-        return f" ({d:+.2f}{' dB' if unit == 'dB' else '°'})".replace("-", "−")
-    if base == 0:
-        return ""
-    return f" ({(value / base - 1) * 100:+.1f} %)".replace("-", "−")
-
-
-def alternatives_block(r: StageResult, analysis: Analysis) -> dict | None:
-    """The note's table of preferred-value alternatives for one stage, or None.
-
-    Reads the alternatives the analysis computed (``r.alternatives``); ``analysis``
-    is kept for the callers' signature.
-    """
-    from rcdoc.note.context import fq, metric_label
-    alt = r.alternatives
-    if alt is None:
-        return None
-    units = [METRICS[n].unit for n, _, _ in alt.metrics]
-    checked = any(c is not None for c in alt.checks)
-    out_rows = []
-    base: tuple[float, ...] = ()
-    for a in alt.rows:
-        if not a.step:
-            base = a.metrics
-            label, value = "as designed", f"{fq(a.value, a.unit, 4)}"
-        else:
-            label, value = f"{a.series} {a.step}", fq(a.value, a.unit, 4)
-        cells = [a.ref or a.role, value, label]
-        for x, b, u in zip(a.metrics, base, units):
-            cells.append(fq(x, u, 4) + (_change(x, b, u) if a.step else ""))
-        if checked:
-            bad = [metric_label(n, at, d) for (n, at, d), ok, c in
-                   zip(alt.metrics, a.inside, alt.checks) if c is not None and not ok]
-            cells.append(_yields_text(alt, a))
-            cells.append("all inside" if not bad else "outside: " + ", ".join(bad))
-        out_rows.append(cells)
-    columns = ["Part", "Value", "Design"] + [metric_label(n, at, d) for n, at, d in alt.metrics]
-    if checked:
-        columns += [f"Yield ({alt.samples} samples)", "Nominal against the limits"]
-    what = "checked metrics" if checked else "headline metrics (the stage has no checks)"
-    return {"type": "table", "title": "Preferred-value alternatives", "columns": columns,
-            "rows": out_rows,
-            "note": "Parts whose value is not a preferred value (IEC 60063) of the series that "
-                    "fits their tolerance, with the nearest preferred values below and above. "
-                    f"Each row gives the nominal {what} with only that part changed; "
-                    "in brackets the change from the design as drawn. "
-                    + (f"Yield: share of {alt.samples} Monte Carlo samples (seed {alt.seed}, "
-                       "the same draws for every row) inside each check's limits; its "
-                       "sampling error is about ±√(y(1−y)/n)." if checked else
-                       "Spread over tolerance is not re-run for the alternatives.")}
-
-
-def _yields_text(alt: StageAlternatives, a: Alternative) -> str:
-    from rcdoc.note.context import metric_label
-    parts = [(metric_label(n, at, d), y) for (n, at, d), c, y in
-             zip(alt.metrics, alt.checks, a.yields) if c is not None]
-    if len(parts) == 1:
-        return f"{parts[0][1] * 100:.1f} %"
-    return "; ".join(f"{label} {y * 100:.1f} %" for label, y in parts)

@@ -15,6 +15,7 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from rcdoc.analysis import checks as checkmod
+from rcdoc.analysis.alternatives import stage_alternatives
 from rcdoc.analysis import engine
 from rcdoc.input import parts as partmodels
 from rcdoc.analysis import spread
@@ -97,7 +98,6 @@ def analyse_stage(stage: Stage, analysis: Analysis, kind=None) -> StageResult:
     custom = getattr(kind, "analyse", None)
     if custom is not None:           # kinds with their own analysis (snubbers)
         return custom(stage, analysis)
-    from rcdoc.analysis.alternatives import stage_alternatives
     result = analyse_network(stage, analysis, kind=kind)
     return replace(result, alternatives=stage_alternatives(result, analysis))
 
@@ -285,7 +285,16 @@ def _response_band(g: _Gathered) -> ResponseBand:
 
 def analyse_network(stage: Stage, analysis: Analysis, evaluator=Evaluator,
                     kind=None) -> StageResult:
-    """The standard analysis; a kind with metrics of its own passes an Evaluator subclass."""
+    """The standard analysis of a stage as a linear network; the spine.
+
+    Steps: set-up (network, batch of rows: nominal, Monte Carlo, sensitivity
+    probes, corners; sweep and time grid from the nominal alone), the batch in
+    chunks of CHUNK_ROWS (every requested metric, Bode and waveform bands,
+    part stresses), then per metric the worst case (corners, walks, interior
+    search: worstcase.Context) and sensitivities, the verdicts of the checks
+    and ratings, the waveforms and phasors of the nominal. A kind with metrics
+    of its own passes an Evaluator subclass as ``evaluator``.
+    """
     kind = kind if kind is not None else kind_of(stage)
     s = _setup(stage, analysis, kind, evaluator)
     g = _gather(s)

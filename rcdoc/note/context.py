@@ -356,8 +356,8 @@ def stage_context(r: StageResult, project: Project) -> dict:
     blocks.append({"type": "figure", "title": "Schematic", "image": sch.render_svg(recipe),
                    "width": "natural", "caption": _schematic_caption(r)})
     blocks.append(parts_table(r))
-    from rcdoc.analysis.alternatives import alternatives_block
-    alt = alternatives_block(r, project.analysis)
+    from rcdoc.note.alternatives import alternatives_block
+    alt = alternatives_block(r, fq, metric_label)
     if alt:
         blocks.append(alt)
     for t in (checks_table(r), ratings_table(r)):
