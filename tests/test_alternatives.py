@@ -7,13 +7,12 @@ import math
 
 import pytest
 
-from rcdoc.analysis.alternatives import stage_alternatives
-from rcdoc.kinds import KINDS
+from rcdoc.analysis import alternatives as alternatives_mod
+from rcdoc.analysis.alternatives import ALT_SAMPLES, stage_alternatives
+from rcdoc.kinds import KINDS, analyse_stage, load_project
 from rcdoc.note.alternatives import alternatives_block
 from rcdoc.note.context import fq, metric_label
-from rcdoc.kinds import analyse_stage
 from rcdoc.note.page import stage_context
-from rcdoc.kinds import load_project
 
 BOARD = """
 [board]
@@ -78,7 +77,7 @@ def test_non_preferred_resistor_gets_e24_neighbours_and_their_metrics(tmp_path):
 
 def test_block_lists_design_and_neighbours(tmp_path):
     p, r = analysed(tmp_path, LOWPASS.format(r="4.87k", tol="5%"))
-    block = alternatives_block(r, p.analysis, fq, metric_label)
+    block = alternatives_block(r, fq, metric_label)
     assert block["type"] == "table" and len(block["rows"]) == 3
     assert [row[2] for row in block["rows"]] == ["as designed", "E24 below", "E24 above"]
     assert block["rows"][0][-1] == "all inside"
@@ -92,7 +91,7 @@ def test_preferred_values_give_no_block(tmp_path):
     # 4.7 kΩ is an E24 value (IEC 60063).
     p, r = analysed(tmp_path, LOWPASS.format(r="4k7", tol="5%"))
     assert stage_alternatives(r, p.analysis, KINDS[r.stage.kind]) is None
-    assert alternatives_block(r, p.analysis, fq, metric_label) is None
+    assert alternatives_block(r, fq, metric_label) is None
 
 
 def test_series_follows_the_tolerance(tmp_path):
@@ -151,3 +150,54 @@ def test_stage_page_shows_the_block_after_the_parts_table(tmp_path):
     titles = [b.get("title") for b in stage_context(r, p)["blocks"]]
     i = titles.index("Parts")
     assert titles[i + 1] == "Preferred-value alternatives"
+
+
+def test_alternatives_are_part_of_the_analysis_and_the_note_only_formats_them(tmp_path,
+                                                                              monkeypatch):
+    p, r = analysed(tmp_path, LOWPASS.format(r="4.87k", tol="5%"))
+    assert r.alternatives is not None and r.alternatives.samples == ALT_SAMPLES
+
+    def no_physics(*a, **k):
+        raise AssertionError("the note re-ran the physics")
+    monkeypatch.setattr(alternatives_mod, "Evaluator", no_physics)
+    monkeypatch.setattr(alternatives_mod.spread, "build_batch", no_physics)
+    block = alternatives_block(r, fq, metric_label)
+    assert block["columns"][-2] == f"Yield ({ALT_SAMPLES} samples)"
+    assert len(block["rows"]) == 3
+
+
+# A corner window cutting through the spread, so that yields lie well inside 0 … 1.
+SPLIT = BOARD.replace("samples = 20", "samples = 4000\nseed = 7") + """
+[[stage]]
+id = "lp"
+title = "Low-pass"
+kind = "rc-lowpass"
+parts.r = { ref = "R1", value = "4.87k", tolerance = "5%" }
+parts.c = { ref = "C1", value = "10 nF", tolerance = "5%", dielectric = "C0G" }
+[[stage.check]]
+metric = "corner"
+min = "3.2 kHz"
+max = "3.4 kHz"
+"""
+
+
+def test_alternative_yields_agree_with_a_direct_monte_carlo(tmp_path):
+    p, r = analysed(tmp_path, SPLIT)
+    alt = r.alternatives
+    n_alt = alt.samples
+    checked = 0
+    for a in alt.rows:
+        # The changed design analysed directly: 4000 samples from another seed.
+        text = SPLIT.replace('"4.87k"', f'"{a.value:.6g}"').replace("seed = 7", "seed = 99")
+        f = tmp_path / f"direct-{a.step or 'design'}.toml"
+        f.write_text(text, encoding="utf-8")
+        pd = load_project(f)
+        direct = analyse_stage(pd.stages[0], pd.analysis).verdicts[0]
+        y_alt, y_dir = a.yields[0], direct.yield_
+        # Two independent binomial estimates: their difference has standard error
+        # sqrt(p(1-p)/n1 + p(1-p)/n2) (binomial distribution, textbook); 4 SE bound.
+        pp = min(max(y_dir, 1.0 / n_alt), 1 - 1.0 / n_alt)
+        se = math.sqrt(pp * (1 - pp) * (1 / n_alt + 1 / pd.analysis.samples))
+        assert abs(y_alt - y_dir) <= 4 * se, (a.step, y_alt, y_dir, se)
+        checked += 0.05 < y_dir < 0.95
+    assert checked >= 2          # the window cuts through at least two designs' spread

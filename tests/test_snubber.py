@@ -69,7 +69,7 @@ def rlc_switch(lp=90e-9, cp=73e-12, rp=1.0, r=None, c=None):
 
 def kind(r):
     """The stage's kind result (SnubberResult)."""
-    return r.extra["kind_result"]
+    return r.kind_result
 
 
 # --------------------------------------------------------------------------

@@ -190,7 +190,7 @@ def test_step_response_agrees_with_scipy(tmp_path):
     # 1/(sτ + 1) from scipy.signal.step is the reference.
     stage = lowpass(extra='source = "2.2 kohm"\ndrive = { step = "3.3 V" }')
     res = analyse_one(tmp_path, stage, "samples = 200")
-    t, y = res.step["t"], res.step["nominal"]
+    t, y = res.step.t_s, res.step.nominal
     tau = (2.2e3 + R_OHM) * C_F
     # The figure keeps a subset of the time grid; scipy's step needs a uniform grid,
     # so it runs on a fine one and is read at the kept instants.
@@ -200,7 +200,7 @@ def test_step_response_agrees_with_scipy(tmp_path):
     assert t[-1] > 8 * tau                  # the grid covers the settling
     np.testing.assert_allclose(y, 3.3 * y_ref, atol=3.3 * 2e-4)
     # The spread band holds the nominal curve.
-    assert np.all(res.step["min"] <= y + 1e-9) and np.all(res.step["max"] >= y - 1e-9)
+    assert np.all(res.step.min <= y + 1e-9) and np.all(res.step.max >= y - 1e-9)
 
 
 def _pwm_ripple_fourier(amp, freq, duty, tau, harmonics=3000, points=2000):

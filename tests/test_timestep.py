@@ -149,14 +149,14 @@ def test_sallen_key_stage_step_matches_scipy(tmp_path):
         """)
     r1 = r2 = 10e3
     c1, c2 = 22e-9, 10e-9
-    t = res.step["t"]            # the figure's instants: a subset of the uniform grid
+    t = res.step.t_s            # the figure's instants: a subset of the uniform grid
     den = [r1 * r2 * c1 * c2, c2 * (r1 + r2), 1.0]
     # Source: scipy.signal.residue on the textbook unity-gain Sallen-Key low-pass
     # H(s) = 1/(s²·R1R2C1C2 + s·C2(R1 + R2) + 1): the step response H(s)/s in partial
     # fractions, y(t) = Σ r_i·e^(p_i·t), evaluated at the figure's instants.
     res_, poles, _ = signal.residue([1.0], den + [0.0])
     ref = np.real(np.sum(res_[:, None] * np.exp(poles[:, None] * t[None, :]), axis=0))
-    np.testing.assert_allclose(res.step["nominal"][1:], ref[1:], atol=1e-8)
+    np.testing.assert_allclose(res.step.nominal[1:], ref[1:], atol=1e-8)
     # and scipy.signal.step on a uniform grid of the same span agrees with it (same H(s)).
     tu = np.linspace(0, t[-1], 4000)
     _, yu = signal.step(([1.0], den), T=tu)
@@ -204,4 +204,4 @@ def test_pwm_ripple_of_rc_lowpass_matches_closed_form(tmp_path, duty, freq):
     vpp = v * (1 - math.exp(-d * x)) * (1 - math.exp(-(1 - d) * x)) / (1 - math.exp(-x))
     assert _nominal(res, "ripple") == pytest.approx(vpp, rel=1e-6)
     # Source: textbook, the mean of the output is the mean of the input, D·V.
-    assert res.pwm["mean"] == pytest.approx(d * v, rel=1e-6)
+    assert res.pwm.mean == pytest.approx(d * v, rel=1e-6)

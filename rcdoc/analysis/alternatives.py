@@ -3,59 +3,45 @@
 What it is for: a part whose value is not a preferred value (IEC 60063) for
 its tolerance is hard to buy. For each such part this module takes the
 nearest preferred values below and above it in the series that fits its
-tolerance and works out the nominal value of every checked metric of the
-stage with that one part replaced, so the note can show what the change
-would cost. All the designs of a stage (as designed, and each replacement)
-are rows of one batch evaluated at once by rcdoc.analysis.evaluate.Evaluator.
+tolerance and works out, with that one part replaced, the nominal value of
+every checked metric of the stage and each check's yield over a reduced Monte
+Carlo run (ALT_SAMPLES samples from the project's seed, the same draws for
+every design, so the designs differ only by the part changed). It runs during
+the analysis (rcdoc.analysis.analyse.analyse_stage) and its result is a typed
+field of the StageResult; the note only formats it (rcdoc.note.alternatives).
 
-What it must not do: change the project, judge yields (only the nominal
-design is evaluated here) or draw anything; it returns data (rcdoc.note.alternatives makes the table).
+What it must not do: change the project or draw anything.
 """
 
 from __future__ import annotations
 
 import dataclasses
 import math
-from dataclasses import dataclass
 
 import numpy as np
 
-from rcdoc.input import parts as partmodels
-from rcdoc.input.quantities import PART_UNITS
-from rcdoc.analysis.analyse import StageResult, _default_detail, _detail
+from rcdoc.analysis import checks as checkmod
+from rcdoc.analysis import spread
 from rcdoc.analysis.evaluate import Evaluator
-from rcdoc.analysis.surroundings import fixed_values
+from rcdoc.analysis.results import (Alternative, StageAlternatives, StageResult,
+                                    param_of)
 from rcdoc.input.model import Analysis, Check
 from rcdoc.input.preferred import neighbours
+from rcdoc.input.quantities import PART_UNITS
+
+ALT_SAMPLES = 400       # Monte Carlo samples per alternative design (yield to about ±2.5 %)
 
 
-@dataclass(frozen=True)
-class Alternative:
-    """One design of the stage: ``role`` at ``value`` (``step`` "" = as designed)."""
-
-    role: str
-    ref: str
-    value: float
-    unit: str
-    series: str
-    step: str                       # "", "below" or "above"
-    metrics: tuple[float, ...]      # nominal value of each metric in the table's order
-    inside: tuple[bool, ...]        # each metric inside its check's limits (True if unchecked)
+def _key(name: str, at: float | None, chk: Check | None) -> tuple:
+    param = param_of(name, chk)
+    return (name, at, param.text if param is not None else "")
 
 
-@dataclass(frozen=True)
-class StageAlternatives:
-    metrics: tuple[tuple[str, float | None, str], ...]   # (name, at_hz, detail)
-    checks: tuple[Check | None, ...]
-    rows: tuple[Alternative, ...]
-
-
-def _requests(r: StageResult,
-              headline: tuple[str, ...]) -> list[tuple[str, float | None, Check | None]]:
+def _requests(r: StageResult, headline: tuple[str, ...]) -> list[tuple[str, float | None, Check | None]]:
     """The stage's checked metrics (or its kind's headline metrics if it has no checks)."""
     out, seen = [], set()
     for c in r.stage.checks:
-        key = (c.metric, c.at_hz, _detail(c) or _default_detail(c.metric))
+        key = _key(c.metric, c.at_hz, c)
         if key not in seen and callable(getattr(Evaluator, c.metric, None)):
             seen.add(key)
             out.append((c.metric, c.at_hz, c))
@@ -74,54 +60,66 @@ def _inside(value: float, chk: Check | None) -> bool:
     return (chk.min is None or value >= chk.min) and (chk.max is None or value <= chk.max)
 
 
-def stage_alternatives(r: StageResult, analysis: Analysis, kind) -> StageAlternatives | None:
+def _designs(r: StageResult) -> list[tuple[str, str, float, str]]:
+    """(role, step, value, series): as designed, then the neighbours below and above."""
+    out = []
+    for row in r.parts:
+        if row.preferred is not None:
+            continue
+        p = row.part
+        lower, upper = neighbours(p.value, row.series)
+        out += [(p.role, "", p.value, row.series), (p.role, "below", lower, row.series),
+                (p.role, "above", upper, row.series)]
+    return out
+
+
+def design_metrics(r: StageResult, analysis: Analysis, role: str, value: float,
+                   requests, samples: int = ALT_SAMPLES) -> np.ndarray:
+    """(1 + samples, M): each requested metric of the stage with ``role`` at ``value``,
+    nominal design first, then the Monte Carlo samples (seeded as the project)."""
+    st = r.stage
+    parts = dict(st.parts)
+    parts[role] = dataclasses.replace(parts[role], value=value)
+    changed = dataclasses.replace(st, parts=parts)
+    batch = spread.build_batch(changed, analysis, samples=samples)
+    t_hot_k = analysis.temperature_c[1] + 273.15
+    time_s = None
+    if st.drive is not None:          # the design's own time grid, from its nominal alone
+        time_s = Evaluator(changed, r.network, batch.take(slice(0, 1)), r.freqs_hz,
+                           r.passband, r.char_hz).time_s
+    ev = Evaluator(changed, r.network, batch.take(slice(0, batch.mc.stop)), r.freqs_hz,
+                   r.passband, r.char_hz, temperature_k=t_hot_k, time_s=time_s)
+    cols = [np.asarray(ev.metric(n, c, at_hz=a), dtype=float) for n, a, c in requests]
+    return np.stack(cols, axis=1) if cols else np.empty((batch.mc.stop, 0))
+
+
+def stage_alternatives(r: StageResult, analysis: Analysis, kind,
+                       samples: int = ALT_SAMPLES) -> StageAlternatives | None:
     """Alternatives for every non-preferred part of an analysed stage, or None if none apply.
 
-    ``kind`` is the stage's kind module (rcdoc.kinds.KINDS[stage.kind]): its HEADLINE
-    gives the columns of a stage without checks."""
-    st = r.stage
-    if getattr(kind, "analyse", None) is not None or r.network is None:
-        return None                 # kinds with their own analysis have no Evaluator metrics
-    flagged = [row for row in r.part_rows if row["preferred"] is None]
-    requests = _requests(r, tuple(kind.HEADLINE))
-    if not flagged or not requests:
+    Only for stages analysed as networks (the caller's job): kinds with their own
+    analysis have no Evaluator metrics. ``kind`` (its HEADLINE) gives the columns of
+    a stage without checks. One loop step per design (parts x 3);
+    each design's rows are evaluated at once.
+    """
+    if r.network is None:
         return None
-    roles = sorted(st.parts)
-    designs = []
-    for row in flagged:
-        p = row["part"]
-        lower, upper = neighbours(p.value, row["series"])
-        designs.append((p.role, "", p.value, row["series"]))
-        designs.append((p.role, "below", lower, row["series"]))
-        designs.append((p.role, "above", upper, row["series"]))
-    # One row per design: every part at its nominal in-circuit value (DC-bias
-    # loss included), except the replaced part at its replacement's.
-    nominal = {role: partmodels.nominal_value(st.parts[role], analysis) for role in roles}
-    values: dict[str, np.ndarray] = {}
-    for role in roles:
-        col = np.full(len(designs), nominal[role])
-        for k, (d_role, step, v, _) in enumerate(designs):
-            if d_role == role and step:
-                col[k] = partmodels.nominal_value(dataclasses.replace(st.parts[role], value=v),
-                                                  analysis)
-        values[role] = col
-    for name, v in fixed_values(st).items():
-        values[name] = np.full(len(designs), v)
-    ev = Evaluator(st, r.network, values, r.freqs_hz, r.passband, r.char_hz,
-                   temperature_k=analysis.temperature_c[1] + 273.15)
-    cols = []
-    for name, at, chk in requests:
-        cols.append(np.asarray(ev.metric(name, chk, at_hz=at), dtype=float))
-    table = np.stack(cols, axis=1) if cols else np.empty((len(designs), 0))
+    designs, requests = _designs(r), _requests(r, tuple(kind.HEADLINE))
+    if not designs or not requests:
+        return None
     rows = []
-    for k, (role, step, v, series) in enumerate(designs):
-        p = st.parts[role]
-        vals = tuple(float(x) for x in table[k])
-        rows.append(Alternative(role=role, ref=p.ref, value=v,
-                                unit=PART_UNITS[p.kind], series=series,
-                                step=step, metrics=vals,
+    for role, step, v, series in designs:
+        table = design_metrics(r, analysis, role, v, requests, samples)
+        vals = tuple(float(x) for x in table[0])
+        ylds = tuple(float(checkmod.inside(table[1:, k], c.min, c.max).mean())
+                     if c is not None and samples else math.nan
+                     for k, (_, _, c) in enumerate(requests))
+        p = r.stage.parts[role]
+        rows.append(Alternative(role=role, ref=p.ref, value=v, unit=PART_UNITS[p.kind],
+                                series=series, step=step, metrics=vals,
                                 inside=tuple(_inside(x, c) for x, (_, _, c) in
-                                             zip(vals, requests))))
-    return StageAlternatives(
-        metrics=tuple((n, a, _detail(c) or _default_detail(n)) for n, a, c in requests),
-        checks=tuple(c for _, _, c in requests), rows=tuple(rows))
+                                             zip(vals, requests)),
+                                yields=ylds))
+    return StageAlternatives(metrics=tuple(_key(n, a, c) for n, a, c in requests),
+                             checks=tuple(c for _, _, c in requests), rows=tuple(rows),
+                             samples=samples, seed=analysis.seed)

@@ -2,19 +2,20 @@
 
 This is the spine of ``rcdoc build``: the kind builds the Network, spread
 builds the batch of part values, the Evaluator computes every metric for every
-row in chunks, and checks turn them into verdicts. The result carries the
-arrays the figures need (response band, step band, PWM waveform, phasors) but
-nothing here draws.
+row in chunks, and checks turn them into verdicts. The result (a frozen
+rcdoc.analysis.results.StageResult) carries the arrays the figures need
+(response band, step band, PWM waveform, phasors) but nothing here draws.
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
 from rcdoc.analysis import checks as checkmod
+from rcdoc.analysis.alternatives import stage_alternatives
 from rcdoc.analysis import engine
 from rcdoc.input import parts as partmodels
 from rcdoc.analysis import spread
@@ -25,72 +26,15 @@ from rcdoc.analysis.surroundings import fixed_values
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Analysis, Check, Stage
 from rcdoc.analysis.network import GROUND, Network
-from rcdoc.analysis.stresses import part_stresses
+from rcdoc.analysis.results import (MetricResult, PartRow, PartStress, Phasors, ResponseBand,
+                                    StageResult, Waveform, param_of)
 
 CHUNK_ROWS = 4000            # rows of the batch solved at once: bounds memory
 BAND_SAMPLES = 20000         # percentile bands use at most this many samples
 WAVE_SAMPLES = 5000          # time-response bands use at most this many samples
 WAVE_POINTS = 400            # time-response points kept for the figures
 BAND_PERCENTILES = (5.0, 95.0)
-
-
-@dataclass
-class MetricResult:
-    name: str
-    at_hz: float | None
-    detail: str
-    nominal: float
-    samples: np.ndarray                  # (S,)
-    wc: tuple[float, float]              # extreme-value analysis: lowest, highest
-    sensitivity: dict[str, float]        # part role -> sensitivity
-    wc_method: str = worstcase.VERTICES  # how the worst-case range was found
-
-    @property
-    def unit(self) -> str:
-        return METRICS[self.name].unit
-
-    @property
-    def key(self) -> tuple:
-        return (self.name, self.at_hz, self.detail)
-
-
-@dataclass
-class StageResult:
-    stage: Stage
-    network: Network
-    passband: str
-    char_hz: float
-    freqs_hz: np.ndarray
-    h_nominal: np.ndarray                # (F,) complex
-    band: dict[str, np.ndarray]
-    metrics: list[MetricResult]
-    verdicts: list[checkmod.Verdict]
-    ratings: list[checkmod.Verdict]
-    phasor: dict
-    step: dict | None
-    pwm: dict | None
-    part_rows: list[dict]
-    assumptions: list[str]
-    samples: int
-    extra: dict = field(default_factory=dict)   # kind-specific results (snubbers)
-    samples_unstable: int = 0            # Monte Carlo samples with a pole at Re s >= 0
-    unstable_poles: tuple = ()           # the nominal's offending poles (rad/s), empty if stable
-
-    @property
-    def reason(self) -> str | None:
-        """Why the stage fails beyond its checks: "unstable" when the nominal design is."""
-        return "unstable" if self.unstable_poles else None
-
-    @property
-    def status(self) -> str:
-        bad = [v for v in self.verdicts + self.ratings if v.status != "pass"]
-        return "fail" if bad or self.reason else "pass"
-
-    def metric(self, name: str, at_hz: float | None = None) -> MetricResult | None:
-        for m in self.metrics:
-            if m.name == name and (at_hz is None or m.at_hz == at_hz):
-                return m
-        return None
+_STRESS = {"R": "resistor_power", "C": "capacitor_voltage"}
 
 
 def passband_of(stage: Stage, kind) -> str:
@@ -99,10 +43,19 @@ def passband_of(stage: Stage, kind) -> str:
     return fn(stage) if callable(fn) else kind.PASSBAND
 
 
-def _metric_requests(stage: Stage, offered: tuple[str, ...],
-                     kind) -> list[tuple[str, float | None, Check | None]]:
+Request = tuple  # (metric name, at_hz or None, Check or None)
+
+
+def request_key(request: Request) -> tuple:
+    """(name, at_hz, band text): two requests with the same key are the same metric."""
+    name, at, chk = request
+    param = param_of(name, chk)
+    return (name, at, param.text if param is not None else "")
+
+
+def _metric_requests(stage: Stage, offered: tuple[str, ...], kind) -> list[Request]:
     """The metrics the note reports for a stage: the kind's headline, marks, and every check's."""
-    req: list[tuple[str, float | None, Check | None]] = []
+    req: list[Request] = []
     for name in kind.HEADLINE:
         if name in offered:
             req.append((name, None, None))
@@ -111,7 +64,7 @@ def _metric_requests(stage: Stage, offered: tuple[str, ...],
     if "noise" in offered:
         req.append(("noise", None, None))
     if stage.drive is not None:
-        if passband_of(stage, kind) == "low":      # a rise time means little for a high-pass
+        if passband_of(stage, kind) == "low":   # a rise time means little for a high-pass
             req.append(("rise_time", None, None))
         req.append(("settling", None, None))
         if stage.drive.kind == "pwm":
@@ -121,40 +74,49 @@ def _metric_requests(stage: Stage, offered: tuple[str, ...],
         req.append((c.metric, c.at_hz, c))
     # De-duplicate on (name, at, settling band), keeping the first.
     seen, out = set(), []
-    for name, at, chk in req:
-        key = (name, at, _detail(chk) or _default_detail(name))
-        if key not in seen:
-            seen.add(key)
-            out.append((name, at, chk))
+    for q in req:
+        if request_key(q) not in seen:
+            seen.add(request_key(q))
+            out.append(q)
     return out
 
 
-def _detail(chk: Check | None) -> str:
-    if chk is None or chk.metric != "settling":
-        return ""
-    if chk.bits is not None and chk.full_scale is not None:
-        from rcdoc.input.quantities import format_quantity
-        return f"{chk.bits} bits of {format_quantity(chk.full_scale, 'V', 6)}"
-    if chk.bits is not None:
-        return f"{chk.bits} bits"
-    return f"within {chk.within * 100:g} %"
-
-
-def _default_detail(name: str) -> str:
-    return "within 1 %" if name == "settling" else ""
-
-
 def analyse_stage(stage: Stage, analysis: Analysis, kind) -> StageResult:
-    """One stage, analysed by ``kind`` (its module from rcdoc.kinds.KINDS, passed in:
-    the analysis does not know the kinds): the kind's own analysis if it has one."""
+    """Analyse one stage with its kind's own analysis or the standard network analysis.
+
+    ``kind`` is the stage's kind module (rcdoc.kinds.KINDS; passed in: the
+    analysis does not know the kinds). Stages analysed as networks also get their preferred-value
+    alternatives, judged with a reduced Monte Carlo (rcdoc.analysis.alternatives).
+    """
     custom = getattr(kind, "analyse", None)
     if custom is not None:           # kinds with their own analysis (snubbers)
         return custom(stage, analysis)
-    return analyse_network(stage, analysis, kind)
+    result = analyse_network(stage, analysis, kind=kind)
+    return replace(result, alternatives=stage_alternatives(result, analysis, kind))
 
 
-def analyse_network(stage: Stage, analysis: Analysis, kind, evaluator=Evaluator) -> StageResult:
-    """The standard analysis; a kind with metrics of its own passes an Evaluator subclass."""
+@dataclass
+class _Setup:
+    """What every chunk of a stage's batch is evaluated with."""
+
+    stage: Stage
+    analysis: Analysis
+    network: Network
+    passband: str
+    batch: spread.Batch
+    char_hz: float
+    freqs: np.ndarray
+    t_hot_k: float
+    requests: list
+    time_s: np.ndarray | None
+    evaluator: type
+
+    def evaluate(self, vals) -> Evaluator:
+        return self.evaluator(self.stage, self.network, vals, self.freqs, self.passband,
+                              self.char_hz, temperature_k=self.t_hot_k, time_s=self.time_s)
+
+
+def _setup(stage: Stage, analysis: Analysis, kind, evaluator) -> _Setup:
     network = kind.build(stage)
     passband = passband_of(stage, kind)
     batch = spread.build_batch(stage, analysis)
@@ -163,193 +125,192 @@ def analyse_network(stage: Stage, analysis: Analysis, kind, evaluator=Evaluator)
     if char_hz is None:
         char_hz = _char_from_poles(stage, network, nominal_vals, passband)
     freqs = sweep_for(char_hz, analysis)
-    t_hot_k = analysis.temperature_c[1] + 273.15
-    offered = kind.metrics(stage.options, stage.drive)
-    requests = _metric_requests(stage, offered, kind)
-
+    requests = _metric_requests(stage, kind.metrics(stage.options, stage.drive), kind)
     # Time grid shared by all rows, from the nominal alone (a row's numbers must
     # not depend on the other rows or on --samples).
     probe = evaluator(stage, network, nominal_vals, freqs, passband, char_hz)
     time_s = probe.time_s if stage.drive is not None else None
+    return _Setup(stage, analysis, network, passband, batch, char_hz, freqs,
+                  analysis.temperature_c[1] + 273.15, requests, time_s, evaluator)
 
-    values_per_req: list[list[np.ndarray]] = [[] for _ in requests]
-    gains, phases = [], []
-    band_acc = _Envelope()
-    waves: dict[str, list] = {"step": [], "pwm": []}
-    wave_env = {"step": _Envelope(), "pwm": _Envelope()}
-    cap_peaks: dict[str, list] = {}
-    res_powers: dict[str, list] = {}
-    unstable: list[np.ndarray] = []
+
+@dataclass
+class _Gathered:
+    """Per-chunk results collected over the whole batch."""
+
+    values: list = field(default_factory=list)        # per request: list of chunk arrays
+    gains: list = field(default_factory=list)
+    phases: list = field(default_factory=list)
+    band_env: "_Envelope" = None
+    waves: dict = field(default_factory=lambda: {"step": [], "pwm": []})
+    wave_env: dict = None
+    cap_peaks: dict = field(default_factory=dict)
+    res_powers: dict = field(default_factory=dict)
+    unstable: list = field(default_factory=list)
+    h_nominal: np.ndarray = None
+    nominal_ev: Evaluator = None
+
+    def __post_init__(self):
+        self.band_env = _Envelope()
+        self.wave_env = {"step": _Envelope(), "pwm": _Envelope()}
+
+
+def _gather(s: _Setup) -> _Gathered:
+    """Evaluate the batch chunk by chunk: metrics, response bands, waveforms, stresses."""
+    g = _Gathered(values=[[] for _ in s.requests])
+    batch = s.batch
     for start in range(0, batch.rows, CHUNK_ROWS):
         rows = slice(start, min(start + CHUNK_ROWS, batch.rows))
-        vals = batch.take(rows)
-        ev = evaluator(stage, network, vals, freqs, passband, char_hz, temperature_k=t_hot_k,
-                       time_s=time_s)
-        for k, (name, at, chk) in enumerate(requests):
-            values_per_req[k].append(np.asarray(ev.metric(name, chk, at_hz=at), dtype=float))
-        unstable.append(ev.unstable)
+        ev = s.evaluate(batch.take(rows))
+        for k, (name, at, chk) in enumerate(s.requests):
+            g.values[k].append(np.asarray(ev.metric(name, chk, at_hz=at), dtype=float))
+        g.unstable.append(ev.unstable)
         # Spread bands of the response over the stable Monte Carlo rows only.
         mc_idx = _mc_rows(rows, batch)
         if mc_idx is not None:
             mc_idx = mc_idx[~ev.unstable[mc_idx]]
         if mc_idx is not None and mc_idx.size:
-            g = ev.gain_db[mc_idx]
-            ph = np.degrees(np.unwrap(np.angle(ev.h[mc_idx]), axis=1))
-            band_acc.add(g, ph)
-            if sum(len(x) for x in gains) < BAND_SAMPLES:
-                gains.append(g.astype(np.float32))
-                phases.append(ph.astype(np.float32))
-            shown = {} if stage.drive is None else {"step": ev.step}
-            if stage.drive is not None and stage.drive.kind == "pwm":
-                # Ripple about each sample's own mean: the DC spread would hide it.
-                y = ev.pwm_probes[network.output]
-                shown["pwm"] = y - y.mean(axis=1, keepdims=True)
-            for wname, y in shown.items():
-                idx = np.linspace(0, y.shape[1] - 1, WAVE_POINTS).astype(int)
-                wave_env[wname].add(y[mc_idx][:, idx], None)
-                if sum(len(x) for x in waves[wname]) < WAVE_SAMPLES:
-                    waves[wname].append(y[mc_idx][:, idx].astype(np.float32))
-        if stage.drive is not None:
+            _gather_spread(s, g, ev, mc_idx)
+        if s.stage.drive is not None:
             for role, pk in ev.capacitor_peaks().items():
-                cap_peaks.setdefault(role, []).append(pk)
+                g.cap_peaks.setdefault(role, []).append(pk)
             for role, pw in ev.resistor_powers().items():
-                res_powers.setdefault(role, []).append(pw)
+                g.res_powers.setdefault(role, []).append(pw)
         if start == 0:
-            h_nominal = ev.h[0].copy()
-            nominal_ev = ev
-    metrics: list[MetricResult] = []
-    full = {}
-    for (name, at, chk), parts_ in zip(requests, values_per_req):
-        full[(name, at, _detail(chk) or _default_detail(name))] = np.concatenate(parts_)
+            g.h_nominal = ev.h[0].copy()
+            g.nominal_ev = ev
+    return g
 
-    wc_ctx = _WorstCaseContext(stage, analysis, network, batch, freqs, passband, char_hz,
-                               t_hot_k, time_s, evaluator)
-    line_y = wc_ctx.line_values(requests)
+
+def _gather_spread(s: _Setup, g: _Gathered, ev: Evaluator, mc_idx: np.ndarray) -> None:
+    """Add a chunk's stable Monte Carlo rows to the Bode band and the waveform bands."""
+    gain = ev.gain_db[mc_idx]
+    ph = np.degrees(np.unwrap(np.angle(ev.h[mc_idx]), axis=1))
+    g.band_env.add(gain, ph)
+    if sum(len(x) for x in g.gains) < BAND_SAMPLES:
+        g.gains.append(gain.astype(np.float32))
+        g.phases.append(ph.astype(np.float32))
+    drive = s.stage.drive
+    shown = {} if drive is None else {"step": ev.step}
+    if drive is not None and drive.kind == "pwm":
+        # Ripple about each sample's own mean: the DC spread would hide it.
+        y = ev.pwm_probes[s.network.output]
+        shown["pwm"] = y - y.mean(axis=1, keepdims=True)
+    for wname, y in shown.items():
+        idx = np.linspace(0, y.shape[1] - 1, WAVE_POINTS).astype(int)
+        g.wave_env[wname].add(y[mc_idx][:, idx], None)
+        if sum(len(x) for x in g.waves[wname]) < WAVE_SAMPLES:
+            g.waves[wname].append(y[mc_idx][:, idx].astype(np.float32))
+
+
+def _metric_results(s: _Setup, g: _Gathered) -> list[MetricResult]:
+    """Every requested metric with its samples, worst case and sensitivities."""
+    batch = s.batch
+    full = {request_key(q): np.concatenate(parts_) for q, parts_ in zip(s.requests, g.values)}
+    wc_ctx = worstcase.Context(s.stage, s.analysis, s.network, batch, s.freqs, s.passband,
+                               s.char_hz, s.t_hot_k, s.time_s, fixed_values(s.stage),
+                               s.evaluator)
+    line_y = wc_ctx.line_values(s.requests, request_key)
+    metrics = []
     # Worst-case corners for many parts: each part at the extreme its sensitivity favours.
-    for (name, at, chk) in requests:
-        key = (name, at, _detail(chk) or _default_detail(name))
+    for q in s.requests:
+        name, at, chk = q
+        key = request_key(q)
         arr = full[key]
         sens = spread.sensitivities(arr, batch)
         wc_vals = arr[batch.vertex]
         if len(batch.roles) > spread.FULL_VERTEX_PARTS:
             signs = np.nan_to_num(sens) > 0
             high = np.stack([signs, ~signs])
-            vv = spread.vertex_values(stage, analysis, batch.roles, high)
-            ev2 = evaluator(stage, network, vv, freqs, passband, char_hz, temperature_k=t_hot_k,
-                            time_s=time_s)
-            extra = ev2.metric(name, chk, at_hz=at)
-            wc_vals = np.concatenate([wc_vals, extra])
-        wc, wc_method = wc_ctx.enclose((name, at, chk), arr, wc_vals, line_y[key])
-        unit = METRICS[name].unit
-        if unit in ("dB", "deg"):
+            vv = spread.vertex_values(s.stage, s.analysis, batch.roles, high)
+            wc_vals = np.concatenate([wc_vals, s.evaluate(vv).metric(name, chk, at_hz=at)])
+        wc, wc_method = wc_ctx.enclose(q, arr, wc_vals, line_y[key])
+        if METRICS[name].unit in ("dB", "deg"):
             # Absolute change per percent of part change for logarithmic and angular metrics.
             sens = (arr[batch.sens] - arr[0]) / (spread.SENSITIVITY_STEP * 100)
-        metrics.append(MetricResult(name=name, at_hz=at, detail=key[2], nominal=float(arr[0]),
-                                    samples=arr[batch.mc], wc=wc, wc_method=wc_method,
-                                    sensitivity={r: float(s) for r, s in zip(batch.roles, sens)}))
+        metrics.append(MetricResult(name=name, at_hz=at, param=param_of(name, chk),
+                                    nominal=float(arr[0]), samples=arr[batch.mc],
+                                    worst_case=wc, worst_case_method=wc_method,
+                                    sensitivity={r: float(x) for r, x in zip(batch.roles, sens)}))
+    return metrics
 
-    verdicts = []
+
+def verdicts_for(stage: Stage, metrics) -> list[checkmod.Verdict]:
+    """Each check of the stage judged on its metric's samples."""
+    by_key = {m.key: m for m in metrics}
+    out = []
     for chk in stage.checks:
-        m = next(m for m in metrics if m.key == (chk.metric, chk.at_hz,
-                                                   _detail(chk) or _default_detail(chk.metric)))
-        verdicts.append(checkmod.judge(chk.metric, m.samples, nominal=m.nominal, wc=m.wc,
-                                       lo=chk.min, hi=chk.max,
-                                       required_yield=chk.required_yield, at_hz=chk.at_hz,
-                                       detail=m.detail))
-    ratings = _ratings(stage, batch, cap_peaks, res_powers)
-    unstable_rows = np.concatenate(unstable)
-    nominal_unstable = bool(unstable_rows[0])
-    if not gains:                    # no stable sample: the band shrinks to the nominal curve
-        g0 = db(h_nominal)[None].astype(np.float32)
-        p0 = np.degrees(np.unwrap(np.angle(h_nominal)))[None].astype(np.float32)
-        gains, phases = [g0], [p0]
-        band_acc.add(g0, p0)
-    band = _band(gains, phases, band_acc)
+        m = by_key[request_key((chk.metric, chk.at_hz, chk))]
+        out.append(checkmod.judge(chk.metric, m.samples, nominal=m.nominal, wc=m.worst_case,
+                                  lo=chk.min, hi=chk.max,
+                                  required_yield=chk.required_yield, at_hz=chk.at_hz,
+                                  detail=m.detail))
+    return out
+
+
+def _waveforms(s: _Setup, g: _Gathered, nominal_unstable: bool):
+    """The step and PWM waveforms (None where there is no drive or the nominal is unstable)."""
     # Time responses of an unstable nominal do not exist: no waveforms are drawn.
-    timed = stage.drive is not None and not nominal_unstable
-    step = _wave(time_s, nominal_ev.step[0], waves["step"], wave_env["step"]) if timed else None
+    timed = s.stage.drive is not None and not nominal_unstable
+    if not timed:
+        return None, None
+    ev = g.nominal_ev
+    step = _wave(s.time_s, ev.step[0], g.waves["step"], g.wave_env["step"])
     pwm = None
-    if timed and stage.drive.kind == "pwm":
-        t = nominal_ev.pwm_time_s
-        y0 = nominal_ev.pwm_probes[network.output][0]
-        pwm = _wave(t, y0 - y0.mean(), waves["pwm"], wave_env["pwm"])
-        pwm["mean"] = float(y0.mean())
-        d = stage.drive
-        pwm["input"] = np.where(t < d.duty / d.frequency_hz, d.amplitude_v, 0.0)
+    d = s.stage.drive
+    if d.kind == "pwm":
+        t = ev.pwm_time_s
+        y0 = ev.pwm_probes[s.network.output][0]
+        pwm = _wave(t, y0 - y0.mean(), g.waves["pwm"], g.wave_env["pwm"],
+                    mean=float(y0.mean()),
+                    input=np.where(t < d.duty / d.frequency_hz, d.amplitude_v, 0.0))
+    return step, pwm
+
+
+def _response_band(g: _Gathered) -> ResponseBand:
+    if not g.gains:                  # no stable sample: the band shrinks to the nominal curve
+        g0 = db(g.h_nominal)[None].astype(np.float32)
+        p0 = np.degrees(np.unwrap(np.angle(g.h_nominal)))[None].astype(np.float32)
+        g.gains, g.phases = [g0], [p0]
+        g.band_env.add(g0, p0)
+    return _band(g.gains, g.phases, g.band_env)
+
+
+def analyse_network(stage: Stage, analysis: Analysis, kind,
+                    evaluator=Evaluator) -> StageResult:
+    """The standard analysis of a stage as a linear network; the spine.
+
+    Steps: set-up (network, batch of rows: nominal, Monte Carlo, sensitivity
+    probes, corners; sweep and time grid from the nominal alone), the batch in
+    chunks of CHUNK_ROWS (every requested metric, Bode and waveform bands,
+    part stresses), then per metric the worst case (corners, walks, interior
+    search: worstcase.Context) and sensitivities, the verdicts of the checks
+    and ratings, the waveforms and phasors of the nominal. A kind with metrics
+    of its own passes an Evaluator subclass as ``evaluator``.
+    """
+    s = _setup(stage, analysis, kind, evaluator)
+    g = _gather(s)
+    metrics = _metric_results(s, g)
+    batch = s.batch
+    unstable_rows = np.concatenate(g.unstable)
+    nominal_unstable = bool(unstable_rows[0])
+    band = _response_band(g)
+    step, pwm = _waveforms(s, g, nominal_unstable)
     corner = next((m.nominal for m in metrics if m.name in ("corner", "f0")
-                   and math.isfinite(m.nominal)), char_hz)
-    phasor = {} if nominal_unstable else phasor_data(network, nominal_vals, corner)
-    offending = tuple(complex(p) for p in polemod.offending(nominal_ev.poles[0]))
-    return StageResult(stage=stage, network=network, passband=passband, char_hz=char_hz,
-                       freqs_hz=freqs, h_nominal=h_nominal, band=band, metrics=metrics,
-                       verdicts=verdicts, ratings=ratings, phasor=phasor, step=step, pwm=pwm,
-                       part_rows=_part_rows(stage, analysis), assumptions=_assumptions(stage, analysis),
-                       samples=batch.samples,
-                       extra={"stresses": part_stresses(stage, batch, cap_peaks, res_powers)},
+                   and math.isfinite(m.nominal)), s.char_hz)
+    phasors = None if nominal_unstable else phasor_data(s.network, batch.take(slice(0, 1)),
+                                                        corner)
+    offending = tuple(complex(p) for p in polemod.offending(g.nominal_ev.poles[0]))
+    return StageResult(stage=stage, network=s.network, passband=s.passband, char_hz=s.char_hz,
+                       freqs_hz=s.freqs, h_nominal=g.h_nominal, band=band, metrics=metrics,
+                       verdicts=verdicts_for(stage, metrics),
+                       ratings=_ratings(stage, batch, g.cap_peaks, g.res_powers),
+                       phasors=phasors, step=step, pwm=pwm,
+                       parts=part_rows(stage, analysis),
+                       assumptions=assumptions_of(stage, analysis), samples=batch.samples,
+                       stresses=part_stresses(stage, batch, g.cap_peaks, g.res_powers),
                        samples_unstable=int(unstable_rows[batch.mc].sum()),
                        unstable_poles=offending)
-
-
-@dataclass
-class _WorstCaseContext:
-    """What the worst-case search needs to evaluate a metric on any part values."""
-
-    stage: Stage
-    analysis: Analysis
-    network: Network
-    batch: spread.Batch
-    freqs: np.ndarray
-    passband: str
-    char_hz: float
-    t_hot_k: float
-    time_s: np.ndarray | None
-    evaluator_cls: type = Evaluator      # a kind's own Evaluator (sampled-input) where it has one
-
-    def __post_init__(self):
-        ext = [partmodels.extremes(self.stage.parts[r], self.analysis) for r in self.batch.roles]
-        self.lows = np.array([e[0] for e in ext], dtype=float).reshape(-1)
-        self.highs = np.array([e[1] for e in ext], dtype=float).reshape(-1)
-
-    def part_values(self, rows) -> np.ndarray:
-        """(N, P) part values of some rows of the batch."""
-        cols = [self.batch.values[r][rows] for r in self.batch.roles]
-        return np.stack(cols, axis=1) if cols else np.zeros((0, 0))
-
-    def evaluator(self, x: np.ndarray) -> Evaluator:
-        vals = {r: x[:, k] for k, r in enumerate(self.batch.roles)}
-        for name, v in fixed_values(self.stage).items():
-            vals[name] = np.full(len(x), v)
-        return self.evaluator_cls(self.stage, self.network, vals, self.freqs, self.passband,
-                                  self.char_hz, temperature_k=self.t_hot_k, time_s=self.time_s)
-
-    def line_values(self, requests) -> dict:
-        """Every requested metric along each part's walk through the nominal design."""
-        p = len(self.batch.roles)
-        if p == 0:
-            return {(n, a, _detail(c) or _default_detail(n)): np.zeros(0) for n, a, c in requests}
-        x = worstcase.line_rows(self.part_values(slice(0, 1))[0], self.lows, self.highs)
-        ev = self.evaluator(x)
-        return {(n, a, _detail(c) or _default_detail(n)):
-                np.asarray(ev.metric(n, c, at_hz=a), dtype=float) for n, a, c in requests}
-
-    def enclose(self, request, arr: np.ndarray, corner_y: np.ndarray, line_y: np.ndarray):
-        """(low, high) holding corners, nominal and samples; searched inside where needed."""
-        name, at, chk = request
-        b, p = self.batch, len(self.batch.roles)
-        method = (worstcase.VERTICES if p <= spread.FULL_VERTEX_PARTS
-                  else worstcase.SENSITIVITY_VERTICES)
-        samples = arr[b.mc]
-        found = [corner_y, arr[:1], samples, line_y]
-        if p and worstcase.needs_search(corner_y, float(arr[0]), samples,
-                                        line_y, p):
-            def evaluate(x):
-                return np.asarray(self.evaluator(x).metric(name, chk, at_hz=at), dtype=float)
-            starts, up = worstcase.start_points(
-                self.part_values(b.mc), samples, self.part_values(slice(0, 1))[0],
-                self.part_values(b.vertex), arr[b.vertex])
-            found.append(worstcase.search(evaluate, starts, up, self.lows, self.highs))
-            method += worstcase.SEARCHED
-        return worstcase.enclosing_range(np.concatenate(found)), method
 
 
 def _mc_rows(rows: slice, batch: spread.Batch):
@@ -375,25 +336,27 @@ class _Envelope:
             self.phi = bmax if self.phi is None else np.maximum(self.phi, bmax)
 
 
-def _band(gains, phases, env: _Envelope) -> dict[str, np.ndarray]:
+def _band(gains, phases, env: _Envelope) -> ResponseBand:
     g = np.concatenate(gains).astype(float)
     p = np.concatenate(phases).astype(float)
     lo, hi = BAND_PERCENTILES
-    return {"gain_min": env.lo, "gain_max": env.hi,
-            "gain_lo": np.percentile(g, lo, axis=0), "gain_hi": np.percentile(g, hi, axis=0),
-            "phase_min": env.plo, "phase_max": env.phi,
-            "phase_lo": np.percentile(p, lo, axis=0), "phase_hi": np.percentile(p, hi, axis=0)}
+    return ResponseBand(gain_min=env.lo, gain_max=env.hi,
+                        gain_lo=np.percentile(g, lo, axis=0),
+                        gain_hi=np.percentile(g, hi, axis=0),
+                        phase_min=env.plo, phase_max=env.phi,
+                        phase_lo=np.percentile(p, lo, axis=0),
+                        phase_hi=np.percentile(p, hi, axis=0))
 
 
-def _wave(t, nominal, waves, env: _Envelope) -> dict:
+def _wave(t, nominal, waves, env: _Envelope, mean=None, input=None) -> Waveform:
     idx = np.linspace(0, len(t) - 1, WAVE_POINTS).astype(int)
     if not waves:                    # every Monte Carlo sample unstable: the nominal alone
         waves = [nominal[idx][None]]
         env.add(waves[0], None)
     y = np.concatenate(waves).astype(float)
-    return {"t": t[idx], "nominal": nominal[idx], "min": env.lo, "max": env.hi,
-            "lo": np.percentile(y, BAND_PERCENTILES[0], axis=0),
-            "hi": np.percentile(y, BAND_PERCENTILES[1], axis=0)}
+    return Waveform(t_s=t[idx], nominal=nominal[idx], min=env.lo, max=env.hi,
+                    lo=np.percentile(y, BAND_PERCENTILES[0], axis=0),
+                    hi=np.percentile(y, BAND_PERCENTILES[1], axis=0), mean=mean, input=input)
 
 
 def _char_from_poles(stage, network, values, passband) -> float:
@@ -428,33 +391,64 @@ def _ratings(stage, batch, cap_peaks, res_powers) -> list[checkmod.Verdict]:
     return out
 
 
-def _part_rows(stage: Stage, analysis: Analysis) -> list[dict]:
+def part_rows(stage: Stage, analysis: Analysis) -> tuple[PartRow, ...]:
+    """The parts table of a stage: values, extremes and preferred series."""
     from rcdoc.input.preferred import preferred_series, series_for_tolerance
     rows = []
     for role, p in stage.parts.items():
         lo, hi = partmodels.extremes(p, analysis)
         tol = max(p.tol_plus, p.tol_minus)
-        rows.append({"role": role, "part": p, "in_circuit": partmodels.nominal_value(p, analysis),
-                     "low": lo, "high": hi, "preferred": preferred_series(p.value, tol),
-                     "series": series_for_tolerance(tol)})
-    return rows
+        rows.append(PartRow(role=role, part=p, in_circuit=partmodels.nominal_value(p, analysis),
+                            low=lo, high=hi, preferred=preferred_series(p.value, tol),
+                            series=series_for_tolerance(tol)))
+    return tuple(rows)
 
 
-def _assumptions(stage: Stage, analysis: Analysis) -> list[str]:
+def assumptions_of(stage: Stage, analysis: Analysis) -> list[str]:
+    """What the part models assume, part by part (sorted by role)."""
     out = []
     for role in sorted(stage.parts):
         out += partmodels.assumptions(stage.parts[role], analysis)
     return out
 
 
-def phasor_data(network: Network, values: dict[str, np.ndarray], freq_hz: float) -> dict:
+_part_rows = part_rows                   # names the kinds with their own analysis import
+_assumptions = assumptions_of
+
+
+def part_stresses(stage, batch, cap_peaks: dict, res_powers: dict) -> dict[str, PartStress]:
+    """Per part role: the stress metric, its nominal and its worst (highest) Monte
+    Carlo value; from the arrays the analysis gathered per chunk of rows."""
+    out = {}
+    for role, part in stage.parts.items():
+        if part.kind == "C" and role in cap_peaks:
+            arr = np.concatenate(cap_peaks[role])
+        elif part.kind == "C" and part.bias_v:
+            arr = np.full(batch.rows, part.bias_v)
+        elif part.kind == "R" and role in res_powers:
+            arr = np.concatenate(res_powers[role])
+        else:
+            continue
+        out[role] = PartStress(metric=_STRESS[part.kind], nominal=float(arr[0]),
+                               worst=_highest(arr[batch.mc]))
+    return out
+
+
+def _highest(samples: np.ndarray) -> float:
+    # As rcdoc.analysis.checks.worst_value with an upper limit: NaN if any sample has no value.
+    if samples.size == 0 or not np.all(np.isfinite(samples)):
+        return math.nan
+    return float(samples.max())
+
+
+def phasor_data(network: Network, values: dict[str, np.ndarray], freq_hz: float) -> Phasors | None:
     """Part voltages along the network's path, head to tail, for a 1 V rms source.
 
     When the path ends at ground the series current is the reference direction
     (it is common to every part on the path); otherwise the source voltage is.
     """
     if not network.path:
-        return {}
+        return None
     ev = engine.element_voltages(network, values, freq_hz)
     cur = engine.element_currents(network, values, freq_hz)
     node = network.drive
@@ -484,7 +478,7 @@ def phasor_data(network: Network, values: dict[str, np.ndarray], freq_hz: float)
         rot = 1.0 + 0j
         reference = "source"
     out_v = complex(engine.ac(network, values, np.array([freq_hz]))[0, 0]) * rot
-    return {"freq_hz": freq_hz, "reference": reference,
-            "vectors": [(n, k, v * rot) for n, k, v in vectors],
-            "closing": (closing[0], closing[1] * rot) if closing else None,
-            "current": i_ref * rot, "source": rot * 1.0, "output": out_v}
+    return Phasors(freq_hz=freq_hz, reference=reference,
+                   vectors=tuple((n, k, v * rot) for n, k, v in vectors),
+                   closing=(closing[0], closing[1] * rot) if closing else None,
+                   current=i_ref * rot, source=rot * 1.0, output=out_v)

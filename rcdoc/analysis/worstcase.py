@@ -17,15 +17,23 @@ that found none. The reported range is the extreme over corners, walks,
 search points, nominal and samples, so it encloses all of them by construction.
 
 What it must not do: know about kinds or draw anything; ``evaluate`` (part
-values -> metric per row) is the only way it touches the circuit.
+values -> metric per row) is the only way the search touches the circuit, and
+``Context`` (one stage's evaluator on any part values) builds it.
 """
 
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 from typing import Callable
 
 import numpy as np
+
+from rcdoc.analysis import spread
+from rcdoc.analysis.evaluate import Evaluator
+from rcdoc.analysis.network import Network
+from rcdoc.input import parts as partmodels
+from rcdoc.input.model import Analysis, Stage
 
 LINE_POINTS = 9          # values per part on the walk through the nominal design
 STARTS = 4               # Monte Carlo samples started from, per direction
@@ -145,3 +153,69 @@ def needs_search(corner_y: np.ndarray, nominal: float, samples_y: np.ndarray,
     inner = inner[np.isfinite(inner)]
     outside = bool(np.any(inner < lo - pad) or np.any(inner > hi + pad))
     return outside or turns_back(line_y, p)
+
+
+@dataclass
+class Context:
+    """What the worst-case search of one stage needs to evaluate a metric on any part values.
+
+    ``fixed`` holds the source and load elements (no tolerance); ``evaluator_cls``
+    is the stage's Evaluator (a kind's own where it has one, e.g. sampled input).
+    """
+
+    stage: Stage
+    analysis: Analysis
+    network: Network
+    batch: spread.Batch
+    freqs: np.ndarray
+    passband: str
+    char_hz: float
+    t_hot_k: float
+    time_s: np.ndarray | None
+    fixed: dict
+    evaluator_cls: type = Evaluator
+
+    def __post_init__(self):
+        ext = [partmodels.extremes(self.stage.parts[r], self.analysis) for r in self.batch.roles]
+        self.lows = np.array([e[0] for e in ext], dtype=float).reshape(-1)
+        self.highs = np.array([e[1] for e in ext], dtype=float).reshape(-1)
+
+    def part_values(self, rows) -> np.ndarray:
+        """(N, P) part values of some rows of the batch."""
+        cols = [self.batch.values[r][rows] for r in self.batch.roles]
+        return np.stack(cols, axis=1) if cols else np.zeros((0, 0))
+
+    def evaluator(self, x: np.ndarray) -> Evaluator:
+        vals = {r: x[:, k] for k, r in enumerate(self.batch.roles)}
+        for name, v in self.fixed.items():
+            vals[name] = np.full(len(x), v)
+        return self.evaluator_cls(self.stage, self.network, vals, self.freqs, self.passband,
+                                  self.char_hz, temperature_k=self.t_hot_k, time_s=self.time_s)
+
+    def line_values(self, requests, key) -> dict:
+        """Every requested metric along each part's walk through the nominal design;
+        ``key(request)`` names each request in the returned dict."""
+        p = len(self.batch.roles)
+        if p == 0:
+            return {key(q): np.zeros(0) for q in requests}
+        x = line_rows(self.part_values(slice(0, 1))[0], self.lows, self.highs)
+        ev = self.evaluator(x)
+        return {key(q): np.asarray(ev.metric(q[0], q[2], at_hz=q[1]), dtype=float)
+                for q in requests}
+
+    def enclose(self, request, arr: np.ndarray, corner_y: np.ndarray, line_y: np.ndarray):
+        """(low, high) holding corners, nominal and samples; searched inside where needed."""
+        name, at, chk = request
+        b, p = self.batch, len(self.batch.roles)
+        method = VERTICES if p <= spread.FULL_VERTEX_PARTS else SENSITIVITY_VERTICES
+        samples = arr[b.mc]
+        found = [corner_y, arr[:1], samples, line_y]
+        if p and needs_search(corner_y, float(arr[0]), samples, line_y, p):
+            def evaluate(x):
+                return np.asarray(self.evaluator(x).metric(name, chk, at_hz=at), dtype=float)
+            starts, up = start_points(
+                self.part_values(b.mc), samples, self.part_values(slice(0, 1))[0],
+                self.part_values(b.vertex), arr[b.vertex])
+            found.append(search(evaluate, starts, up, self.lows, self.highs))
+            method += SEARCHED
+        return enclosing_range(np.concatenate(found)), method

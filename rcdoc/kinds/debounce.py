@@ -174,8 +174,8 @@ def _metric_result(name, arr, batch):
     wc_vals = arr[batch.vertex]
     wc_vals = wc_vals[np.isfinite(wc_vals)]
     wc = (float(wc_vals.min()), float(wc_vals.max())) if wc_vals.size else (math.nan,) * 2
-    return MetricResult(name=name, at_hz=None, detail="", nominal=float(arr[0]),
-                        samples=arr[batch.mc], wc=wc,
+    return MetricResult(name=name, at_hz=None, param=None, nominal=float(arr[0]),
+                        samples=arr[batch.mc], worst_case=wc, worst_case_method="vertices",
                         sensitivity={r: float(s) for r, s in zip(batch.roles, sens)})
 
 
@@ -202,6 +202,7 @@ def _ratings(stage, batch, arrays):
 
 def analyse(stage, analysis):
     from rcdoc.analysis.analyse import StageResult, _assumptions, _part_rows
+    from rcdoc.analysis.results import LegacyKindResult
     batch, rising, falling = threshold_batch(stage, analysis)
     arrays = evaluate(stage, batch.values, rising, falling)
     metrics_ = [_metric_result(name, np.asarray(arrays[name], float), batch)
@@ -215,11 +216,11 @@ def analyse(stage, analysis):
     empty = np.zeros(0)
     return StageResult(stage=stage, network=build(stage), passband=PASSBAND,
                        char_hz=characteristic_hz(stage), freqs_hz=empty,
-                       h_nominal=empty.astype(complex), band={}, metrics=metrics_,
-                       verdicts=verdicts, ratings=_ratings(stage, batch, arrays), phasor={},
-                       step=None, pwm=None, part_rows=_part_rows(stage, analysis),
+                       h_nominal=empty.astype(complex), band=None, metrics=metrics_,
+                       verdicts=verdicts, ratings=_ratings(stage, batch, arrays), phasors=None,
+                       step=None, pwm=None, parts=_part_rows(stage, analysis),
                        assumptions=assumptions(stage) + _assumptions(stage, analysis),
-                       samples=batch.samples, extra=_stage_extra(kind_result))
+                       samples=batch.samples, kind_result=kind_result)
 
 
 # --------------------------------------------------------------------------
@@ -380,7 +381,3 @@ class DebounceResult:
                 "tau_press": self.tau_press_s, "tau_release": self.tau_release_s,
                 "slower_edge": self.slower_edge, "hysteresis_needed": self.hysteresis_needed}
 
-
-def _stage_extra(kind_result: DebounceResult) -> dict:
-    """Where the kind result travels in StageResult (until StageResult.kind_result)."""
-    return {"kind_result": kind_result, "json": kind_result.json()}

@@ -149,8 +149,8 @@ def analyse(stage, analysis):
     conv = stage.options["converter"]
     curves = phys.curves(params_for(stage, nominal), float(nominal["c"][0]), conv["pin_c"])
     kind_result = SampledInputResult(figures=note_blocks(result, curves))
-    return dataclasses.replace(result, extra={**result.extra, **_stage_extra(kind_result)},
-                               assumptions=assumptions(stage) + list(result.assumptions))
+    return dataclasses.replace(result, kind_result=kind_result,
+                               assumptions=tuple(assumptions(stage)) + tuple(result.assumptions))
 
 
 @dataclass(frozen=True)
@@ -169,10 +169,6 @@ class SampledInputResult:
     def json(self) -> dict:
         return {}           # the converter metrics are in the stage's metrics already
 
-
-def _stage_extra(kind_result: SampledInputResult) -> dict:
-    """Where the kind result travels in StageResult (until StageResult.kind_result)."""
-    return {"kind_result": kind_result}
 
 
 def assumptions(stage) -> list[str]:

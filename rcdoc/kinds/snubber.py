@@ -70,10 +70,6 @@ class SnubberResult:
         return {**dict(self.record), "proposed": self.proposed}
 
 
-def _stage_extra(kind_result: SnubberResult) -> dict:
-    """Where the kind result travels in StageResult (until StageResult.kind_result)."""
-    return {"kind_result": kind_result, "json": kind_result.json()}
-
 
 # --------------------------------------------------------------------------
 # project keys
@@ -300,6 +296,7 @@ def _supply_peak(o: dict) -> float:
 
 def analyse(stage, analysis):
     from rcdoc.analysis.analyse import MetricResult, StageResult, _assumptions, _part_rows
+    from rcdoc.analysis.results import LegacyKindResult
     proposed = not stage.parts
     if proposed:
         stage = dataclasses.replace(stage, parts=propose(stage))
@@ -312,8 +309,9 @@ def analyse(stage, analysis):
         sens = spread.sensitivities(arr, batch) if arr[0] != 0 else np.zeros(len(batch.roles))
         # The range holds the corners, the nominal and every sample (worstcase.py).
         wc, method = worstcase.corners_and_samples(arr[batch.vertex], arr[:batch.mc.stop])
-        metrics.append(MetricResult(name=name, at_hz=None, detail="", nominal=float(arr[0]),
-                                    samples=arr[batch.mc], wc=wc, wc_method=method,
+        metrics.append(MetricResult(name=name, at_hz=None, param=None, nominal=float(arr[0]),
+                                    samples=arr[batch.mc], worst_case=wc,
+                                    worst_case_method=method,
                                     sensitivity={r: float(s) for r, s in zip(batch.roles, sens)}))
     by_name = {m.name: m for m in metrics}
     verdicts = [checkmod.judge(c.metric, by_name[c.metric].samples,
@@ -335,10 +333,10 @@ def analyse(stage, analysis):
     empty = np.zeros(0)
     return StageResult(stage=stage, network=network, passband=PASSBAND,
                        char_hz=characteristic_hz(stage), freqs_hz=empty, h_nominal=empty.astype(complex),
-                       band={}, metrics=metrics, verdicts=verdicts, ratings=ratings, phasor={},
-                       step=None, pwm=None, part_rows=_part_rows(stage, analysis),
+                       band=None, metrics=metrics, verdicts=verdicts, ratings=ratings,
+                       phasors=None, step=None, pwm=None, parts=_part_rows(stage, analysis),
                        assumptions=notes + _assumptions(stage, analysis), samples=batch.samples,
-                       extra=_stage_extra(kind_result))
+                       kind_result=kind_result)
 
 
 def _switch(stage, batch):

@@ -1,16 +1,16 @@
-"""The note's table of preferred-value alternatives (rcdoc.analysis.alternatives
-computes them; this module only lays out the table block).
+"""The note's table of preferred-value alternatives, from StageResult.alternatives.
+
+What it is for: formatting what rcdoc.analysis.alternatives computed during the
+analysis (nominal metrics and reduced Monte Carlo yields per design) as one
+table block of a stage page. It never evaluates the circuit.
 """
 
 from __future__ import annotations
 
 import math
 
-from rcdoc.analysis.alternatives import stage_alternatives
-from rcdoc.analysis.analyse import StageResult
 from rcdoc.analysis.metrics import METRICS
-from rcdoc.input.model import Analysis
-from rcdoc.kinds import KINDS
+from rcdoc.analysis.results import Alternative, StageAlternatives, StageResult
 
 
 def _change(value: float, base: float, unit: str) -> str:
@@ -24,12 +24,14 @@ def _change(value: float, base: float, unit: str) -> str:
     return f" ({(value / base - 1) * 100:+.1f} %)".replace("-", "−")
 
 
-def alternatives_block(r: StageResult, analysis: Analysis, fq, metric_label) -> dict | None:
+def alternatives_block(r: StageResult, fq, metric_label) -> dict | None:
     """The note's table of preferred-value alternatives for one stage, or None.
 
-    ``fq`` and ``metric_label`` are the note's formatters (rcdoc.note.context, which
-    calls this: passed in so the two modules do not import each other)."""
-    alt = stage_alternatives(r, analysis, KINDS[r.stage.kind])
+    Reads the alternatives the analysis computed (``r.alternatives``); ``fq`` and
+    ``metric_label`` are the note's formatters (passed in: the note's context
+    module imports this one).
+    """
+    alt = r.alternatives
     if alt is None:
         return None
     units = [METRICS[n].unit for n, _, _ in alt.metrics]
@@ -48,16 +50,28 @@ def alternatives_block(r: StageResult, analysis: Analysis, fq, metric_label) -> 
         if checked:
             bad = [metric_label(n, at, d) for (n, at, d), ok, c in
                    zip(alt.metrics, a.inside, alt.checks) if c is not None and not ok]
+            cells.append(_yields_text(alt, a, metric_label))
             cells.append("all inside" if not bad else "outside: " + ", ".join(bad))
         out_rows.append(cells)
     columns = ["Part", "Value", "Design"] + [metric_label(n, at, d) for n, at, d in alt.metrics]
     if checked:
-        columns.append("Nominal against the limits")
+        columns += [f"Yield ({alt.samples} samples)", "Nominal against the limits"]
     what = "checked metrics" if checked else "headline metrics (the stage has no checks)"
     return {"type": "table", "title": "Preferred-value alternatives", "columns": columns,
             "rows": out_rows,
             "note": "Parts whose value is not a preferred value (IEC 60063) of the series that "
                     "fits their tolerance, with the nearest preferred values below and above. "
                     f"Each row gives the nominal {what} with only that part changed; "
-                    "in brackets the change from the design as drawn. Spread over tolerance "
-                    "is not re-run for the alternatives."}
+                    "in brackets the change from the design as drawn. "
+                    + (f"Yield: share of {alt.samples} Monte Carlo samples (seed {alt.seed}, "
+                       "the same draws for every row) inside each check's limits; its "
+                       "sampling error is about ±√(y(1−y)/n)." if checked else
+                       "Spread over tolerance is not re-run for the alternatives.")}
+
+
+def _yields_text(alt: StageAlternatives, a: Alternative, metric_label) -> str:
+    parts = [(metric_label(n, at, d), y) for (n, at, d), c, y in
+             zip(alt.metrics, alt.checks, a.yields) if c is not None]
+    if len(parts) == 1:
+        return f"{parts[0][1] * 100:.1f} %"
+    return "; ".join(f"{label} {y * 100:.1f} %" for label, y in parts)

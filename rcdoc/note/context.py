@@ -109,8 +109,8 @@ def stage_voltage(r: StageResult) -> float:
 
 def parts_table(r: StageResult) -> dict:
     rows = []
-    for row in r.part_rows:
-        p = row["part"]
+    for row in r.parts:
+        p = row.part
         unit = PART_UNITS[p.kind]
         tol = (f"±{p.tol_plus * 100:g} %" if abs(p.tol_plus - p.tol_minus) < 1e-12
                else f"+{p.tol_plus * 100:g} / −{p.tol_minus * 100:g} %")
@@ -121,9 +121,9 @@ def parts_table(r: StageResult) -> dict:
             temp += f"; {p.dc_bias[1] * 100:g} % at {fq(p.dc_bias[0], 'V')}, biased {fq(p.bias_v, 'V')}"
         rating = (fq(p.power_rating_w, "W") if p.power_rating_w else
                   fq(p.voltage_rating_v, "V") if p.voltage_rating_v else "—")
-        series = row["preferred"] or f"not {row['series']}"
+        series = row.preferred or f"not {row.series}"
         rows.append([p.ref or "—", p.role, fq(p.value, unit, 4), tol, temp,
-                     f"{fq(row['low'], unit)} … {fq(row['high'], unit)}", series, rating,
+                     f"{fq(row.low, unit)} … {fq(row.high, unit)}", series, rating,
                      p.model or ""])
     from rcdoc.input.channels import channel_line
     chans = channel_line(r.stage)

@@ -58,7 +58,7 @@ def bode_figure(r: StageResult) -> dict:
         if m.name == "gain" and m.at_hz is not None:
             ph = r.metric("phase", m.at_hz)
             marks.append((m.at_hz, m.nominal, ph.nominal if ph else math.nan))
-    svg = charts_freq.bode(f"{r.stage.id}-bode", r.freqs_hz, gain, phase, band=r.band,
+    svg = charts_freq.bode(f"{r.stage.id}-bode", r.freqs_hz, gain, phase, band=r.band.as_mapping(),
                       corner_hz=corner, corner_spread=spread_, marks=marks,
                       limits=bode_limits(r), title="", fmt="png")
     return {"type": "figure", "title": "Frequency response", "image": svg, "width": "full",
@@ -68,38 +68,38 @@ def bode_figure(r: StageResult) -> dict:
 
 
 def phasor_figure(r: StageResult) -> dict | None:
-    ph = r.phasor
-    if not ph:
+    ph = r.phasors
+    if ph is None:
         return None
     vectors, tail = [], 0j
-    for name, kind, v in ph["vectors"]:
+    for name, kind, v in ph.vectors:
         ref = _ref_of(r, name)
         vectors.append({"label": f"V({ref}) {abs(v):.3g} V", "value": v, "kind": kind,
                         "tail": tail})
         tail += v
-    if ph["closing"] is not None:
-        node, v = ph["closing"]
+    if ph.closing is not None:
+        node, v = ph.closing
         vectors.append({"label": f"V({node}) to ground {abs(v):.3g} V", "value": v,
                         "kind": "C", "tail": tail})
-    vectors.append({"label": "Source 1 V", "value": ph["source"], "kind": "source", "tail": 0j})
-    if ph["output"] is not None and ph["closing"] is not None:
-        vectors.append({"label": f"Output {abs(ph['output']):.3g} V", "value": ph["output"],
+    vectors.append({"label": "Source 1 V", "value": ph.source, "kind": "source", "tail": 0j})
+    if ph.output is not None and ph.closing is not None:
+        vectors.append({"label": f"Output {abs(ph.output):.3g} V", "value": ph.output,
                         "kind": "sum", "tail": 0j})
-    if ph["reference"] == "current":
-        ref_label = f"Current {fq(abs(ph['current']), 'A')} (reference)"
-        angle = math.degrees(math.atan2(ph["source"].imag, ph["source"].real))
+    if ph.reference == "current":
+        ref_label = f"Current {fq(abs(ph.current), 'A')} (reference)"
+        angle = math.degrees(math.atan2(ph.source.imag, ph.source.real))
     else:
         ref_label = "Source voltage (reference)"
-        angle = (math.degrees(math.atan2(ph["output"].imag, ph["output"].real))
-                 if ph["output"] is not None else None)
+        angle = (math.degrees(math.atan2(ph.output.imag, ph.output.real))
+                 if ph.output is not None else None)
     svg = charts_freq.phasor(f"{r.stage.id}-phasor", vectors, reference_label=ref_label,
-                        freq_hz=ph["freq_hz"], angle_deg=angle, fmt="png")
+                        freq_hz=ph.freq_hz, angle_deg=angle, fmt="png")
     what = ("the series current, common to every part on the path, is the reference direction"
-            if ph["reference"] == "current" else "the source voltage is the reference direction")
-    return {"type": "figure", "title": f"Phasors at {fq(ph['freq_hz'], 'Hz')}", "image": svg,
+            if ph.reference == "current" else "the source voltage is the reference direction")
+    return {"type": "figure", "title": f"Phasors at {fq(ph.freq_hz, 'Hz')}", "image": svg,
             "width": "full",
             "caption": f"Part voltages head to tail for a 1 V rms source at "
-                       f"{fq(ph['freq_hz'], 'Hz')}; they add up to the source voltage; {what}."}
+                       f"{fq(ph.freq_hz, 'Hz')}; they add up to the source voltage; {what}."}
 
 
 def _ref_of(r: StageResult, element: str) -> str:
@@ -118,28 +118,21 @@ def time_figures(r: StageResult) -> list[dict]:
         checked = {v.detail for v in r.verdicts if v.metric == "settling"}
         settling = [m for m in r.metrics if m.name == "settling"]
         st = next((m for m in settling if m.detail in checked), settling[0] if settling else None)
-        fin = s["nominal"][-1]
+        fin = s.nominal[-1]
         if st is not None and math.isfinite(st.nominal):
-            band = 0.01
-            if st.detail.startswith("within"):
-                band = float(st.detail.split()[1]) / 100
-            elif " bits of " in st.detail:      # half an LSB of a full scale, in volts
-                n, fs = st.detail.split(" bits of ")
-                band = parse_quantity(fs, "V") / 2.0 ** (int(n) + 1) / max(abs(fin), 1e-300)
-            elif st.detail.endswith("bits"):
-                band = 2.0 ** -(int(st.detail.split()[0]) + 1)
+            band = st.param.fraction(fin)    # the typed settling band (analysis/results.py)
             window = {"t": st.nominal, "lo": fin * (1 - band), "hi": fin * (1 + band),
                       "label": f"settled {st.detail}: {fq(st.nominal, 's')}"}
-        svg = charts_time.time_response(f"{r.stage.id}-step", s["t"], s["nominal"],
-                                   band=(s["min"], s["max"]), window=window,
+        svg = charts_time.time_response(f"{r.stage.id}-step", s.t_s, s.nominal,
+                                   band=(s.min, s.max), window=window,
                                    ylabel="Output [V]", fmt="png")
         out.append({"type": "figure", "title": "Step response", "image": svg, "width": "full",
                     "caption": f"Output for a {fq(r.stage.drive.amplitude_v, 'V')} step at t = 0, "
                                "nominal with the min–max band over the samples."})
     if r.pwm is not None:
         w = r.pwm
-        svg = charts_time.time_response(f"{r.stage.id}-pwm", w["t"], w["nominal"],
-                                   band=(w["min"], w["max"]),
+        svg = charts_time.time_response(f"{r.stage.id}-pwm", w.t_s, w.nominal,
+                                   band=(w.min, w.max),
                                    ylabel="Output − its mean [V]", series=(), fmt="png")
         d = r.stage.drive
         out.append({"type": "figure", "title": "PWM ripple (steady state)", "image": svg,
@@ -147,7 +140,7 @@ def time_figures(r: StageResult) -> list[dict]:
                     "caption": f"One period of the output in steady state for a "
                                f"{fq(d.amplitude_v, 'V')} PWM drive at {fq(d.frequency_hz, 'Hz')}, "
                                f"duty {d.duty * 100:g} %, shown about its mean "
-                               f"({fq(w['mean'], 'V')} nominal); min–max band over the samples."})
+                               f"({fq(w.mean, 'V')} nominal); min–max band over the samples."})
     return out
 
 
@@ -180,7 +173,7 @@ def stage_context(r: StageResult, project: Project) -> dict:
                    "width": "natural", "caption": _schematic_caption(r)})
     blocks.append(parts_table(r))
     from rcdoc.note.alternatives import alternatives_block
-    alt = alternatives_block(r, project.analysis, fq, metric_label)
+    alt = alternatives_block(r, fq, metric_label)
     if alt:
         blocks.append(alt)
     for t in (checks_table(r), ratings_table(r)):

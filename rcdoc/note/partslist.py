@@ -20,14 +20,18 @@ import math
 
 import numpy as np
 
-# The stresses are computed in the analysis; the parts list only reads them.
-from rcdoc.analysis.stresses import _highest, part_stresses  # noqa: F401
-
 COLUMNS = ("stage", "channel", "ref", "role", "type", "value", "unit", "tolerance_plus",
            "tolerance_minus", "dielectric", "model", "stress", "stress_unit",
            "stress_nominal", "stress_worst", "rating", "margin", "status")
 _TYPES = {"R": ("resistor", "ohm"), "C": ("capacitor", "F"), "L": ("inductor", "H")}
 _STRESS = {"R": ("resistor_power", "W"), "C": ("capacitor_voltage", "V")}
+
+
+def _highest(samples: np.ndarray) -> float:
+    # As rcdoc.analysis.checks.worst_value with an upper limit: NaN if any sample has no value.
+    if samples.size == 0 or not np.all(np.isfinite(samples)):
+        return math.nan
+    return float(samples.max())
 
 
 def _stress_of(result, role: str, part) -> dict | None:
@@ -36,7 +40,8 @@ def _stress_of(result, role: str, part) -> dict | None:
         if v.part == (part.ref or role) and v.metric == _STRESS.get(part.kind, ("",))[0]:
             return {"metric": v.metric, "nominal": v.nominal, "worst": v.worst,
                     "rating": v.max, "status": v.status}
-    kept = result.extra.get("stresses", {}).get(role)
+    st = result.stresses.get(role)     # computed by the analysis (rcdoc.analysis.analyse)
+    kept = {"metric": st.metric, "nominal": st.nominal, "worst": st.worst} if st else None
     if kept is None and result.stage.kind == "snubber" and part.kind in _STRESS:
         m = result.metric(_STRESS[part.kind][0])    # a snubber's one R and one C
         if m is not None:
@@ -57,8 +62,8 @@ def rows(results) -> list[list[str]]:
     for r in results:
         chans = r.stage.channels or ({},)
         for k, chan in enumerate(chans, start=1):
-            for row in r.part_rows:
-                p = row["part"]
+            for row in r.parts:
+                p = row.part
                 kind, unit = _TYPES[p.kind]
                 s = _stress_of(r, p.role, p) or {}
                 rating, worst = s.get("rating"), s.get("worst")

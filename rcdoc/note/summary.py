@@ -43,9 +43,9 @@ def metric_entry(m) -> dict:
     entry["max"] = _num(finite.max()) if finite.size else None
     entry["mean"] = _num(finite.mean()) if finite.size else None
     entry["std"] = _num(finite.std()) if finite.size else None
-    entry["worst_case"] = [_num(m.wc[0]), _num(m.wc[1])]
-    entry["worst_case_method"] = m.wc_method
-    entry["missing"] = int(s.size - finite.size)
+    entry["worst_case"] = [_num(m.worst_case[0]), _num(m.worst_case[1])]
+    entry["worst_case_method"] = m.worst_case_method
+    entry["missing"] = m.missing
     return entry
 
 
@@ -63,13 +63,13 @@ def verdict_entry(v) -> dict:
     return entry
 
 
-def part_entry(row: dict) -> dict:
-    p = row["part"]
+def part_entry(row) -> dict:
+    p = row.part
     tol = p.tol_plus if abs(p.tol_plus - p.tol_minus) < 1e-12 else \
         {"plus": p.tol_plus, "minus": p.tol_minus}
     entry = {"role": p.role, "ref": p.ref, "value": p.value,
              "unit": PART_UNITS[p.kind], "tolerance": tol,
-             "preferred": row["preferred"]}
+             "preferred": row.preferred}
     if p.dielectric:
         entry["dielectric"] = p.dielectric
     return entry
@@ -96,12 +96,17 @@ def summary(project: Project, results: list[StageResult]) -> dict:
             "metrics": [metric_entry(m) for m in r.metrics],
             "checks": [{**verdict_entry(v), **extra} for v, extra
                        in zip(r.verdicts + r.ratings, check_extras(r, lines))],
-            "parts": [part_entry(row) for row in r.part_rows],
+            "parts": [part_entry(row) for row in r.parts],
             # Kind-specific results under the kind's name ("snubber", "debounce").
-            **({r.stage.kind: r.extra["json"]} if "json" in r.extra else {}),
+            **_kind_json(r),
             **({"channels": [dict(c) for c in r.stage.channels]} if r.stage.channels else {}),
         } for r in results],
     }
+
+
+def _kind_json(r: StageResult) -> dict:
+    js = r.kind_result.json() if r.kind_result is not None else None
+    return {r.stage.kind: js} if js is not None else {}
 
 
 def to_json(data: dict) -> str:

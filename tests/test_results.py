@@ -1,0 +1,180 @@
+"""Typed results (rcdoc/analysis/results.py): frozen, of their declared types, and the
+example board's JSON summary unchanged by the move from dicts to dataclasses."""
+
+from __future__ import annotations
+
+import collections.abc
+import dataclasses
+import json
+import math
+import types
+import typing
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from rcdoc.analysis import results as resmod
+from rcdoc.analysis.results import (LegacyKindResult, MetricResult, SettlingBand, StageResult,
+                                    Waveform)
+from rcdoc.commands.build import analyse_project
+from rcdoc.input.project import load_project
+from rcdoc.note.summary import summary
+
+ROOT = Path(__file__).resolve().parent.parent
+EXAMPLE = ROOT / "projects" / "greenhouse-controller.toml"
+# The example's JSON summary written by the code before the results were typed.
+BASELINE = Path(__file__).parent / "data" / "greenhouse-controller.summary.json"
+
+
+@pytest.fixture(scope="module")
+def example():
+    project = load_project(EXAMPLE)
+    outcome = analyse_project(project, jobs=2)
+    return project, outcome.results
+
+
+def _close(a, b, path="$"):
+    """Equal structure; numbers equal to 1e-12 relative (a different BLAS may round apart)."""
+    if isinstance(a, dict):
+        assert isinstance(b, dict) and a.keys() == b.keys(), path
+        for k in a:
+            _close(a[k], b[k], f"{path}.{k}")
+    elif isinstance(a, list):
+        assert isinstance(b, list) and len(a) == len(b), path
+        for k, (x, y) in enumerate(zip(a, b)):
+            _close(x, y, f"{path}[{k}]")
+    elif isinstance(a, float) and isinstance(b, float):
+        assert a == pytest.approx(b, rel=1e-12, abs=1e-300), path
+    else:
+        assert a == b, path
+
+
+def test_example_json_is_unchanged(example):
+    project, results = example
+    now = json.loads(json.dumps(summary(project, results)))
+    before = json.loads(BASELINE.read_text(encoding="utf-8"))
+    now.pop("generator"), before.pop("generator")      # the version string only
+    _close(now, before)
+
+
+def _conforms(value, hint) -> bool:
+    """Whether ``value`` is of the (resolved) type ``hint``; no plain dict passes a Mapping."""
+    if hint is typing.Any:
+        return True
+    origin, args = typing.get_origin(hint), typing.get_args(hint)
+    if origin in (typing.Union, types.UnionType):
+        return any(_conforms(value, a) for a in args)
+    if hint is type(None):
+        return value is None
+    if origin is tuple:
+        if not isinstance(value, tuple):
+            return False
+        if len(args) == 2 and args[1] is Ellipsis:
+            return all(_conforms(v, args[0]) for v in value)
+        return not args or (len(args) == len(value)
+                            and all(_conforms(v, a) for v, a in zip(value, args)))
+    if origin is collections.abc.Mapping:
+        return (isinstance(value, collections.abc.Mapping) and not isinstance(value, dict)
+                and all(_conforms(k, args[0]) and _conforms(v, args[1])
+                        for k, v in value.items()))
+    if hint is float:
+        return isinstance(value, (float, int)) and not isinstance(value, bool)
+    if hint is complex:
+        return isinstance(value, (complex, float, int))
+    return isinstance(value, origin or hint)
+
+
+def _check_fields(obj, seen=None):
+    """Every field of a results dataclass, recursively, has its declared type."""
+    hints = typing.get_type_hints(type(obj), vars(resmod))
+    for f in dataclasses.fields(obj):
+        value = getattr(obj, f.name)
+        assert _conforms(value, hints[f.name]), (type(obj).__name__, f.name, type(value))
+        items = value if isinstance(value, tuple) else (value,)
+        if isinstance(value, collections.abc.Mapping):
+            items = tuple(value.values())
+        for v in items:
+            if dataclasses.is_dataclass(v) and type(v).__module__ == resmod.__name__ \
+                    and not isinstance(v, LegacyKindResult):
+                _check_fields(v)
+
+
+def test_stage_results_have_their_declared_types(example):
+    _, results = example
+    kinds = set()
+    for r in results:
+        assert isinstance(r, StageResult)
+        _check_fields(r)
+        kinds.add(r.stage.kind)
+        if r.kind_result is not None:
+            assert isinstance(r.kind_result, resmod.KindResult)
+    # The example covers filters with and without a drive and the kinds with their
+    # own analysis (a snubber and a debounce input).
+    assert {"rc-lowpass", "snubber", "debounce"} <= kinds
+
+
+def test_results_are_frozen(example):
+    _, results = example
+    r = next(r for r in results if r.step is not None and r.pwm is not None)
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        r.metrics = ()
+    m = r.metrics[0]
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        m.nominal = 0.0
+    with pytest.raises(ValueError):
+        m.samples[0] = 0.0                       # read-only array
+    with pytest.raises(TypeError):
+        m.sensitivity["x"] = 1.0                 # read-only mapping
+    for w in (r.step, r.pwm):
+        with pytest.raises(ValueError):
+            w.nominal[0] = 0.0
+    with pytest.raises(ValueError):
+        r.band.gain_lo[0] = 0.0
+    with pytest.raises(AttributeError):
+        r.metrics.append(m)                      # a tuple, not a list
+    assert r.pwm.mean is not None and r.pwm.input is not None
+
+
+def test_settling_band_travels_typed(example):
+    _, results = example
+    # The example checks settling to 12 bits (of the step) and within 1 %.
+    bands = {m.param for r in results for m in r.metrics if m.name == "settling"}
+    assert SettlingBand(bits=12) in bands and SettlingBand(within=0.01) in bands
+    for r in results:
+        for m in r.metrics:
+            assert (m.param is None) == (m.name != "settling")
+
+
+def test_settling_band_text_and_fraction():
+    # Half an LSB of an n-bit converter is 2^-(n+1) of its full scale (common practice).
+    assert SettlingBand(within=0.01).text == "within 1 %"
+    assert SettlingBand(within=0.01).fraction(5.0) == 0.01
+    assert SettlingBand(bits=12).text == "12 bits"
+    assert SettlingBand(bits=12).fraction(2.0) == 2.0 ** -13
+    b = SettlingBand(bits=12, full_scale_v=3.3)
+    assert b.text == "12 bits of 3.3 V"
+    assert b.fraction(1.65) == pytest.approx(3.3 / 2 ** 13 / 1.65, rel=1e-15)
+
+
+def test_metric_result_counts_missing_samples_and_copies_nothing_writable():
+    arr = np.array([1.0, math.nan, 3.0, math.inf])
+    m = MetricResult(name="corner", at_hz=None, param=None, nominal=1.0, samples=arr,
+                     worst_case=(1.0, 3.0), worst_case_method="vertices",
+                     sensitivity={"r": -1.0})
+    assert m.missing == 2 and m.detail == "" and m.wc == (1.0, 3.0)
+    arr[0] = 5.0             # the caller's array stays the caller's to change
+    assert arr.flags.writeable and not m.samples.flags.writeable
+
+
+def test_results_pickle_for_the_build_cache(example):
+    import pickle
+    _, results = example
+    for r in results:
+        back = pickle.loads(pickle.dumps(r))
+        assert back.metrics[0].sensitivity == r.metrics[0].sensitivity
+        assert [m.key for m in back.metrics] == [m.key for m in r.metrics]
+        assert not back.metrics[0].samples.flags.writeable
+    w = Waveform(t_s=np.arange(3.0), nominal=np.zeros(3), lo=np.zeros(3), hi=np.zeros(3),
+                 min=np.zeros(3), max=np.zeros(3))
+    assert pickle.loads(pickle.dumps(w)).t_s.tolist() == [0.0, 1.0, 2.0]
