@@ -121,6 +121,7 @@ def _refs(svg: str) -> set[str]:
     return set(re.findall(r'href="#([^"]+)"', svg)) | set(re.findall(r"url\(#([^)]+)\)", svg))
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", sorted(MAKERS))
 def test_chart_is_well_formed_svg_of_text_width(rendered, name):
     svg = rendered[name][0]
@@ -131,12 +132,14 @@ def test_chart_is_well_formed_svg_of_text_width(rendered, name):
     assert svg.startswith("<svg"), "the XML prolog is dropped so the SVG can be inlined in HTML"
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", sorted(MAKERS))
 def test_same_input_gives_same_bytes(rendered, name):
     first, second, _ = rendered[name]
     assert first.encode() == second.encode()
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", sorted(MAKERS))
 def test_different_fig_ids_share_no_element_id(rendered, name):
     a, _, b = rendered[name]

@@ -200,6 +200,7 @@ def test_git_side_needs_a_file_on_the_other_side(tmp_path):
     assert main(["diff", "git:HEAD", "git:HEAD~1"]) == 2
 
 
+@pytest.mark.slow
 @needs_git
 def test_build_since_adds_the_changes_section(repo, tmp_path, monkeypatch):
     # What the build hands to the note; the PDF is read in the test below.
@@ -231,6 +232,7 @@ def _head(root):
     return out[0], out[1]
 
 
+@pytest.mark.slow
 @needs_git
 def test_since_head_names_the_commit_on_the_cover_and_after_the_summary(repo, tmp_path):
     import pypdf

@@ -285,6 +285,7 @@ def _load_or_project_error(path, **kw):
     return result
 
 
+@pytest.mark.slow
 @FUZZ
 @given(doc=DOCUMENT, bom=BOM_TEXT, data=st.data())
 def test_loader_returns_a_project_or_a_project_error(folder, doc, bom, data):

@@ -217,6 +217,7 @@ def count_analyses(monkeypatch):
     return calls
 
 
+@pytest.mark.slow
 def test_check_after_build_reuses_the_analysis(tmp_path, count_analyses):
     board = write(tmp_path / "b.toml")
     assert main(["build", str(board), "--jobs", "1", "--quiet"]) == 0
@@ -229,6 +230,7 @@ def test_check_after_build_reuses_the_analysis(tmp_path, count_analyses):
     assert count_analyses == ["lp", "hp"]
 
 
+@pytest.mark.slow
 def test_build_after_check_draws_from_the_checked_analysis(tmp_path, count_analyses):
     board = write(tmp_path / "b.toml")
     checked = tmp_path / "check.json"

@@ -487,6 +487,7 @@ toml_like = st.recursive(
 )
 
 
+@pytest.mark.slow
 @given(value=toml_like, unit=st.sampled_from(ALL_UNITS))
 @FAST
 def test_any_value_gives_a_finite_float_or_a_project_error(value, unit):

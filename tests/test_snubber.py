@@ -252,6 +252,7 @@ def test_proposed_values_are_preferred_and_near_the_rules(tmp_path):
     assert any(b.get("title", "").startswith("Trade-off") for b in r.extra["blocks"])
 
 
+@pytest.mark.slow
 def test_proposed_load_snubber_keeps_the_kick_near_twice_the_supply(tmp_path):
     # Energy balance ½·L·I² = ½·C·ΔV² (textbook) with ΔV = V sets C; R = √(L/C) makes the
     # first jump I·R about V as well, so the contact sees at most about 2·V (common practice);
@@ -283,6 +284,7 @@ stray = "100 pF"
     assert r.extra["peak_voltage_v"] < 60
 
 
+@pytest.mark.slow
 def test_mains_snubber_is_rated_and_carries_the_cautions(tmp_path):
     from rcdoc.note.context import stage_context
     project = load_project(write(tmp_path, LOAD + SWITCH))
@@ -302,6 +304,7 @@ def test_mains_snubber_is_rated_and_carries_the_cautions(tmp_path):
     assert stage_context(r_low, low)["safety"] is None
 
 
+@pytest.mark.slow
 def test_under_rated_resistor_fails_its_stage_and_the_build_exits_1(tmp_path):
     text = LOAD.replace('power = "0.5 W"', 'power = "10 mW"')
     path = write(tmp_path, text)
