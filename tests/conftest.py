@@ -24,10 +24,13 @@ def _pdfs_in(directory) -> list[str]:
 
 @pytest.fixture(autouse=True)
 def _pdf_renders_are_marked_slow(request):
-    yield
     if request.node.get_closest_marker("slow") or "tmp_path" not in request.fixturenames:
+        yield
         return
-    pdfs = _pdfs_in(request.getfixturevalue("tmp_path"))
+    # Asked for before the test runs, so tmp_path is torn down after this check.
+    tmp_path = request.getfixturevalue("tmp_path")
+    yield
+    pdfs = _pdfs_in(tmp_path)
     if pdfs:
         pytest.fail(
             f"{request.node.nodeid} renders a PDF ({', '.join(pdfs)}) but is not marked "

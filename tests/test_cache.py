@@ -126,6 +126,7 @@ def test_damaged_entry_is_rebuilt(project_file, tmp_path, monkeypatch):
     assert StageCache.for_output(out, str(project_file)).get(stage_key(p.stages[0], p)) is not None
 
 
+@pytest.mark.slow
 def test_failed_build_writes_no_cache(tmp_path, monkeypatch):
     path = tmp_path / "board.toml"
     path.write_text(PROJECT, encoding="utf-8")

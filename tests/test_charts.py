@@ -170,6 +170,7 @@ def test_output_ignores_global_rcparams():
     assert changed == reference
 
 
+@pytest.mark.slow
 def test_bode_draws_bands_in_palette_colours(rendered):
     svg = rendered["bode"][0]
     plain = make_bode("bode-plain")
@@ -178,6 +179,7 @@ def test_bode_draws_bands_in_palette_colours(rendered):
         assert colour not in plain
 
 
+@pytest.mark.slow
 def test_bode_limits_are_shaded_in_limit_colour(rendered):
     assert palette.LIMIT in rendered["bode"][0]
     assert palette.LIMIT_EDGE in rendered["bode"][0]
@@ -191,11 +193,13 @@ def test_each_limit_panel_draws_its_own_region():
         assert palette.LIMIT in make_bode("bode-one", limits=[lim]), lim["panel"]
 
 
+@pytest.mark.slow
 def test_histogram_limits_shaded_only_when_given(rendered):
     assert palette.LIMIT in rendered["histogram"][0]
     assert palette.LIMIT not in make_histogram("hist-free", lo=None, hi=None)
 
 
+@pytest.mark.slow
 def test_phasor_uses_part_colours(rendered):
     svg = rendered["phasor"][0]
     for colour in (palette.RESISTOR, palette.CAPACITOR, palette.SOURCE):
@@ -203,6 +207,7 @@ def test_phasor_uses_part_colours(rendered):
     assert palette.INDUCTOR not in svg
 
 
+@pytest.mark.slow
 def test_overview_colours_rows_by_status(rendered):
     svg = rendered["corner_overview"][0]
     assert palette.PASS in svg and palette.FAIL in svg

@@ -80,6 +80,7 @@ def test_identical_projects_have_no_differences(tmp_path):
     assert "No differences" in note_blocks(d)[-1]["paragraphs"][0]
 
 
+@pytest.mark.slow
 def test_stage_and_parts_added_and_removed(tmp_path):
     old = write(tmp_path / "old.toml")
     new = write(tmp_path / "new.toml", extra=EXTRA_STAGE)

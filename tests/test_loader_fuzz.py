@@ -296,6 +296,7 @@ def test_loader_returns_a_project_or_a_project_error(folder, doc, bom, data):
     _load_or_project_error(path)
 
 
+@pytest.mark.slow
 @FUZZ
 @given(doc=spoilt_document(), data=st.data())
 def test_loader_on_spoilt_valid_documents(folder, doc, data):

@@ -140,6 +140,7 @@ def test_check_json_carries_label_unit_nominal_margin_and_line(tmp_path):
     assert corner["worst"] >= rc_corner(5100 * 1.01, 10e-9 * 1.01) * (1 - 1e-9)
 
 
+@pytest.mark.slow
 def test_check_json_with_several_files_writes_a_folder(tmp_path):
     a = write(tmp_path / "a.toml")
     (tmp_path / "sub").mkdir()

@@ -53,6 +53,7 @@ def mc_corner(request, tmp_path_factory):
     return dist, res.metric("corner")
 
 
+@pytest.mark.slow
 def test_mc_std_of_corner_agrees_with_uncertainties(mc_corner):
     dist, m = mc_corner
     # Standard deviation of each part: uniform over ±tol -> tol/√3; normal with the
