@@ -123,6 +123,7 @@ max = "0.9"
 """
 
 
+@pytest.mark.slow
 def test_second_order_stage_against_the_textbook(tmp_path):
     p, r = analysed(tmp_path, SALLEN_KEY)
     alt = stage_alternatives(r, p.analysis)

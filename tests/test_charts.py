@@ -186,6 +186,7 @@ def test_bode_limits_are_shaded_in_limit_colour(rendered):
     assert palette.LIMIT not in make_bode("bode-nolimit", band=_band())
 
 
+@pytest.mark.slow
 def test_each_limit_panel_draws_its_own_region():
     for lim in ({"panel": "gain", "f_lo": None, "f_hi": None, "min": -50.0, "max": None, "label": "x"},
                 {"panel": "phase", "f_lo": 10.0, "f_hi": 100.0, "min": None, "max": 0.0, "label": "y"},

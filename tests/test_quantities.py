@@ -511,6 +511,7 @@ def test_any_text_gives_a_finite_float_or_a_project_error(text, unit):
         assert isinstance(result, float) and math.isfinite(result)
 
 
+@pytest.mark.slow
 @given(value=toml_like)
 @FAST
 def test_any_tolerance_is_valid_or_a_project_error(value):

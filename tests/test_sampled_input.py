@@ -212,6 +212,7 @@ def test_limit_in_lsb_and_default_level(tmp_path):
     assert (st.checks[0].min, st.checks[0].max) == (-0.5, 0.5)
 
 
+@pytest.mark.slow
 def test_schematic_has_switch_and_sampling_capacitor(tmp_path):
     st = load(tmp_path, BOARD.format(rate="100 kHz")).stages[0]
     recipe = KINDS["sampled-input"].schematic(st)

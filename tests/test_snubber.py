@@ -227,6 +227,7 @@ def test_ac_leakage_through_the_open_contact_follows_ohms_law():
 # stages: proposal, ratings, safety
 
 
+@pytest.mark.slow
 def test_proposed_values_are_preferred_and_near_the_rules(tmp_path):
     project = load_project(write(tmp_path, SWITCH))
     r = analyse_stage(project.stages[0], project.analysis)
