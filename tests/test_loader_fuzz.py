@@ -26,6 +26,9 @@ from rcdoc.input.project import (ANALYSIS_KEYS, BOARD_KEYS, CHECK_KEYS, PART_KEY
 from rcdoc.input.quantities import (UNITS, format_quantity, format_rkm, parse_quantity,
                               parse_tolerance)
 
+# Property-based fuzzing (hundreds of generated documents per test): the quick run skips it.
+pytestmark = pytest.mark.slow
+
 FUZZ = settings(deadline=None, max_examples=150, database=None,
                 suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
 
@@ -285,7 +288,6 @@ def _load_or_project_error(path, **kw):
     return result
 
 
-@pytest.mark.slow
 @FUZZ
 @given(doc=DOCUMENT, bom=BOM_TEXT, data=st.data())
 def test_loader_returns_a_project_or_a_project_error(folder, doc, bom, data):
@@ -296,7 +298,6 @@ def test_loader_returns_a_project_or_a_project_error(folder, doc, bom, data):
     _load_or_project_error(path)
 
 
-@pytest.mark.slow
 @FUZZ
 @given(doc=spoilt_document(), data=st.data())
 def test_loader_on_spoilt_valid_documents(folder, doc, data):
