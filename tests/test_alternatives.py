@@ -125,6 +125,7 @@ max = "0.9"
 """
 
 
+@pytest.mark.slow
 def test_second_order_stage_against_the_textbook(tmp_path):
     p, r = analysed(tmp_path, SALLEN_KEY)
     alt = stage_alternatives(r, p.analysis, KINDS[r.stage.kind])
@@ -145,6 +146,7 @@ def test_second_order_stage_against_the_textbook(tmp_path):
         assert a.metrics[1] == pytest.approx(q, rel=1e-6)
 
 
+@pytest.mark.slow
 def test_stage_page_shows_the_block_after_the_parts_table(tmp_path):
     p, r = analysed(tmp_path, LOWPASS.format(r="4.87k", tol="5%"))
     titles = [b.get("title") for b in stage_context(r, p)["blocks"]]

@@ -26,6 +26,9 @@ from rcdoc.note.page import note_context
 from rcdoc.kinds import load_project
 from test_report import EPOCH, make_context
 
+# Every test here renders a note to PDF (or runs a build): the quick run skips them.
+pytestmark = pytest.mark.slow
+
 REPO = Path(__file__).resolve().parent.parent
 
 

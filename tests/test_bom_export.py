@@ -234,6 +234,7 @@ def test_parts_list_leaves_stress_blank_without_a_drive(tmp_path):
         [("", "", "0.25"), ("", "", "25.0")]
 
 
+@pytest.mark.slow
 def test_build_writes_the_parts_list_beside_the_note(tmp_path):
     f = board(tmp_path, RATED, extra='drive = { step = "5 V" }')
     out = tmp_path / "build"

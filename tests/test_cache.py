@@ -64,6 +64,7 @@ def _counting(monkeypatch):
     return calls
 
 
+@pytest.mark.slow
 def test_rebuild_after_one_value_change_redoes_only_that_stage(project_file, tmp_path, monkeypatch):
     calls = _counting(monkeypatch)
     out = tmp_path / "out"
@@ -110,6 +111,7 @@ def test_key_covers_stage_fields_and_analysis(project_file):
     assert canonical({"a": 1.0}) != canonical({"a": 1.0000000000000002})
 
 
+@pytest.mark.slow
 def test_damaged_entry_is_rebuilt(project_file, tmp_path, monkeypatch):
     out = tmp_path / "out"
     p = load_project(str(project_file))
@@ -124,6 +126,7 @@ def test_damaged_entry_is_rebuilt(project_file, tmp_path, monkeypatch):
     assert StageCache.for_output(out, str(project_file)).get(stage_key(p.stages[0], p)) is not None
 
 
+@pytest.mark.slow
 def test_failed_build_writes_no_cache(tmp_path, monkeypatch):
     path = tmp_path / "board.toml"
     path.write_text(PROJECT, encoding="utf-8")
@@ -144,6 +147,7 @@ def test_failed_build_writes_no_cache(tmp_path, monkeypatch):
     assert not out.exists()
 
 
+@pytest.mark.slow
 def test_jobs_and_cache_give_the_same_bytes(project_file, tmp_path):
     p = load_project(str(project_file))
     serial = build.analyse_project(p, draw=True, jobs=1)

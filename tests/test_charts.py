@@ -122,6 +122,7 @@ def _refs(svg: str) -> set[str]:
     return set(re.findall(r'href="#([^"]+)"', svg)) | set(re.findall(r"url\(#([^)]+)\)", svg))
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", sorted(MAKERS))
 def test_chart_is_well_formed_svg_of_text_width(rendered, name):
     svg = rendered[name][0]
@@ -132,12 +133,14 @@ def test_chart_is_well_formed_svg_of_text_width(rendered, name):
     assert svg.startswith("<svg"), "the XML prolog is dropped so the SVG can be inlined in HTML"
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", sorted(MAKERS))
 def test_same_input_gives_same_bytes(rendered, name):
     first, second, _ = rendered[name]
     assert first.encode() == second.encode()
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", sorted(MAKERS))
 def test_different_fig_ids_share_no_element_id(rendered, name):
     a, _, b = rendered[name]
@@ -168,6 +171,7 @@ def test_output_ignores_global_rcparams():
     assert changed == reference
 
 
+@pytest.mark.slow
 def test_bode_draws_bands_in_palette_colours(rendered):
     svg = rendered["bode"][0]
     plain = make_bode("bode-plain")
@@ -176,12 +180,14 @@ def test_bode_draws_bands_in_palette_colours(rendered):
         assert colour not in plain
 
 
+@pytest.mark.slow
 def test_bode_limits_are_shaded_in_limit_colour(rendered):
     assert palette.LIMIT in rendered["bode"][0]
     assert palette.LIMIT_EDGE in rendered["bode"][0]
     assert palette.LIMIT not in make_bode("bode-nolimit", band=_band())
 
 
+@pytest.mark.slow
 def test_each_limit_panel_draws_its_own_region():
     for lim in ({"panel": "gain", "f_lo": None, "f_hi": None, "min": -50.0, "max": None, "label": "x"},
                 {"panel": "phase", "f_lo": 10.0, "f_hi": 100.0, "min": None, "max": 0.0, "label": "y"},
@@ -189,11 +195,13 @@ def test_each_limit_panel_draws_its_own_region():
         assert palette.LIMIT in make_bode("bode-one", limits=[lim]), lim["panel"]
 
 
+@pytest.mark.slow
 def test_histogram_limits_shaded_only_when_given(rendered):
     assert palette.LIMIT in rendered["histogram"][0]
     assert palette.LIMIT not in make_histogram("hist-free", lo=None, hi=None)
 
 
+@pytest.mark.slow
 def test_phasor_uses_part_colours(rendered):
     svg = rendered["phasor"][0]
     for colour in (palette.RESISTOR, palette.CAPACITOR, palette.SOURCE):
@@ -201,6 +209,7 @@ def test_phasor_uses_part_colours(rendered):
     assert palette.INDUCTOR not in svg
 
 
+@pytest.mark.slow
 def test_overview_colours_rows_by_status(rendered):
     svg = rendered["corner_overview"][0]
     assert palette.PASS in svg and palette.FAIL in svg

@@ -137,6 +137,7 @@ def _under(path: str, folders) -> bool:
                for f in folders)
 
 
+@pytest.mark.slow
 def test_hostile_text_and_override_read_nothing_outside(hostile, monkeypatch):
     fetchers = []
     real = report.make_url_fetcher

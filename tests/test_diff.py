@@ -81,6 +81,7 @@ def test_identical_projects_have_no_differences(tmp_path):
     assert "No differences" in note_blocks(d)[-1]["paragraphs"][0]
 
 
+@pytest.mark.slow
 def test_stage_and_parts_added_and_removed(tmp_path):
     old = write(tmp_path / "old.toml")
     new = write(tmp_path / "new.toml", extra=EXTRA_STAGE)
@@ -201,6 +202,7 @@ def test_git_side_needs_a_file_on_the_other_side(tmp_path):
     assert main(["diff", "git:HEAD", "git:HEAD~1"]) == 2
 
 
+@pytest.mark.slow
 @needs_git
 def test_build_since_adds_the_changes_section(repo, tmp_path, monkeypatch):
     # What the build hands to the note; the PDF is read in the test below.
@@ -232,6 +234,7 @@ def _head(root):
     return out[0], out[1]
 
 
+@pytest.mark.slow
 @needs_git
 def test_since_head_names_the_commit_on_the_cover_and_after_the_summary(repo, tmp_path):
     import pypdf

@@ -574,6 +574,7 @@ def test_mistake_gives_status_2_one_line_nothing_written(tmp_path, capsys, name,
     assert after == before          # the old note kept its bytes; nothing new appeared
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name,template,body,words", TEMPLATE_CASES,
                          ids=[c[0] for c in TEMPLATE_CASES])
 def test_template_mistake_names_the_template(tmp_path, capsys, name, template, body, words):

@@ -5,12 +5,15 @@ from __future__ import annotations
 import re
 import tomllib
 
+import pytest
+
 from rcdoc.commands.cli import main
 from rcdoc.commands.init import STARTER
 from rcdoc.input.project import ANALYSIS_KEYS, BOARD_KEYS, CHECK_KEYS, PART_KEYS
 from rcdoc.kinds import load_project
 
 
+@pytest.mark.slow
 def test_init_writes_a_project_that_checks(tmp_path, capsys):
     f = tmp_path / "board.toml"
     assert main(["init", str(f)]) == 0

@@ -142,6 +142,7 @@ def test_mfb_against_its_transfer_function(tmp_path):
                                                                 abs=1e-9)
 
 
+@pytest.mark.slow
 def test_sallen_key_butterworth(tmp_path):
     # Equal resistors in the unity-gain Sallen-Key give Q = ½·√(c1/c2) (textbook);
     # Butterworth Q = 1/√2 needs c1 = 2·c2. ω0 = 1/(R·√(c1·c2)).
@@ -160,6 +161,7 @@ def test_sallen_key_butterworth(tmp_path):
     assert res.metric("peaking").nominal == pytest.approx(0.0, abs=1e-6)
 
 
+@pytest.mark.slow
 def test_sallen_key_bessel(tmp_path):
     # scipy.signal.bessel(2, ω0, analog=True, norm="phase") is s² + √3·ω0·s + ω0²
     # (the Bessel polynomial s² + 3s + 3 rescaled so its natural frequency is ω0):
@@ -182,6 +184,7 @@ def test_sallen_key_bessel(tmp_path):
     assert gd == pytest.approx(math.sqrt(3) / w0, rel=1e-4)
 
 
+@pytest.mark.slow
 def test_sallen_key_peaking_at_q2(tmp_path):
     # Q = ½·√(160/10) = 2. Peak of a second-order low-pass with Q > 1/√2:
     # |H|max = Q/√(1 − 1/(4Q²)) at ω0·√(1 − 1/(2Q²)) (textbook): 6.30 dB.

@@ -26,6 +26,9 @@ from rcdoc.kinds import load_project
 from rcdoc.input.quantities import (UNITS, format_quantity, format_rkm, parse_quantity,
                               parse_tolerance)
 
+# Property-based fuzzing (hundreds of generated documents per test): the quick run skips it.
+pytestmark = pytest.mark.slow
+
 FUZZ = settings(deadline=None, max_examples=150, database=None,
                 suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
 

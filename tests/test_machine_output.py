@@ -140,6 +140,7 @@ def test_check_json_carries_label_unit_nominal_margin_and_line(tmp_path):
     assert corner["worst"] >= rc_corner(5100 * 1.01, 10e-9 * 1.01) * (1 - 1e-9)
 
 
+@pytest.mark.slow
 def test_check_json_with_several_files_writes_a_folder(tmp_path):
     a = write(tmp_path / "a.toml")
     (tmp_path / "sub").mkdir()
@@ -217,6 +218,7 @@ def count_analyses(monkeypatch):
     return calls
 
 
+@pytest.mark.slow
 def test_check_after_build_reuses_the_analysis(tmp_path, count_analyses):
     board = write(tmp_path / "b.toml")
     assert main(["build", str(board), "--jobs", "1", "--quiet"]) == 0
@@ -229,6 +231,7 @@ def test_check_after_build_reuses_the_analysis(tmp_path, count_analyses):
     assert count_analyses == ["lp", "hp"]
 
 
+@pytest.mark.slow
 def test_build_after_check_draws_from_the_checked_analysis(tmp_path, count_analyses):
     board = write(tmp_path / "b.toml")
     checked = tmp_path / "check.json"

@@ -72,6 +72,7 @@ def test_user_node_names_are_not_merged(tmp_path, inp, mid, out):
     assert corner(res) == pytest.approx(reference_corner_hz(), rel=2e-3)
 
 
+@pytest.mark.slow
 def test_step_drive_follows_the_declared_output(tmp_path):
     # Output named "vout" with a drive: used to end in exit 2 after the analysis.
     # Settling of the step to 1 %: compared with scipy.signal.step of the same H(s).

@@ -59,6 +59,7 @@ def test_same_stem_with_default_folders_is_allowed(tmp_path):
         cli._check_distinct_outputs(projects, str(tmp_path / "out"))
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("swallowed", [False, True], ids=["raised", "swallowed"])
 def test_ctrl_c_during_final_render_gives_130_and_keeps_the_note(tmp_path, capsys, monkeypatch,
                                                                  swallowed):
@@ -88,6 +89,7 @@ def test_ctrl_c_during_final_render_gives_130_and_keeps_the_note(tmp_path, capsy
     assert signal.getsignal(signal.SIGINT) is signal.default_int_handler   # handler restored
 
 
+@pytest.mark.slow
 def test_ctrl_c_while_workers_run_gives_130(tmp_path):
     # A real SIGINT to a build running stages in two worker processes.
     stages = "".join([f'[[stage]]\nid = "s{k}"\ntitle = "S{k}"\nkind = "rc-lowpass"\n'
@@ -110,6 +112,7 @@ def test_ctrl_c_while_workers_run_gives_130(tmp_path):
     assert (out / "board.json").read_bytes() == OLD_JSON
 
 
+@pytest.mark.slow
 def test_temporary_files_of_a_killed_build_are_removed(tmp_path, capsys):
     proj = tmp_path / "board.toml"
     proj.write_text(project(), encoding="utf-8")

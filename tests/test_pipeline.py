@@ -71,6 +71,7 @@ def pdf_text(path: Path) -> list[str]:
     return [page.extract_text() for page in PdfReader(str(path)).pages]
 
 
+@pytest.mark.slow
 def test_failing_check_fails_stage_and_board_in_pdf_and_json(tmp_path):
     project = write(tmp_path, "station", stage("outlet", "Outlet pressure filter", FAILING))
     out = tmp_path / "out"
@@ -98,6 +99,7 @@ def test_failing_check_fails_stage_and_board_in_pdf_and_json(tmp_path):
     assert not re.search(r"\bPASS\b", body)
 
 
+@pytest.mark.slow
 def test_check_marks_only_the_failing_stage(tmp_path):
     from rcdoc.commands.build import analyse_project, load_all
     from rcdoc.note.summary import summary
@@ -120,6 +122,7 @@ def test_check_marks_only_the_failing_stage(tmp_path):
     assert {s["id"]: s["status"] for s in data["stages"]} == {"inlet": "pass", "outlet": "fail"}
 
 
+@pytest.mark.slow
 def test_passing_board_exits_zero(tmp_path):
     project = write(tmp_path, "station", stage("inlet", "Inlet pressure filter", PASSING))
     out = tmp_path / "out"

@@ -487,6 +487,7 @@ toml_like = st.recursive(
 )
 
 
+@pytest.mark.slow
 @given(value=toml_like, unit=st.sampled_from(ALL_UNITS))
 @FAST
 def test_any_value_gives_a_finite_float_or_a_project_error(value, unit):
@@ -510,6 +511,7 @@ def test_any_text_gives_a_finite_float_or_a_project_error(text, unit):
         assert isinstance(result, float) and math.isfinite(result)
 
 
+@pytest.mark.slow
 @given(value=toml_like)
 @FAST
 def test_any_tolerance_is_valid_or_a_project_error(value):

@@ -18,6 +18,9 @@ import pytest
 from rcdoc.note import report
 from rcdoc.errors import ProjectError
 
+# Every test here renders a note to PDF (or runs a build): the quick run skips them.
+pytestmark = pytest.mark.slow
+
 EPOCH = 1_767_225_600  # 2026-01-01T00:00:00Z
 
 

@@ -16,6 +16,9 @@ from pathlib import Path
 
 import pytest
 
+# Every test here renders a note to PDF (or runs a build): the quick run skips them.
+pytestmark = pytest.mark.slow
+
 REPO = Path(__file__).resolve().parent.parent
 
 # A small board (invented values): one low-pass with a step drive and one

@@ -142,6 +142,7 @@ max = "0.5 LSB"
 """
 
 
+@pytest.mark.slow
 def test_multiplexed_input_fails_at_its_rate_and_passes_below_max(tmp_path):
     # A 12 pF sample taken from 0 V every 5 µs draws f_s·C_s·V ≈ 8 µA through 100 Ω:
     # the pin sags by about one LSB and the check fails (exit 1). Below max_sample_rate (worst
@@ -163,6 +164,7 @@ def test_multiplexed_input_fails_at_its_rate_and_passes_below_max(tmp_path):
     assert set(err.sensitivity) == {"r", "c"} and err.wc[0] <= err.samples.min()
 
 
+@pytest.mark.slow
 def test_build_writes_lsb_and_the_figures(tmp_path):
     project = load(tmp_path, BOARD.format(rate="200 kHz"), "samples = 20")
     assert main(["build", project.file, "-o", str(tmp_path / "out"), "--quiet",
@@ -210,6 +212,7 @@ def test_limit_in_lsb_and_default_level(tmp_path):
     assert (st.checks[0].min, st.checks[0].max) == (-0.5, 0.5)
 
 
+@pytest.mark.slow
 def test_schematic_has_switch_and_sampling_capacitor(tmp_path):
     st = load(tmp_path, BOARD.format(rate="100 kHz")).stages[0]
     recipe = KINDS["sampled-input"].schematic(st)
@@ -217,6 +220,7 @@ def test_schematic_has_switch_and_sampling_capacitor(tmp_path):
     assert "svg" in render_svg(recipe)[:20]
 
 
+@pytest.mark.slow
 def test_frequency_response_is_the_rc_with_the_pin_capacitance(tmp_path):
     # Reference: scipy.signal.freqs of the textbook first-order low-pass
     # H(s) = 1/(1 + s·(R_s + r)·(c + pin_c)); the sampling capacitor is not in it.

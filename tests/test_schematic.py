@@ -527,6 +527,7 @@ def test_dashed_parts_are_dashed_in_svg():
     assert re.search(r"stroke-dasharray:\s*[0-9]", svg)
 
 
+@pytest.mark.slow
 def test_render_is_byte_identical_in_a_fresh_process(tmp_path):
     # reproducible output (rules): same recipe, same bytes across processes
     script = ("import sys; from rcdoc.kinds.recipes import *; "

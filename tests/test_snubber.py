@@ -233,6 +233,7 @@ def test_ac_leakage_through_the_open_contact_follows_ohms_law():
 # stages: proposal, ratings, safety
 
 
+@pytest.mark.slow
 def test_proposed_values_are_preferred_and_near_the_rules(tmp_path):
     project = load_project(write(tmp_path, SWITCH))
     r = analyse_stage(project.stages[0], project.analysis)
@@ -259,6 +260,7 @@ def test_proposed_values_are_preferred_and_near_the_rules(tmp_path):
                for b in kind(r).blocks())
 
 
+@pytest.mark.slow
 def test_proposed_load_snubber_keeps_the_kick_near_twice_the_supply(tmp_path):
     # Energy balance ½·L·I² = ½·C·ΔV² (textbook) with ΔV = V sets C; R = √(L/C) makes the
     # first jump I·R about V as well, so the contact sees at most about 2·V (common practice);
@@ -290,6 +292,7 @@ stray = "100 pF"
     assert kind(r).peak_voltage_v < 60
 
 
+@pytest.mark.slow
 def test_mains_snubber_is_rated_and_carries_the_cautions(tmp_path):
     from rcdoc.note.page import stage_context
     project = load_project(write(tmp_path, LOAD + SWITCH))
@@ -309,6 +312,7 @@ def test_mains_snubber_is_rated_and_carries_the_cautions(tmp_path):
     assert stage_context(r_low, low)["safety"] is None
 
 
+@pytest.mark.slow
 def test_under_rated_resistor_fails_its_stage_and_the_build_exits_1(tmp_path):
     text = LOAD.replace('power = "0.5 W"', 'power = "10 mW"')
     path = write(tmp_path, text)

@@ -53,6 +53,7 @@ def mc_corner(request, tmp_path_factory):
     return dist, res.metric("corner")
 
 
+@pytest.mark.slow
 def test_mc_std_of_corner_agrees_with_uncertainties(mc_corner):
     dist, m = mc_corner
     # Standard deviation of each part: uniform over ±tol -> tol/√3; normal with the
@@ -68,6 +69,7 @@ def test_mc_std_of_corner_agrees_with_uncertainties(mc_corner):
     assert m.nominal == pytest.approx(1 / (2 * math.pi * RC_S), rel=1e-6)
 
 
+@pytest.mark.slow
 def test_extremes_inside_and_near_the_tolerance_box(mc_corner):
     dist, m = mc_corner
     # Worst case at the box corners: fc = 1/(2πRC) with R and C both at their
@@ -229,6 +231,7 @@ def test_fourier_reference_matches_square_wave_closed_form():
     assert ref == pytest.approx(3.3 * math.tanh(0.2e-3 / (4 * RC_S)), rel=3e-4)
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("duty", ["50%", "20%"])
 def test_pwm_ripple_agrees_with_fourier_series(tmp_path, duty):
     stage = lowpass(extra=f'drive = {{ pwm = "3.3 V", frequency = "5 kHz", duty = "{duty}" }}')

@@ -96,6 +96,7 @@ def test_lossless_lc_is_on_the_axis_and_unstable():
     assert not polemod.unstable(polemod.poles(lossy, {"r": [1.0], "l": [l], "c": [c]}))[0]
 
 
+@pytest.mark.slow
 def test_gain_101_board_fails_unstable_exit_1_json_reason_and_no_warning(tmp_path):
     # K = 1 + 100k/1k = 101 ≥ 3: unstable (textbook, Q = 1/(3 − K)).
     project = tmp_path / "sk101.toml"
@@ -139,6 +140,7 @@ def test_note_of_unstable_stage_has_caution_with_poles_in_hz(tmp_path):
     assert res.step is None and res.phasors is None
 
 
+@pytest.mark.slow
 def test_near_gain_3_counts_unstable_samples_and_nans_them(tmp_path):
     # K = 1 + 19.5k/10k = 2.95 nominal (Q = 20); 1 % parts push some samples to K ≥ 3.
     with warnings.catch_warnings():
@@ -169,6 +171,7 @@ def test_near_gain_3_counts_unstable_samples_and_nans_them(tmp_path):
     assert res.metric("q").nominal == pytest.approx(20.0, rel=1e-9)   # 1/(3 − K)
 
 
+@pytest.mark.slow
 def test_unstable_samples_fail_a_check_they_would_pass(tmp_path):
     # A wide Q limit that every stable sample meets: only the unstable ones fail it.
     stage = sallen_key("10k", "10k", "10n", "10n", "19.5k", "10k", drive=False,
@@ -183,6 +186,7 @@ def test_unstable_samples_fail_a_check_they_would_pass(tmp_path):
 # ---- conditioning ------------------------------------------------------------
 
 
+@pytest.mark.slow
 def test_extreme_values_sallen_key_gives_closed_form_q(tmp_path):
     # Unity gain: H(s) = 1/(s²·r1r2c1c2 + s·c2(r1 + r2) + 1) (textbook), so
     # Q = √(r1r2c1c2)/(c2(r1 + r2)): 1 GΩ, 1 mΩ, 10 mF, 1 fF give √10 = 3.162.

@@ -106,6 +106,7 @@ def _build(tmp_path, cover: str):
     return rc, out
 
 
+@pytest.mark.slow
 def test_build_with_an_escaping_override_ends_in_exit_2_and_no_note(tmp_path, capsys):
     rc, out = _build(tmp_path, "{{ cycler.__init__.__globals__.os.environ }}")
     assert rc == 2
@@ -115,6 +116,7 @@ def test_build_with_an_escaping_override_ends_in_exit_2_and_no_note(tmp_path, ca
     assert not (out / "board.pdf").exists()
 
 
+@pytest.mark.slow
 def test_build_with_inert_override_prints_the_text(tmp_path):
     rc, out = _build(tmp_path, "<p>{{ '<b>{{ 7*7 }}</b>' }}</p>")
     assert rc in (0, 1)

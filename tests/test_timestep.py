@@ -66,6 +66,7 @@ def test_highpass_nominal_does_not_change_with_samples(tmp_path):
     assert np.ptp(s) > 1e-3 * np.mean(s)
 
 
+@pytest.mark.slow
 def test_samples_do_not_change_with_chunking(tmp_path, monkeypatch):
     stage = _highpass_stage("22 pF")
     whole = analyse_one(tmp_path, stage, analysis="samples = 50", name="a")
@@ -135,6 +136,7 @@ def test_capacitor_loop_through_source_jumps_to_divider():
     np.testing.assert_allclose(y[1:], c / (c + cl) * np.exp(-t[1:] / tau), rtol=1e-9, atol=1e-12)
 
 
+@pytest.mark.slow
 def test_sallen_key_stage_step_matches_scipy(tmp_path):
     res = analyse_one(tmp_path, """
         [[stage]]

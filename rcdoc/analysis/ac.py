@@ -1,0 +1,333 @@
+"""Frequency responses of a Network, vectorised over Monte Carlo samples.
+
+What it is for: transfer functions (zero-pole-gain form where it is safe, one
+factorisation per sample and frequency elsewhere), all unknowns, element
+voltages and currents at one frequency, the source current and the input
+impedance. Every result is per 1 V of source; large batches are split into
+blocks so that no temporary exceeds a few tens of megabytes.
+
+What it must not do: know about stage kinds, parts or units, draw anything,
+or loop in Python over samples (loops run over frequency blocks only).
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Iterator, Mapping
+
+import numpy as np
+
+from rcdoc.errors import ProjectError
+from rcdoc.analysis.assembly import SOURCE, System, _element_values, _rcond, assemble
+from rcdoc.analysis.network import Network
+
+__all__ = [
+    "ac",
+    "solve_ac",
+    "node_voltage",
+    "element_voltages",
+    "element_currents",
+    "source_current",
+    "input_impedance",
+]
+
+# Largest temporary matrix block (bytes). LAPACK's batched solve copies its
+# inputs a few times, so the working set stays near 4x this: well under 300 MB.
+_BLOCK_BYTES = 48e6
+
+
+def _freqs(freqs_hz) -> np.ndarray:
+    f = np.atleast_1d(np.asarray(freqs_hz, dtype=float))
+    if f.ndim != 1 or not np.all(np.isfinite(f)):
+        raise ProjectError("frequencies must be a 1-D array of finite numbers")
+    return f
+
+
+def _blocks(samples: int, nfreq: int, size: int) -> Iterator[tuple[slice, slice]]:
+    """Split samples × frequencies into blocks whose complex N×N matrices fit _BLOCK_BYTES."""
+    items = max(1, int(_BLOCK_BYTES // (16 * size * size)))
+    nf = max(1, min(nfreq, items))
+    ns = max(1, items // nf)
+    for s0 in range(0, samples, ns):
+        for f0 in range(0, nfreq, nf):
+            yield slice(s0, s0 + ns), slice(f0, f0 + nf)
+
+
+def _no_unique(f: np.ndarray) -> ProjectError:
+    if f.size == 1:
+        where = f"{f[0]:g} Hz"
+    else:
+        where = f"one of the frequencies {f.min():g} Hz to {f.max():g} Hz"
+    return ProjectError(
+        f"the network has no unique solution at {where} "
+        "(a node isolated by capacitors at 0 Hz, or a lossless resonance exactly on a frequency)"
+    )
+
+
+def _solutions(
+    system: System, f: np.ndarray, adjoint_of: int | None = None
+) -> Iterator[tuple[slice, slice, np.ndarray]]:
+    """Yield (samples, frequencies, X) blockwise, X of shape (s, f, N).
+
+    Forward (``adjoint_of`` None): all unknowns per 1 V of source. Adjoint
+    (``adjoint_of`` = unknown of node o): y with (G + sC)ᵀ·y = e_o and the
+    source at 0 V, so that y_a − y_b is V(o) per ampere injected into a and
+    drawn from b (reciprocity of the transposed system).
+
+    The source's node voltage is known, so the drive node and the source
+    current are eliminated before solving (a smaller system to factor); the
+    source current follows from the drive node's KCL row afterwards.
+    """
+    n_all = system.size
+    k = system.branch[SOURCE]
+    d = int(np.flatnonzero(system.G[0, k])[0])  # the source row reads V(drive) = u
+    keep = np.array([j for j in range(n_all) if j not in (d, k)], dtype=int)
+    n = keep.size
+    if adjoint_of is not None:
+        e = np.zeros(n_all)
+        e[adjoint_of] = 1.0
+        r_adj = e[keep][:, None].astype(complex)
+    for ss, fs in _blocks(system.samples, f.size, max(n, 1)):
+        w = 2 * math.pi * f[fs]
+        G, C = system.G[ss], system.C[ss]
+        X = np.zeros((G.shape[0], w.size, n_all), dtype=complex)
+        if adjoint_of is None:
+            X[..., d] = 1.0
+        if n:
+            # G + jωC, filled part by part (no complex temporaries of full size).
+            M = np.empty((G.shape[0], w.size, n, n), dtype=complex)
+            M.real[...] = G[:, None][:, :, keep[:, None], keep]
+            M.imag[...] = w[None, :, None, None] * C[:, None][:, :, keep[:, None], keep]
+            if adjoint_of is None:
+                r = -(G[:, None, keep, d] + 1j * w[None, :, None] * C[:, None, keep, d])[..., None]
+            else:
+                M = np.swapaxes(M, -1, -2)
+                r = r_adj
+            try:
+                X[..., keep] = np.linalg.solve(M, r)[..., 0]
+            except np.linalg.LinAlgError:
+                raise _no_unique(f[fs]) from None
+        if adjoint_of is None:
+            # KCL at the drive node: the source delivers what the elements draw.
+            g_row, c_row = G[:, d, :].copy(), C[:, d, :].copy()
+            g_row[:, k] = 0.0
+            c_row[:, k] = 0.0
+            X[..., k] = np.einsum("sfn,sn->sf", X, g_row) + 1j * w[None, :] * np.einsum("sfn,sn->sf", X, c_row)
+        if not np.all(np.isfinite(X)):
+            raise _no_unique(f[fs])
+        yield ss, fs, X
+
+
+# Pole-zero evaluation: the fast path of ``ac`` and ``output_noise_psd``.
+#
+# By Cramer's rule one unknown x_o of (G + sC)·x = r0 + s·r1 is
+# det(M_o(s)) / det(M(s)), where M_o is M with column o replaced by the
+# right-hand side; both are matrix pencils, linear in s. With A = G + σC for
+# a real shift σ > 0, det(G + sC) = det(A)·Π_k (1 + μ·d_k), μ = s − σ, d_k the
+# eigenvalues of K = A⁻¹C (det(I + μK) = Π(1 + μ·d_k) holds for any matrix,
+# defective or not), and likewise for M_o with eigenvalues e_k. Hence
+#   x_o(s) = x_o(σ) · Π_k (1 + μ·e_k) / Π_k (1 + μ·d_k),
+# the zero-pole-gain form of the rational transfer function: two small
+# eigenvalue problems and one real solve per sample, then O(N) array
+# operations per (sample, frequency) instead of an O(N³) factorisation.
+# Products do not cancel, so the deep stopband keeps its relative accuracy
+# (a sum of partial fractions would not). d_k = 0 are the infinite
+# eigenvalues of a descriptor system; their factor is 1. Samples where A or
+# A_o is near-singular at σ (a zero or pole on σ, or an output that does not
+# depend on the input), or where anything comes out non-finite, are solved by
+# the direct path instead.
+_PZ_RCOND = 1e-10
+# Elements of the (samples × frequencies) work arrays per block of samples.
+_PZ_ITEMS = 1 << 15
+
+
+def _shift(f: np.ndarray) -> float:
+    """σ: the geometric middle of the swept angular frequencies (near the poles of interest)."""
+    fa = np.abs(f[np.isfinite(f) & (f != 0)])
+    if fa.size == 0:
+        return 2 * math.pi
+    return 2 * math.pi * math.sqrt(float(fa.min()) * float(fa.max()))
+
+
+def _eliminated(system: System) -> tuple[int, np.ndarray]:
+    """The drive node and the unknowns left once it and the source current are eliminated."""
+    k = system.branch[SOURCE]
+    d = int(np.flatnonzero(system.G[0, k])[0])  # the source row reads V(drive) = u
+    keep = np.array([j for j in range(system.size) if j not in (d, k)], dtype=int)
+    return d, keep
+
+
+class _Pencil:
+    """Per-sample poles of the reduced pencil (kept unknowns), shared by every ratio."""
+
+    def __init__(self, system: System, f: np.ndarray):
+        self.d_node, self.keep = _eliminated(system)
+        self.sigma = _shift(f)
+        self.G = system.G[:, self.keep[:, None], self.keep]
+        self.C = system.C[:, self.keep[:, None], self.keep]
+        A = self.G + self.sigma * self.C
+        self.ok = _rcond(A) > _PZ_RCOND
+        self.A = np.where(self.ok[:, None, None], A, np.eye(self.keep.size))
+        with np.errstate(all="ignore"):
+            self.poles = np.linalg.eigvals(np.linalg.solve(self.A, self.C))
+
+    def zpk(self, o: int, r0: np.ndarray, r1: np.ndarray | None):
+        """Gain x_o(σ) (S,), zeros as eigenvalues e (S, n) and usable rows for x_o of
+        (G + sC)·x = r0 + s·r1 (r0, r1 of shape (S, n); r1 None for no s term)."""
+        n = self.keep.size
+        rhs = r0 if r1 is None else r0 + self.sigma * r1
+        x_sigma = np.linalg.solve(self.A, rhs[..., None])[..., 0][:, o]
+        Go, Co = self.G.copy(), self.C.copy()
+        Go[:, :, o] = r0
+        Co[:, :, o] = 0.0 if r1 is None else r1
+        Ao = Go + self.sigma * Co
+        ok = self.ok & (_rcond(Ao) > _PZ_RCOND)
+        Ao = np.where(ok[:, None, None], Ao, np.eye(n))
+        with np.errstate(all="ignore"):
+            zeros = np.linalg.eigvals(np.linalg.solve(Ao, Co))
+        return x_sigma, zeros, ok
+
+    def product(self, gain: np.ndarray, eig: np.ndarray, jw: np.ndarray) -> np.ndarray:
+        """gain · Π_k (1 + (jω − σ)·eig_k) for one block of samples: (s, F)."""
+        acc = np.empty((eig.shape[0], jw.size), dtype=complex)
+        acc[...] = gain[:, None]
+        fac = np.empty_like(acc)
+        for k in range(eig.shape[1]):
+            np.multiply(eig[:, k, None], jw[None, :], out=fac)
+            fac += (1.0 - self.sigma * eig[:, k])[:, None]
+            acc *= fac
+        return acc
+
+
+def _pz_blocks(samples: int, nfreq: int) -> Iterator[slice]:
+    """Sample blocks whose (samples × frequencies) work arrays stay small (cache-sized)."""
+    ns = max(1, _PZ_ITEMS // max(nfreq, 1))
+    for s0 in range(0, samples, ns):
+        yield slice(s0, s0 + ns)
+
+
+def _ac_fast(system: System, f: np.ndarray, out: int) -> np.ndarray:
+    """V(out) per 1 V of source, (S, F): pole-zero form where it is safe, direct elsewhere."""
+    pencil = _Pencil(system, f)
+    if out == pencil.d_node:
+        return np.ones((system.samples, f.size), dtype=complex)
+    o = int(np.flatnonzero(pencil.keep == out)[0])
+    d, keep = pencil.d_node, pencil.keep
+    gain, zeros, ok = pencil.zpk(o, -system.G[:, keep, d], -system.C[:, keep, d])
+    jw = 2j * math.pi * f
+    H = np.empty((system.samples, f.size), dtype=complex)
+    with np.errstate(all="ignore"):
+        for ss in _pz_blocks(system.samples, f.size):
+            H[ss] = pencil.product(gain[ss], zeros[ss], jw)
+            H[ss] /= pencil.product(np.ones(H[ss].shape[0]), pencil.poles[ss], jw)
+    ok &= np.all(np.isfinite(H), axis=1)
+    if not np.all(ok):
+        H[~ok] = _direct(system, f, ~ok, lambda X: X[..., out])
+    return H
+
+
+def _direct(system: System, f: np.ndarray, rows: np.ndarray, take, adjoint_of=None) -> np.ndarray:
+    """The direct (one factorisation per sample and frequency) path for some samples."""
+    sub = System(G=system.G[rows], C=system.C[rows], b=system.b, index=system.index,
+                 branch=system.branch)
+    out = None
+    for ss, fs, X in _solutions(sub, f, adjoint_of=adjoint_of):
+        val = take(X)
+        if out is None:
+            out = np.empty((sub.samples, f.size) + val.shape[2:], dtype=val.dtype)
+        out[ss, fs] = val
+    return out
+
+
+def solve_ac(network: Network, values: Mapping[str, np.ndarray], freqs_hz) -> np.ndarray:
+    """All unknowns (S, F, N) complex, per 1 V of source, at each frequency.
+
+    The result holds S·F·N complex numbers: ask for few frequencies when S is
+    large (``ac`` and ``output_noise_psd`` keep only what they need).
+    """
+    system = assemble(network, values)
+    f = _freqs(freqs_hz)
+    out = np.empty((system.samples, f.size, system.size), dtype=complex)
+    for ss, fs, X in _solutions(system, f):
+        out[ss, fs] = X
+    return out
+
+
+def _pick(network: Network, values, freqs_hz, unknown) -> np.ndarray:
+    system = assemble(network, values)
+    f = _freqs(freqs_hz)
+    k = unknown(system)
+    out = np.empty((system.samples, f.size), dtype=complex)
+    for ss, fs, X in _solutions(system, f):
+        out[ss, fs] = X[..., k]
+    return out
+
+
+def ac(network: Network, values: Mapping[str, np.ndarray], freqs_hz) -> np.ndarray:
+    """Transfer function V(output)/V(source), shape (S, F) complex."""
+    system = assemble(network, values)
+    f = _freqs(freqs_hz)
+    return _ac_fast(system, f, system.node(network.output))
+
+
+def source_current(network: Network, values: Mapping[str, np.ndarray], freqs_hz) -> np.ndarray:
+    """Current (A) the source delivers into the drive node per 1 V, shape (S, F) complex."""
+    return _pick(network, values, freqs_hz, lambda s: s.branch[SOURCE])
+
+
+def input_impedance(network: Network, values: Mapping[str, np.ndarray], freqs_hz) -> np.ndarray:
+    """Impedance (ohm) the source sees, V_source / I_source, shape (S, F) complex.
+
+    An input that draws no current gives an infinite impedance.
+    """
+    i = source_current(network, values, freqs_hz)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        z = 1.0 / i
+    return np.where(i == 0, complex(np.inf, 0.0), z)
+
+
+def node_voltage(sol: np.ndarray, system: System, node: str) -> np.ndarray:
+    """Voltage of ``node`` from a solution array (..., N); ground gives zeros."""
+    k = system.node(node)
+    if k is None:
+        return np.zeros_like(sol[..., 0])
+    return sol[..., k]
+
+
+def _single_frequency(network: Network, values, freq_hz: float) -> tuple[System, np.ndarray, float]:
+    system = assemble(network, values)
+    f = _freqs(freq_hz)
+    if f.size != 1:
+        raise ProjectError("one frequency expected")
+    X = np.empty((system.samples, system.size), dtype=complex)
+    for ss, _, block in _solutions(system, f):
+        X[ss] = block[:, 0]
+    return system, X, float(f[0])
+
+
+def element_voltages(network: Network, values: Mapping[str, np.ndarray], freq_hz: float) -> dict[str, np.ndarray]:
+    """V(a) − V(b) of every element per 1 V of source at one frequency: name -> (S,) complex."""
+    system, X, _ = _single_frequency(network, values, freq_hz)
+    return {
+        e.name: node_voltage(X, system, e.a) - node_voltage(X, system, e.b) for e in network.elements
+    }
+
+
+def element_currents(network: Network, values: Mapping[str, np.ndarray], freq_hz: float) -> dict[str, np.ndarray]:
+    """Current from terminal a to b of every element per 1 V of source: name -> (S,) complex.
+
+    Ohm's law V/R for resistors, sC·V for capacitors, the branch current for inductors.
+    """
+    system, X, f = _single_frequency(network, values, freq_hz)
+    vals, _ = _element_values(network, values)
+    s = 2j * math.pi * f
+    out = {}
+    for e in network.elements:
+        v = node_voltage(X, system, e.a) - node_voltage(X, system, e.b)
+        if e.kind == "R":
+            out[e.name] = v / vals[e.name]
+        elif e.kind == "C":
+            out[e.name] = s * vals[e.name] * v
+        else:
+            out[e.name] = X[:, system.branch[e.name]]
+    return out
