@@ -109,7 +109,7 @@ def row(section: str, what: str, value: str) -> None:
 # ---- rcdoc's entry points: one import each, at the top of a small function ----
 
 def load(path: Path, samples: int | None = None):
-    from rcdoc.input.project import load_project
+    from rcdoc.kinds import load_project
     return load_project(path, samples=samples)
 
 
@@ -121,11 +121,12 @@ def mc_values(stage, analysis) -> dict[str, np.ndarray]:
 
 def stage_setup(stage, analysis):
     """Network, passband, characteristic frequency and sweep, as analyse_stage picks them."""
-    from rcdoc.analysis.analyse import kind_of, passband_of
+    from rcdoc.analysis.analyse import passband_of
     from rcdoc.analysis.evaluate import sweep_for
+    from rcdoc.kinds import kind_of
     kind = kind_of(stage)
     char = kind.characteristic_hz(stage)
-    return kind.build(stage), passband_of(stage), char, sweep_for(char, analysis)
+    return kind.build(stage), passband_of(stage, kind), char, sweep_for(char, analysis)
 
 
 def rcdoc_sweep_corner(stage, network, values, freqs, passband, char, chunk=4000):

@@ -18,7 +18,7 @@ from rcdoc.analysis import results as resmod
 from rcdoc.analysis.results import (LegacyKindResult, MetricResult, SettlingBand, StageResult,
                                     Waveform)
 from rcdoc.commands.build import analyse_project
-from rcdoc.input.project import load_project
+from rcdoc.kinds import load_project
 from rcdoc.note.summary import summary
 
 ROOT = Path(__file__).resolve().parent.parent
