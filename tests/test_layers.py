@@ -28,7 +28,6 @@ PENDING: set[tuple[str, str]] = set()
 # context). Each entry is a ring's set of modules; emptied after those land.
 PENDING_CYCLES = {
     frozenset({"rcdoc.note.assemble", "rcdoc.note.report"}),
-    frozenset({"rcdoc.note.machine", "rcdoc.note.summary"}),
 }
 
 

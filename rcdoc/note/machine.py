@@ -22,6 +22,7 @@ from pathlib import Path
 from rcdoc.errors import ProjectError
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.positions import check_line, rating_line
+from rcdoc.input.quantities import distinct_digits, format_quantity
 
 __all__ = ["margin", "check_label", "check_extras", "annotation_lines", "escape_data",
            "escape_property", "json_targets"]
@@ -81,7 +82,6 @@ def escape_property(text: str) -> str:
 
 def annotation_lines(project, results, lines: dict[str, int]) -> list[str]:
     """One ``::error`` line per failed check or rating of one project."""
-    from rcdoc.note.summary import describe_verdict
     out = []
     for r in results:
         extras = check_extras(r, lines)
@@ -123,3 +123,21 @@ def json_targets(target: str, files: list[str]) -> list[Path]:
         seen[stem] = f
         out.append(t / f"{stem}.json")
     return out
+
+def describe_verdict(v) -> str:
+    """A failed check in one line (JUnit, CI annotations); the worst value and the
+    limit get enough digits to read differently when they differ."""
+    m = METRICS[v.metric]
+    unit = m.unit
+    d = distinct_digits([v.worst, v.min, v.max], unit, m.digits, resolution=m.resolution)
+
+    def q(x):
+        return format_quantity(x, unit, d, resolution=m.resolution, stress=m.stress)
+    lim = []
+    if v.min is not None:
+        lim.append(f"min {q(v.min)}")
+    if v.max is not None:
+        lim.append(f"max {q(v.max)}")
+    worst = q(v.worst) if math.isfinite(v.worst) else "not found"
+    return (f"{' '.join(lim)}; worst {worst}; yield {v.yield_ * 100:.2f} % "
+            f"(required {v.required_yield * 100:g} %)")

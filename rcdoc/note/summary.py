@@ -16,7 +16,8 @@ from rcdoc import __version__
 from rcdoc.analysis.analyse import StageResult
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Project
-from rcdoc.input.quantities import PART_UNITS, distinct_digits, format_quantity
+from rcdoc.input.quantities import PART_UNITS, format_quantity
+from rcdoc.note.machine import check_extras, describe_verdict  # noqa: F401 - part of this module's interface
 
 def _num(x) -> float | None:
     if x is None:
@@ -76,7 +77,6 @@ def part_entry(row) -> dict:
 
 
 def summary(project: Project, results: list[StageResult]) -> dict:
-    from rcdoc.note.machine import check_extras
     from rcdoc.input.positions import project_lines
     a = project.analysis
     lines = project_lines(project)     # each check's line in the file (rcdoc.input.positions)
@@ -113,24 +113,6 @@ def to_json(data: dict) -> str:
     return json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
 
 
-def describe_verdict(v) -> str:
-    """A failed check in one line (JUnit, CI annotations); the worst value and the
-    limit get enough digits to read differently when they differ."""
-    m = METRICS[v.metric]
-    unit = m.unit
-    d = distinct_digits([v.worst, v.min, v.max], unit, m.digits, resolution=m.resolution)
-
-    def q(x):
-        return format_quantity(x, unit, d, resolution=m.resolution, stress=m.stress)
-    lim = []
-    if v.min is not None:
-        lim.append(f"min {q(v.min)}")
-    if v.max is not None:
-        lim.append(f"max {q(v.max)}")
-    worst = q(v.worst) if math.isfinite(v.worst) else "not found"
-    return (f"{' '.join(lim)}; worst {worst}; yield {v.yield_ * 100:.2f} % "
-            f"(required {v.required_yield * 100:g} %)")
-
 
 def case_name(v) -> str:
     name = v.metric
@@ -151,7 +133,6 @@ def junit(projects: list[tuple[Project, list[StageResult]]], seconds=None) -> st
     (one {stage id: analysis seconds} per project; 0 for a stage from the
     cache) gives each case its stage's time shared evenly over its cases.
     """
-    from rcdoc.note.machine import check_extras
     from rcdoc.input.positions import project_lines
     seconds = list(seconds) if seconds is not None else [{} for _ in projects]
     lines = ['<?xml version="1.0" encoding="UTF-8"?>']
