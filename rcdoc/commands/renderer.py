@@ -66,6 +66,11 @@ def require_renderer() -> list[str]:
             import rcdoc.note.report  # noqa: F401 - the note layer's import of weasyprint
     except OSError as exc:
         raise ProjectError(library_message(exc)) from None
+    except ImportError as exc:
+        if not (exc.name or "").startswith("weasyprint"):
+            raise
+        raise ProjectError("the PDF renderer (the weasyprint package) is not installed; "
+                           "python3 -m pip install weasyprint") from None
     from weasyprint.text import ffi
     if _font_count(ffi) == 0:
         raise ProjectError("the PDF renderer finds no font; on Debian or Ubuntu: "
