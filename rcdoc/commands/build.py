@@ -19,6 +19,7 @@ What it must not do: compute physics, draw, or format; it orchestrates.
 
 from __future__ import annotations
 
+import contextlib
 import multiprocessing
 import os
 import sys
@@ -143,6 +144,39 @@ def _pool_context(draw: bool):
     return multiprocessing.get_context("spawn")
 
 
+class WorkerPool:
+    """One pool of worker processes for a whole command, shared by every project
+    file it is given (``rcdoc build boards/*.toml``): the workers, and the
+    modules they preload, start once, not once a board. Started at the first
+    unit of work that needs one, so a command the cache answers starts none.
+    Use it as a context manager; ``draw`` says whether workers preload the
+    note's drawing modules (build), or never load them (check)."""
+
+    def __init__(self, jobs: int, *, draw: bool):
+        self.jobs = max(1, int(jobs or 1))
+        self.draw = draw
+        self._pool: ProcessPoolExecutor | None = None
+
+    def executor(self) -> ProcessPoolExecutor:
+        if self._pool is None:
+            self._pool = ProcessPoolExecutor(max_workers=self.jobs,
+                                             mp_context=_pool_context(self.draw),
+                                             initializer=_worker_init)
+        return self._pool
+
+    def __enter__(self) -> "WorkerPool":
+        return self
+
+    def __exit__(self, kind, exc, tb) -> None:
+        if self._pool is None:
+            return
+        if kind is not None and issubclass(kind, KeyboardInterrupt):
+            _stop_workers(self._pool)      # do not wait for stages still running
+        else:
+            self._pool.shutdown(wait=True, cancel_futures=kind is not None)
+        self._pool = None
+
+
 def _part_keys(project: Project, template_dirs, keys=None) -> list[str]:
     """The key each stage's part of the note must carry (rcdoc.note.assemble.chunk_key)."""
     from rcdoc.note.assemble import chunk_key
@@ -156,7 +190,8 @@ def _part_keys(project: Project, template_dirs, keys=None) -> list[str]:
 def analyse_project(project: Project, *, progress: Callable[[str], None] | None = None,
                     jobs: int = 1, draw: bool = False, out_dir: Path | None = None,
                     template_dirs=(),
-                    on_done: Callable[[str, float | None], None] | None = None) -> Outcome:
+                    on_done: Callable[[str, float | None], None] | None = None,
+                    pool: WorkerPool | None = None) -> Outcome:
     """Analyse every stage; with ``draw`` also make each stage's note blocks.
 
     ``jobs`` > 1 runs stages in that many worker processes, which (with
@@ -165,6 +200,8 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
     ``out_dir/.rcdoc-cache``; without ``draw`` (check, diff) only the analysis
     half of an entry is read and filed, and a later build draws what it lacks.
     ``on_done(stage_id, seconds)`` is called as each stage is done (seconds None: cached).
+    ``pool`` (a WorkerPool) is the command's pool, shared with its other project
+    files; without it, a pool is started for this project and ended with it.
     """
     stages = list(project.stages)
     n = len(stages)
@@ -201,8 +238,10 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
         for i in todraw:
             contexts[i], parts[i] = _draw_unit(results[i], project)
     else:
-        _run_pool(workers, project, draw, (todo, redo, todraw), part_jobs, progress, settle,
-                  results, contexts, parts)
+        with contextlib.ExitStack() as stack:    # a pool of its own ends with this project
+            shared = pool or stack.enter_context(WorkerPool(workers, draw=draw))
+            _run_pool(shared, project, draw, (todo, redo, todraw), part_jobs, progress, settle,
+                      results, contexts, parts)
 
     def file_entries():
         for i in range(n):
@@ -257,35 +296,33 @@ def _part_jobs(project: Project, template_dirs, keys, todo, todraw, parts):
     return part_jobs, redo
 
 
-def _run_pool(workers, project, draw, work, part_jobs, progress, settle, results, contexts,
-              parts) -> None:
+def _run_pool(shared: WorkerPool, project, draw, work, part_jobs, progress, settle, results,
+              contexts, parts) -> None:
     """Run the units of work (stages to analyse, parts to redo, cached stages to
     draw) in a pool of worker processes; results are taken in stage order."""
     todo, redo, todraw = work
     stages = project.stages
-    with ProcessPoolExecutor(max_workers=workers, mp_context=_pool_context(draw),
-                             initializer=_worker_init) as pool:
-        futures = {}
-        for i in todo:
-            if progress:
-                progress(stages[i].id)
-            futures[i] = pool.submit(_stage_unit, stages[i], project, draw, part_jobs[i])
-        redone = {i: pool.submit(_part_unit, contexts[i], part_jobs[i]) for i in redo}
-        drawn = {i: pool.submit(_draw_unit, results[i], project, part_jobs[i])
-                 for i in todraw}
-        try:
-            for i in todo:              # in stage order: the first error is the first stage's
-                settle(i, futures[i].result())
-            for i in redo:
-                parts[i] = redone[i].result()
-            for i in todraw:
-                contexts[i], parts[i] = drawn[i].result()
-        except BaseException as exc:
-            for f in (*futures.values(), *redone.values(), *drawn.values()):
-                f.cancel()
-            if isinstance(exc, KeyboardInterrupt):
-                _stop_workers(pool)      # do not wait for stages still running
-            raise
+    pool = shared.executor()
+    futures = {}
+    for i in todo:
+        if progress:
+            progress(stages[i].id)
+        futures[i] = pool.submit(_stage_unit, stages[i], project, draw, part_jobs[i])
+    redone = {i: pool.submit(_part_unit, contexts[i], part_jobs[i]) for i in redo}
+    drawn = {i: pool.submit(_draw_unit, results[i], project, part_jobs[i])
+             for i in todraw}
+    try:
+        for i in todo:              # in stage order: the first error is the first stage's
+            settle(i, futures[i].result())
+        for i in redo:
+            parts[i] = redone[i].result()
+        for i in todraw:
+            contexts[i], parts[i] = drawn[i].result()
+    except BaseException:
+        # Ctrl-C ends the running workers too, in WorkerPool.__exit__.
+        for f in (*futures.values(), *redone.values(), *drawn.values()):
+            f.cancel()
+        raise
 
 
 def output_dir(project_file: str, out: str | None) -> Path:

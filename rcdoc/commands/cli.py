@@ -110,8 +110,7 @@ def _jobs(args) -> int:
 
 
 def cmd_build(args) -> int:
-    from rcdoc.commands.build import load_all, output_dir, write_outputs
-    from rcdoc.commands.terminal import print_outcome
+    from rcdoc.commands.build import WorkerPool, load_all
     template_dirs = []
     if args.templates:
         tdir = Path(args.templates)
@@ -127,25 +126,36 @@ def cmd_build(args) -> int:
                            file=str(args.output))
     projects = load_all(args.files, samples=args.samples, seed=args.seed)
     _check_distinct_outputs(projects, args.output)
-    olds = []
+    from rcdoc.commands.renderer import require_renderer
+    for notice in require_renderer():   # a missing system library: one line, before any work
+        if not args.quiet:
+            print(f"rcdoc: note: {notice}", file=sys.stderr)
+    olds, commits = [], []
     if args.since:               # read every old revision before anything is written
         from rcdoc.commands.diff import read_at_revision
         from rcdoc.commands.since import resolve_commit
         commits = [resolve_commit(p.file, args.since) for p in projects]
         olds = [read_at_revision(p.file, args.since, samples=args.samples, seed=args.seed)
                 for p in projects]
+    with WorkerPool(_jobs(args), draw=True) as pool:     # one pool for every file
+        return _build_all(args, projects, olds, commits, template_dirs, pool)
+
+
+def _build_all(args, projects, olds, commits, template_dirs, pool) -> int:
+    from rcdoc.commands.build import output_dir, write_outputs
+    from rcdoc.commands.terminal import print_outcome
     worst = EXIT_OK
     for k, project in enumerate(projects):
         out_dir = output_dir(project.file, args.output)
         # Stages are analysed and drawn together (in --jobs processes), cached in out_dir.
         outcome = _analyse(project, args, draw=True, out_dir=out_dir,
-                           template_dirs=template_dirs)
+                           template_dirs=template_dirs, pool=pool)
         extra = []
         changes = None           # right after the summary, named on the cover
         if args.since:
             from rcdoc.commands.diff import compare
             from rcdoc.commands.since import changes_section
-            old = _analyse(olds[k], args)
+            old = _analyse(olds[k], args, pool=pool)
             changes = changes_section(compare(olds[k], old.results, project, outcome.results,
                                               old_label=f"git:{commits[k].short}"), commits[k])
         try:
@@ -178,7 +188,7 @@ def _check_distinct_outputs(projects, output) -> None:
 
 
 def cmd_check(args) -> int:
-    from rcdoc.commands.build import load_all, output_dir
+    from rcdoc.commands.build import WorkerPool, load_all, output_dir
     from rcdoc.commands.terminal import print_outcome
     from rcdoc.files import write_atomic
     from rcdoc.note.summary import junit
@@ -187,12 +197,14 @@ def cmd_check(args) -> int:
         from rcdoc.note.machine import json_targets
         json_paths = json_targets(args.json, [p.file for p in projects])
     outcomes = []
-    for project in projects:
-        # The analysis half of build's cache: a check after a build analyses nothing.
-        outcome = _analyse(project, args, out_dir=output_dir(project.file, args.output))
-        outcomes.append(outcome)
-        if not args.quiet:
-            print_outcome(outcome)
+    with WorkerPool(_jobs(args), draw=False) as pool:     # one pool for every file
+        for project in projects:
+            # The analysis half of build's cache: a check after a build analyses nothing.
+            outcome = _analyse(project, args, out_dir=output_dir(project.file, args.output),
+                               pool=pool)
+            outcomes.append(outcome)
+            if not args.quiet:
+                print_outcome(outcome)
     if args.junit:
         try:
             write_atomic(Path(args.junit),
