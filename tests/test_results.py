@@ -141,9 +141,9 @@ def test_results_are_frozen(example):
 
 def test_settling_band_travels_typed(example):
     _, results = example
-    # The example checks settling to 12 bits (of the step) and within 1 %.
+    # The example checks settling to 12 bits of a 3.3 V full scale, and reports within 1 %.
     bands = {m.param for r in results for m in r.metrics if m.name == "settling"}
-    assert SettlingBand(bits=12) in bands and SettlingBand(within=0.01) in bands
+    assert SettlingBand(bits=12, full_scale_v=3.3) in bands and SettlingBand(within=0.01) in bands
     for r in results:
         for m in r.metrics:
             assert (m.param is None) == (m.name != "settling")
