@@ -109,6 +109,14 @@ METRICS: dict[str, Metric] = dict([
     _m("resistor_power", "W", "W", "Resistor power", "Resistor power",
        "snubbers: average dissipation in the snubber resistor at the switching frequency",
        kinds=_SNUB, resolution=1e-12, stress=True),
+    _m("resistor_surge", "W", "W", "Resistor surge power", "Resistor surge",
+       "largest instantaneous power in any resistor, at the drive's edge: V²·R/(R + Rs)² "
+       "for a resistor in series with the source", params=("drive",), kinds=(DRIVEN, "snubber"),
+       resolution=1e-12, stress=True),
+    _m("resistor_edge_energy", "J", "J", "Resistor energy per edge", "Resistor energy",
+       "largest energy any resistor dissipates per drive edge (after a step, per PWM "
+       "phase) or per switch opening; a full charge of C through R takes ½·C·V²",
+       params=("drive",), kinds=(DRIVEN, "snubber"), resolution=1e-15, stress=True),
     _m("parasitic_c", "F", "F", "Parasitic capacitance", "Parasitic C",
        "snubbers: capacitance of the ringing node, given or from the two ringing "
        "measurements", kinds=_SNUB),

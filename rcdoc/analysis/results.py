@@ -234,6 +234,7 @@ class PartStress:
     metric: str
     nominal: float
     worst: float
+    pulse: tuple["PartStress", ...] = ()   # a resistor's surge power and energy per edge
 
 
 @dataclass(frozen=True)

@@ -38,7 +38,8 @@ PASSBAND = "low"
 TITLE = "Snubber"
 ROLES = ("r", "c")
 METRIC_NAMES = ("damping", "overshoot", "resistor_power", "capacitor_voltage", "parasitic_c",
-                "parasitic_l", "characteristic_impedance", "ring_frequency")
+                "parasitic_l", "characteristic_impedance", "ring_frequency", "resistor_surge",
+                "resistor_edge_energy")
 HEADLINE = METRIC_NAMES
 ACROSS = ("switch", "inductive-load")
 SWITCH_ONLY = ("ringing", "parasitic")
@@ -319,7 +320,10 @@ def analyse(stage, analysis):
                                lo=c.min, hi=c.max, required_yield=c.required_yield)
                 for c in stage.checks]
     ratings = []
-    for role, metric, rating in (("r", "resistor_power", stage.parts["r"].power_rating_w),
+    r_part = stage.parts["r"]
+    for role, metric, rating in (("r", "resistor_power", r_part.power_rating_w),
+                                 ("r", "resistor_surge", r_part.pulse_power_w),
+                                 ("r", "resistor_edge_energy", r_part.pulse_energy_j),
                                  ("c", "capacitor_voltage", stage.parts["c"].voltage_rating_v)):
         if rating is not None:
             m = by_name[metric]
