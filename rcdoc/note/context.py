@@ -20,22 +20,6 @@ from rcdoc.input.quantities import (NOTE_MINUS, PART_UNITS, distinct_digits, for
                                     parse_quantity)
 from rcdoc.kinds import KINDS
 
-SAFETY_ITEMS = (
-    "Hazardous voltage: this stage works at a voltage that can injure or kill. Only "
-    "people qualified for such work should build, probe or repair it.",
-    "Stored energy: capacitors can hold a dangerous charge after the power is removed. "
-    "Disconnect the supply, discharge them through a suitable resistor and confirm with a "
-    "meter before touching the circuit.",
-    "Capacitors connected across a supply line must be types rated for that use (safety-"
-    "rated classes for mains), at the working voltage and its transients.",
-    "Keep the creepage and clearance distances that the applicable standard requires for "
-    "the working voltage, pollution degree and insulation class.",
-    "These calculations support a design review; they do not replace the local electrical "
-    "codes, the product safety standards that apply, or the judgement of a licensed "
-    "professional.",
-)
-
-
 def fq(value, unit: str, digits: int = 3, metric: str | None = None) -> str:
     """A number for the note: the one formatter, U+2212 minus; with ``metric``,
     that metric's resolution and digits from the registry."""
