@@ -32,8 +32,8 @@ def fq(value, unit: str, digits: int = 3, metric: str | None = None) -> str:
                            resolution=m.resolution, stress=m.stress)
 
 
-def metric_label(m_name: str, at_hz=None, detail: str = "") -> str:
-    label = METRICS[m_name].label
+def metric_label(m_name: str, at_hz=None, detail: str = "", label: str = "") -> str:
+    label = label or METRICS[m_name].label
     if at_hz is not None:
         label += f" at {fq(at_hz, 'Hz')}"
     if detail and detail != "rating":
@@ -167,7 +167,8 @@ def metrics_table(r: StageResult) -> dict:
         else:
             lo = hi = mean = std = math.nan
         missing = m.samples.size - s.size
-        rows.append([metric_label(m.name, m.at_hz, m.detail), fq(m.nominal, unit), fq(lo, unit),
+        rows.append([metric_label(m.name, m.at_hz, m.detail, m.label), fq(m.nominal, unit),
+                     fq(lo, unit),
                      fq(hi, unit), fq(mean, unit), fq(std, unit)
                      if unit not in ("dB", "deg") or not math.isfinite(std)
                      else f"{std:.3g} {'dB' if unit == 'dB' else '°'}",
@@ -209,7 +210,7 @@ def sensitivity_table(r: StageResult) -> dict | None:
                 cells.append(f"{s:+.3f}")
         rows.append(cells)
     return {"type": "table", "title": "What drives the spread",
-            "columns": ["Part", "Tolerance"] + [metric_label(m.name, m.at_hz, m.detail)
+            "columns": ["Part", "Tolerance"] + [metric_label(m.name, m.at_hz, m.detail, m.label)
                                                 for m in chosen],
             "rows": rows,
             "note": "Sensitivity: relative change of the metric per relative change of the "

@@ -155,10 +155,10 @@ def histogram_figures(r: StageResult) -> list[dict]:
         if s.size < 2:
             continue
         unit = METRICS[m.name].unit
+        label = metric_label(m.name, m.at_hz, m.detail, m.label)
         svg = charts_time.histogram(f"{r.stage.id}-hist-{len(out)}", s, nominal=m.nominal,
-                               lo=v.min, hi=v.max, label=metric_label(m.name, m.at_hz, m.detail),
-                               unit=unit, fmt="png")
-        out.append({"type": "figure", "title": f"Distribution: {metric_label(m.name, m.at_hz, m.detail)}",
+                                    lo=v.min, hi=v.max, label=label, unit=unit, fmt="png")
+        out.append({"type": "figure", "title": f"Distribution: {label}",
                     "image": svg, "width": "half",
                     "caption": f"{s.size} samples; shaded: outside the limits."})
     return out
