@@ -146,6 +146,7 @@ class _Gathered:
     wave_env: dict = None
     cap_peaks: dict = field(default_factory=dict)
     res_powers: dict = field(default_factory=dict)
+    res_pulses: dict = field(default_factory=dict)     # role -> [(surge, energy) per chunk]
     unstable: list = field(default_factory=list)
     h_nominal: np.ndarray = None
     nominal_ev: Evaluator = None
@@ -176,6 +177,8 @@ def _gather(s: _Setup) -> _Gathered:
                 g.cap_peaks.setdefault(role, []).append(pk)
             for role, pw in ev.resistor_powers().items():
                 g.res_powers.setdefault(role, []).append(pw)
+            for role, (surge, energy) in ev.resistor_pulses().items():
+                g.res_pulses.setdefault(role, []).append((surge, energy))
         if start == 0:
             g.h_nominal = ev.h[0].copy()
             g.nominal_ev = ev
@@ -304,11 +307,13 @@ def analyse_network(stage: Stage, analysis: Analysis, kind,
     return StageResult(stage=stage, network=s.network, passband=s.passband, char_hz=s.char_hz,
                        freqs_hz=s.freqs, h_nominal=g.h_nominal, band=band, metrics=metrics,
                        verdicts=verdicts_for(stage, metrics),
-                       ratings=_ratings(stage, batch, g.cap_peaks, g.res_powers),
+                       ratings=_ratings(stage, batch, g.cap_peaks, g.res_powers)
+                       + _pulse_ratings(stage, batch, g.res_pulses),
                        phasors=phasors, step=step, pwm=pwm,
                        parts=part_rows(stage, analysis),
                        assumptions=assumptions_of(stage, analysis), samples=batch.samples,
-                       stresses=part_stresses(stage, batch, g.cap_peaks, g.res_powers),
+                       stresses=part_stresses(stage, batch, g.cap_peaks, g.res_powers,
+                                              g.res_pulses),
                        samples_unstable=int(unstable_rows[batch.mc].sum()),
                        unstable_poles=offending)
 
@@ -391,6 +396,29 @@ def _ratings(stage, batch, cap_peaks, res_powers) -> list[checkmod.Verdict]:
     return out
 
 
+def _pulses(chunks: list) -> tuple[np.ndarray, np.ndarray]:
+    """A resistor's (surge power, energy per edge) over every row, from its chunks."""
+    return (np.concatenate([c[0] for c in chunks]), np.concatenate([c[1] for c in chunks]))
+
+
+def _pulse_ratings(stage, batch, res_pulses) -> list[checkmod.Verdict]:
+    """A resistor's pulse rating: energy per pulse judges the energy per edge, a peak
+    power the surge at the edge."""
+    out = []
+    for role, part in stage.parts.items():
+        if part.kind != "R" or role not in res_pulses:
+            continue
+        surge, energy = _pulses(res_pulses[role])
+        for metric, arr, rating in (("resistor_surge", surge, part.pulse_power_w),
+                                    ("resistor_edge_energy", energy, part.pulse_energy_j)):
+            if rating is not None:
+                out.append(checkmod.judge(
+                    metric, arr[batch.mc], nominal=float(arr[0]),
+                    wc=(float(arr[batch.vertex].min()), float(arr[batch.vertex].max())),
+                    lo=None, hi=rating, part=part.ref or role, detail="rating"))
+    return out
+
+
 def part_rows(stage: Stage, analysis: Analysis) -> tuple[PartRow, ...]:
     """The parts table of a stage: values, extremes and preferred series."""
     from rcdoc.input.preferred import preferred_series, series_for_tolerance
@@ -416,10 +444,13 @@ _part_rows = part_rows                   # names the kinds with their own analys
 _assumptions = assumptions_of
 
 
-def part_stresses(stage, batch, cap_peaks: dict, res_powers: dict) -> dict[str, PartStress]:
+def part_stresses(stage, batch, cap_peaks: dict, res_powers: dict,
+                  res_pulses: dict | None = None) -> dict[str, PartStress]:
     """Per part role: the stress metric, its nominal and its worst (highest) Monte
-    Carlo value; from the arrays the analysis gathered per chunk of rows."""
+    Carlo value; from the arrays the analysis gathered per chunk of rows. A
+    resistor's surge power and energy per edge ride along as its ``pulse``."""
     out = {}
+    res_pulses = res_pulses or {}
     for role, part in stage.parts.items():
         if part.kind == "C" and role in cap_peaks:
             arr = np.concatenate(cap_peaks[role])
@@ -429,8 +460,13 @@ def part_stresses(stage, batch, cap_peaks: dict, res_powers: dict) -> dict[str, 
             arr = np.concatenate(res_powers[role])
         else:
             continue
+        pulse = ()
+        if part.kind == "R" and role in res_pulses:
+            pulse = tuple(PartStress(metric=m, nominal=float(x[0]), worst=_highest(x[batch.mc]))
+                          for m, x in zip(("resistor_surge", "resistor_edge_energy"),
+                                          _pulses(res_pulses[role])))
         out[role] = PartStress(metric=_STRESS[part.kind], nominal=float(arr[0]),
-                               worst=_highest(arr[batch.mc]))
+                               worst=_highest(arr[batch.mc]), pulse=pulse)
     return out
 
 

@@ -434,6 +434,61 @@ class Evaluator:
                 out[role] = v[:, -1] ** 2 / r[:, 0]
         return out
 
+    def resistor_pulses(self) -> dict[str, tuple[np.ndarray, np.ndarray]]:
+        """Per resistor (surge power, energy per edge). The surge is the largest
+        instantaneous v²/R just after an edge: V²·R/(R + Rs)² for a resistor in
+        series with the source. The energy is ∫v²/R dt after a step (to the end of
+        the settling window), or over the longer of the two PWM phases in steady
+        state; a full charge of C through R alone takes ½·C·V² (textbook). A row
+        whose fastest pole the time grid does not resolve (|p|·Δt > 0.5) has no
+        value (NaN): its edge happens between two instants."""
+        out = {}
+        probes = self.drive_probes
+        if probes is None:
+            return out
+        d = self.stage.drive
+        t = self.pwm_time_s if d.kind == "pwm" else self.time_s
+        dt = t[1] - t[0]
+        fastest = np.nanmax(np.abs(self.poles.real), axis=1, initial=0.0)
+        unresolved = fastest * dt > 0.5
+        # Sample n shows the state at t_n with the input held over the interval
+        # before it, so an edge's first instant is never a sample: after a step
+        # (sample 0 is the state at rest) and after each PWM edge it is
+        # extrapolated from the three samples that follow (quadratic, error of
+        # order (|p|·Δt)³).
+        k = int(np.sum(t < d.duty / d.frequency_hz)) if d.kind == "pwm" else 0
+        for role, part in self.stage.parts.items():
+            if part.kind != "R":
+                continue
+            v = probes[f"v:{role}"]
+            r = self.values[role][:, None]
+            if d.kind != "pwm":
+                phases = [v[:, 1:]]
+            else:                     # high: samples 1..k; low: k+1..N-1 then 0 (= T)
+                phases = [v[:, 1:k + 1], np.concatenate([v[:, k + 1:], v[:, :1]], axis=1)]
+            surge, energy = np.zeros(self.rows), np.zeros(self.rows)
+            for w in phases:
+                if w.shape[1] < 3:
+                    continue
+                edge = 3 * w[:, :1] - 3 * w[:, 1:2] + w[:, 2:3]
+                pw = np.concatenate([edge, w], axis=1) ** 2 / r
+                surge = np.maximum(surge, pw.max(axis=1))
+                energy = np.maximum(energy, np.trapezoid(pw, dx=dt, axis=1))
+            out[role] = (np.where(unresolved, np.nan, surge), np.where(unresolved, np.nan, energy))
+        return out
+
+    def resistor_surge(self) -> np.ndarray:
+        pulses = self.resistor_pulses()
+        if not pulses:
+            return np.zeros(self.rows)
+        return np.max(np.stack([s for s, _ in pulses.values()]), axis=0)
+
+    def resistor_edge_energy(self) -> np.ndarray:
+        pulses = self.resistor_pulses()
+        if not pulses:
+            return np.zeros(self.rows)
+        return np.max(np.stack([e for _, e in pulses.values()]), axis=0)
+
     def capacitor_voltage(self) -> np.ndarray:
         peaks = self.capacitor_peaks()
         if not peaks:

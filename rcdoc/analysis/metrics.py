@@ -109,15 +109,25 @@ METRICS: dict[str, Metric] = dict([
     _m("resistor_power", "W", "W", "Resistor power", "Resistor power",
        "snubbers: average dissipation in the snubber resistor at the switching frequency",
        kinds=_SNUB, resolution=1e-12, stress=True),
+    _m("resistor_surge", "W", "W", "Resistor surge power", "Resistor surge",
+       "largest instantaneous power in any resistor, at the drive's edge: V²·R/(R + Rs)² "
+       "for a resistor in series with the source", params=("drive",), kinds=(DRIVEN, "snubber"),
+       resolution=1e-12, stress=True),
+    _m("resistor_edge_energy", "J", "J", "Resistor energy per edge", "Resistor energy",
+       "largest energy any resistor dissipates per drive edge (after a step, per PWM "
+       "phase) or per switch opening; a full charge of C through R takes ½·C·V²",
+       params=("drive",), kinds=(DRIVEN, "snubber"), resolution=1e-15, stress=True),
     _m("parasitic_c", "F", "F", "Parasitic capacitance", "Parasitic C",
        "snubbers: capacitance of the ringing node, given or from the two ringing "
-       "measurements", kinds=_SNUB),
+       "measurements; across an inductive load the stray capacitance across the contact", kinds=_SNUB),
     _m("parasitic_l", "H", "H", "Loop inductance", "Loop L",
-       "snubbers: inductance of the ringing loop, from f = 1/(2π√(LC))", kinds=_SNUB),
+       "snubbers: inductance of the ringing loop, from f = 1/(2π√(LC)); across an "
+       "inductive load the coil inductance", kinds=_SNUB),
     _m("characteristic_impedance", "ohm", "ohm", "Characteristic impedance Z0", "Z0",
        "snubbers: √(L/C) of the ringing loop", kinds=_SNUB),
     _m("ring_frequency", "Hz", "Hz", "Ringing frequency", "Ring frequency",
-       "snubbers: ringing frequency without the snubber", kinds=_SNUB),
+       "snubbers: ringing frequency without the snubber; across an inductive load the "
+       "ring after the contact opens", kinds=_SNUB),
     _m("press_delay", "s", "s", "Press delay", "Press delay",
        "debounce: from the contact closing until the input crosses its threshold",
        kinds=_DEB),

@@ -130,6 +130,8 @@ class MetricResult(_ReadOnlyAgain):
     worst_case_method: str               # how the worst-case range was found
     sensitivity: Mapping[str, float]     # part role -> sensitivity
     missing: int = -1                    # samples with no value (NaN); computed when -1
+    label: str = ""                      # the stage's own name where the registry's would
+    #                                      mislead (an inductive load's coil, not a loop)
 
     def __post_init__(self):
         object.__setattr__(self, "samples", _frozen(np.asarray(self.samples, dtype=float)))
@@ -234,6 +236,7 @@ class PartStress:
     metric: str
     nominal: float
     worst: float
+    pulse: tuple["PartStress", ...] = ()   # a resistor's surge power and energy per edge
 
 
 @dataclass(frozen=True)

@@ -387,6 +387,10 @@ def switch_run(v: float, fsw: float, lp: float, cp: float, rp: float, values, ro
     y_wo = switch_wave(bare, v, t_wo, False)[0]
     arrays = {"damping": zeta, "overshoot": edge["overshoot"], "resistor_power": edge["power"],
               "capacitor_voltage": edge["cap_peak"], "parasitic_c": _const(rows, cp),
+              # The resistor per edge: the opening's ring, or the closing's discharge of
+              # C from V through R (½·C·V², surge V²/R at the closing instant).
+              "resistor_edge_energy": np.maximum(edge["e_off"], edge["e_on"]),
+              "resistor_surge": v ** 2 / np.asarray(values["r"], dtype=float),
               "parasitic_l": _const(rows, lp), "characteristic_impedance": _const(rows, z0),
               "ring_frequency": _const(rows, f_ring)}
     q = {"v": v, "fsw": fsw, "lp": lp, "cp": cp, "rp": rp, "z0": z0, "f_ring": f_ring,
@@ -428,6 +432,10 @@ def load_run(v: float, fsw: float, ac: bool, line: float, ll: float, rc: float, 
     cap = np.maximum(np.maximum(kick["cap_peak"], vpk), leak["cap_peak"] if ac else 0.0)
     arrays = {"damping": zeta, "overshoot": kick["peak"] - vpk, "resistor_power": power,
               "capacitor_voltage": cap, "parasitic_c": _const(rows, stray),
+              "resistor_edge_energy": np.maximum(kick["e_open"], e_close),
+              # Surge: the interrupted current enters R at the opening (i²·R); the
+              # charged C discharges through R at the closing (V²/R).
+              "resistor_surge": np.maximum(vpk * i_close, i_a ** 2 * r_all),
               "parasitic_l": _const(rows, ll), "characteristic_impedance": _const(rows, z0),
               "ring_frequency": _const(rows, f_ring)}
     q = {"i_a": i_a, "f_ring": f_ring, "z0": z0, "zeta": zeta, "zeta_wo": zeta_wo,

@@ -26,7 +26,8 @@ from rcdoc.input.quantities import PART_UNITS, format_quantity
 # number is not among them: a second source with the same data is identical).
 _SAME = (("value", "value"), ("tol_plus", "tolerance"), ("tol_minus", "tolerance"),
          ("tcr_ppm", "tcr"), ("dielectric", "dielectric"), ("dc_bias", "dc_bias"),
-         ("bias_v", "bias"), ("voltage_rating_v", "voltage"), ("power_rating_w", "power"))
+         ("bias_v", "bias"), ("voltage_rating_v", "voltage"), ("power_rating_w", "power"),
+         ("pulse_energy_j", "pulse"), ("pulse_power_w", "pulse"))
 _UNITS = PART_UNITS
 
 
@@ -134,8 +135,10 @@ def _show(attr: str, v, kind: str) -> str:
         return f"{v * 100:g} %"
     if attr in ("voltage_rating_v", "bias_v"):
         return format_quantity(v, "V")
-    if attr == "power_rating_w":
+    if attr in ("power_rating_w", "pulse_power_w"):
         return format_quantity(v, "W")
+    if attr == "pulse_energy_j":
+        return format_quantity(v, "J")
     return str(v)
 
 

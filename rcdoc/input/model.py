@@ -31,6 +31,8 @@ class Part:
     bias_v: float | None = None            # DC volts across the capacitor in this circuit
     voltage_rating_v: float | None = None
     power_rating_w: float | None = None
+    pulse_energy_j: float | None = None    # resistors: energy per pulse rating
+    pulse_power_w: float | None = None     # resistors: peak (pulse) power rating
     model: str = ""
     path: str = ""                         # key path, e.g. "stage[2].parts.c"
 

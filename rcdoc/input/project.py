@@ -36,7 +36,7 @@ STAGE_KEYS = ("id", "title", "kind", "notes", "source", "load", "marks", "drive"
               "parts", "check", "channels")
 PART_KEYS = ("ref", "value", "tolerance", "tcr", "dielectric", "dc_bias", "bias",
              "temperature_change",
-             "voltage", "power", "model")
+             "voltage", "power", "pulse", "model")
 CHECK_KEYS = ("metric", "min", "max", "at", "within", "bits", "full_scale", "yield")
 
 
@@ -382,10 +382,26 @@ def _part(role: str, t: dict, path: str, analysis: Analysis, bom_rows) -> Part:
             raise ProjectError("'power' (a power rating) applies to resistors",
                                path=f"{path}.power")
         kw["power_rating_w"] = parse_positive(t["power"], "W", f"{path}.power")
+    if "pulse" in t:
+        kw.update(_pulse_rating(t["pulse"], kind, f"{path}.pulse"))
     if "model" in t:
         kw["model"] = one_line(t["model"], f"{path}.model", allow_empty=True)
     return Part(role=role, kind=kind, value=value, ref=ref, tol_plus=tol[0],
                 tol_minus=tol[1], path=path, **kw)
+
+
+def _pulse_rating(raw, kind: str, path: str) -> dict:
+    """A resistor's pulse rating: energy per pulse ("0.5 J") or peak power ("2 W");
+    the unit says which, so a bare number is refused."""
+    if kind != "R":
+        raise ProjectError("'pulse' (a pulse rating) applies to resistors", path=path)
+    text = str(raw).strip()
+    unit = "J" if text.endswith("J") else "W" if text.endswith("W") else None
+    if unit is None:
+        raise ProjectError(f"{raw!r}: state the unit, J for energy per pulse "
+                           "(\"0.5 J\") or W for peak power (\"2 W\")", path=path)
+    value = parse_positive(raw, unit, path)
+    return {"pulse_energy_j": value} if unit == "J" else {"pulse_power_w": value}
 
 
 def _check_tcr(tcr_ppm: float, temperature_c: tuple[float, float], path: str) -> None:

@@ -33,16 +33,22 @@ from rcdoc.kinds import base
 
 NAME = "snubber"
 OPTIONS = ("across", "voltage", "switching_frequency", "ringing", "parasitic", "coil", "ac",
-           "line_frequency", "stray")
+           "line_frequency", "stray", "breakdown")
 PASSBAND = "low"
 TITLE = "Snubber"
 ROLES = ("r", "c")
 METRIC_NAMES = ("damping", "overshoot", "resistor_power", "capacitor_voltage", "parasitic_c",
-                "parasitic_l", "characteristic_impedance", "ring_frequency")
+                "parasitic_l", "characteristic_impedance", "ring_frequency", "resistor_surge",
+                "resistor_edge_energy")
 HEADLINE = METRIC_NAMES
 ACROSS = ("switch", "inductive-load")
+# Across an inductive load the registry's switch-node names would mislead: the
+# "parasitic" capacitance is the stray across the contact, the "loop" the coil.
+LOAD_LABELS = {"parasitic_c": "Stray capacitance across the contact",
+               "parasitic_l": "Coil inductance",
+               "ring_frequency": "Ring frequency after opening (no snubber)"}
 SWITCH_ONLY = ("ringing", "parasitic")
-LOAD_ONLY = ("coil", "ac", "line_frequency", "stray")
+LOAD_ONLY = ("coil", "ac", "line_frequency", "stray", "breakdown")
 NOT_FOR_SNUBBERS = ("source", "load", "marks", "drive")
 SNUBBER_C_PER_PARASITIC = 3.0   # proposed C = 3 × C_par ("several times", common practice)
 
@@ -135,6 +141,10 @@ def parse_options(t: dict, path: str) -> dict:
         o["line_hz"] = parse_positive(t.get("line_frequency", 50.0), "Hz",
                                       f"{path}.line_frequency")
         o["stray_f"] = parse_positive(t.get("stray", phys.DEFAULT_STRAY_F), "F", f"{path}.stray")
+        # The voltage the open switch or contact withstands before it breaks down or
+        # arcs; bounds the peak quoted without a snubber. None: the contact arcs.
+        o["breakdown_v"] = (parse_positive(t["breakdown"], "V", f"{path}.breakdown")
+                            if "breakdown" in t else None)
     return o
 
 
@@ -304,6 +314,7 @@ def analyse(stage, analysis):
     run = _switch if stage.options["across"] == "switch" else _load
     arrays, extra, network, notes = run(stage, batch)
     metrics = []
+    labels = LOAD_LABELS if stage.options["across"] == "inductive-load" else {}
     for name in METRIC_NAMES:
         arr = np.asarray(arrays[name], dtype=float)
         sens = spread.sensitivities(arr, batch) if arr[0] != 0 else np.zeros(len(batch.roles))
@@ -311,7 +322,7 @@ def analyse(stage, analysis):
         wc, method = worstcase.corners_and_samples(arr[batch.vertex], arr[:batch.mc.stop])
         metrics.append(MetricResult(name=name, at_hz=None, param=None, nominal=float(arr[0]),
                                     samples=arr[batch.mc], worst_case=wc,
-                                    worst_case_method=method,
+                                    worst_case_method=method, label=labels.get(name, ""),
                                     sensitivity={r: float(s) for r, s in zip(batch.roles, sens)}))
     by_name = {m.name: m for m in metrics}
     verdicts = [checkmod.judge(c.metric, by_name[c.metric].samples,
@@ -319,7 +330,10 @@ def analyse(stage, analysis):
                                lo=c.min, hi=c.max, required_yield=c.required_yield)
                 for c in stage.checks]
     ratings = []
-    for role, metric, rating in (("r", "resistor_power", stage.parts["r"].power_rating_w),
+    r_part = stage.parts["r"]
+    for role, metric, rating in (("r", "resistor_power", r_part.power_rating_w),
+                                 ("r", "resistor_surge", r_part.pulse_power_w),
+                                 ("r", "resistor_edge_energy", r_part.pulse_energy_j),
                                  ("c", "capacitor_voltage", stage.parts["c"].voltage_rating_v)):
         if rating is not None:
             m = by_name[metric]
@@ -456,15 +470,19 @@ def _load_page(stage, batch, q):
     supply = f"{fq(v, 'V')} rms" if ac else f"{fq(v, 'V')} DC"
     e_coil, e_rs = 0.5 * ll * i_a ** 2, float(kick["e_open"][0])
     energy = _energy_rows(ll, c_n, e_coil, kick)
-    derived = [["Coil", f"{fq(ll, 'H')}, {fq(rc, 'ohm')}", "as given"],
+    bare_peak = float(np.abs(y_wo).max())
+    wo_v, wo_text = _without(o, bare_peak)
+    derived = [["Coil inductance and resistance", f"{fq(ll, 'H')}, {fq(rc, 'ohm')}",
+                "as given"],
                ["Current interrupted", fq(i_a, "A"),
                 "√2·V/|R + jωL| (AC, opening at the current peak)" if ac else "V/R"],
                ["Stray capacitance across the contact", fq(stray, "F"),
                 "as given" if stray != phys.DEFAULT_STRAY_F else "assumed (default)"],
-               ["Ringing without the snubber", fq(f_ring, "Hz"), "f = 1/(2π·√(L·C_stray))"],
-               ["Characteristic impedance Z0", fq(z0, "ohm"), "Z0 = √(L/C_stray)"]]
+               ["Ring frequency after opening, no snubber", fq(f_ring, "Hz"),
+                "f = 1/(2π·√(L_coil·C_stray))"],
+               ["Characteristic impedance Z0", fq(z0, "ohm"), "Z0 = √(L_coil/C_stray)"]]
     stress = [["Damping ratio ζ", f"{zeta_wo:.4f}", f"{zeta[0]:.3f}", _rng(zeta[mc], "1")],
-              ["Peak contact voltage", fq(np.abs(y_wo).max(), "V"), fq(kick["peak"][0], "V"),
+              ["Peak contact voltage", wo_text, fq(kick["peak"][0], "V"),
                _rng(kick["peak"][mc], "V")],
               ["Resistor energy per opening", "—", fq(kick["e_open"][0], "J"),
                _rng(kick["e_open"][mc], "J")],
@@ -486,10 +504,15 @@ def _load_page(stage, batch, q):
                   "Contact voltage [V]", "with snubber (nominal)", band=q["band"]),
               WaveformChart(
                   f"{sid}-kick-bare", "Contact voltage without the snubber",
-                  f"The coil's current charges only the {fq(stray, 'F')} stray capacitance: "
-                  f"it rings at {fq(f_ring, 'Hz')} towards {fq(np.abs(y_wo).max(), 'V')}. "
-                  "In practice the contact arcs, or the switch breaks down, well below "
-                  "that; this is what the snubber prevents.", t_wo, y_wo,
+                  f"The coil's current charges only the {fq(stray, 'F')} stray capacitance "
+                  f"across the contact: the ideal circuit rings at {fq(f_ring, 'Hz')} "
+                  "without bound from the contact, "
+                  + (f"which breaks down at the stated {fq(wo_v, 'V')} (curve clipped "
+                     "there)." if o["breakdown_v"] is not None else
+                     "which arcs long before (no breakdown voltage stated).")
+                  + " This is what the snubber prevents.", t_wo,
+                  y_wo if o["breakdown_v"] is None
+                  else np.clip(y_wo, -o["breakdown_v"], o["breakdown_v"]),
                   "Contact voltage [V]", "without snubber"),
               _tab("Derived parasitics", ["Quantity", "Value", "From"], derived, None),
               _tab("Stresses", ["Quantity", "Without snubber", "With snubber (nominal)",
@@ -506,18 +529,30 @@ def _load_page(stage, batch, q):
             "coil_l": ll, "coil_r": rc, "current_interrupted": i_a, "coil_energy": e_coil,
             "stray": stray, "ring_frequency_without": f_ring, "r": r_n, "c": c_n,
             "damping": float(zeta[0]), "peak_voltage": float(kick["peak"][0]),
-            "peak_voltage_without": float(np.abs(y_wo).max()),
+            "peak_voltage_without": wo_v, "breakdown": o["breakdown_v"],
             "energy_opening": e_rs, "energy_closing": float(e_close[0]),
             "closing_current": float(i_close[0]), "resistor_power": float(power[0]),
             "capacitor_voltage": float(cap[0])}
     if ac:
         json.update({"line_frequency": line, "leakage_current": float(leak["i_rms"][0]),
                      "leakage_power": float(leak["power"][0])})
-    summary = (f"contact peak {fq(kick['peak'][0], 'V')} (without {fq(np.abs(y_wo).max(), 'V')}),"
+    summary = (f"contact peak {fq(kick['peak'][0], 'V')} (without: {wo_text}),"
                f" R {fq(power[0], 'W')}")
     return {"across": "inductive-load", "figures": tuple(blocks),
             "record": tuple(json.items()), "summary": summary,
             "peak_voltage_v": max(vpk, peak_all)}
+
+
+def _without(o: dict, bare_peak: float) -> tuple[float | None, str]:
+    """The contact peak without a snubber, bounded by the stated breakdown of the
+    switch or contact; with none stated no number (the ideal ring has no bound a
+    contact reaches): (value or None, text)."""
+    bd = o.get("breakdown_v")
+    if bd is None:
+        return None, "the contact arcs"
+    if bare_peak <= bd:
+        return bare_peak, fq(bare_peak, "V")
+    return bd, f"breaks down at {fq(bd, 'V')}"
 
 
 def _energy_rows(ll, c_n, e_coil, kick) -> list:

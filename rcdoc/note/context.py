@@ -20,22 +20,6 @@ from rcdoc.input.quantities import (NOTE_MINUS, PART_UNITS, distinct_digits, for
                                     parse_quantity)
 from rcdoc.kinds import KINDS
 
-SAFETY_ITEMS = (
-    "Hazardous voltage: this stage works at a voltage that can injure or kill. Only "
-    "people qualified for such work should build, probe or repair it.",
-    "Stored energy: capacitors can hold a dangerous charge after the power is removed. "
-    "Disconnect the supply, discharge them through a suitable resistor and confirm with a "
-    "meter before touching the circuit.",
-    "Capacitors connected across a supply line must be types rated for that use (safety-"
-    "rated classes for mains), at the working voltage and its transients.",
-    "Keep the creepage and clearance distances that the applicable standard requires for "
-    "the working voltage, pollution degree and insulation class.",
-    "These calculations support a design review; they do not replace the local electrical "
-    "codes, the product safety standards that apply, or the judgement of a licensed "
-    "professional.",
-)
-
-
 def fq(value, unit: str, digits: int = 3, metric: str | None = None) -> str:
     """A number for the note: the one formatter, U+2212 minus; with ``metric``,
     that metric's resolution and digits from the registry."""
@@ -48,8 +32,8 @@ def fq(value, unit: str, digits: int = 3, metric: str | None = None) -> str:
                            resolution=m.resolution, stress=m.stress)
 
 
-def metric_label(m_name: str, at_hz=None, detail: str = "") -> str:
-    label = METRICS[m_name].label
+def metric_label(m_name: str, at_hz=None, detail: str = "", label: str = "") -> str:
+    label = label or METRICS[m_name].label
     if at_hz is not None:
         label += f" at {fq(at_hz, 'Hz')}"
     if detail and detail != "rating":
@@ -183,7 +167,8 @@ def metrics_table(r: StageResult) -> dict:
         else:
             lo = hi = mean = std = math.nan
         missing = m.samples.size - s.size
-        rows.append([metric_label(m.name, m.at_hz, m.detail), fq(m.nominal, unit), fq(lo, unit),
+        rows.append([metric_label(m.name, m.at_hz, m.detail, m.label), fq(m.nominal, unit),
+                     fq(lo, unit),
                      fq(hi, unit), fq(mean, unit), fq(std, unit)
                      if unit not in ("dB", "deg") or not math.isfinite(std)
                      else f"{std:.3g} {'dB' if unit == 'dB' else '°'}",
@@ -225,7 +210,7 @@ def sensitivity_table(r: StageResult) -> dict | None:
                 cells.append(f"{s:+.3f}")
         rows.append(cells)
     return {"type": "table", "title": "What drives the spread",
-            "columns": ["Part", "Tolerance"] + [metric_label(m.name, m.at_hz, m.detail)
+            "columns": ["Part", "Tolerance"] + [metric_label(m.name, m.at_hz, m.detail, m.label)
                                                 for m in chosen],
             "rows": rows,
             "note": "Sensitivity: relative change of the metric per relative change of the "

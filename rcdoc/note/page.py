@@ -24,10 +24,10 @@ from rcdoc.kinds import KINDS
 from rcdoc.note import charts_freq, charts_time
 from rcdoc.note import schematic as sch
 from rcdoc.note.blocks import draw_all
-from rcdoc.note.context import (SAFETY_ITEMS, bom_appendix, checks_table, fq,
+from rcdoc.note.context import (bom_appendix, checks_table, fq,
                                 kind_result, method_appendix, metric_label, metrics_table,
-                                parts_table, ratings_table, sensitivity_table, stage_voltage,
-                                summary_rows)
+                                parts_table, ratings_table, sensitivity_table, summary_rows)
+from rcdoc.note.safety import safety_box
 from rcdoc.note.summary import board_status
 
 
@@ -155,10 +155,10 @@ def histogram_figures(r: StageResult) -> list[dict]:
         if s.size < 2:
             continue
         unit = METRICS[m.name].unit
+        label = metric_label(m.name, m.at_hz, m.detail, m.label)
         svg = charts_time.histogram(f"{r.stage.id}-hist-{len(out)}", s, nominal=m.nominal,
-                               lo=v.min, hi=v.max, label=metric_label(m.name, m.at_hz, m.detail),
-                               unit=unit, fmt="png")
-        out.append({"type": "figure", "title": f"Distribution: {metric_label(m.name, m.at_hz, m.detail)}",
+                                    lo=v.min, hi=v.max, label=label, unit=unit, fmt="png")
+        out.append({"type": "figure", "title": f"Distribution: {label}",
                     "image": svg, "width": "half",
                     "caption": f"{s.size} samples; shaded: outside the limits."})
     return out
@@ -198,10 +198,7 @@ def stage_context(r: StageResult, project: Project) -> dict:
         blocks.append(sens)
     blocks.append({"type": "text", "title": "Assumptions",
                    "paragraphs": list(_analysis_sentences(r, project)) + list(r.assumptions)})
-    v = stage_voltage(r)
-    safety = None
-    if v > project.board.hazardous_voltage_v:
-        safety = {"voltage": fq(v, "V"), "items": list(SAFETY_ITEMS)}
+    safety = safety_box(r, project.board.hazardous_voltage_v)
     return {"id": st.id, "title": st.title, "kind": KINDS[st.kind].TITLE,
             "status": r.status, "notes": list(paragraphs(st.notes)) if st.notes else [],
             "safety": safety, "caution": stability_caution(r), "blocks": blocks}

@@ -7,7 +7,8 @@ the drive's response), as the analysis computes them for the ratings
 samples, the number the rating check judges. A part without a drive has no
 computed stress unless a capacitor states its ``bias``. The margin is the
 rating minus the worst stress, in the stress's unit (negative: over-stressed),
-the same sense as a check's margin in the JSON summary.
+the same sense as a check's margin in the JSON summary. A resistor also has
+its surge power and energy per edge, judged against its ``pulse`` rating.
 
 What it must not do: analyse or judge; it reads StageResults and writes text.
 """
@@ -22,7 +23,9 @@ import numpy as np
 
 COLUMNS = ("stage", "channel", "ref", "role", "type", "value", "unit", "tolerance_plus",
            "tolerance_minus", "dielectric", "model", "stress", "stress_unit",
-           "stress_nominal", "stress_worst", "rating", "margin", "status")
+           "stress_nominal", "stress_worst", "rating", "margin", "status",
+           "surge_worst", "edge_energy_worst", "pulse_rating", "pulse_unit", "pulse_margin",
+           "pulse_status")
 _TYPES = {"R": ("resistor", "ohm"), "C": ("capacitor", "F"), "L": ("inductor", "H")}
 _STRESS = {"R": ("resistor_power", "W"), "C": ("capacitor_voltage", "V")}
 
@@ -47,6 +50,34 @@ def _stress_of(result, role: str, part) -> dict | None:
         if m is not None:
             kept = {"metric": m.name, "nominal": m.nominal, "worst": _highest(m.samples)}
     return kept
+
+
+def _pulse_of(result, role: str, part) -> list[str]:
+    """A resistor's surge power and energy per edge (worst sample) and its pulse
+    rating: the rating check where the part states ``pulse``, else what the
+    analysis kept (a snubber's from its metrics)."""
+    if part.kind != "R":
+        return [""] * 6
+    worst = {}
+    st = result.stresses.get(role)
+    for ps in (st.pulse if st else ()):
+        worst[ps.metric] = ps.worst
+    if not worst and result.stage.kind == "snubber":
+        for name in ("resistor_surge", "resistor_edge_energy"):
+            m = result.metric(name)
+            if m is not None:
+                worst[name] = _highest(m.samples)
+    metric, unit, rating = (("resistor_edge_energy", "J", part.pulse_energy_j)
+                            if part.pulse_energy_j is not None else
+                            ("resistor_surge", "W", part.pulse_power_w))
+    status = ""
+    for v in result.ratings:
+        if v.part == (part.ref or role) and v.metric == metric:
+            worst[metric], status = v.worst, v.status
+    w = worst.get(metric)
+    margin = rating - w if rating is not None and w is not None and math.isfinite(w) else None
+    return [_num(worst.get("resistor_surge")), _num(worst.get("resistor_edge_energy")),
+            _num(rating), unit if rating is not None else "", _num(margin), status]
 
 
 def _num(x) -> str:
@@ -78,7 +109,8 @@ def rows(results) -> list[list[str]]:
                             p.model or "", s.get("metric", ""),
                             _STRESS[p.kind][1] if p.kind in _STRESS and (s or rating)
                             else "", _num(s.get("nominal")),
-                            _num(worst), _num(rating), _num(margin), s.get("status", "")])
+                            _num(worst), _num(rating), _num(margin), s.get("status", "")]
+                           + _pulse_of(r, p.role, p))
     return out
 
 

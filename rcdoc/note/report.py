@@ -22,7 +22,8 @@ The context (the pipeline fills it; every string is plain text and is escaped)::
      "overview_image": str | None,
      "stages": [{"id": str, "title": str, "kind": str, "status": "pass"|"fail",
                  "notes": [paragraph, ...],
-                 "safety": None | {"voltage": "325 V", "items": [str, ...]},
+                 "safety": None | {"voltage": "325 V", "head": "Mains voltage: ...",
+                            "items": [str, ...]},   # head optional (rcdoc.note.safety)
                  "caution": None | {"title": "Unstable", "items": [str, ...]},
                  "blocks": [block, ...]}],
      "appendix": [{"title": str, "blocks": [block, ...]}],
