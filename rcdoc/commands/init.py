@@ -61,6 +61,7 @@ load = { r = "1 Mohm", c = "10 pF" }     # what the output drives, in parallel
 marks = ["500 Hz"]                       # gain and phase tabulated at these frequencies
 drive = { step = "2.5 V" }               # enables rise time, settling and part stresses
 parts.r = { ref = "R1", value = "10k", tolerance = "1%", tcr = "100 ppm/K", power = "0.1 W" }
+# a resistor may also state pulse = "0.5 J" (energy per pulse) or pulse = "2 W" (peak power)
 parts.c = { ref = "C1", value = "100 nF", tolerance = "5%", dielectric = "C0G", voltage = "25 V" }
 # Other part keys: dc_bias = { at = "12 V", change = "-40%" } with bias = "5 V"
 # (class II capacitors), temperature_change = { at = "85 °C", change = "-8%" }
