@@ -16,6 +16,7 @@ import numpy as np
 
 from rcdoc.analysis import engine
 from rcdoc.analysis import poles as polemod
+from rcdoc.analysis.response import Response
 from rcdoc.input.model import Check, Stage
 from rcdoc.analysis.network import Network
 
@@ -69,8 +70,13 @@ class Evaluator:
         return engine.assemble(self.network, self.values)
 
     @cached_property
+    def response(self) -> Response:
+        """Zero-pole-gain form of every row's H (the sweep's): cheap searches off the grid."""
+        return Response(self.system, self.system.node(self.network.output), self.freqs_hz)
+
+    @cached_property
     def h(self) -> np.ndarray:
-        return engine.ac(self.network, self.values, self.freqs_hz)
+        return self.response.sweep(self.freqs_hz)
 
     @cached_property
     def gain_db(self) -> np.ndarray:
@@ -86,7 +92,7 @@ class Evaluator:
         return x[:, sysm.index[self.network.output]]
 
     def h_at(self, f_hz: float) -> np.ndarray:
-        return self.h_rows(np.full(self.rows, float(f_hz)))
+        return self.response.at_rows(np.full(self.rows, float(f_hz)))
 
     @cached_property
     def passband_db(self) -> np.ndarray:
@@ -137,7 +143,7 @@ class Evaluator:
         lo, hi = lo.astype(float), hi.astype(float)
         for _ in range(CORNER_ITERATIONS):
             mid = np.sqrt(lo * hi)
-            under = db(self.h_rows(mid)) < thr
+            under = db(self.response.at_rows(mid)) < thr
             if side == "up":
                 hi, lo = np.where(under, mid, hi), np.where(under, lo, mid)
             else:
@@ -204,12 +210,12 @@ class Evaluator:
         b = np.log(f[np.minimum(j + 1, len(f) - 1)])
         k = (math.sqrt(5.0) - 1) / 2
         c, d = b - k * (b - a), a + k * (b - a)
-        gc, gd = db(self.h_rows(np.exp(c))), db(self.h_rows(np.exp(d)))
+        gc, gd = db(self.response.at_rows(np.exp(c))), db(self.response.at_rows(np.exp(d)))
         for _ in range(PEAK_ITERATIONS):
             left = gc >= gd                   # the top lies in [a, d]
             b, a = np.where(left, d, b), np.where(left, a, c)
             x = np.where(left, b - k * (b - a), a + k * (b - a))
-            gx = db(self.h_rows(np.exp(x)))
+            gx = db(self.response.at_rows(np.exp(x)))
             c, d, gc, gd = (np.where(left, x, d), np.where(left, c, x),
                             np.where(left, gx, gd), np.where(left, gc, gx))
         return np.fmax(g[np.arange(self.rows), j], np.fmax(gc, gd))
@@ -230,12 +236,12 @@ class Evaluator:
         b = np.log(f[np.minimum(j + 1, len(f) - 1)])
         k = (math.sqrt(5.0) - 1) / 2
         c, d = b - k * (b - a), a + k * (b - a)
-        gc, gd = db(self.h_rows(np.exp(c))), db(self.h_rows(np.exp(d)))
+        gc, gd = db(self.response.at_rows(np.exp(c))), db(self.response.at_rows(np.exp(d)))
         for _ in range(NOTCH_ITERATIONS):
             left = gc <= gd                   # the null lies in [a, d]
             b, a = np.where(left, d, b), np.where(left, a, c)
             x = np.where(left, b - k * (b - a), a + k * (b - a))
-            gx = db(self.h_rows(np.exp(x)))
+            gx = db(self.response.at_rows(np.exp(x)))
             c, d, gc, gd = (np.where(left, x, d), np.where(left, c, x),
                             np.where(left, gx, gd), np.where(left, gc, gx))
         best = np.argmin(np.stack([g[np.arange(self.rows), j], gc, gd]), axis=0)
