@@ -37,7 +37,9 @@ class Response:
         if not self.through:
             o = int(np.flatnonzero(p.keep == out)[0])
             d, keep = p.d_node, p.keep
-            self.gain, self.zeros, self.ok = p.zpk(o, -system.G[:, keep, d], -system.C[:, keep, d])
+            self.gain, zeros, self.ok = p.zpk(o, -system.G[:, keep, d], -system.C[:, keep, d])
+            scale = np.max(np.abs(p.poles), axis=1, initial=0.0)
+            self.zeros, self.poles = _finite(zeros, scale), _finite(p.poles, scale)
 
     def sweep(self, freqs_hz: np.ndarray) -> np.ndarray:
         """H over a common set of frequencies, (S, F): the same arithmetic as ac.ac."""
@@ -50,7 +52,7 @@ class Response:
         with np.errstate(all="ignore"):
             for ss in _pz_blocks(system.samples, f.size):
                 H[ss] = p.product(self.gain[ss], self.zeros[ss], jw)
-                H[ss] /= p.product(np.ones(H[ss].shape[0]), p.poles[ss], jw)
+                H[ss] /= p.product(np.ones(H[ss].shape[0]), self.poles[ss], jw)
         ok = self.ok & np.all(np.isfinite(H), axis=1)
         if not np.all(ok):
             H[~ok] = _direct(system, f, ~ok, lambda X: X[..., self.out])
@@ -65,11 +67,30 @@ class Response:
         jw = 2j * math.pi * f
         with np.errstate(all="ignore"):
             h = _row_product(p.sigma, self.gain, self.zeros, jw)
-            h /= _row_product(p.sigma, np.ones(f.size), p.poles, jw)
+            h /= _row_product(p.sigma, np.ones(f.size), self.poles, jw)
         bad = ~(self.ok & np.isfinite(h))
         if bad.any():
             h[bad] = _direct_rows(self.system, self.out, f[bad], bad)
         return h
+
+
+def _finite(eig: np.ndarray, scale: np.ndarray) -> np.ndarray:
+    """The eigenvalues that stand for finite poles or zeros, largest first.
+
+    Infinite ones (an algebraic equation: an ideal op-amp, a node without a
+    capacitor) are 0 in exact arithmetic and their factor is 1, but come out as
+    rounding noise (3e-20 beside 8e-5); a column is dropped once, in every row,
+    it is below 1e-16 of the row's largest pole eigenvalue: its factor differs
+    from 1 by less than a rounding error times |jω − σ|/|σ − p|.
+    """
+    if eig.shape[1] == 0:
+        return eig
+    order = np.argsort(-np.abs(eig), axis=1, kind="stable")
+    eig = np.take_along_axis(eig, order, axis=1)
+    tiny = np.abs(eig) <= 1e-16 * scale[:, None]
+    keep = ~np.all(tiny, axis=0)
+    last = int(np.flatnonzero(keep)[-1]) + 1 if keep.any() else 0
+    return np.ascontiguousarray(eig[:, :last])
 
 
 def _row_product(sigma: float, gain: np.ndarray, eig: np.ndarray, jw: np.ndarray) -> np.ndarray:
