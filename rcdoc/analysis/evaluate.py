@@ -498,8 +498,19 @@ def _unwrapped_phase(ev: Evaluator, at_hz: float) -> np.ndarray:
         seq = np.angle(ev.h[:, sel])
     if seq.shape[1] == 0:
         return np.degrees(ph_mark)
-    un = np.unwrap(np.concatenate([seq, ph_mark[:, None]], axis=1), axis=1)
-    return np.degrees(un[:, -1])
+    return np.degrees(_unwrapped_last(np.concatenate([seq, ph_mark[:, None]], axis=1)))
+
+
+def _unwrapped_last(p: np.ndarray) -> np.ndarray:
+    """The last column of np.unwrap(p, axis=1), without the unwrapped array:
+    the same corrections (numpy's rule, steps of 2π where a step exceeds π)
+    summed instead of accumulated."""
+    dd = np.diff(p, axis=1)
+    ddmod = np.mod(dd + np.pi, 2 * np.pi) - np.pi
+    ddmod[(ddmod == -np.pi) & (dd > 0)] = np.pi
+    correct = ddmod - dd
+    correct[np.abs(dd) < np.pi] = 0.0
+    return p[:, -1] + np.sum(correct, axis=1)
 
 
 def _cross_time(y: np.ndarray, t: np.ndarray, level: float) -> np.ndarray:
