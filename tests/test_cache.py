@@ -157,3 +157,18 @@ def test_jobs_and_cache_give_the_same_bytes(project_file, tmp_path):
     b = build.write_outputs(pooled, tmp_path / "b")
     assert Path(a[1]).read_bytes() == Path(b[1]).read_bytes()
     assert Path(a[0]).read_bytes() == Path(b[0]).read_bytes()
+
+
+def test_one_stage_to_redo_runs_in_this_process(project_file, tmp_path, monkeypatch):
+    # A pool's start-up costs more than one stage's analysis (common practice:
+    # do not fan out a single unit of work); the changed stage runs here.
+    out = tmp_path / "out"
+    build.analyse_project(load_project(str(project_file)), jobs=1, out_dir=out).commit_cache()
+    project_file.write_text(PROJECT.replace('value = "100k"', 'value = "120k"'), encoding="utf-8")
+    calls = _counting(monkeypatch)
+
+    def no_pool(*args, **kwargs):
+        raise AssertionError("a worker pool was started for one stage")
+    monkeypatch.setattr(build, "_run_pool", no_pool)
+    changed = build.analyse_project(load_project(str(project_file)), jobs=2, out_dir=out)
+    assert calls == ["hp"] and changed.cached == ["lp"] and changed.computed == ["hp"]

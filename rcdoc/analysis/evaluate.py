@@ -16,6 +16,7 @@ import numpy as np
 
 from rcdoc.analysis import engine
 from rcdoc.analysis import poles as polemod
+from rcdoc.analysis.response import Response
 from rcdoc.input.model import Check, Stage
 from rcdoc.analysis.network import Network
 
@@ -69,8 +70,13 @@ class Evaluator:
         return engine.assemble(self.network, self.values)
 
     @cached_property
+    def response(self) -> Response:
+        """Zero-pole-gain form of every row's H (the sweep's): cheap searches off the grid."""
+        return Response(self.system, self.system.node(self.network.output), self.freqs_hz)
+
+    @cached_property
     def h(self) -> np.ndarray:
-        return engine.ac(self.network, self.values, self.freqs_hz)
+        return self.response.sweep(self.freqs_hz)
 
     @cached_property
     def gain_db(self) -> np.ndarray:
@@ -86,7 +92,7 @@ class Evaluator:
         return x[:, sysm.index[self.network.output]]
 
     def h_at(self, f_hz: float) -> np.ndarray:
-        return self.h_rows(np.full(self.rows, float(f_hz)))
+        return self.response.at_rows(np.full(self.rows, float(f_hz)))
 
     @cached_property
     def passband_db(self) -> np.ndarray:
@@ -137,7 +143,7 @@ class Evaluator:
         lo, hi = lo.astype(float), hi.astype(float)
         for _ in range(CORNER_ITERATIONS):
             mid = np.sqrt(lo * hi)
-            under = db(self.h_rows(mid)) < thr
+            under = db(self.response.at_rows(mid)) < thr
             if side == "up":
                 hi, lo = np.where(under, mid, hi), np.where(under, lo, mid)
             else:
@@ -204,12 +210,12 @@ class Evaluator:
         b = np.log(f[np.minimum(j + 1, len(f) - 1)])
         k = (math.sqrt(5.0) - 1) / 2
         c, d = b - k * (b - a), a + k * (b - a)
-        gc, gd = db(self.h_rows(np.exp(c))), db(self.h_rows(np.exp(d)))
+        gc, gd = db(self.response.at_rows(np.exp(c))), db(self.response.at_rows(np.exp(d)))
         for _ in range(PEAK_ITERATIONS):
             left = gc >= gd                   # the top lies in [a, d]
             b, a = np.where(left, d, b), np.where(left, a, c)
             x = np.where(left, b - k * (b - a), a + k * (b - a))
-            gx = db(self.h_rows(np.exp(x)))
+            gx = db(self.response.at_rows(np.exp(x)))
             c, d, gc, gd = (np.where(left, x, d), np.where(left, c, x),
                             np.where(left, gx, gd), np.where(left, gc, gx))
         return np.fmax(g[np.arange(self.rows), j], np.fmax(gc, gd))
@@ -230,12 +236,12 @@ class Evaluator:
         b = np.log(f[np.minimum(j + 1, len(f) - 1)])
         k = (math.sqrt(5.0) - 1) / 2
         c, d = b - k * (b - a), a + k * (b - a)
-        gc, gd = db(self.h_rows(np.exp(c))), db(self.h_rows(np.exp(d)))
+        gc, gd = db(self.response.at_rows(np.exp(c))), db(self.response.at_rows(np.exp(d)))
         for _ in range(NOTCH_ITERATIONS):
             left = gc <= gd                   # the null lies in [a, d]
             b, a = np.where(left, d, b), np.where(left, a, c)
             x = np.where(left, b - k * (b - a), a + k * (b - a))
-            gx = db(self.h_rows(np.exp(x)))
+            gx = db(self.response.at_rows(np.exp(x)))
             c, d, gc, gd = (np.where(left, x, d), np.where(left, c, x),
                             np.where(left, gx, gd), np.where(left, gc, gx))
         best = np.argmin(np.stack([g[np.arange(self.rows), j], gc, gd]), axis=0)
@@ -547,8 +553,19 @@ def _unwrapped_phase(ev: Evaluator, at_hz: float) -> np.ndarray:
         seq = np.angle(ev.h[:, sel])
     if seq.shape[1] == 0:
         return np.degrees(ph_mark)
-    un = np.unwrap(np.concatenate([seq, ph_mark[:, None]], axis=1), axis=1)
-    return np.degrees(un[:, -1])
+    return np.degrees(_unwrapped_last(np.concatenate([seq, ph_mark[:, None]], axis=1)))
+
+
+def _unwrapped_last(p: np.ndarray) -> np.ndarray:
+    """The last column of np.unwrap(p, axis=1), without the unwrapped array:
+    the same corrections (numpy's rule, steps of 2π where a step exceeds π)
+    summed instead of accumulated."""
+    dd = np.diff(p, axis=1)
+    ddmod = np.mod(dd + np.pi, 2 * np.pi) - np.pi
+    ddmod[(ddmod == -np.pi) & (dd > 0)] = np.pi
+    correct = ddmod - dd
+    correct[np.abs(dd) < np.pi] = 0.0
+    return p[:, -1] + np.sum(correct, axis=1)
 
 
 def _cross_time(y: np.ndarray, t: np.ndarray, level: float) -> np.ndarray:

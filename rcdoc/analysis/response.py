@@ -1,0 +1,109 @@
+"""A stage's transfer function in zero-pole-gain form, evaluated anywhere per row.
+
+What it is for: the frequency metrics (corner, peak, notch, values at marks)
+search for one frequency per row, each step asking for H at a different
+frequency in every row. A direct solve of (G + sC)·x = b per step factors
+an N×N complex matrix per row; the sweep already holds the poles and zeros
+of every row (rcdoc.analysis.ac's pencil, the same numbers it draws), so a
+step here is O(N) array operations per row: the searches cost a fraction of
+the sweep instead of several sweeps.
+
+Rows where the zero-pole-gain form is not safe (ac's rule: near-singular at
+the shift, or a non-finite result) are solved directly, those rows only.
+
+What it must not do: know about stage kinds or metrics, or loop in Python
+over rows (loops run over poles and zeros only).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from rcdoc.analysis.ac import _Pencil, _direct, _freqs, _pz_blocks
+from rcdoc.analysis.assembly import System
+
+
+class Response:
+    """H = V(out) per 1 V of source for every row of ``system``, from one pencil."""
+
+    def __init__(self, system: System, out: int, sweep_hz: np.ndarray):
+        self.system = system
+        self.out = out
+        self.pencil = _Pencil(system, _freqs(sweep_hz))
+        p = self.pencil
+        self.through = out == p.d_node        # the output is the drive node: H = 1
+        if not self.through:
+            o = int(np.flatnonzero(p.keep == out)[0])
+            d, keep = p.d_node, p.keep
+            self.gain, zeros, self.ok = p.zpk(o, -system.G[:, keep, d], -system.C[:, keep, d])
+            scale = np.max(np.abs(p.poles), axis=1, initial=0.0)
+            self.zeros, self.poles = _finite(zeros, scale), _finite(p.poles, scale)
+
+    def sweep(self, freqs_hz: np.ndarray) -> np.ndarray:
+        """H over a common set of frequencies, (S, F): the same arithmetic as ac.ac."""
+        f = _freqs(freqs_hz)
+        system, p = self.system, self.pencil
+        if self.through:
+            return np.ones((system.samples, f.size), dtype=complex)
+        jw = 2j * math.pi * f
+        H = np.empty((system.samples, f.size), dtype=complex)
+        with np.errstate(all="ignore"):
+            for ss in _pz_blocks(system.samples, f.size):
+                H[ss] = p.product(self.gain[ss], self.zeros[ss], jw)
+                H[ss] /= p.product(np.ones(H[ss].shape[0]), self.poles[ss], jw)
+        ok = self.ok & np.all(np.isfinite(H), axis=1)
+        if not np.all(ok):
+            H[~ok] = _direct(system, f, ~ok, lambda X: X[..., self.out])
+        return H
+
+    def at_rows(self, f_hz: np.ndarray) -> np.ndarray:
+        """H at one frequency per row, (S,) (rows may ask for different frequencies)."""
+        f = np.asarray(f_hz, dtype=float)
+        if self.through:
+            return np.ones(f.shape, dtype=complex)
+        p = self.pencil
+        jw = 2j * math.pi * f
+        with np.errstate(all="ignore"):
+            h = _row_product(p.sigma, self.gain, self.zeros, jw)
+            h /= _row_product(p.sigma, np.ones(f.size), self.poles, jw)
+        bad = ~(self.ok & np.isfinite(h))
+        if bad.any():
+            h[bad] = _direct_rows(self.system, self.out, f[bad], bad)
+        return h
+
+
+def _finite(eig: np.ndarray, scale: np.ndarray) -> np.ndarray:
+    """The eigenvalues that stand for finite poles or zeros, largest first.
+
+    Infinite ones (an algebraic equation: an ideal op-amp, a node without a
+    capacitor) are 0 in exact arithmetic and their factor is 1, but come out as
+    rounding noise (3e-20 beside 8e-5); a column is dropped once, in every row,
+    it is below 1e-16 of the row's largest pole eigenvalue: its factor differs
+    from 1 by less than a rounding error times |jω − σ|/|σ − p|.
+    """
+    if eig.shape[1] == 0:
+        return eig
+    order = np.argsort(-np.abs(eig), axis=1, kind="stable")
+    eig = np.take_along_axis(eig, order, axis=1)
+    tiny = np.abs(eig) <= 1e-16 * scale[:, None]
+    keep = ~np.all(tiny, axis=0)
+    last = int(np.flatnonzero(keep)[-1]) + 1 if keep.any() else 0
+    return np.ascontiguousarray(eig[:, :last])
+
+
+def _row_product(sigma: float, gain: np.ndarray, eig: np.ndarray, jw: np.ndarray) -> np.ndarray:
+    """gain · Π_k (1 + (jω − σ)·eig_k) with one jω per row, in the pencil's arithmetic."""
+    acc = gain.astype(complex)
+    for k in range(eig.shape[1]):
+        acc *= eig[:, k] * jw + (1.0 - sigma * eig[:, k])
+    return acc
+
+
+def _direct_rows(system: System, out: int, f_hz: np.ndarray, rows: np.ndarray) -> np.ndarray:
+    """H of some rows, each at its own frequency: one complex solve per row."""
+    s = 2j * np.pi * f_hz
+    a = system.G[rows] + s[:, None, None] * system.C[rows]
+    b = np.broadcast_to(system.b.astype(complex), (a.shape[0], a.shape[1]))
+    return np.linalg.solve(a, b[..., None])[..., 0][:, out]
