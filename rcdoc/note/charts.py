@@ -40,6 +40,7 @@ from rcdoc.input.quantities import format_eng
 from rcdoc.note import palette as pal
 
 WIDTH_IN = 16.0 / 2.54  # the note's text width, 16 cm
+HALF_WIDTH_IN = 0.49 * WIDTH_IN  # one of two charts side by side (the note's ".fig.half")
 
 # Units whose values are not scaled with SI prefixes on an axis.
 _UNSCALED_UNITS = frozenset({"", "dB", "%", "°", "deg", "1"})
@@ -127,8 +128,8 @@ def _styled(fig_id: str) -> Iterator[None]:
         yield
 
 
-def _new_figure(height_in: float) -> Figure:
-    fig = Figure(figsize=(WIDTH_IN, height_in), layout="constrained")
+def _new_figure(height_in: float, width_in: float = WIDTH_IN) -> Figure:
+    fig = Figure(figsize=(width_in, height_in), layout="constrained")
     FigureCanvasSVG(fig)
     return fig
 
@@ -245,13 +246,14 @@ def _log_fraction(ax, x: float) -> float:
     return (math.log10(x) - math.log10(lo)) / (math.log10(hi) - math.log10(lo))
 
 
-def _legend(fig: Figure, handles: list) -> None:
+def _legend(fig: Figure, handles: list, max_cols: int = 4, **kwargs) -> None:
     """One legend below the plot area, in as many columns as fit the width."""
     if not handles:
         return
     longest = max(len(h.get_label()) for h in handles)
-    fit = max(1, int(100 // (longest + 8)))
-    fig.legend(handles=handles, loc="outside lower center", ncols=min(len(handles), fit, 4))
+    fit = max(1, int(100 * fig.get_figwidth() / WIDTH_IN // (longest + 8)))
+    fig.legend(handles=handles, loc="outside lower center", ncols=min(len(handles), fit, max_cols),
+               **kwargs)
 
 
 def _arr(values, name: str) -> np.ndarray:
