@@ -193,6 +193,9 @@ def _hist_limit(ax, limit: float, below: bool, left: float, right: float, top: f
 # Corner frequencies of all stages
 
 
+_STATUS_MARKER = {"pass": "o", "fail": "X"}
+
+
 def corner_overview(fig_id: str, rows: Sequence[Mapping], title: str = "", *, fmt: str = "svg") -> str | bytes:
     """One row per stage on a shared log-frequency axis: nominal and min-max, by status."""
     _check_fig_id(fig_id)
@@ -218,7 +221,9 @@ def corner_overview(fig_id: str, rows: Sequence[Mapping], title: str = "", *, fm
             color = pal.PASS if status == "pass" else pal.FAIL
             ax.plot([f_min, f_max], [i, i], color=color, linewidth=3.0, alpha=0.45,
                     solid_capstyle="butt", zorder=2)
-            ax.plot([nom], [i], marker="o", markersize=5, color=color, linestyle="none", zorder=3)
+            # Shape as well as colour: a circle passes, a cross fails (readable in grey print).
+            ax.plot([nom], [i], marker=_STATUS_MARKER[status], markersize=5.5, color=color,
+                    markeredgewidth=1.8, linestyle="none", zorder=3)
             ax.annotate(_eng(nom, "Hz"), xy=(f_max, i), xytext=(6, 0), textcoords="offset points",
                         ha="left", va="center", color=pal.INK, zorder=4)
         lo = min(p[2] for p in parsed)
@@ -238,7 +243,8 @@ def corner_overview(fig_id: str, rows: Sequence[Mapping], title: str = "", *, fm
         handles = []
         for status, color in (("pass", pal.PASS), ("fail", pal.FAIL)):
             if any(p[4] == status for p in parsed):
-                handles.append(Line2D([], [], color=color, marker="o", markersize=5, linewidth=3.0,
+                handles.append(Line2D([], [], color=color, marker=_STATUS_MARKER[status], markersize=5.5,
+                                      markeredgewidth=1.8, linewidth=3.0,
                                       alpha=1.0, label=f"{status}: nominal and min–max"))
         _legend(fig, handles)
         return _finish(fig, fig_id, title, fmt)

@@ -23,7 +23,7 @@ from rcdoc.input.quantities import parse_quantity
 from rcdoc.kinds import KINDS
 from rcdoc.note import charts_freq, charts_time
 from rcdoc.note import schematic as sch
-from rcdoc.note.blocks import draw_all
+from rcdoc.note.blocks import assumptions, draw_all
 from rcdoc.note.context import (SAFETY_ITEMS, bom_appendix, checks_table, fq,
                                 kind_result, method_appendix, metric_label, metrics_table,
                                 parts_table, ratings_table, sensitivity_table, stage_voltage,
@@ -203,8 +203,7 @@ def stage_context(r: StageResult, project: Project) -> dict:
     sens = sensitivity_table(r)
     if sens:
         blocks.append(sens)
-    blocks.append({"type": "text", "title": "Assumptions",
-                   "paragraphs": list(_analysis_sentences(r, project)) + list(r.assumptions)})
+    blocks += assumptions(list(_analysis_sentences(r, project)), list(r.assumptions))
     v = stage_voltage(r)
     safety = None
     if v > project.board.hazardous_voltage_v:
