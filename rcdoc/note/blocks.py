@@ -20,8 +20,8 @@ _PART_SENTENCE = re.compile(r"([A-Za-z][\w-]*): (.+)", re.S)
 
 
 def assumptions(general: list[str], per_part: list[str]) -> list[dict]:
-    """The stage's assumptions: the analysis-wide sentences as text, then one compact
-    table with a row per part ("C8: tolerance ..." sentences grouped by their part)."""
+    """The stage's assumptions: one compact table with a row per part ("C8: tolerance ..."
+    sentences grouped by their part), then the analysis-wide sentences as text."""
     by_part: dict[str, list[str]] = {}
     rest = list(general)
     for sentence in per_part:
@@ -30,12 +30,14 @@ def assumptions(general: list[str], per_part: list[str]) -> list[dict]:
             by_part.setdefault(match.group(1), []).append(match.group(2))
         else:
             rest.append(sentence)
-    out = [{"type": "text", "title": "Assumptions", "paragraphs": rest}]
-    if by_part:
-        rows = [[ref, " ".join(_sentence(t) for t in texts)] for ref, texts in by_part.items()]
-        out.append({"type": "table", "title": "", "columns": ["Part", "Assumed for the part"],
-                    "rows": rows, "note": ""})
-    return out
+    if not by_part:
+        return [{"type": "text", "title": "Assumptions", "paragraphs": rest}]
+    # The table first, under the heading: it is kept whole, so the heading never
+    # ends a page alone; the analysis-wide sentences flow after it.
+    rows = [[ref, " ".join(_sentence(t) for t in texts)] for ref, texts in by_part.items()]
+    return [{"type": "table", "title": "Assumptions", "columns": ["Part", "Assumed for the part"],
+             "rows": rows, "note": ""},
+            {"type": "text", "title": "", "paragraphs": rest}]
 
 
 def _sentence(text: str) -> str:
