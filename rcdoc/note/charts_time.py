@@ -263,6 +263,20 @@ def _axis_label(curves: list) -> str:
     return ", ".join(f"{c[1]} [{c[2]}]" if c[2] else c[1] for c in curves)
 
 
+def _clip_to_band(ax, ys: list, lo: float, hi: float) -> None:
+    """Clip the left axis to 4 band widths around the allowed band when the curves run far
+    beyond it (a ±½ LSB band is read on a ±4 LSB axis, not a ±400 LSB one)."""
+    width = hi - lo
+    data = _finite(*ys)
+    if not (width > 0 and data.size):
+        return
+    y_lo, y_hi = lo - 3.5 * width, hi + 3.5 * width
+    if data.min() < y_lo or data.max() > y_hi:
+        ax.set_ylim(y_lo, y_hi)
+        ax.annotate("axis clipped: curves continue off scale", xy=(0.99, 0.98),
+                    xycoords="axes fraction", ha="right", va="top", color=pal.MUTED, zorder=6)
+
+
 def sweep(fig_id: str, x, curves: Sequence[Mapping], *, xlabel: str, x_unit: str, logx: bool = True,
           marker_x: float | None = None, title: str = "", fmt: str = "svg",
           markers: Sequence[Mapping] = (), allowed: Mapping | None = None) -> str | bytes:
@@ -325,6 +339,7 @@ def sweep(fig_id: str, x, curves: Sequence[Mapping], *, xlabel: str, x_unit: str
             ax.axhspan(float(allowed["lo"]), float(allowed["hi"]), color=pal.ALLOWED, linewidth=0,
                        zorder=0.5)
             handles.append(Patch(color=pal.ALLOWED, label=str(allowed["label"])))
+            _clip_to_band(ax, [c[0] for c in left], float(allowed["lo"]), float(allowed["hi"]))
         for mk in markers:
             if np.isfinite(mk["x"]):
                 ax.axvline(float(mk["x"]), color=pal.PASS, linewidth=0.9, linestyle=(0, (4, 2)),
