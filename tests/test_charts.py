@@ -128,8 +128,10 @@ def test_chart_is_well_formed_svg_of_text_width(rendered, name):
     svg = rendered[name][0]
     root = ET.fromstring(svg)
     assert root.tag == SVG_NS + "svg"
-    # Figures are 16 cm wide = 16 / 2.54 * 72 pt (definition of the inch and the point).
-    assert float(root.get("width").removesuffix("pt")) == pytest.approx(16 / 2.54 * 72, abs=0.5)
+    # Figures are 16 cm wide = 16 / 2.54 * 72 pt (definition of the inch and the point);
+    # a histogram is drawn at the width it is shown at, 49 % of that (two share a row).
+    share = 0.49 if name == "histogram" else 1.0
+    assert float(root.get("width").removesuffix("pt")) == pytest.approx(share * 16 / 2.54 * 72, abs=0.5)
     assert svg.startswith("<svg"), "the XML prolog is dropped so the SVG can be inlined in HTML"
 
 
@@ -253,3 +255,52 @@ def test_palette_is_complete_and_valid():
     assert palette.COLOR_FOR_KIND == {"R": palette.RESISTOR, "C": palette.CAPACITOR, "L": palette.INDUCTOR}
     assert palette.CSS_VARS["--rc-pass"] == palette.PASS
     assert palette.CSS_VARS["--rc-fail"] == palette.FAIL
+
+
+# ---------------------------------------------------------------------------
+# Label placement, histogram range, clipped sweep axis (issue 16, charts as read)
+
+
+def test_overlapping_labels_are_moved_apart():
+    from rcdoc.note.charts import _keep_labels_apart, _new_figure, _styled
+    with _styled("labels"):
+        fig = _new_figure(3.0)
+        ax = fig.add_subplot()
+        ax.set_xlim(0, 10)
+        ax.set_ylim(0, 10)
+        # Two labels placed at the same point, as a corner label and a mark label can be.
+        texts = [ax.annotate(t, xy=(5, 5), xytext=(4, -3), textcoords="offset points")
+                 for t in ("corner 226 Hz", "−13.1 dB at 1 kHz")]
+        fig.draw_without_rendering()
+        renderer = fig._get_renderer()
+        assert texts[0].get_window_extent(renderer).overlaps(texts[1].get_window_extent(renderer))
+        _keep_labels_apart(fig)
+        boxes = [t.get_window_extent(renderer) for t in texts]
+        assert not boxes[0].overlaps(boxes[1])
+        assert texts[0].xyann == (4, -3), "the label placed first keeps its place"
+
+
+def test_histogram_range_keeps_far_limits_off_scale():
+    from rcdoc.note.charts_time import _hist_range
+    # Samples 220...232 (span 12): a limit at 180 is more than a span away, so the axis
+    # stays on the data; a limit at 240 is near and drawn to scale.
+    left, right = _hist_range(220.0, 232.0, 180.0, 240.0)
+    assert 180.0 < left < 220.0
+    assert right > 240.0
+
+
+def test_sweep_axis_clipped_around_allowed_band():
+    from rcdoc.note.charts import _new_figure, _styled
+    from rcdoc.note.charts_time import _clip_to_band
+    with _styled("clip"):
+        ax = _new_figure(3.0).add_subplot()
+        y = np.linspace(0.0, -400.0, 50)
+        ax.plot(np.arange(50), y)
+        _clip_to_band(ax, [y], -0.5, 0.5)
+        # ±½ LSB band: the axis shows ±4 LSB, the band 1/8 of its height.
+        assert ax.get_ylim() == pytest.approx((-4.0, 4.0))
+        ax2 = _new_figure(3.0).add_subplot()
+        ax2.plot([0, 1], [0.1, -0.2])
+        before = ax2.get_ylim()
+        _clip_to_band(ax2, [np.array([0.1, -0.2])], -0.5, 0.5)
+        assert ax2.get_ylim() == before, "curves inside the clipped range keep the automatic axis"

@@ -8,10 +8,41 @@ page turns from data into pictures.
 
 from __future__ import annotations
 
+import re
+
 from rcdoc.analysis import blocks as spec
 from rcdoc.note import charts_time, logic_chart
 
-__all__ = ["draw", "draw_all"]
+__all__ = ["assumptions", "draw", "draw_all"]
+
+
+_PART_SENTENCE = re.compile(r"([A-Za-z][\w-]*): (.+)", re.S)
+
+
+def assumptions(general: list[str], per_part: list[str]) -> list[dict]:
+    """The stage's assumptions: one compact table with a row per part ("C8: tolerance ..."
+    sentences grouped by their part), then the analysis-wide sentences as text."""
+    by_part: dict[str, list[str]] = {}
+    rest = list(general)
+    for sentence in per_part:
+        match = _PART_SENTENCE.fullmatch(sentence)
+        if match:
+            by_part.setdefault(match.group(1), []).append(match.group(2))
+        else:
+            rest.append(sentence)
+    if not by_part:
+        return [{"type": "text", "title": "Assumptions", "paragraphs": rest}]
+    # The table first, under the heading: it is kept whole, so the heading never
+    # ends a page alone; the analysis-wide sentences flow after it.
+    rows = [[ref, " ".join(_sentence(t) for t in texts)] for ref, texts in by_part.items()]
+    return [{"type": "table", "title": "Assumptions", "columns": ["Part", "Assumed for the part"],
+             "rows": rows, "note": ""},
+            {"type": "text", "title": "", "paragraphs": rest}]
+
+
+def _sentence(text: str) -> str:
+    text = text.strip()
+    return text[:1].upper() + text[1:] if text else text
 
 
 def _figure(title: str, image, caption: str) -> dict:

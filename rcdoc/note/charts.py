@@ -40,6 +40,7 @@ from rcdoc.input.quantities import format_eng
 from rcdoc.note import palette as pal
 
 WIDTH_IN = 16.0 / 2.54  # the note's text width, 16 cm
+HALF_WIDTH_IN = 0.49 * WIDTH_IN  # one of two charts side by side (the note's ".fig.half")
 
 # Units whose values are not scaled with SI prefixes on an axis.
 _UNSCALED_UNITS = frozenset({"", "dB", "%", "°", "deg", "1"})
@@ -127,8 +128,8 @@ def _styled(fig_id: str) -> Iterator[None]:
         yield
 
 
-def _new_figure(height_in: float) -> Figure:
-    fig = Figure(figsize=(WIDTH_IN, height_in), layout="constrained")
+def _new_figure(height_in: float, width_in: float = WIDTH_IN) -> Figure:
+    fig = Figure(figsize=(width_in, height_in), layout="constrained")
     FigureCanvasSVG(fig)
     return fig
 
@@ -141,6 +142,7 @@ def _finish(fig: Figure, fig_id: str, title: str, fmt: str = "svg") -> str | byt
     """SVG text (ids prefixed with fig_id), or PNG bytes when ``fmt == "png"``."""
     if title:
         fig.suptitle(title)
+    _keep_labels_apart(fig)
     if fmt == "png":
         raw = io.BytesIO()
         # No "Software" entry and no dates: the same chart gives the same bytes.
@@ -166,6 +168,52 @@ def _prefix_ids(svg: str, prefix: str) -> str:
     svg = re.sub(r'(\s(?:xlink:)?href="#)([^"]+)(")', ref, svg)
     svg = re.sub(r"(url\(#)([^)]+)(\))", ref, svg)
     return svg
+
+
+# ---------------------------------------------------------------------------
+# Label placement
+
+
+def _keep_labels_apart(fig: Figure) -> None:
+    """Move annotation labels that overlap one placed before them.
+
+    Labels are taken in drawing order (the earlier one keeps its place); a
+    label that overlaps is tried at growing vertical then horizontal offsets
+    and kept at the first position that overlaps no placed label and stays
+    inside its axes. Only labels positioned in offset points are moved, so
+    a label keeps pointing at its mark.
+    """
+    fig.draw_without_rendering()          # runs the layout, so the boxes are final
+    renderer = fig._get_renderer()
+    pt = fig.dpi / 72.0
+    for ax in fig.axes:
+        frame = ax.get_window_extent(renderer).expanded(1.02, 1.05)
+        placed = []
+        for text in ax.texts:
+            if not text.get_visible() or not text.get_text():
+                continue
+            box = text.get_window_extent(renderer)
+            movable = getattr(text, "anncoords", None) == "offset points"
+            if movable and any(box.overlaps(other) for other in placed):
+                box = _free_place(text, box, placed, frame, renderer, pt)
+            placed.append(box)
+
+
+def _free_place(text, box, placed, frame, renderer, pt):
+    """Shift `text` (an offset-points annotation) to the nearest free place; its box."""
+    x0, y0 = text.xyann
+    h = box.height / pt + 2.0
+    w = box.width / pt + 4.0
+    tries = [(0.0, k * s * h) for k in (1, 2, 3) for s in (-1, 1)]
+    tries += [(s * w, dy) for s in (1, -1) for dy in (0.0, -h, h)]
+    for dx, dy in tries:
+        text.xyann = (x0 + dx, y0 + dy)
+        moved = text.get_window_extent(renderer)
+        if frame.contains(moved.x0, moved.y0) and frame.contains(moved.x1, moved.y1) and \
+                not any(moved.overlaps(other) for other in placed):
+            return moved
+    text.xyann = (x0, y0)     # no free place: keep the first choice
+    return box
 
 
 # ---------------------------------------------------------------------------
@@ -245,13 +293,14 @@ def _log_fraction(ax, x: float) -> float:
     return (math.log10(x) - math.log10(lo)) / (math.log10(hi) - math.log10(lo))
 
 
-def _legend(fig: Figure, handles: list) -> None:
+def _legend(fig: Figure, handles: list, max_cols: int = 4, **kwargs) -> None:
     """One legend below the plot area, in as many columns as fit the width."""
     if not handles:
         return
     longest = max(len(h.get_label()) for h in handles)
-    fit = max(1, int(100 // (longest + 8)))
-    fig.legend(handles=handles, loc="outside lower center", ncols=min(len(handles), fit, 4))
+    fit = max(1, int(100 * fig.get_figwidth() / WIDTH_IN // (longest + 8)))
+    fig.legend(handles=handles, loc="outside lower center", ncols=min(len(handles), fit, max_cols),
+               **kwargs)
 
 
 def _arr(values, name: str) -> np.ndarray:

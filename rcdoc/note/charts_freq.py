@@ -64,7 +64,10 @@ def bode(fig_id: str, freqs_hz, gain_db, phase_deg, *, band: Mapping | None = No
             ax_g.fill_between(f, bands["gain_lo"], bands["gain_hi"], color=pal.BAND_INNER, linewidth=0, zorder=1.1)
             ax_p.fill_between(f, bands["phase_min"], bands["phase_max"], color=pal.BAND_OUTER, linewidth=0, zorder=1)
             ax_p.fill_between(f, bands["phase_lo"], bands["phase_hi"], color=pal.BAND_INNER, linewidth=0, zorder=1.1)
-            handles += [Patch(color=pal.BAND_OUTER, label=outer), Patch(color=pal.BAND_INNER, label=inner)]
+            # A band thinner than about a point on both panels cannot be seen: no legend entry.
+            for key, color, text in (("min", pal.BAND_OUTER, outer), ("lo", pal.BAND_INNER, inner)):
+                if _visible_band(ax_g, bands, "gain", key) or _visible_band(ax_p, bands, "phase", key):
+                    handles.append(Patch(color=color, label=text))
         ax_g.plot(f, g, color=pal.NOMINAL, linewidth=1.5, zorder=3)
         ax_p.plot(f, p, color=pal.NOMINAL, linewidth=1.5, zorder=3)
         handles.insert(0, Line2D([], [], color=pal.NOMINAL, linewidth=1.5, label="nominal"))
@@ -74,8 +77,8 @@ def bode(fig_id: str, freqs_hz, gain_db, phase_deg, *, band: Mapping | None = No
         if corner_spread is not None:
             lo, hi = (float(v) for v in corner_spread)
             for ax in (ax_g, ax_p):
-                ax.axvspan(lo, hi, color=pal.BAND_INNER, alpha=0.35, linewidth=0, zorder=0.5)
-            handles.append(Patch(color=pal.BAND_INNER, alpha=0.35, linewidth=0,
+                ax.axvspan(lo, hi, color=pal.SPREAD, linewidth=0, zorder=0.5)
+            handles.append(Patch(color=pal.SPREAD, linewidth=0,
                                  label=f"corner spread {_eng_range(lo, hi, 'Hz')}"))
 
         drew_limit = False
@@ -96,6 +99,14 @@ def bode(fig_id: str, freqs_hz, gain_db, phase_deg, *, band: Mapping | None = No
         fig.align_ylabels([ax_g, ax_p])
         _legend(fig, handles)
         return _finish(fig, fig_id, title, fmt)
+
+
+def _visible_band(ax, bands, panel: str, key: str) -> bool:
+    """True when the band (min-max or lo-hi) is at least 1 % of the panel's height somewhere."""
+    upper = {"min": "max", "lo": "hi"}[key]
+    width = _finite(bands[f"{panel}_{upper}"] - bands[f"{panel}_{key}"])
+    y_lo, y_hi = ax.get_ylim()
+    return bool(width.size and width.max() >= 0.01 * (y_hi - y_lo))
 
 
 def _bode_inputs(fig_id, freqs_hz, gain_db, phase_deg, band, limits):
@@ -376,6 +387,5 @@ def phasor(fig_id: str, vectors: Sequence[Mapping], *, reference_label: str, fre
         ax.yaxis.set_major_formatter(_AxisEngFormatter())
         ax.set_xlabel("Real [V]")
         ax.set_ylabel("Imaginary [V]")
-        fig.legend(handles=handles, loc="outside right upper", title=f"phasors at {_eng(freq_hz, 'Hz')}",
-                   alignment="left")
+        _legend(fig, handles, max_cols=3, title=f"phasors at {_eng(freq_hz, 'Hz')}")
         return _finish(fig, fig_id, title, fmt)

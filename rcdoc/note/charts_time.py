@@ -11,11 +11,12 @@ import re
 from collections.abc import Mapping, Sequence
 
 import numpy as np
+from matplotlib import ticker
 from matplotlib.lines import Line2D
 from matplotlib.patches import Patch
 
 from rcdoc.note import palette as pal
-from rcdoc.note.charts import (_arr, _AxisEngFormatter, _check_fig_id, _eng, _finish, _finite,
+from rcdoc.note.charts import (HALF_WIDTH_IN, _arr, _AxisEngFormatter, _check_fig_id, _eng, _finish, _finite,
                                _grid, _legend, _log_axis, _new_figure, _same_shape, _styled,
                                _tick_formatter)
 
@@ -94,7 +95,13 @@ def time_response(fig_id: str, t_s, nominal, *, band=None, window: Mapping | Non
 
 def histogram(fig_id: str, samples, *, nominal: float, lo: float | None = None, hi: float | None = None,
               label: str, unit: str, title: str = "", fmt: str = "svg") -> str | bytes:
-    """Histogram of Monte Carlo samples with the nominal and the limits [lo, hi]."""
+    """Histogram of Monte Carlo samples with the nominal and the limits [lo, hi].
+
+    Drawn at half the text width (two histograms share a row of the note), so
+    its text prints at its nominal size. The axis is fitted to the samples and
+    the nominal; a limit far off that range is not drawn to scale but shown as
+    an arrow at the axis edge with its value. All samples in one value: one bar.
+    """
     _check_fig_id(fig_id)
     x = _arr(samples, "samples")
     x = x[np.isfinite(x)]
@@ -103,52 +110,90 @@ def histogram(fig_id: str, samples, *, nominal: float, lo: float | None = None, 
     nominal = float(nominal)
 
     with _styled(fig_id):
-        fig = _new_figure(2.9)
+        fig = _new_figure(2.5, HALF_WIDTH_IN)
         ax = fig.add_subplot()
         ax.grid(True, axis="y", color=pal.GRID, linewidth=0.6)
         x_min, x_max = float(x.min()), float(x.max())
-        if x_max > x_min:
-            edges = np.histogram_bin_edges(x, bins="auto")
-            if edges.size > 61:
-                edges = np.linspace(x_min, x_max, 61)
-        else:
-            half = abs(x_min) * 1e-3 or 1e-12
+        data_lo, data_hi = min(x_min, nominal), max(x_max, nominal)
+        # A degenerate spread (every sample within a part per million) is one bar.
+        scale = max(abs(data_lo), abs(data_hi), 1e-300)
+        single = data_hi - data_lo <= 1e-6 * scale
+        if single:
+            half = 0.02 * scale or 1e-12
+            data_lo, data_hi = data_lo - 10 * half, data_hi + 10 * half
             edges = np.array([x_min - half, x_min + half])
+        else:
+            edges = np.histogram_bin_edges(x, bins="auto")
+            if edges.size > 41:
+                edges = np.linspace(x_min, x_max, 41)
         counts, edges = np.histogram(x, bins=edges)
         ax.stairs(counts, edges, fill=True, color=pal.BAND_INNER, zorder=2)
         ax.stairs(counts, edges, color=pal.NOMINAL, linewidth=0.7, zorder=2.1)
         handles = [Patch(facecolor=pal.BAND_INNER, edgecolor=pal.NOMINAL, linewidth=0.7,
-                         label=f"Monte Carlo, {x.size} samples")]
+                         label=f"{x.size} samples" + (", all one value" if single else ""))]
         ax.axvline(nominal, color=pal.INK, linewidth=1.4, zorder=3)
         handles.append(Line2D([], [], color=pal.INK, linewidth=1.4, label=f"nominal {_eng(nominal, unit)}"))
-
-        bounds = [x_min, x_max, nominal] + [v for v in (lo, hi) if v is not None]
-        span = max(bounds) - min(bounds) or abs(nominal) or 1.0
-        left, right = min(bounds) - 0.08 * span, max(bounds) + 0.08 * span
+        left, right = _hist_range(data_lo, data_hi, lo, hi)
         ax.set_xlim(left, right)
-        ax.set_ylim(0, max(int(counts.max()), 1) * 1.12)
+        top = max(int(counts.max()), 1) * 1.25
+        ax.set_ylim(0, top)
         outside = 0
-        if lo is not None:
-            ax.axvspan(left, float(lo), facecolor=pal.LIMIT, edgecolor="none", zorder=0.5)
-            ax.axvline(float(lo), color=pal.LIMIT_EDGE, linewidth=1.2, zorder=2.5)
-            outside += int(np.count_nonzero(x < float(lo)))
-        if hi is not None:
-            ax.axvspan(float(hi), right, facecolor=pal.LIMIT, edgecolor="none", zorder=0.5)
-            ax.axvline(float(hi), color=pal.LIMIT_EDGE, linewidth=1.2, zorder=2.5)
-            outside += int(np.count_nonzero(x > float(hi)))
+        for limit, below in ((lo, True), (hi, False)):
+            if limit is None:
+                continue
+            limit = float(limit)
+            outside += int(np.count_nonzero(x < limit if below else x > limit))
+            _hist_limit(ax, limit, below, left, right, top, unit)
         if lo is not None or hi is not None:
             handles.append(Patch(facecolor=pal.LIMIT, edgecolor=pal.LIMIT_EDGE, linewidth=0.8,
-                                 label=f"outside requirement ({outside} of {x.size})"))
+                                 label=f"outside limit: {outside} of {x.size}"))
 
         ax.xaxis.set_major_formatter(_tick_formatter(unit))
+        ax.xaxis.set_major_locator(ticker.MaxNLocator(5))
         ax.set_xlabel(f"{label} [{unit}]" if unit else label)
         ax.set_ylabel("Samples per bin")
-        _legend(fig, handles)
+        _legend(fig, handles, max_cols=2)
         return _finish(fig, fig_id, title, fmt)
+
+
+def _hist_range(data_lo: float, data_hi: float, lo, hi) -> tuple[float, float]:
+    """X range: the data and nominal, stretched to a limit only if it is near (within one
+    span); a farther limit stays off scale and is drawn as an arrow at the edge."""
+    span = data_hi - data_lo
+    left, right = data_lo - 0.15 * span, data_hi + 0.15 * span
+    for limit in (lo, hi):
+        if limit is None:
+            continue
+        limit = float(limit)
+        if data_lo - span <= limit <= data_hi + span:
+            left, right = min(left, limit - 0.1 * span), max(right, limit + 0.1 * span)
+    return left, right
+
+
+def _hist_limit(ax, limit: float, below: bool, left: float, right: float, top: float, unit: str) -> None:
+    """Shade the forbidden side of one limit, or point at it when it is off scale."""
+    if left <= limit <= right:
+        a, b = (left, limit) if below else (limit, right)
+        ax.axvspan(a, b, facecolor=pal.LIMIT, edgecolor="none", zorder=0.5)
+        ax.axvline(limit, color=pal.LIMIT_EDGE, linewidth=1.2, zorder=2.5)
+        return
+    off_left = limit < left
+    if off_left != below:
+        # The whole visible axis is on the forbidden side: shade it.
+        ax.axvspan(left, right, facecolor=pal.LIMIT, edgecolor="none", zorder=0.5)
+    edge = left if off_left else right
+    ax.annotate(f"limit {_eng(limit, unit)}", xy=(edge, 0.9 * top),
+                xytext=(20 if off_left else -20, 0), textcoords="offset points",
+                ha="left" if off_left else "right", va="center", color=pal.INK, zorder=6,
+                arrowprops={"arrowstyle": "-|>", "color": pal.LIMIT_EDGE, "linewidth": 1.2,
+                            "shrinkA": 0, "shrinkB": 0})
 
 
 # ---------------------------------------------------------------------------
 # Corner frequencies of all stages
+
+
+_STATUS_MARKER = {"pass": "o", "fail": "X"}
 
 
 def corner_overview(fig_id: str, rows: Sequence[Mapping], title: str = "", *, fmt: str = "svg") -> str | bytes:
@@ -176,7 +221,9 @@ def corner_overview(fig_id: str, rows: Sequence[Mapping], title: str = "", *, fm
             color = pal.PASS if status == "pass" else pal.FAIL
             ax.plot([f_min, f_max], [i, i], color=color, linewidth=3.0, alpha=0.45,
                     solid_capstyle="butt", zorder=2)
-            ax.plot([nom], [i], marker="o", markersize=5, color=color, linestyle="none", zorder=3)
+            # Shape as well as colour: a circle passes, a cross fails (readable in grey print).
+            ax.plot([nom], [i], marker=_STATUS_MARKER[status], markersize=5.5, color=color,
+                    markeredgewidth=1.8, linestyle="none", zorder=3)
             ax.annotate(_eng(nom, "Hz"), xy=(f_max, i), xytext=(6, 0), textcoords="offset points",
                         ha="left", va="center", color=pal.INK, zorder=4)
         lo = min(p[2] for p in parsed)
@@ -196,7 +243,8 @@ def corner_overview(fig_id: str, rows: Sequence[Mapping], title: str = "", *, fm
         handles = []
         for status, color in (("pass", pal.PASS), ("fail", pal.FAIL)):
             if any(p[4] == status for p in parsed):
-                handles.append(Line2D([], [], color=color, marker="o", markersize=5, linewidth=3.0,
+                handles.append(Line2D([], [], color=color, marker=_STATUS_MARKER[status], markersize=5.5,
+                                      markeredgewidth=1.8, linewidth=3.0,
                                       alpha=1.0, label=f"{status}: nominal and min–max"))
         _legend(fig, handles)
         return _finish(fig, fig_id, title, fmt)
@@ -213,6 +261,20 @@ def _axis_label(curves: list) -> str:
         names = " / ".join(dict.fromkeys(c[1] for c in curves))
         return f"{names} [{unit}]" if unit else names
     return ", ".join(f"{c[1]} [{c[2]}]" if c[2] else c[1] for c in curves)
+
+
+def _clip_to_band(ax, ys: list, lo: float, hi: float) -> None:
+    """Clip the left axis to 4 band widths around the allowed band when the curves run far
+    beyond it (a ±½ LSB band is read on a ±4 LSB axis, not a ±400 LSB one)."""
+    width = hi - lo
+    data = _finite(*ys)
+    if not (width > 0 and data.size):
+        return
+    y_lo, y_hi = lo - 3.5 * width, hi + 3.5 * width
+    if data.min() < y_lo or data.max() > y_hi:
+        ax.set_ylim(y_lo, y_hi)
+        ax.annotate("axis clipped: curves continue off scale", xy=(0.99, 0.98),
+                    xycoords="axes fraction", ha="right", va="top", color=pal.MUTED, zorder=6)
 
 
 def sweep(fig_id: str, x, curves: Sequence[Mapping], *, xlabel: str, x_unit: str, logx: bool = True,
@@ -277,6 +339,7 @@ def sweep(fig_id: str, x, curves: Sequence[Mapping], *, xlabel: str, x_unit: str
             ax.axhspan(float(allowed["lo"]), float(allowed["hi"]), color=pal.ALLOWED, linewidth=0,
                        zorder=0.5)
             handles.append(Patch(color=pal.ALLOWED, label=str(allowed["label"])))
+            _clip_to_band(ax, [c[0] for c in left], float(allowed["lo"]), float(allowed["hi"]))
         for mk in markers:
             if np.isfinite(mk["x"]):
                 ax.axvline(float(mk["x"]), color=pal.PASS, linewidth=0.9, linestyle=(0, (4, 2)),

@@ -41,7 +41,7 @@ def edges(fig_id: str, panels: Sequence[Mapping], *, ylabel: str = "Input [V]",
                             color=pal.BAND_OUTER, linewidth=0, zorder=1)
             c0, c1 = p["cross_range"]
             if np.isfinite(c0) and np.isfinite(c1):
-                ax.axvspan(c0, c1, color=pal.BAND_INNER, alpha=0.35, linewidth=0, zorder=0.6)
+                ax.axvspan(c0, c1, color=pal.SPREAD, linewidth=0, zorder=0.6)
             if np.isfinite(p["cross"]):
                 ax.axvline(p["cross"], color=pal.PASS, linewidth=0.9, linestyle=(0, (4, 2)),
                            zorder=2)
@@ -61,6 +61,6 @@ def edges(fig_id: str, panels: Sequence[Mapping], *, ylabel: str = "Input [V]",
                    Patch(color=pal.GRID, label="other threshold range"),
                    Line2D([], [], color=pal.PASS, linewidth=0.9, linestyle=(0, (4, 2)),
                           label="crossing (nominal)"),
-                   Patch(color=pal.BAND_INNER, alpha=0.35, label="crossing, sample range")]
+                   Patch(color=pal.SPREAD, label="crossing, sample range")]
         _legend(fig, handles)
         return _finish(fig, fig_id, "", fmt)

@@ -23,7 +23,7 @@ from rcdoc.input.quantities import parse_quantity
 from rcdoc.kinds import KINDS
 from rcdoc.note import charts_freq, charts_time
 from rcdoc.note import schematic as sch
-from rcdoc.note.blocks import draw_all
+from rcdoc.note.blocks import assumptions, draw_all
 from rcdoc.note.context import (bom_appendix, checks_table, fq,
                                 kind_result, method_appendix, metric_label, metrics_table,
                                 parts_table, ratings_table, sensitivity_table, summary_rows)
@@ -74,17 +74,23 @@ def phasor_figure(r: StageResult) -> dict | None:
     vectors, tail = [], 0j
     for name, kind, v in ph.vectors:
         ref = _ref_of(r, name)
-        vectors.append({"label": f"V({ref}) {abs(v):.3g} V", "value": v, "kind": kind,
+        vectors.append({"label": f"across {ref}: {fq(abs(v), 'V')}", "value": v, "kind": kind,
                         "tail": tail})
         tail += v
     if ph.closing is not None:
         node, v = ph.closing
-        vectors.append({"label": f"V({node}) to ground {abs(v):.3g} V", "value": v,
+        vectors.append({"label": f"{node} to ground: {fq(abs(v), 'V')}", "value": v,
                         "kind": "C", "tail": tail})
-    vectors.append({"label": "Source 1 V", "value": ph.source, "kind": "source", "tail": 0j})
+    vectors.append({"label": "source: 1 V", "value": ph.source, "kind": "source", "tail": 0j})
     if ph.output is not None and ph.closing is not None:
-        vectors.append({"label": f"Output {abs(ph.output):.3g} V", "value": ph.output,
+        vectors.append({"label": f"output: {fq(abs(ph.output), 'V')}", "value": ph.output,
                         "kind": "sum", "tail": 0j})
+    if _all_in_phase([v["value"] for v in vectors]):
+        # Collinear phasors say nothing a drawing could add: one sentence instead.
+        return {"type": "text", "title": f"Phasors at {fq(ph.freq_hz, 'Hz')}",
+                "paragraphs": [f"At {fq(ph.freq_hz, 'Hz')} every part voltage is in phase "
+                               "with the source (within 1°): the network acts as a plain divider "
+                               "there, so no phasor diagram is drawn."]}
     if ph.reference == "current":
         ref_label = f"Current {fq(abs(ph.current), 'A')} (reference)"
         angle = math.degrees(math.atan2(ph.source.imag, ph.source.real))
@@ -100,6 +106,14 @@ def phasor_figure(r: StageResult) -> dict | None:
             "width": "full",
             "caption": f"Part voltages head to tail for a 1 V rms source at "
                        f"{fq(ph.freq_hz, 'Hz')}; they add up to the source voltage; {what}."}
+
+
+def _all_in_phase(values) -> bool:
+    """True when every non-zero phasor lies on one line through the origin (within 1°)."""
+    big = max((abs(v) for v in values), default=0.0)
+    angles = [math.atan2(v.imag, v.real) for v in values if abs(v) > 1e-6 * big]
+    return bool(angles) and all(abs(math.sin(a - angles[0])) < math.sin(math.radians(1.0))
+                                for a in angles)
 
 
 def _ref_of(r: StageResult, element: str) -> str:
@@ -196,8 +210,7 @@ def stage_context(r: StageResult, project: Project) -> dict:
     sens = sensitivity_table(r)
     if sens:
         blocks.append(sens)
-    blocks.append({"type": "text", "title": "Assumptions",
-                   "paragraphs": list(_analysis_sentences(r, project)) + list(r.assumptions)})
+    blocks += assumptions(list(_analysis_sentences(r, project)), list(r.assumptions))
     safety = safety_box(r, project.board.hazardous_voltage_v)
     return {"id": st.id, "title": st.title, "kind": KINDS[st.kind].TITLE,
             "status": r.status, "notes": list(paragraphs(st.notes)) if st.notes else [],

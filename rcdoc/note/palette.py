@@ -21,6 +21,7 @@ CURRENT = "#a23e5c"     # raspberry, the series current / reference direction
 NOMINAL = "#1f4e79"     # deep navy, the nominal curve
 BAND_OUTER = "#d3e1ee"  # pale blue, Monte Carlo min-max
 BAND_INNER = "#97b7d4"  # mid blue, central percentile band
+SPREAD = "#e8cfa9"      # pale sand, the spread of a time or frequency (a corner, a crossing)
 
 # Requirements and verdicts.
 LIMIT = "#f4d6d1"       # light rose fill of a forbidden region
