@@ -32,12 +32,11 @@ def assumptions(general: list[str], per_part: list[str]) -> list[dict]:
             rest.append(sentence)
     if not by_part:
         return [{"type": "text", "title": "Assumptions", "paragraphs": rest}]
-    # The table first, under the heading: it is kept whole, so the heading never
-    # ends a page alone; the analysis-wide sentences flow after it.
+    # One table kept whole with its heading; the analysis-wide sentences are its
+    # note, so they never spill onto a page of their own.
     rows = [[ref, " ".join(_sentence(t) for t in texts)] for ref, texts in by_part.items()]
     return [{"type": "table", "title": "Assumptions", "columns": ["Part", "Assumed for the part"],
-             "rows": rows, "note": ""},
-            {"type": "text", "title": "", "paragraphs": rest}]
+             "rows": rows, "note": " ".join(rest)}]
 
 
 def _sentence(text: str) -> str:

@@ -184,10 +184,18 @@ def metrics_table(r: StageResult) -> dict:
                                   "inside\"); it holds the nominal and every sample."}
 
 
+def _short_heading(m) -> str:
+    """A narrow column heading: the registry's short label, its frequency, its band."""
+    text = METRICS[m.name].short
+    if m.at_hz is not None:
+        text += f" at {fq(m.at_hz, 'Hz')}"
+    return f"{text} ({m.detail})" if m.detail else text
+
+
 def sensitivity_table(r: StageResult) -> dict | None:
     chosen = [m for m in r.metrics if m.name in {v.metric for v in r.verdicts}] or \
         [m for m in r.metrics if m.name in ("corner", "f0", "corner_low")]
-    chosen = chosen[:4]
+    chosen = chosen[:3]         # the part and tolerance columns plus three fit the text width
     if not chosen or not r.stage.parts:
         return None
     roles = list(chosen[0].sensitivity)
@@ -210,8 +218,7 @@ def sensitivity_table(r: StageResult) -> dict | None:
                 cells.append(f"{s:+.3f}")
         rows.append(cells)
     return {"type": "table", "title": "What drives the spread",
-            "columns": ["Part", "Tolerance"] + [metric_label(m.name, m.at_hz, m.detail, m.label)
-                                                for m in chosen],
+            "columns": ["Part", "Tolerance"] + [_short_heading(m) for m in chosen],
             "rows": rows,
             "note": "Sensitivity: relative change of the metric per relative change of the "
                     "part (dB or degrees per percent for gains and phases), at the nominal "
