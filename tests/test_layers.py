@@ -23,12 +23,8 @@ LAYERS = ("base", "input", "analysis", "kinds", "note", "commands", "entry")
 
 # Imports allowed to go up a layer: none.
 PENDING: set[tuple[str, str]] = set()
-# TEMPORARY: rings inside the note layer, in files other changes are reworking
-# (report/assemble; the formatting helpers that summary and machine borrow from
-# context). Each entry is a ring's set of modules; emptied after those land.
-PENDING_CYCLES = {
-    frozenset({"rcdoc.note.assemble", "rcdoc.note.report"}),
-}
+# Rings allowed: none.
+PENDING_CYCLES: set[frozenset[str]] = set()
 
 
 def _modules() -> dict[str, tuple[Path, bool]]:

@@ -63,8 +63,8 @@ def test_same_stem_with_default_folders_is_allowed(tmp_path):
 @pytest.mark.parametrize("swallowed", [False, True], ids=["raised", "swallowed"])
 def test_ctrl_c_during_final_render_gives_130_and_keeps_the_note(tmp_path, capsys, monkeypatch,
                                                                  swallowed):
-    import rcdoc.note.report
-    real = rcdoc.note.report.render_pdf
+    import rcdoc.note.pdf
+    real = rcdoc.note.pdf.render_pdf
 
     def interrupted_render(context, out_path, **kw):
         used = real(context, out_path, **kw)
@@ -76,7 +76,7 @@ def test_ctrl_c_during_final_render_gives_130_and_keeps_the_note(tmp_path, capsy
             pass
         return used
 
-    monkeypatch.setattr(rcdoc.note.report, "render_pdf", interrupted_render)
+    monkeypatch.setattr(rcdoc.note.pdf, "render_pdf", interrupted_render)
     proj = tmp_path / "board.toml"
     proj.write_text(project(), encoding="utf-8")
     out = tmp_path / "out"

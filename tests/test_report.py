@@ -16,6 +16,7 @@ import pypdf
 import pytest
 
 from rcdoc.note import report
+from rcdoc.note import pdf
 from rcdoc.errors import ProjectError
 
 # Every test here renders a note to PDF (or runs a build): the quick run skips them.
@@ -117,7 +118,7 @@ class _Spy:
 @pytest.fixture(scope="module")
 def rendered(tmp_path_factory) -> Path:
     out = tmp_path_factory.mktemp("note") / "note.pdf"
-    report.render_pdf(make_context(), out, source_date_epoch=EPOCH)
+    pdf.render_pdf(make_context(), out, source_date_epoch=EPOCH)
     return out
 
 
@@ -157,7 +158,7 @@ def test_same_context_same_bytes(rendered, tmp_path):
     # Reproducible output (reproducible-builds.org, SOURCE_DATE_EPOCH spec):
     # two renders of one context must be byte-identical.
     again = tmp_path / "again.pdf"
-    report.render_pdf(make_context(), again, source_date_epoch=EPOCH)
+    pdf.render_pdf(make_context(), again, source_date_epoch=EPOCH)
     assert again.read_bytes() == rendered.read_bytes()
     # The file identifier (ISO 32000-1 §14.4) is fixed by board and revision.
     first_id = pypdf.PdfReader(again).trailer["/ID"][0]
@@ -175,7 +176,7 @@ def test_user_text_is_escaped_and_nothing_outside_is_fetched(tmp_path, monkeypat
     ctx["stages"][0]["title"] = hostile
     ctx["stages"][0]["blocks"][3]["rows"][0][0] = '<img src="http://example.invalid/x.png">'
     out = tmp_path / "note.pdf"
-    report.render_pdf(ctx, out, project_dir=tmp_path)
+    pdf.render_pdf(ctx, out, project_dir=tmp_path)
     text = _text(out)
     # The markup comes out as literal characters (autoescape, common practice).
     assert 'Bad <b>x</b> <img src="file:///etc/passwd">' in text
@@ -227,7 +228,7 @@ def test_refused_resource_in_a_template_is_skipped_and_recorded(tmp_path, monkey
         shipped + '<img src="file:///etc/passwd"><img src="http://example.invalid/x.png">\n'
     )
     out = tmp_path / "note.pdf"
-    report.render_pdf(make_context(), out, template_dirs=[override])
+    pdf.render_pdf(make_context(), out, template_dirs=[override])
     assert out.stat().st_size > 0
     (fetcher,) = spy.fetchers
     assert fetcher.refused == ["file:///etc/passwd", "http://example.invalid/x.png"]
@@ -240,7 +241,7 @@ def test_override_css_is_used(rendered, tmp_path):
     css = (report.shipped_templates_dir() / "note.css").read_text()
     (override / "note.css").write_text(css + '\n.cover::after { content: "House style 4711"; }\n')
     out = tmp_path / "note.pdf"
-    report.render_pdf(make_context(), out, template_dirs=[override])
+    pdf.render_pdf(make_context(), out, template_dirs=[override])
     assert "House style 4711" in _text(out)
     assert "House style 4711" not in _text(rendered)  # the shipped look
 
@@ -260,7 +261,7 @@ def test_template_errors_name_file_and_line(tmp_path, source, line):
     out = tmp_path / "note.pdf"
     out.write_bytes(b"earlier note")
     with pytest.raises(ProjectError) as caught:
-        report.render_pdf(make_context(), out, template_dirs=[override])
+        pdf.render_pdf(make_context(), out, template_dirs=[override])
     message = str(caught.value)
     assert str(override / "note.html") in message
     assert f"line {line}" in message
@@ -282,7 +283,7 @@ def test_render_without_dates(tmp_path, monkeypatch):
     # Without an epoch and without SOURCE_DATE_EPOCH the PDF carries no dates.
     monkeypatch.delenv("SOURCE_DATE_EPOCH", raising=False)
     out = tmp_path / "note.pdf"
-    report.render_pdf(make_context(), out)
+    pdf.render_pdf(make_context(), out)
     meta = pypdf.PdfReader(out).metadata
     assert "/CreationDate" not in meta and "/ModDate" not in meta
 
@@ -314,7 +315,7 @@ def test_column_kinds():
 
 def test_missing_template_folder_is_a_project_error(tmp_path):
     with pytest.raises(ProjectError) as caught:
-        report.render_pdf(make_context(), tmp_path / "n.pdf", template_dirs=[tmp_path / "nope"])
+        pdf.render_pdf(make_context(), tmp_path / "n.pdf", template_dirs=[tmp_path / "nope"])
     assert "nope" in str(caught.value)
     assert not (tmp_path / "n.pdf").exists()
 

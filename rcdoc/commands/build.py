@@ -343,7 +343,7 @@ def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
                   extra_appendix=(), changes=None) -> tuple[Path, Path]:
     """Render the PDF and the JSON; both land only if both could be made."""
     from rcdoc.note.page import note_context
-    from rcdoc.note.report import render_pdf
+    from rcdoc.note.pdf import render_pdf
     from rcdoc.note.summary import summary, to_json
     project = outcome.project
     stem = Path(project.file).stem

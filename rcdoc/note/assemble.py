@@ -19,7 +19,7 @@ concatenates the parts' pages and adds what spans the whole note:
 
 Parts are used only when note.html is the shipped one or an identical copy
 (it knows the parts); an own note.html is rendered as one document
-(report.render_pdf).
+(rcdoc.note.pdf.render_pdf).
 
 What it must not do: build contexts, decide what goes in the note, or write
 files; it turns contexts into PDF bytes.

@@ -75,7 +75,7 @@ from rcdoc.errors import ProjectError
 from rcdoc.files import write_atomic
 
 __all__ = [
-    "render_pdf",
+    "render_document",
     "render_html",
     "make_url_fetcher",
     "shipped_templates_dir",
@@ -435,45 +435,28 @@ def render_html(
         raise  # a bug in rcdoc (context or shipped template), not the user's
 
 
-def render_pdf(
-    context: dict,
-    out_path: Path,
-    *,
-    template_dirs: Sequence[Path] = (),
-    project_dir: Path | None = None,
-    source_date_epoch: int | None = None,
-    stage_parts=None,
-    stage_keys=None,
-):
-    """Render the note and write it atomically to ``out_path``.
-
-    With the shipped note.html the note is rendered in parts and assembled
-    (rcdoc.note.assemble): ``stage_parts`` are stage parts made earlier (by the
-    build's workers or its cache), used where their key equals ``stage_keys``.
-    Returns the stage parts used (None when rendered as one document).
-
-    ``template_dirs`` are searched before the shipped templates. Files may be
-    read only from those folders and ``project_dir``. ``source_date_epoch``
-    (seconds, UTC) dates the PDF; without it the ``SOURCE_DATE_EPOCH``
-    environment variable is used, and without that the PDF carries no dates.
-    """
-    out_path = Path(out_path)
+def epoch_of(source_date_epoch: int | None) -> int | None:
+    """The note's date: as given, else ``SOURCE_DATE_EPOCH`` from the environment, else None."""
     if source_date_epoch is None and os.environ.get("SOURCE_DATE_EPOCH", "").strip():
         try:
-            source_date_epoch = int(os.environ["SOURCE_DATE_EPOCH"])
+            return int(os.environ["SOURCE_DATE_EPOCH"])
         except ValueError as exc:
             raise ProjectError(
                 f"SOURCE_DATE_EPOCH must be whole seconds, got {os.environ['SOURCE_DATE_EPOCH']!r}"
             ) from exc
-    from rcdoc.note import assemble  # noqa: PLC0415 - assemble imports this module
+    return source_date_epoch
 
-    used = None
-    if assemble.can_assemble(template_dirs):
-        pdf_bytes, used = assemble.render_note(
-            context, template_dirs=template_dirs, project_dir=project_dir,
-            source_date_epoch=source_date_epoch, stage_parts=stage_parts, stage_keys=stage_keys)
-        _write_bytes(out_path, pdf_bytes)
-        return used
+
+def render_document(context: dict, out_path: Path, *, template_dirs: Sequence[Path] = (),
+                    project_dir: Path | None = None,
+                    source_date_epoch: int | None = None) -> None:
+    """Render the note as one document and write it atomically to ``out_path``
+    (rcdoc.note.pdf.render_pdf chooses between this and the note in parts).
+
+    ``template_dirs`` are searched before the shipped templates. Files may be
+    read only from those folders and ``project_dir``. ``source_date_epoch``
+    (seconds, UTC) dates the PDF; without it the PDF carries no dates.
+    """
     html = render_html(
         context, template_dirs=template_dirs, source_date_epoch=source_date_epoch
     )
@@ -489,11 +472,10 @@ def render_pdf(
 
     with _font_timestamp(source_date_epoch or 0):
         pdf_bytes = document.write_pdf(pdf_identifier=pdf_id, cache=cache)
-    _write_bytes(out_path, pdf_bytes)
-    return used
+    write_note(out_path, pdf_bytes)
 
 
-def _write_bytes(out_path: Path, data: bytes) -> None:
+def write_note(out_path: Path, data: bytes) -> None:
     """Write the note atomically; a file-system failure is the user's to fix (exit 2)."""
     try:
         write_atomic(Path(out_path), data)
