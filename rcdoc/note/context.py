@@ -16,8 +16,7 @@ import numpy as np
 from rcdoc.analysis.analyse import StageResult
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Project
-from rcdoc.input.quantities import (NOTE_MINUS, PART_UNITS, distinct_digits, format_quantity,
-                                    parse_quantity)
+from rcdoc.input.quantities import NOTE_MINUS, PART_UNITS, distinct_digits, format_quantity
 from rcdoc.kinds import KINDS
 
 def fq(value, unit: str, digits: int = 3, metric: str | None = None) -> str:
@@ -146,8 +145,9 @@ def ratings_table(r: StageResult) -> dict | None:
     rows = []
     for v in r.ratings:
         unit = METRICS[v.metric].unit
-        rows.append([v.part, METRICS[v.metric].label, fq(v.max, unit), fq(v.nominal, unit),
-                     fq(v.worst, unit), f"{(v.worst / v.max * 100) if v.max else 0:.0f} %",
+        rows.append([v.part, METRICS[v.metric].label, fq(v.max, unit),
+                     fq(v.nominal, unit, metric=v.metric), fq(v.worst, unit, metric=v.metric),
+                     f"{(v.worst / v.max * 100) if v.max else 0:.0f} %",
                      v.status])
     return {"type": "table", "title": "Part stress against ratings",
             "columns": ["Part", "Stress", "Rating", "Nominal", "Worst sample", "Use of rating",
@@ -167,12 +167,11 @@ def metrics_table(r: StageResult) -> dict:
         else:
             lo = hi = mean = std = math.nan
         missing = m.samples.size - s.size
-        rows.append([metric_label(m.name, m.at_hz, m.detail, m.label), fq(m.nominal, unit),
-                     fq(lo, unit),
-                     fq(hi, unit), fq(mean, unit), fq(std, unit)
-                     if unit not in ("dB", "deg") or not math.isfinite(std)
-                     else f"{std:.3g} {'dB' if unit == 'dB' else '°'}",
-                     f"{fq(m.wc[0], unit)} … {fq(m.wc[1], unit)}"
+        def q(x, name=m.name, unit=unit):
+            return fq(x, unit, metric=name)    # the registry's resolution: no rounding noise
+        rows.append([metric_label(m.name, m.at_hz, m.detail, m.label), q(m.nominal), q(lo),
+                     q(hi), q(mean), q(std),
+                     f"{q(m.wc[0])} … {q(m.wc[1])}"
                      + (" (searched inside)" if "search" in m.wc_method else "")
                      + (f" ({missing} samples without a value)" if missing else "")])
     return {"type": "table", "title": "Metrics",
@@ -182,6 +181,16 @@ def metrics_table(r: StageResult) -> dict:
                                   "corners of the box of part values, searched inside the box "
                                   "where the metric is not monotonic in a part (\"searched "
                                   "inside\"); it holds the nominal and every sample."}
+
+
+def _signed(s: float) -> str:
+    """A sensitivity with three significant figures in positional notation; below
+    1e-4 (per percent) it is rounding noise and reads 0."""
+    if abs(s) < 1e-4:
+        return "0"
+    text = np.format_float_positional(abs(s), precision=3, unique=False, fractional=False,
+                                      trim="-")
+    return ("+" if s > 0 else NOTE_MINUS) + text
 
 
 def _short_heading(m) -> str:
@@ -213,9 +222,9 @@ def sensitivity_table(r: StageResult) -> dict | None:
             if not math.isfinite(s):         # e.g. an unstable nominal: no value to vary
                 cells.append("—")
             elif unit in ("dB", "deg"):
-                cells.append(f"{s:+.3g} {'dB' if unit == 'dB' else '°'}/%")
+                cells.append(f"{_signed(s)} {'dB' if unit == 'dB' else '°'}/%")
             else:
-                cells.append(f"{s:+.3f}")
+                cells.append(_signed(s))
         rows.append(cells)
     return {"type": "table", "title": "What drives the spread",
             "columns": ["Part", "Tolerance"] + [_short_heading(m) for m in chosen],

@@ -19,7 +19,6 @@ from rcdoc.analysis.blocks import BODY, LEAD
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Project
 from rcdoc.input.project import paragraphs
-from rcdoc.input.quantities import parse_quantity
 from rcdoc.kinds import KINDS
 from rcdoc.note import charts_freq, charts_time
 from rcdoc.note import schematic as sch
