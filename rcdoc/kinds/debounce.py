@@ -202,7 +202,6 @@ def _ratings(stage, batch, arrays):
 
 def analyse(stage, analysis):
     from rcdoc.analysis.analyse import StageResult, _assumptions, _part_rows
-    from rcdoc.analysis.results import LegacyKindResult
     batch, rising, falling = threshold_batch(stage, analysis)
     arrays = evaluate(stage, batch.values, rising, falling)
     metrics_ = [_metric_result(name, np.asarray(arrays[name], float), batch)

@@ -352,11 +352,5 @@ def bom_appendix(project: Project) -> list[dict]:
 
 
 def kind_result(r: StageResult):
-    """The stage's kind result (rcdoc.analysis.results.KindResult), or None.
-
-    Read from ``StageResult.kind_result`` where it exists, else from where the
-    kind modules file it until then (``extra["kind_result"]``)."""
-    found = getattr(r, "kind_result", None)
-    if found is None:
-        found = (getattr(r, "extra", None) or {}).get("kind_result")
-    return found
+    """The stage's kind result (rcdoc.analysis.results.KindResult), or None."""
+    return r.kind_result
