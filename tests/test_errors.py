@@ -106,6 +106,9 @@ CASES = [
     ("unknown-check-key", project(check('metric = "corner"\nmaxx = "3 kHz"\n')),
      "stage[1].check[1].maxx", ["did you mean 'max'"], (), {}),
     ("no-stages", BOARD + ANALYSIS, "stage", ["at least one stage"], (), {}),
+    # Found by the loader fuzz test: an empty array of stages loaded as a project of none.
+    ("empty-stage-array", "stage = []\n" + BOARD + ANALYSIS, "stage", ["at least one stage"],
+     (), {}),
     ("stage-id-missing", project(head='[[stage]]\ntitle = "ADC input 0"\n'),
      "stage[1].id", ["required"], (), {}),
     ("stage-kind-missing", project(LOWPASS.replace('kind = "rc-lowpass"\n', "")),

@@ -140,7 +140,8 @@ def _project(data: dict, file: str, reg: Registries, *, samples: int | None,
     if seed is not None:
         analysis = _replace(analysis, seed=need_int(seed, "--seed", 0, 2**63 - 1))
     raw_stages = data.get("stage")
-    if raw_stages is None:
+    # `stage = []` is as empty as no [[stage]] table at all: nothing to judge.
+    if raw_stages is None or raw_stages == []:
         raise ProjectError("no [[stage]] tables: a project needs at least one stage",
                            path="stage")
     if not isinstance(raw_stages, list):
