@@ -12,6 +12,7 @@ from __future__ import annotations
 import datetime as dt
 import json
 import math
+import os
 
 import pytest
 from hypothesis import HealthCheck, given, settings
@@ -29,7 +30,11 @@ from rcdoc.input.quantities import (UNITS, format_quantity, format_rkm, parse_qu
 # Property-based fuzzing (hundreds of generated documents per test): the quick run skips it.
 pytestmark = pytest.mark.slow
 
-FUZZ = settings(deadline=None, max_examples=150, database=None,
+# CI runs the same 150 documents every time (derandomized: a red build is the
+# change's fault, not the dice's); RCDOC_FUZZ_EXAMPLES=5000 runs fresh random
+# documents for a deliberate hunt.
+_HUNT = int(os.environ.get("RCDOC_FUZZ_EXAMPLES", "0"))
+FUZZ = settings(deadline=None, max_examples=_HUNT or 150, derandomize=not _HUNT, database=None,
                 suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
 
 # ------------------------------------------------------------------ values
