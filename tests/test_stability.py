@@ -27,6 +27,7 @@ from scipy import signal
 
 from boards import analyse_one, load
 from rcdoc.analysis import poles as polemod
+from rcdoc.kinds import kind_of
 from rcdoc.kinds import analyse_stage
 from rcdoc.analysis.network import Element, Network
 from rcdoc.analysis.spread import build_batch
@@ -268,3 +269,43 @@ def test_phase_at_mark_is_unwrapped_from_the_passband(tmp_path):
     # At 30 kHz the phase is well past −180°: −250°, not +110°.
     assert res.metric("phase", 30e3).nominal == pytest.approx(-250.0, abs=5.0)
     assert np.all(res.metric("phase", 30e3).samples < -180.0)
+
+
+@pytest.mark.slow
+def test_extreme_values_sallen_key_time_response_matches_the_closed_form(tmp_path):
+    # The same 1 GΩ / 1 mΩ / 10 mF / 1 fF unity-gain Sallen-Key. Its step
+    # response is the textbook second-order one, H(s) = 1/(s²·a2 + s·a1 + 1),
+    # here through scipy.signal.step; the overshoot of a second-order low-pass
+    # is exp(−πζ/√(1 − ζ²)) with ζ = 1/(2Q) (textbook). Nodal stamping loses
+    # 1/(1 GΩ) beside 1/(1 mΩ): the march then blew up to 1e35 V and gave a
+    # 54 ps rise time.
+    r1, r2, c1, c2 = 1e9, 1e-3, 10e-3, 1e-15
+    a2, a1 = r1 * r2 * c1 * c2, c2 * (r1 + r2)
+    stage = load(tmp_path, sallen_key("1 Gohm", "1 mohm", "10 mF", "1 fF", checks=False)).stages[0]
+    net = kind_of(stage).build(stage)
+    vals = {"r1": np.array([r1]), "r2": np.array([r2]), "c1": np.array([c1]), "c2": np.array([c2])}
+    from rcdoc.analysis import engine
+    t = np.linspace(0.0, 3e-4, 3001)
+    y = engine.step(net, vals, t)[0]
+    _, y_ref = signal.step(([1.0], [a2, a1, 1.0]), T=t)
+    assert np.max(np.abs(y - y_ref)) < 1e-6
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", RuntimeWarning)
+        res = analyse_one(tmp_path, sallen_key("1 Gohm", "1 mohm", "10 mF", "1 fF", tol="0.1%",
+                                               checks=False), analysis="samples = 50")
+    q = math.sqrt(a2) / a1
+    zeta = 1 / (2 * q)
+    peak = 1 + math.exp(-math.pi * zeta / math.sqrt(1 - zeta ** 2))
+    # The capacitor that carries the output (c2 from p to ground) peaks with it.
+    assert res.metric("capacitor_voltage").nominal == pytest.approx(peak, rel=1e-4)
+    # 10–90 % rise time of the closed-form response on a fine grid.
+    tf = np.linspace(0.0, 2e-5, 200001)
+    _, yf = signal.step(([1.0], [a2, a1, 1.0]), T=tf)
+    rise = tf[np.argmax(yf >= 0.9)] - tf[np.argmax(yf >= 0.1)]
+    assert res.metric("rise_time").nominal == pytest.approx(rise, rel=1e-3)
+    # Settling within 1 % of the final value: the last instant the closed form is outside.
+    ts = np.linspace(0.0, 3e-4, 3000001)
+    _, ys = signal.step(([1.0], [a2, a1, 1.0]), T=ts)
+    settle = ts[np.flatnonzero(np.abs(ys - 1.0) > 0.01)[-1] + 1]
+    assert res.metric("settling").missing == 0
+    assert res.metric("settling").nominal == pytest.approx(settle, rel=2e-3)

@@ -21,6 +21,7 @@ import numpy as np
 from rcdoc.errors import ProjectError
 from rcdoc.analysis.assembly import _SINGULAR_RCOND, System, _element_values, _rcond, assemble
 from rcdoc.analysis.network import Network
+from rcdoc.analysis.treecoords import driven_system
 
 __all__ = ["INPUT_MODES", "transient", "step", "periodic_steady_state"]
 
@@ -96,6 +97,21 @@ def _probes(network: Network, system: System, vals: dict[str, np.ndarray], probe
             if k is not None:
                 W[:, p, k] = 1.0
     return _Probes(names, W, deriv)
+
+
+def _conditioned(network: Network, values: Mapping[str, np.ndarray], probes: Sequence[str]):
+    """The system in tree-branch coordinates with the probes rewritten for them.
+
+    Why: nodal stamping rounds 1/(1 GΩ) away beside 1/(1 mΩ), and the step
+    matrices built from such G and C had eigenvalues of modulus 2500 where
+    exp(p·h) is 0.99 (a Sallen-Key's step response blew up to 1e35 V). In
+    tree coordinates each element keeps its own digits (see ``treecoords``).
+    """
+    nodal = assemble(network, values)
+    vals, samples = _element_values(network, values)
+    spec = _probes(network, nodal, vals, probes)
+    system, T = driven_system(network, values, nodal)
+    return system, _Probes(spec.names, spec.weights @ T, spec.derivative), vals, samples
 
 
 def _chunk(size: int, steps: int) -> int:
@@ -256,12 +272,10 @@ def transient(
         raise ValueError("initial must be 'dc' or 'rest'")
     if input_mode not in INPUT_MODES:
         raise ValueError(f"input_mode must be one of {INPUT_MODES}")
-    system = assemble(network, values)
-    vals, samples = _element_values(network, values)
+    system, spec, vals, samples = _conditioned(network, values, probes)
     t, h = _time_grid(t_s)
     steps = t.size
     uu = _input(u, samples, steps)
-    spec = _probes(network, system, vals, probes)
     out = np.empty((len(spec.names), samples, steps))
     use_dc = initial == "dc" and not _dc_singular(system)
     chunk = _chunk(system.size, steps)
@@ -340,12 +354,10 @@ def periodic_steady_state(
     """
     if input_mode not in INPUT_MODES:
         raise ValueError(f"input_mode must be one of {INPUT_MODES}")
-    system = assemble(network, values)
-    vals, samples = _element_values(network, values)
+    system, spec, vals, samples = _conditioned(network, values, probes)
     t, h = _time_grid(t_s)
     steps = t.size
     uu = _input(u, samples, steps)
-    spec = _probes(network, system, vals, probes)
     out = np.empty((len(spec.names), samples, steps))
     chunk = _chunk(system.size, steps)
     N = system.size
