@@ -30,8 +30,21 @@ PWM_POINTS = 1000                    # points over one PWM period
 
 
 def db(h: np.ndarray) -> np.ndarray:
-    with np.errstate(divide="ignore"):
-        return 20 * np.log10(np.abs(h))
+    """20·log10|h|, as 10·log10(re² + im²): a third cheaper than the complex modulus.
+
+    The squares leave the double range below 1e-154 or above 1e154; those
+    entries (none in a physical filter's sweep) take the modulus instead.
+    """
+    h = np.asarray(h)
+    if not np.iscomplexobj(h):
+        with np.errstate(divide="ignore"):
+            return 20 * np.log10(np.abs(h))
+    with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"):
+        out = 10 * np.log10(h.real * h.real + h.imag * h.imag)
+        bad = ~np.isfinite(out)
+        if bad.any():
+            out[bad] = 20 * np.log10(np.abs(h[bad]))
+    return out
 
 
 def sweep_for(stage_char_hz: float, analysis) -> np.ndarray:
@@ -103,7 +116,7 @@ class Evaluator:
             # shifted a first-order corner by 1.6 %). Fall back to the sweep's first
             # point where the DC solution does not exist or is zero (blocking capacitor).
             try:
-                dc = db(self.h_rows(np.zeros(self.rows)))
+                dc = db(self.response.at_rows(np.zeros(self.rows)))
             except np.linalg.LinAlgError:
                 return g[:, 0]
             return np.where(np.isfinite(dc), dc, g[:, 0])
