@@ -574,3 +574,12 @@ def test_distinct_digits_tells_different_values_apart(worst, limit, unit):
     assert 3 <= d <= 6
     # equal values need no extra digits
     assert distinct_digits([limit, limit], unit) == 3
+
+
+def test_a_yield_below_one_never_prints_as_100_percent():
+    # Common practice for a pass/fail yield: a single failing sample must show.
+    from rcdoc.input.quantities import format_yield
+    assert format_yield(1.0) == "100 %"
+    assert format_yield(0.99996) == "99.996 %"
+    assert format_yield(0.9999996, 2) == "99.99996 %"
+    assert format_yield(0.5, 2) == "50.00 %"

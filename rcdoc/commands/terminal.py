@@ -27,7 +27,7 @@ import warnings
 from dataclasses import dataclass
 
 from rcdoc.analysis.metrics import METRICS
-from rcdoc.input.quantities import distinct_digits, format_quantity
+from rcdoc.input.quantities import distinct_digits, format_quantity, format_yield
 
 # ASCII spellings of the symbols rcdoc prints, for consoles that cannot encode them.
 _ASCII = str.maketrans({
@@ -177,16 +177,6 @@ def check_label(v) -> str:
     return label
 
 
-def _yield(x: float) -> str:
-    if x >= 1:
-        return "100 %"
-    for decimals in range(1, 7):
-        text = f"{x * 100:.{decimals}f}"
-        if float(text) < 100:
-            return f"{text} %"
-    return f"{x * 100:.6f} %"
-
-
 def verdict_row(stage_id: str, v) -> Row:
     from rcdoc.note.machine import margin
     m = METRICS[v.metric]
@@ -203,7 +193,7 @@ def verdict_row(stage_id: str, v) -> Row:
     room = margin(v)
     worst = q(v.worst) if math.isfinite(v.worst) else "not found"
     return Row(stage_id, check_label(v), q(v.nominal), worst, limit,
-               "-" if room is None else format_quantity(room, m.unit, 3), _yield(v.yield_),
+               "-" if room is None else format_quantity(room, m.unit, 3), format_yield(v.yield_),
                v.status)
 
 
@@ -214,7 +204,7 @@ def stage_rows(r) -> list[Row]:
         n = r.samples_unstable
         rows.append(Row(r.stage.id, "Stability", "unstable" if r.reason else "stable",
                         "unstable" if r.reason else f"{n} unstable", "Re(p) < 0", "-",
-                        _yield(1 - n / max(r.samples, 1)), "fail" if r.reason else "pass"))
+                        format_yield(1 - n / max(r.samples, 1)), "fail" if r.reason else "pass"))
     for v in r.verdicts + r.ratings:
         rows.append(verdict_row(r.stage.id, v))
     if not rows:

@@ -21,6 +21,7 @@ import re
 from rcdoc.errors import ProjectError
 
 __all__ = [
+    "format_yield",
     "UNITS",
     "UNIT_NAMES",
     "NOTE_MINUS",
@@ -551,6 +552,21 @@ def distinct_digits(values, unit: str, digits: int = 3, *, resolution: float = 0
         if all(seen.setdefault(_format(v, unit, d), v) == v for v in vals):
             return d
     return _MAX_DIGITS
+def format_yield(x: float, min_decimals: int = 1) -> str:
+    """A yield (a fraction) in percent: "100 %" only when every sample passed.
+
+    Decimals are added (from ``min_decimals`` up to six) until the text falls
+    below 100: a 99.996 % yield never rounds to a clean pass.
+    """
+    if x >= 1:
+        return "100 %"
+    for decimals in range(min_decimals, 7):
+        text = f"{x * 100:.{decimals}f}"
+        if float(text) < 100:
+            return f"{text} %"
+    return f"{x * 100:.6f} %"
+
+
 def format_rkm(value: float, unit_letter_for_ohm: bool = True, digits: int = 3) -> str:
     """The IEC 60062 "RKM" code of a value: 4700 -> "4k7", 0.47 -> "R47", 2.2e-6 -> "2u2".
 

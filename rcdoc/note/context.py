@@ -16,7 +16,7 @@ import numpy as np
 from rcdoc.analysis.analyse import StageResult
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Project
-from rcdoc.input.quantities import NOTE_MINUS, PART_UNITS, distinct_digits, format_quantity
+from rcdoc.input.quantities import NOTE_MINUS, PART_UNITS, distinct_digits, format_quantity, format_yield
 from rcdoc.kinds import KINDS
 
 def fq(value, unit: str, digits: int = 3, metric: str | None = None) -> str:
@@ -63,13 +63,7 @@ def verdict_digits(v, unit: str) -> int:
 
 def pct(x: float) -> str:
     """A yield: two decimals, and never "100.00 %" for a yield below 100 %."""
-    if x >= 1:
-        return "100 %"
-    for decimals in range(2, 7):
-        text = f"{x * 100:.{decimals}f}"
-        if float(text) < 100:
-            return f"{text} %"
-    return f"{x * 100:.6f} %"
+    return format_yield(x, 2)
 
 
 def stage_voltage(r: StageResult) -> float:
