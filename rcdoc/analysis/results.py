@@ -15,7 +15,7 @@ read-only so a reader cannot change a result another reader sees.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any, Iterator, Mapping, Protocol, runtime_checkable
+from typing import Iterator, Mapping, Protocol, runtime_checkable
 
 import numpy as np
 
@@ -25,7 +25,7 @@ from rcdoc.input.model import Check, Part, Stage
 from rcdoc.analysis.network import Network
 
 __all__ = ["SettlingBand", "MetricResult", "Waveform", "ResponseBand", "Phasors", "PartRow",
-           "PartStress", "Alternative", "StageAlternatives", "KindResult", "LegacyKindResult",
+           "PartStress", "Alternative", "StageAlternatives", "KindResult",
            "StageResult", "Verdict", "DEFAULT_SETTLING", "param_of"]
 
 
@@ -274,33 +274,6 @@ class KindResult(Protocol):
     def blocks(self) -> tuple: ...   # block specs for the kind's page (analysis/blocks.py)
 
     def json(self) -> dict: ...      # JSON-ready, written under the kind's name
-
-
-@dataclass(frozen=True, eq=False)
-class LegacyKindResult:
-    """Temporary adapter: a kind's old ``extra`` dict behind the KindResult interface."""
-
-    data: Mapping[str, Any]
-
-    def __post_init__(self):
-        object.__setattr__(self, "data", FrozenMap(dict(self.data)))
-
-    @property
-    def summary(self) -> str:
-        return self.data.get("summary", "—")
-
-    @property
-    def peak_voltage_v(self) -> float:
-        return float(self.data.get("peak_voltage_v", 0.0))
-
-    def blocks_before(self) -> tuple:
-        return tuple(self.data.get("blocks_before", ()))
-
-    def blocks(self) -> tuple:
-        return tuple(self.data.get("blocks", ()))
-
-    def json(self) -> dict | None:
-        return self.data.get("json")
 
 
 @dataclass(frozen=True)
