@@ -20,6 +20,7 @@ import numpy as np
 from rcdoc.errors import ProjectError
 from rcdoc.analysis.assembly import SOURCE, System, _element_values, assemble
 from rcdoc.analysis.network import Network
+from rcdoc.analysis.treecoords import driven_system
 
 __all__ = [
     "ac",
@@ -295,9 +296,20 @@ def _pick(network: Network, values, freqs_hz, unknown) -> np.ndarray:
     return out
 
 
+def conditioned(network: Network, values: Mapping[str, np.ndarray]) -> tuple[System, np.ndarray]:
+    """The network's system in tree-branch coordinates with the output's voltage a coordinate
+    of its own (``treecoords``: values decades apart keep their digits), and T with x = T·y.
+
+    The drive node's coordinate is its voltage and the source row reads it
+    alone, as in the nodal system, so every solver here takes either.
+    """
+    nodal = assemble(network, values)
+    return driven_system(network, values, nodal, tied=(network.output,))
+
+
 def ac(network: Network, values: Mapping[str, np.ndarray], freqs_hz) -> np.ndarray:
     """Transfer function V(output)/V(source), shape (S, F) complex."""
-    system = assemble(network, values)
+    system, _ = conditioned(network, values)
     f = _freqs(freqs_hz)
     return _ac_fast(system, f, system.node(network.output))
 

@@ -15,6 +15,7 @@ from __future__ import annotations
 from rcdoc.analysis.assembly import SOURCE, System, assemble
 from rcdoc.analysis.ac import (
     ac,
+    conditioned,
     element_currents,
     element_voltages,
     input_impedance,
@@ -32,6 +33,7 @@ __all__ = [
     "System",
     "assemble",
     "ac",
+    "conditioned",
     "solve_ac",
     "node_voltage",
     "element_voltages",

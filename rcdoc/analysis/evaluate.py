@@ -80,7 +80,9 @@ class Evaluator:
     # ---- frequency domain -------------------------------------------------
     @cached_property
     def system(self):
-        return engine.assemble(self.network, self.values)
+        """The system in tree-branch coordinates, the output's voltage one of them
+        (values decades apart keep their digits; see analysis/treecoords.py)."""
+        return engine.conditioned(self.network, self.values)[0]
 
     @cached_property
     def response(self) -> Response:

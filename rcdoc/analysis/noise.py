@@ -16,8 +16,8 @@ from typing import Mapping
 import numpy as np
 
 from rcdoc.errors import ProjectError
-from rcdoc.analysis.assembly import System, _element_values, assemble
-from rcdoc.analysis.ac import _Pencil, _freqs, _pz_blocks, _solutions
+from rcdoc.analysis.assembly import System, _element_values
+from rcdoc.analysis.ac import _Pencil, _freqs, _pz_blocks, _solutions, conditioned
 from rcdoc.analysis.network import Network
 
 __all__ = ["BOLTZMANN_J_PER_K", "output_noise_psd"]
@@ -41,21 +41,26 @@ def output_noise_psd(
     into a and drawn from b (reciprocity of the transposed system).
     ``temperature_k`` is a scalar or an (S,) array.
     """
-    system = assemble(network, values)
+    system, T = conditioned(network, values)
     f = _freqs(freqs_hz)
     vals, samples = _element_values(network, values)
     temp = np.broadcast_to(np.asarray(temperature_k, dtype=float), (samples,))
     if not np.all(np.isfinite(temp) & (temp >= 0)):
         raise ProjectError("the noise temperature must be a non-negative number of kelvin")
-    resistors = [(system.node(e.a), system.node(e.b), vals[e.name]) for e in network.elements if e.kind == "R"]
+    # 1 A injected into a resistor's terminal a and drawn from b, in tree
+    # coordinates: the difference of the two nodes' paths to ground (Tᵀ of the
+    # nodal injection; T's rows are those paths).
+    def path(node):
+        k = system.node(node)
+        return np.zeros(system.size) if k is None else T[k]
+    resistors = [(path(e.a) - path(e.b), vals[e.name]) for e in network.elements if e.kind == "R"]
     psd = np.zeros((samples, f.size))
     out = system.index[network.output]
 
     def accumulate(Y, rs):
         acc = np.zeros(Y.shape[:2])
-        for i, j, r in resistors:
-            z = (Y[..., i] if i is not None else 0.0) - (Y[..., j] if j is not None else 0.0)
-            acc += np.abs(z) ** 2 / r[rs, None]
+        for inj, r in resistors:
+            acc += np.abs(Y @ inj) ** 2 / r[rs, None]
         return acc
 
     pencil = _Pencil(system, f)
@@ -66,13 +71,10 @@ def output_noise_psd(
     jw = 2j * math.pi * f
     ok = pencil.ok.copy()
     terms = []
-    for i, j, r in resistors:
-        # Transimpedance to the output from 1 A injected into i and drawn from j.
-        e = np.zeros((samples, pencil.keep.size))
-        if i is not None and i in pos:
-            e[:, pos[i]] += 1.0
-        if j is not None and j in pos:
-            e[:, pos[j]] -= 1.0
+    for inj, r in resistors:
+        # Transimpedance to the output from 1 A injected into a and drawn from b
+        # (the drive's row is the source's: an injection there flows into it).
+        e = np.broadcast_to(inj[pencil.keep], (samples, pencil.keep.size))
         if not e.any():
             continue
         gain, zeros, good = pencil.zpk(o, e, None)

@@ -53,7 +53,8 @@ def characteristic_rate(network: Network, values: Mapping[str, np.ndarray]) -> f
 
 
 def tree_paths(network: Network, nominal: Mapping[str, float], w: float,
-               index: Mapping[str, int], *, driven_root: bool) -> dict[str, np.ndarray]:
+               index: Mapping[str, int], *, driven_root: bool,
+               tied: tuple[str, ...] = ()) -> dict[str, np.ndarray]:
     """Node -> its path to ground as a 0/±1 vector over the tree-branch coordinates.
 
     The spanning tree takes the largest admittances at ``w`` first (Kruskal).
@@ -61,7 +62,9 @@ def tree_paths(network: Network, nominal: Mapping[str, float], w: float,
     op-amp, an admittance without limit. With ``driven_root`` the driven node
     is ground too (the source held at 0 V, for natural frequencies);
     without it the driven node is tied to ground like an op-amp output and
-    keeps a coordinate of its own (for responses to the source). The branch
+    keeps a coordinate of its own (for responses to the source). Nodes in
+    ``tied`` are tied to ground as well, so that each one's voltage is a
+    coordinate by itself (the output, read by Cramer's rule). The branch
     ending at node n is coordinate ``index[n]``.
     """
     def name(n):
@@ -70,6 +73,7 @@ def tree_paths(network: Network, nominal: Mapping[str, float], w: float,
     edges = [(math.inf, name(o.out), _ROOT) for o in network.opamps]
     if not driven_root:
         edges.append((math.inf, name(network.drive), _ROOT))
+    edges += [(math.inf, name(n), _ROOT) for n in tied if n != GROUND]
     for e in network.elements:
         v = nominal[e.name]
         y = {"R": 1.0 / v, "C": w * v, "L": 1.0 / (w * v)}[e.kind]
@@ -149,17 +153,18 @@ def natural_pencil(network: Network, values: Mapping[str, np.ndarray], w: float)
 
 
 def driven_system(network: Network, values: Mapping[str, np.ndarray],
-                  system: System) -> tuple[System, np.ndarray]:
+                  system: System, tied: tuple[str, ...] = ()) -> tuple[System, np.ndarray]:
     """``system`` restamped in tree coordinates, and T (N, N) with x = T·y.
 
     Same unknown count and the same branch currents at the same places as
-    ``system``; the node unknowns become tree-branch voltages. A probe w·x of
+    ``system``; the node unknowns become tree-branch voltages (the driven
+    node's and those of ``tied`` are their node voltages). A probe w·x of
     the nodal system is (w·T)·y here (exact: T holds only 0 and ±1).
     """
     vals, _ = _rows(network, values)
     nominal = {k: float(v[0]) for k, v in vals.items()}
     w = characteristic_rate(network, values)
-    path = tree_paths(network, nominal, w, system.index, driven_root=False)
+    path = tree_paths(network, nominal, w, system.index, driven_root=False, tied=tied)
     n, N = len(system.index), system.size
     G, C = stamp(network, vals, path, n, system.branch, N)
     k = system.branch[SOURCE]
