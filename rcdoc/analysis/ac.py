@@ -20,7 +20,7 @@ import numpy as np
 from rcdoc.errors import ProjectError
 from rcdoc.analysis.assembly import SOURCE, System, _element_values, assemble
 from rcdoc.analysis.network import Network
-from rcdoc.analysis.treecoords import driven_system
+from rcdoc.analysis.treecoords import admittance_spread, driven_system
 
 __all__ = [
     "ac",
@@ -296,14 +296,28 @@ def _pick(network: Network, values, freqs_hz, unknown) -> np.ndarray:
     return out
 
 
-def conditioned(network: Network, values: Mapping[str, np.ndarray]) -> tuple[System, np.ndarray]:
-    """The network's system in tree-branch coordinates with the output's voltage a coordinate
-    of its own (``treecoords``: values decades apart keep their digits), and T with x = T·y.
+# Spread of the nominal element admittances (largest / smallest, at the
+# network's characteristic rate) above which frequency responses are solved
+# in tree-branch coordinates. Below it nodal stamping rounds away at most six
+# of sixteen digits, and the nodal pencil keeps its infinite zeros exactly
+# zero: in tree coordinates a defective zero eigenvalue splits into ±√ε pairs
+# (1e-8 of the poles) that the zero-pole-gain form then carries as factors.
+_TREE_SPREAD = 1e6
 
-    The drive node's coordinate is its voltage and the source row reads it
-    alone, as in the nodal system, so every solver here takes either.
+
+def conditioned(network: Network, values: Mapping[str, np.ndarray]) -> tuple[System, np.ndarray]:
+    """The system for frequency responses, and T with x = T·y.
+
+    Nodal when the element values lie within _TREE_SPREAD of each other;
+    otherwise in tree-branch coordinates with the output's voltage a
+    coordinate of its own (``treecoords``: values decades apart keep their
+    digits). Either way the drive node's unknown is its voltage, the source
+    row reads it alone and the output's unknown is V(out), so every solver
+    here takes either.
     """
     nodal = assemble(network, values)
+    if admittance_spread(network, values) < _TREE_SPREAD:
+        return nodal, np.eye(nodal.size)
     return driven_system(network, values, nodal, tied=(network.output,))
 
 

@@ -52,6 +52,18 @@ def characteristic_rate(network: Network, values: Mapping[str, np.ndarray]) -> f
     return math.exp(-log_tau)
 
 
+def _admittance(kind: str, value: float, w: float) -> float:
+    return {"R": 1.0 / value, "C": w * value, "L": 1.0 / (w * value)}[kind]
+
+
+def admittance_spread(network: Network, values: Mapping[str, np.ndarray]) -> float:
+    """Largest over smallest nominal element admittance at the characteristic rate."""
+    w = characteristic_rate(network, values)
+    y = [_admittance(e.kind, float(np.atleast_1d(values[e.name])[0]), w)
+         for e in network.elements]
+    return max(y) / min(y) if y else 1.0
+
+
 def tree_paths(network: Network, nominal: Mapping[str, float], w: float,
                index: Mapping[str, int], *, driven_root: bool,
                tied: tuple[str, ...] = ()) -> dict[str, np.ndarray]:
@@ -75,9 +87,7 @@ def tree_paths(network: Network, nominal: Mapping[str, float], w: float,
         edges.append((math.inf, name(network.drive), _ROOT))
     edges += [(math.inf, name(n), _ROOT) for n in tied if n != GROUND]
     for e in network.elements:
-        v = nominal[e.name]
-        y = {"R": 1.0 / v, "C": w * v, "L": 1.0 / (w * v)}[e.kind]
-        edges.append((y, name(e.a), name(e.b)))
+        edges.append((_admittance(e.kind, nominal[e.name], w), name(e.a), name(e.b)))
     edges.sort(key=lambda t: -t[0])           # stable: ties keep the network's order
     parent: dict[str, str] = {}
 
