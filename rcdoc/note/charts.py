@@ -313,6 +313,17 @@ class _OffsetFormatter(_AxisEngFormatter):
         return text if text.startswith(_MINUS) else "+" + text
 
 
+class _OffsetLocator(ticker.MaxNLocator):
+    """At most `nbins` + 1 ticks at round offsets from a reference value (0 among them)."""
+
+    def __init__(self, ref: float, nbins: int = 4):
+        super().__init__(nbins)
+        self.ref = ref
+
+    def tick_values(self, vmin, vmax):
+        return self.ref + super().tick_values(vmin - self.ref, vmax - self.ref)
+
+
 def _tick_formatter(unit: str) -> ticker.Formatter:
     if unit in _UNSCALED_UNITS:
         return ticker.ScalarFormatter()

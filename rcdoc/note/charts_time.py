@@ -18,7 +18,8 @@ from matplotlib.patches import Patch
 from rcdoc.note import palette as pal
 from rcdoc.note.charts import (_UNSCALED_UNITS, HALF_WIDTH_IN, _arr, _AxisEngFormatter, _check_fig_id,
                                _eng, _finish, _finite, _grid, _legend, _log_axis, _new_figure,
-                               _OffsetFormatter, _same_shape, _styled, _tick_formatter, _unit_symbol)
+                               _OffsetFormatter, _OffsetLocator, _same_shape, _styled,
+                               _tick_formatter, _unit_symbol)
 
 
 # ---------------------------------------------------------------------------
@@ -150,21 +151,29 @@ def histogram(fig_id: str, samples, *, nominal: float, lo: float | None = None, 
             handles.append(Patch(facecolor=pal.LIMIT, edgecolor=pal.LIMIT_EDGE, linewidth=0.8,
                                  label=f"outside limit: {outside} of {x.size}"))
 
-        # Few ticks with short labels: the chart is half the text width. A spread that is a
-        # tiny fraction of the values (55.9966 nA ± 0.1 pA) is labelled as offsets from nominal.
-        ax.xaxis.set_major_locator(ticker.MaxNLocator(4))
-        symbol = _unit_symbol(unit)
-        offset = (not single and unit not in _UNSCALED_UNITS
-                  and (right - left) < 1e-3 * max(abs(left), abs(right)))
-        if offset:
-            ax.xaxis.set_major_formatter(_OffsetFormatter(nominal))
-            label = f"{label} − nominal"
-        else:
-            ax.xaxis.set_major_formatter(_tick_formatter(unit))
-        ax.set_xlabel(f"{label} [{symbol}]" if symbol else label)
+        _hist_xaxis(ax, label, unit, nominal, single)
         ax.set_ylabel("Samples per bin")
         _legend(fig, handles, max_cols=2)
         return _finish(fig, fig_id, title, fmt)
+
+
+def _hist_xaxis(ax, label: str, unit: str, nominal: float, single: bool) -> None:
+    """Few ticks with short labels (the chart is half the text width), and the axis label.
+
+    A spread that is a tiny fraction of the values (55.9966 nA ± 0.1 pA) would need
+    six digits per tick: its ticks are offsets from the nominal instead.
+    """
+    ax.xaxis.set_major_locator(ticker.MaxNLocator(4))
+    left, right = ax.get_xlim()
+    symbol = _unit_symbol(unit)
+    if not single and unit not in _UNSCALED_UNITS and \
+            (right - left) < 1e-3 * max(abs(left), abs(right)):
+        ax.xaxis.set_major_locator(_OffsetLocator(nominal))
+        ax.xaxis.set_major_formatter(_OffsetFormatter(nominal))
+        label = f"{label} − nominal"
+    else:
+        ax.xaxis.set_major_formatter(_tick_formatter(unit))
+    ax.set_xlabel(f"{label} [{symbol}]" if symbol else label)
 
 
 def _hist_range(data_lo: float, data_hi: float, lo, hi) -> tuple[float, float]:
@@ -254,23 +263,28 @@ def corner_overview(fig_id: str, rows: Sequence[Mapping], title: str = "", *, fm
     """
     _check_fig_id(fig_id)
     parsed = _overview_rows(rows)
-    groups = [(axis, [p for p in parsed if p[2] == axis]) for axis in _AXIS_LABEL]
-    groups = [(axis, g) for axis, g in groups if g]
 
     with _styled(fig_id):
-        fig = _new_figure(0.75 + 0.45 * len(groups) + 0.3 * len(parsed))
-        axes = fig.subplots(len(groups), 1, squeeze=False,
-                            height_ratios=[len(g) + 1.5 for _, g in groups])[:, 0]
-        for ax, (axis, group) in zip(axes, groups):
-            _overview_axis(ax, group, _AXIS_LABEL[axis])
-        handles = []
-        for status, color in (("pass", pal.PASS), ("fail", pal.FAIL)):
-            if any(p[1] == status for p in parsed):
-                handles.append(Line2D([], [], color=color, marker=_STATUS_MARKER[status], markersize=5.5,
-                                      markeredgewidth=1.8, linewidth=3.0,
-                                      alpha=1.0, label=f"{status}: nominal and min–max"))
-        _legend(fig, handles)
-        return _finish(fig, fig_id, title, fmt)
+        return _finish(_overview_figure(parsed), fig_id, title, fmt)
+
+
+def _overview_figure(parsed: list):
+    """The figure of corner_overview from its checked rows (inside the chart style)."""
+    groups = [(axis, [p for p in parsed if p[2] == axis]) for axis in _AXIS_LABEL]
+    groups = [(axis, g) for axis, g in groups if g]
+    fig = _new_figure(0.75 + 0.45 * len(groups) + 0.3 * len(parsed))
+    axes = fig.subplots(len(groups), 1, squeeze=False,
+                        height_ratios=[len(g) + 1.5 for _, g in groups])[:, 0]
+    for ax, (axis, group) in zip(axes, groups):
+        _overview_axis(ax, group, _AXIS_LABEL[axis])
+    handles = []
+    for status, color in (("pass", pal.PASS), ("fail", pal.FAIL)):
+        if any(p[1] == status for p in parsed):
+            handles.append(Line2D([], [], color=color, marker=_STATUS_MARKER[status], markersize=5.5,
+                                  markeredgewidth=1.8, linewidth=3.0,
+                                  alpha=1.0, label=f"{status}: nominal and min–max"))
+    _legend(fig, handles)
+    return fig
 
 
 def _overview_axis(ax, group: list, xlabel: str) -> None:
