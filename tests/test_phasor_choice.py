@@ -5,13 +5,17 @@ Checks against textbook closed forms of first-order RC networks (H = 1 / (1 + j 
 
 from __future__ import annotations
 
+import dataclasses
 import math
 
 import numpy as np
 import pytest
 
+from boards import analyse_one
 from rcdoc.analysis import phasor_choice as pc
 from rcdoc.analysis.network import Element, Network
+from rcdoc.analysis.results import Phasors
+from rcdoc.note.page import phasor_figure
 
 R, C = 10e3, 10e-9
 FC = 1.0 / (2.0 * math.pi * R * C)          # textbook RC corner, 1.59 kHz
@@ -73,3 +77,41 @@ def test_no_path_no_choice():
     net = Network(elements=(Element("r", "R", "in", "out"), Element("c", "C", "out", "0")),
                   drive="in", output="out")
     assert pc.phasor_frequency(net, {"r": np.array([R]), "c": np.array([C])}, F) is None
+
+
+def test_pipeline_draws_a_low_pass_at_its_corner_and_says_why(tmp_path):
+    res = analyse_one(tmp_path, """
+[[stage]]
+id = "s"
+title = "RC low-pass"
+kind = "rc-lowpass"
+parts.r = { ref = "R1", value = "10k", tolerance = "1%" }
+parts.c = { ref = "C1", value = "100n", tolerance = "1%", dielectric = "C0G" }
+""", "samples = 20")
+    # Textbook corner 1 / (2 pi R C) = 159.2 Hz; the sweep's step is under 13 %.
+    fc = 1.0 / (2.0 * math.pi * 10e3 * 100e-9)
+    assert res.phasors.freq_hz == pytest.approx(fc, rel=0.13)
+    assert res.phasors.spread_deg == pytest.approx(90.0, abs=1e-6)
+    block = phasor_figure(res)
+    assert block["type"] == "figure"
+    assert "differ most in phase (90.0°" in block["caption"]
+    # The caption names the frequency the diagram is drawn at.
+    assert block["title"].removeprefix("Phasors at ") in block["caption"]
+
+
+def test_phasors_in_phase_everywhere_get_one_sentence(tmp_path):
+    res = analyse_one(tmp_path, """
+[[stage]]
+id = "s"
+title = "RC low-pass"
+kind = "rc-lowpass"
+parts.r = { ref = "R1", value = "10k", tolerance = "1%" }
+parts.c = { ref = "C1", value = "100n", tolerance = "1%", dielectric = "C0G" }
+""", "samples = 20")
+    # In phase at every swept frequency (spread under 1°): a sentence, no drawing.
+    flat = Phasors(freq_hz=res.phasors.freq_hz, reference="source",
+                   vectors=(("r", "R", 0.5 + 0j), ("c", "C", 0.5 + 0j)), closing=None,
+                   current=1e-4 + 0j, source=1.0 + 0j, output=0.5 + 0j, spread_deg=0.0)
+    block = phasor_figure(dataclasses.replace(res, phasors=flat))
+    assert block["type"] == "text"
+    assert "At every frequency of the sweep" in block["paragraphs"][0]
