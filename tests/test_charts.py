@@ -410,3 +410,13 @@ def test_part_colours_differ_from_every_other_palette_colour():
     extra = [c for shades in palette.PART_COLORS.values() for c in shades]
     assert len(set(extra)) == len(extra)
     assert all(named.count(c) == 1 for c in extra), "each part colour is used for nothing else"
+
+
+def test_invisible_time_band_has_no_legend_entry():
+    # A band of a millionth of the step's height cannot be seen: drawn, but not in the legend.
+    t = np.linspace(0.0, 1e-3, 120)
+    y = 1.0 - np.exp(-t / 1e-4)          # first-order step response (textbook)
+    thin = charts_time.time_response("thin", t, y, band=(y - 1e-6, y + 1e-6))
+    wide = charts_time.time_response("wide", t, y, band=(y - 0.05, y + 0.05))
+    assert thin.count(palette.BAND_OUTER) == 1, "the thin band's fill only, no legend patch"
+    assert wide.count(palette.BAND_OUTER) > 1, "the visible band has its legend patch"

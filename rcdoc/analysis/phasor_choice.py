@@ -14,7 +14,7 @@ largest there; their spread is the largest phase difference between two of
 them. A phasor far below the others would be an invisible arrow: it does not
 count. The chosen frequency has the largest spread; among the frequencies
 within ``TIE_DEG`` of it (an RC divider's V_R and V_C are 90° apart at every
-frequency), the one where the weaker phasor of the widest pair is largest
+frequency), the one where the weaker phasor of a widest pair is largest
 against the largest phasor, so both arrows of the angle can be seen.
 """
 
@@ -72,7 +72,8 @@ def drawn_phasors(network: Network, values: dict, freqs_hz: np.ndarray) -> np.nd
 
 def phase_spread(phasors: np.ndarray, within_db: float = WITHIN_DB) -> tuple[np.ndarray, np.ndarray]:
     """Per frequency: the largest phase difference (0…180°) between two phasors within
-    ``within_db`` of the largest, and the weaker magnitude of that pair over the largest.
+    ``within_db`` of the largest, and its balance: of the pairs that wide (within
+    ``TIE_DEG``), the largest magnitude of a pair's weaker phasor, over the largest phasor.
 
     ``phasors`` is (P, F) complex. A frequency with fewer than two counted
     phasors has spread 0 and balance 0.
@@ -84,15 +85,15 @@ def phase_spread(phasors: np.ndarray, within_db: float = WITHIN_DB) -> tuple[np.
     unit = np.where(counted, p / np.where(mag > 0, mag, 1.0), 0.0)
     # Angle between every pair: |arg(a · conj(b))|, for counted pairs only.
     diff = np.degrees(np.abs(np.angle(unit[:, None, :] * np.conj(unit[None, :, :]))))
-    pair_ok = counted[:, None, :] & counted[None, :, :]
+    others = ~np.eye(p.shape[0], dtype=bool)[:, :, None]          # a phasor is no pair with itself
+    pair_ok = counted[:, None, :] & counted[None, :, :] & others
     diff = np.where(pair_ok, diff, -1.0)
-    flat = diff.reshape(-1, p.shape[1])
-    best = flat.argmax(axis=0)
-    spread = np.maximum(flat[best, np.arange(p.shape[1])], 0.0)
-    i, j = np.divmod(best, p.shape[0])
-    cols = np.arange(p.shape[1])
-    weaker = np.minimum(mag[i, cols], mag[j, cols])
-    balance = np.where(spread > 0, weaker / np.where(top > 0, top, 1.0), 0.0)
+    spread = np.maximum(diff.max(axis=(0, 1)), 0.0)
+    # Of the pairs as wide as the widest (within TIE_DEG), the one whose weaker arrow is largest.
+    weaker = np.minimum(mag[:, None, :], mag[None, :, :])
+    wide = pair_ok & (diff >= spread - TIE_DEG) & (spread > 0)
+    best = np.where(wide, weaker, 0.0).max(axis=(0, 1))
+    balance = best / np.where(top > 0, top, 1.0)
     return spread, balance
 
 

@@ -69,13 +69,15 @@ def time_response(fig_id: str, t_s, nominal, *, band=None, window: Mapping | Non
             lo = _same_shape(t, _arr(band[0], "band[0]"), "band[0]")
             hi = _same_shape(t, _arr(band[1], "band[1]"), "band[1]")
             ax.fill_between(t, lo, hi, color=pal.BAND_OUTER, linewidth=0, zorder=1)
-            handles.append(Patch(color=pal.BAND_OUTER, label="Monte Carlo min–max"))
+            band_at = len(handles)
         for st, sy, label, role in curves:
             color, width, style = _ROLE_STYLE[role]
             ax.plot(st, sy, color=color, linewidth=width, linestyle=style, zorder=2.5)
             if label:           # an unlabelled curve continues the one before it in the legend
                 handles.append(Line2D([], [], color=color, linewidth=width, linestyle=style, label=label))
         ax.plot(t, y, color=pal.NOMINAL, linewidth=1.5, zorder=3)
+        if band is not None and _visible(ax, lo, hi):
+            handles.insert(band_at, Patch(color=pal.BAND_OUTER, label="Monte Carlo min–max"))
         handles.insert(0, Line2D([], [], color=pal.NOMINAL, linewidth=1.5, label=nominal_label))
 
         t_all = _finite(t, *(c[0] for c in curves))
@@ -88,6 +90,14 @@ def time_response(fig_id: str, t_s, nominal, *, band=None, window: Mapping | Non
         ax.set_ylabel(ylabel)
         _legend(fig, handles)
         return _finish(fig, fig_id, title, fmt)
+
+
+def _visible(ax, lo: np.ndarray, hi: np.ndarray) -> bool:
+    """True when a band is at least 1 % of the axis' height somewhere: a thinner one cannot
+    be seen and gets no legend entry."""
+    width = _finite(hi - lo)
+    y_lo, y_hi = ax.get_ylim()
+    return bool(width.size and width.max() >= 0.01 * (y_hi - y_lo))
 
 
 # ---------------------------------------------------------------------------
@@ -219,7 +229,7 @@ _STATUS_MARKER = {"pass": "o", "fail": "X"}
 
 # Kinds of frequency: which axis a row goes on, and the word before its value.
 _FREQ_KINDS = {"corner": ("filter", ""), "natural": ("filter", "f0 "),
-               "notch": ("filter", "notch "), "ring": ("ring", "ring ")}
+               "notch": ("filter", "notch "), "ring": ("ring", "")}
 _AXIS_LABEL = {"filter": "Corner and notch frequency [Hz]",
                "ring": "Snubber ring frequency [Hz]"}
 
