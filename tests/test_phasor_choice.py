@@ -41,6 +41,18 @@ def test_input_output_spread_of_a_low_pass_follows_the_closed_form():
     assert choice.spread_deg == pytest.approx(math.degrees(math.atan(choice.freq_hz / FC)), abs=1e-9)
 
 
+def test_antiphase_counts_as_one_line():
+    # Inverting first-order low-pass, V_out = -2 / (1 + j f/fc) (textbook): at low
+    # frequency the output is opposite the input, a collapsed drawing; the angle between
+    # their lines is atan(f/fc), as for the non-inverting stage, and never 180°.
+    x = F / FC
+    phasors = np.array([np.ones_like(x, dtype=complex), -2.0 / (1.0 + 1j * x)])
+    spread, _ = pc.phase_spread(phasors)
+    inside = 2.0 / np.sqrt(1.0 + x ** 2) >= 0.2          # within 20 dB of the largest (2 V)
+    np.testing.assert_allclose(spread[inside], np.degrees(np.arctan(x[inside])), atol=1e-9)
+    assert spread.max() <= 90.0
+
+
 def test_divider_is_drawn_at_its_corner():
     # RC low-pass walked R then C to ground: V_R and V_C are 90° apart at every
     # frequency (textbook phasor triangle); the two are equal in size, so both arrows
@@ -94,7 +106,7 @@ parts.c = { ref = "C1", value = "100n", tolerance = "1%", dielectric = "C0G" }
     assert res.phasors.spread_deg == pytest.approx(90.0, abs=1e-6)
     block = phasor_figure(res)
     assert block["type"] == "figure"
-    assert "differ most in phase (90.0°" in block["caption"]
+    assert "largest angle between two of them is 90.0°" in block["caption"]
     # The caption names the frequency the diagram is drawn at.
     assert block["title"].removeprefix("Phasors at ") in block["caption"]
 

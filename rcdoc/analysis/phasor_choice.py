@@ -11,8 +11,9 @@ Criterion: at each swept frequency, take the drawn phasors (part voltages
 along the network's path, the open path's end-node voltage, the source and,
 for an open path, the output) whose magnitude is within ``WITHIN_DB`` of the
 largest there; their spread is the largest phase difference between two of
-them. A phasor far below the others would be an invisible arrow: it does not
-count. The chosen frequency has the largest spread; among the frequencies
+them, folded to 0…90° (opposite phasors lie on one line too: an inverting
+stage's output at low frequency is no reason to draw there). A phasor far
+below the others would be an invisible arrow: it does not count. The chosen frequency has the largest spread; among the frequencies
 within ``TIE_DEG`` of it (an RC divider's V_R and V_C are 90° apart at every
 frequency), the one where the weaker phasor of a widest pair is largest
 against the largest phasor, so both arrows of the angle can be seen.
@@ -71,9 +72,10 @@ def drawn_phasors(network: Network, values: dict, freqs_hz: np.ndarray) -> np.nd
 
 
 def phase_spread(phasors: np.ndarray, within_db: float = WITHIN_DB) -> tuple[np.ndarray, np.ndarray]:
-    """Per frequency: the largest phase difference (0…180°) between two phasors within
-    ``within_db`` of the largest, and its balance: of the pairs that wide (within
-    ``TIE_DEG``), the largest magnitude of a pair's weaker phasor, over the largest phasor.
+    """Per frequency: the largest phase difference (folded to 0…90°: opposite phasors
+    count as on one line) between two phasors within ``within_db`` of the largest,
+    and its balance: of the pairs that wide (within ``TIE_DEG``), the largest
+    magnitude of a pair's weaker phasor, over the largest phasor.
 
     ``phasors`` is (P, F) complex. A frequency with fewer than two counted
     phasors has spread 0 and balance 0.
@@ -83,8 +85,10 @@ def phase_spread(phasors: np.ndarray, within_db: float = WITHIN_DB) -> tuple[np.
     top = mag.max(axis=0)
     counted = (mag > 0) & (mag >= top * 10.0 ** (-within_db / 20.0))
     unit = np.where(counted, p / np.where(mag > 0, mag, 1.0), 0.0)
-    # Angle between every pair: |arg(a · conj(b))|, for counted pairs only.
+    # Angle between the lines of every pair: |arg(a · conj(b))| folded to 0…90°, since
+    # opposite phasors (an inverting stage's output) lie on one line as much as equal ones.
     diff = np.degrees(np.abs(np.angle(unit[:, None, :] * np.conj(unit[None, :, :]))))
+    diff = np.minimum(diff, 180.0 - diff)
     others = ~np.eye(p.shape[0], dtype=bool)[:, :, None]          # a phasor is no pair with itself
     pair_ok = counted[:, None, :] & counted[None, :, :] & others
     diff = np.where(pair_ok, diff, -1.0)

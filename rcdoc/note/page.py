@@ -90,9 +90,9 @@ def phasor_figure(r: StageResult) -> dict | None:
                  f"{fq(r.freqs_hz[-1], 'Hz')})" if math.isfinite(ph.spread_deg) and len(r.freqs_hz)
                  else f"At {fq(ph.freq_hz, 'Hz')}")
         return {"type": "text", "title": "Phasors",
-                "paragraphs": [f"{where} every part voltage is in phase with the source "
-                               "(within 1°): the network acts as a plain divider, so no phasor "
-                               "diagram is drawn."]}
+                "paragraphs": [f"{where} every part voltage is in phase or in antiphase "
+                               "with the source (within 1°): the phasors lie on one line, so no "
+                               "phasor diagram is drawn."]}
     if ph.reference == "current":
         ref_label = f"current {fq(abs(ph.current), 'A')}"
         angle = math.degrees(math.atan2(ph.source.imag, ph.source.real))
@@ -104,9 +104,11 @@ def phasor_figure(r: StageResult) -> dict | None:
                         freq_hz=ph.freq_hz, angle_deg=angle, fmt="png")
     what = ("the series current, common to every part on the path, is the reference direction"
             if ph.reference == "current" else "the source voltage is the reference direction")
-    why = (f"{fq(ph.freq_hz, 'Hz')} is the frequency of the sweep where the phasors drawn differ "
-           f"most in phase ({fq(ph.spread_deg, 'deg')}, counting those within 20 dB of the "
-           "largest)" if math.isfinite(ph.spread_deg) else f"drawn at {fq(ph.freq_hz, 'Hz')}")
+    why = (f"{fq(ph.freq_hz, 'Hz')} is the frequency of the sweep where the phasors drawn are "
+           f"farthest from one line: the largest angle between two of them is "
+           f"{fq(ph.spread_deg, 'deg')} (counting phasors within 20 dB of the largest; opposite "
+           "ones count as on one line)" if math.isfinite(ph.spread_deg)
+           else f"drawn at {fq(ph.freq_hz, 'Hz')}")
     return {"type": "figure", "title": f"Phasors at {fq(ph.freq_hz, 'Hz')}", "image": svg,
             "width": "full",
             "caption": f"Part voltages head to tail for a 1 V rms source; they add up to the "
