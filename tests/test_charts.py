@@ -304,3 +304,119 @@ def test_sweep_axis_clipped_around_allowed_band():
         before = ax2.get_ylim()
         _clip_to_band(ax2, [np.array([0.1, -0.2])], -0.5, 0.5)
         assert ax2.get_ylim() == before, "curves inside the clipped range keep the automatic axis"
+
+
+# ---------------------------------------------------------------------------
+# Labels a reviewer reads: units, ticks, legends, the summary chart by kind (issue 16)
+
+
+@pytest.mark.parametrize("value, unit, text", [
+    # An LSB, a decibel, a percent and a degree take no SI prefix (BIPM SI brochure, 9th ed.,
+    # 3.1: prefixes attach to SI units; the LSB is a count of code steps): common practice.
+    (-0.347, "LSB", "\N{MINUS SIGN}0.347 LSB"),
+    (0.012, "LSB", "0.012 LSB"),
+    (0.5, "LSB", "0.5 LSB"),
+    (-39.6, "dB", "\N{MINUS SIGN}39.6 dB"),
+    (0.001, "dB", "0.001 dB"),
+    (-3.2, "deg", "\N{MINUS SIGN}3.2°"),
+    (0.707, "1", "0.707"),
+    (4.7e3, "ohm", "4.7 kΩ"),
+])
+def test_unprefixed_units_read_as_plain_numbers(value, unit, text):
+    assert charts._eng(value, unit) == text
+
+
+def _tick_labels(ax) -> list[str]:
+    fig = ax.figure
+    fig.draw_without_rendering()
+    return [t.get_text() for t in ax.get_xticklabels() if t.get_text()]
+
+
+def test_tiny_spread_histogram_ticks_are_few_and_short():
+    # 55.9966 nA with a spread of about 0.2 pA: full values need six digits per tick.
+    from rcdoc.note.charts import HALF_WIDTH_IN, _new_figure, _styled
+    from rcdoc.note.charts_time import _hist_xaxis
+    nominal = 55.99663e-9
+    with _styled("tiny"):
+        ax = _new_figure(2.5, HALF_WIDTH_IN).add_subplot()
+        ax.set_xlim(nominal - 0.15e-12, nominal + 0.12e-12)
+        _hist_xaxis(ax, "Input current", "A", nominal, single=False)
+        labels = _tick_labels(ax)
+        assert 2 <= len(labels) <= 5
+        assert all(len(t) <= 7 for t in labels), labels
+        assert "0" in labels, "offsets from the nominal: the nominal reads 0"
+        assert "nominal" in ax.get_xlabel()
+        # An ordinary spread keeps full values.
+        ax2 = _new_figure(2.5, HALF_WIDTH_IN).add_subplot()
+        ax2.set_xlim(150e-6, 175e-6)
+        _hist_xaxis(ax2, "Kickback", "V", 164e-6, single=False)
+        assert "nominal" not in ax2.get_xlabel()
+        assert all("µ" in t for t in _tick_labels(ax2) if t != "0")
+
+
+def test_overview_puts_ring_frequencies_on_their_own_axis_and_both_corners():
+    from rcdoc.note.charts import _styled
+    from rcdoc.note.charts_time import _overview_figure, _overview_rows
+    rows = _overview_rows([
+        {"label": "lp", "kind": "corner", "nominal": 226.0, "min": 214.0, "max": 240.0,
+         "status": "pass"},
+        {"label": "bp", "kind": "corner", "status": "fail",
+         "frequencies": [{"nominal": 5e3, "min": 4e3, "max": 6e3},
+                         {"nominal": 100.0, "min": 90.0, "max": 110.0}]},
+        {"label": "notch", "kind": "notch", "nominal": 50.0, "status": "pass"},
+        {"label": "snub", "kind": "ring", "nominal": 12.6e3, "min": 11e3, "max": 14e3,
+         "status": "pass"},
+    ])
+    with _styled("overview-kinds"):
+        fig = _overview_figure(rows)
+        ax_f, ax_r = fig.axes
+        assert "Corner" in ax_f.get_xlabel() and "notch" in ax_f.get_xlabel()
+        assert ax_r.get_xlabel() == "Snubber ring frequency [Hz]"
+        assert [t.get_text() for t in ax_f.get_yticklabels()] == ["lp", "bp", "notch"]
+        assert [t.get_text() for t in ax_r.get_yticklabels()] == ["snub"]
+        # Both band-pass corners drawn as nominal markers on the band-pass row (y = 1).
+        marks = [ln for ln in ax_f.lines if ln.get_marker() not in (None, "None", "")]
+        bp = sorted(float(ln.get_xdata()[0]) for ln in marks if ln.get_ydata()[0] == 1)
+        assert bp == [100.0, 5e3]
+        # Pass and fail differ in shape, not only in colour.
+        shapes = {ln.get_color(): ln.get_marker() for ln in marks}
+        assert shapes[palette.PASS] != shapes[palette.FAIL]
+        texts = [t.get_text() for t in ax_f.texts]
+        assert "notch 50 Hz" in texts
+        assert not any("ring" in t for t in texts)
+
+
+def test_overview_rejects_an_unknown_kind():
+    with pytest.raises(ValueError, match="kind"):
+        charts_time.corner_overview("x", [{"label": "a", "kind": "pole", "nominal": 1.0,
+                                           "status": "pass"}])
+
+
+def test_phasor_parts_of_one_kind_get_distinct_colours_and_one_reference():
+    # A two-section RC ladder at one frequency (values only need to be distinct arrows).
+    svg = charts_freq.phasor("ladder", [
+        {"label": "across R1", "value": 0.5 + 0.2j, "kind": "R"},
+        {"label": "across C1", "value": -0.3j, "kind": "C", "tail": 0.5 + 0.2j},
+        {"label": "across R2", "value": 0.2 - 0.1j, "kind": "R", "tail": 0.5 - 0.1j},
+        {"label": "across C2", "value": 0.3 - 0.5j, "kind": "C", "tail": 0.7 - 0.2j},
+        {"label": "source", "value": 1.0 + 0j, "kind": "source"},
+    ], reference_label="source voltage", freq_hz=1e3)
+    for colour in (palette.RESISTOR, palette.RESISTOR_2, palette.CAPACITOR, palette.CAPACITOR_2):
+        assert colour in svg
+
+
+def test_part_colours_differ_from_every_other_palette_colour():
+    named = [v for k, v in vars(palette).items() if k.isupper() and isinstance(v, str)]
+    extra = [c for shades in palette.PART_COLORS.values() for c in shades]
+    assert len(set(extra)) == len(extra)
+    assert all(named.count(c) == 1 for c in extra), "each part colour is used for nothing else"
+
+
+def test_invisible_time_band_has_no_legend_entry():
+    # A band of a millionth of the step's height cannot be seen: drawn, but not in the legend.
+    t = np.linspace(0.0, 1e-3, 120)
+    y = 1.0 - np.exp(-t / 1e-4)          # first-order step response (textbook)
+    thin = charts_time.time_response("thin", t, y, band=(y - 1e-6, y + 1e-6))
+    wide = charts_time.time_response("wide", t, y, band=(y - 0.05, y + 0.05))
+    assert thin.count(palette.BAND_OUTER) == 1, "the thin band's fill only, no legend patch"
+    assert wide.count(palette.BAND_OUTER) > 1, "the visible band has its legend patch"

@@ -26,6 +26,7 @@ from rcdoc.analysis.surroundings import fixed_values
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Analysis, Check, Stage
 from rcdoc.analysis.network import GROUND, Network
+from rcdoc.analysis.phasor_choice import phasor_frequency
 from rcdoc.analysis.results import (MetricResult, PartRow, PartStress, Phasors, ResponseBand,
                                     StageResult, Waveform, param_of)
 
@@ -301,8 +302,7 @@ def analyse_network(stage: Stage, analysis: Analysis, kind,
     step, pwm = _waveforms(s, g, nominal_unstable)
     corner = next((m.nominal for m in metrics if m.name in ("corner", "f0")
                    and math.isfinite(m.nominal)), s.char_hz)
-    phasors = None if nominal_unstable else phasor_data(s.network, batch.take(slice(0, 1)),
-                                                        corner)
+    phasors = None if nominal_unstable else _phasors(s, batch.take(slice(0, 1)), corner)
     offending = tuple(complex(p) for p in polemod.offending(g.nominal_ev.poles[0]))
     return StageResult(stage=stage, network=s.network, passband=s.passband, char_hz=s.char_hz,
                        freqs_hz=s.freqs, h_nominal=g.h_nominal, band=band, metrics=metrics,
@@ -475,6 +475,16 @@ def _highest(samples: np.ndarray) -> float:
     if samples.size == 0 or not np.all(np.isfinite(samples)):
         return math.nan
     return float(samples.max())
+
+
+def _phasors(s: _Setup, nominal: dict, corner: float) -> Phasors | None:
+    """The nominal's phasors at the swept frequency where they differ most in phase
+    (rcdoc.analysis.phasor_choice); at the corner when the stage has no sweep."""
+    choice = phasor_frequency(s.network, nominal, s.freqs)
+    if choice is None:
+        return phasor_data(s.network, nominal, corner)
+    ph = phasor_data(s.network, nominal, choice.freq_hz)
+    return None if ph is None else replace(ph, spread_deg=choice.spread_deg)
 
 
 def phasor_data(network: Network, values: dict[str, np.ndarray], freq_hz: float) -> Phasors | None:

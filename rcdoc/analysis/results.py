@@ -14,6 +14,7 @@ read-only so a reader cannot change a result another reader sees.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 from typing import Iterator, Mapping, Protocol, runtime_checkable
 
@@ -214,6 +215,9 @@ class Phasors:
     current: complex
     source: complex
     output: complex | None
+    # Largest phase difference between the drawn phasors at freq_hz (rcdoc.analysis.phasor_choice),
+    # the reason freq_hz was chosen; NaN when the frequency was given, not chosen.
+    spread_deg: float = math.nan
 
 
 @dataclass(frozen=True)

@@ -42,8 +42,12 @@ from rcdoc.note import palette as pal
 WIDTH_IN = 16.0 / 2.54  # the note's text width, 16 cm
 HALF_WIDTH_IN = 0.49 * WIDTH_IN  # one of two charts side by side (the note's ".fig.half")
 
-# Units whose values are not scaled with SI prefixes on an axis.
-_UNSCALED_UNITS = frozenset({"", "dB", "%", "°", "deg", "1"})
+# Units whose values are not scaled with SI prefixes on an axis or in a label: a
+# milli-decibel or a milli-LSB reads as an error to a reviewer ("0.012 LSB", not "12 mLSB").
+_UNSCALED_UNITS = frozenset({"", "dB", "%", "°", "deg", "1", "LSB"})
+
+# Unit codes of the metric registry (rcdoc.input.quantities) shown by their symbol.
+_SYMBOLS = {"ohm": "Ω", "deg": "°", "degC": "°C", "1": ""}
 
 _PREFIXES = {
     -15: "f", -12: "p", -9: "n", -6: "µ", -3: "m",
@@ -221,8 +225,34 @@ def _free_place(text, box, placed, frame, renderer, pt):
 
 
 def _eng(value: float, unit: str = "") -> str:
-    """An SI-prefixed label, 1591.5 -> '1.59 k'+unit: the one formatter, note minus."""
-    return format_eng(value, unit).replace("-", _MINUS)
+    """A value with its unit, 1591.5 Hz -> '1.59 kHz': the one formatter, note minus.
+
+    SI prefixes for SI units; units in _UNSCALED_UNITS get a plain number with
+    three significant figures instead ('−0.347 LSB', '−39.6 dB', '0.5').
+    """
+    symbol = _SYMBOLS.get(unit, unit)
+    if unit not in _UNSCALED_UNITS:
+        return format_eng(value, symbol).replace("-", _MINUS)
+    text = _plain(float(value))
+    if symbol == "°":
+        return text + symbol
+    return f"{text} {symbol}" if symbol else text
+
+
+def _plain(value: float, digits: int = 3) -> str:
+    """``digits`` significant figures without prefix or exponent, trailing zeros dropped."""
+    if value == 0 or not math.isfinite(value):
+        return "0" if value == 0 else str(value)
+    decimals = max(0, digits - 1 - math.floor(math.log10(abs(value))))
+    text = f"{value:.{decimals}f}"
+    if "." in text:
+        text = text.rstrip("0").rstrip(".")
+    return text.replace("-", _MINUS)
+
+
+def _unit_symbol(unit: str) -> str:
+    """The symbol shown in an axis label for a registry unit code ('ohm' -> 'Ω')."""
+    return _SYMBOLS.get(unit, unit)
 
 
 def _num(value: float, fmt: str = ".1f") -> str:
@@ -241,7 +271,9 @@ class _AxisEngFormatter(ticker.Formatter):
     _decimals = 0
 
     def set_locs(self, locs):
-        vmin, vmax = self.axis.get_view_interval()
+        self._prepare(*self.axis.get_view_interval(), locs)
+
+    def _prepare(self, vmin: float, vmax: float, locs) -> None:
         big = max(abs(vmin), abs(vmax))
         exp3 = 0
         if math.isfinite(big) and big > 0 and not 0.1 <= big < 1000.0:
@@ -257,6 +289,39 @@ class _AxisEngFormatter(ticker.Formatter):
         prefix = _PREFIXES[self._exp3]
         text = f"{x / 10.0**self._exp3:.{self._decimals}f}" + (_THIN + prefix if prefix else "")
         return text.replace("-", _MINUS)
+
+
+class _OffsetFormatter(_AxisEngFormatter):
+    """Tick labels as offsets from a reference value ('−20 f', '0', '+20 f').
+
+    For an axis whose span is a tiny fraction of its values (an input current
+    of 55.9966 nA ± 0.1 pA): full values would need six digits per tick.
+    """
+
+    def __init__(self, ref: float):
+        self.ref = ref
+
+    def set_locs(self, locs):
+        vmin, vmax = self.axis.get_view_interval()
+        self._prepare(vmin - self.ref, vmax - self.ref, [v - self.ref for v in locs])
+
+    def __call__(self, x, pos=None):
+        d = x - self.ref
+        if abs(d) < 1e-9 * max(abs(self.ref), 1e-300):
+            return "0"
+        text = super().__call__(d, pos)
+        return text if text.startswith(_MINUS) else "+" + text
+
+
+class _OffsetLocator(ticker.MaxNLocator):
+    """At most `nbins` + 1 ticks at round offsets from a reference value (0 among them)."""
+
+    def __init__(self, ref: float, nbins: int = 4):
+        super().__init__(nbins)
+        self.ref = ref
+
+    def tick_values(self, vmin, vmax):
+        return self.ref + super().tick_values(vmin - self.ref, vmax - self.ref)
 
 
 def _tick_formatter(unit: str) -> ticker.Formatter:

@@ -340,12 +340,17 @@ def phasor(fig_id: str, vectors: Sequence[Mapping], *, reference_label: str, fre
         points = [0j, complex(ref_len, 0.0)]
         ax.add_patch(FancyArrowPatch((0.0, 0.0), (ref_len, 0.0), arrowstyle="-|>", mutation_scale=8,
                                      color=pal.MUTED, linewidth=0.8, shrinkA=0, shrinkB=0, zorder=2))
-        ax.annotate(reference_label, xy=(ref_len, 0.0), xytext=(0, 4), textcoords="offset points",
-                    ha="right", va="bottom", color=pal.INK, zorder=6)
+        # The reference is named once, in the legend: a label on its arrow ran over the phasors.
         handles = [Line2D([], [], color=pal.MUTED, linewidth=0.8, label=f"reference: {reference_label}")]
+        seen: dict[str, int] = {}
 
         for label, value, kind, tail in items:
             color, width, style = _PHASOR_STYLE[kind]
+            if kind in pal.PART_COLORS:
+                # Each part of a kind in a colour of its own (two resistors are not two blues).
+                shades = pal.PART_COLORS[kind]
+                color = shades[seen.get(kind, 0) % len(shades)]
+                seen[kind] = seen.get(kind, 0) + 1
             head = tail + value
             points += [tail, head]
             if abs(value) > 1e-9 * scale:
@@ -356,24 +361,7 @@ def phasor(fig_id: str, vectors: Sequence[Mapping], *, reference_label: str, fre
             handles.append(Line2D([], [], color=color, linewidth=width, linestyle=style, label=label))
 
         if angle_deg is not None:
-            angle = float(angle_deg)
-            source = next(((v, t) for _, v, k, t in items if k == "source"), None)
-            centre, radius = (source[1], 0.3 * abs(source[0])) if source else (0j, 0.3 * scale)
-            radius = radius or 0.3 * scale
-            ax.add_patch(Arc((centre.real, centre.imag), 2 * radius, 2 * radius,
-                             theta1=min(0.0, angle), theta2=max(0.0, angle),
-                             color=pal.SOURCE, linewidth=0.9, zorder=3))
-            # Along the arc, as far as possible from the phasors that start at its centre.
-            starts = [math.degrees(math.atan2(v.imag, v.real)) for _, v, _, t in items
-                      if abs(t - centre) <= 1e-9 * scale and abs(v) > 0] + [0.0]
-            mid = math.radians(max((angle * k for k in (0.5, 0.35, 0.65, 0.2, 0.8)),
-                                   key=lambda a: min(abs((a - d + 180.0) % 360.0 - 180.0) for d in starts)))
-            c, s = math.cos(mid), math.sin(mid)
-            ax.annotate(f"{_num(angle)}°", xy=(centre.real + radius * c, centre.imag + radius * s),
-                        xytext=(5 * c, 5 * s), textcoords="offset points",
-                        ha="left" if c > 0.3 else "right" if c < -0.3 else "center",
-                        va="bottom" if s > 0.3 else "top" if s < -0.3 else "center",
-                        color=pal.INK, bbox=_BBOX, zorder=6)
+            _angle_arc(ax, items, float(angle_deg), scale)
 
         pad = 0.12 * scale
         ax.update_datalim([(z.real + dx, z.imag + dy) for z in points
@@ -389,3 +377,24 @@ def phasor(fig_id: str, vectors: Sequence[Mapping], *, reference_label: str, fre
         ax.set_ylabel("Imaginary [V]")
         _legend(fig, handles, max_cols=3, title=f"phasors at {_eng(freq_hz, 'Hz')}")
         return _finish(fig, fig_id, title, fmt)
+
+
+def _angle_arc(ax, items: list, angle: float, scale: float) -> None:
+    """The angle between +x and the source phasor: an arc and its value, off the phasors."""
+    source = next(((v, t) for _, v, k, t in items if k == "source"), None)
+    centre, radius = (source[1], 0.3 * abs(source[0])) if source else (0j, 0.3 * scale)
+    radius = radius or 0.3 * scale
+    ax.add_patch(Arc((centre.real, centre.imag), 2 * radius, 2 * radius,
+                     theta1=min(0.0, angle), theta2=max(0.0, angle),
+                     color=pal.SOURCE, linewidth=0.9, zorder=3))
+    # Along the arc, as far as possible from the phasors that start at its centre.
+    starts = [math.degrees(math.atan2(v.imag, v.real)) for _, v, _, t in items
+              if abs(t - centre) <= 1e-9 * scale and abs(v) > 0] + [0.0]
+    mid = math.radians(max((angle * k for k in (0.5, 0.35, 0.65, 0.2, 0.8)),
+                           key=lambda a: min(abs((a - d + 180.0) % 360.0 - 180.0) for d in starts)))
+    c, s = math.cos(mid), math.sin(mid)
+    ax.annotate(f"{_num(angle)}°", xy=(centre.real + radius * c, centre.imag + radius * s),
+                xytext=(5 * c, 5 * s), textcoords="offset points",
+                ha="left" if c > 0.3 else "right" if c < -0.3 else "center",
+                va="bottom" if s > 0.3 else "top" if s < -0.3 else "center",
+                color=pal.INK, bbox=_BBOX, zorder=6)

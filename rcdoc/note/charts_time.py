@@ -16,9 +16,10 @@ from matplotlib.lines import Line2D
 from matplotlib.patches import Patch
 
 from rcdoc.note import palette as pal
-from rcdoc.note.charts import (HALF_WIDTH_IN, _arr, _AxisEngFormatter, _check_fig_id, _eng, _finish, _finite,
-                               _grid, _legend, _log_axis, _new_figure, _same_shape, _styled,
-                               _tick_formatter)
+from rcdoc.note.charts import (_UNSCALED_UNITS, HALF_WIDTH_IN, _arr, _AxisEngFormatter, _check_fig_id,
+                               _eng, _finish, _finite, _grid, _legend, _log_axis, _new_figure,
+                               _OffsetFormatter, _OffsetLocator, _same_shape, _styled,
+                               _tick_formatter, _unit_symbol)
 
 
 # ---------------------------------------------------------------------------
@@ -68,13 +69,15 @@ def time_response(fig_id: str, t_s, nominal, *, band=None, window: Mapping | Non
             lo = _same_shape(t, _arr(band[0], "band[0]"), "band[0]")
             hi = _same_shape(t, _arr(band[1], "band[1]"), "band[1]")
             ax.fill_between(t, lo, hi, color=pal.BAND_OUTER, linewidth=0, zorder=1)
-            handles.append(Patch(color=pal.BAND_OUTER, label="Monte Carlo min–max"))
+            band_at = len(handles)
         for st, sy, label, role in curves:
             color, width, style = _ROLE_STYLE[role]
             ax.plot(st, sy, color=color, linewidth=width, linestyle=style, zorder=2.5)
             if label:           # an unlabelled curve continues the one before it in the legend
                 handles.append(Line2D([], [], color=color, linewidth=width, linestyle=style, label=label))
         ax.plot(t, y, color=pal.NOMINAL, linewidth=1.5, zorder=3)
+        if band is not None and _visible(ax, lo, hi):
+            handles.insert(band_at, Patch(color=pal.BAND_OUTER, label="Monte Carlo min–max"))
         handles.insert(0, Line2D([], [], color=pal.NOMINAL, linewidth=1.5, label=nominal_label))
 
         t_all = _finite(t, *(c[0] for c in curves))
@@ -87,6 +90,14 @@ def time_response(fig_id: str, t_s, nominal, *, band=None, window: Mapping | Non
         ax.set_ylabel(ylabel)
         _legend(fig, handles)
         return _finish(fig, fig_id, title, fmt)
+
+
+def _visible(ax, lo: np.ndarray, hi: np.ndarray) -> bool:
+    """True when a band is at least 1 % of the axis' height somewhere: a thinner one cannot
+    be seen and gets no legend entry."""
+    width = _finite(hi - lo)
+    y_lo, y_hi = ax.get_ylim()
+    return bool(width.size and width.max() >= 0.01 * (y_hi - y_lo))
 
 
 # ---------------------------------------------------------------------------
@@ -135,25 +146,44 @@ def histogram(fig_id: str, samples, *, nominal: float, lo: float | None = None, 
         handles.append(Line2D([], [], color=pal.INK, linewidth=1.4, label=f"nominal {_eng(nominal, unit)}"))
         left, right = _hist_range(data_lo, data_hi, lo, hi)
         ax.set_xlim(left, right)
-        top = max(int(counts.max()), 1) * 1.25
+        given = [(float(v), below) for v, below in ((lo, True), (hi, False)) if v is not None]
+        arrows = sum(not left <= v <= right for v, _ in given)
+        # Two off-scale limits: their arrows on two levels above the bars, not on one line.
+        top = max(int(counts.max()), 1) * (1.5 if arrows > 1 else 1.25)
         ax.set_ylim(0, top)
         outside = 0
-        for limit, below in ((lo, True), (hi, False)):
-            if limit is None:
-                continue
-            limit = float(limit)
+        level = 0.92
+        for limit, below in given:
             outside += int(np.count_nonzero(x < limit if below else x > limit))
-            _hist_limit(ax, limit, below, left, right, top, unit)
+            if _hist_limit(ax, limit, below, left, right, level * top, unit):
+                level -= 0.14
         if lo is not None or hi is not None:
             handles.append(Patch(facecolor=pal.LIMIT, edgecolor=pal.LIMIT_EDGE, linewidth=0.8,
                                  label=f"outside limit: {outside} of {x.size}"))
 
-        ax.xaxis.set_major_formatter(_tick_formatter(unit))
-        ax.xaxis.set_major_locator(ticker.MaxNLocator(5))
-        ax.set_xlabel(f"{label} [{unit}]" if unit else label)
+        _hist_xaxis(ax, label, unit, nominal, single)
         ax.set_ylabel("Samples per bin")
         _legend(fig, handles, max_cols=2)
         return _finish(fig, fig_id, title, fmt)
+
+
+def _hist_xaxis(ax, label: str, unit: str, nominal: float, single: bool) -> None:
+    """Few ticks with short labels (the chart is half the text width), and the axis label.
+
+    A spread that is a tiny fraction of the values (55.9966 nA ± 0.1 pA) would need
+    six digits per tick: its ticks are offsets from the nominal instead.
+    """
+    ax.xaxis.set_major_locator(ticker.MaxNLocator(4))
+    left, right = ax.get_xlim()
+    symbol = _unit_symbol(unit)
+    if not single and unit not in _UNSCALED_UNITS and \
+            (right - left) < 1e-3 * max(abs(left), abs(right)):
+        ax.xaxis.set_major_locator(_OffsetLocator(nominal))
+        ax.xaxis.set_major_formatter(_OffsetFormatter(nominal))
+        label = f"{label} − nominal"
+    else:
+        ax.xaxis.set_major_formatter(_tick_formatter(unit))
+    ax.set_xlabel(f"{label} [{symbol}]" if symbol else label)
 
 
 def _hist_range(data_lo: float, data_hi: float, lo, hi) -> tuple[float, float]:
@@ -170,84 +200,133 @@ def _hist_range(data_lo: float, data_hi: float, lo, hi) -> tuple[float, float]:
     return left, right
 
 
-def _hist_limit(ax, limit: float, below: bool, left: float, right: float, top: float, unit: str) -> None:
-    """Shade the forbidden side of one limit, or point at it when it is off scale."""
+def _hist_limit(ax, limit: float, below: bool, left: float, right: float, y: float, unit: str) -> bool:
+    """Shade the forbidden side of one limit, or point at it at height `y` when it is off
+    scale; True when an arrow was drawn."""
     if left <= limit <= right:
         a, b = (left, limit) if below else (limit, right)
         ax.axvspan(a, b, facecolor=pal.LIMIT, edgecolor="none", zorder=0.5)
         ax.axvline(limit, color=pal.LIMIT_EDGE, linewidth=1.2, zorder=2.5)
-        return
+        return False
     off_left = limit < left
     if off_left != below:
         # The whole visible axis is on the forbidden side: shade it.
         ax.axvspan(left, right, facecolor=pal.LIMIT, edgecolor="none", zorder=0.5)
     edge = left if off_left else right
-    ax.annotate(f"limit {_eng(limit, unit)}", xy=(edge, 0.9 * top),
+    ax.annotate(f"limit {_eng(limit, unit)}", xy=(edge, y),
                 xytext=(20 if off_left else -20, 0), textcoords="offset points",
                 ha="left" if off_left else "right", va="center", color=pal.INK, zorder=6,
                 arrowprops={"arrowstyle": "-|>", "color": pal.LIMIT_EDGE, "linewidth": 1.2,
                             "shrinkA": 0, "shrinkB": 0})
+    return True
 
 
 # ---------------------------------------------------------------------------
-# Corner frequencies of all stages
+# Characteristic frequencies of all stages: corners, notches, ring frequencies
 
 
 _STATUS_MARKER = {"pass": "o", "fail": "X"}
 
+# Kinds of frequency: which axis a row goes on, and the word before its value.
+_FREQ_KINDS = {"corner": ("filter", ""), "natural": ("filter", "f0 "),
+               "notch": ("filter", "notch "), "ring": ("ring", "")}
+_AXIS_LABEL = {"filter": "Corner and notch frequency [Hz]",
+               "ring": "Snubber ring frequency [Hz]"}
 
-def corner_overview(fig_id: str, rows: Sequence[Mapping], title: str = "", *, fmt: str = "svg") -> str | bytes:
-    """One row per stage on a shared log-frequency axis: nominal and min-max, by status."""
-    _check_fig_id(fig_id)
+
+def _overview_rows(rows: Sequence[Mapping]) -> list[tuple]:
+    """Checked rows: (label, status, axis, [(word, nominal, min, max), ...])."""
     parsed = []
     for i, row in enumerate(rows):
         status = row.get("status")
         if status not in ("pass", "fail"):
             raise ValueError(f"rows[{i}].status must be 'pass' or 'fail', got {status!r}")
-        nom = float(row["nominal"])
-        f_min = float(row["min"]) if row.get("min") is not None else nom
-        f_max = float(row["max"]) if row.get("max") is not None else nom
-        if min(nom, f_min, f_max) <= 0 or not all(map(math.isfinite, (nom, f_min, f_max))):
-            raise ValueError(f"rows[{i}]: frequencies must be positive and finite")
-        parsed.append((str(row["label"]), nom, f_min, f_max, status))
+        kind = row.get("kind", "corner")
+        if kind not in _FREQ_KINDS:
+            raise ValueError(f"rows[{i}].kind must be one of {sorted(_FREQ_KINDS)}, got {kind!r}")
+        axis, word = _FREQ_KINDS[kind]
+        freqs = []
+        for fr in row.get("frequencies", [row]):
+            nom = float(fr["nominal"])
+            f_min = float(fr["min"]) if fr.get("min") is not None else nom
+            f_max = float(fr["max"]) if fr.get("max") is not None else nom
+            if min(nom, f_min, f_max) <= 0 or not all(map(math.isfinite, (nom, f_min, f_max))):
+                raise ValueError(f"rows[{i}]: frequencies must be positive and finite")
+            freqs.append((str(fr.get("word", word)), nom, f_min, f_max))
+        if not freqs:
+            raise ValueError(f"rows[{i}]: no frequency")
+        parsed.append((str(row["label"]), status, axis, sorted(freqs, key=lambda q: q[1])))
     if not parsed:
         raise ValueError("rows: need at least one stage")
+    return parsed
+
+
+def corner_overview(fig_id: str, rows: Sequence[Mapping], title: str = "", *, fmt: str = "svg") -> str | bytes:
+    """One row per stage, nominal and min-max of its characteristic frequencies, by status.
+
+    A row is {"label", "status": "pass"|"fail", "kind": "corner"|"natural"|"notch"|"ring",
+    "nominal", "min", "max"}, or with "frequencies": [{"nominal", "min", "max",
+    "word"?}, ...] in place of the one frequency (both corners of a band-pass).
+    Corners, natural and notch frequencies share one log axis; snubber ring
+    frequencies get their own, below it. Pass and fail differ in marker shape
+    (circle, cross) as well as colour.
+    """
+    _check_fig_id(fig_id)
+    parsed = _overview_rows(rows)
 
     with _styled(fig_id):
-        fig = _new_figure(1.2 + 0.3 * len(parsed))
-        ax = fig.add_subplot()
-        _grid(ax)
-        for i, (label, nom, f_min, f_max, status) in enumerate(parsed):
-            color = pal.PASS if status == "pass" else pal.FAIL
+        return _finish(_overview_figure(parsed), fig_id, title, fmt)
+
+
+def _overview_figure(parsed: list):
+    """The figure of corner_overview from its checked rows (inside the chart style)."""
+    groups = [(axis, [p for p in parsed if p[2] == axis]) for axis in _AXIS_LABEL]
+    groups = [(axis, g) for axis, g in groups if g]
+    fig = _new_figure(0.75 + 0.45 * len(groups) + 0.3 * len(parsed))
+    axes = fig.subplots(len(groups), 1, squeeze=False,
+                        height_ratios=[len(g) + 1.5 for _, g in groups])[:, 0]
+    for ax, (axis, group) in zip(axes, groups):
+        _overview_axis(ax, group, _AXIS_LABEL[axis])
+    handles = []
+    for status, color in (("pass", pal.PASS), ("fail", pal.FAIL)):
+        if any(p[1] == status for p in parsed):
+            handles.append(Line2D([], [], color=color, marker=_STATUS_MARKER[status], markersize=5.5,
+                                  markeredgewidth=1.8, linewidth=3.0,
+                                  alpha=1.0, label=f"{status}: nominal and min–max"))
+    _legend(fig, handles)
+    return fig
+
+
+def _overview_axis(ax, group: list, xlabel: str) -> None:
+    """The rows of one kind of frequency on a log axis of their own."""
+    _grid(ax)
+    for i, (_, status, _, freqs) in enumerate(group):
+        color = pal.PASS if status == "pass" else pal.FAIL
+        for k, (word, nom, f_min, f_max) in enumerate(freqs):
             ax.plot([f_min, f_max], [i, i], color=color, linewidth=3.0, alpha=0.45,
                     solid_capstyle="butt", zorder=2)
             # Shape as well as colour: a circle passes, a cross fails (readable in grey print).
             ax.plot([nom], [i], marker=_STATUS_MARKER[status], markersize=5.5, color=color,
                     markeredgewidth=1.8, linestyle="none", zorder=3)
-            ax.annotate(_eng(nom, "Hz"), xy=(f_max, i), xytext=(6, 0), textcoords="offset points",
-                        ha="left", va="center", color=pal.INK, zorder=4)
-        lo = min(p[2] for p in parsed)
-        hi = max(p[3] for p in parsed)
-        # At least a decade on each side keeps single stages readable and leaves room for values.
-        x_lo = 10.0 ** math.floor(math.log10(lo) - 0.3)
-        x_hi = 10.0 ** math.ceil(math.log10(hi) + 0.5)
-        ax.set_xscale("log")
-        ax.set_xlim(x_lo, x_hi)
-        _log_axis(ax.xaxis, x_lo, x_hi)
-        ax.grid(False, which="minor")
-        ax.set_ylim(len(parsed) - 0.4, -0.6)
-        ax.set_yticks(range(len(parsed)), [p[0] for p in parsed])
-        ax.tick_params(axis="y", length=0)
-        ax.grid(False, axis="y", which="both")
-        ax.set_xlabel("Corner frequency [Hz]")
-        handles = []
-        for status, color in (("pass", pal.PASS), ("fail", pal.FAIL)):
-            if any(p[4] == status for p in parsed):
-                handles.append(Line2D([], [], color=color, marker=_STATUS_MARKER[status], markersize=5.5,
-                                      markeredgewidth=1.8, linewidth=3.0,
-                                      alpha=1.0, label=f"{status}: nominal and min–max"))
-        _legend(fig, handles)
-        return _finish(fig, fig_id, title, fmt)
+            # The lower of two frequencies is labelled on its left, the others on their right.
+            left = k == 0 and len(freqs) > 1
+            ax.annotate(word + _eng(nom, "Hz"), xy=(f_min if left else f_max, i),
+                        xytext=(-6 if left else 6, 0), textcoords="offset points",
+                        ha="right" if left else "left", va="center", color=pal.INK, zorder=4)
+    lo = min(q[2] for p in group for q in p[3])
+    hi = max(q[3] for p in group for q in p[3])
+    # At least a decade on each side keeps single stages readable and leaves room for values.
+    x_lo = 10.0 ** math.floor(math.log10(lo) - 0.5)
+    x_hi = 10.0 ** math.ceil(math.log10(hi) + 0.5)
+    ax.set_xscale("log")
+    ax.set_xlim(x_lo, x_hi)
+    _log_axis(ax.xaxis, x_lo, x_hi)
+    ax.grid(False, which="minor")
+    ax.set_ylim(len(group) - 0.4, -0.6)
+    ax.set_yticks(range(len(group)), [p[0] for p in group])
+    ax.tick_params(axis="y", length=0)
+    ax.grid(False, axis="y", which="both")
+    ax.set_xlabel(xlabel)
 
 
 # ---------------------------------------------------------------------------

@@ -84,31 +84,43 @@ def phasor_figure(r: StageResult) -> dict | None:
     if ph.output is not None and ph.closing is not None:
         vectors.append({"label": f"output: {fq(abs(ph.output), 'V')}", "value": ph.output,
                         "kind": "sum", "tail": 0j})
-    if _all_in_phase([v["value"] for v in vectors]):
+    if _in_phase(ph, vectors):
         # Collinear phasors say nothing a drawing could add: one sentence instead.
-        return {"type": "text", "title": f"Phasors at {fq(ph.freq_hz, 'Hz')}",
-                "paragraphs": [f"At {fq(ph.freq_hz, 'Hz')} every part voltage is in phase "
-                               "with the source (within 1°): the network acts as a plain divider "
-                               "there, so no phasor diagram is drawn."]}
+        where = (f"At every frequency of the sweep ({fq(r.freqs_hz[0], 'Hz')} to "
+                 f"{fq(r.freqs_hz[-1], 'Hz')})" if math.isfinite(ph.spread_deg) and len(r.freqs_hz)
+                 else f"At {fq(ph.freq_hz, 'Hz')}")
+        return {"type": "text", "title": "Phasors",
+                "paragraphs": [f"{where} every part voltage is in phase or in antiphase "
+                               "with the source (within 1°): the phasors lie on one line, so no "
+                               "phasor diagram is drawn."]}
     if ph.reference == "current":
-        ref_label = f"Current {fq(abs(ph.current), 'A')} (reference)"
+        ref_label = f"current {fq(abs(ph.current), 'A')}"
         angle = math.degrees(math.atan2(ph.source.imag, ph.source.real))
     else:
-        ref_label = "Source voltage (reference)"
+        ref_label = "source voltage"
         angle = (math.degrees(math.atan2(ph.output.imag, ph.output.real))
                  if ph.output is not None else None)
     svg = charts_freq.phasor(f"{r.stage.id}-phasor", vectors, reference_label=ref_label,
                         freq_hz=ph.freq_hz, angle_deg=angle, fmt="png")
     what = ("the series current, common to every part on the path, is the reference direction"
             if ph.reference == "current" else "the source voltage is the reference direction")
+    why = (f"{fq(ph.freq_hz, 'Hz')} is the frequency of the sweep where the phasors drawn are "
+           f"farthest from one line: the largest angle between two of them is "
+           f"{fq(ph.spread_deg, 'deg')} (counting phasors within 20 dB of the largest; opposite "
+           "ones count as on one line)" if math.isfinite(ph.spread_deg)
+           else f"drawn at {fq(ph.freq_hz, 'Hz')}")
     return {"type": "figure", "title": f"Phasors at {fq(ph.freq_hz, 'Hz')}", "image": svg,
             "width": "full",
-            "caption": f"Part voltages head to tail for a 1 V rms source at "
-                       f"{fq(ph.freq_hz, 'Hz')}; they add up to the source voltage; {what}."}
+            "caption": f"Part voltages head to tail for a 1 V rms source; they add up to the "
+                       f"source voltage; {what}. {why[0].upper() + why[1:]}."}
 
 
-def _all_in_phase(values) -> bool:
-    """True when every non-zero phasor lies on one line through the origin (within 1°)."""
+def _in_phase(ph, vectors) -> bool:
+    """True when the analysis found the phasors in phase (within 1°) at every swept
+    frequency; for a frequency given rather than chosen, when they lie on one line."""
+    if math.isfinite(ph.spread_deg):
+        return ph.spread_deg < 1.0
+    values = [v["value"] for v in vectors]
     big = max((abs(v) for v in values), default=0.0)
     angles = [math.atan2(v.imag, v.real) for v in values if abs(v) > 1e-6 * big]
     return bool(angles) and all(abs(math.sin(a - angles[0])) < math.sin(math.radians(1.0))
@@ -265,17 +277,30 @@ def _analysis_sentences(r: StageResult, project: Project):
                f"{t1:g} °C.")
 
 
+# Which frequency of a stage the summary chart shows, by kind: (metric names, chart kind).
+_OVERVIEW_FREQS = ((("corner_low", "corner_high"), "corner"), (("corner",), "corner"),
+                   (("notch_frequency",), "notch"), (("f0",), "natural"),
+                   (("ring_frequency",), "ring"))
+
+
 def overview_image(results: list[StageResult]) -> str | None:
+    """The summary chart: each stage's corners (both of a band-pass), notch or ring
+    frequency, nominal and Monte Carlo min-max."""
     rows = []
     for r in results:
-        m = next((m for m in r.metrics if m.name in ("corner", "f0", "corner_low",
-                                                      "ring_frequency")), None)
-        if m is None or not math.isfinite(m.nominal):
-            continue
-        s = m.samples[np.isfinite(m.samples)]
-        rows.append({"label": r.stage.id, "nominal": m.nominal,
-                     "min": float(s.min()) if s.size else m.nominal,
-                     "max": float(s.max()) if s.size else m.nominal, "status": r.status})
+        for names, kind in _OVERVIEW_FREQS:
+            found = [next((m for m in r.metrics if m.name == n and m.at_hz is None), None)
+                     for n in names]
+            if any(m is None or not math.isfinite(m.nominal) for m in found):
+                continue
+            freqs = []
+            for m in found:
+                s = m.samples[np.isfinite(m.samples)]
+                freqs.append({"nominal": m.nominal, "min": float(s.min()) if s.size else m.nominal,
+                              "max": float(s.max()) if s.size else m.nominal})
+            rows.append({"label": r.stage.id, "kind": kind, "frequencies": freqs,
+                         "status": r.status})
+            break
     if not rows:
         return None
     return charts_time.corner_overview("board-overview", rows, fmt="png")

@@ -42,6 +42,17 @@ MUTED = "#6b7280"       # secondary text and thin guide lines
 
 COLOR_FOR_KIND = {"R": RESISTOR, "C": CAPACITOR, "L": INDUCTOR}
 
+# Several parts of one kind in one chart (a phasor diagram of a ladder): the first
+# takes the kind's colour, the next ones hues apart from it and from the other kinds.
+RESISTOR_2 = "#1a9a9f"  # cyan teal
+RESISTOR_3 = "#4b4f9e"  # indigo
+CAPACITOR_2 = "#c99a16"  # mustard
+CAPACITOR_3 = "#8c3b1f"  # rust
+INDUCTOR_2 = "#c05f9f"  # orchid
+PART_COLORS = {"R": (RESISTOR, RESISTOR_2, RESISTOR_3),
+               "C": (CAPACITOR, CAPACITOR_2, CAPACITOR_3),
+               "L": (INDUCTOR, INDUCTOR_2)}
+
 # Order in which charts colour curves that carry no meaning of their own.
 SERIES_CYCLE = (NOMINAL, CAPACITOR, WITH, INDUCTOR, CURRENT, SUM)
 
