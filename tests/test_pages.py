@@ -8,7 +8,10 @@ printed in exponent form.
 
 from __future__ import annotations
 
+import json
 import re
+import shutil
+import subprocess
 from pathlib import Path
 
 import pytest
@@ -19,6 +22,9 @@ from rcdoc.kinds import KINDS
 pypdf = pytest.importorskip("pypdf")
 
 EXAMPLE = Path(__file__).resolve().parents[1] / "projects" / "greenhouse-controller.toml"
+
+# Left and right page margins of templates/note.css (@page margin), in points.
+_SIDE_MARGIN_PT = 18 / 25.4 * 72
 
 # Page furniture: the running header and the footer sit in the outer 8 % of the page
 # (the note's margins, templates/note.css); body text is what lies between.
@@ -84,7 +90,11 @@ def _all_kinds_board(path: Path) -> Path:
 def _render(out: Path, board: Path) -> list[dict]:
     assert main(["build", str(board), "-o", str(out)]) == 0
     reader = pypdf.PdfReader(next(out.glob("*.pdf")))
-    return [_page_lines(page) for page in reader.pages]
+    summary = json.loads(next(out.glob("*.json")).read_text(encoding="utf-8"))
+    pages = [_page_lines(page) for page in reader.pages]
+    pages[0]["summary"] = summary
+    pages[0]["pdf"] = next(out.glob("*.pdf"))
+    return pages
 
 
 @pytest.fixture(scope="module")
@@ -154,3 +164,42 @@ def test_no_number_in_exponent_form_or_below_resolution(board, request):
     noise = [(i + 1, m.group(0)) for i, p in enumerate(pages)
              for m in re.finditer(r"\b0\.0{7,}\d+", p["text"])]
     assert not noise, noise[:10]
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("board", ["pages", "all_kinds_pages"])
+def test_metric_names_stay_on_one_line(board, request):
+    # A checked metric's name (the JSON summary's label) is read in the stage's metrics
+    # and checks tables: pypdf extracts a cell that wraps as two lines, so the whole
+    # name followed by a value on the same line means the name did not wrap.
+    pages = request.getfixturevalue(board)
+    text = "\n".join(p["text"] for p in pages)
+    labels = {check["label"] for stage in pages[0]["summary"]["stages"]
+              for check in stage["checks"] if not check.get("part")}   # part ratings: own table
+    assert len(labels) >= 5
+    wrapped = sorted(label for label in labels
+                     if not re.search(re.escape(label) + r" [−\-+≤≥]?\s?\d", text))
+    assert not wrapped, wrapped
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("board", ["pages", "all_kinds_pages"])
+def test_text_stays_within_the_side_margins(board, request):
+    # Word boxes from poppler's pdftotext -bbox (pypdf gives where text starts, not
+    # where it ends): no table cell or paragraph reaches into the left or right margin.
+    if shutil.which("pdftotext") is None:
+        pytest.skip("pdftotext (poppler-utils) not installed")
+    pdf = request.getfixturevalue(board)[0]["pdf"]
+    html = subprocess.run(["pdftotext", "-bbox", str(pdf), "-"], check=True,
+                          capture_output=True, text=True).stdout
+    outside, page, width, words = [], 0, 0.0, 0
+    for m in re.finditer(r'<page width="([\d.]+)"|<word xMin="([\d.]+)" yMin="[\d.]+" '
+                         r'xMax="([\d.]+)" yMax="[\d.]+">([^<]*)', html):
+        if m.group(1):
+            page, width = page + 1, float(m.group(1))
+            continue
+        x0, x1, words = float(m.group(2)), float(m.group(3)), words + 1
+        if x0 < _SIDE_MARGIN_PT - 0.5 or x1 > width - _SIDE_MARGIN_PT + 0.5:
+            outside.append((page, m.group(4)))
+    assert page > 10 and words > 50 * page      # the word boxes were read
+    assert not outside, outside[:10]
