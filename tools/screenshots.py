@@ -4,7 +4,7 @@ Builds projects/greenhouse-controller.toml into a temporary folder, finds each
 page by the note's own bookmarks (a stage's title, then a block title within the
 stage) and writes it as a PNG with poppler's pdftoppm at a modest resolution.
 
-    PYTHONPATH=$PWD python3 tools/screenshots.py [--dpi 60] [--out docs/screenshots]
+    PYTHONPATH=$PWD python3 tools/screenshots.py [--dpi 70] [--out docs/screenshots]
 
 Run it after a change that alters how the note looks (templates, note.css,
 charts, tables) and commit the PNGs with that change.
@@ -71,7 +71,7 @@ def _page_of(reader, titles: dict[str, str], stage: str | None, block: str | Non
 
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--dpi", type=int, default=60)
+    parser.add_argument("--dpi", type=int, default=70)
     parser.add_argument("--out", type=Path, default=ROOT / "docs" / "screenshots")
     args = parser.parse_args(argv)
     if shutil.which("pdftoppm") is None:
