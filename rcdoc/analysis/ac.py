@@ -221,12 +221,13 @@ class _Pencil:
         return x_sigma, zeros, ok
 
     def product(self, gain: np.ndarray, eig: np.ndarray, jw: np.ndarray) -> np.ndarray:
-        """gain · Π_k (1 + (jω − σ)·eig_k) for one block of samples: (s, F)."""
-        acc = np.empty((eig.shape[0], jw.size), dtype=complex)
+        """gain · Π_k (1 + (jω − σ)·eig_k) for one block of samples: (s, F); jω is (F,) or (s, F)."""
+        acc = np.empty((eig.shape[0], jw.shape[-1]), dtype=complex)
         acc[...] = gain[:, None]
         fac = np.empty_like(acc)
+        jw = jw if jw.ndim == 2 else jw[None, :]      # (F,) shared or (s, F) per row
         for k in range(eig.shape[1]):
-            np.multiply(eig[:, k, None], jw[None, :], out=fac)
+            np.multiply(eig[:, k, None], jw, out=fac)
             fac += (1.0 - self.sigma * eig[:, k])[:, None]
             acc *= fac
         return acc

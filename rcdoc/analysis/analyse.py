@@ -111,10 +111,12 @@ class _Setup:
     requests: list
     time_s: np.ndarray | None
     evaluator: type
+    noise_columns: tuple[int, ...] = ()
 
     def evaluate(self, vals) -> Evaluator:
         return self.evaluator(self.stage, self.network, vals, self.freqs, self.passband,
-                              self.char_hz, temperature_k=self.t_hot_k, time_s=self.time_s)
+                              self.char_hz, temperature_k=self.t_hot_k, time_s=self.time_s,
+                              noise_columns=self.noise_columns)
 
 
 def _setup(stage: Stage, analysis: Analysis, kind, evaluator) -> _Setup:
@@ -132,7 +134,8 @@ def _setup(stage: Stage, analysis: Analysis, kind, evaluator) -> _Setup:
     probe = evaluator(stage, network, nominal_vals, freqs, passband, char_hz)
     time_s = probe.time_s if stage.drive is not None else None
     return _Setup(stage, analysis, network, passband, batch, char_hz, freqs,
-                  analysis.temperature_c[1] + 273.15, requests, time_s, evaluator)
+                  analysis.temperature_c[1] + 273.15, requests, time_s, evaluator,
+                  probe.noise_columns)
 
 
 @dataclass

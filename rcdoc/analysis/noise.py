@@ -20,17 +20,76 @@ from rcdoc.analysis.assembly import System, _element_values
 from rcdoc.analysis.ac import _Pencil, _freqs, _pz_blocks, _solutions, conditioned
 from rcdoc.analysis.network import Network
 
-__all__ = ["BOLTZMANN_J_PER_K", "output_noise_psd"]
+__all__ = ["BOLTZMANN_J_PER_K", "output_noise_psd", "resonant_columns", "integration_grid"]
 
 #: Boltzmann constant, exact by definition of the kelvin in the revised SI
 #: (BIPM, The International System of Units, 9th edition, 2019).
 BOLTZMANN_J_PER_K = 1.380649e-23
 
 
+# A pole whose resonance is narrower than this many sweep spacings gets points of its
+# own in the noise integral: Q above 1 (half-width |Re p| against the spacing of 50
+# points a decade, 4.7 % of the frequency; a Q of 10 already misses by 0.25 %).
+_RESONANT_Q = 1.0
+# Where, in half-widths |Re p|/2π from the pole's |p|/2π, the added points sit: 121
+# evenly over ±10 (the top of the peak), then 24 a side spreading out to ±1536. For a
+# second-order resonance of any Q from 1.5 to 1e5 the integral is then within 0.1 %
+# in power of a 600 000-point one (0.2 % with 49 over ±6 and 16 a side; measured).
+_WINDOW = np.concatenate([-np.geomspace(1536.0, 10.0, 24, endpoint=False),
+                          np.linspace(-10.0, 10.0, 121),
+                          np.geomspace(1536.0, 10.0, 24, endpoint=False)[::-1]])
+
+
+def resonant_columns(poles_row: np.ndarray) -> tuple[int, ...]:
+    """Columns of one row's poles (n,) that are resonant (Q above 1), one per pair."""
+    p = np.asarray(poles_row)
+    ok = np.isfinite(p) & (p.imag > 0) & (p.real < 0)
+    q = np.abs(p) / (2.0 * np.maximum(np.abs(p.real), np.finfo(float).tiny))
+    return tuple(int(k) for k in np.flatnonzero(ok & (q > _RESONANT_Q)))
+
+
+def integration_grid(sweep_hz: np.ndarray, poles: np.ndarray,
+                     columns: tuple[int, ...]) -> np.ndarray:
+    """Per row (S, F + W): the sweep and points around each row's own pole in ``columns``,
+    inside the sweep's range and sorted. A row whose pole there is missing or not
+    resonant gets its points where the sweep has them already (no change to its sum
+    but the order of terms)."""
+    f = np.asarray(sweep_hz, dtype=float)
+    rows = poles.shape[0]
+    parts = [np.broadcast_to(f, (rows, f.size))]
+    for k in columns:
+        p = poles[:, k]
+        centre = np.abs(p) / (2 * math.pi)
+        half = np.abs(p.real) / (2 * math.pi)
+        good = np.isfinite(centre) & np.isfinite(half) & (half > 0)
+        pts = centre[:, None] + half[:, None] * _WINDOW[None, :]
+        pts = np.where(good[:, None], pts, f[0])
+        parts.append(np.clip(pts, f[0], f[-1]))
+    return np.sort(np.concatenate(parts, axis=1), axis=1)
+
+
+def _grid(freqs_hz, samples: int, shift_from_hz) -> tuple[np.ndarray, np.ndarray]:
+    """Frequencies as (F,) or (S, F), and the frequencies whose span sets the shift σ."""
+    f = np.asarray(freqs_hz, dtype=float)
+    if f.ndim == 2:
+        if f.shape[0] != samples or not np.all(np.isfinite(f)):
+            raise ProjectError("per-row frequencies must be finite, one row per sample")
+        if shift_from_hz is None:
+            raise ProjectError("per-row frequencies need the sweep that sets the shift")
+        return f, _freqs(shift_from_hz)
+    f = _freqs(f)
+    return f, (f if shift_from_hz is None else _freqs(shift_from_hz))
+
+
 def output_noise_psd(
-    network: Network, values: Mapping[str, np.ndarray], freqs_hz, temperature_k=300.0
+    network: Network, values: Mapping[str, np.ndarray], freqs_hz, temperature_k=300.0,
+    shift_from_hz=None,
 ) -> np.ndarray:
     """Thermal noise at the output, one-sided PSD in V²/Hz, shape (S, F).
+
+    ``freqs_hz`` is (F,), or (S, F) for frequencies of each sample's own
+    (then ``shift_from_hz``, the sweep, sets the pencil's shift, so that a
+    sample's numbers do not depend on the others').
 
     Each resistor is a noise current source of PSD 4kT/R across it
     (Johnson–Nyquist), uncorrelated with the others; the source is an ideal
@@ -42,8 +101,8 @@ def output_noise_psd(
     ``temperature_k`` is a scalar or an (S,) array.
     """
     system, T = conditioned(network, values)
-    f = _freqs(freqs_hz)
     vals, samples = _element_values(network, values)
+    f, f_shift = _grid(freqs_hz, samples, shift_from_hz)
     temp = np.broadcast_to(np.asarray(temperature_k, dtype=float), (samples,))
     if not np.all(np.isfinite(temp) & (temp >= 0)):
         raise ProjectError("the noise temperature must be a non-negative number of kelvin")
@@ -54,7 +113,7 @@ def output_noise_psd(
         k = system.node(node)
         return np.zeros(system.size) if k is None else T[k]
     resistors = [(path(e.a) - path(e.b), vals[e.name]) for e in network.elements if e.kind == "R"]
-    psd = np.zeros((samples, f.size))
+    psd = np.zeros((samples, f.shape[-1]))
     out = system.index[network.output]
 
     def accumulate(Y, rs):
@@ -63,7 +122,7 @@ def output_noise_psd(
             acc += np.abs(Y @ inj) ** 2 / r[rs, None]
         return acc
 
-    pencil = _Pencil(system, f)
+    pencil = _Pencil(system, f_shift)
     if out == pencil.d_node:  # the output is the source node: no noise reaches it
         return psd
     pos = {int(u): m for m, u in enumerate(pencil.keep)}  # drive node and source: y = 0
@@ -81,18 +140,22 @@ def output_noise_psd(
         ok &= good
         terms.append((gain, zeros, r))
     with np.errstate(all="ignore"):
-        for ss in _pz_blocks(samples, f.size):
-            den = pencil.product(np.ones(pencil.poles[ss].shape[0]), pencil.poles[ss], jw)
+        for ss in _pz_blocks(samples, f.shape[-1]):
+            jws = jw[ss] if jw.ndim == 2 else jw
+            den = pencil.product(np.ones(pencil.poles[ss].shape[0]), pencil.poles[ss], jws)
             den2 = den.real ** 2 + den.imag ** 2
             acc = np.zeros(den.shape)
             for gain, zeros, r in terms:
-                z = pencil.product(gain[ss], zeros[ss], jw)
+                z = pencil.product(gain[ss], zeros[ss], jws)
                 acc += (z.real ** 2 + z.imag ** 2) / r[ss, None]
             psd[ss] = acc / den2
     ok &= np.all(np.isfinite(psd), axis=1)
     if not np.all(ok):
         idx = np.flatnonzero(~ok)
-        psd[idx] = _noise_direct(system, f, idx, accumulate, out)
+        if f.ndim == 2:
+            psd[idx] = _noise_direct_rows(system, pencil.keep, f[idx], idx, accumulate, out)
+        else:
+            psd[idx] = _noise_direct(system, f, idx, accumulate, out)
     return 4.0 * BOLTZMANN_J_PER_K * temp[:, None] * psd
 
 
@@ -103,4 +166,26 @@ def _noise_direct(system: System, f: np.ndarray, idx: np.ndarray, accumulate, ou
     for ss, fs, Y in _solutions(sub, f, adjoint_of=out):
         rows = idx[ss]
         psd[ss, fs] = accumulate(Y, rows)
+    return psd
+
+
+def _noise_direct_rows(system: System, keep: np.ndarray, f: np.ndarray, idx: np.ndarray,
+                       accumulate, out: int) -> np.ndarray:
+    """The adjoint path for rows with frequencies of their own (r, F): one solve per row and
+    frequency column, batched over the rows (the loop runs over the columns)."""
+    G = system.G[idx][:, keep[:, None], keep]
+    C = system.C[idx][:, keep[:, None], keep]
+    e = np.zeros(keep.size)
+    e[int(np.flatnonzero(keep == out)[0])] = 1.0
+    psd = np.zeros(f.shape)
+    for j in range(f.shape[1]):
+        s = 2j * math.pi * f[:, j]
+        M = np.swapaxes(G + s[:, None, None] * C, -1, -2)
+        try:
+            y = np.linalg.solve(M, np.broadcast_to(e, (idx.size, keep.size))[..., None])[..., 0]
+        except np.linalg.LinAlgError:
+            y = np.full((idx.size, keep.size), np.nan + 0j)
+        Y = np.zeros((idx.size, 1, system.size), dtype=complex)
+        Y[:, 0, keep] = y
+        psd[:, j] = accumulate(Y, idx)[:, 0]
     return psd
