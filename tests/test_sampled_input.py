@@ -204,6 +204,35 @@ value = "10 nF"
     assert f"stage[1].{key}" in str(e.value)
 
 
+def _converter_stage(r, c, conv):
+    return f"""\
+[[stage]]
+id = "a"
+title = "A"
+kind = "sampled-input"
+converter = {{ {conv} }}
+[stage.parts.r]
+value = "{r}"
+[stage.parts.c]
+value = "{c}"
+"""
+
+
+def test_time_constants_too_far_apart_are_refused_before_analysis(tmp_path):
+    # 1 GΩ and 10 mF (τ = 10⁷ s) against a 1 mΩ switch on 1 fF (τ = 10⁻¹⁸ s):
+    # the switched analysis cannot resolve a 24-bit LSB there in double precision
+    # (it printed a 61 V sample of a 3.3 V level). Refused, naming the converter.
+    conv = ('sampling_c = "1 fF", switch_r = "1 mohm", acquisition = "1 ns", '
+            'sample_rate = "1 Hz", full_scale = "3.3 V", bits = 24, leakage = "1 pA"')
+    with pytest.raises(ProjectError) as e:
+        load(tmp_path, _converter_stage("1 Gohm", "10 mF", conv))
+    assert "stage[1].converter" in str(e.value) and "too far apart" in str(e.value)
+    # An ordinary 24-bit input (1 kΩ, 10 µF; 100 Ω switch on 10 pF, 1 µs of 1 ms) loads.
+    conv = ('sampling_c = "10 pF", switch_r = "100 ohm", acquisition = "1 us", '
+            'sample_rate = "1 kHz", full_scale = "3.3 V", bits = 24')
+    assert load(tmp_path, _converter_stage("1 kohm", "10 uF", conv)).stages
+
+
 def test_limit_in_lsb_and_default_level(tmp_path):
     # The level defaults to the full scale; "0.5 LSB" reads as 0.5.
     p = load(tmp_path, BOARD.format(rate="100 kHz").replace('level = "3.3 V"\n', ""))
