@@ -17,6 +17,7 @@ import numpy as np
 from rcdoc.analysis import engine
 from rcdoc.analysis import poles as polemod
 from rcdoc.analysis.response import Response
+from rcdoc.analysis.stresses import PartStresses
 from rcdoc.input.model import Check, Stage
 from rcdoc.analysis.network import Network
 
@@ -44,7 +45,7 @@ def sweep_for(stage_char_hz: float, analysis) -> np.ndarray:
     return np.logspace(math.log10(lo), math.log10(hi), n)
 
 
-class Evaluator:
+class Evaluator(PartStresses):
     """Computes metrics for every row of a batch of values."""
 
     def __init__(self, stage: Stage, network: Network, values: dict[str, np.ndarray],
@@ -279,14 +280,16 @@ class Evaluator:
         return Network(elements=els, drive=core_input(self.network), output=self.network.output,
                        opamps=self.network.opamps, path=self.network.path)
 
-    def _on_stable(self, compute, names, points: int) -> dict[str, np.ndarray]:
-        """compute(values, rows) -> {name: (rows, points)} over the stable rows only;
-        unstable rows get NaN (their time responses and noise do not exist)."""
+    def _on_stable(self, compute, names, points) -> dict[str, np.ndarray]:
+        """compute(values, rows) -> {name: (rows, width)} over the stable rows only;
+        unstable rows get NaN (their time responses and noise do not exist).
+        ``points``: every name's width, or a dict of them."""
+        widths = points if isinstance(points, dict) else {n: points for n in names}
         ok = ~self.unstable
         every = bool(ok.all())
         values = self.values if every else \
             {k: np.broadcast_to(v, (self.rows,))[ok] for k, v in self.values.items()}
-        result = {} if ok.any() else {n: np.zeros((0, points)) for n in names}
+        result = {} if ok.any() else {n: np.zeros((0, widths[n])) for n in names}
         # A stable row whose computation still overflows (a badly conditioned
         # step) gets no value rather than an infinite one, and no warning.
         with np.errstate(all="ignore"):
@@ -296,7 +299,7 @@ class Evaluator:
                 y[~np.all(np.isfinite(y), axis=1)] = np.nan
         if every:
             return result
-        out = {n: np.full((self.rows, points), np.nan) for n in names}
+        out = {n: np.full((self.rows, widths[n]), np.nan) for n in names}
         for n, y in result.items():
             out[n][ok] = y
         return out
@@ -330,14 +333,17 @@ class Evaluator:
 
     @cached_property
     def step_probes(self) -> dict[str, np.ndarray]:
+        """The output (rows × T) and, reduced on the fly, the part voltages the stresses need."""
         amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
-        probes = [self.network.output] + [f"v:{e.name}" for e in self.network.elements]
         t = self.time_s
+        reduce = self._part_reductions(t.size)
+        probes = [self.network.output] + list(reduce)
         # The step is applied at t = 0 from rest: the input holds its amplitude
         # from the first instant on.
         u = np.full(t.shape, amp)
         return self._on_stable(lambda values, _: engine.transient(
-            self.network, values, t, u, probes=probes, initial="rest"), probes, t.size)
+            self.network, values, t, u, probes=probes, initial="rest", reduce=reduce),
+            probes, self._widths(t.size, reduce))
 
     @cached_property
     def step(self) -> np.ndarray:
@@ -387,14 +393,16 @@ class Evaluator:
 
     @cached_property
     def pwm_probes(self) -> dict[str, np.ndarray]:
+        """The output over one period (rows × PWM_POINTS) and the part voltages, reduced."""
         d = self.stage.drive
-        period = 1.0 / d.frequency_hz
-        t = np.arange(PWM_POINTS) * (period / PWM_POINTS)
+        t = self.pwm_time_s
         # Held between instants: the edges fall on the grid, not halfway between.
-        u = np.where(t < d.duty * period, d.amplitude_v, 0.0)
-        probes = [self.network.output] + [f"v:{e.name}" for e in self.network.elements]
+        u = np.where(t < d.duty / d.frequency_hz, d.amplitude_v, 0.0)
+        reduce = self._part_reductions(t.size)
+        probes = [self.network.output] + list(reduce)
         return self._on_stable(lambda values, _: engine.periodic_steady_state(
-            self.network, values, t, u, probes=probes, input_mode="hold"), probes, t.size)
+            self.network, values, t, u, probes=probes, input_mode="hold", reduce=reduce),
+            probes, self._widths(t.size, reduce))
 
     @cached_property
     def pwm_time_s(self) -> np.ndarray:
@@ -411,95 +419,6 @@ class Evaluator:
         if d is None:
             return None
         return self.pwm_probes if d.kind == "pwm" else self.step_probes
-
-    def capacitor_peaks(self) -> dict[str, np.ndarray]:
-        """Peak voltage per capacitor of the stage: stated DC bias plus the drive's peak."""
-        out = {}
-        probes = self.drive_probes
-        for role, part in self.stage.parts.items():
-            if part.kind != "C":
-                continue
-            peak = np.abs(probes[f"v:{role}"]).max(axis=1) if probes else np.zeros(self.rows)
-            out[role] = peak + (part.bias_v or 0.0)
-        return out
-
-    def resistor_powers(self) -> dict[str, np.ndarray]:
-        """Average power per resistor: over a PWM period in steady state, or after a step settles."""
-        out = {}
-        probes = self.drive_probes
-        if probes is None:
-            return out
-        for role, part in self.stage.parts.items():
-            if part.kind != "R":
-                continue
-            v = probes[f"v:{role}"]
-            r = self.values[role][:, None]
-            if self.stage.drive.kind == "pwm":
-                out[role] = np.mean(v ** 2 / r, axis=1)
-            else:
-                out[role] = v[:, -1] ** 2 / r[:, 0]
-        return out
-
-    def resistor_pulses(self) -> dict[str, tuple[np.ndarray, np.ndarray]]:
-        """Per resistor (surge power, energy per edge). The surge is the largest
-        instantaneous v²/R just after an edge: V²·R/(R + Rs)² for a resistor in
-        series with the source. The energy is ∫v²/R dt after a step (to the end of
-        the settling window), or over the longer of the two PWM phases in steady
-        state; a full charge of C through R alone takes ½·C·V² (textbook). A row
-        whose fastest pole the time grid does not resolve (|p|·Δt > 0.5) has no
-        value (NaN): its edge happens between two instants."""
-        out = {}
-        probes = self.drive_probes
-        if probes is None:
-            return out
-        d = self.stage.drive
-        t = self.pwm_time_s if d.kind == "pwm" else self.time_s
-        dt = t[1] - t[0]
-        fastest = np.nanmax(np.abs(self.poles.real), axis=1, initial=0.0)
-        unresolved = fastest * dt > 0.5
-        # Sample n shows the state at t_n with the input held over the interval
-        # before it, so an edge's first instant is never a sample: after a step
-        # (sample 0 is the state at rest) and after each PWM edge it is
-        # extrapolated from the three samples that follow (quadratic, error of
-        # order (|p|·Δt)³).
-        k = int(np.sum(t < d.duty / d.frequency_hz)) if d.kind == "pwm" else 0
-        for role, part in self.stage.parts.items():
-            if part.kind != "R":
-                continue
-            v = probes[f"v:{role}"]
-            r = self.values[role][:, None]
-            if d.kind != "pwm":
-                phases = [v[:, 1:]]
-            else:                     # high: samples 1..k; low: k+1..N-1 then 0 (= T)
-                phases = [v[:, 1:k + 1], np.concatenate([v[:, k + 1:], v[:, :1]], axis=1)]
-            surge, energy = np.zeros(self.rows), np.zeros(self.rows)
-            for w in phases:
-                if w.shape[1] < 3:
-                    continue
-                edge = 3 * w[:, :1] - 3 * w[:, 1:2] + w[:, 2:3]
-                pw = np.concatenate([edge, w], axis=1) ** 2 / r
-                surge = np.maximum(surge, pw.max(axis=1))
-                energy = np.maximum(energy, np.trapezoid(pw, dx=dt, axis=1))
-            out[role] = (np.where(unresolved, np.nan, surge), np.where(unresolved, np.nan, energy))
-        return out
-
-    def resistor_surge(self) -> np.ndarray:
-        pulses = self.resistor_pulses()
-        if not pulses:
-            return np.zeros(self.rows)
-        return np.max(np.stack([s for s, _ in pulses.values()]), axis=0)
-
-    def resistor_edge_energy(self) -> np.ndarray:
-        pulses = self.resistor_pulses()
-        if not pulses:
-            return np.zeros(self.rows)
-        return np.max(np.stack([e for _, e in pulses.values()]), axis=0)
-
-    def capacitor_voltage(self) -> np.ndarray:
-        peaks = self.capacitor_peaks()
-        if not peaks:
-            return np.zeros(self.rows)
-        return np.max(np.stack(list(peaks.values())), axis=0)
 
     # ---- dispatch ----------------------------------------------------------
     def _metric(self, name: str, check: Check | None = None, at_hz: float | None = None):
