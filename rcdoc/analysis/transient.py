@@ -98,10 +98,11 @@ def _probes(network: Network, system: System, vals: dict[str, np.ndarray], probe
     return _Probes(names, W, deriv)
 
 
-def _chunk(size: int, steps: int) -> int:
+def _chunk(size: int, steps: int, per_sample_input: bool) -> int:
     """Samples per block in the time loops: per-sample matrices, their solver copies and
-    factorisations, and the averaged input (the recorded probes are allocated once)."""
-    per_sample = 8 * (16 * size * size + 2 * steps)
+    factorisations, a run of states, and the input where each sample has its own (the
+    recorded probes are allocated once, the reduced ones are a few columns)."""
+    per_sample = 8 * (16 * size * size + (_RUN + 1) * size + (2 * steps if per_sample_input else 0))
     return max(1, int(_TIME_BYTES // per_sample))
 
 
@@ -124,28 +125,35 @@ def _march(
     sink(n0, states) with states (m, N, s) holding x at steps n0 .. n0+m−1.
     The loop runs over time only; each step is batched over the samples,
     which sit on the last, contiguous axis: numpy's small matrix products
-    run several times faster that way than with samples first.
+    run several times faster that way than with samples first. Each state is
+    written once, into the run's buffer (no copies).
     """
     Mt = np.ascontiguousarray(np.moveaxis(M, 0, -1))  # (N, N, s)
     k0t, k1t = np.ascontiguousarray(k0.T), np.ascontiguousarray(k1.T)  # (N, s)
-    xt = np.ascontiguousarray(x.T)
     steps = u0.shape[1]
     u0T, u1T = np.ascontiguousarray(u0.T), np.ascontiguousarray(u1.T)  # (T, s or 1)
-    # States are kept for a run of steps and handed over at once, so that the
-    # probes cost one product per run, not one small product per step.
-    run = _RUN if sink is not None else 0
-    buf = np.empty((run, xt.shape[0], xt.shape[1])) if sink is not None else None
-    for n0 in range(0, steps, run or steps or 1):
-        m = min(run or steps, steps - n0)
+    shared = u0T.shape[1] == 1      # one input for all samples: its terms are reused
+    run = _RUN if sink is not None else 1
+    buf = np.empty((run + 1,) + k0t.shape)
+    buf[0] = x.T
+    last, f0, f1 = None, None, None
+    for n0 in range(0, steps, run):
+        m = min(run, steps - n0)
         for l in range(m):
-            if buf is not None:
-                buf[l] = xt
-            xt = np.einsum("ijs,js->is", Mt, xt)
-            xt += k0t * u0T[n0 + l]
-            xt += k1t * u1T[n0 + l]
-        if buf is not None and m:
+            n = n0 + l
+            if not shared:
+                f0, f1 = k0t * u0T[n], k1t * u1T[n]
+            elif (u0T[n, 0], u1T[n, 0]) != last:    # a step or PWM input changes rarely
+                last = (u0T[n, 0], u1T[n, 0])
+                f0, f1 = k0t * u0T[n], k1t * u1T[n]
+            nxt = buf[l + 1]
+            np.einsum("ijs,js->is", Mt, buf[l], out=nxt)
+            nxt += f0
+            nxt += f1
+        if sink is not None and m:
             sink(n0, buf[:m])
-    return np.ascontiguousarray(xt.T)
+        buf[0] = buf[m]
+    return np.ascontiguousarray(buf[0].T)
 
 
 @dataclass(frozen=True)
@@ -194,7 +202,7 @@ class Reduce:
                 a[:, 1 + 2 * nw + k] = y[:, i - n0]
 
 
-_RUN = 256  # steps per run handed to a sink
+_RUN = 64  # steps per run handed to a sink: its states stay in cache
 
 
 class _Recorder:
@@ -202,18 +210,42 @@ class _Recorder:
     reductions for the others (``Reduce``), for one block of samples."""
 
     def __init__(self, spec: "_Probes", reduce: Mapping[str, Reduce], out: dict, ss: slice):
-        self.wt = np.ascontiguousarray(np.moveaxis(spec.weights[ss], 0, -1))  # (P, N, s)
-        self.items = [(p, name, reduce.get(name)) for p, name in enumerate(spec.names)]
+        w = spec.weights[ss]
+        self.items = [(name, _terms(w[:, p, :]), reduce.get(name))
+                      for p, name in enumerate(spec.names)]
         self.out, self.ss = out, ss
 
     def __call__(self, n0: int, states: np.ndarray) -> None:
         m = states.shape[0]
-        for p, name, red in self.items:
-            y = np.einsum("js,ljs->sl", self.wt[p], states)
+        for name, terms, red in self.items:
+            y = _combine(terms, states)         # (m, s)
             if red is None:
-                self.out[name][self.ss, n0:n0 + m] = y
+                self.out[name][self.ss, n0:n0 + m] = y.T
             else:
-                red.fold(self.out[name][self.ss], n0, y)
+                red.fold(self.out[name][self.ss], n0, y.T)
+
+
+def _terms(w: np.ndarray) -> list[tuple[int, np.ndarray | None]]:
+    """A probe's weights (s, N) as its nonzero columns: (j, weights or None for all 1)."""
+    out = []
+    for j in range(w.shape[1]):
+        col = w[:, j]
+        if np.any(col != 0):
+            out.append((j, None if np.all(col == 1.0) else np.ascontiguousarray(col)))
+    return out
+
+
+def _combine(terms, states: np.ndarray) -> np.ndarray:
+    """Σ_j w_j·x_j over a run of states (m, N, s) -> (m, s): the probe's weights
+    times the states, skipping the zero weights and the unit multiplications
+    (the same sums in the same order, so the same numbers)."""
+    if not terms:
+        return np.zeros((states.shape[0], states.shape[2]))
+    y = None
+    for j, c in terms:
+        t = states[:, j, :] if c is None else states[:, j, :] * c
+        y = t if y is None else y + t       # never in place: t may be a view of the states
+    return y
 
 
 def _allocate(spec: "_Probes", reduce: Mapping[str, Reduce], samples: int, steps: int) -> dict:
@@ -356,7 +388,7 @@ def transient(
     reduce = dict(reduce or {})
     out = _allocate(spec, reduce, samples, steps)
     use_dc = initial == "dc" and not _dc_singular(system)
-    chunk = _chunk(system.size, steps)
+    chunk = _chunk(system.size, steps, uu.shape[0] != 1)
 
     for s0 in range(0, samples, chunk):
         ss = slice(s0, s0 + chunk)
@@ -433,7 +465,7 @@ def periodic_steady_state(
     spec = _probes(network, system, vals, probes)
     reduce = dict(reduce or {})
     out = _allocate(spec, reduce, samples, steps)
-    chunk = _chunk(system.size, steps)
+    chunk = _chunk(system.size, steps, uu.shape[0] != 1)
     N = system.size
 
     for s0 in range(0, samples, chunk):
