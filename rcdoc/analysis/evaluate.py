@@ -358,8 +358,7 @@ class Evaluator(PartStresses):
 
     def rise_time(self) -> np.ndarray:
         y, t, fin = self.step, self.time_s, self.final_value
-        r = y / fin[:, None]     # one normalised copy for both crossings
-        return _cross_time(r, t, 0.9) - _cross_time(r, t, 0.1)
+        return _cross_time(y, fin, t, 0.9) - _cross_time(y, fin, t, 0.1)
 
     def settling(self, within: float | None = None, bits: int | None = None,
                  full_scale: float | None = None) -> np.ndarray:
@@ -374,21 +373,20 @@ class Evaluator(PartStresses):
             abs(amp) * 10 ** (self.passband_db / 20)
         if full_scale is not None:      # half an LSB of the converter, not of the step
             scale = np.full(self.rows, float(full_scale))
-        err = y - fin[:, None]   # |y − fin| / scale, in place: one (rows × T) temporary
-        np.abs(err, out=err)
-        err /= scale[:, None]
-        outside = err > band
-        last = len(t) - 1 - np.argmax(outside[:, ::-1], axis=1)
-        rows = np.arange(self.rows)
-        never = ~outside.any(axis=1) & ~np.isnan(err).any(axis=1)   # a missing response never settled
-        nxt = np.minimum(last + 1, len(t) - 1)
-        e0, e1 = err[rows, last], err[rows, nxt]
+        scale = np.broadcast_to(scale, (self.rows,))
+
+        last, never = _last_outside(y, fin, scale, band)
+        rows, T = np.arange(self.rows), len(t)
+        nxt = np.minimum(last + 1, T - 1)
+        # |y − fin| / scale, as _last_outside computes it
+        e0 = np.abs(y[rows, last] - fin) / scale
+        e1 = np.abs(y[rows, nxt] - fin) / scale
         # Interpolate log(error): exact for an exponential decay.
         with np.errstate(divide="ignore", invalid="ignore"):
             frac = np.log(e0 / band) / np.log(e0 / np.maximum(e1, 1e-300))
         frac = np.clip(np.nan_to_num(frac, nan=0.0), 0.0, 1.0)
         ts = t[last] + frac * (t[nxt] - t[last])
-        ts = np.where(last >= len(t) - 1, np.nan, ts)   # never settles inside the window
+        ts = np.where(last >= T - 1, np.nan, ts)   # never settles inside the window
         return np.where(never, 0.0, ts)
 
     @cached_property
@@ -487,14 +485,60 @@ def _unwrapped_last(p: np.ndarray) -> np.ndarray:
     return p[:, -1] + np.sum(correct, axis=1)
 
 
-def _cross_time(y: np.ndarray, t: np.ndarray, level: float) -> np.ndarray:
-    """First time each row reaches ``level`` (linear interpolation between samples)."""
-    above = y >= level
-    j = np.argmax(above, axis=1)
+CROSS_BLOCK = 128    # time columns per block of the crossing searches (stay in cache)
+
+
+def _scan(pred, rows: int, steps: int, need: np.ndarray, backward: bool) -> np.ndarray:
+    """Per row the first (or, ``backward``, the last) column where pred(lo, hi), a
+    (rows × (hi − lo)) bool block, holds; −1 where none. Block by block, stopping
+    once every ``need`` row has one: a crossing near its end of the window costs
+    a few blocks, not a pass over the whole (rows × T) response."""
+    found = np.full(rows, -1)
+    starts = list(range(0, steps, CROSS_BLOCK))
+    r = np.arange(rows)
+    for lo in (starts[::-1] if backward else starts):
+        hi = min(lo + CROSS_BLOCK, steps)
+        b = pred(lo, hi)
+        j = hi - 1 - np.argmax(b[:, ::-1], axis=1) if backward else lo + np.argmax(b, axis=1)
+        hit = (found < 0) & b[r, j - lo]
+        found[hit] = j[hit]
+        if np.all(found[need] >= 0):
+            break
+    return found
+
+
+def _last_outside(y: np.ndarray, fin: np.ndarray, scale: np.ndarray, band: float):
+    """(last index where err = |y − fin| / scale > band, or T − 1 if none; rows that
+    never left the band).
+
+    Rows with finite values and a finite, nonzero scale (all, normally) are scanned
+    backwards in blocks; the others over the whole window as err's NaN says: a
+    missing response never settled."""
+    rows, T = y.shape
+    plain = np.isfinite(fin) & np.isfinite(scale) & (scale != 0) & np.isfinite(y[:, 0])
+    found = _scan(lambda lo, hi: np.abs(y[:, lo:hi] - fin[:, None]) / scale[:, None] > band,
+                  rows, T, plain, backward=True)
+    last = np.where(found >= 0, found, T - 1)
+    never = plain & (found < 0)
+    odd = np.flatnonzero(~plain)
+    if odd.size:
+        e = np.abs(y[odd] - fin[odd, None]) / scale[odd, None]
+        outside = e > band
+        last[odd] = T - 1 - np.argmax(outside[:, ::-1], axis=1)
+        never[odd] = ~outside.any(axis=1) & ~np.isnan(e).any(axis=1)
+    return last, never
+
+
+def _cross_time(y: np.ndarray, fin: np.ndarray, t: np.ndarray, level: float) -> np.ndarray:
+    """First time each row's y / fin reaches ``level`` (linear interpolation between
+    samples); searched block by block from the start (see _scan)."""
     rows = np.arange(y.shape[0])
-    ok = above[rows, j] & (j > 0)
+    first = _scan(lambda lo, hi: y[:, lo:hi] / fin[:, None] >= level, len(rows), len(t),
+                  np.isfinite(fin) & np.isfinite(y[:, 0]), backward=False)
+    j = np.maximum(first, 0)
+    ok = (first >= 0) & (j > 0)
     j0 = np.maximum(j - 1, 0)
-    y0, y1 = y[rows, j0], y[rows, j]
+    y0, y1 = y[rows, j0] / fin, y[rows, j] / fin
     with np.errstate(divide="ignore", invalid="ignore"):
         frac = np.where(y1 != y0, (level - y0) / (y1 - y0), 0.0)
     return np.where(ok, t[j0] + frac * (t[j] - t[j0]), np.nan)
