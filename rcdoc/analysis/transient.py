@@ -219,8 +219,8 @@ class _Recorder:
         m = states.shape[0]
         for name, terms, red in self.items:
             y = _combine(terms, states)         # (m, s)
-            if red is None:
-                self.out[name][self.ss, n0:n0 + m] = y.T
+            if red is None:             # time-major: a run is one contiguous block
+                self.out[name][n0:n0 + m, self.ss] = y
             else:
                 red.fold(self.out[name][self.ss], n0, y.T)
 
@@ -254,15 +254,18 @@ def _allocate(spec: "_Probes", reduce: Mapping[str, Reduce], samples: int, steps
             raise ValueError(f"reduced probe {name!r} is not among the probes")
         if spec.names.index(name) in spec.derivative:
             raise ValueError(f"a capacitor current ({name!r}) cannot be reduced on the fly")
+    # Recorded probes are stored time-major (T, S) and handed out as (S, T) views:
+    # the march writes whole runs at once, and searches along time read
+    # contiguous blocks.
     return {name: (np.zeros((samples, reduce[name].width)) if name in reduce
-                   else np.empty((samples, steps))) for name in spec.names}
+                   else np.empty((steps, samples))) for name in spec.names}
 
 
 def _results(spec: "_Probes", out: dict, reduce: Mapping[str, Reduce], h: float,
              periodic: bool) -> dict[str, np.ndarray]:
     result = {}
     for p, name in enumerate(spec.names):
-        y = out[name]
+        y = out[name] if name in reduce else out[name].T
         if p in spec.derivative and name not in reduce:
             y = spec.derivative[p][:, None] * _derivative(y, h, periodic=periodic)
         result[name] = y
