@@ -136,6 +136,12 @@ def _march(
     run = _RUN if sink is not None else 1
     buf = np.empty((run + 1,) + k0t.shape)
     buf[0] = x.T
+    # Only the states that carry charge or flux (columns of M with a nonzero) enter
+    # the next step; where they are few (a single capacitor: one of three), the
+    # product is taken over them alone: the same nonzero terms in the same order.
+    cols = [j for j in range(Mt.shape[1]) if np.any(Mt[:, j, :] != 0)]
+    sparse = 0 < len(cols) <= Mt.shape[1] // 2
+    mcols = [(j, np.ascontiguousarray(Mt[:, j, :])) for j in cols] if sparse else []
     last, f0, f1 = None, None, None
     for n0 in range(0, steps, run):
         m = min(run, steps - n0)
@@ -146,8 +152,13 @@ def _march(
             elif (u0T[n, 0], u1T[n, 0]) != last:    # a step or PWM input changes rarely
                 last = (u0T[n, 0], u1T[n, 0])
                 f0, f1 = k0t * u0T[n], k1t * u1T[n]
-            nxt = buf[l + 1]
-            np.einsum("ijs,js->is", Mt, buf[l], out=nxt)
+            nxt, cur = buf[l + 1], buf[l]
+            if sparse:
+                np.multiply(mcols[0][1], cur[mcols[0][0]], out=nxt)
+                for j, mj in mcols[1:]:
+                    nxt += mj * cur[j]
+            else:
+                np.einsum("ijs,js->is", Mt, cur, out=nxt)
             nxt += f0
             nxt += f1
         if sink is not None and m:
