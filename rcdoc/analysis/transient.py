@@ -200,7 +200,8 @@ class Reduce:
     def fold(self, a: np.ndarray, n0: int, y: np.ndarray) -> None:
         """Fold the values y (s, m) at steps n0 .. n0+m−1 into the columns a (s, width)."""
         m = y.shape[1]
-        a[:, 0] = np.maximum(a[:, 0], np.max(np.abs(y), axis=1))  # NaN stays NaN
+        # max |y| = max(max y, −min y), without a temporary; NaN stays NaN
+        a[:, 0] = np.maximum(a[:, 0], np.maximum(np.max(y, axis=1), -np.min(y, axis=1)))
         nw = len(self.windows)
         for k, (lo, hi) in enumerate(self.windows):
             lo, hi = max(lo, n0), min(hi, n0 + m)
