@@ -516,8 +516,19 @@ def _last_outside(y: np.ndarray, fin: np.ndarray, scale: np.ndarray, band: float
     missing response never settled."""
     rows, T = y.shape
     plain = np.isfinite(fin) & np.isfinite(scale) & (scale != 0) & np.isfinite(y[:, 0])
-    found = _scan(lambda lo, hi: np.abs(y[:, lo:hi] - fin[:, None]) / scale[:, None] > band,
-                  rows, T, plain, backward=True)
+    # One block buffer, laid out as the blocks are (time-major underneath); the
+    # same three operations as in full: |y − fin|, then / scale, then > band.
+    buf = np.empty((min(CROSS_BLOCK, T), rows)).T
+    fin_c, scale_c = fin[:, None], scale[:, None]
+
+    def outside(lo, hi):
+        e = buf[:, :hi - lo]
+        np.subtract(y[:, lo:hi], fin_c, out=e)
+        np.abs(e, out=e)
+        np.divide(e, scale_c, out=e)
+        return e > band
+
+    found = _scan(outside, rows, T, plain, backward=True)
     last = np.where(found >= 0, found, T - 1)
     never = plain & (found < 0)
     odd = np.flatnonzero(~plain)
