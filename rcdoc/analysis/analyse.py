@@ -24,7 +24,7 @@ from rcdoc.analysis import poles as polemod
 from rcdoc.analysis.evaluate import Evaluator, db, sweep_for
 from rcdoc.analysis.surroundings import fixed_values
 from rcdoc.analysis.metrics import METRICS
-from rcdoc.input.model import Analysis, Check, Stage
+from rcdoc.input.model import Analysis, Stage
 from rcdoc.analysis.network import GROUND, Network
 from rcdoc.analysis.phasor_choice import phasor_frequency
 from rcdoc.analysis.results import (MetricResult, PartRow, PartStress, Phasors, ResponseBand,
@@ -153,11 +153,30 @@ class _Gathered:
     res_pulses: dict = field(default_factory=dict)     # role -> [(surge, energy) per chunk]
     unstable: list = field(default_factory=list)
     h_nominal: np.ndarray = None
-    nominal_ev: Evaluator = None
+    nominal: "_Nominal" = None
 
     def __post_init__(self):
         self.band_env = _Envelope()
         self.wave_env = {"step": _Envelope(), "pwm": _Envelope()}
+
+
+@dataclass(frozen=True)
+class _Nominal:
+    """The nominal row's poles and time responses, copied out of the first chunk's
+    Evaluator so that its arrays (all rows of that chunk) are not kept to the end."""
+
+    poles: np.ndarray
+    step: np.ndarray | None
+    pwm: np.ndarray | None
+    pwm_time_s: np.ndarray | None
+
+    @classmethod
+    def of(cls, s: _Setup, ev: Evaluator) -> "_Nominal":
+        d = s.stage.drive
+        pwm = d is not None and d.kind == "pwm"
+        return cls(poles=ev.poles[0].copy(), step=None if d is None else ev.step[0].copy(),
+                   pwm=ev.pwm_probes[s.network.output][0].copy() if pwm else None,
+                   pwm_time_s=ev.pwm_time_s if pwm else None)
 
 
 def _gather(s: _Setup) -> _Gathered:
@@ -185,7 +204,7 @@ def _gather(s: _Setup) -> _Gathered:
                 g.res_pulses.setdefault(role, []).append((surge, energy))
         if start == 0:
             g.h_nominal = ev.h[0].copy()
-            g.nominal_ev = ev
+            g.nominal = _Nominal.of(s, ev)
     return g
 
 
@@ -198,16 +217,18 @@ def _gather_spread(s: _Setup, g: _Gathered, ev: Evaluator, mc_idx: np.ndarray) -
         g.gains.append(gain.astype(np.float32))
         g.phases.append(ph.astype(np.float32))
     drive = s.stage.drive
-    shown = {} if drive is None else {"step": ev.step}
+    shown = {} if drive is None else {"step": (ev.step, 0.0)}
     if drive is not None and drive.kind == "pwm":
         # Ripple about each sample's own mean: the DC spread would hide it.
         y = ev.pwm_probes[s.network.output]
-        shown["pwm"] = y - y.mean(axis=1, keepdims=True)
-    for wname, y in shown.items():
+        shown["pwm"] = (y, y[mc_idx].mean(axis=1, keepdims=True))
+    for wname, (y, offset) in shown.items():
+        # Only the drawn points of the shown rows are copied, never all of y.
         idx = np.linspace(0, y.shape[1] - 1, WAVE_POINTS).astype(int)
-        g.wave_env[wname].add(y[mc_idx][:, idx], None)
+        drawn = y[mc_idx[:, None], idx[None, :]] - offset
+        g.wave_env[wname].add(drawn, None)
         if sum(len(x) for x in g.waves[wname]) < WAVE_SAMPLES:
-            g.waves[wname].append(y[mc_idx][:, idx].astype(np.float32))
+            g.waves[wname].append(drawn.astype(np.float32))
 
 
 def _metric_results(s: _Setup, g: _Gathered) -> list[MetricResult]:
@@ -261,13 +282,13 @@ def _waveforms(s: _Setup, g: _Gathered, nominal_unstable: bool):
     timed = s.stage.drive is not None and not nominal_unstable
     if not timed:
         return None, None
-    ev = g.nominal_ev
-    step = _wave(s.time_s, ev.step[0], g.waves["step"], g.wave_env["step"])
+    ev = g.nominal
+    step = _wave(s.time_s, ev.step, g.waves["step"], g.wave_env["step"])
     pwm = None
     d = s.stage.drive
     if d.kind == "pwm":
         t = ev.pwm_time_s
-        y0 = ev.pwm_probes[s.network.output][0]
+        y0 = ev.pwm
         pwm = _wave(t, y0 - y0.mean(), g.waves["pwm"], g.wave_env["pwm"],
                     mean=float(y0.mean()),
                     input=np.where(t < d.duty / d.frequency_hz, d.amplitude_v, 0.0))
@@ -306,7 +327,7 @@ def analyse_network(stage: Stage, analysis: Analysis, kind,
     corner = next((m.nominal for m in metrics if m.name in ("corner", "f0")
                    and math.isfinite(m.nominal)), s.char_hz)
     phasors = None if nominal_unstable else _phasors(s, batch.take(slice(0, 1)), corner)
-    offending = tuple(complex(p) for p in polemod.offending(g.nominal_ev.poles[0]))
+    offending = tuple(complex(p) for p in polemod.offending(g.nominal.poles))
     return StageResult(stage=stage, network=s.network, passband=s.passband, char_hz=s.char_hz,
                        freqs_hz=s.freqs, h_nominal=g.h_nominal, band=band, metrics=metrics,
                        verdicts=verdicts_for(stage, metrics),

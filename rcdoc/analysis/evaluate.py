@@ -18,6 +18,7 @@ from rcdoc.analysis import engine
 from rcdoc.analysis import poles as polemod
 from rcdoc.analysis.noise import integration_grid, resonant_columns
 from rcdoc.analysis.response import Response
+from rcdoc.analysis.stresses import PartStresses
 from rcdoc.input.model import Check, Stage
 from rcdoc.analysis.network import Network
 
@@ -58,7 +59,7 @@ def sweep_for(stage_char_hz: float, analysis) -> np.ndarray:
     return np.logspace(math.log10(lo), math.log10(hi), n)
 
 
-class Evaluator:
+class Evaluator(PartStresses):
     """Computes metrics for every row of a batch of values."""
 
     def __init__(self, stage: Stage, network: Network, values: dict[str, np.ndarray],
@@ -300,14 +301,16 @@ class Evaluator:
         return Network(elements=els, drive=core_input(self.network), output=self.network.output,
                        opamps=self.network.opamps, path=self.network.path)
 
-    def _on_stable(self, compute, names, points: int) -> dict[str, np.ndarray]:
-        """compute(values, rows) -> {name: (rows, points)} over the stable rows only;
-        unstable rows get NaN (their time responses and noise do not exist)."""
+    def _on_stable(self, compute, names, points) -> dict[str, np.ndarray]:
+        """compute(values, rows) -> {name: (rows, width)} over the stable rows only;
+        unstable rows get NaN (their time responses and noise do not exist).
+        ``points``: every name's width, or a dict of them."""
+        widths = points if isinstance(points, dict) else {n: points for n in names}
         ok = ~self.unstable
         every = bool(ok.all())
         values = self.values if every else \
             {k: np.broadcast_to(v, (self.rows,))[ok] for k, v in self.values.items()}
-        result = {} if ok.any() else {n: np.zeros((0, points)) for n in names}
+        result = {} if ok.any() else {n: np.zeros((0, widths[n])) for n in names}
         # A stable row whose computation still overflows (a badly conditioned
         # step) gets no value rather than an infinite one, and no warning.
         with np.errstate(all="ignore"):
@@ -317,7 +320,7 @@ class Evaluator:
                 y[~np.all(np.isfinite(y), axis=1)] = np.nan
         if every:
             return result
-        out = {n: np.full((self.rows, points), np.nan) for n in names}
+        out = {n: np.full((self.rows, widths[n]), np.nan) for n in names}
         for n, y in result.items():
             out[n][ok] = y
         return out
@@ -369,14 +372,17 @@ class Evaluator:
 
     @cached_property
     def step_probes(self) -> dict[str, np.ndarray]:
+        """The output (rows × T) and, reduced on the fly, the part voltages the stresses need."""
         amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
-        probes = [self.network.output] + [f"v:{e.name}" for e in self.network.elements]
         t = self.time_s
+        reduce = self._part_reductions(t.size)
+        probes = [self.network.output] + list(reduce)
         # The step is applied at t = 0 from rest: the input holds its amplitude
         # from the first instant on.
         u = np.full(t.shape, amp)
         return self._on_stable(lambda values, _: engine.transient(
-            self.network, values, t, u, probes=probes, initial="rest"), probes, t.size)
+            self.network, values, t, u, probes=probes, initial="rest", reduce=reduce),
+            probes, self._widths(t.size, reduce))
 
     @cached_property
     def step(self) -> np.ndarray:
@@ -391,8 +397,7 @@ class Evaluator:
 
     def rise_time(self) -> np.ndarray:
         y, t, fin = self.step, self.time_s, self.final_value
-        r = y / fin[:, None]     # one normalised copy for both crossings
-        return _cross_time(r, t, 0.9) - _cross_time(r, t, 0.1)
+        return _cross_time(y, fin, t, 0.9) - _cross_time(y, fin, t, 0.1)
 
     def settling(self, within: float | None = None, bits: int | None = None,
                  full_scale: float | None = None) -> np.ndarray:
@@ -407,33 +412,34 @@ class Evaluator:
             abs(amp) * 10 ** (self.passband_db / 20)
         if full_scale is not None:      # half an LSB of the converter, not of the step
             scale = np.full(self.rows, float(full_scale))
-        err = y - fin[:, None]   # |y − fin| / scale, in place: one (rows × T) temporary
-        np.abs(err, out=err)
-        err /= scale[:, None]
-        outside = err > band
-        last = len(t) - 1 - np.argmax(outside[:, ::-1], axis=1)
-        rows = np.arange(self.rows)
-        never = ~outside.any(axis=1) & ~np.isnan(err).any(axis=1)   # a missing response never settled
-        nxt = np.minimum(last + 1, len(t) - 1)
-        e0, e1 = err[rows, last], err[rows, nxt]
+        scale = np.broadcast_to(scale, (self.rows,))
+
+        last, never = _last_outside(y, fin, scale, band)
+        rows, T = np.arange(self.rows), len(t)
+        nxt = np.minimum(last + 1, T - 1)
+        # |y − fin| / scale, as _last_outside computes it
+        e0 = np.abs(y[rows, last] - fin) / scale
+        e1 = np.abs(y[rows, nxt] - fin) / scale
         # Interpolate log(error): exact for an exponential decay.
         with np.errstate(divide="ignore", invalid="ignore"):
             frac = np.log(e0 / band) / np.log(e0 / np.maximum(e1, 1e-300))
         frac = np.clip(np.nan_to_num(frac, nan=0.0), 0.0, 1.0)
         ts = t[last] + frac * (t[nxt] - t[last])
-        ts = np.where(last >= len(t) - 1, np.nan, ts)   # never settles inside the window
+        ts = np.where(last >= T - 1, np.nan, ts)   # never settles inside the window
         return np.where(never, 0.0, ts)
 
     @cached_property
     def pwm_probes(self) -> dict[str, np.ndarray]:
+        """The output over one period (rows × PWM_POINTS) and the part voltages, reduced."""
         d = self.stage.drive
-        period = 1.0 / d.frequency_hz
-        t = np.arange(PWM_POINTS) * (period / PWM_POINTS)
+        t = self.pwm_time_s
         # Held between instants: the edges fall on the grid, not halfway between.
-        u = np.where(t < d.duty * period, d.amplitude_v, 0.0)
-        probes = [self.network.output] + [f"v:{e.name}" for e in self.network.elements]
+        u = np.where(t < d.duty / d.frequency_hz, d.amplitude_v, 0.0)
+        reduce = self._part_reductions(t.size)
+        probes = [self.network.output] + list(reduce)
         return self._on_stable(lambda values, _: engine.periodic_steady_state(
-            self.network, values, t, u, probes=probes, input_mode="hold"), probes, t.size)
+            self.network, values, t, u, probes=probes, input_mode="hold", reduce=reduce),
+            probes, self._widths(t.size, reduce))
 
     @cached_property
     def pwm_time_s(self) -> np.ndarray:
@@ -450,95 +456,6 @@ class Evaluator:
         if d is None:
             return None
         return self.pwm_probes if d.kind == "pwm" else self.step_probes
-
-    def capacitor_peaks(self) -> dict[str, np.ndarray]:
-        """Peak voltage per capacitor of the stage: stated DC bias plus the drive's peak."""
-        out = {}
-        probes = self.drive_probes
-        for role, part in self.stage.parts.items():
-            if part.kind != "C":
-                continue
-            peak = np.abs(probes[f"v:{role}"]).max(axis=1) if probes else np.zeros(self.rows)
-            out[role] = peak + (part.bias_v or 0.0)
-        return out
-
-    def resistor_powers(self) -> dict[str, np.ndarray]:
-        """Average power per resistor: over a PWM period in steady state, or after a step settles."""
-        out = {}
-        probes = self.drive_probes
-        if probes is None:
-            return out
-        for role, part in self.stage.parts.items():
-            if part.kind != "R":
-                continue
-            v = probes[f"v:{role}"]
-            r = self.values[role][:, None]
-            if self.stage.drive.kind == "pwm":
-                out[role] = np.mean(v ** 2 / r, axis=1)
-            else:
-                out[role] = v[:, -1] ** 2 / r[:, 0]
-        return out
-
-    def resistor_pulses(self) -> dict[str, tuple[np.ndarray, np.ndarray]]:
-        """Per resistor (surge power, energy per edge). The surge is the largest
-        instantaneous v²/R just after an edge: V²·R/(R + Rs)² for a resistor in
-        series with the source. The energy is ∫v²/R dt after a step (to the end of
-        the settling window), or over the longer of the two PWM phases in steady
-        state; a full charge of C through R alone takes ½·C·V² (textbook). A row
-        whose fastest pole the time grid does not resolve (|p|·Δt > 0.5) has no
-        value (NaN): its edge happens between two instants."""
-        out = {}
-        probes = self.drive_probes
-        if probes is None:
-            return out
-        d = self.stage.drive
-        t = self.pwm_time_s if d.kind == "pwm" else self.time_s
-        dt = t[1] - t[0]
-        fastest = np.nanmax(np.abs(self.poles.real), axis=1, initial=0.0)
-        unresolved = fastest * dt > 0.5
-        # Sample n shows the state at t_n with the input held over the interval
-        # before it, so an edge's first instant is never a sample: after a step
-        # (sample 0 is the state at rest) and after each PWM edge it is
-        # extrapolated from the three samples that follow (quadratic, error of
-        # order (|p|·Δt)³).
-        k = int(np.sum(t < d.duty / d.frequency_hz)) if d.kind == "pwm" else 0
-        for role, part in self.stage.parts.items():
-            if part.kind != "R":
-                continue
-            v = probes[f"v:{role}"]
-            r = self.values[role][:, None]
-            if d.kind != "pwm":
-                phases = [v[:, 1:]]
-            else:                     # high: samples 1..k; low: k+1..N-1 then 0 (= T)
-                phases = [v[:, 1:k + 1], np.concatenate([v[:, k + 1:], v[:, :1]], axis=1)]
-            surge, energy = np.zeros(self.rows), np.zeros(self.rows)
-            for w in phases:
-                if w.shape[1] < 3:
-                    continue
-                edge = 3 * w[:, :1] - 3 * w[:, 1:2] + w[:, 2:3]
-                pw = np.concatenate([edge, w], axis=1) ** 2 / r
-                surge = np.maximum(surge, pw.max(axis=1))
-                energy = np.maximum(energy, np.trapezoid(pw, dx=dt, axis=1))
-            out[role] = (np.where(unresolved, np.nan, surge), np.where(unresolved, np.nan, energy))
-        return out
-
-    def resistor_surge(self) -> np.ndarray:
-        pulses = self.resistor_pulses()
-        if not pulses:
-            return np.zeros(self.rows)
-        return np.max(np.stack([s for s, _ in pulses.values()]), axis=0)
-
-    def resistor_edge_energy(self) -> np.ndarray:
-        pulses = self.resistor_pulses()
-        if not pulses:
-            return np.zeros(self.rows)
-        return np.max(np.stack([e for _, e in pulses.values()]), axis=0)
-
-    def capacitor_voltage(self) -> np.ndarray:
-        peaks = self.capacitor_peaks()
-        if not peaks:
-            return np.zeros(self.rows)
-        return np.max(np.stack(list(peaks.values())), axis=0)
 
     # ---- dispatch ----------------------------------------------------------
     def _metric(self, name: str, check: Check | None = None, at_hz: float | None = None):
@@ -607,14 +524,71 @@ def _unwrapped_last(p: np.ndarray) -> np.ndarray:
     return p[:, -1] + np.sum(correct, axis=1)
 
 
-def _cross_time(y: np.ndarray, t: np.ndarray, level: float) -> np.ndarray:
-    """First time each row reaches ``level`` (linear interpolation between samples)."""
-    above = y >= level
-    j = np.argmax(above, axis=1)
+CROSS_BLOCK = 128    # time columns per block of the crossing searches (stay in cache)
+
+
+def _scan(pred, rows: int, steps: int, need: np.ndarray, backward: bool) -> np.ndarray:
+    """Per row the first (or, ``backward``, the last) column where pred(lo, hi), a
+    (rows × (hi − lo)) bool block, holds; −1 where none. Block by block, stopping
+    once every ``need`` row has one: a crossing near its end of the window costs
+    a few blocks, not a pass over the whole (rows × T) response."""
+    found = np.full(rows, -1)
+    starts = list(range(0, steps, CROSS_BLOCK))
+    r = np.arange(rows)
+    for lo in (starts[::-1] if backward else starts):
+        hi = min(lo + CROSS_BLOCK, steps)
+        b = pred(lo, hi)
+        j = hi - 1 - np.argmax(b[:, ::-1], axis=1) if backward else lo + np.argmax(b, axis=1)
+        hit = (found < 0) & b[r, j - lo]
+        found[hit] = j[hit]
+        if np.all(found[need] >= 0):
+            break
+    return found
+
+
+def _last_outside(y: np.ndarray, fin: np.ndarray, scale: np.ndarray, band: float):
+    """(last index where err = |y − fin| / scale > band, or T − 1 if none; rows that
+    never left the band).
+
+    Rows with finite values and a finite, nonzero scale (all, normally) are scanned
+    backwards in blocks; the others over the whole window as err's NaN says: a
+    missing response never settled."""
+    rows, T = y.shape
+    plain = np.isfinite(fin) & np.isfinite(scale) & (scale != 0) & np.isfinite(y[:, 0])
+    # One block buffer, laid out as the blocks are (time-major underneath); the
+    # same three operations as in full: |y − fin|, then / scale, then > band.
+    buf = np.empty((min(CROSS_BLOCK, T), rows)).T
+    fin_c, scale_c = fin[:, None], scale[:, None]
+
+    def outside(lo, hi):
+        e = buf[:, :hi - lo]
+        np.subtract(y[:, lo:hi], fin_c, out=e)
+        np.abs(e, out=e)
+        np.divide(e, scale_c, out=e)
+        return e > band
+
+    found = _scan(outside, rows, T, plain, backward=True)
+    last = np.where(found >= 0, found, T - 1)
+    never = plain & (found < 0)
+    odd = np.flatnonzero(~plain)
+    if odd.size:
+        e = np.abs(y[odd] - fin[odd, None]) / scale[odd, None]
+        outside = e > band
+        last[odd] = T - 1 - np.argmax(outside[:, ::-1], axis=1)
+        never[odd] = ~outside.any(axis=1) & ~np.isnan(e).any(axis=1)
+    return last, never
+
+
+def _cross_time(y: np.ndarray, fin: np.ndarray, t: np.ndarray, level: float) -> np.ndarray:
+    """First time each row's y / fin reaches ``level`` (linear interpolation between
+    samples); searched block by block from the start (see _scan)."""
     rows = np.arange(y.shape[0])
-    ok = above[rows, j] & (j > 0)
+    first = _scan(lambda lo, hi: y[:, lo:hi] / fin[:, None] >= level, len(rows), len(t),
+                  np.isfinite(fin) & np.isfinite(y[:, 0]), backward=False)
+    j = np.maximum(first, 0)
+    ok = (first >= 0) & (j > 0)
     j0 = np.maximum(j - 1, 0)
-    y0, y1 = y[rows, j0], y[rows, j]
+    y0, y1 = y[rows, j0] / fin, y[rows, j] / fin
     with np.errstate(divide="ignore", invalid="ignore"):
         frac = np.where(y1 != y0, (level - y0) / (y1 - y0), 0.0)
     return np.where(ok, t[j0] + frac * (t[j] - t[j0]), np.nan)

@@ -23,7 +23,7 @@ from rcdoc.analysis.assembly import _SINGULAR_RCOND, System, _element_values, _r
 from rcdoc.analysis.network import Network
 from rcdoc.analysis.treecoords import driven_system
 
-__all__ = ["INPUT_MODES", "transient", "step", "periodic_steady_state"]
+__all__ = ["INPUT_MODES", "Reduce", "transient", "step", "periodic_steady_state"]
 
 # Working set for the time-domain loops (per-sample matrices and recorded probes).
 _TIME_BYTES = 160e6
@@ -114,10 +114,11 @@ def _conditioned(network: Network, values: Mapping[str, np.ndarray], probes: Seq
     return system, _Probes(spec.names, spec.weights @ T, spec.derivative), vals, samples
 
 
-def _chunk(size: int, steps: int) -> int:
+def _chunk(size: int, steps: int, per_sample_input: bool) -> int:
     """Samples per block in the time loops: per-sample matrices, their solver copies and
-    factorisations, and the averaged input (the recorded probes are allocated once)."""
-    per_sample = 8 * (16 * size * size + 2 * steps)
+    factorisations, a run of states, and the input where each sample has its own (the
+    recorded probes are allocated once, the reduced ones are a few columns)."""
+    per_sample = 8 * (16 * size * size + (_RUN + 1) * size + (2 * steps if per_sample_input else 0))
     return max(1, int(_TIME_BYTES // per_sample))
 
 
@@ -132,37 +133,171 @@ def _march(
     x: np.ndarray,
     u0: np.ndarray,
     u1: np.ndarray,
-    W: np.ndarray | None = None,
-    rec: np.ndarray | None = None,
+    sink=None,
 ) -> np.ndarray:
     """Run x <- M·x + k0·u0[:, n] + k1·u1[:, n] for every column n of u0; return the final x (s, N).
 
-    With ``rec`` (P, s, >= n) given, W·x is recorded in rec[:, :, n] before
-    each step. The loop runs over time only; each step is batched over the
-    samples, which sit on the last, contiguous axis: numpy's small matrix
-    products run several times faster that way than with samples first.
+    With ``sink`` given, the states before each step are handed to it in runs:
+    sink(n0, states) with states (m, N, s) holding x at steps n0 .. n0+m−1.
+    The loop runs over time only; each step is batched over the samples,
+    which sit on the last, contiguous axis: numpy's small matrix products
+    run several times faster that way than with samples first. Each state is
+    written once, into the run's buffer (no copies).
     """
     Mt = np.ascontiguousarray(np.moveaxis(M, 0, -1))  # (N, N, s)
     k0t, k1t = np.ascontiguousarray(k0.T), np.ascontiguousarray(k1.T)  # (N, s)
-    xt = np.ascontiguousarray(x.T)
-    Wt = None if W is None else np.ascontiguousarray(np.moveaxis(W, 0, -1))  # (P, N, s)
     steps = u0.shape[1]
     u0T, u1T = np.ascontiguousarray(u0.T), np.ascontiguousarray(u1.T)  # (T, s or 1)
-    # States are kept for a run of steps and turned into probes by one product
-    # per run, not one small product per step (same numbers, fewer calls).
-    run = 256 if rec is not None else 0
-    buf = np.empty((run, xt.shape[0], xt.shape[1])) if rec is not None else None
-    for n0 in range(0, steps, run or steps or 1):
-        m = min(run or steps, steps - n0)
+    shared = u0T.shape[1] == 1      # one input for all samples: its terms are reused
+    run = _RUN if sink is not None else 1
+    buf = np.empty((run + 1,) + k0t.shape)
+    buf[0] = x.T
+    # Only the states that carry charge or flux (columns of M with a nonzero) enter
+    # the next step; where they are few (a single capacitor: one of three), the
+    # product is taken over them alone: the same nonzero terms in the same order.
+    cols = [j for j in range(Mt.shape[1]) if np.any(Mt[:, j, :] != 0)]
+    sparse = 0 < len(cols) <= Mt.shape[1] // 2
+    mcols = [(j, np.ascontiguousarray(Mt[:, j, :])) for j in cols] if sparse else []
+    last, f0, f1 = None, None, None
+    for n0 in range(0, steps, run):
+        m = min(run, steps - n0)
         for l in range(m):
-            if buf is not None:
-                buf[l] = xt
-            xt = np.einsum("ijs,js->is", Mt, xt)
-            xt += k0t * u0T[n0 + l]
-            xt += k1t * u1T[n0 + l]
-        if buf is not None and m:
-            rec[:, :, n0:n0 + m] = np.einsum("pjs,ljs->psl", Wt, buf[:m])
-    return np.ascontiguousarray(xt.T)
+            n = n0 + l
+            if not shared:
+                f0, f1 = k0t * u0T[n], k1t * u1T[n]
+            elif (u0T[n, 0], u1T[n, 0]) != last:    # a step or PWM input changes rarely
+                last = (u0T[n, 0], u1T[n, 0])
+                f0, f1 = k0t * u0T[n], k1t * u1T[n]
+            nxt, cur = buf[l + 1], buf[l]
+            if sparse:
+                np.multiply(mcols[0][1], cur[mcols[0][0]], out=nxt)
+                for j, mj in mcols[1:]:
+                    nxt += mj * cur[j]
+            else:
+                np.einsum("ijs,js->is", Mt, cur, out=nxt)
+            nxt += f0
+            nxt += f1
+        if sink is not None and m:
+            sink(n0, buf[:m])
+        buf[0] = buf[m]
+    return np.ascontiguousarray(buf[0].T)
+
+
+@dataclass(frozen=True)
+class Reduce:
+    """What is kept of a probe that is not recorded step by step.
+
+    Kept, per sample, as the columns of one (S, width) array: the largest
+    |y| over the whole grid; for each index window [lo, hi) the sum and the
+    largest of y²; the values at the ``at`` indices (non-negative). Memory
+    then grows with neither the grid nor the number of such probes beyond
+    these few columns.
+    """
+
+    windows: tuple[tuple[int, int], ...] = ()
+    at: tuple[int, ...] = ()
+
+    @property
+    def width(self) -> int:
+        return 1 + 2 * len(self.windows) + len(self.at)
+
+    def absmax(self, a: np.ndarray) -> np.ndarray:
+        return a[:, 0]
+
+    def sumsq(self, a: np.ndarray, window: tuple[int, int]) -> np.ndarray:
+        return a[:, 1 + self.windows.index(window)]
+
+    def maxsq(self, a: np.ndarray, window: tuple[int, int]) -> np.ndarray:
+        return a[:, 1 + len(self.windows) + self.windows.index(window)]
+
+    def value(self, a: np.ndarray, index: int) -> np.ndarray:
+        return a[:, 1 + 2 * len(self.windows) + self.at.index(index)]
+
+    def fold(self, a: np.ndarray, n0: int, y: np.ndarray) -> None:
+        """Fold the values y (s, m) at steps n0 .. n0+m−1 into the columns a (s, width)."""
+        m = y.shape[1]
+        # max |y| = max(max y, −min y), without a temporary; NaN stays NaN
+        a[:, 0] = np.maximum(a[:, 0], np.maximum(np.max(y, axis=1), -np.min(y, axis=1)))
+        nw = len(self.windows)
+        for k, (lo, hi) in enumerate(self.windows):
+            lo, hi = max(lo, n0), min(hi, n0 + m)
+            if lo < hi:
+                y2 = np.square(y[:, lo - n0:hi - n0])
+                a[:, 1 + k] += y2.sum(axis=1)
+                a[:, 1 + nw + k] = np.maximum(a[:, 1 + nw + k], y2.max(axis=1))
+        for k, i in enumerate(self.at):
+            if n0 <= i < n0 + m:
+                a[:, 1 + 2 * nw + k] = y[:, i - n0]
+
+
+_RUN = 64  # steps per run handed to a sink: its states stay in cache
+
+
+class _Recorder:
+    """Turns runs of states into probes: full rows for the recorded probes, running
+    reductions for the others (``Reduce``), for one block of samples."""
+
+    def __init__(self, spec: "_Probes", reduce: Mapping[str, Reduce], out: dict, ss: slice):
+        w = spec.weights[ss]
+        self.items = [(name, _terms(w[:, p, :]), reduce.get(name))
+                      for p, name in enumerate(spec.names)]
+        self.out, self.ss = out, ss
+
+    def __call__(self, n0: int, states: np.ndarray) -> None:
+        m = states.shape[0]
+        for name, terms, red in self.items:
+            y = _combine(terms, states)         # (m, s)
+            if red is None:             # time-major: a run is one contiguous block
+                self.out[name][n0:n0 + m, self.ss] = y
+            else:
+                red.fold(self.out[name][self.ss], n0, y.T)
+
+
+def _terms(w: np.ndarray) -> list[tuple[int, np.ndarray | None]]:
+    """A probe's weights (s, N) as its nonzero columns: (j, weights or None for all 1)."""
+    out = []
+    for j in range(w.shape[1]):
+        col = w[:, j]
+        if np.any(col != 0):
+            out.append((j, None if np.all(col == 1.0) else np.ascontiguousarray(col)))
+    return out
+
+
+def _combine(terms, states: np.ndarray) -> np.ndarray:
+    """Σ_j w_j·x_j over a run of states (m, N, s) -> (m, s): the probe's weights
+    times the states, skipping the zero weights and the unit multiplications
+    (the same sums in the same order, so the same numbers)."""
+    if not terms:
+        return np.zeros((states.shape[0], states.shape[2]))
+    y = None
+    for j, c in terms:
+        t = states[:, j, :] if c is None else states[:, j, :] * c
+        y = t if y is None else y + t       # never in place: t may be a view of the states
+    return y
+
+
+def _allocate(spec: "_Probes", reduce: Mapping[str, Reduce], samples: int, steps: int) -> dict:
+    for name in reduce:
+        if name not in spec.names:
+            raise ValueError(f"reduced probe {name!r} is not among the probes")
+        if spec.names.index(name) in spec.derivative:
+            raise ValueError(f"a capacitor current ({name!r}) cannot be reduced on the fly")
+    # Recorded probes are stored time-major (T, S) and handed out as (S, T) views:
+    # the march writes whole runs at once, and searches along time read
+    # contiguous blocks.
+    return {name: (np.zeros((samples, reduce[name].width)) if name in reduce
+                   else np.empty((steps, samples))) for name in spec.names}
+
+
+def _results(spec: "_Probes", out: dict, reduce: Mapping[str, Reduce], h: float,
+             periodic: bool) -> dict[str, np.ndarray]:
+    result = {}
+    for p, name in enumerate(spec.names):
+        y = out[name] if name in reduce else out[name].T
+        if p in spec.derivative and name not in reduce:
+            y = spec.derivative[p][:, None] * _derivative(y, h, periodic=periodic)
+        result[name] = y
+    return result
 
 
 # Radau IIA with three stages: order 5, L-stable and stiffly accurate (the last
@@ -245,6 +380,7 @@ def transient(
     *,
     initial: str = "dc",
     input_mode: str = "linear",
+    reduce: Mapping[str, Reduce] | None = None,
 ) -> dict[str, np.ndarray]:
     """Time response of C·x' + G·x = b·u(t) on a uniform grid, per sample.
 
@@ -266,7 +402,9 @@ def transient(
     ``probes``: node names (voltage), "v:NAME" (element voltage a − b),
     "i:NAME" (element current a -> b; also op-amp output currents and
     "i:__source__"). Capacitor currents are C·dv/dt by central differences.
-    Returns probe -> (S, T) float array.
+    Returns probe -> (S, T) float array; a probe named in ``reduce`` is not
+    recorded but kept as its running reductions, an (S, width) array (see
+    ``Reduce``; not for capacitor currents).
     """
     if initial not in ("dc", "rest"):
         raise ValueError("initial must be 'dc' or 'rest'")
@@ -276,13 +414,14 @@ def transient(
     t, h = _time_grid(t_s)
     steps = t.size
     uu = _input(u, samples, steps)
-    out = np.empty((len(spec.names), samples, steps))
+    reduce = dict(reduce or {})
+    out = _allocate(spec, reduce, samples, steps)
     use_dc = initial == "dc" and not _dc_singular(system)
-    chunk = _chunk(system.size, steps)
+    chunk = _chunk(system.size, steps, uu.shape[0] != 1)
 
     for s0 in range(0, samples, chunk):
         ss = slice(s0, s0 + chunk)
-        G, C, W = system.G[ss], system.C[ss], spec.weights[ss]
+        G, C = system.G[ss], system.C[ss]
         uc = uu if uu.shape[0] == 1 else uu[ss]
         M, k0, k1 = _step_matrices(G, C, system.b, h, hold=input_mode == "hold")
         x = np.zeros(G.shape[:2])
@@ -293,17 +432,10 @@ def transient(
                 x = np.zeros(G.shape[:2])
             if not np.all(np.isfinite(x)):
                 x = np.zeros(G.shape[:2])
-        rec = out[:, ss, :]
-        x = _march(M, k0, k1, x, uc[:, :-1], uc[:, 1:], W, rec)
-        rec[:, :, -1] = np.einsum("spn,sn->ps", W, x)
-
-    result = {}
-    for p, name in enumerate(spec.names):
-        y = out[p]
-        if p in spec.derivative:
-            y = spec.derivative[p][:, None] * _derivative(y, h, periodic=False)
-        result[name] = y
-    return result
+        sink = _Recorder(spec, reduce, out, ss)
+        x = _march(M, k0, k1, x, uc[:, :-1], uc[:, 1:], sink)
+        sink(steps - 1, np.ascontiguousarray(x.T)[None])
+    return _results(spec, out, reduce, h, periodic=False)
 
 
 def step(network: Network, values: Mapping[str, np.ndarray], t_s, amplitude: float = 1.0) -> np.ndarray:
@@ -338,7 +470,7 @@ def _consistency_rows(G: np.ndarray, C: np.ndarray, b: np.ndarray) -> tuple[np.n
 
 def periodic_steady_state(
     network: Network, values: Mapping[str, np.ndarray], t_s, u, probes: Sequence[str],
-    *, input_mode: str = "linear",
+    *, input_mode: str = "linear", reduce: Mapping[str, Reduce] | None = None,
 ) -> dict[str, np.ndarray]:
     """Probes (S, T) over one period in the periodic steady state of a repeating input.
 
@@ -350,7 +482,7 @@ def periodic_steady_state(
     the periodic state solves (I − Φ)·x0 = κ, together with the algebraic
     constraints at t = 0, in the least-squares sense. A charge that nothing
     can drain (a node reached through capacitors only) is left at its
-    minimum-norm value. Probes as for ``transient``.
+    minimum-norm value. Probes and ``reduce`` as for ``transient``.
     """
     if input_mode not in INPUT_MODES:
         raise ValueError(f"input_mode must be one of {INPUT_MODES}")
@@ -358,13 +490,14 @@ def periodic_steady_state(
     t, h = _time_grid(t_s)
     steps = t.size
     uu = _input(u, samples, steps)
-    out = np.empty((len(spec.names), samples, steps))
-    chunk = _chunk(system.size, steps)
+    reduce = dict(reduce or {})
+    out = _allocate(spec, reduce, samples, steps)
+    chunk = _chunk(system.size, steps, uu.shape[0] != 1)
     N = system.size
 
     for s0 in range(0, samples, chunk):
         ss = slice(s0, s0 + chunk)
-        G, C, W = system.G[ss], system.C[ss], spec.weights[ss]
+        G, C = system.G[ss], system.C[ss]
         uc = uu if uu.shape[0] == 1 else uu[ss]
         u1 = np.roll(uc, -1, axis=1)  # the last step wraps to u[0]
         M, k0, k1 = _step_matrices(G, C, system.b, h, hold=input_mode == "hold")
@@ -383,12 +516,5 @@ def periodic_steady_state(
         c = np.max(np.abs(A), axis=-2, keepdims=True)
         c = np.where(c > 0, c, 1.0)
         x = _matvec(np.linalg.pinv(A / c, rtol=1e-10), rhs) / c[:, 0, :]
-        _march(M, k0, k1, x, uc, u1, W, out[:, ss, :])
-
-    result = {}
-    for p, name in enumerate(spec.names):
-        y = out[p]
-        if p in spec.derivative:
-            y = spec.derivative[p][:, None] * _derivative(y, h, periodic=True)
-        result[name] = y
-    return result
+        _march(M, k0, k1, x, uc, u1, _Recorder(spec, reduce, out, ss))
+    return _results(spec, out, reduce, h, periodic=True)
