@@ -88,7 +88,10 @@ def tree_paths(network: Network, nominal: Mapping[str, float], w: float,
     edges += [(math.inf, name(n), _ROOT) for n in tied if n != GROUND]
     for e in network.elements:
         edges.append((_admittance(e.kind, nominal[e.name], w), name(e.a), name(e.b)))
-    edges.sort(key=lambda t: -t[0])           # stable: ties keep the network's order
+    # Largest first; on a tie an edge to ground first (a capacitor to ground then
+    # keeps its own coordinate, as in nodal form: the time march steps only the
+    # coordinates that carry charge); otherwise stable, in the network's order.
+    edges.sort(key=lambda t: (-t[0], _ROOT not in t[1:]))
     parent: dict[str, str] = {}
 
     def find(n):
