@@ -43,7 +43,7 @@ from pypdf.generic import (
 
 from rcdoc.note import report
 
-__all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "render_part",
+__all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "font_subsetter", "render_part",
            "stage_part", "assemble", "render_note", "project_head"]
 
 # Bump when what a part holds changes.
@@ -96,7 +96,8 @@ def chunk_key(stage_key: str, template_dirs: Sequence[Path], epoch: int | None,
               project_dir: Path | None) -> str:
     """The key of a stage's part: its stage key (stage, analysis, board, rcdoc's
     code) plus the templates, the date that goes into the fonts, the project
-    folder (files a template may read) and the renderer's versions."""
+    folder (files a template may read), the renderer's versions and the font
+    subsetter that ran (font_subsetter)."""
     from importlib.metadata import version
     versions = []
     for name in ("weasyprint", "pydyf", "fonttools", "pypdf"):
@@ -106,8 +107,36 @@ def chunk_key(stage_key: str, template_dirs: Sequence[Path], epoch: int | None,
             versions.append(f"{name}=?")
     text = "\0".join([_PART_FORMAT, stage_key, templates_fingerprint(template_dirs),
                       str(epoch), str(Path(project_dir).resolve()) if project_dir else "",
-                      *versions])
+                      *versions, font_subsetter()])
     return hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
+def font_subsetter() -> str:
+    """Which font subsetter weasyprint runs in this process, with its version:
+    "harfbuzz <version>" (HarfBuzz's subsetting library, 4.1 or later, as
+    weasyprint requires) or "fonttools <version>". The two write different
+    font bytes, so a part's key records which one made it."""
+    try:
+        from weasyprint.text.ffi import harfbuzz, harfbuzz_subset
+        if harfbuzz_subset and harfbuzz.hb_version_atleast(4, 1, 0):
+            return f"harfbuzz {_harfbuzz_version()}"
+    except (ImportError, AttributeError, OSError):
+        pass
+    from importlib.metadata import version
+    return f"fonttools {version('fonttools')}"
+
+
+def _harfbuzz_version() -> str:
+    """HarfBuzz's version string, or "?" where the library is not found by that name."""
+    import ctypes
+    import ctypes.util
+    name = ctypes.util.find_library("harfbuzz") or "libharfbuzz.so.0"
+    try:
+        lib = ctypes.CDLL(name)
+        lib.hb_version_string.restype = ctypes.c_char_p
+        return lib.hb_version_string().decode("ascii", "replace")
+    except (OSError, AttributeError):
+        return "?"
 
 
 def _fetcher(template_dirs, project_dir):

@@ -33,6 +33,7 @@ import matplotlib.style
 import numpy as np
 from cycler import cycler
 from matplotlib import ticker
+from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.backends.backend_svg import FigureCanvasSVG
 from matplotlib.figure import Figure
 
@@ -149,10 +150,7 @@ def _finish(fig: Figure, fig_id: str, title: str, fmt: str = "svg") -> str | byt
     _fixed_margins(fig)
     _keep_labels_apart(fig)
     if fmt == "png":
-        raw = io.BytesIO()
-        # No "Software" entry and no dates: the same chart gives the same bytes.
-        fig.savefig(raw, format="png", dpi=PNG_DPI, metadata={"Software": None})
-        return raw.getvalue()
+        return _png(fig)
     if fmt != "svg":
         raise ValueError(f"fmt must be 'svg' or 'png', not {fmt!r}")
     buf = io.StringIO()
@@ -234,6 +232,26 @@ def _fixed_margins(fig: Figure) -> None:
     if fig.legends:           # just above the bottom edge, under the x label
         fig.legends[0].set_bbox_to_anchor((0.5, _EDGE_IN / height), transform=fig.transFigure)
         fig.legends[0].set_loc("lower center")
+
+
+def _png(fig: Figure) -> bytes:
+    """The chart as an indexed-colour PNG of at most 256 colours.
+
+    A chart has a few colours and their anti-aliased blends: the palette
+    (octree, no dithering: deterministic) looks the same as full colour and
+    made the example note's PNGs 3.2 times smaller (README, Performance).
+    The file holds no text chunks and no dates: the same chart, the same bytes."""
+    from PIL import Image
+    fig.set_dpi(PNG_DPI)
+    canvas = FigureCanvasAgg(fig)
+    canvas.draw()
+    rgba = Image.frombuffer("RGBA", canvas.get_width_height(physical=True),
+                            canvas.buffer_rgba(), "raw", "RGBA", 0, 1)
+    indexed = rgba.convert("RGB").quantize(colors=256, method=Image.Quantize.FASTOCTREE,
+                                           dither=Image.Dither.NONE)
+    out = io.BytesIO()
+    indexed.save(out, format="PNG", dpi=(PNG_DPI, PNG_DPI))
+    return out.getvalue()
 
 
 def _prefix_ids(svg: str, prefix: str) -> str:
