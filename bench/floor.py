@@ -21,9 +21,9 @@ c  big    one rc-lowpass stage with a step drive at 200 000 samples (`check`
 d  build  a cold 40-stage build (the analysed kinds in turn, 2000 samples)
           with --jobs 2, wall and CPU; a rebuild after one part value changed.
 e  render the note's render (write_outputs of the example board, analysed and
-          drawn beforehand, serial) against a floor: the PNG images taken out of
-          the note's own PDF, placed on as many pages in minimal HTML, rendered
-          by weasyprint directly; and the 40-stage PDF's size (needs d).
+          drawn beforehand, serial) against a floor: the distinct PNG images taken
+          out of the note's own PDF, spread over as many pages in minimal HTML,
+          rendered by weasyprint directly. (d prints the 40-stage PDF's size.)
 p  profile cProfile of the check path (one case of b's board, in process):
           the top entries by cumulative time inside rcdoc.
 
@@ -391,7 +391,9 @@ def section_build(tmp: Path, stages: int, samples: int) -> Path:
         f"{warm['wall']:.1f} s wall, {warm['cpu']:.1f} s CPU, {warm['tree_mib']:.0f} MiB peak (all)")
     row("d", "rebuild / cold, wall   [target < 10 %]", f"{100 * warm['wall'] / cold['wall']:.1f} %")
     row("d", "rebuild / cold, CPU", f"{100 * warm['cpu'] / cold['cpu']:.1f} %")
-    return out / "board40.pdf"
+    pdf = out / "board40.pdf"
+    row("d", f"{stages}-stage note PDF size   [target < 6 MB]", f"{pdf.stat().st_size / 1e6:.2f} MB")
+    return pdf
 
 
 # ---- e: the note's render against a floor ----------------------------------------
@@ -435,20 +437,29 @@ def write_note(outcome, out: Path) -> Path:
 
 
 def floor_html(pdf: Path, folder: Path) -> tuple[str, int]:
-    """Minimal HTML with the note's PNG images (taken out of its PDF with pypdf),
-    one section per note page holding that page's images, a heading and a line."""
+    """Minimal HTML with the note's PNG images (taken out of its PDF with pypdf,
+    each distinct image once: a page's resources may list images of other pages)
+    spread in order over as many sections as the note has pages, each with a
+    heading and a line."""
+    import hashlib
     import pypdf
     folder.mkdir(parents=True, exist_ok=True)
     pages = pypdf.PdfReader(pdf).pages
+    names, seen = [], set()
+    for page in pages:
+        for img in page.images:
+            digest = hashlib.sha256(img.data).hexdigest()
+            if digest not in seen:
+                seen.add(digest)
+                names.append(f"img-{len(names)}.png")
+                img.image.save(folder / names[-1], format="PNG")
+    per = -(-len(names) // max(1, len(pages)))
     body = []
-    for p, page in enumerate(pages):
-        imgs = []
-        for j, img in enumerate(page.images):
-            name = f"p{p}-{j}.png"
-            img.image.save(folder / name, format="PNG")
-            imgs.append(f'<img src="{name}" style="max-height:{200 // max(1, len(page.images))}mm;'
-                        'max-width:170mm;display:block">')
-        body.append(f'<section><h2>Page {p + 1}</h2><p>Floor page.</p>{"".join(imgs)}</section>')
+    for p in range(len(pages)):
+        mine = names[p * per:(p + 1) * per]
+        imgs = "".join(f'<img src="{n}" style="max-height:{200 // max(1, len(mine))}mm;'
+                       'max-width:170mm;display:block">' for n in mine)
+        body.append(f'<section><h2>Page {p + 1}</h2><p>Floor page.</p>{imgs}</section>')
     css = ("@page{size:A4;margin:20mm} section{page-break-after:always}"
            " section:last-child{page-break-after:auto}")
     return (f"<!doctype html><html><head><meta charset='utf-8'><style>{css}</style></head>"
@@ -462,7 +473,7 @@ def render_floor(html: str, folder: Path) -> int:
     return len(doc.pages)
 
 
-def section_render(tmp: Path, samples: int, k: int, big_pdf: Path | None) -> None:
+def section_render(tmp: Path, samples: int, k: int) -> None:
     env = dict(os.environ, PYTHONPATH=str(ROOT))
     proc = subprocess.run([sys.executable, "-c", RENDER, str(ROOT / "bench"), str(EXAMPLE),
                            str(samples), str(k), str(tmp / "render")],
@@ -475,9 +486,6 @@ def section_render(tmp: Path, samples: int, k: int, big_pdf: Path | None) -> Non
         f"{r['floor']:.1f} s CPU")
     row("e", "note render / floor   [target <= 2]", f"{r['note'] / r['floor']:.1f}x")
     row("e", "example note PDF size", f"{r['mb']:.2f} MB")
-    if big_pdf is not None and big_pdf.exists():
-        row("e", "40-stage note PDF size (from d)   [target < 6 MB]",
-            f"{big_pdf.stat().st_size / 1e6:.2f} MB")
 
 
 # ---- p: where the check's time goes -----------------------------------------------
@@ -520,7 +528,6 @@ def main(argv=None) -> int:
     t_all = time.perf_counter()
     with tempfile.TemporaryDirectory(prefix="rcdoc-floor-") as name:
         tmp = Path(name)
-        big_pdf = None
         if "c" in args.sections:     # first: nothing else has run in a child yet
             section_big(tmp, 20000 if q else 200000)
         if "a" in args.sections:
@@ -528,9 +535,9 @@ def main(argv=None) -> int:
         if "b" in args.sections:
             section_check(tmp, n, 20 if q else 100, min(k, 2))
         if "d" in args.sections:
-            big_pdf = section_build(tmp, 10 if q else 40, 300 if q else 2000)
+            section_build(tmp, 10 if q else 40, 300 if q else 2000)
         if "e" in args.sections:
-            section_render(tmp, 200, 1 if q else 2, big_pdf)
+            section_render(tmp, 200, 1 if q else 2)
         if "p" in args.sections:
             section_profile(tmp, n)
     print(f"\n{'':2s}{'sec':3s} {'what':64s} value")

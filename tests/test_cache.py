@@ -172,3 +172,45 @@ def test_one_stage_to_redo_runs_in_this_process(project_file, tmp_path, monkeypa
     monkeypatch.setattr(build, "_run_pool", no_pool)
     changed = build.analyse_project(load_project(str(project_file)), jobs=2, out_dir=out)
     assert calls == ["hp"] and changed.cached == ["lp"] and changed.computed == ["hp"]
+
+
+def test_note_part_keys_follow_their_inputs():
+    # Content-addressed keys (common practice): same context -> same key; a changed
+    # page count, value or image -> a new key.
+    from rcdoc.note.assemble import context_key
+    import numpy as np
+    ctx = {"board": {"name": "B"}, "appendix": [{"rows": [[1.0, "4.7 kΩ"]]}], "img": b"\x89PNG1",
+           "arr": np.arange(3.0)}
+    key = context_key(ctx, "numbers", page_count=12)
+    assert key == context_key(dict(ctx), "numbers", page_count=12)
+    assert key != context_key(ctx, "numbers", page_count=13)
+    assert key != context_key(ctx, "appendix", page_count=12)
+    assert key != context_key({**ctx, "appendix": [{"rows": [[1.0000000000000002, "4.7 kΩ"]]}]},
+                              "numbers", page_count=12)
+    assert key != context_key({**ctx, "img": b"\x89PNG2"}, "numbers", page_count=12)
+    assert key != context_key({**ctx, "arr": np.arange(3.0) + 1e-12}, "numbers", page_count=12)
+
+
+@pytest.mark.slow
+def test_rebuild_reuses_page_numbers_and_gives_the_same_bytes(project_file, tmp_path,
+                                                             monkeypatch):
+    # The page-number part is reused when the page count did not change; the
+    # rebuilt note is byte for byte the note a cold build makes (common practice).
+    import rcdoc.note.assemble as assemble
+    out = tmp_path / "out"
+    first = build.analyse_project(load_project(str(project_file)), draw=True, out_dir=out)
+    build.write_outputs(first, out)
+    project_file.write_text(PROJECT.replace('value = "100k"', 'value = "120k"'), encoding="utf-8")
+    rendered = []
+    real = assemble.render_part
+
+    def counted(context, part, **kw):
+        rendered.append(part)
+        return real(context, part, **kw)
+    monkeypatch.setattr(assemble, "render_part", counted)
+    p = load_project(str(project_file))
+    pdf, _ = build.write_outputs(build.analyse_project(p, draw=True, out_dir=out), out)
+    assert "numbers" not in rendered and "front" in rendered and "stage" in rendered
+    cold = build.write_outputs(build.analyse_project(p, draw=True), tmp_path / "cold")[0]
+    assert "numbers" in rendered[rendered.index("front", 1):]
+    assert Path(pdf).read_bytes() == Path(cold).read_bytes()

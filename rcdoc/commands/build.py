@@ -53,6 +53,8 @@ class Outcome:
     pending: Callable[[], None] | None = None
     # Seconds each stage analysed in this run took (its unit of work; none for cached stages).
     seconds: dict[str, float] = field(default_factory=dict)
+    # The note's appendix and page-number parts of the last build (filed again by pending).
+    note_parts: dict = field(default_factory=dict)
 
     def commit_cache(self) -> None:
         if self.pending is not None:
@@ -248,11 +250,14 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
             if i in todo or i in todraw or parts[i] is not original_parts[i]:
                 cache.put(keys[i], results[i], contexts[i], parts[i])
         if draw:       # check and diff leave the other entries to the next build
+            if note_parts:
+                cache.put_note_parts(note_parts)
             cache.prune()
     pending = file_entries if cache is not None else None
+    note_parts = cache.get_note_parts() if cache is not None and draw else {}
     return Outcome(project, results, contexts if draw else None, cached=cached,
                    computed=[stages[i].id for i in todo], parts=parts if draw else None,
-                   pending=pending, seconds=seconds)
+                   pending=pending, seconds=seconds, note_parts=note_parts)
 
 
 def _from_cache(cache, keys, stages, draw, results, contexts, parts):
@@ -370,7 +375,8 @@ def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
                           source_date_epoch=source_date_epoch(project),
                           stage_parts=outcome.parts,
                           stage_keys=(_part_keys(project, template_dirs)
-                                      if outcome.contexts is not None else None))
+                                      if outcome.contexts is not None else None),
+                          note_parts=outcome.note_parts)
         if used is not None and outcome.parts is not None:
             outcome.parts[:] = used     # filed in the cache by commit_cache below
         json_tmp.write_bytes(json_bytes)

@@ -14,7 +14,9 @@ numbers and the SVG (numpy, scipy, matplotlib, schemdraw).
 Where: ``<output folder>/.rcdoc-cache/<project stem>/<key>.pickle``. Entries
 are written atomically; an entry that cannot be read, or whose stored key
 differs, is ignored and rebuilt. After a build, entries of that project that
-the build did not use are removed, so the folder holds one entry per stage.
+the build did not use are removed, so the folder holds one entry per stage,
+and one more, ``note-parts.pickle``, for the parts of the note that span all
+stages but change rarely (the appendix and the page numbers).
 
 What it must not do: analyse, draw, or decide what a stage needs; it stores
 and finds. The entries are pickles: the folder is a private scratch area of
@@ -43,6 +45,8 @@ __all__ = ["CACHE_DIR_NAME", "StageCache", "stage_key", "code_fingerprint", "can
 CACHE_DIR_NAME = ".rcdoc-cache"
 # Bump when the layout of an entry changes.
 _FORMAT = "rcdoc-stage-cache-1"
+# The entry holding the note's appendix and page-number parts (not a stage's key).
+_NOTE_PARTS = "note-parts"
 
 
 def canonical(obj: Any) -> Any:
@@ -151,6 +155,28 @@ class StageCache:
             write_atomic(self._path(key), data)
         except OSError:
             pass  # a cache that cannot be written only costs time on the next build
+
+    def get_note_parts(self) -> dict:
+        """The note's parts made from the whole note (appendix, page numbers) that
+        the last build filed, by name; each carries its own key (rcdoc.note.assemble)."""
+        self.used.add(_NOTE_PARTS)
+        try:
+            with open(self._path(_NOTE_PARTS), "rb") as fh:
+                entry = pickle.load(fh)
+            if isinstance(entry, dict) and entry.get("format") == _FORMAT:
+                return {k: v for k, v in entry.get("parts", {}).items() if isinstance(v, dict)}
+        except Exception:  # noqa: BLE001 - a damaged entry is rendered again
+            pass
+        return {}
+
+    def put_note_parts(self, parts: dict) -> None:
+        self.used.add(_NOTE_PARTS)
+        data = pickle.dumps({"format": _FORMAT, "parts": dict(parts)},
+                            protocol=pickle.HIGHEST_PROTOCOL)
+        try:
+            write_atomic(self._path(_NOTE_PARTS), data)
+        except OSError:
+            pass  # only costs time on the next build
 
     def prune(self) -> None:
         """Remove this project's entries that the current build did not use."""

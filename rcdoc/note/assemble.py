@@ -29,6 +29,7 @@ from __future__ import annotations
 
 import hashlib
 import io
+import json
 import os
 from collections.abc import Mapping, Sequence
 from pathlib import Path
@@ -43,8 +44,8 @@ from pypdf.generic import (
 
 from rcdoc.note import report
 
-__all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "render_part",
-           "stage_part", "assemble", "render_note", "project_head"]
+__all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "font_subsetter", "render_part",
+           "stage_part", "assemble", "render_note", "project_head", "context_key"]
 
 # Bump when what a part holds changes.
 _PART_FORMAT = "rcdoc-note-part-1"
@@ -96,7 +97,8 @@ def chunk_key(stage_key: str, template_dirs: Sequence[Path], epoch: int | None,
               project_dir: Path | None) -> str:
     """The key of a stage's part: its stage key (stage, analysis, board, rcdoc's
     code) plus the templates, the date that goes into the fonts, the project
-    folder (files a template may read) and the renderer's versions."""
+    folder (files a template may read), the renderer's versions and the font
+    subsetter that ran (font_subsetter)."""
     from importlib.metadata import version
     versions = []
     for name in ("weasyprint", "pydyf", "fonttools", "pypdf"):
@@ -106,8 +108,36 @@ def chunk_key(stage_key: str, template_dirs: Sequence[Path], epoch: int | None,
             versions.append(f"{name}=?")
     text = "\0".join([_PART_FORMAT, stage_key, templates_fingerprint(template_dirs),
                       str(epoch), str(Path(project_dir).resolve()) if project_dir else "",
-                      *versions])
+                      *versions, font_subsetter()])
     return hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
+def font_subsetter() -> str:
+    """Which font subsetter weasyprint runs in this process, with its version:
+    "harfbuzz <version>" (HarfBuzz's subsetting library, 4.1 or later, as
+    weasyprint requires) or "fonttools <version>". The two write different
+    font bytes, so a part's key records which one made it."""
+    try:
+        from weasyprint.text.ffi import harfbuzz, harfbuzz_subset
+        if harfbuzz_subset and harfbuzz.hb_version_atleast(4, 1, 0):
+            return f"harfbuzz {_harfbuzz_version()}"
+    except (ImportError, AttributeError, OSError):
+        pass
+    from importlib.metadata import version
+    return f"fonttools {version('fonttools')}"
+
+
+def _harfbuzz_version() -> str:
+    """HarfBuzz's version string, or "?" where the library is not found by that name."""
+    import ctypes
+    import ctypes.util
+    name = ctypes.util.find_library("harfbuzz") or "libharfbuzz.so.0"
+    try:
+        lib = ctypes.CDLL(name)
+        lib.hb_version_string.restype = ctypes.c_char_p
+        return lib.hb_version_string().decode("ascii", "replace")
+    except (OSError, AttributeError):
+        return "?"
 
 
 def _fetcher(template_dirs, project_dir):
@@ -267,10 +297,14 @@ def assemble(parts: Sequence[dict], numbers: dict | None, *, info: Mapping | Non
 def render_note(context: Mapping, *, template_dirs: Sequence[Path] = (),
                 project_dir: Path | None = None, source_date_epoch: int | None = None,
                 stage_parts: Sequence[dict | None] | None = None,
-                stage_keys: Sequence[str | None] | None = None) -> tuple[bytes, list]:
+                stage_keys: Sequence[str | None] | None = None,
+                note_parts: dict | None = None) -> tuple[bytes, list]:
     """The whole note as PDF bytes, from parts. ``stage_parts`` (one per stage,
     or None where a part is missing) are used where their key equals the one in
-    ``stage_keys``; the others are rendered here. Returns the bytes and the
+    ``stage_keys``; the others are rendered here. ``note_parts`` (name -> part)
+    holds the appendix and page-number parts of the last build: each is used
+    when its key (its context, templates, date, renderer) is unchanged, and the
+    parts used are put back in it (to be cached). Returns the bytes and the
     stage parts used (to be cached)."""
     stages = list(context.get("stages") or [])
     fetcher = _fetcher(template_dirs, project_dir)   # one fetcher for this render
@@ -286,10 +320,11 @@ def render_note(context: Mapping, *, template_dirs: Sequence[Path] = (),
     front = render_part(context, "front", **kw)
     parts = [front, *used]
     if context.get("appendix"):
-        parts.append(render_part({**_head(context), "appendix": context["appendix"],
-                                  "stages": []}, "appendix", **kw))
+        parts.append(_reused(note_parts, "appendix", {**_head(context), "stages": [],
+                                                      "appendix": context["appendix"]}, kw))
     total = sum(p["pages"] for p in parts)
-    numbers = render_part({**_head(context), "stages": []}, "numbers", page_count=total, **kw)
+    numbers = _reused(note_parts, "numbers", {**_head(context), "stages": []}, kw,
+                      page_count=total)
     reader = pypdf.PdfReader(io.BytesIO(front["pdf"]))
     info = {k: v for k, v in (reader.metadata or {}).items()}
     lang = reader.trailer["/Root"].get("/Lang")
@@ -297,6 +332,43 @@ def render_note(context: Mapping, *, template_dirs: Sequence[Path] = (),
     pdf_id = report.pdf_identifier(str(board.get("name", "")), str(board.get("revision", "")))
     return assemble(parts, numbers, info=info, pdf_id=pdf_id,
                     lang=str(lang) if lang is not None else None), used
+
+
+def context_key(context: Mapping, part: str, *, template_dirs: Sequence[Path] = (),
+                source_date_epoch: int | None = None, project_dir: Path | None = None,
+                page_count: int = 0) -> str:
+    """The key of a part made from ``context`` alone (the appendix, the page
+    numbers): a hash of that context (floats exactly, bytes in full) and of
+    what chunk_key adds (templates, date, project folder, renderer, subsetter)."""
+    text = json.dumps({"part": part, "pages": page_count, "context": context},
+                      sort_keys=True, default=_exact, separators=(",", ":"))
+    return chunk_key(hashlib.sha256(text.encode("utf-8")).hexdigest(), template_dirs,
+                     source_date_epoch, project_dir)
+
+
+def _exact(obj):
+    """JSON for what json does not write itself: bytes and other objects, exactly."""
+    if isinstance(obj, (bytes, bytearray)):
+        return {"bytes": hashlib.sha256(obj).hexdigest()}
+    if hasattr(obj, "tobytes") and hasattr(obj, "dtype"):       # a numpy array or scalar
+        return {"array": [str(obj.dtype), list(getattr(obj, "shape", ())),
+                          hashlib.sha256(obj.tobytes()).hexdigest()]}
+    return {type(obj).__qualname__: repr(obj)}
+
+
+def _reused(note_parts: dict | None, part: str, context: Mapping, kw: Mapping,
+            page_count: int = 0) -> dict:
+    """The part ``part`` of ``context``: the one in ``note_parts`` when its key
+    matches, else rendered now; ``note_parts`` then holds the part used."""
+    key = context_key(context, part, template_dirs=kw["template_dirs"],
+                      source_date_epoch=kw["source_date_epoch"],
+                      project_dir=kw["project_dir"], page_count=page_count)
+    have = (note_parts or {}).get(part)
+    if not isinstance(have, dict) or have.get("key") != key:
+        have = render_part(context, part, page_count=page_count, key=key, **kw)
+    if note_parts is not None:
+        note_parts[part] = have
+    return have
 
 
 def project_head(project) -> dict:

@@ -15,12 +15,14 @@ from rcdoc.note import assemble, report
 
 def render_pdf(context: dict, out_path: Path, *, template_dirs: Sequence[Path] = (),
                project_dir: Path | None = None, source_date_epoch: int | None = None,
-               stage_parts=None, stage_keys=None):
+               stage_parts=None, stage_keys=None, note_parts: dict | None = None):
     """Render the note and write it atomically to ``out_path``.
 
     With the shipped note.html the note is rendered in parts and assembled:
     ``stage_parts`` are stage parts made earlier (by the build's workers or its
-    cache), used where their key equals ``stage_keys``. Returns the stage parts
+    cache), used where their key equals ``stage_keys``; ``note_parts`` the
+    appendix and page-number parts of the last build, reused where unchanged
+    and updated with the ones used (rcdoc.note.assemble.render_note). Returns the stage parts
     used (None when rendered as one document). ``source_date_epoch`` (seconds,
     UTC) dates the PDF; without it ``SOURCE_DATE_EPOCH`` is used, and without
     that the PDF carries no dates.
@@ -30,7 +32,8 @@ def render_pdf(context: dict, out_path: Path, *, template_dirs: Sequence[Path] =
     if assemble.can_assemble(template_dirs):
         pdf_bytes, used = assemble.render_note(
             context, template_dirs=template_dirs, project_dir=project_dir,
-            source_date_epoch=epoch, stage_parts=stage_parts, stage_keys=stage_keys)
+            source_date_epoch=epoch, stage_parts=stage_parts, stage_keys=stage_keys,
+            note_parts=note_parts)
         report.write_note(out_path, pdf_bytes)
         return used
     report.render_document(context, out_path, template_dirs=template_dirs,
