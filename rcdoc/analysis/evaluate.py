@@ -101,6 +101,12 @@ class Evaluator(PartStresses):
         return self.response.sweep(self.freqs_hz)
 
     @cached_property
+    def phase_rad(self) -> np.ndarray:
+        """Principal phase of the sweep (rows × frequencies), computed once: the
+        phase at every mark and the phase band read it."""
+        return np.angle(self.h)
+
+    @cached_property
     def gain_db(self) -> np.ndarray:
         return db(self.h)
 
@@ -502,11 +508,9 @@ def _unwrapped_phase(ev: Evaluator, at_hz: float) -> np.ndarray:
     f = ev.freqs_hz
     ph_mark = np.angle(ev.h_at(at_hz))
     if ev.passband == "high":
-        sel = f >= at_hz
-        seq = np.angle(ev.h[:, sel][:, ::-1])
+        seq = ev.phase_rad[:, f >= at_hz][:, ::-1]
     else:
-        sel = f <= at_hz
-        seq = np.angle(ev.h[:, sel])
+        seq = ev.phase_rad[:, f <= at_hz]
     if seq.shape[1] == 0:
         return np.degrees(ph_mark)
     return np.degrees(_unwrapped_last(np.concatenate([seq, ph_mark[:, None]], axis=1)))
