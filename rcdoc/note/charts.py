@@ -227,11 +227,17 @@ def _fixed_margins(fig: Figure) -> None:
         top += 0.26
     bottom += _legend_in(fig)
     rows, cols = axes[0].get_subplotspec().get_gridspec().get_geometry()
+    # Between rows: a panel above another that has x tick labels of its own (not
+    # shared with the panel below) needs their room and its x label's, too.
+    gap_h = _GAP_IN
+    for ax in axes:
+        if not ax.get_subplotspec().is_last_row() and len(ax.get_shared_x_axes().get_siblings(ax)) == 1:
+            gap_h = max(gap_h, _GAP_IN + _TICKS_IN + 0.12 + (_LABEL_IN if ax.get_xlabel() else 0.0))
     inner_h = max(height - top - bottom, 0.3 * height)
     inner_w = max(width - left - right, 0.3 * width)
     fig.subplots_adjust(left=left / width, right=1 - right / width,
                         bottom=bottom / height, top=1 - top / height,
-                        hspace=_GAP_IN * rows / max(inner_h - (rows - 1) * _GAP_IN, 1e-3),
+                        hspace=gap_h * rows / max(inner_h - (rows - 1) * gap_h, 1e-3),
                         wspace=_GAP_IN * cols / max(inner_w - (cols - 1) * _GAP_IN, 1e-3))
     if fig.legends:           # just above the bottom edge, under the x label
         fig.legends[0].set_bbox_to_anchor((0.5, _EDGE_IN / height), transform=fig.transFigure)
