@@ -315,3 +315,73 @@ def test_extreme_values_sallen_key_time_response_matches_the_closed_form(tmp_pat
     settle = ts[np.flatnonzero(np.abs(ys - 1.0) > 0.01)[-1] + 1]
     assert res.metric("settling").missing == 0
     assert res.metric("settling").nominal == pytest.approx(settle, rel=2e-3)
+
+
+def _random_network(rng, nodes: int):
+    """A connected random RC(L) network: a chain from the input through every node, then
+    extra elements between random pairs, capacitors to ground and a buffered output
+    (an op-amp follower with finite gain and bandwidth, or none)."""
+    names = ["in"] + [f"n{k}" for k in range(nodes)]
+    els, vals = [], {}
+
+    def add(kind, a, b, lo, hi):
+        name = f"{kind.lower()}{len(els)}"
+        els.append(Element(name, kind, a, b))
+        vals[name] = np.array([10.0 ** rng.uniform(lo, hi)])
+
+    for a, b in zip(names, names[1:]):
+        add("R", a, b, 1, 6)                      # 10 Ω … 1 MΩ
+    for n in names[1:]:
+        add("C", n, "0", -10, -6)                 # 100 pF … 1 µF
+    for _ in range(nodes):
+        a, b = rng.choice(names, 2, replace=False)
+        kind = rng.choice(["R", "C", "L"], p=[0.45, 0.45, 0.1])
+        add(str(kind), str(a), str(b), *{"R": (1, 6), "C": (-10, -6), "L": (-6, -3)}[str(kind)])
+    opamps = ()
+    out = names[-1]
+    if rng.random() < 0.5:
+        from rcdoc.analysis.network import OpAmp
+        opamps = (OpAmp("u1", plus=names[-1], minus="out", out="out", gbw_hz=1e7, a0=1e5),)
+        out = "out"
+    return Network(elements=tuple(els), drive="in", output=out, opamps=opamps), vals
+
+
+@pytest.mark.parametrize("seed", range(12))
+def test_tree_coordinates_agree_with_nodal_form_on_random_networks(seed):
+    # Tree-branch coordinates are only a change of variables (x = T·y with T of
+    # 0 and ±1): on networks whose values lie within a few decades, where nodal
+    # form is accurate, both must give the same frequency response, poles and
+    # step response (common practice: two formulations of one system agree).
+    from rcdoc.analysis import ac as acmod
+    from rcdoc.analysis import engine
+    from rcdoc.analysis.assembly import assemble
+    from rcdoc.analysis.treecoords import driven_system
+    rng = np.random.default_rng(seed)
+    net, vals = _random_network(rng, int(rng.integers(2, 6)))
+    nodal = assemble(net, vals)
+    tree, T = driven_system(net, vals, nodal, tied=(net.output,))
+    f = np.logspace(0, 7, 57)
+    h_nodal = acmod._ac_fast(nodal, f, nodal.node(net.output))
+    h_tree = acmod._ac_fast(tree, f, tree.node(net.output))
+    np.testing.assert_allclose(h_tree, h_nodal, rtol=1e-8, atol=1e-12 * np.abs(h_nodal).max())
+    # x = T·y: the nodal solution at one frequency from the tree one.
+    s = 2j * np.pi * 1e3
+    x = np.linalg.solve(nodal.G[0] + s * nodal.C[0], nodal.b)
+    y = np.linalg.solve(tree.G[0] + s * tree.C[0], tree.b)
+    np.testing.assert_allclose(T @ y, x, rtol=1e-9, atol=1e-12 * np.abs(x).max())
+    # The time march (in tree coordinates) against the same Radau IIA steps taken
+    # on the nodal matrices, and its final value against the DC gain H(0).
+    from rcdoc.analysis.transient import _step_matrices
+    p = polemod.poles(net, vals)[0]
+    assert not polemod.unstable(p[None])[0]
+    slow = np.min(np.abs(p.real[np.isfinite(p)]))
+    t = np.linspace(0.0, 12.0 / slow, 3001)
+    y_step = engine.step(net, vals, t)[0]
+    M, k0, k1 = _step_matrices(nodal.G, nodal.C, nodal.b, t[1] - t[0])
+    x, ref = np.zeros(nodal.size), [0.0]
+    for _ in t[1:]:
+        x = M[0] @ x + k0[0] + k1[0]
+        ref.append(x[nodal.node(net.output)])
+    np.testing.assert_allclose(y_step, ref, rtol=1e-7, atol=1e-9 * np.max(np.abs(ref)))
+    h0 = acmod._ac_fast(nodal, np.array([1e-9 * slow / (2 * np.pi)]), nodal.node(net.output))[0, 0]
+    assert y_step[-1] == pytest.approx(h0.real, rel=1e-5, abs=1e-9)
