@@ -37,9 +37,16 @@ class Response:
         if not self.through:
             o = int(np.flatnonzero(p.keep == out)[0])
             d, keep = p.d_node, p.keep
-            self.gain, zeros, self.ok = p.zpk(o, -system.G[:, keep, d], -system.C[:, keep, d])
+            r1 = -system.C[:, keep, d]
+            self.gain, zeros, self.ok = p.zpk(o, -system.G[:, keep, d], r1)
             scale = np.max(np.abs(p.poles), axis=1, initial=0.0)
-            self.zeros, self.poles = _finite(zeros, scale), _finite(p.poles, scale)
+            # A⁻¹C has at least n − rank(C) zero eigenvalues (infinite poles), and the
+            # numerator's pencil likewise with its own C: the rank is structural, so
+            # the nominal row's tells every row how many can be finite.
+            c_o = p.C[0].copy()
+            c_o[:, o] = r1[0]
+            self.zeros = _finite(zeros, scale, _rank(c_o))
+            self.poles = _finite(p.poles, scale, _rank(p.C[0]))
 
     def sweep(self, freqs_hz: np.ndarray) -> np.ndarray:
         """H over a common set of frequencies, (S, F): the same arithmetic as ac.ac."""
@@ -74,8 +81,19 @@ class Response:
         return h
 
 
-def _finite(eig: np.ndarray, scale: np.ndarray) -> np.ndarray:
-    """The eigenvalues that stand for finite poles or zeros, largest first.
+def _rank(c: np.ndarray) -> int:
+    """Numerical rank of one (n, n) matrix, rows and columns scaled to unit maximum."""
+    if c.size == 0:
+        return 0
+    r = np.max(np.abs(c), axis=1, keepdims=True)
+    c = c / np.where(r > 0, r, 1.0)
+    k = np.max(np.abs(c), axis=0, keepdims=True)
+    return int(np.linalg.matrix_rank(c / np.where(k > 0, k, 1.0)))
+
+
+def _finite(eig: np.ndarray, scale: np.ndarray, count: int | None = None) -> np.ndarray:
+    """The eigenvalues that stand for finite poles or zeros, largest first, at most
+    ``count`` of them (the rest are zero in exact arithmetic: see Response).
 
     Infinite ones (an algebraic equation: an ideal op-amp, a node without a
     capacitor) are 0 in exact arithmetic and their factor is 1, but come out as
@@ -87,6 +105,10 @@ def _finite(eig: np.ndarray, scale: np.ndarray) -> np.ndarray:
         return eig
     order = np.argsort(-np.abs(eig), axis=1, kind="stable")
     eig = np.take_along_axis(eig, order, axis=1)
+    if count is not None:
+        eig = eig[:, :count]
+        if eig.shape[1] == 0:
+            return np.ascontiguousarray(eig)
     tiny = np.abs(eig) <= 1e-16 * scale[:, None]
     keep = ~np.all(tiny, axis=0)
     last = int(np.flatnonzero(keep)[-1]) + 1 if keep.any() else 0
