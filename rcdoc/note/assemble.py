@@ -27,6 +27,8 @@ files; it turns contexts into PDF bytes.
 
 from __future__ import annotations
 
+import functools
+
 import hashlib
 import io
 import json
@@ -127,17 +129,22 @@ def font_subsetter() -> str:
     return f"fonttools {version('fonttools')}"
 
 
+@functools.lru_cache(maxsize=1)
 def _harfbuzz_version() -> str:
-    """HarfBuzz's version string, or "?" where the library is not found by that name."""
+    """HarfBuzz's version string, or "?" where the library is not found by that name.
+
+    Opened by its usual file names, not ctypes.util.find_library: that runs
+    ldconfig in a subprocess (and opens /dev/null), which a confined build
+    should not do for a cache key."""
     import ctypes
-    import ctypes.util
-    name = ctypes.util.find_library("harfbuzz") or "libharfbuzz.so.0"
-    try:
-        lib = ctypes.CDLL(name)
-        lib.hb_version_string.restype = ctypes.c_char_p
-        return lib.hb_version_string().decode("ascii", "replace")
-    except (OSError, AttributeError):
-        return "?"
+    for name in ("libharfbuzz.so.0", "libharfbuzz.0.dylib", "libharfbuzz-0.dll"):
+        try:
+            lib = ctypes.CDLL(name)
+            lib.hb_version_string.restype = ctypes.c_char_p
+            return lib.hb_version_string().decode("ascii", "replace")
+        except (OSError, AttributeError):
+            continue
+    return "?"
 
 
 def _fetcher(template_dirs, project_dir):
