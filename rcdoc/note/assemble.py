@@ -42,13 +42,13 @@ from pypdf.generic import (
     TextStringObject,
 )
 
-from rcdoc.note import report
+from rcdoc.note import pdf_images, report
 
 __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "font_subsetter", "render_part",
            "stage_part", "assemble", "render_note", "project_head", "context_key"]
 
 # Bump when what a part holds changes.
-_PART_FORMAT = "rcdoc-note-part-1"
+_PART_FORMAT = "rcdoc-note-part-2"   # 2: charts as indexed images
 
 
 def can_assemble(template_dirs: Sequence[Path] = ()) -> bool:
@@ -192,7 +192,7 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
             anchors.setdefault(str(name), (i, x * scale, height - y * scale))
     bookmarks = _bookmarks(document.make_bookmark_tree(scale=scale, transform_pages=True))
     with report._font_timestamp(source_date_epoch or 0):
-        pdf = document.write_pdf()
+        pdf = document.write_pdf(finisher=pdf_images.index_images)
     return {"key": key, "pdf": pdf, "pages": len(document.pages), "bookmarks": bookmarks,
             "anchors": anchors, "links": links}
 
