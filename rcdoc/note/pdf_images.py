@@ -39,25 +39,29 @@ def _png(width: int, height: int, idat: bytes) -> bytes:
     return b"\x89PNG\r\n\x1a\n" + chunk(b"IHDR", head) + chunk(b"IDAT", idat) + chunk(b"IEND", b"")
 
 
-def indexed(width: int, height: int, idat: bytes) -> tuple[bytes, bytes] | None:
+def indexed(width: int, height: int, idat: bytes,
+            table: np.ndarray | None = None) -> tuple[bytes, bytes] | None:
     """(palette, deflated indices) of an RGB image given as its PNG IDAT data,
     or None when it has more than 256 colours. The palette is the image's own
-    colours in sorted order, three bytes each; an index is one byte per pixel."""
+    colours in sorted order, three bytes each; an index is one byte per pixel.
+    ``table``: 2^24 zero bytes to work in (left zero), to reuse between images."""
     from PIL import Image
     image = Image.open(io.BytesIO(_png(width, height, idat)))
     colours = image.getcolors(256)
     if colours is None:
         return None
-    rgb = np.asarray(image.convert("RGB"))
+    rgb = np.asarray(image)
     packed = ((rgb[..., 0].astype(np.uint32) << 16) | (rgb[..., 1].astype(np.uint32) << 8)
               | rgb[..., 2])
     palette = np.array(sorted((r << 16) | (g << 8) | b for _n, (r, g, b) in colours),
                        dtype=np.uint32)
-    # Colour -> index through a table over all 2^24 colours (zeroed lazily by the
-    # system, only the palette's entries written): one gather per pixel.
-    table = np.zeros(1 << 24, dtype=np.uint8)
+    # Colour -> index through a table over all 2^24 colours (only the palette's
+    # entries written, and cleared again): one gather per pixel.
+    if table is None:
+        table = np.zeros(1 << 24, dtype=np.uint8)
     table[palette] = np.arange(palette.size, dtype=np.uint8)
     index = table[packed]
+    table[palette] = 0
     rgb_palette = np.stack([(palette >> 16) & 255, (palette >> 8) & 255, palette & 255],
                            axis=1).astype(np.uint8)
     return rgb_palette.tobytes(), zlib.compress(index.tobytes(), _LEVEL)
@@ -75,6 +79,7 @@ def _plain_rgb(extra) -> bool:
 def index_images(_document, pdf: pydyf.PDF) -> None:
     """weasyprint finisher: every opaque RGB image of at most 256 colours in
     ``pdf`` becomes an /Indexed image with the same pixels."""
+    table = np.zeros(1 << 24, dtype=np.uint8)
     for obj in pdf.objects:
         if not isinstance(obj, pydyf.Stream) or obj.compress or not _plain_rgb(obj.extra):
             continue
@@ -82,7 +87,7 @@ def index_images(_document, pdf: pydyf.PDF) -> None:
         if len(obj.stream) != 1:      # not one block of image data: leave it
             continue
         idat = pydyf._to_bytes(obj.stream[0])
-        done = indexed(width, height, idat)
+        done = indexed(width, height, idat, table)
         if done is None:
             continue
         palette, data = done
