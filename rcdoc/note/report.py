@@ -73,6 +73,7 @@ from weasyprint.urls import URLFetcher, URLFetcherResponse
 
 from rcdoc.errors import ProjectError
 from rcdoc.files import write_atomic
+from rcdoc.note import pdf_images
 
 __all__ = [
     "render_document",
@@ -471,7 +472,8 @@ def render_document(context: dict, out_path: Path, *, template_dirs: Sequence[Pa
     pdf_id = pdf_identifier(str(board.get("name", "")), str(board.get("revision", "")))
 
     with _font_timestamp(source_date_epoch or 0):
-        pdf_bytes = document.write_pdf(pdf_identifier=pdf_id, cache=cache)
+        pdf_bytes = document.write_pdf(pdf_identifier=pdf_id, cache=cache,
+                                       finisher=pdf_images.index_images)  # charts indexed again
     write_note(out_path, pdf_bytes)
 
 
