@@ -278,7 +278,7 @@ def assemble(parts: Sequence[dict], numbers: dict | None, *, info: Mapping | Non
     def add_tree(tree, offset, parent):
         for label, (i, x, y), children, state in tree:
             item = writer.add_outline_item(
-                label, offset + i, parent=parent, is_open=state != "closed",
+                title=label, page_number=offset + i, parent=parent, is_open=state != "closed",
                 fit=pypdf.generic.Fit.xyz(left=x, top=y, zoom=0))
             add_tree(children, offset, item)
     for part, offset in zip(parts, offsets):
