@@ -174,6 +174,20 @@ def test_build_writes_lsb_and_the_figures(tmp_path):
     assert units["sample_error"] == "LSB" and units["max_sample_rate"] == "Hz"
 
 
+def _converter_stage(r, c, conv):
+    return f"""\
+[[stage]]
+id = "a"
+title = "A"
+kind = "sampled-input"
+converter = {{ {conv} }}
+[stage.parts.r]
+value = "{r}"
+[stage.parts.c]
+value = "{c}"
+"""
+
+
 @pytest.mark.parametrize("conv, key", [
     ('acquisition = "10 us", sample_rate = "200 kHz"', "converter.acquisition"),
     ('acquisition = "1 us", sample_rate = "200 kHz", bits = 0', "converter.bits"),
@@ -188,34 +202,9 @@ def test_converter_mistakes_name_their_key(tmp_path, conv, key):
     base = {"sampling_c": '"12 pF"', "switch_r": '"400 ohm"', "full_scale": '"3.3 V"', "bits": "12"}
     given = dict(kv.split(" = ", 1) for kv in conv.split(", "))
     table = ", ".join(f"{k} = {v}" for k, v in {**base, **given}.items())
-    text = f"""\
-[[stage]]
-id = "a"
-title = "A"
-kind = "sampled-input"
-converter = {{ {table} }}
-[stage.parts.r]
-value = "1 kohm"
-[stage.parts.c]
-value = "10 nF"
-"""
     with pytest.raises(ProjectError) as e:
-        load(tmp_path, text)
+        load(tmp_path, _converter_stage("1 kohm", "10 nF", table))
     assert f"stage[1].{key}" in str(e.value)
-
-
-def _converter_stage(r, c, conv):
-    return f"""\
-[[stage]]
-id = "a"
-title = "A"
-kind = "sampled-input"
-converter = {{ {conv} }}
-[stage.parts.r]
-value = "{r}"
-[stage.parts.c]
-value = "{c}"
-"""
 
 
 def test_time_constants_too_far_apart_are_refused_before_analysis(tmp_path):
