@@ -114,6 +114,16 @@ def _conditioned(network: Network, values: Mapping[str, np.ndarray], probes: Seq
     return system, _Probes(spec.names, spec.weights @ T, spec.derivative), vals, samples
 
 
+def _prepare(network: Network, values: Mapping[str, np.ndarray], t_s, u, probes, reduce):
+    """What transient and periodic_steady_state both start from: the conditioned system
+    and probes, the step h, the input (S or 1, T), the reductions and the outputs."""
+    system, spec, _, samples = _conditioned(network, values, probes)
+    t, h = _time_grid(t_s)
+    uu = _input(u, samples, t.size)
+    reduce = dict(reduce or {})
+    return system, spec, h, uu, reduce, _allocate(spec, reduce, samples, t.size)
+
+
 def _chunk(size: int, steps: int, per_sample_input: bool) -> int:
     """Samples per block in the time loops: per-sample matrices, their solver copies and
     factorisations, a run of states, and the input where each sample has its own (the
@@ -412,12 +422,8 @@ def transient(
         raise ValueError("initial must be 'dc' or 'rest'")
     if input_mode not in INPUT_MODES:
         raise ValueError(f"input_mode must be one of {INPUT_MODES}")
-    system, spec, vals, samples = _conditioned(network, values, probes)
-    t, h = _time_grid(t_s)
-    steps = t.size
-    uu = _input(u, samples, steps)
-    reduce = dict(reduce or {})
-    out = _allocate(spec, reduce, samples, steps)
+    system, spec, h, uu, reduce, out = _prepare(network, values, t_s, u, probes, reduce)
+    samples, steps = system.samples, uu.shape[1]
     use_dc = initial == "dc" and not _dc_singular(system)
     chunk = _chunk(system.size, steps, uu.shape[0] != 1)
 
@@ -488,12 +494,8 @@ def periodic_steady_state(
     """
     if input_mode not in INPUT_MODES:
         raise ValueError(f"input_mode must be one of {INPUT_MODES}")
-    system, spec, vals, samples = _conditioned(network, values, probes)
-    t, h = _time_grid(t_s)
-    steps = t.size
-    uu = _input(u, samples, steps)
-    reduce = dict(reduce or {})
-    out = _allocate(spec, reduce, samples, steps)
+    system, spec, h, uu, reduce, out = _prepare(network, values, t_s, u, probes, reduce)
+    samples, steps = system.samples, uu.shape[1]
     chunk = _chunk(system.size, steps, uu.shape[0] != 1)
     N = system.size
 
