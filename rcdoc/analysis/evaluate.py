@@ -232,21 +232,29 @@ class Evaluator(PartStresses):
         0.025 dB; a golden-section search in log-frequency over the two grid steps
         around the sweep's maximum finds it (unimodal there).
         """
-        g, f = self.gain_db, self.freqs_hz
+        g = self.gain_db
         j = np.argmax(g, axis=1)
+        _, _, gc, gd = self._golden(j, PEAK_ITERATIONS, top=True)
+        return np.fmax(g[np.arange(self.rows), j], np.fmax(gc, gd))
+
+    def _golden(self, j: np.ndarray, iterations: int, top: bool):
+        """Golden-section search in log-frequency over the two sweep steps around
+        column j of each row, for the top (``top``) or the bottom of the gain;
+        returns the last two probes (c, d in log-Hz) and their gains in dB."""
+        f = self.freqs_hz
         a = np.log(f[np.maximum(j - 1, 0)])
         b = np.log(f[np.minimum(j + 1, len(f) - 1)])
         k = (math.sqrt(5.0) - 1) / 2
         c, d = b - k * (b - a), a + k * (b - a)
         gc, gd = db(self.response.at_rows(np.exp(c))), db(self.response.at_rows(np.exp(d)))
-        for _ in range(PEAK_ITERATIONS):
-            left = gc >= gd                   # the top lies in [a, d]
+        for _ in range(iterations):
+            left = gc >= gd if top else gc <= gd     # the extreme lies in [a, d]
             b, a = np.where(left, d, b), np.where(left, a, c)
             x = np.where(left, b - k * (b - a), a + k * (b - a))
             gx = db(self.response.at_rows(np.exp(x)))
             c, d, gc, gd = (np.where(left, x, d), np.where(left, c, x),
                             np.where(left, gx, gd), np.where(left, gc, gx))
-        return np.fmax(g[np.arange(self.rows), j], np.fmax(gc, gd))
+        return c, d, gc, gd
 
     @cached_property
     def _notch(self) -> tuple[np.ndarray, np.ndarray]:
@@ -260,18 +268,7 @@ class Evaluator(PartStresses):
         """
         g, f = self.gain_db, self.freqs_hz
         j = np.argmin(g, axis=1)
-        a = np.log(f[np.maximum(j - 1, 0)])
-        b = np.log(f[np.minimum(j + 1, len(f) - 1)])
-        k = (math.sqrt(5.0) - 1) / 2
-        c, d = b - k * (b - a), a + k * (b - a)
-        gc, gd = db(self.response.at_rows(np.exp(c))), db(self.response.at_rows(np.exp(d)))
-        for _ in range(NOTCH_ITERATIONS):
-            left = gc <= gd                   # the null lies in [a, d]
-            b, a = np.where(left, d, b), np.where(left, a, c)
-            x = np.where(left, b - k * (b - a), a + k * (b - a))
-            gx = db(self.response.at_rows(np.exp(x)))
-            c, d, gc, gd = (np.where(left, x, d), np.where(left, c, x),
-                            np.where(left, gx, gd), np.where(left, gc, gx))
+        c, d, gc, gd = self._golden(j, NOTCH_ITERATIONS, top=False)
         best = np.argmin(np.stack([g[np.arange(self.rows), j], gc, gd]), axis=0)
         freq = np.choose(best, [f[j], np.exp(c), np.exp(d)])
         return freq, np.fmin(g[np.arange(self.rows), j], np.fmin(gc, gd))
