@@ -91,15 +91,18 @@ def test_no_path_no_choice():
     assert pc.phasor_frequency(net, {"r": np.array([R]), "c": np.array([C])}, F) is None
 
 
-def test_pipeline_draws_a_low_pass_at_its_corner_and_says_why(tmp_path):
-    res = analyse_one(tmp_path, """
+LOWPASS_STAGE = """
 [[stage]]
 id = "s"
 title = "RC low-pass"
 kind = "rc-lowpass"
 parts.r = { ref = "R1", value = "10k", tolerance = "1%" }
 parts.c = { ref = "C1", value = "100n", tolerance = "1%", dielectric = "C0G" }
-""", "samples = 20")
+"""
+
+
+def test_pipeline_draws_a_low_pass_at_its_corner_and_says_why(tmp_path):
+    res = analyse_one(tmp_path, LOWPASS_STAGE, "samples = 20")
     # Textbook corner 1 / (2 pi R C) = 159.2 Hz; the sweep's step is under 13 %.
     fc = 1.0 / (2.0 * math.pi * 10e3 * 100e-9)
     assert res.phasors.freq_hz == pytest.approx(fc, rel=0.13)
@@ -112,14 +115,7 @@ parts.c = { ref = "C1", value = "100n", tolerance = "1%", dielectric = "C0G" }
 
 
 def test_phasors_in_phase_everywhere_get_one_sentence(tmp_path):
-    res = analyse_one(tmp_path, """
-[[stage]]
-id = "s"
-title = "RC low-pass"
-kind = "rc-lowpass"
-parts.r = { ref = "R1", value = "10k", tolerance = "1%" }
-parts.c = { ref = "C1", value = "100n", tolerance = "1%", dielectric = "C0G" }
-""", "samples = 20")
+    res = analyse_one(tmp_path, LOWPASS_STAGE, "samples = 20")
     # In phase at every swept frequency (spread under 1°): a sentence, no drawing.
     flat = Phasors(freq_hz=res.phasors.freq_hz, reference="source",
                    vectors=(("r", "R", 0.5 + 0j), ("c", "C", 0.5 + 0j)), closing=None,
