@@ -69,9 +69,7 @@ def _lsb_text(x: float) -> str:
 def check_roles(parts, options, path: str) -> None:
     first.check_roles(parts, options, path)
     conv = options["converter"]
-    r, c = parts["r"].value, parts["c"].value
-    if not (r and c):
-        return                                   # values from the BOM: judged when analysed
+    r, c = parts["r"].value, parts["c"].value         # the BOM is merged in by now
     c_f = c + conv["pin_c"]
     tau_switch = conv["switch_r"] * conv["sampling_c"] * c_f / (conv["sampling_c"] + c_f)
     tau_filter = r * c_f
