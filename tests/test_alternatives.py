@@ -183,6 +183,7 @@ max = "3.4 kHz"
 """
 
 
+@pytest.mark.slow
 def test_alternative_yields_agree_with_a_direct_monte_carlo(tmp_path):
     p, r = analysed(tmp_path, SPLIT)
     alt = r.alternatives

@@ -118,6 +118,7 @@ def test_a_kind_defined_in_one_module_gets_the_loader_and_the_analysis(divider, 
     assert r.status == "pass"
 
 
+@pytest.mark.slow
 def test_a_kind_defined_in_one_module_gets_check_json_note_and_summary(divider, tmp_path):
     from rcdoc.note.context import summary_rows
     from rcdoc.note.page import stage_context

@@ -72,6 +72,7 @@ def boards(tmp_path):
     return good, bad
 
 
+@pytest.mark.slow
 def test_check_of_two_boards_starts_one_pool(tmp_path, pools):
     good, bad = boards(tmp_path)
     junit = tmp_path / "checks.xml"

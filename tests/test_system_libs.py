@@ -99,6 +99,7 @@ def _one_error_line(stderr: str) -> str:
     return lines[0]
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("breaks, library, package", [
     ("pango-1.0", "Pango", "libpango-1.0-0"),
     ("pangoft2", "PangoFT2", "libpangoft2-1.0-0"),
@@ -114,6 +115,7 @@ def test_build_names_a_missing_library_and_its_package(tmp_path, breaks, library
     assert not (tmp_path / "out").exists()      # nothing written
 
 
+@pytest.mark.slow
 def test_build_without_any_font_says_so(tmp_path):
     # A Fontconfig configuration that names no font folder: no font at all.
     conf = tmp_path / "fonts.conf"
@@ -125,11 +127,13 @@ def test_build_without_any_font_says_so(tmp_path):
     assert stdout == "" and not (tmp_path / "out").exists()
 
 
+@pytest.mark.slow
 def test_build_without_weasyprint_says_so(tmp_path):
     result, _, stderr = _run(tmp_path, "weasyprint", ["build", "--quiet"])
     assert result["rc"] == 2 and "pip install weasyprint" in _one_error_line(stderr)
 
 
+@pytest.mark.slow
 def test_missing_subsetter_is_a_one_line_notice(tmp_path):
     # HarfBuzz's subsetter is optional (the renderer falls back to a slower
     # subsetter): a notice, not an error.
@@ -145,6 +149,7 @@ def test_missing_subsetter_is_a_one_line_notice(tmp_path):
     assert "\n" not in notices[0]
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("args", [
     ["check"],
     ["check", "--annotations", "--junit", "checks.xml", "--json", "summary.json"],
@@ -156,6 +161,7 @@ def test_check_works_without_the_renderer(tmp_path, args):
     assert "Traceback" not in stderr and "PASS" in stdout.upper()
 
 
+@pytest.mark.slow
 def test_check_works_without_pango(tmp_path):
     result, _, stderr = _run(tmp_path, "pango", ["check", "--quiet"])
     assert result["rc"] == 0, stderr

@@ -59,6 +59,7 @@ def example(tmp_path_factory):
     return done
 
 
+@pytest.mark.slow
 def test_example_rows_fit_80_columns(example):
     assert example.returncode == 0, example.stderr.decode()
     out = example.stdout.decode("utf-8").splitlines()
@@ -73,6 +74,7 @@ def test_example_rows_fit_80_columns(example):
     assert out[-1] == f"all {checks + rated} checks pass"
 
 
+@pytest.mark.slow
 def test_non_terminal_progress_is_one_line_per_stage(example):
     err = example.stderr.decode("utf-8").splitlines()
     stages = [ln for ln in err if ln.startswith("rcdoc: ")]
@@ -104,6 +106,7 @@ def test_results_on_stdout_and_failures_counted_at_the_end(tmp_path, capfd):
     assert err.splitlines()[0].startswith("rcdoc: ") and "lp" in err
 
 
+@pytest.mark.slow
 def test_ascii_console_gets_ascii(tmp_path):
     path = small(tmp_path, "20 kΩ")
     done = run(["check", str(path), "--jobs", "1"], tmp_path, PYTHONIOENCODING="ascii")
