@@ -538,3 +538,33 @@ def test_render_is_byte_identical_in_a_fresh_process(tmp_path):
                          env={"PYTHONHASHSEED": "123", "PATH": "/usr/bin:/bin",
                               "PYTHONPATH": ":".join(sys.path)}).stdout.decode("utf-8")
     assert out == render_svg(ALL_RECIPES["lowpass"]())
+
+
+@pytest.mark.slow
+def test_reused_record_classes_give_the_same_outlines():
+    # rcdoc.note.outline_font hands ziafont one namedtuple class per (name, fields)
+    # instead of a new one per record. Reference: ziafont itself, unchanged, in a
+    # fresh process (the font is cached per process): every byte of a schematic
+    # with kerned text, Ω, µ and digits must be the same either way.
+    script = ("import sys; import rcdoc.note.outline_font as o; "
+              "o.speed_up = (lambda: None) if sys.argv[1] == 'plain' else o.speed_up; "
+              "from rcdoc.kinds.recipes import *; from rcdoc.note.schematic import render_svg; "
+              "sys.stdout.write(render_svg(ladder([('series','R',Label('R14','4.7 kΩ')),"
+              "('shunt','C',Label('C9','10 µF')), ('series','R',Label('RA','AVAWAY 0.1 Ω'))])))")
+
+    def svg(mode):
+        return subprocess.run([sys.executable, "-c", script, mode], capture_output=True,
+                              check=True, env={"PYTHONHASHSEED": "123", "PATH": "/usr/bin:/bin",
+                                               "PYTHONPATH": ":".join(sys.path)}).stdout
+    fast, plain = svg("fast"), svg("plain")
+    assert b"<path" in fast and fast == plain
+
+
+def test_reusing_factory_keeps_namedtuple_behaviour():
+    # Source: the Python documentation of collections.namedtuple (fields, equality
+    # with the plain tuple); options other than the plain form go to the real one.
+    from rcdoc.note.outline_font import _namedtuple
+    a = _namedtuple("Anchor", ["x", "y"])
+    assert a is _namedtuple("Anchor", ("x", "y")) and a(1, 2) == (1, 2) and a(1, 2).y == 2
+    b = _namedtuple("Anchor", "x y", defaults=(0,))
+    assert b is not a and b(1) == (1, 0)

@@ -32,6 +32,8 @@ def render_svg(recipe: Recipe) -> str:
     Text is drawn as outlines (svgconfig.text = "path"), SVG 1.1 for
     weasyprint. Same recipe, same bytes.
     """
+    from rcdoc.note.outline_font import speed_up
+    speed_up()      # before schemdraw's first text loads the font
     import schemdraw
     from schemdraw import svgconfig
 
