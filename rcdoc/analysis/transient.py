@@ -147,50 +147,58 @@ def _march(
 ) -> np.ndarray:
     """Run x <- M·x + k0·u0[:, n] + k1·u1[:, n] for every column n of u0; return the final x (s, N).
 
-    With ``sink`` given, the states before each step are handed to it in runs:
-    sink(n0, states) with states (m, N, s) holding x at steps n0 .. n0+m−1.
-    The loop runs over time only; each step is batched over the samples,
-    which sit on the last, contiguous axis: numpy's small matrix products
-    run several times faster that way than with samples first. Each state is
-    written once, into the run's buffer (no copies).
+    Only the states that carry charge or flux (the columns D of M with a
+    nonzero; for one capacitor, one state of three) enter the next step, so
+    only they are marched, z <- M[D, D]·z + forcing; the other states are
+    M[:, D]·z plus input terms and are formed only at the end. With ``sink``
+    given, sink.bind(D, M[:, D], k0, k1, u0, u1) (sample-last layouts) comes
+    first, then sink(n0, zs) per run: zs (m+1, d, s) holds z at steps n0 .. n0+m.
+    The loop runs over time only; each step is batched over the samples, which
+    sit on the last, contiguous axis (numpy's small products run several times
+    faster that way than with samples first).
     """
+    steps = u0.shape[1]
+    if steps == 0:
+        return x
     Mt = np.ascontiguousarray(np.moveaxis(M, 0, -1))  # (N, N, s)
     k0t, k1t = np.ascontiguousarray(k0.T), np.ascontiguousarray(k1.T)  # (N, s)
-    steps = u0.shape[1]
     u0T, u1T = np.ascontiguousarray(u0.T), np.ascontiguousarray(u1.T)  # (T, s or 1)
     shared = u0T.shape[1] == 1      # one input for all samples: its terms are reused
+    dyn = [j for j in range(Mt.shape[1]) if np.any(Mt[:, j, :] != 0)] or [0]
+    mcols = np.ascontiguousarray(Mt[:, dyn, :])                       # (N, d, s)
+    md = [np.ascontiguousarray(mcols[dyn, i, :]) for i in range(len(dyn))]  # (d, s) each
+    kd0, kd1 = k0t[dyn], k1t[dyn]
+    if sink is not None:
+        sink.bind(dyn, mcols, k0t, k1t, u0T, u1T)
     run = _RUN if sink is not None else 1
-    buf = np.empty((run + 1,) + k0t.shape)
-    buf[0] = x.T
-    # Only the states that carry charge or flux (columns of M with a nonzero) enter
-    # the next step; where they are few (a single capacitor: one of three), the
-    # product is taken over them alone: the same nonzero terms in the same order.
-    cols = [j for j in range(Mt.shape[1]) if np.any(Mt[:, j, :] != 0)]
-    sparse = 0 < len(cols) <= Mt.shape[1] // 2
-    mcols = [(j, np.ascontiguousarray(Mt[:, j, :])) for j in cols] if sparse else []
-    last, f0, f1 = None, None, None
+    buf = np.empty((run + 1, len(dyn), k0t.shape[1]))
+    buf[0] = x.T[dyn]
+    last, g, prev = None, None, None
     for n0 in range(0, steps, run):
         m = min(run, steps - n0)
         for l in range(m):
             n = n0 + l
-            if not shared:
-                f0, f1 = k0t * u0T[n], k1t * u1T[n]
-            elif (u0T[n, 0], u1T[n, 0]) != last:    # a step or PWM input changes rarely
-                last = (u0T[n, 0], u1T[n, 0])
-                f0, f1 = k0t * u0T[n], k1t * u1T[n]
             nxt, cur = buf[l + 1], buf[l]
-            if sparse:
-                np.multiply(mcols[0][1], cur[mcols[0][0]], out=nxt)
-                for j, mj in mcols[1:]:
-                    nxt += mj * cur[j]
+            np.multiply(md[0], cur[0], out=nxt)
+            for i in range(1, len(md)):
+                nxt += md[i] * cur[i]
+            if not shared:
+                nxt += kd0 * u0T[n]
+                nxt += kd1 * u1T[n]
             else:
-                np.einsum("ijs,js->is", Mt, cur, out=nxt)
-            nxt += f0
-            nxt += f1
-        if sink is not None and m:
-            sink(n0, buf[:m])
+                if (u0T[n, 0], u1T[n, 0]) != last:    # a step or PWM input changes
+                    last = (u0T[n, 0], u1T[n, 0])    # rarely: its terms added as one
+                    g = kd0 * u0T[n] + kd1 * u1T[n]
+                nxt += g
+        if sink is not None:
+            sink(n0, buf[:m + 1])
+        if n0 + m == steps:
+            prev = buf[m - 1].copy()
         buf[0] = buf[m]
-    return np.ascontiguousarray(buf[0].T)
+    # The final state in full: the other states from the last step's dynamic ones.
+    full = np.einsum("kjs,js->ks", mcols, prev) + k0t * u0T[-1] + k1t * u1T[-1]
+    full[dyn] = buf[0]
+    return np.ascontiguousarray(full.T)
 
 
 @dataclass(frozen=True)
@@ -246,23 +254,69 @@ _RUN = 64  # steps per run handed to a sink: its states stay in cache
 
 
 class _Recorder:
-    """Turns runs of states into probes: full rows for the recorded probes, running
-    reductions for the others (``Reduce``), for one block of samples."""
+    """Turns runs of marched states into probes, for one block of samples: full rows
+    for the recorded probes, running reductions for the others (``Reduce``).
 
-    def __init__(self, spec: "_Probes", reduce: Mapping[str, Reduce], out: dict, ss: slice):
-        w = spec.weights[ss]
-        self.items = [(name, _terms(w[:, p, :]), reduce.get(name))
-                      for p, name in enumerate(spec.names)]
-        self.out, self.ss = out, ss
+    A probe on the marched states alone is their combination at each step; any
+    other is affine in the marched states of the step before,
+    y[n] = Σ_i A_i·z_i[n−1] + a0·u0[n−1] + a1·u1[n−1] with A = w·M[:, D],
+    a0 = w·k0, a1 = w·k1 (the step's own algebra, regrouped: the same numbers
+    to rounding), so the other states are never formed. The first instant,
+    the given initial state, is taken in full (``initial``).
+    """
 
-    def __call__(self, n0: int, states: np.ndarray) -> None:
-        m = states.shape[0]
-        for name, terms, red in self.items:
-            y = _combine(terms, states)         # (m, s)
-            if red is None:             # time-major: a run is one contiguous block
-                self.out[name][n0:n0 + m, self.ss] = y
+    def __init__(self, spec: "_Probes", reduce: Mapping[str, Reduce], out: dict, ss: slice,
+                 steps: int):
+        self.w = spec.weights[ss]
+        self.names, self.reduce = spec.names, reduce
+        self.out, self.ss, self.steps = out, ss, steps    # instants 0 .. steps − 1 are kept
+        self.items: list = []
+
+    def initial(self, x: np.ndarray) -> None:
+        """The probes at instant 0 from the full initial state x (s, N)."""
+        states = np.ascontiguousarray(x.T)[None]
+        for p, name in enumerate(self.names):
+            self._store(name, 0, _combine(_terms(self.w[:, p, :]), states))
+
+    def bind(self, dyn, mcols, k0t, k1t, u0T, u1T) -> None:
+        """What the probes need of the step (see ``_march``)."""
+        self.u0T, self.u1T = u0T, u1T
+        self.shared = u0T.shape[1] == 1
+        self.tmp = np.empty((_RUN, k0t.shape[1]))
+        other = [j for j in range(k0t.shape[0]) if j not in dyn]
+        self.items = []
+        for p, name in enumerate(self.names):
+            w = self.w[:, p, :]
+            if not np.any(w[:, other] != 0):
+                self.items.append((name, _terms(w[:, dyn]), None))
+                continue
+            A = np.ascontiguousarray(np.einsum("sk,kis->is", w, mcols))
+            a0, a1 = np.einsum("sk,ks->s", w, k0t), np.einsum("sk,ks->s", w, k1t)
+            self.items.append((name, None, (A, a0, a1)))
+
+    def __call__(self, n0: int, zs: np.ndarray) -> None:
+        m = min(zs.shape[0] - 1, self.steps - 1 - n0)     # probes at n0+1 .. n0+m
+        if m <= 0:
+            return
+        u0, u1 = self.u0T[n0:n0 + m], self.u1T[n0:n0 + m]
+        steady = self.shared and bool(np.all(u0 == u0[0]) and np.all(u1 == u1[0]))
+        for name, terms, affine in self.items:
+            if affine is None:
+                y = _combine(terms, zs[1:m + 1])
             else:
-                red.fold(self.out[name][self.ss], n0, y)
+                A, a0, a1 = affine
+                y = np.multiply(zs[:m, 0, :], A[0], out=self.tmp[:m])
+                for i in range(1, A.shape[0]):
+                    y += zs[:m, i, :] * A[i]
+                y += (a0 * u0[0] + a1 * u1[0]) if steady else (a0 * u0 + a1 * u1)
+            self._store(name, n0 + 1, y)
+
+    def _store(self, name: str, n: int, y: np.ndarray) -> None:
+        red = self.reduce.get(name)
+        if red is None:             # time-major: a run is one contiguous block
+            self.out[name][n:n + y.shape[0], self.ss] = y
+        else:
+            red.fold(self.out[name][self.ss], n, y)
 
 
 def _terms(w: np.ndarray) -> list[tuple[int, np.ndarray | None]]:
@@ -440,9 +494,9 @@ def transient(
                 x = np.zeros(G.shape[:2])
             if not np.all(np.isfinite(x)):
                 x = np.zeros(G.shape[:2])
-        sink = _Recorder(spec, reduce, out, ss)
-        x = _march(M, k0, k1, x, uc[:, :-1], uc[:, 1:], sink)
-        sink(steps - 1, np.ascontiguousarray(x.T)[None])
+        sink = _Recorder(spec, reduce, out, ss, steps)
+        sink.initial(x)
+        _march(M, k0, k1, x, uc[:, :-1], uc[:, 1:], sink)
     return _results(spec, out, reduce, h, periodic=False)
 
 
@@ -520,5 +574,7 @@ def periodic_steady_state(
         c = np.max(np.abs(A), axis=-2, keepdims=True)
         c = np.where(c > 0, c, 1.0)
         x = _matvec(np.linalg.pinv(A / c, rtol=1e-10), rhs) / c[:, 0, :]
-        _march(M, k0, k1, x, uc, u1, _Recorder(spec, reduce, out, ss))
+        sink = _Recorder(spec, reduce, out, ss, steps)
+        sink.initial(x)
+        _march(M, k0, k1, x, uc, u1, sink)
     return _results(spec, out, reduce, h, periodic=True)
