@@ -552,23 +552,11 @@ def _last_outside(y: np.ndarray, fin: np.ndarray, scale: np.ndarray, band: float
     never left the band).
 
     Rows with finite values and a finite, nonzero scale (all, normally) are scanned
-    backwards in blocks; the others over the whole window as err's NaN says: a
-    missing response never settled."""
+    backwards in blocks of instants; the others over the whole window as err's NaN
+    says: a missing response never settled."""
     rows, T = y.shape
-    plain = np.isfinite(fin) & np.isfinite(scale) & (scale != 0) & np.isfinite(y[:, 0])
-    # One block buffer, laid out as the blocks are (time-major underneath); the
-    # same three operations as in full: |y − fin|, then / scale, then > band.
-    buf = np.empty((min(CROSS_BLOCK, T), rows)).T
-    fin_c, scale_c = fin[:, None], scale[:, None]
-
-    def outside(lo, hi):
-        e = buf[:, :hi - lo]
-        np.subtract(y[:, lo:hi], fin_c, out=e)
-        np.abs(e, out=e)
-        np.divide(e, scale_c, out=e)
-        return e > band
-
-    found = _scan(outside, rows, T, plain, backward=True)
+    plain = np.isfinite(fin) & np.isfinite(scale) & (scale > 0) & np.isfinite(y[:, 0])
+    found = _last_outside_blocks(y, fin, scale, band, plain)
     last = np.where(found >= 0, found, T - 1)
     never = plain & (found < 0)
     odd = np.flatnonzero(~plain)
@@ -578,6 +566,36 @@ def _last_outside(y: np.ndarray, fin: np.ndarray, scale: np.ndarray, band: float
         last[odd] = T - 1 - np.argmax(outside[:, ::-1], axis=1)
         never[odd] = ~outside.any(axis=1) & ~np.isnan(e).any(axis=1)
     return last, never
+
+
+def _last_outside_blocks(y, fin, scale, band, need) -> np.ndarray:
+    """Per row the last index where y leaves fin ± band·|scale| (−1 where none), from
+    the end back, block by block, until every ``need`` row has one. The band's edges
+    are computed once per row, so each block costs two comparisons of y (not a
+    subtraction, a modulus and a division: they decided the same instants but where
+    y lies within a rounding of an edge). The blocks are runs of instants, read
+    along the samples (contiguous in the march's time-major recording)."""
+    rows, T = y.shape
+    yt = y.T
+    thr = band * scale
+    upper, lower = fin + thr, fin - thr
+    found = np.full(rows, -1)
+    h = min(CROSS_BLOCK, T)
+    above, below = np.empty((h, rows), dtype=bool), np.empty((h, rows), dtype=bool)
+    todo = need.copy()
+    for lo in range((T - 1) // h * h, -1, -h):
+        hi = min(lo + h, T)
+        b, c = above[:hi - lo], below[:hi - lo]
+        np.greater(yt[lo:hi], upper, out=b)
+        np.less(yt[lo:hi], lower, out=c)
+        b |= c
+        hit = np.flatnonzero(np.logical_or.reduce(b, axis=0) & (found < 0))
+        if hit.size:
+            found[hit] = hi - 1 - np.argmax(b[::-1, hit], axis=0)
+            todo[hit] = False
+            if not todo.any():
+                break
+    return found
 
 
 def _cross_time(y: np.ndarray, fin: np.ndarray, t: np.ndarray, level: float) -> np.ndarray:
