@@ -231,12 +231,13 @@ class Reduce:
     def value(self, a: np.ndarray, index: int) -> np.ndarray:
         return a[:, 1 + 2 * len(self.windows) + self.at.index(index)]
 
-    def fold(self, a: np.ndarray, n0: int, y: np.ndarray) -> None:
+    def fold(self, a: np.ndarray, n0: int, y: np.ndarray, span=None) -> None:
         """Fold the values y (m, s), time-major, at steps n0 .. n0+m−1 into the
-        columns a (s, width). Time-major: each reduction runs down contiguous rows
-        of samples (several times faster than along a strided time axis)."""
+        columns a (s, width); ``span``: y's largest and smallest per sample, where
+        known. Time-major: each reduction runs down contiguous rows of samples
+        (several times faster than along a strided time axis)."""
         m = y.shape[0]
-        top, bottom = np.max(y, axis=0), np.min(y, axis=0)
+        top, bottom = span if span is not None else (np.max(y, axis=0), np.min(y, axis=0))
         # max |y| = max(max y, −min y), without a temporary; NaN stays NaN
         a[:, 0] = np.maximum(a[:, 0], np.maximum(top, -bottom))
         nw = len(self.windows)
@@ -304,23 +305,52 @@ class _Recorder:
             return
         u0, u1 = self.u0T[n0:n0 + m], self.u1T[n0:n0 + m]
         steady = self.shared and bool(np.all(u0 == u0[0]) and np.all(u1 == u1[0]))
+        ends = _Ends(zs, m) if zs.shape[1] == 1 else None
         for name, terms, affine in self.items:
+            span = None
             if affine is None:
                 y = _combine(terms, zs[1:m + 1])
+                if ends is not None and terms == [(0, None)]:
+                    span = ends.get(1)
             else:
                 A, a0, a1 = affine
                 y = np.multiply(zs[:m, 0, :], A[0], out=self.tmp[:m])
                 for i in range(1, A.shape[0]):
                     y += zs[:m, i, :] * A[i]
-                y += (a0 * u0[0] + a1 * u1[0]) if steady else (a0 * u0 + a1 * u1)
-            self._store(name, n0 + 1, y)
+                c = (a0 * u0[0] + a1 * u1[0]) if steady else (a0 * u0 + a1 * u1)
+                y += c
+                if ends is not None and steady and name in self.reduce:
+                    # y = A·z + c rounds monotonically in z: its extremes are
+                    # those of z, taken through the same two operations.
+                    top, bottom = ends.get(0)
+                    up = A[0] >= 0
+                    span = (np.where(up, top, bottom) * A[0] + c,
+                            np.where(up, bottom, top) * A[0] + c)
+            self._store(name, n0 + 1, y, span)
 
-    def _store(self, name: str, n: int, y: np.ndarray) -> None:
+    def _store(self, name: str, n: int, y: np.ndarray, span=None) -> None:
         red = self.reduce.get(name)
         if red is None:             # time-major: a run is one contiguous block
             self.out[name][n:n + y.shape[0], self.ss] = y
         else:
-            red.fold(self.out[name][self.ss], n, y)
+            red.fold(self.out[name][self.ss], n, y, span)
+
+
+class _Ends:
+    """The largest and smallest of a single marched state over a run, for the
+    probes at z[1 .. m] (shift 1) and at z[0 .. m−1] (shift 0): the shared
+    middle is reduced once (max and min are exact, so the order does not matter)."""
+
+    def __init__(self, zs: np.ndarray, m: int):
+        self.zs, self.m, self.done = zs[:, 0, :], m, {}
+        self.mid = (np.max(self.zs[1:m], axis=0), np.min(self.zs[1:m], axis=0)) if m > 1 else None
+
+    def get(self, shift: int):
+        if shift not in self.done:
+            edge = self.zs[self.m if shift else 0]
+            self.done[shift] = (edge, edge) if self.mid is None else \
+                (np.maximum(self.mid[0], edge), np.minimum(self.mid[1], edge))
+        return self.done[shift]
 
 
 def _terms(w: np.ndarray) -> list[tuple[int, np.ndarray | None]]:
