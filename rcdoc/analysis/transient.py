@@ -163,7 +163,6 @@ def _march(
     Mt = np.ascontiguousarray(np.moveaxis(M, 0, -1))  # (N, N, s)
     k0t, k1t = np.ascontiguousarray(k0.T), np.ascontiguousarray(k1.T)  # (N, s)
     u0T, u1T = np.ascontiguousarray(u0.T), np.ascontiguousarray(u1.T)  # (T, s or 1)
-    shared = u0T.shape[1] == 1      # one input for all samples: its terms are reused
     dyn = [j for j in range(Mt.shape[1]) if np.any(Mt[:, j, :] != 0)] or [0]
     mcols = np.ascontiguousarray(Mt[:, dyn, :])                       # (N, d, s)
     md = [np.ascontiguousarray(mcols[dyn, i, :]) for i in range(len(dyn))]  # (d, s) each
@@ -172,33 +171,52 @@ def _march(
         sink.bind(dyn, mcols, k0t, k1t, u0T, u1T)
     run = _RUN if sink is not None else 1
     buf = np.empty((run + 1, len(dyn), k0t.shape[1]))
-    buf[0] = x.T[dyn]
-    last, g, prev = None, None, None
+    home = getattr(sink, "home", None)
+    forcing = _Forcing(kd0, kd1, u0T, u1T)
+    z, prev = x.T[dyn], None
     for n0 in range(0, steps, run):
         m = min(run, steps - n0)
+        b = home(n0, m) if home is not None else None
+        b = buf if b is None else b         # a recorded probe's own rows, or a buffer
+        b[0] = z
         for l in range(m):
-            n = n0 + l
-            nxt, cur = buf[l + 1], buf[l]
+            nxt, cur = b[l + 1], b[l]
             np.multiply(md[0], cur[0], out=nxt)
             for i in range(1, len(md)):
                 nxt += md[i] * cur[i]
-            if not shared:
-                nxt += kd0 * u0T[n]
-                nxt += kd1 * u1T[n]
-            else:
-                if (u0T[n, 0], u1T[n, 0]) != last:    # a step or PWM input changes
-                    last = (u0T[n, 0], u1T[n, 0])    # rarely: its terms added as one
-                    g = kd0 * u0T[n] + kd1 * u1T[n]
-                nxt += g
+            forcing.add(nxt, n0 + l)
         if sink is not None:
-            sink(n0, buf[:m + 1])
+            sink(n0, b[:m + 1])
         if n0 + m == steps:
-            prev = buf[m - 1].copy()
-        buf[0] = buf[m]
+            prev = b[m - 1].copy()
+        z = b[m]
     # The final state in full: the other states from the last step's dynamic ones.
     full = np.einsum("kjs,js->ks", mcols, prev) + k0t * u0T[-1] + k1t * u1T[-1]
-    full[dyn] = buf[0]
+    full[dyn] = z
     return np.ascontiguousarray(full.T)
+
+
+class _Forcing:
+    """The input terms of the marched states at each step: k0·u0[n] + k1·u1[n]. One
+    input for all samples (a step, a PWM wave) changes rarely: its two terms are
+    then added as one, computed where the input changes."""
+
+    def __init__(self, kd0, kd1, u0T, u1T):
+        self.kd0, self.kd1, self.u0T, self.u1T = kd0, kd1, u0T, u1T
+        self.shared = u0T.shape[1] == 1
+        if self.shared:
+            pair = np.concatenate([u0T, u1T], axis=1)
+            new = np.flatnonzero(np.r_[True, np.any(pair[1:] != pair[:-1], axis=1)])
+            self.at = {int(n): kd0 * u0T[n] + kd1 * u1T[n] for n in new}
+            self.g = None
+
+    def add(self, nxt: np.ndarray, n: int) -> None:
+        if self.shared:
+            self.g = self.at.get(n, self.g)
+            nxt += self.g
+        else:
+            nxt += self.kd0 * self.u0T[n]
+            nxt += self.kd1 * self.u1T[n]
 
 
 @dataclass(frozen=True)
@@ -276,6 +294,7 @@ class _Recorder:
         self.names, self.reduce = spec.names, reduce
         self.out, self.ss, self.steps = out, ss, steps    # instants 0 .. steps − 1 are kept
         self.items: list = []
+        self.homed, self.inplace = None, False
 
     def initial(self, x: np.ndarray) -> None:
         """The probes at instant 0 from the full initial state x (s, N)."""
@@ -298,6 +317,14 @@ class _Recorder:
             A = np.ascontiguousarray(np.einsum("sk,kis->is", w, mcols))
             a0, a1 = np.einsum("sk,ks->s", w, k0t), np.einsum("sk,ks->s", w, k1t)
             self.items.append((name, None, (A, a0, a1)))
+        # A recorded probe that is the one marched state itself is marched in place.
+        self.homed = next((name for name, terms, _ in self.items if len(dyn) == 1
+                           and terms == [(0, None)] and name not in self.reduce), None)
+
+    def home(self, n0: int, m: int) -> np.ndarray | None:
+        """Where the march may write z at steps n0 .. n0+m: the homed probe's rows."""
+        self.inplace = self.homed is not None and n0 + m < self.steps
+        return self.out[self.homed][n0:n0 + m + 1, self.ss][:, None, :] if self.inplace else None
 
     def __call__(self, n0: int, zs: np.ndarray) -> None:
         m = min(zs.shape[0] - 1, self.steps - 1 - n0)     # probes at n0+1 .. n0+m
@@ -326,7 +353,8 @@ class _Recorder:
                     up = A[0] >= 0
                     span = (np.where(up, top, bottom) * A[0] + c,
                             np.where(up, bottom, top) * A[0] + c)
-            self._store(name, n0 + 1, y, span)
+            if not (name == self.homed and self.inplace):     # else written already
+                self._store(name, n0 + 1, y, span)
 
     def _store(self, name: str, n: int, y: np.ndarray, span=None) -> None:
         red = self.reduce.get(name)
