@@ -102,6 +102,9 @@ def test_block_search_of_the_last_exit_equals_the_whole_array_search():
     y = 1.0 - np.exp(-t[None, :] / tau[:, None])
     y[4] = np.nan                           # a missing response
     y[5] = 1.0                              # never leaves the band
+    y[7, 300:310] = np.nan                  # gaps in a block that leaves the band (the
+    y[7, 305] = 1.5                         # blocks' extremes ignore NaN, as the comparisons do)
+    y[3] = 1.0 - np.exp(-t / 2.0) * np.cos(9.0 * t)     # ringing: leaves and re-enters
     fin = np.ones(len(tau))
     fin[6] = 0.0                            # a zero final value and scale
     scale = np.abs(fin)

@@ -392,6 +392,12 @@ class Evaluator(PartStresses):
         return self.step_probes[self.network.output]
 
     @cached_property
+    def step_extremes(self) -> tuple[np.ndarray, np.ndarray]:
+        """The step's largest and smallest values per block of instants (block_extremes),
+        shared by the settling searches of every band."""
+        return block_extremes(self.step)
+
+    @cached_property
     def final_value(self) -> np.ndarray:
         amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
         return np.real(self.h_rows(np.zeros(self.rows))) * amp \
@@ -417,7 +423,7 @@ class Evaluator(PartStresses):
             scale = np.full(self.rows, float(full_scale))
         scale = np.broadcast_to(scale, (self.rows,))
 
-        last, never = _last_outside(y, fin, scale, band)
+        last, never = _last_outside(y, fin, scale, band, self.step_extremes)
         rows, T = np.arange(self.rows), len(t)
         nxt = np.minimum(last + 1, T - 1)
         # |y − fin| / scale, as _last_outside computes it
@@ -547,16 +553,19 @@ def _scan(pred, rows: int, steps: int, need: np.ndarray, backward: bool) -> np.n
     return found
 
 
-def _last_outside(y: np.ndarray, fin: np.ndarray, scale: np.ndarray, band: float):
+def _last_outside(y: np.ndarray, fin: np.ndarray, scale: np.ndarray, band: float,
+                  extremes: tuple[np.ndarray, np.ndarray] | None = None):
     """(last index where err = |y − fin| / scale > band, or T − 1 if none; rows that
     never left the band).
 
-    Rows with finite values and a finite, nonzero scale (all, normally) are scanned
-    backwards in blocks of instants; the others over the whole window as err's NaN
+    Rows with finite values and a positive, finite scale (all, normally) are
+    searched from the end by blocks (see _last_outside_blocks; ``extremes``: y's
+    block_extremes, where known); the others over the whole window as err's NaN
     says: a missing response never settled."""
     rows, T = y.shape
     plain = np.isfinite(fin) & np.isfinite(scale) & (scale > 0) & np.isfinite(y[:, 0])
-    found = _last_outside_blocks(y, fin, scale, band, plain)
+    found = _last_outside_blocks(y, fin, scale, band, plain,
+                                 extremes if extremes is not None else block_extremes(y))
     last = np.where(found >= 0, found, T - 1)
     never = plain & (found < 0)
     odd = np.flatnonzero(~plain)
@@ -568,30 +577,42 @@ def _last_outside(y: np.ndarray, fin: np.ndarray, scale: np.ndarray, band: float
     return last, never
 
 
-def _last_outside_blocks(y, fin, scale, band, need) -> np.ndarray:
-    """Per row the last index where y leaves fin ± band·|scale| (−1 where none), from
-    the end back, block by block, until every ``need`` row has one. The band's edges
-    are computed once per row, so each block costs two comparisons of y (not a
-    subtraction, a modulus and a division: they decided the same instants but where
-    y lies within a rounding of an edge). The blocks are runs of instants, read
-    along the samples (contiguous in the march's time-major recording)."""
+def block_extremes(y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Each row's largest and smallest value in each block of CROSS_BLOCK instants,
+    NaN ignored: two (blocks, rows) arrays. Read along the samples (contiguous in
+    the march's time-major recording); computed once for all the settling bands."""
+    yt = y.T
+    starts = range(0, yt.shape[0], CROSS_BLOCK)
+    top, bottom = np.empty((len(starts), y.shape[0])), np.empty((len(starts), y.shape[0]))
+    for k, lo in enumerate(starts):
+        np.fmax.reduce(yt[lo:lo + CROSS_BLOCK], axis=0, out=top[k])
+        np.fmin.reduce(yt[lo:lo + CROSS_BLOCK], axis=0, out=bottom[k])
+    return top, bottom
+
+
+def _last_outside_blocks(y, fin, scale, band, need, extremes) -> np.ndarray:
+    """Per row the last index where y leaves fin ± band·scale (−1 where none).
+
+    The band's edges are computed once per row, so an instant costs two comparisons
+    (not a subtraction, a modulus and a division: they decide the same instants but
+    where y lies within a rounding of an edge). A block of instants holds such an
+    instant exactly when its largest y is above the band or its smallest below
+    (``extremes``): blocks are judged from the end back, and only a row's last such
+    block is searched instant by instant, until every ``need`` row has one."""
     rows, T = y.shape
     yt = y.T
     thr = band * scale
     upper, lower = fin + thr, fin - thr
+    top, bottom = extremes
     found = np.full(rows, -1)
-    h = min(CROSS_BLOCK, T)
-    above, below = np.empty((h, rows), dtype=bool), np.empty((h, rows), dtype=bool)
     todo = need.copy()
-    for lo in range((T - 1) // h * h, -1, -h):
-        hi = min(lo + h, T)
-        b, c = above[:hi - lo], below[:hi - lo]
-        np.greater(yt[lo:hi], upper, out=b)
-        np.less(yt[lo:hi], lower, out=c)
-        b |= c
-        hit = np.flatnonzero(np.logical_or.reduce(b, axis=0) & (found < 0))
+    for k in range(top.shape[0] - 1, -1, -1):
+        hit = np.flatnonzero(((top[k] > upper) | (bottom[k] < lower)) & (found < 0))
         if hit.size:
-            found[hit] = hi - 1 - np.argmax(b[::-1, hit], axis=0)
+            lo, hi = k * CROSS_BLOCK, min((k + 1) * CROSS_BLOCK, T)
+            block = yt[lo:hi][:, hit]
+            out = (block > upper[hit]) | (block < lower[hit])
+            found[hit] = hi - 1 - np.argmax(out[::-1], axis=0)
             todo[hit] = False
             if not todo.any():
                 break
