@@ -116,6 +116,30 @@ def test_block_search_of_the_last_exit_equals_the_whole_array_search():
         np.testing.assert_array_equal(never, ref_never)
 
 
+def test_block_search_of_the_first_crossing_equals_the_whole_array_search():
+    # The whole-array search (numpy argmax on the full comparison y / fin >= level).
+    T = 1000
+    t = np.linspace(0.0, 10.0, T)
+    tau = np.array([0.5, 1.0, 3.0, 1.0, 1.0, 0.2, 1.0, 1.0])
+    y = 1.0 - np.exp(-t[None, :] / tau[:, None])
+    y[1] = 1.0 - np.exp(-t / 2.0) * np.cos(9.0 * t)     # ringing: overshoots, comes back
+    y[2, 140:150] = np.nan                  # gaps in the block that first reaches the level
+    y[3] *= -2.0                            # a negative final value
+    y[4] = 0.0                              # never rises
+    y[6, 0] = np.nan                        # a missing response
+    fin = np.ones(len(tau))
+    fin[3] = -2.0
+    fin[5] = 0.0                            # a zero final value: y / 0 is inf, level reached
+    fin[7] = np.nan
+    for level in (0.1, 0.5, 0.9, 1.2):
+        with np.errstate(divide="ignore", invalid="ignore"):
+            reach = y / fin[:, None] >= level
+            need = np.isfinite(fin) & np.isfinite(y[:, 0])
+            got = evmod._first_reaching(y, fin, level, need, evmod.block_extremes(y))
+        ref = np.where(reach.any(axis=1), np.argmax(reach, axis=1), -1)
+        np.testing.assert_array_equal(got[need], ref[need])
+
+
 def test_block_search_of_the_first_crossing_gives_rc_ln9_rise_time():
     # Textbook: a first-order step response 1 − exp(−t/RC) rises from 10 % to 90 % in RC·ln 9.
     rc = np.array([1.0, 2.0, 3.0])

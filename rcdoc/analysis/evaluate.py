@@ -394,7 +394,7 @@ class Evaluator(PartStresses):
     @cached_property
     def step_extremes(self) -> tuple[np.ndarray, np.ndarray]:
         """The step's largest and smallest values per block of instants (block_extremes),
-        shared by the settling searches of every band."""
+        shared by the rise-time and settling searches."""
         return block_extremes(self.step)
 
     @cached_property
@@ -406,7 +406,8 @@ class Evaluator(PartStresses):
 
     def rise_time(self) -> np.ndarray:
         y, t, fin = self.step, self.time_s, self.final_value
-        return _cross_time(y, fin, t, 0.9) - _cross_time(y, fin, t, 0.1)
+        ext = self.step_extremes
+        return _cross_time(y, fin, t, 0.9, ext) - _cross_time(y, fin, t, 0.1, ext)
 
     def settling(self, within: float | None = None, bits: int | None = None,
                  full_scale: float | None = None) -> np.ndarray:
@@ -534,25 +535,6 @@ def _unwrapped_last(p: np.ndarray) -> np.ndarray:
 CROSS_BLOCK = 128    # time columns per block of the crossing searches (stay in cache)
 
 
-def _scan(pred, rows: int, steps: int, need: np.ndarray, backward: bool) -> np.ndarray:
-    """Per row the first (or, ``backward``, the last) column where pred(lo, hi), a
-    (rows × (hi − lo)) bool block, holds; −1 where none. Block by block, stopping
-    once every ``need`` row has one: a crossing near its end of the window costs
-    a few blocks, not a pass over the whole (rows × T) response."""
-    found = np.full(rows, -1)
-    starts = list(range(0, steps, CROSS_BLOCK))
-    r = np.arange(rows)
-    for lo in (starts[::-1] if backward else starts):
-        hi = min(lo + CROSS_BLOCK, steps)
-        b = pred(lo, hi)
-        j = hi - 1 - np.argmax(b[:, ::-1], axis=1) if backward else lo + np.argmax(b, axis=1)
-        hit = (found < 0) & b[r, j - lo]
-        found[hit] = j[hit]
-        if np.all(found[need] >= 0):
-            break
-    return found
-
-
 def _last_outside(y: np.ndarray, fin: np.ndarray, scale: np.ndarray, band: float,
                   extremes: tuple[np.ndarray, np.ndarray] | None = None):
     """(last index where err = |y − fin| / scale > band, or T − 1 if none; rows that
@@ -619,12 +601,14 @@ def _last_outside_blocks(y, fin, scale, band, need, extremes) -> np.ndarray:
     return found
 
 
-def _cross_time(y: np.ndarray, fin: np.ndarray, t: np.ndarray, level: float) -> np.ndarray:
+def _cross_time(y: np.ndarray, fin: np.ndarray, t: np.ndarray, level: float,
+                extremes: tuple[np.ndarray, np.ndarray] | None = None) -> np.ndarray:
     """First time each row's y / fin reaches ``level`` (linear interpolation between
-    samples); searched block by block from the start (see _scan)."""
+    samples); searched by blocks from the start (see _first_reaching; ``extremes``:
+    y's block_extremes, where known)."""
     rows = np.arange(y.shape[0])
-    first = _scan(lambda lo, hi: y[:, lo:hi] / fin[:, None] >= level, len(rows), len(t),
-                  np.isfinite(fin) & np.isfinite(y[:, 0]), backward=False)
+    first = _first_reaching(y, fin, level, np.isfinite(fin) & np.isfinite(y[:, 0]),
+                            extremes if extremes is not None else block_extremes(y))
     j = np.maximum(first, 0)
     ok = (first >= 0) & (j > 0)
     j0 = np.maximum(j - 1, 0)
@@ -632,3 +616,29 @@ def _cross_time(y: np.ndarray, fin: np.ndarray, t: np.ndarray, level: float) -> 
     with np.errstate(divide="ignore", invalid="ignore"):
         frac = np.where(y1 != y0, (level - y0) / (y1 - y0), 0.0)
     return np.where(ok, t[j0] + frac * (t[j] - t[j0]), np.nan)
+
+
+def _first_reaching(y, fin, level, need, extremes) -> np.ndarray:
+    """Per row the first index where y / fin >= level (−1 where none).
+
+    y / fin rounds monotonically in y (rising for a positive fin, falling for a
+    negative one), so a block of instants holds such an instant exactly when its
+    largest y (for a negative fin, its smallest) does (``extremes``): blocks are
+    judged from the start, and only a row's first such block is searched instant by
+    instant, until every ``need`` row has one."""
+    yt = y.T
+    top, bottom = extremes
+    neg = np.signbit(fin)
+    found = np.full(y.shape[0], -1)
+    todo = need.copy()
+    with np.errstate(divide="ignore", invalid="ignore"):
+        for k in range(top.shape[0]):
+            hit = np.flatnonzero((np.where(neg, bottom[k], top[k]) / fin >= level) & (found < 0))
+            if hit.size:
+                lo = k * CROSS_BLOCK
+                block = yt[lo:lo + CROSS_BLOCK][:, hit] / fin[hit] >= level
+                found[hit] = lo + np.argmax(block, axis=0)
+                todo[hit] = False
+            if not todo.any():
+                break
+    return found
