@@ -18,7 +18,7 @@ import numpy as np
 import pytest
 
 from rcdoc.analysis import engine
-from rcdoc.analysis import evaluate as evmod
+from rcdoc.analysis import timesearch as ts
 from rcdoc.analysis.network import Element, Network
 from rcdoc.analysis.transient import Reduce
 
@@ -110,7 +110,7 @@ def test_block_search_of_the_last_exit_equals_the_whole_array_search():
     scale = np.abs(fin)
     for band in (1e-2, 2.0 ** -13):
         with np.errstate(divide="ignore", invalid="ignore"):
-            last, never = evmod._last_outside(y, fin, scale, band)
+            last, never = ts._last_outside(y, fin, scale, band)
             ref_last, ref_never = _last_outside_full(y, fin, scale, band)
         np.testing.assert_array_equal(last, ref_last)
         np.testing.assert_array_equal(never, ref_never)
@@ -135,7 +135,7 @@ def test_block_search_of_the_first_crossing_equals_the_whole_array_search():
         with np.errstate(divide="ignore", invalid="ignore"):
             reach = y / fin[:, None] >= level
             need = np.isfinite(fin) & np.isfinite(y[:, 0])
-            got = evmod._first_reaching(y, fin, level, need, evmod.block_extremes(y))
+            got = ts._first_reaching(y, fin, level, need, ts.block_extremes(y))
         ref = np.where(reach.any(axis=1), np.argmax(reach, axis=1), -1)
         np.testing.assert_array_equal(got[need], ref[need])
 
@@ -146,8 +146,8 @@ def test_block_search_of_the_first_crossing_gives_rc_ln9_rise_time():
     t = np.linspace(0.0, 24.0 * 3.0, 20001)
     y = 2.5 * (1.0 - np.exp(-t[None, :] / rc[:, None]))
     fin = np.full(3, 2.5)
-    rise = evmod._cross_time(y, fin, t, 0.9) - evmod._cross_time(y, fin, t, 0.1)
+    rise = ts._cross_time(y, fin, t, 0.9) - ts._cross_time(y, fin, t, 0.1)
     np.testing.assert_allclose(rise, rc * math.log(9.0), rtol=1e-5)
     # A level never reached has no crossing.
-    assert np.isnan(evmod._cross_time(y, fin, t, 1.5)).all()
+    assert np.isnan(ts._cross_time(y, fin, t, 1.5)).all()
 
