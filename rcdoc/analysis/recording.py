@@ -122,7 +122,7 @@ class _Recorder:
             self.items.append((name, None, (A, a0, a1)))
         # A recorded probe that is the one marched state itself is marched in place.
         self.homed = next((name for name, terms, _ in self.items if len(dyn) == 1
-                           and terms == [(0, None)] and name not in self.reduce), None)
+                           and _is_state(terms) and name not in self.reduce), None)
 
     def home(self, n0: int, m: int) -> np.ndarray | None:
         """Where the march may write z at steps n0 .. n0+m: the homed probe's rows."""
@@ -140,7 +140,7 @@ class _Recorder:
             span = None
             if affine is None:
                 y = _combine(terms, zs[1:m + 1])
-                if ends is not None and terms == [(0, None)]:
+                if ends is not None and _is_state(terms):
                     span = ends.get(1)
             else:
                 A, a0, a1 = affine
@@ -182,6 +182,11 @@ class _Ends:
             self.done[shift] = (edge, edge) if self.mid is None else \
                 (np.maximum(self.mid[0], edge), np.minimum(self.mid[1], edge))
         return self.done[shift]
+
+
+def _is_state(terms) -> bool:
+    """Whether a probe's terms (see _terms) are the first marched state itself."""
+    return terms is not None and len(terms) == 1 and terms[0][0] == 0 and terms[0][1] is None
 
 
 def _terms(w: np.ndarray) -> list[tuple[int, np.ndarray | None]]:
