@@ -82,13 +82,27 @@ def _single_hp():
     return net, {"rs": np.array([50.0]), "r": np.array([1e4]), "c": np.array([1e-8])}
 
 
-@pytest.mark.parametrize("seed", [-2, -1] + list(range(10)))
+def _growing_rc():
+    """An unstable sample: a capacitor fed back through R from an amplifier of gain
+    1 + rf/rg = 3 that reads it; C·v' = (u − v)/Rin + (3v − v)/R grows as e^(t/RC)
+    (textbook nodal equation). The march must carry its numbers as the full march
+    does; the metrics then mark such rows missing."""
+    net = Network(elements=(Element("rin", "R", "in", "a"), Element("r", "R", "out", "a"),
+                            Element("c", "C", "a", "0"), Element("rf", "R", "out", "m"),
+                            Element("rg", "R", "m", "0")), drive="in", output="out",
+                  opamps=(OpAmp("u1", plus="a", minus="m", out="out"),))
+    return net, {"rin": np.array([1e3]), "r": np.array([1e3]), "c": np.array([1e-7]),
+                 "rf": np.array([2e3]), "rg": np.array([1e3])}
+
+
+@pytest.mark.parametrize("seed", [-3, -2, -1] + list(range(10)))
 def test_march_of_the_dynamic_states_equals_the_full_march(seed):
     rng = np.random.default_rng(100 + seed)
-    single = {-1: _single_rc, -2: _single_hp}
+    single = {-1: _single_rc, -2: _single_hp, -3: _growing_rc}
     net, vals = single[seed]() if seed < 0 else _random_network(rng, int(rng.integers(2, 6)))
     vals = _spread(vals, 5, rng)
     poles = polemod.poles(net, vals)
+    assert polemod.unstable(poles).all() == (seed == -3)
     slow = np.nanmin(np.abs(poles.real[np.isfinite(poles)]))
     t = np.linspace(0.0, 12.0 / slow, 301)
     probes = _probes(net)
