@@ -4,9 +4,10 @@ rcdoc.analysis.transient marches only the states that carry charge or flux
 and forms each probe from them with regrouped weights (A = w·M[:, D],
 a0 = w·k0, a1 = w·k1). That is the same algebra as stepping every state,
 x[n+1] = M·x[n] + k0·u[n] + k1·u[n+1], and reading y = w·x: both must agree
-to rounding (relative to each probe's own size) on random networks, for
-shared and per-sample inputs, both input modes, from rest and from the DC
-point, with and without on-the-fly reductions (common practice: two
+to rounding (relative to each probe's own size) on random networks, on
+single-state networks (the output marched in place) and on an unstable one,
+for shared and per-sample inputs, both input modes, from rest and from the
+DC point, with and without on-the-fly reductions (common practice: two
 formulations of one recurrence agree). Outside references for the march as a
 whole: scipy.signal.lsim on the same transfer function for a Q of 0.5 and 300
 and for values decades apart, and the textbook step response of a repeated
