@@ -18,7 +18,7 @@ import numpy as np
 import pytest
 
 from rcdoc.analysis import engine
-from rcdoc.analysis import evaluate as evmod
+from rcdoc.analysis import timesearch as ts
 from rcdoc.analysis.network import Element, Network
 from rcdoc.analysis.transient import Reduce
 
@@ -35,22 +35,35 @@ def ladder_values(n: int) -> dict[str, np.ndarray]:
             "r2": 2e3 * rng.uniform(0.9, 1.1, n), "c2": 5e-8 * rng.uniform(0.8, 1.2, n)}
 
 
+def single_rc() -> Network:
+    """One capacitor behind a source resistance: a single marched state (the march's
+    shortcut for the extremes of probes affine in it)."""
+    return Network(elements=(Element("rs", "R", "src", "in"), Element("r1", "R", "in", "out"),
+                             Element("c1", "C", "out", "0")), drive="src", output="out")
+
+
+def single_rc_values(n: int) -> dict[str, np.ndarray]:
+    rng = np.random.default_rng(4)
+    return {"rs": np.full(n, 50.0), "r1": 1e3 * rng.uniform(0.9, 1.1, n),
+            "c1": 1e-7 * rng.uniform(0.8, 1.2, n)}
+
+
+@pytest.mark.parametrize("single", [False, True])
 @pytest.mark.parametrize("periodic", [False, True])
-def test_reduced_probe_equals_numpy_reductions_of_the_full_recording(periodic):
+def test_reduced_probe_equals_numpy_reductions_of_the_full_recording(periodic, single):
     n, T = 7, 700                           # T spans several runs of the march, not a whole one
     t = np.linspace(0.0, 2e-3, T, endpoint=not periodic)
     u = np.where(t < 0.6e-3, 5.0, 0.0)
     red = Reduce(windows=((1, 300), (300, T), (5, 5)), at=(0, 1, 2, 3, 299, T - 1))
     names = ["out", "v:r1", "v:c1"]
+    net, vals = (single_rc(), single_rc_values(n)) if single else (ladder(), ladder_values(n))
     if periodic:
-        full = engine.periodic_steady_state(ladder(), ladder_values(n), t, u, names,
-                                            input_mode="hold")
-        part = engine.periodic_steady_state(ladder(), ladder_values(n), t, u, names,
+        full = engine.periodic_steady_state(net, vals, t, u, names, input_mode="hold")
+        part = engine.periodic_steady_state(net, vals, t, u, names,
                                             input_mode="hold", reduce={"v:r1": red, "v:c1": red})
     else:
-        full = engine.transient(ladder(), ladder_values(n), t, u, names, initial="rest",
-                                input_mode="hold")
-        part = engine.transient(ladder(), ladder_values(n), t, u, names, initial="rest",
+        full = engine.transient(net, vals, t, u, names, initial="rest", input_mode="hold")
+        part = engine.transient(net, vals, t, u, names, initial="rest",
                                 input_mode="hold", reduce={"v:r1": red, "v:c1": red})
     np.testing.assert_array_equal(part["out"], full["out"])       # recorded in full, unchanged
     for name in ("v:r1", "v:c1"):
@@ -89,15 +102,42 @@ def test_block_search_of_the_last_exit_equals_the_whole_array_search():
     y = 1.0 - np.exp(-t[None, :] / tau[:, None])
     y[4] = np.nan                           # a missing response
     y[5] = 1.0                              # never leaves the band
+    y[7, 300:310] = np.nan                  # gaps in a block that leaves the band (the
+    y[7, 305] = 1.5                         # blocks' extremes ignore NaN, as the comparisons do)
+    y[3] = 1.0 - np.exp(-t / 2.0) * np.cos(9.0 * t)     # ringing: leaves and re-enters
     fin = np.ones(len(tau))
     fin[6] = 0.0                            # a zero final value and scale
     scale = np.abs(fin)
     for band in (1e-2, 2.0 ** -13):
         with np.errstate(divide="ignore", invalid="ignore"):
-            last, never = evmod._last_outside(y, fin, scale, band)
+            last, never = ts._last_outside(y, fin, scale, band)
             ref_last, ref_never = _last_outside_full(y, fin, scale, band)
         np.testing.assert_array_equal(last, ref_last)
         np.testing.assert_array_equal(never, ref_never)
+
+
+def test_block_search_of_the_first_crossing_equals_the_whole_array_search():
+    # The whole-array search (numpy argmax on the full comparison y / fin >= level).
+    T = 1000
+    t = np.linspace(0.0, 10.0, T)
+    tau = np.array([0.5, 1.0, 3.0, 1.0, 1.0, 0.2, 1.0, 1.0])
+    y = 1.0 - np.exp(-t[None, :] / tau[:, None])
+    y[1] = 1.0 - np.exp(-t / 2.0) * np.cos(9.0 * t)     # ringing: overshoots, comes back
+    y[2, 140:150] = np.nan                  # gaps in the block that first reaches the level
+    y[3] *= -2.0                            # a negative final value
+    y[4] = 0.0                              # never rises
+    y[6, 0] = np.nan                        # a missing response
+    fin = np.ones(len(tau))
+    fin[3] = -2.0
+    fin[5] = 0.0                            # a zero final value: y / 0 is inf, level reached
+    fin[7] = np.nan
+    for level in (0.1, 0.5, 0.9, 1.2):
+        with np.errstate(divide="ignore", invalid="ignore"):
+            reach = y / fin[:, None] >= level
+            need = np.isfinite(fin) & np.isfinite(y[:, 0])
+            got = ts._first_reaching(y, fin, level, need, ts.block_extremes(y))
+        ref = np.where(reach.any(axis=1), np.argmax(reach, axis=1), -1)
+        np.testing.assert_array_equal(got[need], ref[need])
 
 
 def test_block_search_of_the_first_crossing_gives_rc_ln9_rise_time():
@@ -106,8 +146,8 @@ def test_block_search_of_the_first_crossing_gives_rc_ln9_rise_time():
     t = np.linspace(0.0, 24.0 * 3.0, 20001)
     y = 2.5 * (1.0 - np.exp(-t[None, :] / rc[:, None]))
     fin = np.full(3, 2.5)
-    rise = evmod._cross_time(y, fin, t, 0.9) - evmod._cross_time(y, fin, t, 0.1)
+    rise = ts._cross_time(y, fin, t, 0.9) - ts._cross_time(y, fin, t, 0.1)
     np.testing.assert_allclose(rise, rc * math.log(9.0), rtol=1e-5)
     # A level never reached has no crossing.
-    assert np.isnan(evmod._cross_time(y, fin, t, 1.5)).all()
+    assert np.isnan(ts._cross_time(y, fin, t, 1.5)).all()
 

@@ -19,6 +19,7 @@ from rcdoc.analysis import poles as polemod
 from rcdoc.analysis.noise import integration_grid, resonant_columns
 from rcdoc.analysis.response import Response
 from rcdoc.analysis.stresses import PartStresses
+from rcdoc.analysis.timesearch import _cross_time, _last_outside, block_extremes
 from rcdoc.input.model import Check, Stage
 from rcdoc.analysis.network import Network
 
@@ -392,6 +393,12 @@ class Evaluator(PartStresses):
         return self.step_probes[self.network.output]
 
     @cached_property
+    def step_extremes(self) -> tuple[np.ndarray, np.ndarray]:
+        """The step's largest and smallest values per block of instants (block_extremes),
+        shared by the rise-time and settling searches."""
+        return block_extremes(self.step)
+
+    @cached_property
     def final_value(self) -> np.ndarray:
         amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
         return np.real(self.h_rows(np.zeros(self.rows))) * amp \
@@ -400,7 +407,8 @@ class Evaluator(PartStresses):
 
     def rise_time(self) -> np.ndarray:
         y, t, fin = self.step, self.time_s, self.final_value
-        return _cross_time(y, fin, t, 0.9) - _cross_time(y, fin, t, 0.1)
+        ext = self.step_extremes
+        return _cross_time(y, fin, t, 0.9, ext) - _cross_time(y, fin, t, 0.1, ext)
 
     def settling(self, within: float | None = None, bits: int | None = None,
                  full_scale: float | None = None) -> np.ndarray:
@@ -417,7 +425,7 @@ class Evaluator(PartStresses):
             scale = np.full(self.rows, float(full_scale))
         scale = np.broadcast_to(scale, (self.rows,))
 
-        last, never = _last_outside(y, fin, scale, band)
+        last, never = _last_outside(y, fin, scale, band, self.step_extremes)
         rows, T = np.arange(self.rows), len(t)
         nxt = np.minimum(last + 1, T - 1)
         # |y − fin| / scale, as _last_outside computes it
@@ -523,73 +531,3 @@ def _unwrapped_last(p: np.ndarray) -> np.ndarray:
     correct = ddmod - dd
     correct[np.abs(dd) < np.pi] = 0.0
     return p[:, -1] + np.sum(correct, axis=1)
-
-
-CROSS_BLOCK = 128    # time columns per block of the crossing searches (stay in cache)
-
-
-def _scan(pred, rows: int, steps: int, need: np.ndarray, backward: bool) -> np.ndarray:
-    """Per row the first (or, ``backward``, the last) column where pred(lo, hi), a
-    (rows × (hi − lo)) bool block, holds; −1 where none. Block by block, stopping
-    once every ``need`` row has one: a crossing near its end of the window costs
-    a few blocks, not a pass over the whole (rows × T) response."""
-    found = np.full(rows, -1)
-    starts = list(range(0, steps, CROSS_BLOCK))
-    r = np.arange(rows)
-    for lo in (starts[::-1] if backward else starts):
-        hi = min(lo + CROSS_BLOCK, steps)
-        b = pred(lo, hi)
-        j = hi - 1 - np.argmax(b[:, ::-1], axis=1) if backward else lo + np.argmax(b, axis=1)
-        hit = (found < 0) & b[r, j - lo]
-        found[hit] = j[hit]
-        if np.all(found[need] >= 0):
-            break
-    return found
-
-
-def _last_outside(y: np.ndarray, fin: np.ndarray, scale: np.ndarray, band: float):
-    """(last index where err = |y − fin| / scale > band, or T − 1 if none; rows that
-    never left the band).
-
-    Rows with finite values and a finite, nonzero scale (all, normally) are scanned
-    backwards in blocks; the others over the whole window as err's NaN says: a
-    missing response never settled."""
-    rows, T = y.shape
-    plain = np.isfinite(fin) & np.isfinite(scale) & (scale != 0) & np.isfinite(y[:, 0])
-    # One block buffer, laid out as the blocks are (time-major underneath); the
-    # same three operations as in full: |y − fin|, then / scale, then > band.
-    buf = np.empty((min(CROSS_BLOCK, T), rows)).T
-    fin_c, scale_c = fin[:, None], scale[:, None]
-
-    def outside(lo, hi):
-        e = buf[:, :hi - lo]
-        np.subtract(y[:, lo:hi], fin_c, out=e)
-        np.abs(e, out=e)
-        np.divide(e, scale_c, out=e)
-        return e > band
-
-    found = _scan(outside, rows, T, plain, backward=True)
-    last = np.where(found >= 0, found, T - 1)
-    never = plain & (found < 0)
-    odd = np.flatnonzero(~plain)
-    if odd.size:
-        e = np.abs(y[odd] - fin[odd, None]) / scale[odd, None]
-        outside = e > band
-        last[odd] = T - 1 - np.argmax(outside[:, ::-1], axis=1)
-        never[odd] = ~outside.any(axis=1) & ~np.isnan(e).any(axis=1)
-    return last, never
-
-
-def _cross_time(y: np.ndarray, fin: np.ndarray, t: np.ndarray, level: float) -> np.ndarray:
-    """First time each row's y / fin reaches ``level`` (linear interpolation between
-    samples); searched block by block from the start (see _scan)."""
-    rows = np.arange(y.shape[0])
-    first = _scan(lambda lo, hi: y[:, lo:hi] / fin[:, None] >= level, len(rows), len(t),
-                  np.isfinite(fin) & np.isfinite(y[:, 0]), backward=False)
-    j = np.maximum(first, 0)
-    ok = (first >= 0) & (j > 0)
-    j0 = np.maximum(j - 1, 0)
-    y0, y1 = y[rows, j0] / fin, y[rows, j] / fin
-    with np.errstate(divide="ignore", invalid="ignore"):
-        frac = np.where(y1 != y0, (level - y0) / (y1 - y0), 0.0)
-    return np.where(ok, t[j0] + frac * (t[j] - t[j0]), np.nan)

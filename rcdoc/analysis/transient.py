@@ -21,6 +21,7 @@ import numpy as np
 from rcdoc.errors import ProjectError
 from rcdoc.analysis.assembly import _SINGULAR_RCOND, System, _element_values, _rcond, assemble
 from rcdoc.analysis.network import Network
+from rcdoc.analysis.recording import _RUN, Reduce, _Recorder
 from rcdoc.analysis.treecoords import driven_system
 
 __all__ = ["INPUT_MODES", "Reduce", "transient", "step", "periodic_steady_state"]
@@ -147,145 +148,76 @@ def _march(
 ) -> np.ndarray:
     """Run x <- M·x + k0·u0[:, n] + k1·u1[:, n] for every column n of u0; return the final x (s, N).
 
-    With ``sink`` given, the states before each step are handed to it in runs:
-    sink(n0, states) with states (m, N, s) holding x at steps n0 .. n0+m−1.
-    The loop runs over time only; each step is batched over the samples,
-    which sit on the last, contiguous axis: numpy's small matrix products
-    run several times faster that way than with samples first. Each state is
-    written once, into the run's buffer (no copies).
+    Only the states that carry charge or flux (the columns D of M with a
+    nonzero; for one capacitor, one state of three) enter the next step, so
+    only they are marched, z <- M[D, D]·z + forcing; the other states are
+    M[:, D]·z plus input terms and are formed only at the end. With ``sink``
+    given, sink.bind(D, M[:, D], k0, k1, u0, u1) (sample-last layouts) comes
+    first, then sink(n0, zs) per run: zs (m+1, d, s) holds z at steps n0 .. n0+m.
+    The loop runs over time only; each step is batched over the samples, which
+    sit on the last, contiguous axis (numpy's small products run several times
+    faster that way than with samples first).
     """
+    steps = u0.shape[1]
+    if steps == 0:
+        return x
     Mt = np.ascontiguousarray(np.moveaxis(M, 0, -1))  # (N, N, s)
     k0t, k1t = np.ascontiguousarray(k0.T), np.ascontiguousarray(k1.T)  # (N, s)
-    steps = u0.shape[1]
     u0T, u1T = np.ascontiguousarray(u0.T), np.ascontiguousarray(u1.T)  # (T, s or 1)
-    shared = u0T.shape[1] == 1      # one input for all samples: its terms are reused
+    dyn = [j for j in range(Mt.shape[1]) if np.any(Mt[:, j, :] != 0)] or [0]
+    mcols = np.ascontiguousarray(Mt[:, dyn, :])                       # (N, d, s)
+    md = [np.ascontiguousarray(mcols[dyn, i, :]) for i in range(len(dyn))]  # (d, s) each
+    kd0, kd1 = k0t[dyn], k1t[dyn]
+    if sink is not None:
+        sink.bind(dyn, mcols, k0t, k1t, u0T, u1T)
     run = _RUN if sink is not None else 1
-    buf = np.empty((run + 1,) + k0t.shape)
-    buf[0] = x.T
-    # Only the states that carry charge or flux (columns of M with a nonzero) enter
-    # the next step; where they are few (a single capacitor: one of three), the
-    # product is taken over them alone: the same nonzero terms in the same order.
-    cols = [j for j in range(Mt.shape[1]) if np.any(Mt[:, j, :] != 0)]
-    sparse = 0 < len(cols) <= Mt.shape[1] // 2
-    mcols = [(j, np.ascontiguousarray(Mt[:, j, :])) for j in cols] if sparse else []
-    last, f0, f1 = None, None, None
+    buf = np.empty((run + 1, len(dyn), k0t.shape[1]))
+    home = getattr(sink, "home", None)
+    forcing = _Forcing(kd0, kd1, u0T, u1T)
+    z, prev = x.T[dyn], None
     for n0 in range(0, steps, run):
         m = min(run, steps - n0)
+        b = home(n0, m) if home is not None else None
+        b = buf if b is None else b         # a recorded probe's own rows, or a buffer
+        b[0] = z
         for l in range(m):
-            n = n0 + l
-            if not shared:
-                f0, f1 = k0t * u0T[n], k1t * u1T[n]
-            elif (u0T[n, 0], u1T[n, 0]) != last:    # a step or PWM input changes rarely
-                last = (u0T[n, 0], u1T[n, 0])
-                f0, f1 = k0t * u0T[n], k1t * u1T[n]
-            nxt, cur = buf[l + 1], buf[l]
-            if sparse:
-                np.multiply(mcols[0][1], cur[mcols[0][0]], out=nxt)
-                for j, mj in mcols[1:]:
-                    nxt += mj * cur[j]
-            else:
-                np.einsum("ijs,js->is", Mt, cur, out=nxt)
-            nxt += f0
-            nxt += f1
-        if sink is not None and m:
-            sink(n0, buf[:m])
-        buf[0] = buf[m]
-    return np.ascontiguousarray(buf[0].T)
+            nxt, cur = b[l + 1], b[l]
+            np.multiply(md[0], cur[0], out=nxt)
+            for i in range(1, len(md)):
+                nxt += md[i] * cur[i]
+            forcing.add(nxt, n0 + l)
+        if sink is not None:
+            sink(n0, b[:m + 1])
+        if n0 + m == steps:
+            prev = b[m - 1].copy()
+        z = b[m]
+    # The final state in full: the other states from the last step's dynamic ones.
+    full = np.einsum("kjs,js->ks", mcols, prev) + k0t * u0T[-1] + k1t * u1T[-1]
+    full[dyn] = z
+    return np.ascontiguousarray(full.T)
 
 
-@dataclass(frozen=True)
-class Reduce:
-    """What is kept of a probe that is not recorded step by step.
+class _Forcing:
+    """The input terms of the marched states at each step: k0·u0[n] + k1·u1[n]. One
+    input for all samples (a step, a PWM wave) changes rarely: its two terms are
+    then added as one, computed where the input changes."""
 
-    Kept, per sample, as the columns of one (S, width) array: the largest
-    |y| over the whole grid; for each index window [lo, hi) the sum and the
-    largest of y²; the values at the ``at`` indices (non-negative). Memory
-    then grows with neither the grid nor the number of such probes beyond
-    these few columns.
-    """
+    def __init__(self, kd0, kd1, u0T, u1T):
+        self.kd0, self.kd1, self.u0T, self.u1T = kd0, kd1, u0T, u1T
+        self.shared = u0T.shape[1] == 1
+        if self.shared:
+            pair = np.concatenate([u0T, u1T], axis=1)
+            new = np.flatnonzero(np.r_[True, np.any(pair[1:] != pair[:-1], axis=1)])
+            self.at = {int(n): kd0 * u0T[n] + kd1 * u1T[n] for n in new}
+            self.g = None
 
-    windows: tuple[tuple[int, int], ...] = ()
-    at: tuple[int, ...] = ()
-
-    @property
-    def width(self) -> int:
-        return 1 + 2 * len(self.windows) + len(self.at)
-
-    def absmax(self, a: np.ndarray) -> np.ndarray:
-        return a[:, 0]
-
-    def sumsq(self, a: np.ndarray, window: tuple[int, int]) -> np.ndarray:
-        return a[:, 1 + self.windows.index(window)]
-
-    def maxsq(self, a: np.ndarray, window: tuple[int, int]) -> np.ndarray:
-        return a[:, 1 + len(self.windows) + self.windows.index(window)]
-
-    def value(self, a: np.ndarray, index: int) -> np.ndarray:
-        return a[:, 1 + 2 * len(self.windows) + self.at.index(index)]
-
-    def fold(self, a: np.ndarray, n0: int, y: np.ndarray) -> None:
-        """Fold the values y (m, s), time-major, at steps n0 .. n0+m−1 into the
-        columns a (s, width). Time-major: each reduction runs down contiguous rows
-        of samples (several times faster than along a strided time axis)."""
-        m = y.shape[0]
-        # max |y| = max(max y, −min y), without a temporary; NaN stays NaN
-        a[:, 0] = np.maximum(a[:, 0], np.maximum(np.max(y, axis=0), -np.min(y, axis=0)))
-        nw = len(self.windows)
-        for k, (lo, hi) in enumerate(self.windows):
-            lo, hi = max(lo, n0), min(hi, n0 + m)
-            if lo < hi:
-                y2 = np.square(y[lo - n0:hi - n0])
-                a[:, 1 + k] += y2.sum(axis=0)
-                a[:, 1 + nw + k] = np.maximum(a[:, 1 + nw + k], y2.max(axis=0))
-        for k, i in enumerate(self.at):
-            if n0 <= i < n0 + m:
-                a[:, 1 + 2 * nw + k] = y[i - n0]
-
-
-_RUN = 64  # steps per run handed to a sink: its states stay in cache
-
-
-class _Recorder:
-    """Turns runs of states into probes: full rows for the recorded probes, running
-    reductions for the others (``Reduce``), for one block of samples."""
-
-    def __init__(self, spec: "_Probes", reduce: Mapping[str, Reduce], out: dict, ss: slice):
-        w = spec.weights[ss]
-        self.items = [(name, _terms(w[:, p, :]), reduce.get(name))
-                      for p, name in enumerate(spec.names)]
-        self.out, self.ss = out, ss
-
-    def __call__(self, n0: int, states: np.ndarray) -> None:
-        m = states.shape[0]
-        for name, terms, red in self.items:
-            y = _combine(terms, states)         # (m, s)
-            if red is None:             # time-major: a run is one contiguous block
-                self.out[name][n0:n0 + m, self.ss] = y
-            else:
-                red.fold(self.out[name][self.ss], n0, y)
-
-
-def _terms(w: np.ndarray) -> list[tuple[int, np.ndarray | None]]:
-    """A probe's weights (s, N) as its nonzero columns: (j, weights or None for all 1)."""
-    out = []
-    for j in range(w.shape[1]):
-        col = w[:, j]
-        if np.any(col != 0):
-            out.append((j, None if np.all(col == 1.0) else np.ascontiguousarray(col)))
-    return out
-
-
-def _combine(terms, states: np.ndarray) -> np.ndarray:
-    """Σ_j w_j·x_j over a run of states (m, N, s) -> (m, s): the probe's weights
-    times the states, skipping the zero weights and the unit multiplications
-    (the same sums in the same order, so the same numbers)."""
-    if not terms:
-        return np.zeros((states.shape[0], states.shape[2]))
-    y = None
-    for j, c in terms:
-        t = states[:, j, :] if c is None else states[:, j, :] * c
-        y = t if y is None else y + t       # never in place: t may be a view of the states
-    return y
+    def add(self, nxt: np.ndarray, n: int) -> None:
+        if self.shared:
+            self.g = self.at.get(n, self.g)
+            nxt += self.g
+        else:
+            nxt += self.kd0 * self.u0T[n]
+            nxt += self.kd1 * self.u1T[n]
 
 
 def _allocate(spec: "_Probes", reduce: Mapping[str, Reduce], samples: int, steps: int) -> dict:
@@ -440,9 +372,9 @@ def transient(
                 x = np.zeros(G.shape[:2])
             if not np.all(np.isfinite(x)):
                 x = np.zeros(G.shape[:2])
-        sink = _Recorder(spec, reduce, out, ss)
-        x = _march(M, k0, k1, x, uc[:, :-1], uc[:, 1:], sink)
-        sink(steps - 1, np.ascontiguousarray(x.T)[None])
+        sink = _Recorder(spec, reduce, out, ss, steps)
+        sink.initial(x)
+        _march(M, k0, k1, x, uc[:, :-1], uc[:, 1:], sink)
     return _results(spec, out, reduce, h, periodic=False)
 
 
@@ -520,5 +452,7 @@ def periodic_steady_state(
         c = np.max(np.abs(A), axis=-2, keepdims=True)
         c = np.where(c > 0, c, 1.0)
         x = _matvec(np.linalg.pinv(A / c, rtol=1e-10), rhs) / c[:, 0, :]
-        _march(M, k0, k1, x, uc, u1, _Recorder(spec, reduce, out, ss))
+        sink = _Recorder(spec, reduce, out, ss, steps)
+        sink.initial(x)
+        _march(M, k0, k1, x, uc, u1, sink)
     return _results(spec, out, reduce, h, periodic=True)
