@@ -16,6 +16,8 @@ import numpy as np
 
 from rcdoc.analysis import engine
 from rcdoc.analysis import poles as polemod
+from rcdoc.analysis import sweep_math
+from rcdoc.analysis.sweep_math import db
 from rcdoc.analysis.noise import integration_grid, resonant_columns
 from rcdoc.analysis.response import Response
 from rcdoc.analysis.stresses import PartStresses
@@ -29,24 +31,6 @@ PEAK_ITERATIONS = 30                 # golden-section steps: bracket shrinks by 
 TIME_POINTS = 4000                   # step-response grid
 TIME_CONSTANTS = 24.0                # step window in slowest nominal time constants
 PWM_POINTS = 1000                    # points over one PWM period
-
-
-def db(h: np.ndarray) -> np.ndarray:
-    """20·log10|h|, as 10·log10(re² + im²): a third cheaper than the complex modulus.
-
-    The squares leave the double range below 1e-154 or above 1e154; those
-    entries (none in a physical filter's sweep) take the modulus instead.
-    """
-    h = np.asarray(h)
-    if not np.iscomplexobj(h):
-        with np.errstate(divide="ignore"):
-            return 20 * np.log10(np.abs(h))
-    with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"):
-        out = 10 * np.log10(h.real * h.real + h.imag * h.imag)
-        bad = ~np.isfinite(out)
-        if bad.any():
-            out[bad] = 20 * np.log10(np.abs(h[bad]))
-    return out
 
 
 def sweep_for(stage_char_hz: float, analysis) -> np.ndarray:
@@ -109,6 +93,21 @@ class Evaluator(PartStresses):
     @cached_property
     def gain_db(self) -> np.ndarray:
         return db(self.h)
+
+    def phase_wraps(self, from_high: bool = False):
+        """(phase, rows, K): the principal phase along the sweep (from its high end
+        if ``from_high``) and np.unwrap's corrections (sweep_math.unwrap_corrections),
+        computed once per chunk for the band and every mark."""
+        key = "_wraps_high" if from_high else "_wraps_low"
+        if key not in self.__dict__:
+            p = self.phase_rad[:, ::-1] if from_high else self.phase_rad
+            self.__dict__[key] = (p, *sweep_math.unwrap_corrections(p))
+        return self.__dict__[key]
+
+    @cached_property
+    def phase_unwrapped(self) -> np.ndarray:
+        """np.unwrap of the sweep's phase along frequency (radians), from the low end."""
+        return sweep_math.unwrapped(*self.phase_wraps())
 
     def h_rows(self, f_hz: np.ndarray) -> np.ndarray:
         """H at one frequency per row (rows may differ): solve (G + sC) x = b row by row at once."""
@@ -500,29 +499,20 @@ def _unwrapped_phase(ev: Evaluator, at_hz: float) -> np.ndarray:
     The sweep's points up to the mark (from the low end for a low-pass or
     band-pass, from the high end for a high-pass) are unwrapped, the mark's
     value is joined to its nearest swept neighbour, and the whole is shifted
-    by whole turns so that the passband end reads within ±180°.
+    by whole turns so that the passband end reads within ±180°: the last value
+    of np.unwrap over those points and the mark, from the chunk's corrections
+    (sweep_math.unwrapped_at; the sweep rises, so the points are a prefix).
     """
     f = ev.freqs_hz
     ph_mark = np.angle(ev.h_at(at_hz))
-    if ev.passband == "high":
-        seq = ev.phase_rad[:, f >= at_hz][:, ::-1]
-    else:
-        seq = ev.phase_rad[:, f <= at_hz]
-    if seq.shape[1] == 0:
+    high = ev.passband == "high"
+    n = int(np.count_nonzero(f >= at_hz if high else f <= at_hz))
+    if n == 0:
         return np.degrees(ph_mark)
-    return np.degrees(_unwrapped_last(np.concatenate([seq, ph_mark[:, None]], axis=1)))
-
-
-def _unwrapped_last(p: np.ndarray) -> np.ndarray:
-    """The last column of np.unwrap(p, axis=1), without the unwrapped array:
-    the same corrections (numpy's rule, steps of 2π where a step exceeds π)
-    summed instead of accumulated."""
-    dd = np.diff(p, axis=1)
-    ddmod = np.mod(dd + np.pi, 2 * np.pi) - np.pi
-    ddmod[(ddmod == -np.pi) & (dd > 0)] = np.pi
-    correct = ddmod - dd
-    correct[np.abs(dd) < np.pi] = 0.0
-    return p[:, -1] + np.sum(correct, axis=1)
+    p, rows, k = ev.phase_wraps(high)
+    k_before = np.zeros(ev.rows)
+    k_before[rows] = k[:, n - 1]
+    return np.degrees(sweep_math.unwrapped_at(ph_mark, p[:, n - 1], k_before))
 
 
 CROSS_BLOCK = 128    # time columns per block of the crossing searches (stay in cache)

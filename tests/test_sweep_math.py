@@ -1,0 +1,129 @@
+"""The cheaper arithmetic of rcdoc.analysis.sweep_math and spread.column_percentiles
+against the methods they replace and general-purpose libraries.
+
+Sources: numpy.unwrap and numpy.percentile (the methods replaced, general-purpose
+library functions); scipy.signal.freqs (a polynomial transfer function evaluated
+on jω) and scipy.optimize.brentq (the -3 dB crossing found by root bracketing);
+the first-order low-pass corner 1/(2πRC) (any circuits textbook).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+import scipy.optimize as so
+import scipy.signal as sg
+
+from rcdoc.analysis import sweep_math
+from rcdoc.analysis.analyse import passband_of
+from rcdoc.analysis.evaluate import Evaluator, sweep_for
+from rcdoc.analysis.spread import build_batch, column_percentiles
+from rcdoc.kinds import kind_of, load_project
+
+HEAD = '[board]\nname = "Sweep math"\nrevision = "A"\ndate = "2026-01-01"\n'
+
+
+def _phases(rng, rows, cols, step):
+    """Principal phases of random walks: steps of every size, wraps in both directions."""
+    return np.angle(np.exp(1j * np.cumsum(rng.normal(0, step, (rows, cols)), axis=1)))
+
+
+@pytest.mark.parametrize("step", [0.05, 1.0, 2.5])
+def test_unwrap_corrections_are_numpys_unwrap_bit_for_bit(step):
+    rng = np.random.default_rng(7)
+    p = _phases(rng, 300, 60, step)
+    p[0] = 0.0                                       # a row that never wraps
+    p[1, 0] = -0.0                                   # numpy keeps the first value as it is
+    p[2, :3] = [3.0, 3.0 - math.pi, 3.0]             # steps of exactly π: numpy's boundary rule
+    rows, k = sweep_math.unwrap_corrections(p)
+    ref = np.unwrap(p, axis=1)                       # numpy.unwrap
+    got = sweep_math.unwrapped(p, rows, k)
+    assert np.array_equal(got, ref)
+    assert np.array_equal(np.signbit(got), np.signbit(ref))
+    assert 0 not in rows and (rows.size > 0 or step < 1)
+
+
+def test_unwrapped_at_is_the_last_value_of_numpys_unwrap():
+    rng = np.random.default_rng(1)
+    for _ in range(30):
+        p = _phases(rng, 40, 31, 1.5)
+        seq, last = p[:, :-1], p[:, -1]
+        rows, k = sweep_math.unwrap_corrections(seq)
+        k_before = np.zeros(len(p))
+        k_before[rows] = k[:, -1]
+        got = sweep_math.unwrapped_at(last, seq[:, -1], k_before)
+        assert np.array_equal(got, np.unwrap(p, axis=1)[:, -1])      # numpy.unwrap
+
+
+@pytest.mark.parametrize("n", [1, 5, 63, 64, 65, 999, 5000, 20001])
+@pytest.mark.parametrize("dtype", [np.float32, np.float64])
+def test_column_percentiles_are_numpys(n, dtype):
+    rng = np.random.default_rng(n)
+    a = (rng.standard_normal((n, 37)) * 3 - 20).astype(dtype)
+    a[:, 3] = 1.5                                    # a constant column
+    a[::4, 5] = 2.0                                  # many ties
+    a[:, 6] *= 1e-30                                 # values decades apart from the rest
+    for q in [(5.0, 95.0), (0.0, 100.0), (50.0,), (12.5, 87.5)]:
+        ref = np.percentile(a, q, axis=0)            # numpy.percentile, linear method
+        got = column_percentiles(a, q)
+        assert got.dtype == ref.dtype and np.array_equal(got, ref)
+    a[n // 2, 9] = np.nan                            # a sample without a value: numpy's NaN
+    ref = np.percentile(a, (5.0, 95.0), axis=0)
+    assert np.array_equal(column_percentiles(a, (5.0, 95.0)), ref, equal_nan=True)
+
+
+STAGES = {
+    "sallen-key-lowpass": 'parts.r1 = { value = "11k", tolerance = "5%" }\n'
+                          'parts.r2 = { value = "11k", tolerance = "5%" }\n'
+                          'parts.c1 = { value = "CAP", tolerance = "10%", dielectric = "C0G" }\n'
+                          'parts.c2 = { value = "10 nF", tolerance = "10%", dielectric = "C0G" }\n',
+    "rc-highpass": 'parts.r = { value = "4k7", tolerance = "1%" }\n'
+                   'parts.c = { value = "CAP", tolerance = "5%", dielectric = "C0G" }\n',
+    "rc-lowpass": 'parts.r = { value = "4k7", tolerance = "1%" }\n'
+                  'parts.c = { value = "CAP", tolerance = "5%", dielectric = "C0G" }\n',
+}
+
+
+def evaluator(tmp_path, kind, cap, samples=300):
+    text = HEAD + f"\n[analysis]\nsamples = {samples}\nseed = 4\n\n[[stage]]\nid = \"s\"\n" \
+        f'title = "S"\nkind = "{kind}"\n' + STAGES[kind].replace("CAP", cap)
+    path = tmp_path / "board.toml"
+    path.write_text(text, encoding="utf-8")
+    project = load_project(str(path))
+    stage = project.stages[0]
+    k = kind_of(stage)
+    batch = build_batch(stage, project.analysis)
+    values = {n: np.ascontiguousarray(v[batch.mc]) for n, v in batch.values.items()}
+    char = k.characteristic_hz(stage)
+    return Evaluator(stage, k.build(stage), values, sweep_for(char, project.analysis),
+                     passband_of(stage, k), char), values
+
+
+def old_phase(ev, at_hz):
+    """The method replaced: np.unwrap over the swept points up to the mark and the mark."""
+    f = ev.freqs_hz
+    mark = np.angle(ev.h_at(at_hz))
+    seq = ev.phase_rad[:, f >= at_hz][:, ::-1] if ev.passband == "high" \
+        else ev.phase_rad[:, f <= at_hz]
+    if seq.shape[1] == 0:
+        return np.degrees(mark)
+    return np.degrees(np.unwrap(np.concatenate([seq, mark[:, None]], axis=1), axis=1)[:, -1])
+
+
+# Unity-gain Sallen-Key with R1 = R2: Q = √(C1/C2)/2 (the standard result): 0.71 with
+# C1 = 2·C2, 6.7 with C1 = 180·C2, 300 with C1 = 360 000·C2, 0.5 (repeated poles) with C1 = C2.
+@pytest.mark.parametrize("kind,cap", [("sallen-key-lowpass", "20 nF"),
+                                      ("sallen-key-lowpass", "1.8 uF"),
+                                      ("sallen-key-lowpass", "10 nF"),
+                                      ("sallen-key-lowpass", "3600 uF"),
+                                      ("rc-highpass", "10 nF"), ("rc-lowpass", "10 nF")])
+def test_phase_at_marks_is_the_unwrap_it_replaces(tmp_path, kind, cap):
+    ev, _ = evaluator(tmp_path, kind, cap)
+    f = ev.freqs_hz
+    marks = [f[0] / 3, f[0], f[5] * 1.01, f[150], f[150] * 1.013, f[-1], f[-1] * 2]
+    for at in marks:
+        assert np.array_equal(ev.phase(at), old_phase(ev, at)), at
+    # The band's unwrapped phase is numpy's unwrap of the whole sweep.
+    assert np.array_equal(ev.phase_unwrapped, np.unwrap(ev.phase_rad, axis=1))
