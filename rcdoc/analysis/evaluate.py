@@ -168,14 +168,18 @@ class Evaluator(PartStresses):
             ok = below[rows, j] & (j < len(f) - 1)
             lo, hi = f[j], f[np.minimum(j + 1, len(f) - 1)]
         lo, hi = lo.astype(float), hi.astype(float)
+        fc = sweep_math.confirmed_crossing(self.response, thr, lo, hi, side == "up")
+        todo = np.flatnonzero(ok & np.isnan(fc))          # the rows it does not serve
+        lo, hi, t = lo[todo], hi[todo], thr[todo]
         for _ in range(CORNER_ITERATIONS):
             mid = np.sqrt(lo * hi)
-            under = db(self.response.at_rows(mid)) < thr
+            under = db(self.response.at_rows(mid, todo)) < t
             if side == "up":
                 hi, lo = np.where(under, mid, hi), np.where(under, lo, mid)
             else:
                 lo, hi = np.where(under, mid, lo), np.where(under, hi, mid)
-        return np.where(ok, np.sqrt(lo * hi), np.nan)
+        fc[todo] = np.sqrt(lo * hi)
+        return np.where(ok, fc, np.nan)
 
     def corner(self) -> np.ndarray:
         return self._crossing("down" if self.passband == "high" else "up")

@@ -65,19 +65,22 @@ class Response:
             H[~ok] = _direct(system, f, ~ok, lambda X: X[..., self.out])
         return H
 
-    def at_rows(self, f_hz: np.ndarray) -> np.ndarray:
-        """H at one frequency per row, (S,) (rows may ask for different frequencies)."""
+    def at_rows(self, f_hz: np.ndarray, rows: np.ndarray | None = None) -> np.ndarray:
+        """H at one frequency per row, (S,) (rows may ask for different frequencies);
+        of the rows ``rows`` only (an index array, one frequency each) if given."""
         f = np.asarray(f_hz, dtype=float)
         if self.through:
             return np.ones(f.shape, dtype=complex)
+        sel = slice(None) if rows is None else rows
         p = self.pencil
         jw = 2j * math.pi * f
         with np.errstate(all="ignore"):
-            h = _row_product(p.sigma, self.gain, self.zeros, jw)
-            h /= _row_product(p.sigma, np.ones(f.size), self.poles, jw)
-        bad = ~(self.ok & np.isfinite(h))
+            h = _row_product(p.sigma, self.gain[sel], self.zeros[sel], jw)
+            h /= _row_product(p.sigma, np.ones(f.size), self.poles[sel], jw)
+        bad = ~(self.ok[sel] & np.isfinite(h))
         if bad.any():
-            h[bad] = _direct_rows(self.system, self.out, f[bad], bad)
+            which = bad if rows is None else np.asarray(rows)[bad]
+            h[bad] = _direct_rows(self.system, self.out, f[bad], which)
         return h
 
 

@@ -81,3 +81,85 @@ def unwrapped_at(p_last: np.ndarray, before: np.ndarray, k_before: np.ndarray) -
     step = ddmod - d
     step[np.abs(d) < math.pi] = 0.0
     return p_last + (k_before + step)
+
+
+def _factor_poly(eig: np.ndarray, sigma: float):
+    """Π_k |1 + (jω − σ)·e_k|² as c0 + c1·x + c2·x² in x = ω², per row, for at most
+    two columns: each real e gives (1 − σe)² + e²·x; a conjugate pair, whose odd
+    powers of ω cancel, (A + Bx)² − C²x with A = |1 − σe|², B = |e|², C = 2·Im(a·ē),
+    a = 1 − σe. Rows that fit neither (an unpaired complex value) get NaN."""
+    rows, n = eig.shape
+    one, zero = np.ones(rows), np.zeros(rows)
+    if n == 0:
+        return one, zero, zero
+    real = eig.imag == 0
+    e = eig.real
+    a, b = (1 - sigma * e) ** 2, e * e                # a real factor's c0, c1
+    if n == 1:
+        return tuple(np.where(real[:, 0], c, np.nan) for c in (a[:, 0], b[:, 0], zero))
+    both = real[:, 0] & real[:, 1]
+    pair = eig[:, 0] == np.conj(eig[:, 1])
+    z = eig[:, 0]
+    az = 1 - sigma * z
+    pa, pb = np.abs(az) ** 2, np.abs(z) ** 2
+    pc = 2 * (az * np.conj(z)).imag
+    c0 = np.where(both, a[:, 0] * a[:, 1], pa * pa)
+    c1 = np.where(both, a[:, 0] * b[:, 1] + a[:, 1] * b[:, 0], 2 * pa * pb - pc * pc)
+    c2 = np.where(both, b[:, 0] * b[:, 1], pb * pb)
+    fits = both | (pair & ~real[:, 0])
+    return tuple(np.where(fits, c, np.nan) for c in (c0, c1, c2))
+
+
+def level_crossing(gain: np.ndarray, zeros: np.ndarray, poles: np.ndarray, sigma: float,
+                   level: np.ndarray, lo_hz: np.ndarray, hi_hz: np.ndarray) -> np.ndarray:
+    """Per row the frequency (Hz) in [lo_hz, hi_hz] where |H|² = ``level``, H in the
+    zero-pole-gain form of rcdoc.analysis.response (H = g·Π(1 + μ·e_k)/Π(1 + μ·d_k),
+    μ = jω − σ); NaN where that form has more than two zeros or poles, where a row's
+    factors do not pair, or where the bracket holds no root or two.
+
+    |N(jω)|² − level·|D(jω)|² is then at most quadratic in x = ω²: its roots in the
+    cancellation-free form (q = −(b + sign(b)·√(b² − 4ac))/2; x = q/a, c/q). The
+    bisection it replaces converges to the same crossing when it is the bracket's
+    only one; the caller confirms the sign change around it."""
+    rows = gain.shape[0]
+    nan = np.full(rows, np.nan)
+    if zeros.shape[1] > 2 or poles.shape[1] > 2:
+        return nan
+    n0, n1, n2 = _factor_poly(zeros, sigma)
+    d0, d1, d2 = _factor_poly(poles, sigma)
+    k = np.abs(gain) ** 2
+    a, b, c = k * n2 - level * d2, k * n1 - level * d1, k * n0 - level * d0
+    xlo, xhi = (2 * math.pi * lo_hz) ** 2, (2 * math.pi * hi_hz) ** 2
+    with np.errstate(all="ignore"):
+        q = -0.5 * (b + np.copysign(np.sqrt(b * b - 4 * a * c), b))
+        r1 = np.where(a != 0, q / a, np.nan)           # no x² term: the one root is c/q
+        r2 = c / q
+        in1 = (r1 >= xlo) & (r1 <= xhi)
+        in2 = (r2 >= xlo) & (r2 <= xhi)
+        x = np.where(in1 & ~in2, r1, np.where(in2 & ~in1, r2, np.nan))
+        return np.sqrt(x) / (2 * math.pi)
+
+
+# A closed-form crossing is kept when H, evaluated as the bisection does, lies on
+# either side of the level this close (relative) below and above it: within
+# 1e-10 of the bisection's answer, far inside the example's 1e-9.
+CLOSED_FORM_CHECK = 1e-10
+
+
+def confirmed_crossing(response, thr_db: np.ndarray, lo_hz: np.ndarray, hi_hz: np.ndarray,
+                       falling: bool) -> np.ndarray:
+    """level_crossing of a Response (rcdoc.analysis.response) at thr_db per row, NaN
+    where it does not apply or where db(H) at f·(1 ∓ CLOSED_FORM_CHECK) is not on
+    the two sides of thr_db (above then below if ``falling``, else the reverse)."""
+    r = response
+    if r.through:
+        return np.full(lo_hz.shape, np.nan)
+    f = level_crossing(r.gain, r.zeros, r.poles, r.pencil.sigma, 10 ** (thr_db / 10),
+                       lo_hz, hi_hz)
+    f[~r.ok] = np.nan
+    idx = np.flatnonzero(np.isfinite(f))
+    if idx.size:
+        under_hi = db(r.at_rows(f[idx] * (1 + CLOSED_FORM_CHECK), idx)) < thr_db[idx]
+        under_lo = db(r.at_rows(f[idx] * (1 - CLOSED_FORM_CHECK), idx)) < thr_db[idx]
+        f[idx[(under_hi == under_lo) | (under_hi != falling)]] = np.nan
+    return f
