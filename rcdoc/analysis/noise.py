@@ -142,7 +142,7 @@ def output_noise_psd(
     with np.errstate(all="ignore"):
         for ss in _pz_blocks(samples, f.shape[-1]):
             jws = jw[ss] if jw.ndim == 2 else jw
-            den = pencil.product(np.ones(pencil.poles[ss].shape[0]), pencil.poles[ss], jws)
+            den = pencil.product(None, pencil.poles[ss], jws)
             den2 = den.real ** 2 + den.imag ** 2
             acc = np.zeros(den.shape)
             for gain, zeros, r in terms:
