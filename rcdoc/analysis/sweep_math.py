@@ -19,21 +19,17 @@ import numpy as np
 _TURN = 2 * math.pi
 
 
-def db(h: np.ndarray) -> np.ndarray:
-    """20·log10|h|, as 10·log10(re² + im²): a third cheaper than the complex modulus.
+_DB_PER_NEPER = 20 / math.log(10)     # 20·log10(x) = (20 / ln 10)·ln(x)
 
-    The squares leave the double range below 1e-154 or above 1e154; those
-    entries (none in a physical filter's sweep) take the modulus instead.
-    """
-    h = np.asarray(h)
-    if not np.iscomplexobj(h):
-        with np.errstate(divide="ignore"):
-            return 20 * np.log10(np.abs(h))
-    with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"):
-        out = 10 * np.log10(h.real * h.real + h.imag * h.imag)
-        bad = ~np.isfinite(out)
-        if bad.any():
-            out[bad] = 20 * np.log10(np.abs(h[bad]))
+
+def db(h: np.ndarray) -> np.ndarray:
+    """20·log10|h|, as (20 / ln 10)·ln|h|: numpy's modulus (hypot: no overflow of
+    squares) and its natural logarithm are each about twice as fast as re² + im²
+    and log10 (measured; they agree with them to a unit in the last place)."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        out = np.abs(np.asarray(h)).astype(float, copy=False)
+        np.log(out, out=out)
+        out *= _DB_PER_NEPER
     return out
 
 
