@@ -70,10 +70,14 @@ class Evaluator(PartStresses):
 
     # ---- frequency domain -------------------------------------------------
     @cached_property
+    def conditioned(self):
+        """(system, T): the system in tree-branch coordinates, the output's voltage one
+        of them (values decades apart keep their digits; see analysis/treecoords.py)."""
+        return engine.conditioned(self.network, self.values)
+
+    @cached_property
     def system(self):
-        """The system in tree-branch coordinates, the output's voltage one of them
-        (values decades apart keep their digits; see analysis/treecoords.py)."""
-        return engine.conditioned(self.network, self.values)[0]
+        return self.conditioned[0]
 
     @cached_property
     def response(self) -> Response:
@@ -331,14 +335,20 @@ class Evaluator(PartStresses):
             out[n][ok] = y
         return out
 
-    @cached_property
-    def noise_psd(self) -> np.ndarray:
+    def _noise_psd_on(self, f: np.ndarray, shift) -> np.ndarray:
         def compute(values, rows):
             t = self.temperature_k
             t = np.broadcast_to(t, (self.rows,))[rows] if np.ndim(t) else t
-            return {"psd": engine.output_noise_psd(self.network, values, self.freqs_hz,
-                                                   temperature_k=t)}
-        return self._on_stable(compute, ["psd"], len(self.freqs_hz))["psd"]
+            # Every row: this chunk's system and pencil (same values, same shift) serve.
+            reuse = (self.conditioned, self.response.pencil) if isinstance(rows, slice) else None
+            return {"psd": engine.output_noise_psd(self.network, values, f if f.ndim == 1 else
+                                                   f[rows], temperature_k=t, shift_from_hz=shift,
+                                                   reuse=reuse)}
+        return self._on_stable(compute, ["psd"], f.shape[-1])["psd"]
+
+    @cached_property
+    def noise_psd(self) -> np.ndarray:
+        return self._noise_psd_on(self.freqs_hz, None)
 
     @cached_property
     def noise_columns(self) -> tuple[int, ...]:
@@ -351,16 +361,9 @@ class Evaluator(PartStresses):
         50 points a decade miss a resonance narrower than their spacing (a Q of 30 came
         out 23 % high in power), so each row adds points around its own resonant poles."""
         if not self.noise_columns:
-            return np.sqrt(np.trapezoid(self.noise_psd, self.freqs_hz, axis=1))
+            return np.sqrt(sweep_math.trapezoid(self.noise_psd, self.freqs_hz))
         f = integration_grid(self.freqs_hz, self.poles, self.noise_columns)
-
-        def compute(values, rows):
-            t = self.temperature_k
-            t = np.broadcast_to(t, (self.rows,))[rows] if np.ndim(t) else t
-            return {"psd": engine.output_noise_psd(self.network, values, f[rows],
-                                                   temperature_k=t, shift_from_hz=self.freqs_hz)}
-        psd = self._on_stable(compute, ["psd"], f.shape[1])["psd"]
-        return np.sqrt(np.trapezoid(psd, f, axis=1))
+        return np.sqrt(sweep_math.trapezoid(self._noise_psd_on(f, self.freqs_hz), f))
 
     # ---- time domain -------------------------------------------------------
     @cached_property
