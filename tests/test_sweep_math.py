@@ -19,7 +19,7 @@ import scipy.signal as sg
 from rcdoc.analysis import sweep_math
 from rcdoc.analysis.analyse import passband_of
 from rcdoc.analysis.evaluate import Evaluator, sweep_for
-from rcdoc.analysis.spread import build_batch, column_percentiles
+from rcdoc.analysis.spread import build_batch, column_percentiles, row_percentiles
 from rcdoc.kinds import kind_of, load_project
 
 HEAD = '[board]\nname = "Sweep math"\nrevision = "A"\ndate = "2026-01-01"\n'
@@ -69,6 +69,7 @@ def test_column_percentiles_are_numpys(n, dtype):
         ref = np.percentile(a, q, axis=0)            # numpy.percentile, linear method
         got = column_percentiles(a, q)
         assert got.dtype == ref.dtype and np.array_equal(got, ref)
+        assert np.array_equal(row_percentiles(np.ascontiguousarray(a.T), q), ref)
     a[n // 2, 9] = np.nan                            # a sample without a value: numpy's NaN
     ref = np.percentile(a, (5.0, 95.0), axis=0)
     assert np.array_equal(column_percentiles(a, (5.0, 95.0)), ref, equal_nan=True)
