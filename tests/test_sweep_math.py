@@ -19,7 +19,8 @@ import scipy.signal as sg
 from rcdoc.analysis import sweep_math
 from rcdoc.analysis.analyse import passband_of
 from rcdoc.analysis.evaluate import Evaluator, sweep_for
-from rcdoc.analysis.spread import build_batch, column_percentiles, row_percentiles
+from rcdoc.analysis.spread import (build_batch, column_percentiles, row_percentiles,
+                                   transposed)
 from rcdoc.kinds import kind_of, load_project
 
 HEAD = '[board]\nname = "Sweep math"\nrevision = "A"\ndate = "2026-01-01"\n'
@@ -70,6 +71,7 @@ def test_column_percentiles_are_numpys(n, dtype):
         got = column_percentiles(a, q)
         assert got.dtype == ref.dtype and np.array_equal(got, ref)
         assert np.array_equal(row_percentiles(np.ascontiguousarray(a.T), q), ref)
+        assert np.array_equal(row_percentiles(np.array(a.T, order="C"), q, overwrite=True), ref)
     a[n // 2, 9] = np.nan                            # a sample without a value: numpy's NaN
     ref = np.percentile(a, (5.0, 95.0), axis=0)
     assert np.array_equal(column_percentiles(a, (5.0, 95.0)), ref, equal_nan=True)
@@ -128,3 +130,26 @@ def test_phase_at_marks_is_the_unwrap_it_replaces(tmp_path, kind, cap):
         assert np.array_equal(ev.phase(at), old_phase(ev, at)), at
     # The band's unwrapped phase is numpy's unwrap of the whole sweep.
     assert np.array_equal(ev.phase_unwrapped, np.unwrap(ev.phase_rad, axis=1))
+
+
+def test_angle_is_numpys_angle():
+    rng = np.random.default_rng(3)
+    h = (rng.standard_normal((200, 50)) + 1j * rng.standard_normal((200, 50))) \
+        * 10.0 ** rng.uniform(-150, 150, (200, 50))           # values decades apart
+    edge = [0, -0.0 + 0j, complex(-1, 0.0), complex(-1, -0.0), complex(0, 1),
+            complex(-0.0, -1), complex(-0.0, 1), complex(np.inf, 1), complex(np.nan, 1),
+            complex(-1, 1e-300), complex(-1e300, -1e-300), complex(-5e-324, 1)]
+    h[0, :len(edge)] = edge
+    ref = np.angle(h)                                        # numpy.angle
+    got = sweep_math.angle(h)
+    assert np.array_equal(np.isnan(got), np.isnan(ref))
+    assert np.nanmax(np.abs(got - ref)) <= 4 * np.finfo(float).eps * math.pi
+    # the branch cut as arctan2 takes it: +π above the negative real axis, −π below
+    assert got[0, 2] == math.pi and got[0, 3] == -math.pi and got[0, 5] == -math.pi / 2
+
+
+def test_transposed_copy_is_numpys():
+    a = np.random.default_rng(5).standard_normal((1000, 37))
+    assert np.array_equal(transposed(a), a.T)
+    t = transposed(a, np.float32, np.degrees)
+    assert t.flags.c_contiguous and np.array_equal(t, np.degrees(a).astype(np.float32).T)

@@ -220,8 +220,8 @@ def _gather_spread(s: _Setup, g: _Gathered, ev: Evaluator, mc_idx: np.ndarray) -
     if sum(x.shape[1] for x in g.gains) < BAND_SAMPLES:
         # Kept as float32, one frequency per contiguous row (the percentiles select
         # along rows); degrees computed in double and rounded once, as before.
-        g.gains.append(np.ascontiguousarray(gain.T, dtype=np.float32))
-        g.phases.append(np.degrees(ph.T, out=np.empty(ph.T.shape, dtype=np.float32)))
+        g.gains.append(spread.transposed(gain, np.float32))
+        g.phases.append(spread.transposed(ph, np.float32, np.degrees))
     drive = s.stage.drive
     shown = {} if drive is None else {"step": (ev.step, 0.0)}
     if drive is not None and drive.kind == "pwm":
@@ -376,12 +376,12 @@ class _Envelope:
 
 def _band(gains, phases, env: _Envelope) -> ResponseBand:
     # On the float32 copies the band keeps: a drawn band needs no more digits,
-    # and the selection runs over half the bytes (spread.column_percentiles:
+    # and the selection runs over half the bytes (spread.row_percentiles:
     # np.percentile's values, by a faster selection).
     g = np.concatenate(gains, axis=1)          # (frequencies, samples)
     p = np.concatenate(phases, axis=1)
-    g_lo, g_hi = spread.row_percentiles(g, BAND_PERCENTILES).astype(float)
-    p_lo, p_hi = spread.row_percentiles(p, BAND_PERCENTILES).astype(float)
+    g_lo, g_hi = spread.row_percentiles(g, BAND_PERCENTILES, overwrite=True).astype(float)
+    p_lo, p_hi = spread.row_percentiles(p, BAND_PERCENTILES, overwrite=True).astype(float)
     return ResponseBand(gain_min=env.lo, gain_max=env.hi, gain_lo=g_lo, gain_hi=g_hi,
                         phase_min=env.plo, phase_max=env.phi, phase_lo=p_lo, phase_hi=p_hi)
 

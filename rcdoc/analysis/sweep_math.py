@@ -33,6 +33,25 @@ def db(h: np.ndarray) -> np.ndarray:
     return out
 
 
+def angle(h: np.ndarray) -> np.ndarray:
+    """np.angle(h) (principal value in [−π, π]) as arctan(im/re) moved by ±π where re < 0:
+    numpy's one-argument arctangent is twice as fast as its arctan2 here (measured);
+    the two agree to a few units in the last place. Entries that are not finite or
+    zero take np.angle itself."""
+    h = np.asarray(h, dtype=complex)
+    re, im = h.real, h.imag
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        out = np.divide(im, re)
+        np.arctan(out, out=out)
+        # Left half-plane (a −0.0 real part included, as arctan2 counts it): ±π by
+        # the sign of the imaginary part.
+        np.add(out, np.copysign(math.pi, im), out=out, where=np.signbit(re))
+    bad = ~np.isfinite(out)
+    if bad.any():
+        out[bad] = np.angle(h[bad])
+    return out
+
+
 def trapezoid(y: np.ndarray, x: np.ndarray) -> np.ndarray:
     """np.trapezoid(y, x, axis=1) as one weighted sum per row (y @ w, w the trapezoid
     weights of x, (F,) or one row each): one pass, equal to rounding."""
