@@ -127,7 +127,6 @@ class Evaluator(PartStresses):
 
     @cached_property
     def passband_db(self) -> np.ndarray:
-        g = self.gain_db
         if self.passband in ("low", "band-stop"):
             # A low-pass's passband is DC: reading it at the first swept frequency
             # would move the corner with the sweep's start (a sweep starting at fc/8
@@ -136,15 +135,16 @@ class Evaluator(PartStresses):
             try:
                 dc = db(self.response.at_rows(np.zeros(self.rows)))
             except np.linalg.LinAlgError:
-                return g[:, 0]
-            return np.where(np.isfinite(dc), dc, g[:, 0])
+                return self.gain_db[:, 0]
+            ok = np.isfinite(dc)      # then no sweep is needed (a worst-case probe's rows)
+            return dc if ok.all() else np.where(ok, dc, self.gain_db[:, 0])
         if self.passband == "high":
             # A high-pass's passband is at high frequency: the gain keeps rising past
             # the sweep's end (by 4e-6 dB at 1000·fc, more if the sweep ends near the
             # corner), so take the larger of the sweep's end and far above it; a
             # roll-off above the sweep (a source inductance) leaves the sweep's end.
             far = db(self.h_rows(np.full(self.rows, self.freqs_hz[-1] * 1e6)))
-            return np.fmax(g[:, -1], far)
+            return np.fmax(self.gain_db[:, -1], far)
         return self.peak_db      # band-pass: the top of the response, refined off the grid
 
     def passband_gain(self) -> np.ndarray:
@@ -340,7 +340,8 @@ class Evaluator(PartStresses):
             t = self.temperature_k
             t = np.broadcast_to(t, (self.rows,))[rows] if np.ndim(t) else t
             # Every row: this chunk's system and pencil (same values, same shift) serve.
-            reuse = (self.conditioned, self.response.pencil) if isinstance(rows, slice) else None
+            pencil = self.response.pencil if "response" in self.__dict__ else None
+            reuse = (self.conditioned, pencil) if isinstance(rows, slice) else None
             return {"psd": engine.output_noise_psd(self.network, values, f if f.ndim == 1 else
                                                    f[rows], temperature_k=t, shift_from_hz=shift,
                                                    reuse=reuse)}
