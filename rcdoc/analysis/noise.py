@@ -139,12 +139,19 @@ def output_noise_psd(
             continue
         gain, zeros, good = pencil.zpk(o, e, None)
         ok &= good
+        # A column of exact zeros in every row is a factor of exactly 1: left out.
+        zeros = zeros[:, np.any(zeros != 0, axis=0)]
         terms.append((np.abs(gain) ** 2 / r, zeros))
+    # Σ |Z_R|²/R over the resistors: a term without zeros is |g|²/R, one number a row,
+    # and those are summed before they meet the frequencies.
+    flat = sum((scale for scale, zeros in terms if zeros.shape[1] == 0), np.zeros(samples))
+    shaped = [(scale, zeros) for scale, zeros in terms if zeros.shape[1]]
     with np.errstate(all="ignore"):
         for ss in _pz_blocks(samples, f.shape[-1]):
             ws = w[ss] if w.ndim == 2 else w[None, :]
-            acc = np.zeros((psd[ss].shape[0], f.shape[-1]))
-            for scale, zeros in terms:      # Σ |Z_R|²/R: each term's |g|²/R is one number a row
+            acc = np.empty((psd[ss].shape[0], f.shape[-1]))
+            acc[...] = flat[ss, None]
+            for scale, zeros in shaped:
                 acc += _abs2_product(pencil.sigma, scale[ss], zeros[ss], ws)
             np.divide(acc, _abs2_product(pencil.sigma, None, pencil.poles[ss], ws), out=psd[ss])
     ok &= np.all(np.isfinite(psd), axis=1)
@@ -154,7 +161,8 @@ def output_noise_psd(
             psd[idx] = _noise_direct_rows(system, pencil.keep, f[idx], idx, accumulate, out)
         else:
             psd[idx] = _noise_direct(system, f, idx, accumulate, out)
-    return 4.0 * BOLTZMANN_J_PER_K * temp[:, None] * psd
+    psd *= (4.0 * BOLTZMANN_J_PER_K * temp)[:, None]     # in place: the same products
+    return psd
 
 
 def _abs2_product(sigma: float, scale: np.ndarray | None, eig: np.ndarray,
