@@ -153,3 +153,119 @@ def test_transposed_copy_is_numpys():
     assert np.array_equal(transposed(a), a.T)
     t = transposed(a, np.float32, np.degrees)
     assert t.flags.c_contiguous and np.array_equal(t, np.degrees(a).astype(np.float32).T)
+
+
+def bisection_corner(ev, monkeypatch):
+    """The method replaced: the same Evaluator with the closed form switched off."""
+    monkeypatch.setattr(sweep_math, "level_crossing",
+                        lambda gain, *a: np.full(gain.shape[0], np.nan))
+    fresh = Evaluator(ev.stage, ev.network, ev.values, ev.freqs_hz, ev.passband, ev.char_hz)
+    out = fresh.corner()
+    monkeypatch.undo()
+    return out
+
+
+@pytest.mark.parametrize("kind,cap", [("sallen-key-lowpass", "20 nF"),      # Q = 0.71
+                                      ("sallen-key-lowpass", "10 nF"),      # Q = 0.5, repeated poles
+                                      ("sallen-key-lowpass", "1.8 uF"),     # Q = 6.7
+                                      ("sallen-key-lowpass", "3600 uF"),    # Q = 300
+                                      ("rc-highpass", "10 nF"), ("rc-lowpass", "10 nF"),
+                                      ("rc-lowpass", "1 pF"), ("rc-lowpass", "100 mF")])
+def test_closed_form_corner_is_the_bisections(tmp_path, monkeypatch, kind, cap):
+    ev, v = evaluator(tmp_path, kind, cap)
+    r = ev.response
+    thr = ev.passband_db - 10 * math.log10(2.0)
+    served = np.isfinite(sweep_math.level_crossing(
+        r.gain, r.zeros, r.poles, r.pencil.sigma, 10 ** (thr / 10),
+        np.full(ev.rows, ev.freqs_hz[0]), np.full(ev.rows, ev.freqs_hz[-1])))
+    assert served.all()                              # the closed form does serve these
+    fc = ev.corner()
+    ref = bisection_corner(ev, monkeypatch)
+    assert np.array_equal(np.isnan(fc), np.isnan(ref))
+    assert np.nanmax(np.abs(fc / ref - 1)) < 1e-10
+    if kind == "rc-lowpass":                         # 1/(2πRC), any circuits textbook
+        assert np.max(np.abs(fc * 2 * np.pi * v["r"] * v["c"] - 1)) < 1e-9
+    if kind == "sallen-key-lowpass":
+        # scipy.signal.freqs of 1/(s²·R1R2C1C2 + s·C2(R1 + R2) + 1) and scipy.optimize.brentq
+        # on |H| = |H(0)|/√2 (the standard unity-gain result), a few rows
+        for i in range(0, ev.rows, 60):
+            a = [v["r1"][i] * v["r2"][i] * v["c1"][i] * v["c2"][i],
+                 v["c2"][i] * (v["r1"][i] + v["r2"][i]), 1.0]
+
+            def gap(f):
+                return abs(sg.freqs([1.0], a, worN=[2 * np.pi * f])[1][0]) - 1 / math.sqrt(2)
+            lo, hi = fc[i] * 0.999, fc[i] * 1.001
+            assert gap(lo) > 0 > gap(hi)
+            ref_i = so.brentq(gap, lo, hi, xtol=1e-14 * fc[i], rtol=1e-15)
+            assert abs(fc[i] / ref_i - 1) < 1e-9
+
+
+def test_level_crossing_falls_back_where_it_cannot_decide():
+    # Three poles, or a complex value without its conjugate: no closed form (NaN).
+    g = np.ones(2)
+    three = np.full((2, 3), 0.5 + 0j)
+    assert np.all(np.isnan(sweep_math.level_crossing(g, np.zeros((2, 0)), three, 1.0,
+                                                     np.full(2, 0.5), np.ones(2), np.full(2, 9.0))))
+    lone = np.array([[0.5 + 0.1j, 0.5 + 0.2j], [0.4, 0.3]])
+    got = sweep_math.level_crossing(g, np.zeros((2, 0)), lone, 1.0, np.full(2, 0.5),
+                                    np.full(2, 1e-3), np.full(2, 1e3))
+    assert np.isnan(got[0]) and np.isfinite(got[1])
+    # H(s) = 1/((s + 1)(s + 3)) in the zero-pole-gain form with σ = 1: e = 1/(σ − p) and
+    # gain H(σ) = 1/8. |H|² = 1/((1 + x)(9 + x)), x = ω², falls to half its DC value 1/9
+    # where x² + 10x − 9 = 0: x = √34 − 5 (textbook algebra).
+    e = np.array([[1 / (1 + 1.0), 1 / (1 + 3.0)]], dtype=complex)
+    f = sweep_math.level_crossing(np.array([1 / 8]), np.zeros((1, 0)), e, 1.0,
+                                  np.array([1 / 18]), np.array([0.01]), np.array([10.0]))
+    assert abs((2 * np.pi * f[0]) ** 2 / (math.sqrt(34) - 5) - 1) < 1e-12
+
+
+def old_psd(ev, f):
+    """The complex products it replaces: Σ_R |g·Π(1 + μe)|²/R / |Π(1 + μd)|² · 4kT."""
+    from rcdoc.analysis.ac import _Pencil
+    system, t = ev.conditioned
+    p = _Pencil(system, f)
+    o = int(np.flatnonzero(p.keep == system.index[ev.network.output])[0])
+    jw = 2j * np.pi * f
+    den = np.abs(p.product(None, p.poles, jw)) ** 2
+    acc = np.zeros(den.shape)
+    for el in ev.network.elements:
+        if el.kind != "R":
+            continue
+        inj = sum(sign * (t[system.node(n)] if system.node(n) is not None else 0)
+                  for sign, n in ((1, el.a), (-1, el.b)))
+        e = np.broadcast_to(np.asarray(inj)[p.keep], (ev.rows, p.keep.size))
+        if not e.any():
+            continue
+        gain, zeros, _ = p.zpk(o, e, None)
+        r = ev.values[el.name] if el.name in ev.values else None
+        acc += np.abs(p.product(gain, zeros, jw)) ** 2 / np.broadcast_to(r, (ev.rows,))[:, None]
+    return 4 * 1.380649e-23 * 300.0 * acc / den
+
+
+@pytest.mark.parametrize("kind,cap", [("rc-lowpass", "10 nF"), ("sallen-key-lowpass", "20 nF"),
+                                      ("sallen-key-lowpass", "3600 uF"),
+                                      ("sallen-key-lowpass", "10 nF")])
+def test_noise_psd_is_the_direct_solves(tmp_path, monkeypatch, kind, cap):
+    """The real-arithmetic |Z|² against the adjoint solve of the nodal equations at
+    every frequency (noise.py's own direct path, forced), and for the RC low-pass the
+    textbook PSD 4kTR/(1 + (ωRC)²) (Johnson–Nyquist through the divider)."""
+    from rcdoc.analysis import engine
+    from rcdoc.analysis import ac as acmod
+    ev, v = evaluator(tmp_path, kind, cap, samples=40)
+    f = ev.freqs_hz
+    psd = engine.output_noise_psd(ev.network, ev.values, f, temperature_k=300.0)
+    monkeypatch.setattr(acmod, "_PZ_RCOND", 1e300)          # every row: the direct path
+    direct = engine.output_noise_psd(ev.network, ev.values, f, temperature_k=300.0)
+    monkeypatch.undo()
+    # At Q = 300 the direct solve itself loses digits at the peak (3.6e-8 there before
+    # the real arithmetic too); elsewhere the two agree to 1e-9.
+    assert np.max(np.abs(psd / direct - 1)) < (1e-7 if cap == "3600 uF" else 1e-9)
+    assert np.max(np.abs(psd / old_psd(ev, f) - 1)) < 1e-13       # the arithmetic replaced
+    if kind == "rc-lowpass":
+        w = 2 * np.pi * f[None, :]
+        rc = (v["r"] * v["c"])[:, None]
+        ref = 4 * 1.380649e-23 * 300.0 * v["r"][:, None] / (1 + (w * rc) ** 2)
+        assert np.max(np.abs(psd / ref - 1)) < 1e-12
+    # the weighted sum is numpy's trapezoid rule
+    assert np.allclose(sweep_math.trapezoid(psd, f), np.trapezoid(psd, f, axis=1),
+                       rtol=1e-13, atol=0)
