@@ -142,18 +142,7 @@ def output_noise_psd(
         # A column of exact zeros in every row is a factor of exactly 1: left out.
         zeros = zeros[:, np.any(zeros != 0, axis=0)]
         terms.append((np.abs(gain) ** 2 / r, zeros))
-    # Σ |Z_R|²/R over the resistors: a term without zeros is |g|²/R, one number a row,
-    # and those are summed before they meet the frequencies.
-    flat = sum((scale for scale, zeros in terms if zeros.shape[1] == 0), np.zeros(samples))
-    shaped = [(scale, zeros) for scale, zeros in terms if zeros.shape[1]]
-    with np.errstate(all="ignore"):
-        for ss in _pz_blocks(samples, f.shape[-1]):
-            ws = w[ss] if w.ndim == 2 else w[None, :]
-            acc = np.empty((psd[ss].shape[0], f.shape[-1]))
-            acc[...] = flat[ss, None]
-            for scale, zeros in shaped:
-                acc += _abs2_product(pencil.sigma, scale[ss], zeros[ss], ws)
-            np.divide(acc, _abs2_product(pencil.sigma, None, pencil.poles[ss], ws), out=psd[ss])
+    _pz_psd(pencil, terms, w, psd)
     ok &= np.all(np.isfinite(psd), axis=1)
     if not np.all(ok):
         idx = np.flatnonzero(~ok)
@@ -163,6 +152,23 @@ def output_noise_psd(
             psd[idx] = _noise_direct(system, f, idx, accumulate, out)
     psd *= (4.0 * BOLTZMANN_J_PER_K * temp)[:, None]     # in place: the same products
     return psd
+
+
+def _pz_psd(pencil: _Pencil, terms: list, w: np.ndarray, psd: np.ndarray) -> None:
+    """Σ_R |Z_R|²/R over |Π(1 + μd)|² into ``psd`` (S, F), block by block; ``terms``
+    are (|g|²/R, zeros) per resistor. A term without zeros is |g|²/R, one number a
+    row, and those are summed before they meet the frequencies."""
+    samples = psd.shape[0]
+    flat = sum((scale for scale, zeros in terms if zeros.shape[1] == 0), np.zeros(samples))
+    shaped = [(scale, zeros) for scale, zeros in terms if zeros.shape[1]]
+    with np.errstate(all="ignore"):
+        for ss in _pz_blocks(samples, psd.shape[1]):
+            ws = w[ss] if w.ndim == 2 else w[None, :]
+            acc = np.empty((psd[ss].shape[0], psd.shape[1]))
+            acc[...] = flat[ss, None]
+            for scale, zeros in shaped:
+                acc += _abs2_product(pencil.sigma, scale[ss], zeros[ss], ws)
+            np.divide(acc, _abs2_product(pencil.sigma, None, pencil.poles[ss], ws), out=psd[ss])
 
 
 def _abs2_product(sigma: float, scale: np.ndarray | None, eig: np.ndarray,
