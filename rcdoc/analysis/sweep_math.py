@@ -73,12 +73,12 @@ def unwrap_corrections(p: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     and one comparison.
     """
     dd = np.diff(p, axis=1)
-    big = np.abs(dd) >= math.pi
+    big = np.abs(dd, out=dd) >= math.pi                # |step| in place: one array fewer
     rows = np.flatnonzero(big.any(axis=1))
     if rows.size == 0:
         return rows, np.zeros((0, p.shape[1]))
     r, c = np.nonzero(big[rows])
-    d = dd[rows[r], c]
+    d = p[rows[r], c + 1] - p[rows[r], c]              # the signed steps, as np.diff has them
     ddmod = np.mod(d + math.pi, _TURN) - math.pi
     ddmod[(ddmod == -math.pi) & (d > 0)] = math.pi
     k = np.zeros((rows.size, p.shape[1]))
