@@ -269,3 +269,20 @@ def test_noise_psd_is_the_direct_solves(tmp_path, monkeypatch, kind, cap):
     # the weighted sum is numpy's trapezoid rule
     assert np.allclose(sweep_math.trapezoid(psd, f), np.trapezoid(psd, f, axis=1),
                        rtol=1e-13, atol=0)
+
+
+@pytest.mark.parametrize("kind,cap", [("sallen-key-lowpass", "20 nF"), ("rc-highpass", "10 nF"),
+                                      ("rc-lowpass", "10 nF")])
+def test_zeros_skipped_only_where_none_is_finite(tmp_path, monkeypatch, kind, cap):
+    """A numerator whose first row shows no finite zero gets no eigenvalues; the
+    response is the one every row's eigenvalues gave (the method replaced)."""
+    from rcdoc.analysis import ac as acmod
+    ev, _ = evaluator(tmp_path, kind, cap, samples=50)
+    h = ev.response.sweep(ev.freqs_hz)
+    zpk = acmod._Pencil.zpk
+    monkeypatch.setattr(acmod._Pencil, "zpk", lambda self, o, r0, r1, eigen=True:
+                        zpk(self, o, r0, r1, eigen=True))
+    full = Evaluator(ev.stage, ev.network, ev.values, ev.freqs_hz, ev.passband, ev.char_hz)
+    assert np.array_equal(full.response.sweep(ev.freqs_hz), h)
+    assert full.response.zeros.shape == ev.response.zeros.shape
+    assert ev.response.zeros.shape[1] == (1 if kind == "rc-highpass" else 0)

@@ -206,10 +206,13 @@ class _Pencil:
         with np.errstate(all="ignore"):
             self.poles = np.linalg.eigvals(self.A_inv @ self.C)
 
-    def zpk(self, o: int, r0: np.ndarray, r1: np.ndarray | None, eigen: bool = True):
+    def zpk(self, o: int, r0: np.ndarray, r1: np.ndarray | None, eigen: bool | float = True):
         """Gain x_o(σ) (S,), zeros as eigenvalues e (S, n) and usable rows for x_o of
         (G + sC)·x = r0 + s·r1 (r0, r1 of shape (S, n); r1 None for no s term).
-        ``eigen`` False: the caller knows there is no finite zero; e is (S, 0)."""
+        ``eigen`` False: the caller knows there is no finite zero; e is (S, 0). A
+        number: the first row's largest pole eigenvalue; when every eigenvalue of
+        that row is at most 1e-16 of it (no finite zero: response._finite would drop
+        them all), the structure is every row's and e is (S, 0) without the others'."""
         rhs = r0 if r1 is None else r0 + self.sigma * r1
         x_sigma = np.einsum("sj,sj->s", self.A_inv[:, o, :], rhs)
         Go, Co = self.G.copy(), self.C.copy()
@@ -217,9 +220,14 @@ class _Pencil:
         Co[:, :, o] = 0.0 if r1 is None else r1
         Ao_inv, ok_o = _inverse(Go + self.sigma * Co)
         ok = self.ok & ok_o
-        if not eigen:
-            return x_sigma, np.zeros((x_sigma.shape[0], 0), dtype=complex), ok
+        none = np.zeros((x_sigma.shape[0], 0), dtype=complex)
+        if eigen is False:
+            return x_sigma, none, ok
         with np.errstate(all="ignore"):
+            if eigen is not True and ok[0]:
+                first = np.linalg.eigvals(Ao_inv[0] @ Co[0])
+                if np.all(np.abs(first) <= 1e-16 * eigen):
+                    return x_sigma, none, ok
             zeros = np.linalg.eigvals(Ao_inv @ Co)
         return x_sigma, zeros, ok
 

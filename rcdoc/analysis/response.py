@@ -45,8 +45,10 @@ class Response:
             c_o = p.C[0].copy()
             c_o[:, o] = r1[0]
             count = _rank(c_o)
-            self.gain, zeros, self.ok = p.zpk(o, -system.G[:, keep, d], r1, eigen=count > 0)
             scale = np.max(np.abs(p.poles), axis=1, initial=0.0)
+            # No eigenvalues where the rank or the first row shows no finite zero.
+            probe = bool(count) and (float(scale[0]) if np.isfinite(scale[0]) else True)
+            self.gain, zeros, self.ok = p.zpk(o, -system.G[:, keep, d], r1, eigen=probe)
             self.zeros = _finite(zeros, scale, count)
             self.poles = _finite(p.poles, scale, _rank(p.C[0]))
 
