@@ -11,7 +11,8 @@ from __future__ import annotations
 import numpy as np
 import scipy.signal as sg
 
-from rcdoc.analysis.evaluate import Evaluator, _unwrapped_last, sweep_for
+from rcdoc.analysis import sweep_math
+from rcdoc.analysis.evaluate import Evaluator, sweep_for
 from rcdoc.analysis.spread import build_batch
 from rcdoc.kinds import kind_of, load_project
 from rcdoc.analysis.analyse import passband_of
@@ -79,4 +80,8 @@ def test_last_unwrapped_phase_is_numpys():
     for _ in range(50):
         p = np.angle(np.exp(1j * np.cumsum(rng.normal(0, 1.5, (40, 30)), axis=1)))
         ref = np.unwrap(p, axis=1)[:, -1]               # numpy.unwrap
-        assert np.allclose(_unwrapped_last(p), ref, rtol=1e-13, atol=1e-12)
+        rows, k = sweep_math.unwrap_corrections(p[:, :-1])
+        k_before = np.zeros(len(p))
+        k_before[rows] = k[:, -1]
+        got = sweep_math.unwrapped_at(p[:, -1], p[:, -2], k_before)
+        assert np.allclose(got, ref, rtol=1e-13, atol=1e-12)

@@ -206,9 +206,13 @@ class _Pencil:
         with np.errstate(all="ignore"):
             self.poles = np.linalg.eigvals(self.A_inv @ self.C)
 
-    def zpk(self, o: int, r0: np.ndarray, r1: np.ndarray | None):
+    def zpk(self, o: int, r0: np.ndarray, r1: np.ndarray | None, eigen: bool | float = True):
         """Gain x_o(σ) (S,), zeros as eigenvalues e (S, n) and usable rows for x_o of
-        (G + sC)·x = r0 + s·r1 (r0, r1 of shape (S, n); r1 None for no s term)."""
+        (G + sC)·x = r0 + s·r1 (r0, r1 of shape (S, n); r1 None for no s term).
+        ``eigen`` False: the caller knows there is no finite zero; e is (S, 0). A
+        number: the first row's largest pole eigenvalue; when every eigenvalue of
+        that row is at most 1e-16 of it (no finite zero: response._finite would drop
+        them all), the structure is every row's and e is (S, 0) without the others'."""
         rhs = r0 if r1 is None else r0 + self.sigma * r1
         x_sigma = np.einsum("sj,sj->s", self.A_inv[:, o, :], rhs)
         Go, Co = self.G.copy(), self.C.copy()
@@ -216,17 +220,32 @@ class _Pencil:
         Co[:, :, o] = 0.0 if r1 is None else r1
         Ao_inv, ok_o = _inverse(Go + self.sigma * Co)
         ok = self.ok & ok_o
+        none = np.zeros((x_sigma.shape[0], 0), dtype=complex)
+        if eigen is False:
+            return x_sigma, none, ok
         with np.errstate(all="ignore"):
+            if eigen is not True and ok[0]:
+                first = np.linalg.eigvals(Ao_inv[0] @ Co[0])
+                if np.all(np.abs(first) <= 1e-16 * eigen):
+                    return x_sigma, none, ok
             zeros = np.linalg.eigvals(Ao_inv @ Co)
         return x_sigma, zeros, ok
 
-    def product(self, gain: np.ndarray, eig: np.ndarray, jw: np.ndarray) -> np.ndarray:
-        """gain · Π_k (1 + (jω − σ)·eig_k) for one block of samples: (s, F); jω is (F,) or (s, F)."""
-        acc = np.empty((eig.shape[0], jw.shape[-1]), dtype=complex)
-        acc[...] = gain[:, None]
-        fac = np.empty_like(acc)
+    def product(self, gain: np.ndarray | None, eig: np.ndarray, jw: np.ndarray) -> np.ndarray:
+        """gain · Π_k (1 + (jω − σ)·eig_k) for one block of samples: (s, F); jω is (F,) or
+        (s, F) per row; ``gain`` None for 1. The first factor is written in place and
+        then scaled (a product commutes bit for bit): no pass that multiplies by 1."""
         jw = jw if jw.ndim == 2 else jw[None, :]      # (F,) shared or (s, F) per row
-        for k in range(eig.shape[1]):
+        acc = np.empty((eig.shape[0], jw.shape[-1]), dtype=complex)
+        if eig.shape[1] == 0:
+            acc[...] = 1.0 if gain is None else gain[:, None]
+            return acc
+        np.multiply(eig[:, 0, None], jw, out=acc)
+        acc += (1.0 - self.sigma * eig[:, 0])[:, None]
+        if gain is not None:
+            acc *= gain[:, None]
+        fac = np.empty_like(acc) if eig.shape[1] > 1 else None
+        for k in range(1, eig.shape[1]):
             np.multiply(eig[:, k, None], jw, out=fac)
             fac += (1.0 - self.sigma * eig[:, k])[:, None]
             acc *= fac
@@ -253,7 +272,7 @@ def _ac_fast(system: System, f: np.ndarray, out: int) -> np.ndarray:
     with np.errstate(all="ignore"):
         for ss in _pz_blocks(system.samples, f.size):
             H[ss] = pencil.product(gain[ss], zeros[ss], jw)
-            H[ss] /= pencil.product(np.ones(H[ss].shape[0]), pencil.poles[ss], jw)
+            H[ss] /= pencil.product(None, pencil.poles[ss], jw)
     ok &= np.all(np.isfinite(H), axis=1)
     if not np.all(ok):
         H[~ok] = _direct(system, f, ~ok, lambda X: X[..., out])

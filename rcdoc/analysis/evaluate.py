@@ -16,6 +16,8 @@ import numpy as np
 
 from rcdoc.analysis import engine
 from rcdoc.analysis import poles as polemod
+from rcdoc.analysis import sweep_math
+from rcdoc.analysis.sweep_math import db
 from rcdoc.analysis.noise import integration_grid, resonant_columns
 from rcdoc.analysis.response import Response
 from rcdoc.analysis.stresses import PartStresses
@@ -30,24 +32,6 @@ PEAK_ITERATIONS = 30                 # golden-section steps: bracket shrinks by 
 TIME_POINTS = 4000                   # step-response grid
 TIME_CONSTANTS = 24.0                # step window in slowest nominal time constants
 PWM_POINTS = 1000                    # points over one PWM period
-
-
-def db(h: np.ndarray) -> np.ndarray:
-    """20·log10|h|, as 10·log10(re² + im²): a third cheaper than the complex modulus.
-
-    The squares leave the double range below 1e-154 or above 1e154; those
-    entries (none in a physical filter's sweep) take the modulus instead.
-    """
-    h = np.asarray(h)
-    if not np.iscomplexobj(h):
-        with np.errstate(divide="ignore"):
-            return 20 * np.log10(np.abs(h))
-    with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"):
-        out = 10 * np.log10(h.real * h.real + h.imag * h.imag)
-        bad = ~np.isfinite(out)
-        if bad.any():
-            out[bad] = 20 * np.log10(np.abs(h[bad]))
-    return out
 
 
 def sweep_for(stage_char_hz: float, analysis) -> np.ndarray:
@@ -87,10 +71,14 @@ class Evaluator(PartStresses):
 
     # ---- frequency domain -------------------------------------------------
     @cached_property
+    def conditioned(self):
+        """(system, T): the system in tree-branch coordinates, the output's voltage one
+        of them (values decades apart keep their digits; see analysis/treecoords.py)."""
+        return engine.conditioned(self.network, self.values)
+
+    @cached_property
     def system(self):
-        """The system in tree-branch coordinates, the output's voltage one of them
-        (values decades apart keep their digits; see analysis/treecoords.py)."""
-        return engine.conditioned(self.network, self.values)[0]
+        return self.conditioned[0]
 
     @cached_property
     def response(self) -> Response:
@@ -104,12 +92,27 @@ class Evaluator(PartStresses):
     @cached_property
     def phase_rad(self) -> np.ndarray:
         """Principal phase of the sweep (rows × frequencies), computed once: the
-        phase at every mark and the phase band read it."""
-        return np.angle(self.h)
+        phase at every mark and the phase band read it (np.angle's values, faster)."""
+        return sweep_math.angle(self.h)
 
     @cached_property
     def gain_db(self) -> np.ndarray:
         return db(self.h)
+
+    def phase_wraps(self, from_high: bool = False):
+        """(phase, rows, K): the principal phase along the sweep (from its high end
+        if ``from_high``) and np.unwrap's corrections (sweep_math.unwrap_corrections),
+        computed once per chunk for the band and every mark."""
+        key = "_wraps_high" if from_high else "_wraps_low"
+        if key not in self.__dict__:
+            p = self.phase_rad[:, ::-1] if from_high else self.phase_rad
+            self.__dict__[key] = (p, *sweep_math.unwrap_corrections(p))
+        return self.__dict__[key]
+
+    @cached_property
+    def phase_unwrapped(self) -> np.ndarray:
+        """np.unwrap of the sweep's phase along frequency (radians), from the low end."""
+        return sweep_math.unwrapped(*self.phase_wraps())
 
     def h_rows(self, f_hz: np.ndarray) -> np.ndarray:
         """H at one frequency per row (rows may differ): solve (G + sC) x = b row by row at once."""
@@ -125,7 +128,6 @@ class Evaluator(PartStresses):
 
     @cached_property
     def passband_db(self) -> np.ndarray:
-        g = self.gain_db
         if self.passband in ("low", "band-stop"):
             # A low-pass's passband is DC: reading it at the first swept frequency
             # would move the corner with the sweep's start (a sweep starting at fc/8
@@ -134,15 +136,16 @@ class Evaluator(PartStresses):
             try:
                 dc = db(self.response.at_rows(np.zeros(self.rows)))
             except np.linalg.LinAlgError:
-                return g[:, 0]
-            return np.where(np.isfinite(dc), dc, g[:, 0])
+                return self.gain_db[:, 0]
+            ok = np.isfinite(dc)      # then no sweep is needed (a worst-case probe's rows)
+            return dc if ok.all() else np.where(ok, dc, self.gain_db[:, 0])
         if self.passband == "high":
             # A high-pass's passband is at high frequency: the gain keeps rising past
             # the sweep's end (by 4e-6 dB at 1000·fc, more if the sweep ends near the
             # corner), so take the larger of the sweep's end and far above it; a
             # roll-off above the sweep (a source inductance) leaves the sweep's end.
             far = db(self.h_rows(np.full(self.rows, self.freqs_hz[-1] * 1e6)))
-            return np.fmax(g[:, -1], far)
+            return np.fmax(self.gain_db[:, -1], far)
         return self.peak_db      # band-pass: the top of the response, refined off the grid
 
     def passband_gain(self) -> np.ndarray:
@@ -170,14 +173,18 @@ class Evaluator(PartStresses):
             ok = below[rows, j] & (j < len(f) - 1)
             lo, hi = f[j], f[np.minimum(j + 1, len(f) - 1)]
         lo, hi = lo.astype(float), hi.astype(float)
+        fc = sweep_math.confirmed_crossing(self.response, thr, lo, hi, side == "up")
+        todo = np.flatnonzero(ok & np.isnan(fc))          # the rows it does not serve
+        lo, hi, t = lo[todo], hi[todo], thr[todo]
         for _ in range(CORNER_ITERATIONS):
             mid = np.sqrt(lo * hi)
-            under = db(self.response.at_rows(mid)) < thr
+            under = db(self.response.at_rows(mid, todo)) < t
             if side == "up":
                 hi, lo = np.where(under, mid, hi), np.where(under, lo, mid)
             else:
                 lo, hi = np.where(under, mid, lo), np.where(under, hi, mid)
-        return np.where(ok, np.sqrt(lo * hi), np.nan)
+        fc[todo] = np.sqrt(lo * hi)
+        return np.where(ok, fc, np.nan)
 
     def corner(self) -> np.ndarray:
         return self._crossing("down" if self.passband == "high" else "up")
@@ -329,14 +336,21 @@ class Evaluator(PartStresses):
             out[n][ok] = y
         return out
 
-    @cached_property
-    def noise_psd(self) -> np.ndarray:
+    def _noise_psd_on(self, f: np.ndarray, shift) -> np.ndarray:
         def compute(values, rows):
             t = self.temperature_k
             t = np.broadcast_to(t, (self.rows,))[rows] if np.ndim(t) else t
-            return {"psd": engine.output_noise_psd(self.network, values, self.freqs_hz,
-                                                   temperature_k=t)}
-        return self._on_stable(compute, ["psd"], len(self.freqs_hz))["psd"]
+            # Every row: this chunk's system and pencil (same values, same shift) serve.
+            pencil = self.response.pencil if "response" in self.__dict__ else None
+            reuse = (self.conditioned, pencil) if isinstance(rows, slice) else None
+            return {"psd": engine.output_noise_psd(self.network, values, f if f.ndim == 1 else
+                                                   f[rows], temperature_k=t, shift_from_hz=shift,
+                                                   reuse=reuse)}
+        return self._on_stable(compute, ["psd"], f.shape[-1])["psd"]
+
+    @cached_property
+    def noise_psd(self) -> np.ndarray:
+        return self._noise_psd_on(self.freqs_hz, None)
 
     @cached_property
     def noise_columns(self) -> tuple[int, ...]:
@@ -349,16 +363,9 @@ class Evaluator(PartStresses):
         50 points a decade miss a resonance narrower than their spacing (a Q of 30 came
         out 23 % high in power), so each row adds points around its own resonant poles."""
         if not self.noise_columns:
-            return np.sqrt(np.trapezoid(self.noise_psd, self.freqs_hz, axis=1))
+            return np.sqrt(sweep_math.trapezoid(self.noise_psd, self.freqs_hz))
         f = integration_grid(self.freqs_hz, self.poles, self.noise_columns)
-
-        def compute(values, rows):
-            t = self.temperature_k
-            t = np.broadcast_to(t, (self.rows,))[rows] if np.ndim(t) else t
-            return {"psd": engine.output_noise_psd(self.network, values, f[rows],
-                                                   temperature_k=t, shift_from_hz=self.freqs_hz)}
-        psd = self._on_stable(compute, ["psd"], f.shape[1])["psd"]
-        return np.sqrt(np.trapezoid(psd, f, axis=1))
+        return np.sqrt(sweep_math.trapezoid(self._noise_psd_on(f, self.freqs_hz), f))
 
     # ---- time domain -------------------------------------------------------
     @cached_property
@@ -508,26 +515,18 @@ def _unwrapped_phase(ev: Evaluator, at_hz: float) -> np.ndarray:
     The sweep's points up to the mark (from the low end for a low-pass or
     band-pass, from the high end for a high-pass) are unwrapped, the mark's
     value is joined to its nearest swept neighbour, and the whole is shifted
-    by whole turns so that the passband end reads within ±180°.
+    by whole turns so that the passband end reads within ±180°: the last value
+    of np.unwrap over those points and the mark, from the chunk's corrections
+    (sweep_math.unwrapped_at; the sweep rises, so the points are a prefix).
     """
     f = ev.freqs_hz
     ph_mark = np.angle(ev.h_at(at_hz))
-    if ev.passband == "high":
-        seq = ev.phase_rad[:, f >= at_hz][:, ::-1]
-    else:
-        seq = ev.phase_rad[:, f <= at_hz]
-    if seq.shape[1] == 0:
+    high = ev.passband == "high"
+    n = int(np.count_nonzero(f >= at_hz if high else f <= at_hz))
+    if n == 0:
         return np.degrees(ph_mark)
-    return np.degrees(_unwrapped_last(np.concatenate([seq, ph_mark[:, None]], axis=1)))
+    p, rows, k = ev.phase_wraps(high)
+    k_before = np.zeros(ev.rows)
+    k_before[rows] = k[:, n - 1]
+    return np.degrees(sweep_math.unwrapped_at(ph_mark, p[:, n - 1], k_before))
 
-
-def _unwrapped_last(p: np.ndarray) -> np.ndarray:
-    """The last column of np.unwrap(p, axis=1), without the unwrapped array:
-    the same corrections (numpy's rule, steps of 2π where a step exceeds π)
-    summed instead of accumulated."""
-    dd = np.diff(p, axis=1)
-    ddmod = np.mod(dd + np.pi, 2 * np.pi) - np.pi
-    ddmod[(ddmod == -np.pi) & (dd > 0)] = np.pi
-    correct = ddmod - dd
-    correct[np.abs(dd) < np.pi] = 0.0
-    return p[:, -1] + np.sum(correct, axis=1)

@@ -83,7 +83,7 @@ def _grid(freqs_hz, samples: int, shift_from_hz) -> tuple[np.ndarray, np.ndarray
 
 def output_noise_psd(
     network: Network, values: Mapping[str, np.ndarray], freqs_hz, temperature_k=300.0,
-    shift_from_hz=None,
+    shift_from_hz=None, reuse=None,
 ) -> np.ndarray:
     """Thermal noise at the output, one-sided PSD in V²/Hz, shape (S, F).
 
@@ -98,9 +98,10 @@ def output_noise_psd(
     gain form (see _Pencil); samples that form cannot serve take the adjoint
     path: (G + sC)ᵀ·y = e_out gives V(out) = y_a − y_b per ampere injected
     into a and drawn from b (reciprocity of the transposed system).
-    ``temperature_k`` is a scalar or an (S,) array.
+    ``temperature_k`` is a scalar or an (S,) array. ``reuse``: ((system, T), pencil)
+    already built for these values and this shift (the Evaluator's), or None.
     """
-    system, T = conditioned(network, values)
+    (system, T), pencil = reuse if reuse is not None else (conditioned(network, values), None)
     vals, samples = _element_values(network, values)
     f, f_shift = _grid(freqs_hz, samples, shift_from_hz)
     temp = np.broadcast_to(np.asarray(temperature_k, dtype=float), (samples,))
@@ -122,12 +123,12 @@ def output_noise_psd(
             acc += np.abs(Y @ inj) ** 2 / r[rs, None]
         return acc
 
-    pencil = _Pencil(system, f_shift)
+    pencil = pencil if pencil is not None else _Pencil(system, f_shift)
     if out == pencil.d_node:  # the output is the source node: no noise reaches it
         return psd
     pos = {int(u): m for m, u in enumerate(pencil.keep)}  # drive node and source: y = 0
     o = pos[out]
-    jw = 2j * math.pi * f
+    w = 2 * math.pi * f
     ok = pencil.ok.copy()
     terms = []
     for inj, r in resistors:
@@ -138,17 +139,10 @@ def output_noise_psd(
             continue
         gain, zeros, good = pencil.zpk(o, e, None)
         ok &= good
-        terms.append((gain, zeros, r))
-    with np.errstate(all="ignore"):
-        for ss in _pz_blocks(samples, f.shape[-1]):
-            jws = jw[ss] if jw.ndim == 2 else jw
-            den = pencil.product(np.ones(pencil.poles[ss].shape[0]), pencil.poles[ss], jws)
-            den2 = den.real ** 2 + den.imag ** 2
-            acc = np.zeros(den.shape)
-            for gain, zeros, r in terms:
-                z = pencil.product(gain[ss], zeros[ss], jws)
-                acc += (z.real ** 2 + z.imag ** 2) / r[ss, None]
-            psd[ss] = acc / den2
+        # A column of exact zeros in every row is a factor of exactly 1: left out.
+        zeros = zeros[:, np.any(zeros != 0, axis=0)]
+        terms.append((np.abs(gain) ** 2 / r, zeros))
+    _pz_psd(pencil, terms, w, psd)
     ok &= np.all(np.isfinite(psd), axis=1)
     if not np.all(ok):
         idx = np.flatnonzero(~ok)
@@ -156,7 +150,56 @@ def output_noise_psd(
             psd[idx] = _noise_direct_rows(system, pencil.keep, f[idx], idx, accumulate, out)
         else:
             psd[idx] = _noise_direct(system, f, idx, accumulate, out)
-    return 4.0 * BOLTZMANN_J_PER_K * temp[:, None] * psd
+    psd *= (4.0 * BOLTZMANN_J_PER_K * temp)[:, None]     # in place: the same products
+    return psd
+
+
+def _pz_psd(pencil: _Pencil, terms: list, w: np.ndarray, psd: np.ndarray) -> None:
+    """Σ_R |Z_R|²/R over |Π(1 + μd)|² into ``psd`` (S, F), block by block; ``terms``
+    are (|g|²/R, zeros) per resistor. A term without zeros is |g|²/R, one number a
+    row, and those are summed before they meet the frequencies."""
+    samples = psd.shape[0]
+    flat = sum((scale for scale, zeros in terms if zeros.shape[1] == 0), np.zeros(samples))
+    shaped = [(scale, zeros) for scale, zeros in terms if zeros.shape[1]]
+    with np.errstate(all="ignore"):
+        for ss in _pz_blocks(samples, psd.shape[1]):
+            ws = w[ss] if w.ndim == 2 else w[None, :]
+            acc = np.empty((psd[ss].shape[0], psd.shape[1]))
+            acc[...] = flat[ss, None]
+            for scale, zeros in shaped:
+                acc += _abs2_product(pencil.sigma, scale[ss], zeros[ss], ws)
+            np.divide(acc, _abs2_product(pencil.sigma, None, pencil.poles[ss], ws), out=psd[ss])
+
+
+def _abs2_product(sigma: float, scale: np.ndarray | None, eig: np.ndarray,
+                  w: np.ndarray) -> np.ndarray:
+    """scale · Π_k |1 + (jω − σ)·e_k|² (s, F) in real arithmetic, ω = ``w`` (1, F) or (s, F),
+    ``scale`` (s,) or None for 1: the squared modulus of _Pencil.product without its
+    complex products. With a = 1 − σe, a factor is (a_r − ω·e_i)² + (a_i + ω·e_r)²,
+    for a real e a_r² + e_r²·ω² (one term each: no cancellation of large terms)."""
+    rows = eig.shape[0]
+    acc = np.empty((rows, w.shape[-1]))
+    acc[...] = 1.0 if scale is None else scale[:, None]
+    tmp = np.empty_like(acc)
+    tmp2 = None
+    for k in range(eig.shape[1]):
+        e = eig[:, k]
+        a = 1.0 - sigma * e
+        if not np.any(e.imag):
+            np.multiply(w, (e.real * e.real)[:, None], out=tmp)
+            tmp *= w
+            tmp += (a.real * a.real)[:, None]
+        else:
+            tmp2 = np.empty_like(acc) if tmp2 is None else tmp2
+            np.multiply(w, -e.imag[:, None], out=tmp)
+            tmp += a.real[:, None]
+            tmp *= tmp
+            np.multiply(w, e.real[:, None], out=tmp2)
+            tmp2 += a.imag[:, None]
+            tmp2 *= tmp2
+            tmp += tmp2
+        acc *= tmp
+    return acc
 
 
 def _noise_direct(system: System, f: np.ndarray, idx: np.ndarray, accumulate, out: int) -> np.ndarray:

@@ -38,14 +38,18 @@ class Response:
             o = int(np.flatnonzero(p.keep == out)[0])
             d, keep = p.d_node, p.keep
             r1 = -system.C[:, keep, d]
-            self.gain, zeros, self.ok = p.zpk(o, -system.G[:, keep, d], r1)
-            scale = np.max(np.abs(p.poles), axis=1, initial=0.0)
             # A⁻¹C has at least n − rank(C) zero eigenvalues (infinite poles), and the
             # numerator's pencil likewise with its own C: the rank is structural, so
-            # the nominal row's tells every row how many can be finite.
+            # the nominal row's tells every row how many can be finite (none: no
+            # eigenvalues to compute).
             c_o = p.C[0].copy()
             c_o[:, o] = r1[0]
-            self.zeros = _finite(zeros, scale, _rank(c_o))
+            count = _rank(c_o)
+            scale = np.max(np.abs(p.poles), axis=1, initial=0.0)
+            # No eigenvalues where the rank or the first row shows no finite zero.
+            probe = bool(count) and (float(scale[0]) if np.isfinite(scale[0]) else True)
+            self.gain, zeros, self.ok = p.zpk(o, -system.G[:, keep, d], r1, eigen=probe)
+            self.zeros = _finite(zeros, scale, count)
             self.poles = _finite(p.poles, scale, _rank(p.C[0]))
 
     def sweep(self, freqs_hz: np.ndarray) -> np.ndarray:
@@ -58,26 +62,32 @@ class Response:
         H = np.empty((system.samples, f.size), dtype=complex)
         with np.errstate(all="ignore"):
             for ss in _pz_blocks(system.samples, f.size):
-                H[ss] = p.product(self.gain[ss], self.zeros[ss], jw)
-                H[ss] /= p.product(np.ones(H[ss].shape[0]), self.poles[ss], jw)
+                den = p.product(None, self.poles[ss], jw)
+                if self.zeros.shape[1]:
+                    np.divide(p.product(self.gain[ss], self.zeros[ss], jw), den, out=H[ss])
+                else:           # no zero: the gain over the poles, one division
+                    np.divide(self.gain[ss, None], den, out=H[ss])
         ok = self.ok & np.all(np.isfinite(H), axis=1)
         if not np.all(ok):
             H[~ok] = _direct(system, f, ~ok, lambda X: X[..., self.out])
         return H
 
-    def at_rows(self, f_hz: np.ndarray) -> np.ndarray:
-        """H at one frequency per row, (S,) (rows may ask for different frequencies)."""
+    def at_rows(self, f_hz: np.ndarray, rows: np.ndarray | None = None) -> np.ndarray:
+        """H at one frequency per row, (S,) (rows may ask for different frequencies);
+        of the rows ``rows`` only (an index array, one frequency each) if given."""
         f = np.asarray(f_hz, dtype=float)
         if self.through:
             return np.ones(f.shape, dtype=complex)
+        sel = slice(None) if rows is None else rows
         p = self.pencil
         jw = 2j * math.pi * f
         with np.errstate(all="ignore"):
-            h = _row_product(p.sigma, self.gain, self.zeros, jw)
-            h /= _row_product(p.sigma, np.ones(f.size), self.poles, jw)
-        bad = ~(self.ok & np.isfinite(h))
+            h = _row_product(p.sigma, self.gain[sel], self.zeros[sel], jw)
+            h /= _row_product(p.sigma, np.ones(f.size), self.poles[sel], jw)
+        bad = ~(self.ok[sel] & np.isfinite(h))
         if bad.any():
-            h[bad] = _direct_rows(self.system, self.out, f[bad], bad)
+            which = bad if rows is None else np.asarray(rows)[bad]
+            h[bad] = _direct_rows(self.system, self.out, f[bad], which)
         return h
 
 

@@ -116,3 +116,65 @@ def sensitivities(metric: np.ndarray, batch: Batch) -> np.ndarray:
         ratio = probes / base
         logs = np.log(np.where(ratio > 0, ratio, 1.0)) / np.log1p(SENSITIVITY_STEP)
     return np.where(ratio > 0, logs, linear)
+
+
+# Below this many samples a band's percentiles come from np.percentile itself.
+_SELECT_MIN = 64
+
+
+_TRANSPOSE_ROWS = 256      # rows per block of a transposed copy (the block stays in cache)
+
+
+def transposed(a: np.ndarray, dtype=None, fn=None) -> np.ndarray:
+    """A contiguous copy of fn(a).T (fn elementwise, e.g. np.degrees; result cast
+    to ``dtype``), made block by block: numpy's one-pass copy of a transposed view
+    strides through memory and took five times as long (measured)."""
+    out = np.empty(a.shape[::-1], dtype=dtype or a.dtype)
+    for r in range(0, a.shape[0], _TRANSPOSE_ROWS):
+        block = a[r:r + _TRANSPOSE_ROWS]
+        out[:, r:r + _TRANSPOSE_ROWS] = (block if fn is None else fn(block)).T
+    return out
+
+
+def column_percentiles(a: np.ndarray, q: tuple[float, ...]) -> np.ndarray:
+    """np.percentile(a, q, axis=0) (linear method), with the same values, faster:
+    row_percentiles of the transpose."""
+    a = np.asarray(a)
+    if a.ndim != 2 or a.shape[0] < _SELECT_MIN:
+        return np.percentile(a, q, axis=0)
+    return row_percentiles(transposed(a), q)
+
+
+def row_percentiles(rows: np.ndarray, q: tuple[float, ...], overwrite: bool = False) -> np.ndarray:
+    """np.percentile(rows, q, axis=1) (linear method), with the same values, faster.
+
+    numpy partitions for several ranks at once with a generic selection; here
+    each rank pair is found by one single-rank partition of the contiguous rows
+    (numpy's vectorised path) and the minimum above it, then interpolated with
+    numpy's own arithmetic (virtual index (n − 1)·q and its lerp). An order
+    statistic is one value whatever the selection, so the result is identical;
+    rows with NaN, few samples or a rank at an end take np.percentile.
+    ``overwrite``: ``rows`` (contiguous) may be reordered within each row.
+    """
+    rows = np.asarray(rows)
+    n = rows.shape[-1]
+    if n < _SELECT_MIN or rows.ndim != 2 or np.isnan(rows).any():
+        return np.percentile(rows, q, axis=1)
+    qs = np.true_divide(np.asarray(q, dtype=float), 100)
+    virtual = (n - 1) * qs                              # numpy's "linear" method
+    prev = np.floor(virtual).astype(np.intp)
+    gamma = virtual - prev
+    if np.any(prev < 0) or np.any(prev >= n - 1):       # a rank at an end: numpy's path
+        return np.percentile(rows, q, axis=1)
+    work = rows if overwrite and rows.flags.c_contiguous else np.array(rows, order="C")
+    out = np.empty((len(qs), rows.shape[0]), dtype=np.result_type(rows.dtype, gamma.dtype))
+    for k, (j, t) in enumerate(zip(prev, gamma)):
+        work.partition(j, axis=1)
+        lo = work[:, j].copy()
+        hi = work[:, j + 1:].min(axis=1)
+        diff = hi - lo                                  # numpy's _lerp, step by step
+        res = np.add(lo, diff * t)
+        if t >= 0.5:
+            res = np.subtract(hi, diff * (1 - t)).astype(res.dtype)
+        out[k] = res
+    return out

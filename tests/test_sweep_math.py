@@ -1,0 +1,288 @@
+"""The cheaper arithmetic of rcdoc.analysis.sweep_math and spread.column_percentiles
+against the methods they replace and general-purpose libraries.
+
+Sources: numpy.unwrap and numpy.percentile (the methods replaced, general-purpose
+library functions); scipy.signal.freqs (a polynomial transfer function evaluated
+on jω) and scipy.optimize.brentq (the -3 dB crossing found by root bracketing);
+the first-order low-pass corner 1/(2πRC) (any circuits textbook).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+import scipy.optimize as so
+import scipy.signal as sg
+
+from rcdoc.analysis import sweep_math
+from rcdoc.analysis.analyse import passband_of
+from rcdoc.analysis.evaluate import Evaluator, sweep_for
+from rcdoc.analysis.spread import (build_batch, column_percentiles, row_percentiles,
+                                   transposed)
+from rcdoc.kinds import kind_of, load_project
+
+HEAD = '[board]\nname = "Sweep math"\nrevision = "A"\ndate = "2026-01-01"\n'
+
+
+def _phases(rng, rows, cols, step):
+    """Principal phases of random walks: steps of every size, wraps in both directions."""
+    return np.angle(np.exp(1j * np.cumsum(rng.normal(0, step, (rows, cols)), axis=1)))
+
+
+@pytest.mark.parametrize("step", [0.05, 1.0, 2.5])
+def test_unwrap_corrections_are_numpys_unwrap_bit_for_bit(step):
+    rng = np.random.default_rng(7)
+    p = _phases(rng, 300, 60, step)
+    p[0] = 0.0                                       # a row that never wraps
+    p[1, 0] = -0.0                                   # numpy keeps the first value as it is
+    p[2, :3] = [3.0, 3.0 - math.pi, 3.0]             # steps of exactly π: numpy's boundary rule
+    rows, k = sweep_math.unwrap_corrections(p)
+    ref = np.unwrap(p, axis=1)                       # numpy.unwrap
+    got = sweep_math.unwrapped(p, rows, k)
+    assert np.array_equal(got, ref)
+    assert np.array_equal(np.signbit(got), np.signbit(ref))
+    assert 0 not in rows and (rows.size > 0 or step < 1)
+
+
+def test_unwrapped_at_is_the_last_value_of_numpys_unwrap():
+    rng = np.random.default_rng(1)
+    for _ in range(30):
+        p = _phases(rng, 40, 31, 1.5)
+        seq, last = p[:, :-1], p[:, -1]
+        rows, k = sweep_math.unwrap_corrections(seq)
+        k_before = np.zeros(len(p))
+        k_before[rows] = k[:, -1]
+        got = sweep_math.unwrapped_at(last, seq[:, -1], k_before)
+        assert np.array_equal(got, np.unwrap(p, axis=1)[:, -1])      # numpy.unwrap
+
+
+@pytest.mark.parametrize("n", [1, 5, 63, 64, 65, 999, 5000, 20001])
+@pytest.mark.parametrize("dtype", [np.float32, np.float64])
+def test_column_percentiles_are_numpys(n, dtype):
+    rng = np.random.default_rng(n)
+    a = (rng.standard_normal((n, 37)) * 3 - 20).astype(dtype)
+    a[:, 3] = 1.5                                    # a constant column
+    a[::4, 5] = 2.0                                  # many ties
+    a[:, 6] *= 1e-30                                 # values decades apart from the rest
+    for q in [(5.0, 95.0), (0.0, 100.0), (50.0,), (12.5, 87.5)]:
+        ref = np.percentile(a, q, axis=0)            # numpy.percentile, linear method
+        got = column_percentiles(a, q)
+        assert got.dtype == ref.dtype and np.array_equal(got, ref)
+        assert np.array_equal(row_percentiles(np.ascontiguousarray(a.T), q), ref)
+        assert np.array_equal(row_percentiles(np.array(a.T, order="C"), q, overwrite=True), ref)
+    a[n // 2, 9] = np.nan                            # a sample without a value: numpy's NaN
+    ref = np.percentile(a, (5.0, 95.0), axis=0)
+    assert np.array_equal(column_percentiles(a, (5.0, 95.0)), ref, equal_nan=True)
+
+
+STAGES = {
+    "sallen-key-lowpass": 'parts.r1 = { value = "11k", tolerance = "5%" }\n'
+                          'parts.r2 = { value = "11k", tolerance = "5%" }\n'
+                          'parts.c1 = { value = "CAP", tolerance = "10%", dielectric = "C0G" }\n'
+                          'parts.c2 = { value = "10 nF", tolerance = "10%", dielectric = "C0G" }\n',
+    "rc-highpass": 'parts.r = { value = "4k7", tolerance = "1%" }\n'
+                   'parts.c = { value = "CAP", tolerance = "5%", dielectric = "C0G" }\n',
+    "rc-lowpass": 'parts.r = { value = "4k7", tolerance = "1%" }\n'
+                  'parts.c = { value = "CAP", tolerance = "5%", dielectric = "C0G" }\n',
+}
+
+
+def evaluator(tmp_path, kind, cap, samples=300):
+    text = HEAD + f"\n[analysis]\nsamples = {samples}\nseed = 4\n\n[[stage]]\nid = \"s\"\n" \
+        f'title = "S"\nkind = "{kind}"\n' + STAGES[kind].replace("CAP", cap)
+    path = tmp_path / "board.toml"
+    path.write_text(text, encoding="utf-8")
+    project = load_project(str(path))
+    stage = project.stages[0]
+    k = kind_of(stage)
+    batch = build_batch(stage, project.analysis)
+    values = {n: np.ascontiguousarray(v[batch.mc]) for n, v in batch.values.items()}
+    char = k.characteristic_hz(stage)
+    return Evaluator(stage, k.build(stage), values, sweep_for(char, project.analysis),
+                     passband_of(stage, k), char), values
+
+
+def old_phase(ev, at_hz):
+    """The method replaced: np.unwrap over the swept points up to the mark and the mark."""
+    f = ev.freqs_hz
+    mark = np.angle(ev.h_at(at_hz))
+    seq = ev.phase_rad[:, f >= at_hz][:, ::-1] if ev.passband == "high" \
+        else ev.phase_rad[:, f <= at_hz]
+    if seq.shape[1] == 0:
+        return np.degrees(mark)
+    return np.degrees(np.unwrap(np.concatenate([seq, mark[:, None]], axis=1), axis=1)[:, -1])
+
+
+# Unity-gain Sallen-Key with R1 = R2: Q = √(C1/C2)/2 (the standard result): 0.71 with
+# C1 = 2·C2, 6.7 with C1 = 180·C2, 300 with C1 = 360 000·C2, 0.5 (repeated poles) with C1 = C2.
+@pytest.mark.parametrize("kind,cap", [("sallen-key-lowpass", "20 nF"),
+                                      ("sallen-key-lowpass", "1.8 uF"),
+                                      ("sallen-key-lowpass", "10 nF"),
+                                      ("sallen-key-lowpass", "3600 uF"),
+                                      ("rc-highpass", "10 nF"), ("rc-lowpass", "10 nF")])
+def test_phase_at_marks_is_the_unwrap_it_replaces(tmp_path, kind, cap):
+    ev, _ = evaluator(tmp_path, kind, cap)
+    f = ev.freqs_hz
+    marks = [f[0] / 3, f[0], f[5] * 1.01, f[150], f[150] * 1.013, f[-1], f[-1] * 2]
+    for at in marks:
+        assert np.array_equal(ev.phase(at), old_phase(ev, at)), at
+    # The band's unwrapped phase is numpy's unwrap of the whole sweep.
+    assert np.array_equal(ev.phase_unwrapped, np.unwrap(ev.phase_rad, axis=1))
+
+
+def test_angle_is_numpys_angle():
+    rng = np.random.default_rng(3)
+    h = (rng.standard_normal((200, 50)) + 1j * rng.standard_normal((200, 50))) \
+        * 10.0 ** rng.uniform(-150, 150, (200, 50))           # values decades apart
+    edge = [0, -0.0 + 0j, complex(-1, 0.0), complex(-1, -0.0), complex(0, 1),
+            complex(-0.0, -1), complex(-0.0, 1), complex(np.inf, 1), complex(np.nan, 1),
+            complex(-1, 1e-300), complex(-1e300, -1e-300), complex(-5e-324, 1)]
+    h[0, :len(edge)] = edge
+    ref = np.angle(h)                                        # numpy.angle
+    got = sweep_math.angle(h)
+    assert np.array_equal(np.isnan(got), np.isnan(ref))
+    assert np.nanmax(np.abs(got - ref)) <= 4 * np.finfo(float).eps * math.pi
+    # the branch cut as arctan2 takes it: +π above the negative real axis, −π below
+    assert got[0, 2] == math.pi and got[0, 3] == -math.pi and got[0, 5] == -math.pi / 2
+
+
+def test_transposed_copy_is_numpys():
+    a = np.random.default_rng(5).standard_normal((1000, 37))
+    assert np.array_equal(transposed(a), a.T)
+    t = transposed(a, np.float32, np.degrees)
+    assert t.flags.c_contiguous and np.array_equal(t, np.degrees(a).astype(np.float32).T)
+
+
+def bisection_corner(ev, monkeypatch):
+    """The method replaced: the same Evaluator with the closed form switched off."""
+    monkeypatch.setattr(sweep_math, "level_crossing",
+                        lambda gain, *a: np.full(gain.shape[0], np.nan))
+    fresh = Evaluator(ev.stage, ev.network, ev.values, ev.freqs_hz, ev.passband, ev.char_hz)
+    out = fresh.corner()
+    monkeypatch.undo()
+    return out
+
+
+@pytest.mark.parametrize("kind,cap", [("sallen-key-lowpass", "20 nF"),      # Q = 0.71
+                                      ("sallen-key-lowpass", "10 nF"),      # Q = 0.5, repeated poles
+                                      ("sallen-key-lowpass", "1.8 uF"),     # Q = 6.7
+                                      ("sallen-key-lowpass", "3600 uF"),    # Q = 300
+                                      ("rc-highpass", "10 nF"), ("rc-lowpass", "10 nF"),
+                                      ("rc-lowpass", "1 pF"), ("rc-lowpass", "100 mF")])
+def test_closed_form_corner_is_the_bisections(tmp_path, monkeypatch, kind, cap):
+    ev, v = evaluator(tmp_path, kind, cap)
+    r = ev.response
+    thr = ev.passband_db - 10 * math.log10(2.0)
+    served = np.isfinite(sweep_math.level_crossing(
+        r.gain, r.zeros, r.poles, r.pencil.sigma, 10 ** (thr / 10),
+        np.full(ev.rows, ev.freqs_hz[0]), np.full(ev.rows, ev.freqs_hz[-1])))
+    assert served.all()                              # the closed form does serve these
+    fc = ev.corner()
+    ref = bisection_corner(ev, monkeypatch)
+    assert np.array_equal(np.isnan(fc), np.isnan(ref))
+    assert np.nanmax(np.abs(fc / ref - 1)) < 1e-10
+    if kind == "rc-lowpass":                         # 1/(2πRC), any circuits textbook
+        assert np.max(np.abs(fc * 2 * np.pi * v["r"] * v["c"] - 1)) < 1e-9
+    if kind == "sallen-key-lowpass":
+        # scipy.signal.freqs of 1/(s²·R1R2C1C2 + s·C2(R1 + R2) + 1) and scipy.optimize.brentq
+        # on |H| = |H(0)|/√2 (the standard unity-gain result), a few rows
+        for i in range(0, ev.rows, 60):
+            a = [v["r1"][i] * v["r2"][i] * v["c1"][i] * v["c2"][i],
+                 v["c2"][i] * (v["r1"][i] + v["r2"][i]), 1.0]
+
+            def gap(f):
+                return abs(sg.freqs([1.0], a, worN=[2 * np.pi * f])[1][0]) - 1 / math.sqrt(2)
+            lo, hi = fc[i] * 0.999, fc[i] * 1.001
+            assert gap(lo) > 0 > gap(hi)
+            ref_i = so.brentq(gap, lo, hi, xtol=1e-14 * fc[i], rtol=1e-15)
+            assert abs(fc[i] / ref_i - 1) < 1e-9
+
+
+def test_level_crossing_falls_back_where_it_cannot_decide():
+    # Three poles, or a complex value without its conjugate: no closed form (NaN).
+    g = np.ones(2)
+    three = np.full((2, 3), 0.5 + 0j)
+    assert np.all(np.isnan(sweep_math.level_crossing(g, np.zeros((2, 0)), three, 1.0,
+                                                     np.full(2, 0.5), np.ones(2), np.full(2, 9.0))))
+    lone = np.array([[0.5 + 0.1j, 0.5 + 0.2j], [0.4, 0.3]])
+    got = sweep_math.level_crossing(g, np.zeros((2, 0)), lone, 1.0, np.full(2, 0.5),
+                                    np.full(2, 1e-3), np.full(2, 1e3))
+    assert np.isnan(got[0]) and np.isfinite(got[1])
+    # H(s) = 1/((s + 1)(s + 3)) in the zero-pole-gain form with σ = 1: e = 1/(σ − p) and
+    # gain H(σ) = 1/8. |H|² = 1/((1 + x)(9 + x)), x = ω², falls to half its DC value 1/9
+    # where x² + 10x − 9 = 0: x = √34 − 5 (textbook algebra).
+    e = np.array([[1 / (1 + 1.0), 1 / (1 + 3.0)]], dtype=complex)
+    f = sweep_math.level_crossing(np.array([1 / 8]), np.zeros((1, 0)), e, 1.0,
+                                  np.array([1 / 18]), np.array([0.01]), np.array([10.0]))
+    assert abs((2 * np.pi * f[0]) ** 2 / (math.sqrt(34) - 5) - 1) < 1e-12
+
+
+def old_psd(ev, f):
+    """The complex products it replaces: Σ_R |g·Π(1 + μe)|²/R / |Π(1 + μd)|² · 4kT."""
+    from rcdoc.analysis.ac import _Pencil
+    system, t = ev.conditioned
+    p = _Pencil(system, f)
+    o = int(np.flatnonzero(p.keep == system.index[ev.network.output])[0])
+    jw = 2j * np.pi * f
+    den = np.abs(p.product(None, p.poles, jw)) ** 2
+    acc = np.zeros(den.shape)
+    for el in ev.network.elements:
+        if el.kind != "R":
+            continue
+        inj = sum(sign * (t[system.node(n)] if system.node(n) is not None else 0)
+                  for sign, n in ((1, el.a), (-1, el.b)))
+        e = np.broadcast_to(np.asarray(inj)[p.keep], (ev.rows, p.keep.size))
+        if not e.any():
+            continue
+        gain, zeros, _ = p.zpk(o, e, None)
+        r = ev.values[el.name] if el.name in ev.values else None
+        acc += np.abs(p.product(gain, zeros, jw)) ** 2 / np.broadcast_to(r, (ev.rows,))[:, None]
+    return 4 * 1.380649e-23 * 300.0 * acc / den
+
+
+@pytest.mark.parametrize("kind,cap", [("rc-lowpass", "10 nF"), ("sallen-key-lowpass", "20 nF"),
+                                      ("sallen-key-lowpass", "3600 uF"),
+                                      ("sallen-key-lowpass", "10 nF")])
+def test_noise_psd_is_the_direct_solves(tmp_path, monkeypatch, kind, cap):
+    """The real-arithmetic |Z|² against the adjoint solve of the nodal equations at
+    every frequency (noise.py's own direct path, forced), and for the RC low-pass the
+    textbook PSD 4kTR/(1 + (ωRC)²) (Johnson–Nyquist through the divider)."""
+    from rcdoc.analysis import engine
+    from rcdoc.analysis import ac as acmod
+    ev, v = evaluator(tmp_path, kind, cap, samples=40)
+    f = ev.freqs_hz
+    psd = engine.output_noise_psd(ev.network, ev.values, f, temperature_k=300.0)
+    monkeypatch.setattr(acmod, "_PZ_RCOND", 1e300)          # every row: the direct path
+    direct = engine.output_noise_psd(ev.network, ev.values, f, temperature_k=300.0)
+    monkeypatch.undo()
+    # At Q = 300 the direct solve itself loses digits at the peak (3.6e-8 there before
+    # the real arithmetic too); elsewhere the two agree to 1e-9.
+    assert np.max(np.abs(psd / direct - 1)) < (1e-7 if cap == "3600 uF" else 1e-9)
+    assert np.max(np.abs(psd / old_psd(ev, f) - 1)) < 1e-13       # the arithmetic replaced
+    if kind == "rc-lowpass":
+        w = 2 * np.pi * f[None, :]
+        rc = (v["r"] * v["c"])[:, None]
+        ref = 4 * 1.380649e-23 * 300.0 * v["r"][:, None] / (1 + (w * rc) ** 2)
+        assert np.max(np.abs(psd / ref - 1)) < 1e-12
+    # the weighted sum is numpy's trapezoid rule
+    assert np.allclose(sweep_math.trapezoid(psd, f), np.trapezoid(psd, f, axis=1),
+                       rtol=1e-13, atol=0)
+
+
+@pytest.mark.parametrize("kind,cap", [("sallen-key-lowpass", "20 nF"), ("rc-highpass", "10 nF"),
+                                      ("rc-lowpass", "10 nF")])
+def test_zeros_skipped_only_where_none_is_finite(tmp_path, monkeypatch, kind, cap):
+    """A numerator whose first row shows no finite zero gets no eigenvalues; the
+    response is the one every row's eigenvalues gave (the method replaced)."""
+    from rcdoc.analysis import ac as acmod
+    ev, _ = evaluator(tmp_path, kind, cap, samples=50)
+    h = ev.response.sweep(ev.freqs_hz)
+    zpk = acmod._Pencil.zpk
+    monkeypatch.setattr(acmod._Pencil, "zpk", lambda self, o, r0, r1, eigen=True:
+                        zpk(self, o, r0, r1, eigen=True))
+    full = Evaluator(ev.stage, ev.network, ev.values, ev.freqs_hz, ev.passband, ev.char_hz)
+    assert np.array_equal(full.response.sweep(ev.freqs_hz), h)
+    assert full.response.zeros.shape == ev.response.zeros.shape
+    assert ev.response.zeros.shape[1] == (1 if kind == "rc-highpass" else 0)
