@@ -243,10 +243,14 @@ _QUANTITY_RE = re.compile(
 )
 
 
-def _keep_units(cell) -> Markup:
+def _keep_units(cell, kind: str | None = None) -> Markup:
     """Escape a table cell and keep each number with its unit on one line
-    ("546 µs" never breaks between 546 and µs); the text itself is unchanged."""
+    ("546 µs" never breaks between 546 and µs); the text itself is unchanged.
+    ``kind``: the cell's classes; a cell that does not wrap at all ("nw", "num")
+    needs no span (a fifth of a stage's elements, each styled and laid out)."""
     escaped = str(escape(cell))
+    if kind and {"nw", "num"} & set(str(kind).split()):
+        return Markup(escaped)
     return Markup(_QUANTITY_RE.sub(r'<span class="nw">\1 \2</span>', escaped))
 
 
