@@ -413,6 +413,7 @@ fresh = None if outcome.parts is None else list(outcome.parts)
 for rep in range(k):
     if fresh is not None:   # write_outputs files the parts it rendered: start each repeat cold
         outcome.parts[:] = fresh
+    outcome.note_parts.clear()   # the appendix and page-number parts too
     t0 = time.process_time()
     pdf = bench.write_note(outcome, tmp / f"note-{rep}")
     note.append(time.process_time() - t0)

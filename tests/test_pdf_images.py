@@ -12,6 +12,8 @@ from __future__ import annotations
 
 import base64
 import io
+import shutil
+import subprocess
 import zlib
 
 import numpy as np
@@ -86,3 +88,94 @@ def test_finisher_keeps_the_pixels_weasyprint_drew(colours):
         assert space == "/DeviceRGB"
     # Deterministic: the same document, the same bytes.
     assert html.write_pdf(finisher=pdf_images.index_images) == small
+
+
+def _palette_png(w: int, h: int, colours: int, seed: int, **save) -> tuple[bytes, np.ndarray]:
+    """A palette PNG written by Pillow (which picks 1, 2, 4 or 8 bits from the
+    palette's size) and its pixels as Pillow reads them back."""
+    rng = np.random.default_rng(seed)
+    index = rng.integers(0, colours, size=(h, w), dtype=np.uint8)
+    image = Image.fromarray(index, "P")
+    image.putpalette(rng.integers(0, 256, size=3 * colours, dtype=np.uint8).tobytes())
+    out = io.BytesIO()
+    image.save(out, format="PNG", **save)
+    data = out.getvalue()
+    return data, np.asarray(Image.open(io.BytesIO(data)).convert("RGB"))
+
+
+@pytest.mark.parametrize("colours", [17, 200, 256])
+def test_palette_png_goes_into_the_pdf_as_it_is(colours, tmp_path):
+    # ISO 32000-1 §7.4.4.4: PNG predictors (Predictor >= 10) read rows with PNG's
+    # filter bytes, so a palette PNG's IDAT under /Indexed (§8.6.6.3) keeps every
+    # pixel. References: the pixels Pillow decodes from the PNG, against those
+    # pypdf decodes from the PDF and those poppler's pdfimages takes out of it.
+    for width in (37, 9):
+        png, want = _palette_png(width, 11, colours, seed=colours + width)
+        w, h, bits, _palette, _idat = pdf_images.palette_png(png)
+        assert (w, h, bits) == (width, 11, 8)
+        url = pdf_images.FIGURE_SCHEME + "test"
+        html = weasyprint.HTML(string=f'<img src="{url}" style="width:6cm">')
+        data = html.write_pdf(cache={url: pdf_images.IndexedPNG(url, png)})
+        image = pypdf.PdfReader(io.BytesIO(data)).pages[0].images[0]
+        assert (np.asarray(image.image.convert("RGB")) == want).all()
+        if shutil.which("pdfimages"):
+            (tmp_path / "n.pdf").write_bytes(data)
+            subprocess.run(["pdfimages", "-png", str(tmp_path / "n.pdf"), str(tmp_path / "x")],
+                           check=True)
+            got = np.asarray(Image.open(tmp_path / "x-000.png").convert("RGB"))
+            assert (got == want).all()
+        # The same bytes the next time (no clock, no random order).
+        again = html.write_pdf(cache={url: pdf_images.IndexedPNG(url, png)})
+        assert again == data
+
+
+def test_palette_png_refuses_what_it_cannot_pass_through():
+    png, _ = _palette_png(8, 8, 40, seed=3)
+    assert pdf_images.palette_png(png) is not None
+    # Fewer than 8 bits (Pillow writes 4 for 16 colours): weasyprint's own path.
+    four, _ = _palette_png(8, 8, 16, seed=3)
+    assert four[24] == 4 and pdf_images.palette_png(four) is None
+    # Transparency (tRNS): weasyprint's own path makes the soft mask.
+    transparent, _ = _palette_png(8, 8, 40, seed=3, transparency=0)
+    assert pdf_images.palette_png(transparent) is None
+    # Interlaced rows (Adam7) are no PDF predictor's rows.
+    interlaced = bytearray(png)
+    interlaced[28] = 1
+    assert pdf_images.palette_png(bytes(interlaced)) is None
+    rgb = io.BytesIO()
+    Image.fromarray(_few_colours(8, 8, 5), "RGB").save(rgb, format="PNG")
+    assert pdf_images.palette_png(rgb.getvalue()) is None
+    assert pdf_images.palette_png(png[:40]) is None          # cut short
+    assert pdf_images.palette_png(b"<svg/>") is None
+
+
+@pytest.mark.slow
+def test_note_figures_keep_their_pixels_in_one_document_and_in_parts(tmp_path):
+    # The note's PNG figures go to weasyprint by a short URL and its image cache;
+    # the PDF, rendered whole or in parts, holds them pixel for pixel (reference:
+    # Pillow's decoding of the PNG against pypdf's decoding of the PDF).
+    import copy
+
+    from test_report import make_context
+
+    from rcdoc.note import pdf, report
+    png, want = _palette_png(120, 50, 180, seed=7)
+    ctx = copy.deepcopy(make_context())
+    ctx["stages"][0]["blocks"].insert(0, {"type": "figure", "title": "Chart", "image": png,
+                                          "caption": "", "width": "full"})
+    figures: dict = {}
+    html = report.render_html(ctx, figures=figures)
+    assert list(figures.values()) == [png] and next(iter(figures)) in html
+    assert "data:image/png" not in html
+    assert "data:image/png" in report.render_html(ctx)     # without figures: data URLs
+    for name, dirs in (("parts.pdf", ()), ("one.pdf", None)):
+        if dirs is None:                 # an own note.html: one document
+            own = tmp_path / "tpl"
+            own.mkdir()
+            (own / "note.html").write_text(
+                (report.shipped_templates_dir() / "note.html").read_text() + "\n")
+            dirs = [own]
+        pdf.render_pdf(ctx, tmp_path / name, template_dirs=dirs)
+        found = [i for p in pypdf.PdfReader(tmp_path / name).pages for i in p.images
+                 if i.image.size == (120, 50)]
+        assert found and all((np.asarray(i.image.convert("RGB")) == want).all() for i in found)

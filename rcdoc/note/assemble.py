@@ -174,13 +174,15 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
     ctx = {**context, "part": part}
     if part == "numbers":
         ctx["page_count"] = page_count
+    figures: dict = {}
     html = report.render_html(ctx, template_dirs=template_dirs,
-                              source_date_epoch=source_date_epoch)
+                              source_date_epoch=source_date_epoch, figures=figures)
     search = report._search_path(template_dirs)
     base = next(d for d in search if (d / report._TEMPLATE_NAME).is_file())
+    cache = report.cache if image_cache is None else image_cache
     document = weasyprint.HTML(string=html, base_url=str(base) + os.sep,
                                url_fetcher=fetcher).render(
-        cache=report.cache if image_cache is None else image_cache)
+        cache=report.figure_images(figures, cache))
     scale = 0.75  # CSS px -> PDF pt, as weasyprint writes them (zoom 1)
     links, anchors = [], {}
     for i, page in enumerate(document.pages):

@@ -9,6 +9,14 @@ pydyf document before it is written): it rewrites each RGB image of at most
 same pixels, one byte each. Lossless and deterministic (palette in sorted
 colour order, zlib at a fixed level): the same chart, the same bytes.
 
+``IndexedPNG`` goes further for the note's own figures: weasyprint would
+decode each palette PNG, convert it to RGB, deflate it twice and the finisher
+would decode and deflate it once more (a fifth of the note's render). Given to
+weasyprint ready-made (report.py puts it in the image cache under the figure's
+URL), a palette PNG becomes an /Indexed image whose data are the PNG's own
+compressed rows: PNG row filters are the PDF's PNG predictors (ISO 32000-1
+§7.4.4.4), so nothing is decoded or compressed again.
+
 What it must not do: change any pixel, or touch an image it does not
 understand (other colour spaces, soft masks, JPEG, other predictors).
 """
@@ -18,11 +26,17 @@ from __future__ import annotations
 import io
 import struct
 import zlib
+from hashlib import md5
 
 import numpy as np
 import pydyf
+from weasyprint.images import RasterImage
 
-__all__ = ["index_images", "indexed"]
+__all__ = ["index_images", "indexed", "palette_png", "IndexedPNG", "FIGURE_SCHEME"]
+
+#: The URL scheme of the note's own PNG figures in its HTML ("rcdoc-figure:<sha256>"):
+#: never fetched, always found in the image cache (report.figure_images).
+FIGURE_SCHEME = "rcdoc-figure:"
 
 #: zlib level of the index bytes: 6 wrote 16 % more bytes than 9 on the
 #: 40-stage note's charts but took a fifth of the time (README, Performance).
@@ -95,3 +109,65 @@ def index_images(_document, pdf: pydyf.PDF) -> None:
         obj.extra["ColorSpace"] = pydyf.Array(
             ["/Indexed", "/DeviceRGB", len(palette) // 3 - 1, b"<" + palette.hex().encode() + b">"])
         del obj.extra["DecodeParms"]
+
+
+def palette_png(data: bytes) -> tuple[int, int, int, bytes, bytes] | None:
+    """(width, height, bits, palette, IDAT data) of a PNG that is a plain palette
+    image (colour type 3, 8 bits, not interlaced, no transparency), else None.
+    Fewer bits (Pillow writes them for palettes of at most 16 colours) are left to
+    weasyprint's own path: not every PDF reader unpacks them under /Indexed."""
+    if not isinstance(data, bytes) or data[:8] != b"\x89PNG\r\n\x1a\n":
+        return None
+    pos, head, palette, idat = 8, None, None, []
+    while pos + 8 <= len(data):
+        size, kind = struct.unpack("!I4s", data[pos:pos + 8])
+        body = data[pos + 8:pos + 8 + size]
+        if len(body) != size:
+            return None
+        if kind == b"IHDR":
+            head = struct.unpack("!IIBBBBB", body)
+        elif kind == b"PLTE":
+            palette = body
+        elif kind == b"IDAT":
+            idat.append(body)
+        elif kind == b"tRNS":          # transparency: weasyprint's own path (a soft mask)
+            return None
+        elif kind == b"IEND":
+            break
+        pos += 12 + size
+    if head is None or palette is None or not idat:
+        return None
+    width, height, bits, colour, _method, _filter, interlace = head
+    if colour != 3 or interlace or bits != 8 or not 3 <= len(palette) <= 768:
+        return None
+    return width, height, bits, palette, b"".join(idat)
+
+
+class IndexedPNG(RasterImage):
+    """A palette PNG for weasyprint's image cache (see the module's docstring):
+    laid out like weasyprint's own raster image, written as an /Indexed image
+    with the PNG's compressed rows as they are. Build it only from data that
+    ``palette_png`` accepts."""
+
+    def __init__(self, url: str, data: bytes):     # noqa: D107 - RasterImage's __init__ re-encodes
+        width, height, bits, palette, idat = palette_png(data)
+        self.id = md5(url.encode(), usedforsecurity=False).hexdigest()   # as weasyprint names it
+        self._cache, self._jpeg_quality, self._dpi = {}, None, None
+        self.mode, self.format, self.optimize, self.invert_colors = "P", "PNG", False, False
+        self.width, self.height = width, height
+        self.ratio = width / height if height else float("inf")
+        self._bits, self._palette, self._idat = bits, palette, idat
+
+    def get_x_object(self, interpolate, dpi_ratio):
+        # rcdoc sets no dpi option, so weasyprint never asks for a smaller copy.
+        return pydyf.Stream([self._idat], pydyf.Dictionary({
+            "Type": "/XObject", "Subtype": "/Image", "Width": self.width,
+            "Height": self.height, "BitsPerComponent": self._bits,
+            "ColorSpace": pydyf.Array(["/Indexed", "/DeviceRGB", len(self._palette) // 3 - 1,
+                                       b"<" + self._palette.hex().encode() + b">"]),
+            "Interpolate": "true" if interpolate else "false",
+            "Filter": "/FlateDecode",
+            "DecodeParms": pydyf.Dictionary({"Predictor": 15, "Colors": 1,
+                                             "BitsPerComponent": self._bits,
+                                             "Columns": self.width}),
+        }))

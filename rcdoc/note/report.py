@@ -54,6 +54,8 @@ from __future__ import annotations
 
 import base64
 import contextlib
+import contextvars
+import functools
 import hashlib
 import logging
 import mimetypes
@@ -96,6 +98,10 @@ cache: dict = {}
 FIGURE_EMBEDDING = "img"
 
 _TEMPLATE_NAME = "note.html"
+
+#: The PNG figures of the HTML being rendered (URL -> PNG bytes), when its caller
+#: will hand them to weasyprint through the image cache (render_html(figures=...)).
+_FIGURES: contextvars.ContextVar[dict | None] = contextvars.ContextVar("figures", default=None)
 
 
 # --------------------------------------------------------------------------
@@ -213,6 +219,13 @@ def _figure_markup(svg: str | bytes, alt: str = "") -> Markup:
     times slower than the same chart as a PNG). Figures come from rcdoc's chart
     and schematic modules, never from the user's file."""
     if isinstance(svg, bytes):
+        figures = _FIGURES.get()
+        if figures is not None and pdf_images.palette_png(svg) is not None:
+            # A short URL: the image waits in weasyprint's image cache (figure_images),
+            # so the HTML parser never walks the base64 of every chart.
+            url = pdf_images.FIGURE_SCHEME + hashlib.sha256(svg).hexdigest()
+            figures[url] = svg
+            return Markup('<img class="chart" src="{}" alt="{}">').format(url, alt)
         data = base64.b64encode(svg).decode("ascii")
         return Markup('<img class="chart" src="data:image/png;base64,{}" alt="{}">').format(
             Markup(data), alt)
@@ -230,10 +243,14 @@ _QUANTITY_RE = re.compile(
 )
 
 
-def _keep_units(cell) -> Markup:
+def _keep_units(cell, kind: str | None = None) -> Markup:
     """Escape a table cell and keep each number with its unit on one line
-    ("546 µs" never breaks between 546 and µs); the text itself is unchanged."""
+    ("546 µs" never breaks between 546 and µs); the text itself is unchanged.
+    ``kind``: the cell's classes; a cell that does not wrap at all ("nw", "num")
+    needs no span (a fifth of a stage's elements, each styled and laid out)."""
     escaped = str(escape(cell))
+    if kind and {"nw", "num"} & set(str(kind).split()):
+        return Markup(escaped)
     return Markup(_QUANTITY_RE.sub(r'<span class="nw">\1 \2</span>', escaped))
 
 
@@ -346,6 +363,14 @@ class _ConfinedLoader(jinja2.FileSystemLoader):
 
 
 def _environment(search_path: Sequence[Path]) -> jinja2.Environment:
+    # One environment per template search path and process: it keeps the
+    # compiled templates (compiling them for every part of the note took a
+    # twentieth of its render); jinja2 reloads a template whose file changed.
+    return _made_environment(tuple(Path(p) for p in search_path))
+
+
+@functools.lru_cache(maxsize=8)
+def _made_environment(search_path: tuple[Path, ...]) -> jinja2.Environment:
     # Every template (shipped or --templates) runs in jinja2's immutable
     # sandbox: no attribute starting with "_", no Python internals (globals,
     # code, frames), no str.format escape, no mutation of lists or dicts. A
@@ -394,9 +419,13 @@ def render_html(
     *,
     template_dirs: Sequence[Path] = (),
     source_date_epoch: int | None = None,
+    figures: dict | None = None,
 ) -> str:
     """The note as an HTML string (templates/note.html rendered with context).
 
+    With ``figures`` (a dict), palette PNG figures are referred to by a short
+    ``rcdoc-figure:`` URL and put in ``figures`` (URL -> PNG bytes) for
+    ``figure_images``; without it every figure is a ``data:`` URL.
     Template mistakes (syntax, undefined names, missing templates) raise
     ProjectError naming the template file and line.
     """
@@ -407,6 +436,7 @@ def render_html(
         "summary_rows": _summary_rows(context),
         "palette_css": Markup(_palette_css()),
     }
+    token = _FIGURES.set(figures)
     try:
         template = env.get_template(_TEMPLATE_NAME)
         return template.render({**context, **extra})
@@ -434,6 +464,17 @@ def render_html(
                 f"line {line}: {type(exc).__name__}: {message}", file=where
             ) from exc
         raise  # a bug in rcdoc (context or shipped template), not the user's
+    finally:
+        _FIGURES.reset(token)
+
+
+def figure_images(figures: Mapping[str, bytes], cache: dict) -> dict:
+    """``cache`` (weasyprint's image cache, URL -> image) with an image for each
+    figure of ``figures`` (from render_html) it lacks; returns ``cache``."""
+    for url, data in figures.items():
+        if url not in cache:
+            cache[url] = pdf_images.IndexedPNG(url, data)
+    return cache
 
 
 def epoch_of(source_date_epoch: int | None) -> int | None:
@@ -458,9 +499,9 @@ def render_document(context: dict, out_path: Path, *, template_dirs: Sequence[Pa
     read only from those folders and ``project_dir``. ``source_date_epoch``
     (seconds, UTC) dates the PDF; without it the PDF carries no dates.
     """
-    html = render_html(
-        context, template_dirs=template_dirs, source_date_epoch=source_date_epoch
-    )
+    figures: dict = {}
+    html = render_html(context, template_dirs=template_dirs,
+                       source_date_epoch=source_date_epoch, figures=figures)
     search_path = _search_path(template_dirs)
     allowed = list(search_path) + ([Path(project_dir)] if project_dir is not None else [])
     fetcher = make_url_fetcher(allowed)
@@ -472,7 +513,8 @@ def render_document(context: dict, out_path: Path, *, template_dirs: Sequence[Pa
     pdf_id = pdf_identifier(str(board.get("name", "")), str(board.get("revision", "")))
 
     with _font_timestamp(source_date_epoch or 0):
-        pdf_bytes = document.write_pdf(pdf_identifier=pdf_id, cache=cache,
+        pdf_bytes = document.write_pdf(pdf_identifier=pdf_id,
+                                       cache=figure_images(figures, cache),
                                        finisher=pdf_images.index_images)  # charts indexed again
     write_note(out_path, pdf_bytes)
 
