@@ -142,6 +142,12 @@ def _new_figure(height_in: float, width_in: float = WIDTH_IN) -> Figure:
     return fig
 
 
+#: zlib level of a chart's PNG: the renderer decodes it and deflates the pixels
+#: again for the PDF (rcdoc.note.pdf_images), so this level only sizes the PNG in
+#: the build cache. Level 3 wrote 21 % more bytes than 6 in 46 % of the time
+#: (bench/charts.py, README, Performance).
+_PNG_LEVEL = 3
+
 #: Resolution of raster charts, chosen by measurement (README, Performance): at
 #: 150 dpi the note's PNGs are about 28 % smaller than at 200 dpi and still sharp
 #: at the note's 16 cm width (a 0.7 pt grid line is 1.5 pixels wide).
@@ -315,7 +321,7 @@ def _png(fig: Figure) -> bytes:
     indexed = rgba.convert("RGB").quantize(colors=256, method=Image.Quantize.FASTOCTREE,
                                            dither=Image.Dither.NONE)
     out = io.BytesIO()
-    indexed.save(out, format="PNG", dpi=(PNG_DPI, PNG_DPI))
+    indexed.save(out, format="PNG", dpi=(PNG_DPI, PNG_DPI), compress_level=_PNG_LEVEL)
     return out.getvalue()
 
 
