@@ -1,0 +1,135 @@
+"""Ticks of a chart drawn with less of matplotlib's machinery, to the same pixels.
+
+matplotlib makes one Tick object (three lines, two texts) for every tick it
+places, and that was most of the time a chart took to draw. rcdoc.note.charts
+calls these once a chart is laid out: minor ticks of log axes become two
+lines per axis, major locators stop placing ticks outside the view, and
+axes without a label skip the measuring that places it. Every chart of the
+example board and of the 40-stage bench board comes out pixel for pixel as
+before (bench/charts.py, tests/test_chart_ticks.py).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from matplotlib import ticker
+from matplotlib.figure import Figure
+from matplotlib.lines import Line2D
+
+
+def light_minor_ticks(fig: Figure) -> None:
+    """Draw the minor ticks of log axes as two lines per axis, not one Tick each.
+
+    matplotlib makes a Tick (three lines and two texts) per minor tick; the 7
+    decades of a Bode chart have some 50 of them on each panel, and making them
+    took half the chart's drawing time. The same marks and grid lines, with the
+    properties of the axis's own minor tick, are drawn instead as one line of
+    tick markers and one line of grid segments (NaN between them), where the
+    Ticks would have been, and the axis is left with no minor locator.
+    """
+    jobs = []
+    for ax in fig.axes:
+        for axis, name in ((ax.xaxis, "x"), (ax.yaxis, "y")):
+            if isinstance(axis.get_minor_locator(), ticker.LogLocator):
+                # An axis not drawn (the shared x axis of a twin) has none to draw.
+                jobs.append((ax, axis, name, _view_minor_locs(axis)))
+    for ax, axis, name, locs in jobs:
+        if not axis.get_visible():
+            continue
+        tick = axis.get_minor_ticks(1)[0]       # the template matplotlib would copy
+        along = np.repeat(locs, 3)
+        along[2::3] = np.nan
+        across = np.tile([0.0, 1.0, np.nan], locs.size)
+        transform = ax.get_xaxis_transform if name == "x" else ax.get_yaxis_transform
+        pieces = [(tick.gridline, along, across, "grid")]
+        pieces += [(mark, locs, np.full(locs.size, side), which)
+                   for mark, side, which in ((tick.tick1line, 0.0, "tick1"), (tick.tick2line, 1.0, "tick2"))]
+        for template, u, v, which in pieces:
+            if not template.get_visible() or not locs.size:
+                continue
+            line = Line2D([], [])
+            line.update_from(template)
+            line.set_data((u, v) if name == "x" else (v, u))
+            line.set_transform(transform(which))
+            line.set_zorder(axis.get_zorder())
+            ax.add_artist(line)
+            # As the Tick's: grid lines clipped to the axes, tick marks outside them not.
+            line.set_clip_box(template.get_clip_box())
+            line.set_clip_path(template.get_clip_path())
+    for _, axis, _, _ in jobs:
+        axis.set_minor_locator(ticker.NullLocator())
+
+
+def lean_axes(fig: Figure, free: tuple) -> None:
+    """Spare matplotlib work that draws nothing, once the chart is laid out.
+
+    Every tick matplotlib places costs a Tick (three lines, two texts) even when
+    it falls outside the view and is not drawn: a locator returns a tick beyond
+    each end, a fifth of a chart's ticks. The major locators are wrapped to
+    return the ticks in the view only, and their formatters to still see every
+    tick the locator made (a formatter picks its decimals and offset from them):
+    the same labels. An axis without a label gets fixed label coordinates, so
+    matplotlib does not measure the tick labels of it and its siblings to place
+    an empty text. ``free``: the formatter classes whose labels do not depend on
+    a tick's place in the list (the other formatters' axes keep all their ticks).
+    """
+    for ax in fig.axes:
+        for axis in (ax.xaxis, ax.yaxis):
+            locator, formatter = axis.get_major_locator(), axis.get_major_formatter()
+            if not isinstance(locator, _InView) and isinstance(formatter, free):
+                wrapped = _InView(locator)
+                axis.set_major_locator(wrapped)
+                axis.set_major_formatter(_AllLocs(formatter, locator))
+            if not axis.label.get_text():
+                axis.set_label_coords(0.5, 0.5)
+
+
+class _InView(ticker.Locator):
+    """The ticks of another locator that lie in the view (as matplotlib would draw)."""
+
+    def __init__(self, inner: ticker.Locator):
+        self.inner = inner
+
+    def set_axis(self, axis):
+        super().set_axis(axis)
+        self.inner.set_axis(axis)
+
+    def __call__(self):
+        locs = np.asarray(self.inner(), dtype=float)
+        return locs[_in_view(self.axis, locs)]
+
+    def tick_values(self, vmin, vmax):
+        return self.inner.tick_values(vmin, vmax)
+
+
+class _AllLocs(ticker.Formatter):
+    """A formatter prepared with every tick of its locator, in view or not."""
+
+    def __init__(self, inner: ticker.Formatter, locator: ticker.Locator):
+        self.inner, self.locator = inner, locator
+
+    def format_ticks(self, values):
+        self.inner.set_locs(self.locator())
+        return [self.inner(value) for value in values]
+
+    def __call__(self, x, pos=None):
+        return self.inner(x, pos)
+
+    def get_offset(self):
+        return self.inner.get_offset()
+
+
+def _in_view(axis, locs: np.ndarray) -> np.ndarray:
+    """Mask of the locations inside the view, with matplotlib's own tolerance
+    (transforms._interval_contains_close, on the scale's coordinates)."""
+    lo, hi = sorted(axis.get_view_interval())
+    t_lo, t_hi = axis.get_transform().transform([lo, hi])
+    t = axis.get_transform().transform(locs)
+    eps = 1e-10 * abs(t_hi - t_lo)
+    return (t >= t_lo - eps) & (t <= t_hi + eps)
+
+
+def _view_minor_locs(axis) -> np.ndarray:
+    """The minor tick locations matplotlib would draw: those in the view, none on a major tick."""
+    locs = np.asarray(axis.get_minorticklocs(), dtype=float)
+    return locs[_in_view(axis, locs)]
