@@ -21,6 +21,9 @@ from PIL import Image
 
 from rcdoc.note import chart_ticks, charts, charts_freq, charts_time
 
+# Draws every chart twice (shortcuts on and off) to compare pixels.
+pytestmark = pytest.mark.slow
+
 
 def _pixels(png: bytes) -> np.ndarray:
     return np.asarray(Image.open(io.BytesIO(png)).convert("RGB"))

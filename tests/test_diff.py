@@ -107,6 +107,7 @@ def test_note_blocks_carry_before_and_after(tmp_path):
     assert checks[0][3:5] == ["pass", "fail"]
 
 
+@pytest.mark.slow
 def test_cli_diff_prints_a_table_and_exits_0(tmp_path, capsys):
     old = write(tmp_path / "old.toml", "A", "4k7")
     new = write(tmp_path / "new.toml", "B", "5k1")
@@ -141,6 +142,7 @@ def repo(tmp_path):
 
 
 @needs_git
+@pytest.mark.slow
 def test_git_revision_is_read_for_the_same_file(repo):
     old = read_at_revision(repo, "HEAD")
     assert old.board.revision == "A"
@@ -150,6 +152,7 @@ def test_git_revision_is_read_for_the_same_file(repo):
 
 
 @needs_git
+@pytest.mark.slow
 def test_git_revision_reads_the_bom_of_that_revision(tmp_path):
     root = tmp_path / "repo"
     root.mkdir()
@@ -263,6 +266,7 @@ def test_build_since_bad_revision_writes_nothing(repo, tmp_path):
 
 # --------------------------------------------------------------------------- for machines
 
+@pytest.mark.slow
 def test_fail_on_regression_exits_1_when_a_check_goes_from_pass_to_fail(tmp_path, capsys):
     import json
     old = write(tmp_path / "old.toml", "A", "4k7")     # corner 3.39 kHz: inside 3.2-3.5 kHz
@@ -286,6 +290,7 @@ def test_fail_on_regression_exits_1_when_a_check_goes_from_pass_to_fail(tmp_path
     assert main(["diff", str(old), str(new), "--samples", "30", "--jobs", "1"]) == 0
 
 
+@pytest.mark.slow
 def test_fail_on_regression_exits_0_on_an_improvement(tmp_path):
     import json
     old = write(tmp_path / "old.toml", "A", "5k1")
@@ -325,6 +330,7 @@ def test_regressions_yield_fall_and_instability():
                        _summary([_stage([_chk("fail", 0.7)], samples_unstable=5)])) == []
 
 
+@pytest.mark.slow
 def test_diff_reads_and_fills_the_build_cache(tmp_path, monkeypatch):
     import rcdoc.commands.build
     calls = []

@@ -113,6 +113,7 @@ def test_positions_of_a_broken_text_keep_what_came_before():
 
 # --------------------------------------------------------------------------- check --json
 
+@pytest.mark.slow
 def test_check_json_carries_label_unit_nominal_margin_and_line(tmp_path):
     board = write(tmp_path / "b.toml", r="5k1")
     out = tmp_path / "b.json"
@@ -158,6 +159,7 @@ def test_check_json_with_several_files_writes_a_folder(tmp_path):
 
 # --------------------------------------------------------------------------- JUnit
 
+@pytest.mark.slow
 def test_junit_has_file_line_time_and_properties(tmp_path):
     board = write(tmp_path / "b.toml", r="5k1")
     report = tmp_path / "junit.xml"
@@ -187,6 +189,7 @@ def test_escaping_follows_the_workflow_command_rules():
     assert escape_property("50% a\nb: c, d") == "50%25 a%0Ab%3A c%2C d"
 
 
+@pytest.mark.slow
 def test_annotations_one_line_per_failed_check(tmp_path, capsys):
     board = write(tmp_path / "b,1.toml", r="5k1")         # a comma in the file name
     assert main(["check", str(board), "--annotations", "--jobs", "1", "--quiet"]) == 1
@@ -201,6 +204,7 @@ def test_annotations_one_line_per_failed_check(tmp_path, capsys):
     assert "%25" in m.group(4) and "%" not in m.group(4).replace("%25", "")
 
 
+@pytest.mark.slow
 def test_no_annotations_when_everything_passes(tmp_path, capsys):
     board = write(tmp_path / "b.toml")
     assert main(["check", str(board), "--annotations", "--jobs", "1", "--quiet"]) == 0

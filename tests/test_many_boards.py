@@ -93,6 +93,7 @@ def test_check_of_two_boards_starts_one_pool(tmp_path, pools):
     assert pools == []
 
 
+@pytest.mark.slow
 def test_one_project_without_a_shared_pool_starts_its_own(tmp_path, pools):
     # The library call (no pool given) keeps working on its own, as diff uses it.
     good, _ = boards(tmp_path)

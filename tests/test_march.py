@@ -156,6 +156,7 @@ def _series_rlc(q: np.ndarray, w0: float = 2 * np.pi * 1e3):
 
 
 @pytest.mark.parametrize("q", [0.5, 0.7071, 5.0, 300.0])
+@pytest.mark.slow
 def test_second_order_step_from_q_half_to_300_matches_scipy(q):
     # Source: scipy.signal.lsim of w0²/(s² + s·w0/Q + w0²) on a fine grid, sampled.
     w0 = 2 * np.pi * 1e3

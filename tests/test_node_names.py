@@ -85,6 +85,7 @@ def test_step_drive_follows_the_declared_output(tmp_path):
     assert settling == pytest.approx(t_settle, rel=1e-2)
 
 
+@pytest.mark.slow
 def test_check_command_with_vout_and_drive(tmp_path, capsys):
     path = tmp_path / "board.toml"
     path.write_text('[board]\nname = "T"\nrevision = "A"\ndate = "2026-01-01"\n'

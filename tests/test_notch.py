@@ -127,6 +127,7 @@ def test_unbalanced_depth_matches_nodal_analysis(tmp_path):
     assert -40 < depth < -10          # a 10 % mismatch of r3 leaves a shallow notch
 
 
+@pytest.mark.slow
 def test_depth_spread_over_one_percent_parts_is_reported_with_yields(tmp_path):
     check = '[[stage.check]]\nmetric = "notch_depth"\nmax = "-40 dB"\nyield = "50%"\n'
     r = analysed(tmp_path, check=check, samples=600)

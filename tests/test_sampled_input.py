@@ -90,6 +90,7 @@ def _simulate(p, periods):
 
 
 @pytest.mark.parametrize("start", [0.0, None])
+@pytest.mark.slow
 def test_steady_state_matches_long_simulation(start):
     # Reference: scipy.integrate.solve_ivp marching until the waveform repeats;
     # the direct periodic solution must agree within 0.05 LSB.

@@ -274,6 +274,7 @@ def test_ktc_noise_on_1pf_at_300k(tmp_path, r):
 
 
 @pytest.mark.parametrize("q", [0.5, 5.0, 30.0, 300.0])
+@pytest.mark.slow
 def test_series_rlc_noise_is_kt_over_c_whatever_its_q(tmp_path, q):
     # Equipartition (textbook thermal-noise result): the voltage on the capacitor
     # of a series RLC, driven by its resistor's thermal noise, has a mean square

@@ -86,6 +86,7 @@ def test_pwm_edges_recharge_fully_when_the_period_is_long(tmp_path):
     assert pulse(res, "resistor_surge")[0] == pytest.approx(25 / 1e3, rel=0.01)
 
 
+@pytest.mark.slow
 def test_a_pulse_energy_rating_below_the_edge_energy_fails(tmp_path):
     # ½·C·V² = ½·100 nF·(5 V)² = 1.25 µJ per edge (textbook) against a 1 µJ rating.
     res = analyse_one(tmp_path, lowpass('{ step = "5 V" }', r_keys=', pulse = "1 uJ"'),
@@ -99,6 +100,7 @@ def test_a_pulse_energy_rating_below_the_edge_energy_fails(tmp_path):
     assert [v.status for v in ok.ratings] == ["pass"]
 
 
+@pytest.mark.slow
 def test_a_peak_power_rating_judges_the_surge_and_reaches_the_parts_list(tmp_path):
     # V²/R = (5 V)²/10 kΩ = 2.5 mW at the edge (textbook) against a 2 mW peak rating.
     res = analyse_one(tmp_path, lowpass('{ step = "5 V" }', r_keys=', pulse = "2 mW"'),
@@ -126,6 +128,7 @@ def test_a_pulse_rating_needs_its_unit_and_a_resistor(tmp_path, raw, words):
 # the caution box by kind of hazard
 
 
+@pytest.mark.slow
 def test_a_48_v_dc_stage_speaks_of_high_dc_not_of_mains(tmp_path):
     res = analyse_one(tmp_path, lowpass('{ step = "48 V" }'), "samples = 20")
     box = safety_box(res, hazardous_v=40.0)
@@ -136,6 +139,7 @@ def test_a_48_v_dc_stage_speaks_of_high_dc_not_of_mains(tmp_path):
     assert safety_box(res, hazardous_v=60.0) is None   # 100 nF at 48 V stores 0.1 mJ
 
 
+@pytest.mark.slow
 def test_a_large_capacitor_is_called_out_for_stored_energy_below_the_threshold(tmp_path):
     # ½·C·V² = ½·2.2 mF·(48 V)² = 2.5 J (textbook), above the 1 J of common practice.
     res = analyse_one(tmp_path, lowpass('{ step = "48 V" }', r="10", c="2.2m"), "samples = 20")
@@ -186,6 +190,7 @@ def _stress_rows(res):
     return {row[0]: row for row in tab.rows}
 
 
+@pytest.mark.slow
 def test_breakdown_bounds_the_unsnubbered_peak(tmp_path):
     # 3.2 H with 50 pF of stray rings towards √(L/C)·I, tens of kV (Thomson's formula,
     # textbook LC): far above a 600 V contact, which then bounds it.

@@ -36,6 +36,7 @@ def test_interval_is_the_textbook_rc_charge():
     assert got == pytest.approx(v + (x0[:, 0] - v) * np.exp(-h / tau), rel=1e-12)
 
 
+@pytest.mark.slow
 def test_periodic_state_matches_a_long_simulation():
     # Reference: scipy.integrate.solve_ivp marching many periods of a two-node RC
     # ladder driven by a square wave until it repeats.

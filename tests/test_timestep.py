@@ -188,6 +188,7 @@ def test_first_order_rise_time_is_tau_ln9(tmp_path):
 
 
 @pytest.mark.parametrize("duty,freq", [("50%", "2 kHz"), ("25%", "500 Hz"), ("80%", "5 kHz")])
+@pytest.mark.slow
 def test_pwm_ripple_of_rc_lowpass_matches_closed_form(tmp_path, duty, freq):
     res = analyse_one(tmp_path, f"""
         [[stage]]
