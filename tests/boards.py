@@ -27,3 +27,21 @@ def analyse_one(tmp_path, stages, analysis="samples = 200", name="p"):
     """Load a one-stage project and analyse its stage."""
     project = load(tmp_path, stages, analysis, name)
     return analyse_stage(project.stages[0], project.analysis)
+
+
+def mc_evaluator(path: Path):
+    """The Evaluator of the first stage of a project file over its Monte Carlo rows
+    alone (no nominal or worst-case rows), with those rows' part values."""
+    import numpy as np
+    from rcdoc.analysis.analyse import passband_of
+    from rcdoc.analysis.evaluate import Evaluator, sweep_for
+    from rcdoc.analysis.spread import build_batch
+    from rcdoc.kinds import kind_of
+    project = load_project(str(path))
+    stage = project.stages[0]
+    kind = kind_of(stage)
+    batch = build_batch(stage, project.analysis)
+    values = {n: np.ascontiguousarray(v[batch.mc]) for n, v in batch.values.items()}
+    char = kind.characteristic_hz(stage)
+    return Evaluator(stage, kind.build(stage), values, sweep_for(char, project.analysis),
+                     passband_of(stage, kind), char), values

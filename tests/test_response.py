@@ -12,10 +12,8 @@ import numpy as np
 import scipy.signal as sg
 
 from rcdoc.analysis import sweep_math
-from rcdoc.analysis.evaluate import Evaluator, sweep_for
-from rcdoc.analysis.spread import build_batch
-from rcdoc.kinds import kind_of, load_project
-from rcdoc.analysis.analyse import passband_of
+
+from boards import mc_evaluator
 
 BOARD = """\
 [board]
@@ -41,14 +39,7 @@ parts.c2 = { value = "4.7 nF", tolerance = "10%", dielectric = "C0G" }
 def _evaluator(tmp_path):
     path = tmp_path / "board.toml"
     path.write_text(BOARD, encoding="utf-8")
-    project = load_project(str(path))
-    stage = project.stages[0]
-    kind = kind_of(stage)
-    batch = build_batch(stage, project.analysis)
-    values = {k: np.ascontiguousarray(v[batch.mc]) for k, v in batch.values.items()}
-    char = kind.characteristic_hz(stage)
-    return Evaluator(stage, kind.build(stage), values, sweep_for(char, project.analysis),
-                     passband_of(stage, kind), char), values
+    return mc_evaluator(path)
 
 
 def test_h_at_one_frequency_per_row_matches_scipy_freqs(tmp_path):

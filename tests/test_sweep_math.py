@@ -17,11 +17,10 @@ import scipy.optimize as so
 import scipy.signal as sg
 
 from rcdoc.analysis import sweep_math
-from rcdoc.analysis.analyse import passband_of
-from rcdoc.analysis.evaluate import Evaluator, sweep_for
-from rcdoc.analysis.spread import (build_batch, column_percentiles, row_percentiles,
-                                   transposed)
-from rcdoc.kinds import kind_of, load_project
+from rcdoc.analysis.evaluate import Evaluator
+from rcdoc.analysis.spread import column_percentiles, row_percentiles, transposed
+
+from boards import mc_evaluator
 
 HEAD = '[board]\nname = "Sweep math"\nrevision = "A"\ndate = "2026-01-01"\n'
 
@@ -94,14 +93,7 @@ def evaluator(tmp_path, kind, cap, samples=300):
         f'title = "S"\nkind = "{kind}"\n' + STAGES[kind].replace("CAP", cap)
     path = tmp_path / "board.toml"
     path.write_text(text, encoding="utf-8")
-    project = load_project(str(path))
-    stage = project.stages[0]
-    k = kind_of(stage)
-    batch = build_batch(stage, project.analysis)
-    values = {n: np.ascontiguousarray(v[batch.mc]) for n, v in batch.values.items()}
-    char = k.characteristic_hz(stage)
-    return Evaluator(stage, k.build(stage), values, sweep_for(char, project.analysis),
-                     passband_of(stage, k), char), values
+    return mc_evaluator(path)
 
 
 def old_phase(ev, at_hz):
