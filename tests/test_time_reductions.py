@@ -110,7 +110,7 @@ def test_block_search_of_the_last_exit_equals_the_whole_array_search():
     scale = np.abs(fin)
     for band in (1e-2, 2.0 ** -13):
         with np.errstate(divide="ignore", invalid="ignore"):
-            last, never = ts._last_outside(y, fin, scale, band)
+            last, never = ts.last_outside(y, fin, scale, band)
             ref_last, ref_never = _last_outside_full(y, fin, scale, band)
         np.testing.assert_array_equal(last, ref_last)
         np.testing.assert_array_equal(never, ref_never)
@@ -146,8 +146,8 @@ def test_block_search_of_the_first_crossing_gives_rc_ln9_rise_time():
     t = np.linspace(0.0, 24.0 * 3.0, 20001)
     y = 2.5 * (1.0 - np.exp(-t[None, :] / rc[:, None]))
     fin = np.full(3, 2.5)
-    rise = ts._cross_time(y, fin, t, 0.9) - ts._cross_time(y, fin, t, 0.1)
+    rise = ts.cross_time(y, fin, t, 0.9) - ts.cross_time(y, fin, t, 0.1)
     np.testing.assert_allclose(rise, rc * math.log(9.0), rtol=1e-5)
     # A level never reached has no crossing.
-    assert np.isnan(ts._cross_time(y, fin, t, 1.5)).all()
+    assert np.isnan(ts.cross_time(y, fin, t, 1.5)).all()
 

@@ -21,7 +21,7 @@ from rcdoc.analysis.sweep_math import db
 from rcdoc.analysis.noise import integration_grid, resonant_columns
 from rcdoc.analysis.response import Response
 from rcdoc.analysis.stresses import PartStresses
-from rcdoc.analysis.timesearch import _cross_time, _last_outside, block_extremes
+from rcdoc.analysis.timesearch import cross_time, last_outside, block_extremes
 from rcdoc.input.model import Check, Stage
 from rcdoc.analysis.network import Network
 
@@ -415,7 +415,7 @@ class Evaluator(PartStresses):
     def rise_time(self) -> np.ndarray:
         y, t, fin = self.step, self.time_s, self.final_value
         ext = self.step_extremes
-        return _cross_time(y, fin, t, 0.9, ext) - _cross_time(y, fin, t, 0.1, ext)
+        return cross_time(y, fin, t, 0.9, ext) - cross_time(y, fin, t, 0.1, ext)
 
     def settling(self, within: float | None = None, bits: int | None = None,
                  full_scale: float | None = None) -> np.ndarray:
@@ -432,10 +432,10 @@ class Evaluator(PartStresses):
             scale = np.full(self.rows, float(full_scale))
         scale = np.broadcast_to(scale, (self.rows,))
 
-        last, never = _last_outside(y, fin, scale, band, self.step_extremes)
+        last, never = last_outside(y, fin, scale, band, self.step_extremes)
         rows, T = np.arange(self.rows), len(t)
         nxt = np.minimum(last + 1, T - 1)
-        # |y − fin| / scale, as _last_outside computes it
+        # |y − fin| / scale, as last_outside computes it
         e0 = np.abs(y[rows, last] - fin) / scale
         e1 = np.abs(y[rows, nxt] - fin) / scale
         # Interpolate log(error): exact for an exponential decay.

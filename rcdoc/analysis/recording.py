@@ -18,7 +18,7 @@ from typing import Mapping
 
 import numpy as np
 
-__all__ = ["Reduce"]
+__all__ = ["RUN", "Recorder", "Reduce"]
 
 
 @dataclass(frozen=True)
@@ -75,10 +75,10 @@ class Reduce:
                 a[:, 1 + 2 * nw + k] = y[i - n0]
 
 
-_RUN = 32  # steps per run handed to a sink: a run of one probe (32 x 4000 samples, 1 MB) stays in L2
+RUN = 32  # steps per run handed to a sink: a run of one probe (32 x 4000 samples, 1 MB) stays in L2
 
 
-class _Recorder:
+class Recorder:
     """Turns runs of marched states into probes, for one block of samples: full rows
     for the recorded probes, running reductions for the others (``Reduce``).
 
@@ -109,7 +109,7 @@ class _Recorder:
         """What the probes need of the step (see ``_march``)."""
         self.u0T, self.u1T = u0T, u1T
         self.shared = u0T.shape[1] == 1
-        self.tmp = np.empty((_RUN, k0t.shape[1]))
+        self.tmp = np.empty((RUN, k0t.shape[1]))
         other = [j for j in range(k0t.shape[0]) if j not in dyn]
         self.items = []
         for p, name in enumerate(self.names):

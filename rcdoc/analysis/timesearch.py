@@ -16,13 +16,13 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["CROSS_BLOCK", "block_extremes"]
+__all__ = ["CROSS_BLOCK", "block_extremes", "cross_time", "last_outside"]
 
 
 CROSS_BLOCK = 128    # time columns per block of the crossing searches (stay in cache)
 
 
-def _last_outside(y: np.ndarray, fin: np.ndarray, scale: np.ndarray, band: float,
+def last_outside(y: np.ndarray, fin: np.ndarray, scale: np.ndarray, band: float,
                   extremes: tuple[np.ndarray, np.ndarray] | None = None):
     """(last index where err = |y − fin| / scale > band, or T − 1 if none; rows that
     never left the band).
@@ -88,7 +88,7 @@ def _last_outside_blocks(y, fin, scale, band, need, extremes) -> np.ndarray:
     return found
 
 
-def _cross_time(y: np.ndarray, fin: np.ndarray, t: np.ndarray, level: float,
+def cross_time(y: np.ndarray, fin: np.ndarray, t: np.ndarray, level: float,
                 extremes: tuple[np.ndarray, np.ndarray] | None = None) -> np.ndarray:
     """First time each row's y / fin reaches ``level`` (linear interpolation between
     samples); searched by blocks from the start (see _first_reaching; ``extremes``:

@@ -21,7 +21,7 @@ import numpy as np
 from rcdoc.errors import ProjectError
 from rcdoc.analysis.assembly import _SINGULAR_RCOND, System, _element_values, _rcond, assemble
 from rcdoc.analysis.network import Network
-from rcdoc.analysis.recording import _RUN, Reduce, _Recorder
+from rcdoc.analysis.recording import RUN, Reduce, Recorder
 from rcdoc.analysis.treecoords import driven_system
 
 __all__ = ["INPUT_MODES", "Reduce", "transient", "step", "periodic_steady_state"]
@@ -129,7 +129,7 @@ def _chunk(size: int, steps: int, per_sample_input: bool) -> int:
     """Samples per block in the time loops: per-sample matrices, their solver copies and
     factorisations, a run of states, and the input where each sample has its own (the
     recorded probes are allocated once, the reduced ones are a few columns)."""
-    per_sample = 8 * (16 * size * size + (_RUN + 1) * size + (2 * steps if per_sample_input else 0))
+    per_sample = 8 * (16 * size * size + (RUN + 1) * size + (2 * steps if per_sample_input else 0))
     return max(1, int(_TIME_BYTES // per_sample))
 
 
@@ -170,7 +170,7 @@ def _march(
     kd0, kd1 = k0t[dyn], k1t[dyn]
     if sink is not None:
         sink.bind(dyn, mcols, k0t, k1t, u0T, u1T)
-    run = _RUN if sink is not None else 1
+    run = RUN if sink is not None else 1
     buf = np.empty((run + 1, len(dyn), k0t.shape[1]))
     home = getattr(sink, "home", None)
     forcing = _Forcing(kd0, kd1, u0T, u1T)
@@ -372,7 +372,7 @@ def transient(
                 x = np.zeros(G.shape[:2])
             if not np.all(np.isfinite(x)):
                 x = np.zeros(G.shape[:2])
-        sink = _Recorder(spec, reduce, out, ss, steps)
+        sink = Recorder(spec, reduce, out, ss, steps)
         sink.initial(x)
         _march(M, k0, k1, x, uc[:, :-1], uc[:, 1:], sink)
     return _results(spec, out, reduce, h, periodic=False)
@@ -452,7 +452,7 @@ def periodic_steady_state(
         c = np.max(np.abs(A), axis=-2, keepdims=True)
         c = np.where(c > 0, c, 1.0)
         x = _matvec(np.linalg.pinv(A / c, rtol=1e-10), rhs) / c[:, 0, :]
-        sink = _Recorder(spec, reduce, out, ss, steps)
+        sink = Recorder(spec, reduce, out, ss, steps)
         sink.initial(x)
         _march(M, k0, k1, x, uc, u1, sink)
     return _results(spec, out, reduce, h, periodic=True)
