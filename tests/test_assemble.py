@@ -147,3 +147,19 @@ def test_hostile_text_stays_text_in_every_part(tmp_path):
     pdf, _ = assemble.render_note(ctx)
     texts = _pages_text(pdf)
     assert all("<b>x</b> & y · rev B" in t for t in texts[1:])
+
+
+def test_part_keys_of_many_stages_equal_one_by_one(tmp_path):
+    # chunk_keys reads the templates once for all stages; each key must equal
+    # the one chunk_key gives alone, and a template edit still changes them
+    # (the library versions are read once per process, the templates never).
+    tpl = tmp_path / "tpl"
+    tpl.mkdir()
+    (tpl / "_stage.html").write_text("x", encoding="utf-8")
+    stage_keys = ["a" * 64, "b" * 64, "a" * 64]
+    many = assemble.chunk_keys(stage_keys, [tpl], 5, tmp_path)
+    assert many == [assemble.chunk_key(k, [tpl], 5, tmp_path) for k in stage_keys]
+    assert many[0] == many[2] != many[1]
+    (tpl / "_stage.html").write_text("y", encoding="utf-8")
+    assert assemble.chunk_keys(stage_keys, [tpl], 5, tmp_path)[0] != many[0]
+    assert assemble.chunk_keys(stage_keys, [tpl], 6, tmp_path)[0] != many[0]

@@ -181,12 +181,12 @@ class WorkerPool:
 
 def _part_keys(project: Project, template_dirs, keys=None) -> list[str]:
     """The key each stage's part of the note must carry (rcdoc.note.assemble.chunk_key)."""
-    from rcdoc.note.assemble import chunk_key
+    from rcdoc.note.assemble import chunk_keys
     epoch = source_date_epoch(project)
     project_dir = Path(project.file).resolve().parent
-    return [chunk_key(keys[i] if keys and keys[i] else stage_key(st, project),
+    return chunk_keys([keys[i] if keys and keys[i] else stage_key(st, project)
+                       for i, st in enumerate(project.stages)],
                       list(template_dirs), epoch, project_dir)
-            for i, st in enumerate(project.stages)]
 
 
 def analyse_project(project: Project, *, progress: Callable[[str], None] | None = None,

@@ -46,8 +46,8 @@ from pypdf.generic import (
 
 from rcdoc.note import pdf_images, report
 
-__all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "font_subsetter", "render_part",
-           "stage_part", "assemble", "render_note", "project_head", "context_key"]
+__all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "font_subsetter",
+           "render_part", "stage_part", "assemble", "render_note", "project_head", "context_key"]
 
 # Bump when what a part holds changes.
 _PART_FORMAT = "rcdoc-note-part-2"   # 2: charts as indexed images
@@ -101,6 +101,23 @@ def chunk_key(stage_key: str, template_dirs: Sequence[Path], epoch: int | None,
     code) plus the templates, the date that goes into the fonts, the project
     folder (files a template may read), the renderer's versions and the font
     subsetter that ran (font_subsetter)."""
+    return chunk_keys([stage_key], template_dirs, epoch, project_dir)[0]
+
+
+def chunk_keys(stage_keys: Sequence[str], template_dirs: Sequence[Path], epoch: int | None,
+               project_dir: Path | None) -> list[str]:
+    """chunk_key of each of ``stage_keys``: the templates are read once for all."""
+    common = [templates_fingerprint(template_dirs), str(epoch),
+              str(Path(project_dir).resolve()) if project_dir else "", *_renderer_id()]
+    return [hashlib.sha256("\0".join([_PART_FORMAT, key, *common]).encode("utf-8")).hexdigest()
+            for key in stage_keys]
+
+
+@functools.lru_cache(maxsize=1)
+def _renderer_id() -> tuple[str, ...]:
+    """The renderer's library versions and the font subsetter: fixed for a
+    process, and read once (importlib.metadata parses each package's
+    METADATA file on every call, 7 ms a call)."""
     from importlib.metadata import version
     versions = []
     for name in ("weasyprint", "pydyf", "fonttools", "pypdf"):
@@ -108,10 +125,7 @@ def chunk_key(stage_key: str, template_dirs: Sequence[Path], epoch: int | None,
             versions.append(f"{name}={version(name)}")
         except Exception:  # noqa: BLE001 - a missing library is part of the key too
             versions.append(f"{name}=?")
-    text = "\0".join([_PART_FORMAT, stage_key, templates_fingerprint(template_dirs),
-                      str(epoch), str(Path(project_dir).resolve()) if project_dir else "",
-                      *versions, font_subsetter()])
-    return hashlib.sha256(text.encode("utf-8")).hexdigest()
+    return (*versions, font_subsetter())
 
 
 def font_subsetter() -> str:
