@@ -163,3 +163,20 @@ def test_part_keys_of_many_stages_equal_one_by_one(tmp_path):
     (tpl / "_stage.html").write_text("y", encoding="utf-8")
     assert assemble.chunk_keys(stage_keys, [tpl], 5, tmp_path)[0] != many[0]
     assert assemble.chunk_keys(stage_keys, [tpl], 6, tmp_path)[0] != many[0]
+
+
+def test_joined_note_keeps_the_parts_version_and_its_own_identifier(note):
+    # ISO 32000-1 §7.5.2: the header names the version; the parts are written
+    # by weasyprint as PDF 1.7 and the joined note must not claim less.
+    # §14.4: the first identifier is the note's own, the same for every build
+    # of one board revision (report.pdf_identifier).
+    pdf, parts = note
+    assert pdf[:9] == b"%PDF-1.7\n" and all(p["pdf"][:9] == b"%PDF-1.7\n" for p in parts)
+    reader = pypdf.PdfReader(io.BytesIO(pdf))
+    assert reader.trailer["/ID"][0] == report.pdf_identifier("Loft controller", "B").decode()
+    # Each page's number is its own form XObject, drawn after the page's content.
+    for i, page in enumerate(reader.pages, start=1):
+        names = list(page["/Resources"]["/XObject"].keys())
+        assert f"/RcPageNumber{i}" in names
+        assert page.get_contents().get_data().rstrip().endswith(
+            f"q /RcPageNumber{i} Do Q".encode())

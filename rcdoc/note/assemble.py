@@ -1,12 +1,12 @@
-"""The note in parts: render each part with weasyprint, put the parts together with pypdf.
+"""The note in parts: render each part with weasyprint, join the parts (rcdoc.note.join).
 
 What it is for: a rebuild after one value change should not lay out the whole
 note again. The note is rendered as separate documents ("parts"): the front
 matter (cover and summary), one part per stage, and the appendix. A stage's
 part depends only on that stage (and the board, templates, date, versions),
 so it is rendered in the worker that analyses and draws the stage and filed
-in the build cache with it (rcdoc.commands.build, rcdoc.commands.cache). ``assemble`` then
-concatenates the parts' pages and adds what spans the whole note:
+in the build cache with it (rcdoc.commands.build, rcdoc.commands.cache). ``assemble``
+(rcdoc.note.join) then concatenates the parts' pages and adds what spans the whole note:
 
 - "page x of y": the parts are rendered with that footer box empty; one more
   document of N empty pages (note.html, part "numbers", same CSS) holds only
@@ -15,7 +15,7 @@ concatenates the parts' pages and adds what spans the whole note:
 - the outline: each part's bookmark tree, in order (ISO 32000-1 §12.3.3);
 - the links of the front matter to each stage's first page (§12.5.6.5);
 - the document information dictionary of the front part (title, author,
-  subject, creator, dates) and the fixed /ID of report.pdf_identifier.
+  subject, creator, dates) and the fixed first /ID of report.pdf_identifier.
 
 Parts are used only when note.html is the shipped one or an identical copy
 (it knows the parts); an own note.html is rendered as one document
@@ -30,21 +30,14 @@ from __future__ import annotations
 import functools
 
 import hashlib
-import io
 import json
 import os
 from collections.abc import Mapping, Sequence
 from pathlib import Path
 
-import pypdf
 import weasyprint
-from pypdf.annotations import Link
-from pypdf.generic import (
-    ArrayObject, DecodedStreamObject, DictionaryObject, FloatObject, NameObject,
-    TextStringObject,
-)
 
-from rcdoc.note import pdf_images, report
+from rcdoc.note import join, pdf_images, report
 
 __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "font_subsetter",
            "render_part", "stage_part", "assemble", "render_note", "project_head", "context_key"]
@@ -120,7 +113,7 @@ def _renderer_id() -> tuple[str, ...]:
     METADATA file on every call, 7 ms a call)."""
     from importlib.metadata import version
     versions = []
-    for name in ("weasyprint", "pydyf", "fonttools", "pypdf"):
+    for name in ("weasyprint", "pydyf", "fonttools"):
         try:
             versions.append(f"{name}={version(name)}")
         except Exception:  # noqa: BLE001 - a missing library is part of the key too
@@ -240,84 +233,11 @@ def stage_part(head: Mapping, stage_context: Mapping, *, template_dirs=(), proje
                        image_cache={})
 
 
-def _overlay(writer: pypdf.PdfWriter, page, over, name: str) -> None:
-    """Lay page ``over`` (of another document) on ``page`` as a form XObject."""
-    form = DecodedStreamObject()
-    form.set_data(over.get_contents().get_data() if over.get_contents() is not None else b"")
-    form[NameObject("/Type")] = NameObject("/XObject")
-    form[NameObject("/Subtype")] = NameObject("/Form")
-    form[NameObject("/BBox")] = ArrayObject([FloatObject(v) for v in over.mediabox])
-    if "/Resources" in over:
-        form[NameObject("/Resources")] = over["/Resources"].get_object().clone(writer)
-    form_ref = writer._add_object(form.flate_encode())     # 156 forms: 42 kB -> 10 kB
-    resources = page["/Resources"].get_object() if "/Resources" in page else None
-    if resources is None:
-        resources = DictionaryObject()
-        page[NameObject("/Resources")] = resources
-    xobjects = resources.get("/XObject")
-    if xobjects is None:
-        xobjects = DictionaryObject()
-        resources[NameObject("/XObject")] = xobjects
-    xobjects.get_object()[NameObject(name)] = form_ref
-    head, tail = DecodedStreamObject(), DecodedStreamObject()
-    head.set_data(b"q\n")
-    tail.set_data(b"\nQ\nq " + name.encode() + b" Do Q\n")
-    contents = page.get("/Contents")
-    if contents is None:
-        parts = []
-    else:
-        obj = contents.get_object()
-        parts = list(obj) if isinstance(obj, ArrayObject) else [contents]
-    page[NameObject("/Contents")] = ArrayObject(
-        [writer._add_object(head), *parts, writer._add_object(tail)])
-
-
 def assemble(parts: Sequence[dict], numbers: dict | None, *, info: Mapping | None,
              pdf_id: bytes, lang: str | None = None) -> bytes:
-    """The note's PDF from its parts (in order) and the page-number overlay."""
-    writer = pypdf.PdfWriter()
-    offsets, anchors = [], {}
-    for part in parts:
-        offsets.append(len(writer.pages))
-        reader = pypdf.PdfReader(io.BytesIO(part["pdf"]))
-        for page in reader.pages:
-            writer.add_page(page)
-        for name, (i, x, y) in part["anchors"].items():
-            anchors.setdefault(name, (offsets[-1] + i, x, y))
-    total = len(writer.pages)
-    if numbers is not None:
-        over = pypdf.PdfReader(io.BytesIO(numbers["pdf"]))
-        for i in range(min(total, len(over.pages))):
-            # Unique names: the pages of one part share one resource dictionary.
-            _overlay(writer, writer.pages[i], over.pages[i], f"/RcPageNumber{i + 1}")
-
-    def add_tree(tree, offset, parent):
-        for label, (i, x, y), children, state in tree:
-            item = writer.add_outline_item(
-                title=label, page_number=offset + i, parent=parent, is_open=state != "closed",
-                fit=pypdf.generic.Fit.xyz(left=x, top=y, zoom=0))
-            add_tree(children, offset, item)
-    for part, offset in zip(parts, offsets):
-        add_tree(part["bookmarks"], offset, None)
-        for i, target, rect in part["links"]:
-            if target not in anchors:
-                continue
-            page_i, x, y = anchors[target]
-            writer.add_annotation(offset + i, Link(
-                rect=rect, border=[0, 0, 0], target_page_index=page_i,
-                fit=pypdf.generic.Fit.xyz(left=x, top=y, zoom=0)))
-    # Objects the parts repeat (font widths, graphics states, colour spaces):
-    # one copy each, 5 % of the 40-stage note (README, Performance).
-    writer.compress_identical_objects(remove_duplicates=True, remove_unreferenced=False)
-    if info:
-        writer.add_metadata({k: v for k, v in info.items()})
-    if lang:
-        writer._root_object[NameObject("/Lang")] = TextStringObject(lang)
-    pid = TextStringObject(pdf_id.decode("ascii"))
-    writer._ID = ArrayObject([pid, TextStringObject(pdf_id.decode("ascii"))])
-    out = io.BytesIO()
-    writer.write(out)
-    return out.getvalue()
+    """The note's PDF from its parts (in order) and the page-number overlay
+    (rcdoc.note.join)."""
+    return join.join(parts, numbers, info=info, pdf_id=pdf_id, lang=lang)
 
 
 def render_note(context: Mapping, *, template_dirs: Sequence[Path] = (),
@@ -351,13 +271,10 @@ def render_note(context: Mapping, *, template_dirs: Sequence[Path] = (),
     total = sum(p["pages"] for p in parts)
     numbers = _reused(note_parts, "numbers", {**_head(context), "stages": []}, kw,
                       page_count=total)
-    reader = pypdf.PdfReader(io.BytesIO(front["pdf"]))
-    info = {k: v for k, v in (reader.metadata or {}).items()}
-    lang = reader.trailer["/Root"].get("/Lang")
+    info, lang = join.document_info(front["pdf"])
     board = context.get("board") or {}
     pdf_id = report.pdf_identifier(str(board.get("name", "")), str(board.get("revision", "")))
-    return assemble(parts, numbers, info=info, pdf_id=pdf_id,
-                    lang=str(lang) if lang is not None else None), used
+    return assemble(parts, numbers, info=info, pdf_id=pdf_id, lang=lang), used
 
 
 def context_key(context: Mapping, part: str, *, template_dirs: Sequence[Path] = (),

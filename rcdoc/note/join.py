@@ -1,0 +1,113 @@
+"""Join the note's parts into one PDF: pages in order, page numbers laid over
+them, the outline, the links between parts, the document information.
+
+The parts are PDFs that weasyprint wrote one by one (rcdoc.note.assemble);
+joining them is plain PDF object work, done with pikepdf (qpdf): 4x less CPU
+than pypdf for the 156 pages of a 40-stage note, whose rebuild after one value
+change is mostly fixed costs like this one.
+
+Reproducible: the same parts give the same bytes. The first file identifier
+is the note's own (report.pdf_identifier, the same for every revision of the
+note); the second is qpdf's hash of the content (it changes with the content,
+as ISO 32000-1 §14.4 asks of it).
+"""
+
+from __future__ import annotations
+
+import io
+from typing import Mapping, Sequence
+
+import pikepdf
+from pikepdf import Array, Dictionary, Name, OutlineItem, PageLocation, Pdf, String
+
+__all__ = ["join", "document_info"]
+
+
+def document_info(pdf: bytes) -> tuple[dict[str, str], str | None]:
+    """The document information dictionary (as "/Key" -> text) and /Lang of ``pdf``."""
+    with Pdf.open(io.BytesIO(pdf)) as doc:
+        info = {str(k): str(v) for k, v in doc.docinfo.items()}
+        lang = doc.Root.get("/Lang")
+        return info, (str(lang) if lang is not None else None)
+
+
+def _overlay(out: Pdf, page: pikepdf.Page, over: pikepdf.Page, name: str) -> None:
+    """Lay page ``over`` (of another document) on ``page`` as a form XObject.
+
+    Named by the caller: the pages of one part share one resource dictionary,
+    so each page's form needs a name of its own."""
+    form = out.copy_foreign(over.as_form_xobject())
+    page.add_resource(form, Name.XObject, Name(name))
+    page.contents_add(out.make_stream(b"q\n"), prepend=True)
+    page.contents_add(out.make_stream(b"\nQ\nq " + name.encode() + b" Do Q\n"))
+
+
+def _link(out: Pdf, rect, target, x: float, y: float) -> Dictionary:
+    """An internal link: a Link annotation with an explicit XYZ destination
+    (ISO 32000-1 §12.5.6.5, §12.3.2.2), no border."""
+    return out.make_indirect(Dictionary(
+        Type=Name.Annot, Subtype=Name.Link, Rect=Array([float(v) for v in rect]),
+        Border=Array([0, 0, 0]), Dest=Array([target, Name.XYZ, float(x), float(y), 0])))
+
+
+def _outline_items(tree, offset: int) -> list[OutlineItem]:
+    items = []
+    for label, (i, x, y), children, state in tree:
+        item = OutlineItem(str(label), offset + int(i), PageLocation.XYZ,
+                           left=float(x), top=float(y), zoom=0)
+        item.is_closed = state == "closed"
+        item.children.extend(_outline_items(children, offset))
+        items.append(item)
+    return items
+
+
+def join(parts: Sequence[dict], numbers: dict | None, *, info: Mapping | None,
+         pdf_id: bytes, lang: str | None = None) -> bytes:
+    """The note's PDF from its parts (in order; see assemble.render_part for
+    what a part holds) and the page-number part laid over the pages."""
+    out = Pdf.new()
+    sources = []       # kept open until the note is written: pages refer into them
+    try:
+        offsets, anchors = [], {}
+        for part in parts:
+            offsets.append(len(out.pages))
+            src = Pdf.open(io.BytesIO(part["pdf"]))
+            sources.append(src)
+            out.pages.extend(src.pages)
+            for name, (i, x, y) in part["anchors"].items():
+                anchors.setdefault(name, (offsets[-1] + i, x, y))
+        if numbers is not None:
+            over = Pdf.open(io.BytesIO(numbers["pdf"]))
+            sources.append(over)
+            for i in range(min(len(out.pages), len(over.pages))):
+                _overlay(out, out.pages[i], over.pages[i], f"/RcPageNumber{i + 1}")
+        with out.open_outline() as outline:
+            for part, offset in zip(parts, offsets):
+                outline.root.extend(_outline_items(part["bookmarks"], offset))
+        for part, offset in zip(parts, offsets):
+            for i, target, rect in part["links"]:
+                if target not in anchors:
+                    continue
+                page_i, x, y = anchors[target]
+                page = out.pages[offset + i]
+                if "/Annots" not in page.obj:
+                    page.obj.Annots = out.make_indirect(Array())
+                page.obj.Annots.append(_link(out, rect, out.pages[page_i].obj, x, y))
+        if info:
+            out.docinfo = out.make_indirect(Dictionary(
+                {str(k): String(str(v)) for k, v in info.items()}))
+        if lang:
+            out.Root.Lang = String(lang)
+        ident = String(pdf_id.decode("ascii"))
+        out.trailer.ID = Array([ident, ident])
+        buf = io.BytesIO()
+        # Object streams: the parts' many small objects (font widths, graphics
+        # states) packed and compressed; the note is a PDF 1.5 file or later.
+        out.save(buf, deterministic_id=True, compress_streams=True,
+                 object_stream_mode=pikepdf.ObjectStreamMode.generate,
+                 min_version=max((src.pdf_version for src in sources), default="1.5"))
+        return buf.getvalue()
+    finally:
+        for src in sources:
+            src.close()
+        out.close()
