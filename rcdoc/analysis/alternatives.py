@@ -88,7 +88,8 @@ def design_metrics(r: StageResult, analysis: Analysis, role: str, value: float,
         time_s = Evaluator(changed, r.network, batch.take(slice(0, 1)), r.freqs_hz,
                            r.passband, r.char_hz).time_s
     ev = Evaluator(changed, r.network, batch.take(slice(0, batch.mc.stop)), r.freqs_hz,
-                   r.passband, r.char_hz, temperature_k=t_hot_k, time_s=time_s)
+                   r.passband, r.char_hz, temperature_k=t_hot_k, time_s=time_s,
+                   stresses=False)
     cols = [np.asarray(ev.metric(n, c, at_hz=a), dtype=float) for n, a, c in requests]
     return np.stack(cols, axis=1) if cols else np.empty((batch.mc.stop, 0))
 

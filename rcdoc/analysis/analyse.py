@@ -113,10 +113,10 @@ class _Setup:
     evaluator: type
     noise_columns: tuple[int, ...] = ()
 
-    def evaluate(self, vals) -> Evaluator:
+    def evaluate(self, vals, stresses: bool = True) -> Evaluator:
         return self.evaluator(self.stage, self.network, vals, self.freqs, self.passband,
                               self.char_hz, temperature_k=self.t_hot_k, time_s=self.time_s,
-                              noise_columns=self.noise_columns)
+                              noise_columns=self.noise_columns, stresses=stresses)
 
 
 def _setup(stage: Stage, analysis: Analysis, kind, evaluator) -> _Setup:
@@ -257,7 +257,8 @@ def _metric_results(s: _Setup, g: _Gathered) -> list[MetricResult]:
             signs = np.nan_to_num(sens) > 0
             high = np.stack([signs, ~signs])
             vv = spread.vertex_values(s.stage, s.analysis, batch.roles, high)
-            wc_vals = np.concatenate([wc_vals, s.evaluate(vv).metric(name, chk, at_hz=at)])
+            wc_vals = np.concatenate([wc_vals, s.evaluate(vv, stresses=False)
+                                      .metric(name, chk, at_hz=at)])
         wc, wc_method = wc_ctx.enclose(q, arr, wc_vals, line_y[key])
         if METRICS[name].unit in ("dB", "deg"):
             # Absolute change per percent of part change for logarithmic and angular metrics.

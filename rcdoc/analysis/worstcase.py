@@ -190,7 +190,8 @@ class Context:
         for name, v in self.fixed.items():
             vals[name] = np.full(len(x), v)
         return self.evaluator_cls(self.stage, self.network, vals, self.freqs, self.passband,
-                                  self.char_hz, temperature_k=self.t_hot_k, time_s=self.time_s)
+                                  self.char_hz, temperature_k=self.t_hot_k, time_s=self.time_s,
+                                  stresses=False)
 
     def line_values(self, requests, key) -> dict:
         """Every requested metric along each part's walk through the nominal design;
