@@ -245,21 +245,24 @@ def _metric_results(s: _Setup, g: _Gathered) -> list[MetricResult]:
                                s.char_hz, s.t_hot_k, s.time_s, fixed_values(s.stage),
                                s.evaluator)
     line_y = wc_ctx.line_values(s.requests, request_key)
-    metrics = []
     # Worst-case corners for many parts: each part at the extreme its sensitivity favours.
+    jobs = []
     for q in s.requests:
         name, at, chk = q
         key = request_key(q)
         arr = full[key]
-        sens = spread.sensitivities(arr, batch)
         wc_vals = arr[batch.vertex]
         if len(batch.roles) > spread.FULL_VERTEX_PARTS:
-            signs = np.nan_to_num(sens) > 0
+            signs = np.nan_to_num(spread.sensitivities(arr, batch)) > 0
             high = np.stack([signs, ~signs])
             vv = spread.vertex_values(s.stage, s.analysis, batch.roles, high)
             wc_vals = np.concatenate([wc_vals, s.evaluate(vv, stresses=False)
                                       .metric(name, chk, at_hz=at)])
-        wc, wc_method = wc_ctx.enclose(q, arr, wc_vals, line_y[key])
+        jobs.append((q, arr, wc_vals, line_y[key]))
+    metrics = []
+    for (q, arr, _, _), (wc, wc_method) in zip(jobs, wc_ctx.enclose_all(jobs)):
+        name, at, chk = q
+        sens = spread.sensitivities(arr, batch)
         if METRICS[name].unit in ("dB", "deg"):
             # Absolute change per percent of part change for logarithmic and angular metrics.
             sens = (arr[batch.sens] - arr[0]) / (spread.SENSITIVITY_STEP * 100)

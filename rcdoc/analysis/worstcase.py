@@ -82,33 +82,74 @@ def search(evaluate: Evaluate, starts: np.ndarray, maximise: np.ndarray,
     each start. Returns the metric at every point visited that improved, (M,).
     One batch of 2·P·S candidate rows per iteration; no loop over starts.
     """
-    s, p = starts.shape
+    return search_together(lambda ks, xs: [evaluate(xs[0])], [(starts, maximise)],
+                           lows, highs)[0]
+
+
+# (searches k, their (N_k, P) part values) -> each search's metric, (N_k,) each
+EvaluateAll = Callable[[list, list], list]
+
+
+def search_together(evaluate_all: EvaluateAll, problems: list, lows: np.ndarray,
+                    highs: np.ndarray) -> list[np.ndarray]:
+    """Several pattern searches (``search``'s, each with its own metric) in lockstep.
+
+    ``problems``: [(starts (S, P), maximise (S,))]. Each search takes exactly the
+    steps it takes alone (its moves and its stop depend on its own values only);
+    an iteration hands the candidates of every search still running to one call
+    of ``evaluate_all(ks, xs)`` (the running searches' indices and candidates), so
+    searches share the cost of evaluating a batch. Returns each search's
+    improving values.
+    """
     span = highs - lows
-    if s == 0 or p == 0 or not np.any(span > 0):
-        return np.zeros(0)
-    sign = np.where(maximise, 1.0, -1.0)
-    x = starts.copy()
-    fx = sign * evaluate(x)
-    fx = np.where(np.isfinite(fx), fx, -np.inf)
-    step = np.repeat((span / 4.0)[None, :], s, axis=0)
-    found = [sign * fx]
-    moves = np.concatenate([np.eye(p), -np.eye(p)])           # (2P, P) unit moves
+    state = []
+    for starts, maximise in problems:
+        s, p = starts.shape
+        if s == 0 or p == 0 or not np.any(span > 0):
+            state.append(None)
+            continue
+        state.append({"sign": np.where(maximise, 1.0, -1.0), "x": starts.copy(),
+                      "step": np.repeat((span / 4.0)[None, :], s, axis=0),
+                      "moves": np.concatenate([np.eye(p), -np.eye(p)])})   # (2P, P) unit moves
+    live = [k for k, st in enumerate(state) if st is not None]
+    if live:
+        values = evaluate_all(live, [state[k]["x"] for k in live])
+        for k, v in zip(live, values):
+            st = state[k]
+            fx = st["sign"] * v
+            st["fx"] = np.where(np.isfinite(fx), fx, -np.inf)
+            st["found"] = [st["sign"] * st["fx"]]
     for _ in range(ITERATIONS):
-        if np.all(step <= MIN_STEP * np.where(span > 0, span, 1.0)):
+        live = [k for k in live
+                if not np.all(state[k]["step"] <= MIN_STEP * np.where(span > 0, span, 1.0))]
+        if not live:
             break
-        cand = x[:, None, :] + moves[None, :, :] * step[:, None, :]      # (S, 2P, P)
-        cand = np.clip(cand, lows, highs)
-        fc = sign[:, None] * evaluate(cand.reshape(-1, p)).reshape(s, 2 * p)
-        fc = np.where(np.isfinite(fc), fc, -np.inf)
-        best = np.argmax(fc, axis=1)
-        fbest = fc[np.arange(s), best]
-        better = fbest > fx + FLAT * np.abs(fx)
-        x = np.where(better[:, None], cand[np.arange(s), best], x)
-        fx = np.where(better, fbest, fx)
-        step = np.where(better[:, None], step, step / 2.0)
-        found.append(sign * fx)
-    out = np.concatenate(found)
-    return out[np.isfinite(out)]
+        cands = []
+        for k in live:
+            st = state[k]
+            cand = st["x"][:, None, :] + st["moves"][None] * st["step"][:, None, :]  # (S, 2P, P)
+            cands.append(np.clip(cand, lows, highs))
+        values = evaluate_all(live, [c.reshape(-1, c.shape[-1]) for c in cands])
+        for k, cand, v in zip(live, cands, values):
+            st = state[k]
+            s, p = st["x"].shape
+            fc = st["sign"][:, None] * v.reshape(s, 2 * p)
+            fc = np.where(np.isfinite(fc), fc, -np.inf)
+            best = np.argmax(fc, axis=1)
+            fbest = fc[np.arange(s), best]
+            better = fbest > st["fx"] + FLAT * np.abs(st["fx"])
+            st["x"] = np.where(better[:, None], cand[np.arange(s), best], st["x"])
+            st["fx"] = np.where(better, fbest, st["fx"])
+            st["step"] = np.where(better[:, None], st["step"], st["step"] / 2.0)
+            st["found"].append(st["sign"] * st["fx"])
+    out = []
+    for st in state:
+        if st is None:
+            out.append(np.zeros(0))
+            continue
+        f = np.concatenate(st["found"])
+        out.append(f[np.isfinite(f)])
+    return out
 
 
 def start_points(samples_x: np.ndarray, samples_y: np.ndarray, nominal: np.ndarray,
@@ -206,17 +247,44 @@ class Context:
 
     def enclose(self, request, arr: np.ndarray, corner_y: np.ndarray, line_y: np.ndarray):
         """(low, high) holding corners, nominal and samples; searched inside where needed."""
-        name, at, chk = request
+        return self.enclose_all([(request, arr, corner_y, line_y)])[0]
+
+    def enclose_all(self, jobs) -> list:
+        """``enclose`` for every (request, arr, corner_y, line_y) of a stage, the interior
+        searches of all of them in lockstep (``search_together``)."""
         b, p = self.batch, len(self.batch.roles)
-        method = VERTICES if p <= spread.FULL_VERTEX_PARTS else SENSITIVITY_VERTICES
-        samples = arr[b.mc]
-        found = [corner_y, arr[:1], samples, line_y]
-        if p and needs_search(corner_y, float(arr[0]), samples, line_y, p):
-            def evaluate(x):
-                return np.asarray(self.evaluator(x).metric(name, chk, at_hz=at), dtype=float)
-            starts, up = start_points(
-                self.part_values(b.mc), samples, self.part_values(slice(0, 1))[0],
-                self.part_values(b.vertex), arr[b.vertex])
-            found.append(search(evaluate, starts, up, self.lows, self.highs))
-            method += SEARCHED
-        return enclosing_range(np.concatenate(found)), method
+        base = VERTICES if p <= spread.FULL_VERTEX_PARTS else SENSITIVITY_VERTICES
+        found, methods, problems, owners = [], [], [], []
+        for request, arr, corner_y, line_y in jobs:
+            samples = arr[b.mc]
+            found.append([corner_y, arr[:1], samples, line_y])
+            methods.append(base)
+            if p and needs_search(corner_y, float(arr[0]), samples, line_y, p):
+                problems.append(start_points(
+                    self.part_values(b.mc), samples, self.part_values(slice(0, 1))[0],
+                    self.part_values(b.vertex), arr[b.vertex]))
+                owners.append((len(found) - 1, request))
+                methods[-1] += SEARCHED
+        if problems:
+            searched = search_together(self._evaluate_all([q for _, q in owners]), problems,
+                                       self.lows, self.highs)
+            for (k, _), pts in zip(owners, searched):
+                found[k].append(pts)
+        return [(enclosing_range(np.concatenate(f)), m) for f, m in zip(found, methods)]
+
+    def _evaluate_all(self, requests) -> EvaluateAll:
+        """Candidates of several searches as rows of one Evaluator, after the nominal
+        design's row: the rows' conditioning and scale are then the nominal's,
+        whatever the candidates (as in the pipeline's first chunk)."""
+        nominal = self.part_values(slice(0, 1))
+
+        def evaluate_all(ks, xs):
+            ev = self.evaluator(np.concatenate([nominal] + xs))
+            out, at = [], 1
+            for k, x in zip(ks, xs):
+                name, hz, chk = requests[k]
+                vals = np.asarray(ev.metric(name, chk, at_hz=hz), dtype=float)
+                out.append(vals[at:at + len(x)])
+                at += len(x)
+            return out
+        return evaluate_all
