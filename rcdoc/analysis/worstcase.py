@@ -226,10 +226,22 @@ class Context:
         cols = [self.batch.values[r][rows] for r in self.batch.roles]
         return np.stack(cols, axis=1) if cols else np.zeros((0, 0))
 
-    def evaluator(self, x: np.ndarray) -> Evaluator:
+    def values_of(self, x: np.ndarray) -> dict[str, np.ndarray]:
+        """Part values (N, P) as an Evaluator's values, the fixed elements added."""
         vals = {r: x[:, k] for k, r in enumerate(self.batch.roles)}
         for name, v in self.fixed.items():
             vals[name] = np.full(len(x), v)
+        return vals
+
+    def line_batch(self) -> dict[str, np.ndarray] | None:
+        """The values of the walks' rows (``line_rows``), or None for a stage without
+        parts; the pipeline evaluates them with its last chunk (``line_values``'s numbers)."""
+        if not self.batch.roles:
+            return None
+        return self.values_of(line_rows(self.part_values(slice(0, 1))[0], self.lows, self.highs))
+
+    def evaluator(self, x: np.ndarray) -> Evaluator:
+        vals = self.values_of(x)
         return self.evaluator_cls(self.stage, self.network, vals, self.freqs, self.passband,
                                   self.char_hz, temperature_k=self.t_hot_k, time_s=self.time_s,
                                   stresses=False)
