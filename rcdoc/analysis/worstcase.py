@@ -287,16 +287,56 @@ class Context:
     def _evaluate_all(self, requests) -> EvaluateAll:
         """Candidates of several searches as rows of one Evaluator, after the nominal
         design's row: the rows' conditioning and scale are then the nominal's,
-        whatever the candidates (as in the pipeline's first chunk)."""
+        whatever the candidates (as in the pipeline's first chunk). A point that
+        several starts or searches reach (clipped to the same face of the box, the
+        same start in every search), or that an earlier iteration evaluated, is
+        evaluated once: its values are kept per metric (``_Seen``)."""
         nominal = self.part_values(slice(0, 1))
+        seen = _Seen(nominal.shape[1], len(requests))
 
         def evaluate_all(ks, xs):
-            ev = self.evaluator(np.concatenate([nominal] + xs))
-            out, at = [], 1
+            rows = np.concatenate(xs)
+            points, at, todo = seen.merge(rows, ks)
+            if todo.size:
+                ev = self.evaluator(np.concatenate([nominal, points[todo]]))
+                for k in ks:
+                    name, hz, chk = requests[k]
+                    seen.store(todo, k, np.asarray(ev.metric(name, chk, at_hz=hz),
+                                                   dtype=float)[1:])
+            found = seen.values[at]
+            out, start = [], 0
             for k, x in zip(ks, xs):
-                name, hz, chk = requests[k]
-                vals = np.asarray(ev.metric(name, chk, at_hz=hz), dtype=float)
-                out.append(vals[at:at + len(x)])
-                at += len(x)
+                out.append(found[start:start + len(x), k])
+                start += len(x)
             return out
         return evaluate_all
+
+
+class _Seen:
+    """Points of the box evaluated so far (distinct rows, sorted) and their value per
+    search; NaN-free bookkeeping of which values exist (a metric may be NaN)."""
+
+    def __init__(self, parts: int, searches: int):
+        self.points = np.zeros((0, parts))
+        self.values = np.zeros((0, searches))
+        self.known = np.zeros((0, searches), dtype=bool)
+
+    def merge(self, rows: np.ndarray, ks: list[int]):
+        """Add ``rows``; returns (points, the index of each row among them, the
+        indices of the points that lack a value of one of the searches ``ks``)."""
+        m = len(self.points)
+        points, inverse = np.unique(np.concatenate([self.points, rows]), axis=0,
+                                    return_inverse=True)
+        inverse = inverse.reshape(-1)
+        values = np.zeros((len(points), self.values.shape[1]))
+        known = np.zeros(values.shape, dtype=bool)
+        values[inverse[:m]], known[inverse[:m]] = self.values, self.known
+        self.points, self.values, self.known = points, values, known
+        at = inverse[m:]
+        asked = np.unique(at)
+        todo = asked[~np.all(known[asked][:, ks], axis=1)]
+        return points, at, todo
+
+    def store(self, idx: np.ndarray, k: int, vals: np.ndarray) -> None:
+        self.values[idx, k] = vals
+        self.known[idx, k] = True
