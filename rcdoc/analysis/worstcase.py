@@ -313,29 +313,37 @@ class Context:
 
 
 class _Seen:
-    """Points of the box evaluated so far (distinct rows, sorted) and their value per
-    search; NaN-free bookkeeping of which values exist (a metric may be NaN)."""
+    """Points of the box evaluated so far and their value per search; which values
+    exist is kept apart (a metric may be NaN). Points are found again by their
+    bytes (bookkeeping of the search's candidates, no arithmetic)."""
 
     def __init__(self, parts: int, searches: int):
         self.points = np.zeros((0, parts))
         self.values = np.zeros((0, searches))
         self.known = np.zeros((0, searches), dtype=bool)
+        self.number: dict[bytes, int] = {}
 
     def merge(self, rows: np.ndarray, ks: list[int]):
         """Add ``rows``; returns (points, the index of each row among them, the
         indices of the points that lack a value of one of the searches ``ks``)."""
-        m = len(self.points)
-        points, inverse = np.unique(np.concatenate([self.points, rows]), axis=0,
-                                    return_inverse=True)
-        inverse = inverse.reshape(-1)
-        values = np.zeros((len(points), self.values.shape[1]))
-        known = np.zeros(values.shape, dtype=bool)
-        values[inverse[:m]], known[inverse[:m]] = self.values, self.known
-        self.points, self.values, self.known = points, values, known
-        at = inverse[m:]
+        rows = np.ascontiguousarray(rows, dtype=float)
+        at = np.empty(len(rows), dtype=np.intp)
+        fresh = []
+        for i, row in enumerate(rows):
+            key = row.tobytes()
+            n = self.number.get(key)
+            if n is None:
+                n = self.number[key] = len(self.points) + len(fresh)
+                fresh.append(i)
+            at[i] = n
+        if fresh:
+            f = len(fresh)
+            self.points = np.concatenate([self.points, rows[fresh]])
+            self.values = np.concatenate([self.values, np.zeros((f, self.values.shape[1]))])
+            self.known = np.concatenate([self.known, np.zeros((f, self.known.shape[1]), bool)])
         asked = np.unique(at)
-        todo = asked[~np.all(known[asked][:, ks], axis=1)]
-        return points, at, todo
+        todo = asked[~np.all(self.known[asked][:, ks], axis=1)]
+        return self.points, at, todo
 
     def store(self, idx: np.ndarray, k: int, vals: np.ndarray) -> None:
         self.values[idx, k] = vals
