@@ -282,3 +282,25 @@ def test_enclose_all_matches_enclose_one_by_one(tmp_path):
             found.append(worstcase.search(evaluate, starts, up, ctx.lows, ctx.highs))
         _close(wc, worstcase.enclosing_range(np.concatenate(found)), rtol=1e-9)
     assert searched >= 2
+
+
+# ---- a search's rows prepared once ------------------------------------------
+
+def test_response_rows_db_is_at_rows(tmp_path):
+    """Response.rows(idx).db(f) is sweep_math.db(Response.at_rows(f, idx)) bit for bit,
+    for all rows and for a subset, with a row that falls back to the direct solve;
+    and that row's direct value agrees with its zero-pole-gain value (rounding)."""
+    from rcdoc.analysis.sweep_math import db
+    s, _ = _setup(tmp_path, SALLEN_KEY)
+    ev = s.evaluate(s.batch.take(slice(0, s.batch.rows)))
+    resp = ev.response
+    rng = np.random.default_rng(7)
+    f = s.char_hz * 10 ** rng.uniform(-2, 2, ev.rows)
+    assert np.array_equal(resp.rows().db(f), db(resp.at_rows(f)))
+    idx = np.array([0, 3, 5, 11])
+    assert np.array_equal(resp.rows(idx).db(f[idx]), db(resp.at_rows(f[idx], idx)))
+    zpk = resp.rows(idx).db(f[idx])
+    resp.ok[3] = False                       # this row now takes the direct solve
+    direct = resp.rows(idx).db(f[idx])
+    assert np.array_equal(direct, db(resp.at_rows(f[idx], idx)))
+    np.testing.assert_allclose(direct, zpk, rtol=1e-9, atol=1e-9)

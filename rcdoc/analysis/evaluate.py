@@ -182,9 +182,10 @@ class Evaluator(PartStresses):
         fc = sweep_math.confirmed_crossing(self.response, thr, lo, hi, side == "up")
         todo = np.flatnonzero(ok & np.isnan(fc))          # the rows it does not serve
         lo, hi, t = lo[todo], hi[todo], thr[todo]
+        probe = self.response.rows(todo)
         for _ in range(CORNER_ITERATIONS):
             mid = np.sqrt(lo * hi)
-            under = db(self.response.at_rows(mid, todo)) < t
+            under = probe.db(mid) < t
             if side == "up":
                 hi, lo = np.where(under, mid, hi), np.where(under, lo, mid)
             else:
@@ -260,12 +261,13 @@ class Evaluator(PartStresses):
         b = np.log(f[np.minimum(j + 1, len(f) - 1)])
         k = (math.sqrt(5.0) - 1) / 2
         c, d = b - k * (b - a), a + k * (b - a)
-        gc, gd = db(self.response.at_rows(np.exp(c))), db(self.response.at_rows(np.exp(d)))
+        probe = self.response.rows()
+        gc, gd = probe.db(np.exp(c)), probe.db(np.exp(d))
         for _ in range(iterations):
             left = gc >= gd if top else gc <= gd     # the extreme lies in [a, d]
             b, a = np.where(left, d, b), np.where(left, a, c)
             x = np.where(left, b - k * (b - a), a + k * (b - a))
-            gx = db(self.response.at_rows(np.exp(x)))
+            gx = probe.db(np.exp(x))
             c, d, gc, gd = (np.where(left, x, d), np.where(left, c, x),
                             np.where(left, gx, gd), np.where(left, gc, gx))
         return c, d, gc, gd
