@@ -11,7 +11,8 @@ tree, and the largest relative difference between the two revisions' numbers
 alternatives): the speed must not move a number beyond 1e-9 relative.
 
 The machine may be shared: only the ratios of one run mean anything.
-Run:  python bench/analysis.py [--against REV] [--repeats K] [--quick]
+Run:  python bench/analysis.py [--against REV] [--repeats K] [--quick] [--board FILE]
+(--board: any project file instead, e.g. projects/greenhouse-controller.toml).
 """
 
 from __future__ import annotations
@@ -107,19 +108,23 @@ def main(argv=None) -> int:
     ap.add_argument("--against", default="HEAD", help="git revision to compare with (HEAD)")
     ap.add_argument("--repeats", type=int, default=3)
     ap.add_argument("--quick", action="store_true", help="10 stages, 300 samples, 1 repeat")
+    ap.add_argument("--board", help="a project file instead of the 40-stage board")
     args = ap.parse_args(argv)
     stages, samples, k = (10, 300, 1) if args.quick else (40, 2000, args.repeats)
     import tomllib
     with tempfile.TemporaryDirectory(prefix="rcdoc-bench-") as tmp:
-        board = Path(tmp) / "board.toml"
-        board.write_text(rebuild.board(stages, samples), encoding="utf-8")
+        if args.board:
+            board = Path(args.board).resolve()
+        else:
+            board = Path(tmp) / "board.toml"
+            board.write_text(rebuild.board(stages, samples), encoding="utf-8")
         kinds_of = [s["kind"] for s in tomllib.loads(board.read_text())["stage"]]
         old_src = export(args.against, Path(tmp) / "old")
         old, new = Worker(old_src, board), Worker(ROOT, board)
         try:
             old.run([0]), new.run([0])                       # imports and first calls
-            print(f"analysis of {stages} stages at {samples} samples: {args.against} / this tree, "
-                  f"best of {k}, CPU s")
+            what = args.board or f"{stages} stages at {samples} samples"
+            print(f"analysis of {what}: {args.against} / this tree, best of {k}, CPU s")
             print(f"{'kind':22} {'stages':>6} {args.against[:10]:>10} {'tree':>8} {'ratio':>6}  max rel diff")
             tot_old = tot_new = 0.0
             worst = 0.0
