@@ -304,3 +304,30 @@ def test_response_rows_db_is_at_rows(tmp_path):
     direct = resp.rows(idx).db(f[idx])
     assert np.array_equal(direct, db(resp.at_rows(f[idx], idx)))
     np.testing.assert_allclose(direct, zpk, rtol=1e-9, atol=1e-9)
+
+
+def test_singularity_check_in_two_rounds_is_the_full_check():
+    """assembly._singular_everywhere (every sixth test frequency first) gives the verdict
+    of the check over all test frequencies at once: regular pencils, a singular one
+    (a row and column of zeros: a node with nothing attached) and one singular only
+    at DC (G singular, C regular: well conditioned at the other frequencies)."""
+    from rcdoc.analysis import assembly
+
+    def full(G, C):          # the check as it was: the largest rcond over all frequencies
+        pencil = G[:, None] + assembly._TEST_OMEGAS[None, :, None, None] * C[:, None]
+        return bool(np.any(np.max(assembly._rcond(pencil), axis=1) < assembly._SINGULAR_RCOND))
+    rng = np.random.default_rng(3)
+    G, C = rng.standard_normal((4, 5, 5)), rng.standard_normal((4, 5, 5)) * 1e-9
+    cases = [(G, C)]
+    Gs, Cs = G.copy(), C.copy()
+    Gs[:, 2, :] = Gs[:, :, 2] = Cs[:, 2, :] = Cs[:, :, 2] = 0.0
+    cases.append((Gs, Cs))
+    Gd = G.copy()
+    Gd[:, 0, :] = 0.0
+    cases.append((Gd, C))
+    Gm = G.copy()
+    Gm[1:] = Gs[1:]                 # one regular row among singular ones
+    cases.append((Gm, np.where(np.arange(4)[:, None, None] == 0, C, Cs)))
+    verdicts = [assembly._singular_everywhere(g, c) for g, c in cases]
+    assert verdicts == [full(g, c) for g, c in cases]
+    assert verdicts[0] is False and verdicts[1] is True and verdicts[2] is False
