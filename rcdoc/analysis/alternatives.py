@@ -23,6 +23,7 @@ import numpy as np
 from rcdoc.analysis import checks as checkmod
 from rcdoc.analysis import spread
 from rcdoc.analysis.evaluate import Evaluator
+from rcdoc.analysis.metrics import METRICS
 from rcdoc.analysis.results import (Alternative, StageAlternatives, StageResult,
                                     param_of)
 from rcdoc.input.model import Analysis, Check
@@ -73,24 +74,60 @@ def _designs(r: StageResult) -> list[tuple[str, str, float, str]]:
     return out
 
 
+def _changed(st, role: str, value: float):
+    parts = dict(st.parts)
+    parts[role] = dataclasses.replace(parts[role], value=value)
+    return dataclasses.replace(st, parts=parts)
+
+
 def design_metrics(r: StageResult, analysis: Analysis, role: str, value: float,
                    requests, samples: int = ALT_SAMPLES) -> np.ndarray:
     """(1 + samples, M): each requested metric of the stage with ``role`` at ``value``,
     nominal design first, then the Monte Carlo samples (seeded as the project)."""
+    return designs_metrics(r, analysis, [(role, value)], requests, samples)[0]
+
+
+def _step_grid(requests, drive) -> bool:
+    """Whether a request reads the step response's time grid, which each design takes
+    from its own nominal: a metric of the drive (rise time, settling, stresses)
+    unless the drive is PWM and the metric is not a step metric."""
+    for name, _, _ in requests:
+        params = METRICS[name].params
+        if name in ("rise_time", "settling") or ("drive" in params and drive.kind != "pwm"):
+            return True
+    return False
+
+
+def designs_metrics(r: StageResult, analysis: Analysis, designs, requests,
+                    samples: int = ALT_SAMPLES) -> list[np.ndarray]:
+    """``design_metrics`` of every (role, value) in ``designs``. Designs that need no
+    time grid of their own are rows of one Evaluator (the march's and the searches'
+    cost per step is then paid once, not once a design); the rows' own numbers
+    are each design's, the first design's nominal row first."""
     st = r.stage
-    parts = dict(st.parts)
-    parts[role] = dataclasses.replace(parts[role], value=value)
-    changed = dataclasses.replace(st, parts=parts)
-    batch = spread.build_batch(changed, analysis, samples=samples)
+    changed = [_changed(st, role, v) for role, v in designs]
+    batches = [spread.build_batch(c, analysis, samples=samples) for c in changed]
     t_hot_k = analysis.temperature_c[1] + 273.15
-    time_s = None
-    if st.drive is not None:          # the design's own time grid, from its nominal alone
-        time_s = Evaluator(changed, r.network, batch.take(slice(0, 1)), r.freqs_hz,
-                           r.passband, r.char_hz).time_s
-    ev = Evaluator(changed, r.network, batch.take(slice(0, batch.mc.stop)), r.freqs_hz,
-                   r.passband, r.char_hz, temperature_k=t_hot_k, time_s=time_s)
-    cols = [np.asarray(ev.metric(n, c, at_hz=a), dtype=float) for n, a, c in requests]
-    return np.stack(cols, axis=1) if cols else np.empty((batch.mc.stop, 0))
+    own_grid = st.drive is not None and _step_grid(requests, st.drive)
+    groups = [[k] for k in range(len(designs))] if own_grid else [list(range(len(designs)))]
+    out: list = [None] * len(designs)
+    for group in groups:
+        time_s = None
+        if st.drive is not None:      # the design's own time grid, from its nominal alone
+            time_s = Evaluator(changed[group[0]], r.network, batches[group[0]].take(slice(0, 1)),
+                               r.freqs_hz, r.passband, r.char_hz).time_s
+        parts = [batches[k].take(slice(0, batches[k].mc.stop)) for k in group]
+        vals = {name: np.concatenate([p[name] for p in parts]) for name in parts[0]}
+        ev = Evaluator(changed[group[0]], r.network, vals, r.freqs_hz, r.passband, r.char_hz,
+                       temperature_k=t_hot_k, time_s=time_s, stresses=False)
+        cols = [np.asarray(ev.metric(n, c, at_hz=a), dtype=float) for n, a, c in requests]
+        table = np.stack(cols, axis=1) if cols else np.empty((ev.rows, 0))
+        at = 0
+        for k in group:
+            n = batches[k].mc.stop
+            out[k] = table[at:at + n]
+            at += n
+    return out
 
 
 def stage_alternatives(r: StageResult, analysis: Analysis, kind,
@@ -99,17 +136,23 @@ def stage_alternatives(r: StageResult, analysis: Analysis, kind,
 
     Only for stages analysed as networks (the caller's job): kinds with their own
     analysis have no Evaluator metrics. ``kind`` (its HEADLINE) gives the columns of
-    a stage without checks. One loop step per design (parts x 3);
-    each design's rows are evaluated at once.
+    a stage without checks. The designs are evaluated together where they share
+    a time grid (``designs_metrics``).
     """
     if r.network is None:
         return None
     designs, requests = _designs(r), _requests(r, tuple(kind.HEADLINE))
     if not designs or not requests:
         return None
+    # The design as drawn appears once per non-preferred part: evaluated once
+    # (designs[0] is the first part's, at its own value).
+    def key(role, step, v):
+        return (role, v) if step else (designs[0][0], designs[0][2])
+    distinct = list(dict.fromkeys(key(role, step, v) for role, step, v, _ in designs))
+    tables = dict(zip(distinct, designs_metrics(r, analysis, distinct, requests, samples)))
     rows = []
     for role, step, v, series in designs:
-        table = design_metrics(r, analysis, role, v, requests, samples)
+        table = tables[key(role, step, v)]
         vals = tuple(float(x) for x in table[0])
         ylds = tuple(float(checkmod.inside(table[1:, k], c.min, c.max).mean())
                      if c is not None and samples else math.nan

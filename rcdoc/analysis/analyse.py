@@ -113,10 +113,10 @@ class _Setup:
     evaluator: type
     noise_columns: tuple[int, ...] = ()
 
-    def evaluate(self, vals) -> Evaluator:
+    def evaluate(self, vals, stresses: bool = True) -> Evaluator:
         return self.evaluator(self.stage, self.network, vals, self.freqs, self.passband,
                               self.char_hz, temperature_k=self.t_hot_k, time_s=self.time_s,
-                              noise_columns=self.noise_columns)
+                              noise_columns=self.noise_columns, stresses=stresses)
 
 
 def _setup(stage: Stage, analysis: Analysis, kind, evaluator) -> _Setup:
@@ -152,6 +152,7 @@ class _Gathered:
     res_powers: dict = field(default_factory=dict)
     res_pulses: dict = field(default_factory=dict)     # role -> [(surge, energy) per chunk]
     unstable: list = field(default_factory=list)
+    line: dict = field(default_factory=dict)          # request key -> the walks' values
     h_nominal: np.ndarray = None
     nominal: "_Nominal" = None
 
@@ -179,16 +180,31 @@ class _Nominal:
                    pwm_time_s=ev.pwm_time_s if pwm else None)
 
 
+def _wc_context(s: _Setup) -> worstcase.Context:
+    return worstcase.Context(s.stage, s.analysis, s.network, s.batch, s.freqs, s.passband,
+                             s.char_hz, s.t_hot_k, s.time_s, fixed_values(s.stage), s.evaluator)
+
+
 def _gather(s: _Setup) -> _Gathered:
-    """Evaluate the batch chunk by chunk: metrics, response bands, waveforms, stresses."""
+    """Evaluate the batch chunk by chunk: metrics, response bands, waveforms, stresses.
+    The worst case's walks through the nominal (worstcase.line_rows) ride along as
+    extra rows of the last chunk: their metrics only (``line``), no march of their own."""
     g = _Gathered(values=[[] for _ in s.requests])
     batch = s.batch
+    walks = _wc_context(s).line_batch()
     for start in range(0, batch.rows, CHUNK_ROWS):
         rows = slice(start, min(start + CHUNK_ROWS, batch.rows))
-        ev = s.evaluate(batch.take(rows))
+        n, vals = rows.stop - rows.start, batch.take(rows)
+        tail = walks is not None and rows.stop == batch.rows
+        if tail:
+            vals = {k: np.concatenate([v, walks[k]]) for k, v in vals.items()}
+        ev = s.evaluate(vals)
         for k, (name, at, chk) in enumerate(s.requests):
-            g.values[k].append(np.asarray(ev.metric(name, chk, at_hz=at), dtype=float))
-        g.unstable.append(ev.unstable)
+            y = np.asarray(ev.metric(name, chk, at_hz=at), dtype=float)
+            g.values[k].append(y[:n])
+            if tail:
+                g.line[request_key(s.requests[k])] = y[n:]
+        g.unstable.append(ev.unstable[:n])
         # Spread bands of the response over the stable Monte Carlo rows only.
         mc_idx = _mc_rows(rows, batch)
         if mc_idx is not None:
@@ -197,14 +213,16 @@ def _gather(s: _Setup) -> _Gathered:
             _gather_spread(s, g, ev, mc_idx)
         if s.stage.drive is not None:
             for role, pk in ev.capacitor_peaks().items():
-                g.cap_peaks.setdefault(role, []).append(pk)
+                g.cap_peaks.setdefault(role, []).append(pk[:n])
             for role, pw in ev.resistor_powers().items():
-                g.res_powers.setdefault(role, []).append(pw)
+                g.res_powers.setdefault(role, []).append(pw[:n])
             for role, (surge, energy) in ev.resistor_pulses().items():
-                g.res_pulses.setdefault(role, []).append((surge, energy))
+                g.res_pulses.setdefault(role, []).append((surge[:n], energy[:n]))
         if start == 0:
             g.h_nominal = ev.h[0].copy()
             g.nominal = _Nominal.of(s, ev)
+    if walks is None:
+        g.line = {request_key(q): np.zeros(0) for q in s.requests}
     return g
 
 
@@ -241,24 +259,26 @@ def _metric_results(s: _Setup, g: _Gathered) -> list[MetricResult]:
     """Every requested metric with its samples, worst case and sensitivities."""
     batch = s.batch
     full = {request_key(q): np.concatenate(parts_) for q, parts_ in zip(s.requests, g.values)}
-    wc_ctx = worstcase.Context(s.stage, s.analysis, s.network, batch, s.freqs, s.passband,
-                               s.char_hz, s.t_hot_k, s.time_s, fixed_values(s.stage),
-                               s.evaluator)
-    line_y = wc_ctx.line_values(s.requests, request_key)
-    metrics = []
+    wc_ctx = _wc_context(s)
+    line_y = g.line
     # Worst-case corners for many parts: each part at the extreme its sensitivity favours.
+    jobs = []
     for q in s.requests:
         name, at, chk = q
         key = request_key(q)
         arr = full[key]
-        sens = spread.sensitivities(arr, batch)
         wc_vals = arr[batch.vertex]
         if len(batch.roles) > spread.FULL_VERTEX_PARTS:
-            signs = np.nan_to_num(sens) > 0
+            signs = np.nan_to_num(spread.sensitivities(arr, batch)) > 0
             high = np.stack([signs, ~signs])
             vv = spread.vertex_values(s.stage, s.analysis, batch.roles, high)
-            wc_vals = np.concatenate([wc_vals, s.evaluate(vv).metric(name, chk, at_hz=at)])
-        wc, wc_method = wc_ctx.enclose(q, arr, wc_vals, line_y[key])
+            wc_vals = np.concatenate([wc_vals, s.evaluate(vv, stresses=False)
+                                      .metric(name, chk, at_hz=at)])
+        jobs.append((q, arr, wc_vals, line_y[key]))
+    metrics = []
+    for (q, arr, _, _), (wc, wc_method) in zip(jobs, wc_ctx.enclose_all(jobs)):
+        name, at, chk = q
+        sens = spread.sensitivities(arr, batch)
         if METRICS[name].unit in ("dB", "deg"):
             # Absolute change per percent of part change for logarithmic and angular metrics.
             sens = (arr[batch.sens] - arr[0]) / (spread.SENSITIVITY_STEP * 100)

@@ -51,11 +51,16 @@ class Evaluator(PartStresses):
                  freqs_hz: np.ndarray, passband: str, char_hz: float,
                  temperature_k: np.ndarray | float = 298.15,
                  time_s: np.ndarray | None = None,
-                 noise_columns: tuple[int, ...] | None = None):
+                 noise_columns: tuple[int, ...] | None = None,
+                 stresses: bool = True):
         """``time_s``: the step-response grid to use (chunks of one batch must share
         one grid); by default one is chosen from these rows' slowest pole.
         ``noise_columns``: the pole columns whose resonances the noise integral
-        refines (chunks of one batch must share them); by default from the first row."""
+        refines (chunks of one batch must share them); by default from the first row.
+        ``stresses``: whether the drive's march also reduces the part voltages on
+        the fly (the pipeline's chunks); without it (worst-case walks and searches,
+        alternatives) the march forms the output alone, and a part stress asked
+        for all the same gets a march of its own (the same numbers either way)."""
         self.stage = stage
         self.network = network
         self.values = values
@@ -64,6 +69,7 @@ class Evaluator(PartStresses):
         self.char_hz = char_hz
         self.temperature_k = temperature_k
         self.rows = len(next(iter(values.values())))
+        self.stresses = stresses
         if time_s is not None:
             self.__dict__["time_s"] = time_s     # fills the cached property below
         if noise_columns is not None:
@@ -176,9 +182,10 @@ class Evaluator(PartStresses):
         fc = sweep_math.confirmed_crossing(self.response, thr, lo, hi, side == "up")
         todo = np.flatnonzero(ok & np.isnan(fc))          # the rows it does not serve
         lo, hi, t = lo[todo], hi[todo], thr[todo]
+        probe = self.response.rows(todo)
         for _ in range(CORNER_ITERATIONS):
             mid = np.sqrt(lo * hi)
-            under = db(self.response.at_rows(mid, todo)) < t
+            under = probe.db(mid) < t
             if side == "up":
                 hi, lo = np.where(under, mid, hi), np.where(under, lo, mid)
             else:
@@ -254,12 +261,13 @@ class Evaluator(PartStresses):
         b = np.log(f[np.minimum(j + 1, len(f) - 1)])
         k = (math.sqrt(5.0) - 1) / 2
         c, d = b - k * (b - a), a + k * (b - a)
-        gc, gd = db(self.response.at_rows(np.exp(c))), db(self.response.at_rows(np.exp(d)))
+        probe = self.response.rows()
+        gc, gd = probe.db(np.exp(c)), probe.db(np.exp(d))
         for _ in range(iterations):
             left = gc >= gd if top else gc <= gd     # the extreme lies in [a, d]
             b, a = np.where(left, d, b), np.where(left, a, c)
             x = np.where(left, b - k * (b - a), a + k * (b - a))
-            gx = db(self.response.at_rows(np.exp(x)))
+            gx = probe.db(np.exp(x))
             c, d, gc, gd = (np.where(left, x, d), np.where(left, c, x),
                             np.where(left, gx, gd), np.where(left, gc, gx))
         return c, d, gc, gd
@@ -383,10 +391,15 @@ class Evaluator(PartStresses):
 
     @cached_property
     def step_probes(self) -> dict[str, np.ndarray]:
-        """The output (rows × T) and, reduced on the fly, the part voltages the stresses need."""
+        """The output (rows × T) and, reduced on the fly, the part voltages the stresses
+        need where the step is the drive they read (not under a PWM drive)."""
+        d = self.stage.drive
+        return self._step_march(self.stresses and (d is None or d.kind != "pwm"))
+
+    def _step_march(self, with_parts: bool) -> dict[str, np.ndarray]:
         amp = self.stage.drive.amplitude_v if self.stage.drive else 1.0
         t = self.time_s
-        reduce = self._part_reductions(t.size)
+        reduce = self._part_reductions(t.size) if with_parts else {}
         probes = [self.network.output] + list(reduce)
         # The step is applied at t = 0 from rest: the input holds its amplitude
         # from the first instant on.
@@ -448,12 +461,16 @@ class Evaluator(PartStresses):
 
     @cached_property
     def pwm_probes(self) -> dict[str, np.ndarray]:
-        """The output over one period (rows × PWM_POINTS) and the part voltages, reduced."""
+        """The output over one period (rows × PWM_POINTS) and the part voltages, reduced
+        (those only where the Evaluator reads ``stresses``)."""
+        return self._pwm_march(self.stresses)
+
+    def _pwm_march(self, with_parts: bool) -> dict[str, np.ndarray]:
         d = self.stage.drive
         t = self.pwm_time_s
         # Held between instants: the edges fall on the grid, not halfway between.
         u = np.where(t < d.duty / d.frequency_hz, d.amplitude_v, 0.0)
-        reduce = self._part_reductions(t.size)
+        reduce = self._part_reductions(t.size) if with_parts else {}
         probes = [self.network.output] + list(reduce)
         return self._on_stable(lambda values, _: engine.periodic_steady_state(
             self.network, values, t, u, probes=probes, input_mode="hold", reduce=reduce),
@@ -470,10 +487,13 @@ class Evaluator(PartStresses):
 
     @cached_property
     def drive_probes(self) -> dict[str, np.ndarray] | None:
+        """The drive's probes with the part voltages' reductions (the stresses read them)."""
         d = self.stage.drive
         if d is None:
             return None
-        return self.pwm_probes if d.kind == "pwm" else self.step_probes
+        if self.stresses:
+            return self.pwm_probes if d.kind == "pwm" else self.step_probes
+        return self._pwm_march(True) if d.kind == "pwm" else self._step_march(True)
 
     # ---- dispatch ----------------------------------------------------------
     def _metric(self, name: str, check: Check | None = None, at_hz: float | None = None):

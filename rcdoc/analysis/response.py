@@ -91,6 +91,64 @@ class Response:
         return h
 
 
+    def rows(self, rows: np.ndarray | None = None) -> "Rows":
+        """The rows ``rows`` (an index array; all rows if None) prepared for a search
+        that asks for their gain at many frequencies (``Rows.db``)."""
+        return Rows(self, rows)
+
+
+_DB_PER_NEPER = 20 / math.log(10)     # as rcdoc.analysis.sweep_math.db
+
+
+class Rows:
+    """Some rows of a Response, their gains, poles and zeros taken out once, for the
+    steps of a bisection or golden-section search: ``db(f)`` is
+    sweep_math.db(response.at_rows(f, rows)), the same arithmetic in the same
+    order (each factor λ·jω + (1 − σ·λ), its constant computed once), with the
+    per-step indexing and set-up left out (a third of the time per step)."""
+
+    def __init__(self, response: Response, rows: np.ndarray | None):
+        self.response, self.rows = response, rows
+        if response.through:
+            return
+        sel = slice(None) if rows is None else rows
+        sigma = response.pencil.sigma
+        self.gain = response.gain[sel].astype(complex)
+        self.ok = response.ok[sel]
+        self.zeros = _factors(sigma, response.zeros[sel])
+        self.poles = _factors(sigma, response.poles[sel])
+
+    def db(self, f_hz: np.ndarray) -> np.ndarray:
+        """20·log10|H| of each row at its own frequency f_hz (one per row)."""
+        f = np.asarray(f_hz, dtype=float)
+        r = self.response
+        if r.through:
+            return np.zeros(f.shape)
+        jw = 2j * math.pi * f
+        with np.errstate(all="ignore"):
+            h = self.gain.copy()
+            for lam, const in zip(*self.zeros):
+                h *= lam * jw + const
+            den = np.ones(f.size, dtype=complex)
+            for lam, const in zip(*self.poles):
+                den *= lam * jw + const
+            h /= den
+        bad = ~(self.ok & np.isfinite(h))
+        if bad.any():
+            which = np.flatnonzero(bad) if self.rows is None else np.asarray(self.rows)[bad]
+            h[bad] = _direct_rows(r.system, r.out, f[bad], which)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            out = np.abs(h)
+            np.log(out, out=out)
+            out *= _DB_PER_NEPER
+        return out
+
+
+def _factors(sigma: float, eig: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(λ, 1 − σ·λ) per pole or zero, one contiguous row each: (K, S) and (K, S)."""
+    return np.ascontiguousarray(eig.T), np.ascontiguousarray((1.0 - sigma * eig).T)
+
+
 def _rank(c: np.ndarray) -> int:
     """Numerical rank of one (n, n) matrix, rows and columns scaled to unit maximum."""
     if c.size == 0:

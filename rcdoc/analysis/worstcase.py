@@ -82,33 +82,74 @@ def search(evaluate: Evaluate, starts: np.ndarray, maximise: np.ndarray,
     each start. Returns the metric at every point visited that improved, (M,).
     One batch of 2·P·S candidate rows per iteration; no loop over starts.
     """
-    s, p = starts.shape
+    return search_together(lambda ks, xs: [evaluate(xs[0])], [(starts, maximise)],
+                           lows, highs)[0]
+
+
+# (searches k, their (N_k, P) part values) -> each search's metric, (N_k,) each
+EvaluateAll = Callable[[list, list], list]
+
+
+def search_together(evaluate_all: EvaluateAll, problems: list, lows: np.ndarray,
+                    highs: np.ndarray) -> list[np.ndarray]:
+    """Several pattern searches (``search``'s, each with its own metric) in lockstep.
+
+    ``problems``: [(starts (S, P), maximise (S,))]. Each search takes exactly the
+    steps it takes alone (its moves and its stop depend on its own values only);
+    an iteration hands the candidates of every search still running to one call
+    of ``evaluate_all(ks, xs)`` (the running searches' indices and candidates), so
+    searches share the cost of evaluating a batch. Returns each search's
+    improving values.
+    """
     span = highs - lows
-    if s == 0 or p == 0 or not np.any(span > 0):
-        return np.zeros(0)
-    sign = np.where(maximise, 1.0, -1.0)
-    x = starts.copy()
-    fx = sign * evaluate(x)
-    fx = np.where(np.isfinite(fx), fx, -np.inf)
-    step = np.repeat((span / 4.0)[None, :], s, axis=0)
-    found = [sign * fx]
-    moves = np.concatenate([np.eye(p), -np.eye(p)])           # (2P, P) unit moves
+    state = []
+    for starts, maximise in problems:
+        s, p = starts.shape
+        if s == 0 or p == 0 or not np.any(span > 0):
+            state.append(None)
+            continue
+        state.append({"sign": np.where(maximise, 1.0, -1.0), "x": starts.copy(),
+                      "step": np.repeat((span / 4.0)[None, :], s, axis=0),
+                      "moves": np.concatenate([np.eye(p), -np.eye(p)])})   # (2P, P) unit moves
+    live = [k for k, st in enumerate(state) if st is not None]
+    if live:
+        values = evaluate_all(live, [state[k]["x"] for k in live])
+        for k, v in zip(live, values):
+            st = state[k]
+            fx = st["sign"] * v
+            st["fx"] = np.where(np.isfinite(fx), fx, -np.inf)
+            st["found"] = [st["sign"] * st["fx"]]
     for _ in range(ITERATIONS):
-        if np.all(step <= MIN_STEP * np.where(span > 0, span, 1.0)):
+        live = [k for k in live
+                if not np.all(state[k]["step"] <= MIN_STEP * np.where(span > 0, span, 1.0))]
+        if not live:
             break
-        cand = x[:, None, :] + moves[None, :, :] * step[:, None, :]      # (S, 2P, P)
-        cand = np.clip(cand, lows, highs)
-        fc = sign[:, None] * evaluate(cand.reshape(-1, p)).reshape(s, 2 * p)
-        fc = np.where(np.isfinite(fc), fc, -np.inf)
-        best = np.argmax(fc, axis=1)
-        fbest = fc[np.arange(s), best]
-        better = fbest > fx + FLAT * np.abs(fx)
-        x = np.where(better[:, None], cand[np.arange(s), best], x)
-        fx = np.where(better, fbest, fx)
-        step = np.where(better[:, None], step, step / 2.0)
-        found.append(sign * fx)
-    out = np.concatenate(found)
-    return out[np.isfinite(out)]
+        cands = []
+        for k in live:
+            st = state[k]
+            cand = st["x"][:, None, :] + st["moves"][None] * st["step"][:, None, :]  # (S, 2P, P)
+            cands.append(np.clip(cand, lows, highs))
+        values = evaluate_all(live, [c.reshape(-1, c.shape[-1]) for c in cands])
+        for k, cand, v in zip(live, cands, values):
+            st = state[k]
+            s, p = st["x"].shape
+            fc = st["sign"][:, None] * v.reshape(s, 2 * p)
+            fc = np.where(np.isfinite(fc), fc, -np.inf)
+            best = np.argmax(fc, axis=1)
+            fbest = fc[np.arange(s), best]
+            better = fbest > st["fx"] + FLAT * np.abs(st["fx"])
+            st["x"] = np.where(better[:, None], cand[np.arange(s), best], st["x"])
+            st["fx"] = np.where(better, fbest, st["fx"])
+            st["step"] = np.where(better[:, None], st["step"], st["step"] / 2.0)
+            st["found"].append(st["sign"] * st["fx"])
+    out = []
+    for st in state:
+        if st is None:
+            out.append(np.zeros(0))
+            continue
+        f = np.concatenate(st["found"])
+        out.append(f[np.isfinite(f)])
+    return out
 
 
 def start_points(samples_x: np.ndarray, samples_y: np.ndarray, nominal: np.ndarray,
@@ -185,12 +226,25 @@ class Context:
         cols = [self.batch.values[r][rows] for r in self.batch.roles]
         return np.stack(cols, axis=1) if cols else np.zeros((0, 0))
 
-    def evaluator(self, x: np.ndarray) -> Evaluator:
+    def values_of(self, x: np.ndarray) -> dict[str, np.ndarray]:
+        """Part values (N, P) as an Evaluator's values, the fixed elements added."""
         vals = {r: x[:, k] for k, r in enumerate(self.batch.roles)}
         for name, v in self.fixed.items():
             vals[name] = np.full(len(x), v)
+        return vals
+
+    def line_batch(self) -> dict[str, np.ndarray] | None:
+        """The values of the walks' rows (``line_rows``), or None for a stage without
+        parts; the pipeline evaluates them with its last chunk (``line_values``'s numbers)."""
+        if not self.batch.roles:
+            return None
+        return self.values_of(line_rows(self.part_values(slice(0, 1))[0], self.lows, self.highs))
+
+    def evaluator(self, x: np.ndarray) -> Evaluator:
+        vals = self.values_of(x)
         return self.evaluator_cls(self.stage, self.network, vals, self.freqs, self.passband,
-                                  self.char_hz, temperature_k=self.t_hot_k, time_s=self.time_s)
+                                  self.char_hz, temperature_k=self.t_hot_k, time_s=self.time_s,
+                                  stresses=False)
 
     def line_values(self, requests, key) -> dict:
         """Every requested metric along each part's walk through the nominal design;
@@ -205,17 +259,92 @@ class Context:
 
     def enclose(self, request, arr: np.ndarray, corner_y: np.ndarray, line_y: np.ndarray):
         """(low, high) holding corners, nominal and samples; searched inside where needed."""
-        name, at, chk = request
+        return self.enclose_all([(request, arr, corner_y, line_y)])[0]
+
+    def enclose_all(self, jobs) -> list:
+        """``enclose`` for every (request, arr, corner_y, line_y) of a stage, the interior
+        searches of all of them in lockstep (``search_together``)."""
         b, p = self.batch, len(self.batch.roles)
-        method = VERTICES if p <= spread.FULL_VERTEX_PARTS else SENSITIVITY_VERTICES
-        samples = arr[b.mc]
-        found = [corner_y, arr[:1], samples, line_y]
-        if p and needs_search(corner_y, float(arr[0]), samples, line_y, p):
-            def evaluate(x):
-                return np.asarray(self.evaluator(x).metric(name, chk, at_hz=at), dtype=float)
-            starts, up = start_points(
-                self.part_values(b.mc), samples, self.part_values(slice(0, 1))[0],
-                self.part_values(b.vertex), arr[b.vertex])
-            found.append(search(evaluate, starts, up, self.lows, self.highs))
-            method += SEARCHED
-        return enclosing_range(np.concatenate(found)), method
+        base = VERTICES if p <= spread.FULL_VERTEX_PARTS else SENSITIVITY_VERTICES
+        found, methods, problems, owners = [], [], [], []
+        for request, arr, corner_y, line_y in jobs:
+            samples = arr[b.mc]
+            found.append([corner_y, arr[:1], samples, line_y])
+            methods.append(base)
+            if p and needs_search(corner_y, float(arr[0]), samples, line_y, p):
+                problems.append(start_points(
+                    self.part_values(b.mc), samples, self.part_values(slice(0, 1))[0],
+                    self.part_values(b.vertex), arr[b.vertex]))
+                owners.append((len(found) - 1, request))
+                methods[-1] += SEARCHED
+        if problems:
+            searched = search_together(self._evaluate_all([q for _, q in owners]), problems,
+                                       self.lows, self.highs)
+            for (k, _), pts in zip(owners, searched):
+                found[k].append(pts)
+        return [(enclosing_range(np.concatenate(f)), m) for f, m in zip(found, methods)]
+
+    def _evaluate_all(self, requests) -> EvaluateAll:
+        """Candidates of several searches as rows of one Evaluator, after the nominal
+        design's row: the rows' conditioning and scale are then the nominal's,
+        whatever the candidates (as in the pipeline's first chunk). A point that
+        several starts or searches reach (clipped to the same face of the box, the
+        same start in every search), or that an earlier iteration evaluated, is
+        evaluated once: its values are kept per metric (``_Seen``)."""
+        nominal = self.part_values(slice(0, 1))
+        seen = _Seen(nominal.shape[1], len(requests))
+
+        def evaluate_all(ks, xs):
+            rows = np.concatenate(xs)
+            points, at, todo = seen.merge(rows, ks)
+            if todo.size:
+                ev = self.evaluator(np.concatenate([nominal, points[todo]]))
+                for k in ks:
+                    name, hz, chk = requests[k]
+                    seen.store(todo, k, np.asarray(ev.metric(name, chk, at_hz=hz),
+                                                   dtype=float)[1:])
+            found = seen.values[at]
+            out, start = [], 0
+            for k, x in zip(ks, xs):
+                out.append(found[start:start + len(x), k])
+                start += len(x)
+            return out
+        return evaluate_all
+
+
+class _Seen:
+    """Points of the box evaluated so far and their value per search; which values
+    exist is kept apart (a metric may be NaN). Points are found again by their
+    bytes (bookkeeping of the search's candidates, no arithmetic)."""
+
+    def __init__(self, parts: int, searches: int):
+        self.points = np.zeros((0, parts))
+        self.values = np.zeros((0, searches))
+        self.known = np.zeros((0, searches), dtype=bool)
+        self.number: dict[bytes, int] = {}
+
+    def merge(self, rows: np.ndarray, ks: list[int]):
+        """Add ``rows``; returns (points, the index of each row among them, the
+        indices of the points that lack a value of one of the searches ``ks``)."""
+        rows = np.ascontiguousarray(rows, dtype=float)
+        at = np.empty(len(rows), dtype=np.intp)
+        fresh = []
+        for i, row in enumerate(rows):
+            key = row.tobytes()
+            n = self.number.get(key)
+            if n is None:
+                n = self.number[key] = len(self.points) + len(fresh)
+                fresh.append(i)
+            at[i] = n
+        if fresh:
+            f = len(fresh)
+            self.points = np.concatenate([self.points, rows[fresh]])
+            self.values = np.concatenate([self.values, np.zeros((f, self.values.shape[1]))])
+            self.known = np.concatenate([self.known, np.zeros((f, self.known.shape[1]), bool)])
+        asked = np.unique(at)
+        todo = asked[~np.all(self.known[asked][:, ks], axis=1)]
+        return self.points, at, todo
+
+    def store(self, idx: np.ndarray, k: int, vals: np.ndarray) -> None:
+        self.values[idx, k] = vals
+        self.known[idx, k] = True
