@@ -74,6 +74,10 @@ def _clear_axes(ax) -> None:
         axis.reset_ticks = _keep_ticks           # clear calls it: the kept ticks stay
     try:
         ax.clear()
+        for spine in ax.spines.values():
+            # A cleared spine places itself when first asked, and then resets its axis's
+            # ticks: placed now, while the kept ticks are protected.
+            spine._ensure_position_is_set()
     finally:
         for axis in axes:
             del axis.reset_ticks
