@@ -28,7 +28,8 @@ from matplotlib.backends.backend_svg import FigureCanvasSVG
 from matplotlib.figure import Figure
 from matplotlib.transforms import Bbox
 
-_KEPT: dict[tuple, tuple[Figure, tuple]] = {}
+_KEPT: dict[tuple, tuple[Figure, tuple, dict]] = {}
+_PARS = ("left", "right", "bottom", "top", "wspace", "hspace")
 
 #: Off switch (tests compare reused figures against new ones).
 ENABLED = True
@@ -45,10 +46,14 @@ def reused_figure(kind: str, width_in: float, height_in: float,
         FigureCanvasSVG(fig)
         axes = tuple(make_axes(fig))
         if ENABLED:
-            _KEPT[key] = (fig, axes)
+            pars = {k: getattr(fig.subplotpars, k) for k in _PARS}
+            _KEPT[key] = (fig, axes, pars)
         return fig, axes
-    fig, axes = kept
+    fig, axes, pars = kept
     _clear_figure(fig)
+    # The axes back where a new figure has them: what a chart computes in data units from
+    # sizes in points (an arrow head's extent, for the data limits) depends on it.
+    fig.subplots_adjust(**pars)
     for ax in axes:
         _clear_axes(ax)
     return fig, axes
