@@ -97,8 +97,22 @@ class _LabelTicks:
 
     def __init__(self, ax, axis, name: str):
         self.ax, self.axis, self.name = ax, axis, name
+        self.last = None
 
     def __call__(self):
+        # Drawing a chart asks an axis for its ticks several times (to draw them, to
+        # place its label and the labels of the axes aligned with it); in between
+        # nothing they depend on changes (the objects themselves are in the key).
+        axis = self.axis
+        key = (axis.major.locator, axis.major.formatter, axis.minor.locator, axis.minor.formatter,
+               tuple(axis.get_view_interval()), tuple(self.ax.bbox.bounds))
+        if self.last is not None and _same(self.last[0], key):
+            return self.last[1]
+        out = self._ticks()
+        self.last = (key, out)
+        return out
+
+    def _ticks(self):
         ticks = type(self.axis)._update_ticks(self.axis)
         if not ticks:
             return ticks
@@ -110,6 +124,10 @@ class _LabelTicks:
         locs = np.array([t.get_loc() for t in ticks], dtype=float)
         lines = (self.ax, self.name, first, locs)
         return [_Labels(t, lines if i == 0 else None) for i, t in enumerate(ticks)]
+
+
+def _same(a: tuple, b: tuple) -> bool:
+    return all(x is y for x, y in zip(a[:4], b[:4])) and a[4:] == b[4:]
 
 
 class _Labels:
