@@ -90,6 +90,23 @@ def light_major_ticks(fig: Figure) -> None:
         for axis, name in ((ax.xaxis, "x"), (ax.yaxis, "y")):
             if not isinstance(vars(axis).get("_update_ticks"), _LabelTicks):
                 axis._update_ticks = _LabelTicks(ax, axis, name)
+                axis._get_ticklabel_bboxes = _LabelBoxes(axis)
+
+
+class _LabelBoxes:
+    """An axis's ``_get_ticklabel_bboxes``, measured once for the same ticks and renderer
+    (_LabelTicks returns the same list while nothing they depend on changed)."""
+
+    def __init__(self, axis):
+        self.axis = axis
+        self.last = None
+
+    def __call__(self, ticks, renderer=None):
+        if self.last is not None and self.last[0] is ticks and self.last[1] is renderer:
+            return self.last[2]
+        out = type(self.axis)._get_ticklabel_bboxes(self.axis, ticks, renderer)
+        self.last = (ticks, renderer, out)
+        return out
 
 
 class _LabelTicks:
