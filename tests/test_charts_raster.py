@@ -7,7 +7,8 @@ and with TextCachingAgg, and compares the pixels exactly: texts at whole and
 fractional pixel positions, the same string moved by whole pixels (a cached
 bitmap placed elsewhere), rotated and non-antialiased text, mathtext (drawn by
 matplotlib itself), symbols the note prints (µ, Ω, minus sign, thin space), and
-whole charts.
+whole charts (with legends laid out once per drawing, against matplotlib's
+own repeated layout).
 """
 
 from __future__ import annotations
@@ -77,7 +78,8 @@ def test_text_sizes_equal_plain_agg():
 
 def test_charts_equal_plain_agg(monkeypatch):
     # Whole charts: every PNG of the note goes through charts._png; drawn there with
-    # plain Agg instead, the bytes must not change.
+    # plain Agg instead, and legends laid out by matplotlib as often as it likes, the
+    # bytes must not change.
     f = np.logspace(0, 6, 301)
     h = 1.0 / (1.0 + 1j * f / 1591.5)          # first-order low-pass (textbook formula)
     g, p = 20.0 * np.log10(np.abs(h)), np.degrees(np.angle(h))
@@ -87,7 +89,12 @@ def test_charts_equal_plain_agg(monkeypatch):
         return [charts_freq.bode("r-bode", f, g, p, corner_hz=1591.5, marks=[(1591.5, -3.0, -45.0)],
                                  fmt="png"),
                 charts_time.histogram("r-hist", 1e3 + rng.standard_normal(500), nominal=1e3, lo=998.0,
-                                      label="R", unit="ohm", fmt="png")]
+                                      label="R", unit="ohm", fmt="png"),
+                # A legend with a title (phasors): laid out once per drawing.
+                charts_freq.phasor("r-ph", [{"label": "V_R", "value": 0.5 + 0.5j, "kind": "R"},
+                                            {"label": "V_C", "value": 0.5 - 0.5j, "kind": "C",
+                                             "tail": 0.5 + 0.5j}],
+                                   reference_label="I", freq_hz=1591.5, fmt="png")]
 
     def plain_rgba(fig, dpi):
         fig.set_dpi(dpi)
@@ -99,5 +106,6 @@ def test_charts_equal_plain_agg(monkeypatch):
     rng = np.random.default_rng(11)
     cached = draw()
     monkeypatch.setattr(charts.charts_raster, "rgba", plain_rgba)
+    monkeypatch.setattr(charts.charts_raster, "layout_once", lambda box: None)
     rng = np.random.default_rng(11)
     assert draw() == cached

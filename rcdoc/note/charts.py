@@ -515,8 +515,9 @@ def _legend(fig: Figure, handles: list, max_cols: int = 4, **kwargs) -> None:
         return
     longest = max(len(h.get_label()) for h in handles)
     fit = max(1, int(100 * fig.get_figwidth() / WIDTH_IN // (longest + 8)))
-    fig.legend(handles=handles, loc="outside lower center", ncols=min(len(handles), fit, max_cols),
-               **kwargs)
+    legend = fig.legend(handles=handles, loc="outside lower center",
+                        ncols=min(len(handles), fit, max_cols), **kwargs)
+    charts_raster.layout_once(legend._legend_box)
 
 
 def _arr(values, name: str) -> np.ndarray:

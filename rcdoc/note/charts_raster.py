@@ -16,6 +16,10 @@ three process-wide caches in front of the same FreeType calls:
 The pixels are those of plain Agg; only the repeated work is gone. The caches
 are keyed by everything the results depend on (string, font properties, the
 text rcParams, resolution, hinting), and bounded.
+
+`layout_once` spares a legend the same repetition: matplotlib works the
+boxes of a legend (rows of a handle and a label, columns, the title) out
+again for every box that asks, about thirty times in one drawing.
 """
 
 from __future__ import annotations
@@ -28,6 +32,7 @@ from matplotlib.backends.backend_agg import FigureCanvasAgg, RendererAgg, get_hi
 from matplotlib.figure import Figure
 from matplotlib.font_manager import fontManager, get_font
 from matplotlib.ft2font import RenderMode
+from matplotlib.offsetbox import OffsetBox
 
 _LIMIT = 50_000          # entries per cache: a note's charts use a few thousand
 _SIZES: dict = {}        # (string, font, dpi, ...) -> (width, height, descent)
@@ -133,6 +138,33 @@ class TextCachingAgg(RendererAgg):
             buffer, left, top = got
             self._renderer.draw_text_image(buffer, left + (tx >> 6),
                                            int(height) - (top + (ty >> 6)) + buffer.shape[0], 0, gc)
+
+
+def layout_once(box) -> None:
+    """Let each box under ``box`` (a legend's offset boxes) work out its extent and its
+    children's places once per renderer: a drawing asks again and again, and nothing
+    they depend on changes while it draws (the renderer is new for every drawing)."""
+    for child in [box, *box.get_children()]:
+        if child is not box:
+            layout_once(child)
+        elif isinstance(box, OffsetBox):
+            for name in ("get_bbox", "_get_bbox_and_child_offsets"):
+                if name not in vars(box):
+                    setattr(box, name, _Once(getattr(box, name)))
+
+
+class _Once:
+    """A method's result for the last renderer it was called with."""
+
+    def __init__(self, method):
+        self.method, self.last = method, None
+
+    def __call__(self, renderer):
+        if self.last is not None and self.last[0] is renderer:
+            return self.last[1]
+        out = self.method(renderer)
+        self.last = (renderer, out)
+        return out
 
 
 def rgba(fig: Figure, dpi: float) -> tuple[tuple[int, int], memoryview]:
