@@ -16,8 +16,10 @@ should normally be the same bytes; compare the rest with your eyes).
 
 --profile prints the top entries of a cProfile of one drawing of all charts.
 --quick shrinks the 40-stage board to 5 stages of 200 samples and k to 1.
-Writes only into a temporary folder. Run:
-    python bench/charts.py [--quick] [--repeats K] [--against REV] [--profile]
+--calls FILE keeps the recorded charts in FILE (a pickle this script wrote): read
+when it exists, else written, so a second run skips the analysis (minutes).
+Writes only into a temporary folder and FILE. Run:
+    python bench/charts.py [--quick] [--repeats K] [--against REV] [--profile] [--calls FILE]
 """
 
 from __future__ import annotations
@@ -168,6 +170,7 @@ def main(argv=None) -> int:
     ap.add_argument("--repeats", type=int, default=None)
     ap.add_argument("--against", metavar="REV")
     ap.add_argument("--profile", action="store_true")
+    ap.add_argument("--calls", metavar="FILE", type=Path)
     args = ap.parse_args(argv)
     repeats = args.repeats or (1 if args.quick else 3)
     sys.path.insert(0, str(ROOT / "bench"))
@@ -179,7 +182,13 @@ def main(argv=None) -> int:
         forty.write_text(rebuild.board(stages, samples), encoding="utf-8")
         print(f"recording the charts of the example board and a {stages}-stage board "
               f"({samples} samples); best of {repeats}, CPU seconds")
-        calls = record({"example": EXAMPLE, f"{stages}-stage": forty})
+        if args.calls is not None and args.calls.exists():
+            calls = pickle.loads(args.calls.read_bytes())
+            print(f"(the charts recorded in {args.calls})")
+        else:
+            calls = record({"example": EXAMPLE, f"{stages}-stage": forty})
+            if args.calls is not None:
+                args.calls.write_bytes(pickle.dumps(calls))
         calls_file = work / "calls.pkl"
         calls_file.write_bytes(pickle.dumps(calls))
         if args.profile:

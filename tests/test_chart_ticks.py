@@ -1,7 +1,8 @@
 """rcdoc.note.chart_ticks against the method it replaces: matplotlib's own Ticks.
 
 Each chart is drawn twice, once as the note draws it and once with the tick
-shortcuts switched off (matplotlib places and draws every tick itself, the
+shortcuts (minor ticks as lines, major grid lines and tick marks merged per
+axis, ticks in the view only) switched off (matplotlib places and draws every tick itself, the
 reference); the PNGs must decode to the same pixels. The inputs reach the
 extremes a board can produce: a Bode chart over twelve decades and one over
 less than a decade (minor ticks 2..9 between major 1, 2, 5), a curve with a
@@ -19,7 +20,7 @@ import pytest
 from matplotlib.figure import Figure
 from PIL import Image
 
-from rcdoc.note import chart_ticks, charts, charts_freq, charts_time
+from rcdoc.note import chart_ticks, charts, charts_freq, charts_reuse, charts_time
 
 # Draws every chart twice (shortcuts on and off) to compare pixels.
 pytestmark = pytest.mark.slow
@@ -31,9 +32,12 @@ def _pixels(png: bytes) -> np.ndarray:
 
 def _both(monkeypatch, draw) -> tuple[np.ndarray, np.ndarray]:
     """(pixels with the shortcuts, pixels with matplotlib's own ticks)."""
+    # New figures for both (a kept figure's axes keep the shortcut of an earlier chart).
+    monkeypatch.setattr(charts_reuse, "ENABLED", False)
     lean = _pixels(draw())
     with monkeypatch.context() as m:
         m.setattr(charts, "light_minor_ticks", lambda fig: None)
+        m.setattr(charts, "light_major_ticks", lambda fig: None)
         m.setattr(charts, "lean_axes", lambda fig, free: None)
         plain = _pixels(draw())
     return lean, plain
@@ -86,6 +90,25 @@ def test_overview_with_values_decades_apart_equals_matplotlibs(monkeypatch):
     rows.append({"label": "ring", "status": "pass", "kind": "ring", "nominal": 2e6, "min": 1.5e6,
                  "max": 2.5e6})
     lean, plain = _both(monkeypatch, lambda: charts_time.corner_overview("t-over", rows, fmt="png"))
+    assert np.array_equal(lean, plain)
+
+
+def test_phasor_and_time_response_equal_matplotlibs(monkeypatch):
+    # Linear axes whose limits are settled only when drawn (equal aspect, data limits).
+    # Series RC at its corner, V_R = V_C / j... = 1/sqrt(2) at -45 deg (textbook phasors).
+    vr = complex(0.5, 0.5)
+    vc = complex(0.5, -0.5)
+    lean, plain = _both(monkeypatch, lambda: charts_freq.phasor(
+        "t-ph", [{"label": "V_R", "value": vr, "kind": "R"},
+                 {"label": "V_C", "value": vc, "kind": "C", "tail": vr},
+                 {"label": "V_in", "value": vr + vc, "kind": "source"}],
+        reference_label="I", freq_hz=1591.5, angle_deg=-45.0, fmt="png"))
+    assert np.array_equal(lean, plain)
+    t = np.linspace(0.0, 5e-3, 400)
+    y = 1.0 - np.exp(-t / 1e-3)             # a first-order step response (textbook)
+    lean, plain = _both(monkeypatch, lambda: charts_time.time_response(
+        "t-tr", t, y, band=(0.95 * y, 1.05 * y), window={"t": 3e-3, "lo": 0.95, "hi": 1.05},
+        fmt="png"))
     assert np.array_equal(lean, plain)
 
 

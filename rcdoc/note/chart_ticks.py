@@ -3,10 +3,12 @@
 matplotlib makes one Tick object (three lines, two texts) for every tick it
 places, and that was most of the time a chart took to draw. rcdoc.note.charts
 calls these once a chart is laid out: minor ticks of log axes become two
-lines per axis, major locators stop placing ticks outside the view, and
-axes without a label skip the measuring that places it. Every chart of the
-example board and of the 40-stage bench board comes out pixel for pixel as
-before (bench/charts.py, tests/test_chart_ticks.py).
+lines per axis, the major ticks' grid lines and marks one line each per axis
+(their labels stay Ticks'), an axis works its ticks out once per drawing,
+major locators stop placing ticks outside the view, and axes without a label
+skip the measuring that places it. Every chart of the example board and of
+the 40-stage bench board comes out byte for byte as before (bench/charts.py,
+tests/test_chart_ticks.py).
 """
 
 from __future__ import annotations
@@ -37,20 +39,7 @@ def light_minor_ticks(fig: Figure) -> None:
         if not axis.get_visible():
             continue
         tick = axis.get_minor_ticks(1)[0]       # the template matplotlib would copy
-        along = np.repeat(locs, 3)
-        along[2::3] = np.nan
-        across = np.tile([0.0, 1.0, np.nan], locs.size)
-        transform = ax.get_xaxis_transform if name == "x" else ax.get_yaxis_transform
-        pieces = [(tick.gridline, along, across, "grid")]
-        pieces += [(mark, locs, np.full(locs.size, side), which)
-                   for mark, side, which in ((tick.tick1line, 0.0, "tick1"), (tick.tick2line, 1.0, "tick2"))]
-        for template, u, v, which in pieces:
-            if not template.get_visible() or not locs.size:
-                continue
-            line = Line2D([], [])
-            line.update_from(template)
-            line.set_data((u, v) if name == "x" else (v, u))
-            line.set_transform(transform(which))
+        for line, template in _merged_lines(ax, name, tick, locs):
             line.set_zorder(axis.get_zorder())
             ax.add_artist(line)
             # As the Tick's: grid lines clipped to the axes, tick marks outside them not.
@@ -58,6 +47,132 @@ def light_minor_ticks(fig: Figure) -> None:
             line.set_clip_path(template.get_clip_path())
     for _, axis, _, _ in jobs:
         axis.set_minor_locator(ticker.NullLocator())
+
+
+_PIECES = (("gridline", "grid"), ("tick1line", "tick1"), ("tick2line", "tick2"))
+
+
+def _merged_lines(ax, name: str, tick, locs: np.ndarray) -> list:
+    """The grid line and tick marks of ``tick`` at every location of ``locs``, as one line
+    each (grid segments with NaN between them; one marker per location): (line, the
+    Tick's line it copies) pairs."""
+    if not locs.size:
+        return []
+    along = np.repeat(locs, 3)
+    along[2::3] = np.nan
+    across = np.tile([0.0, 1.0, np.nan], locs.size)
+    transform = ax.get_xaxis_transform if name == "x" else ax.get_yaxis_transform
+    data = {"grid": (along, across), "tick1": (locs, np.zeros(locs.size)),
+            "tick2": (locs, np.ones(locs.size))}
+    lines = []
+    for attr, which in _PIECES:
+        template = getattr(tick, attr)
+        if not template.get_visible():
+            continue
+        u, v = data[which]
+        line = Line2D([], [])
+        line.update_from(template)
+        line.set_data((u, v) if name == "x" else (v, u))
+        line.set_transform(transform(which))
+        lines.append((line, template))
+    return lines
+
+
+def light_major_ticks(fig: Figure) -> None:
+    """Draw the grid lines and tick marks of the major ticks as one line each per axis.
+
+    matplotlib draws every major Tick's grid line and tick mark as lines of their
+    own, the bulk of drawing an axis. Each axis is given a stand-in for its
+    ``_update_ticks`` that returns the same ticks, wrapped so that drawing them
+    draws the labels as before but their lines (all alike) once for the axis, at
+    the same places and with the same properties, at the place of the first
+    tick's: the same pixels. Ticks whose lines differ are drawn as they are.
+    """
+    for ax in fig.axes:
+        for axis, name in ((ax.xaxis, "x"), (ax.yaxis, "y")):
+            if not isinstance(vars(axis).get("_update_ticks"), _LabelTicks):
+                axis._update_ticks = _LabelTicks(ax, axis, name)
+                axis._get_ticklabel_bboxes = _LabelBoxes(axis)
+
+
+class _LabelBoxes:
+    """An axis's ``_get_ticklabel_bboxes``, measured once for the same ticks and renderer
+    (_LabelTicks returns the same list while nothing they depend on changed)."""
+
+    def __init__(self, axis):
+        self.axis = axis
+        self.last = None
+
+    def __call__(self, ticks, renderer=None):
+        if self.last is not None and self.last[0] is ticks and self.last[1] is renderer:
+            return self.last[2]
+        out = type(self.axis)._get_ticklabel_bboxes(self.axis, ticks, renderer)
+        self.last = (ticks, renderer, out)
+        return out
+
+
+class _LabelTicks:
+    """An axis's ``_update_ticks``, its ticks drawn as labels plus merged lines."""
+
+    def __init__(self, ax, axis, name: str):
+        self.ax, self.axis, self.name = ax, axis, name
+        self.last = None
+
+    def __call__(self):
+        # Drawing a chart asks an axis for its ticks several times (to draw them, to
+        # place its label and the labels of the axes aligned with it); in between
+        # nothing they depend on changes (the objects themselves are in the key).
+        axis = self.axis
+        key = (axis.major.locator, axis.major.formatter, axis.minor.locator, axis.minor.formatter,
+               tuple(axis.get_view_interval()), tuple(self.ax.bbox.bounds))
+        if self.last is not None and _same(self.last[0], key):
+            return self.last[1]
+        out = self._ticks()
+        self.last = (key, out)
+        return out
+
+    def _ticks(self):
+        ticks = type(self.axis)._update_ticks(self.axis)
+        if not ticks:
+            return ticks
+        first = ticks[0]
+        shown = [(t.get_visible(), *(getattr(t, attr).get_visible() for attr, _ in _PIECES))
+                 for t in ticks]
+        if not first.get_visible() or any(s != shown[0] for s in shown):
+            return ticks
+        locs = np.array([t.get_loc() for t in ticks], dtype=float)
+        lines = (self.ax, self.name, first, locs)
+        return [_Labels(t, lines if i == 0 else None) for i, t in enumerate(ticks)]
+
+
+def _same(a: tuple, b: tuple) -> bool:
+    return all(x is y for x, y in zip(a[:4], b[:4])) and a[4:] == b[4:]
+
+
+class _Labels:
+    """A Tick as Axis.draw sees it: its labels, and (for the first) all the axis's lines."""
+
+    def __init__(self, tick, lines):
+        self.tick, self.lines = tick, lines
+        self.label1, self.label2 = tick.label1, tick.label2
+
+    def __getattr__(self, name):
+        return getattr(self.tick, name)
+
+    def draw(self, renderer):
+        renderer.open_group(self.tick.__name__, gid=self.tick.get_gid())     # as Tick.draw
+        if self.lines is not None:
+            ax, name, first, locs = self.lines
+            for line, template in _merged_lines(ax, name, first, locs):
+                line.set_figure(ax.get_figure(root=False))
+                line.axes = ax
+                line.set_clip_box(template.get_clip_box())
+                line.set_clip_path(template.get_clip_path())
+                line.draw(renderer)
+        self.label1.draw(renderer)
+        self.label2.draw(renderer)
+        renderer.close_group(self.tick.__name__)
+        self.tick.stale = False
 
 
 def lean_axes(fig: Figure, free: tuple) -> None:

@@ -33,13 +33,13 @@ import matplotlib.style
 import numpy as np
 from cycler import cycler
 from matplotlib import ticker
-from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.backends.backend_svg import FigureCanvasSVG
 from matplotlib.figure import Figure
 
 from rcdoc.input.quantities import format_eng
+from rcdoc.note import charts_raster
 from rcdoc.note import palette as pal
-from rcdoc.note.chart_ticks import lean_axes, light_minor_ticks
+from rcdoc.note.chart_ticks import lean_axes, light_major_ticks, light_minor_ticks
 
 WIDTH_IN = 16.0 / 2.54  # the note's text width, 16 cm
 HALF_WIDTH_IN = 0.49 * WIDTH_IN  # one of two charts side by side (the note's ".fig.half")
@@ -127,11 +127,40 @@ def _id_prefix(fig_id: str) -> str:
     return f"f{safe}-{digest}__"
 
 
+_STYLE: dict = {}     # the rcParams _styled sets (all but the salt), as validated once
+
+
+def _style_blacklist() -> set:
+    """The rcParams a style leaves alone (matplotlib's list; its own copy if that moves)."""
+    names = getattr(matplotlib.style, "_STYLE_BLACKLIST", None)
+    if names is None:
+        names = {"interactive", "backend", "webagg.port", "webagg.address", "webagg.port_retries",
+                 "webagg.open_in_browser", "backend_fallback", "toolbar", "timezone",
+                 "figure.max_open_warning", "figure.raise_window", "savefig.directory",
+                 "tk.window_focus", "docstring.hardcopy", "date.epoch"}
+    return set(names)
+
+
 @contextlib.contextmanager
 def _styled(fig_id: str) -> Iterator[None]:
-    # "default" resets to matplotlib's shipped defaults, ignoring matplotlibrc.
-    with matplotlib.style.context("default"), matplotlib.rc_context(_base_style(_salt(fig_id))):
+    """matplotlib's shipped defaults (ignoring matplotlibrc) with the note's style on top.
+
+    The values are those of matplotlib.style.context("default") and
+    rc_context(_base_style(...)), taken once and then set without validating
+    them again for every chart (that cost as much as drawing a few lines)."""
+    if not _STYLE:
+        with matplotlib.style.context("default"), matplotlib.rc_context(_base_style("")):
+            keys = set(matplotlib.rcParamsDefault) - _style_blacklist()
+            keys |= set(_base_style(""))
+            _STYLE.update({k: matplotlib.rcParams._get(k) for k in sorted(keys)})
+    rc = matplotlib.rcParams
+    saved = {k: rc._get(k) for k in _STYLE}
+    try:
+        rc._update_raw(_STYLE)
+        rc["svg.hashsalt"] = _salt(fig_id)
         yield
+    finally:
+        rc._update_raw(saved)
 
 
 def _new_figure(height_in: float, width_in: float = WIDTH_IN) -> Figure:
@@ -160,6 +189,7 @@ def _finish(fig: Figure, fig_id: str, title: str, fmt: str = "svg") -> str | byt
     _fixed_margins(fig)
     _keep_labels_apart(fig)
     light_minor_ticks(fig)
+    light_major_ticks(fig)
     # Formatters whose labels do not depend on a tick's place in the list (a
     # FixedFormatter's do: its axis keeps all its ticks).
     lean_axes(fig, (ticker.ScalarFormatter, ticker.LogFormatter, _AxisEngFormatter))
@@ -262,11 +292,8 @@ def _png(fig: Figure) -> bytes:
     made the example note's PNGs 3.2 times smaller (README, Performance).
     The file holds no text chunks and no dates: the same chart, the same bytes."""
     from PIL import Image
-    fig.set_dpi(PNG_DPI)
-    canvas = FigureCanvasAgg(fig)
-    canvas.draw()
-    rgba = Image.frombuffer("RGBA", canvas.get_width_height(physical=True),
-                            canvas.buffer_rgba(), "raw", "RGBA", 0, 1)
+    size, buffer = charts_raster.rgba(fig, PNG_DPI)
+    rgba = Image.frombuffer("RGBA", size, buffer, "raw", "RGBA", 0, 1)
     indexed = rgba.convert("RGB").quantize(colors=256, method=Image.Quantize.FASTOCTREE,
                                            dither=Image.Dither.NONE)
     out = io.BytesIO()
@@ -488,8 +515,9 @@ def _legend(fig: Figure, handles: list, max_cols: int = 4, **kwargs) -> None:
         return
     longest = max(len(h.get_label()) for h in handles)
     fit = max(1, int(100 * fig.get_figwidth() / WIDTH_IN // (longest + 8)))
-    fig.legend(handles=handles, loc="outside lower center", ncols=min(len(handles), fit, max_cols),
-               **kwargs)
+    legend = fig.legend(handles=handles, loc="outside lower center",
+                        ncols=min(len(handles), fit, max_cols), **kwargs)
+    charts_raster.layout_once(legend._legend_box)
 
 
 def _arr(values, name: str) -> np.ndarray:

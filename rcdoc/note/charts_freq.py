@@ -17,7 +17,8 @@ from matplotlib.patches import Arc, FancyArrowPatch, Patch, Rectangle
 from rcdoc.note import palette as pal
 from rcdoc.note.charts import (_BBOX, _arr, _AxisEngFormatter, _check_fig_id, _eng, _eng_range,
                                _finish, _finite, _grid, _legend, _log_axis, _log_fraction,
-                               _new_figure, _num, _same_shape, _styled)
+                               _num, _same_shape, _styled, WIDTH_IN)
+from rcdoc.note.charts_reuse import reused_figure
 
 
 # ---------------------------------------------------------------------------
@@ -46,8 +47,8 @@ def bode(fig_id: str, freqs_hz, gain_db, phase_deg, *, band: Mapping | None = No
     """
     f, g, p, fpos, bands, limits = _bode_inputs(fig_id, freqs_hz, gain_db, phase_deg, band, limits)
     with _styled(fig_id):
-        fig = _new_figure(4.9)
-        ax_g, ax_p = fig.subplots(2, 1, sharex=True, height_ratios=[3, 2])
+        fig, (ax_g, ax_p) = reused_figure(
+            "bode", WIDTH_IN, 4.9, lambda fig: fig.subplots(2, 1, sharex=True, height_ratios=[3, 2]))
         f_lo, f_hi = float(fpos.min()), float(fpos.max())
         ax_g.set_xscale("log")
         ax_g.set_xlim(f_lo, f_hi)
@@ -330,8 +331,7 @@ def phasor(fig_id: str, vectors: Sequence[Mapping], *, reference_label: str, fre
         raise ValueError("vectors: need at least one phasor")
 
     with _styled(fig_id):
-        fig = _new_figure(3.9)
-        ax = fig.add_subplot()
+        fig, (ax,) = reused_figure("phasor", WIDTH_IN, 3.9, lambda fig: [fig.add_subplot()])
         _grid(ax)
         mags = [abs(v) for _, v, _, _ in items]
         scale = max(max(mags), max(abs(t + v) for _, v, _, t in items), 1e-300)

@@ -19,7 +19,8 @@ from rcdoc.note import palette as pal
 from rcdoc.note.charts import (_UNSCALED_UNITS, HALF_WIDTH_IN, _arr, _AxisEngFormatter, _check_fig_id,
                                _eng, _finish, _finite, _grid, _legend, _log_axis, _new_figure,
                                _OffsetFormatter, _OffsetLocator, _same_shape, _styled,
-                               _tick_formatter, _unit_symbol)
+                               _tick_formatter, _unit_symbol, WIDTH_IN)
+from rcdoc.note.charts_reuse import reused_figure
 
 
 # ---------------------------------------------------------------------------
@@ -54,8 +55,7 @@ def time_response(fig_id: str, t_s, nominal, *, band=None, window: Mapping | Non
                        str(s["label"]), role))
 
     with _styled(fig_id):
-        fig = _new_figure(3.3)
-        ax = fig.add_subplot()
+        fig, (ax,) = reused_figure("time_response", WIDTH_IN, 3.3, lambda fig: [fig.add_subplot()])
         _grid(ax)
         handles = []
         if window is not None:
@@ -121,8 +121,7 @@ def histogram(fig_id: str, samples, *, nominal: float, lo: float | None = None, 
     nominal = float(nominal)
 
     with _styled(fig_id):
-        fig = _new_figure(2.5, HALF_WIDTH_IN)
-        ax = fig.add_subplot()
+        fig, (ax,) = reused_figure("histogram", HALF_WIDTH_IN, 2.5, lambda fig: [fig.add_subplot()])
         ax.grid(True, axis="y", color=pal.GRID, linewidth=0.6)
         x_min, x_max = float(x.min()), float(x.max())
         data_lo, data_hi = min(x_min, nominal), max(x_max, nominal)

@@ -1,0 +1,178 @@
+"""The raster renderer of the note's charts: matplotlib's Agg with its text work kept.
+
+A chart's PNG is drawn by matplotlib's Agg renderer, which lays out, measures
+and rasterises every piece of text anew for every chart: most of a chart's
+drawing time went to text whose strings ("0", "10 k", "Gain [dB]", the legend
+entries) repeat from chart to chart. `TextCachingAgg` is that renderer with
+three process-wide caches in front of the same FreeType calls:
+
+- the size of a string (what matplotlib's layout asks for, per chart),
+- the glyphs and their places that a string is shaped into,
+- each glyph's coverage bitmap, by font, size, glyph and the fraction of a
+  pixel where it lands (FreeType rasterises a glyph moved by whole pixels to
+  the same bitmap, moved: the outline is placed relative to its own pixel
+  grid; tests/test_charts_raster.py checks every pixel against plain Agg).
+
+The pixels are those of plain Agg; only the repeated work is gone. The caches
+are keyed by everything the results depend on (string, font properties, the
+text rcParams, resolution, hinting), and bounded.
+
+`layout_once` spares a legend the same repetition: matplotlib works the
+boxes of a legend (rows of a handle and a label, columns, the title) out
+again for every box that asks, about thirty times in one drawing.
+"""
+
+from __future__ import annotations
+
+import math
+
+import matplotlib as mpl
+import numpy as np
+from matplotlib.backends.backend_agg import FigureCanvasAgg, RendererAgg, get_hinting_flag
+from matplotlib.figure import Figure
+from matplotlib.font_manager import fontManager, get_font
+from matplotlib.ft2font import RenderMode
+from matplotlib.offsetbox import OffsetBox
+
+_LIMIT = 50_000          # entries per cache: a note's charts use a few thousand
+_SIZES: dict = {}        # (string, font, dpi, ...) -> (width, height, descent)
+_SHAPES: dict = {}       # (string, font, dpi, ...) -> ((ft font, glyph, x, y), ...)
+_GLYPHS: dict = {}       # (ft font, size, dpi, glyph, matrix, x % 64, y % 64, ...) -> bitmap
+_HEIGHTS: dict = {}      # (font, dpi, ...) -> (ascent, descent, line gap)
+
+# rcParams that change how a string is shaped or rasterised (fonts found, hinting, kerning).
+_TEXT_RC = ("font.family", "font.sans-serif", "font.serif", "font.monospace", "font.cursive",
+            "font.fantasy", "font.style", "font.variant", "font.weight", "font.stretch",
+            "text.hinting", "text.hinting_factor", "text.kerning_factor", "text.antialiased")
+
+
+def _remember(cache: dict, key, value):
+    if len(cache) >= _LIMIT:
+        cache.clear()            # rare (never in one note); cheaper than an LRU's bookkeeping
+    cache[key] = value
+    return value
+
+
+class TextCachingAgg(RendererAgg):
+    """Agg with cached text measures, shapes and glyph bitmaps (the same pixels)."""
+
+    def __init__(self, width, height, dpi):
+        super().__init__(width, height, dpi)
+        self._rc_key = tuple(str(mpl.rcParams[k]) for k in _TEXT_RC if k in mpl.rcParams)
+
+    def _font_key(self, prop) -> tuple:
+        return (tuple(prop.get_family()), prop.get_slant(), prop.get_variant(), prop.get_weight(),
+                prop.get_stretch(), prop.get_size_in_points(), prop.get_file(),
+                prop.get_math_fontfamily(), self.dpi, get_hinting_flag(), self._rc_key)
+
+    def get_text_width_height_descent(self, s, prop, ismath):
+        if ismath:
+            return super().get_text_width_height_descent(s, prop, ismath)
+        key = (s, self._font_key(prop))
+        got = _SIZES.get(key)
+        if got is None:
+            got = _remember(_SIZES, key, super().get_text_width_height_descent(s, prop, ismath))
+        return got
+
+    def _get_font_height_metrics(self, prop):
+        """Ascent, descent and line gap of the font at this resolution, as matplotlib's
+        Text._get_layout reads them from the font's tables (same formula, same floats)."""
+        key = self._font_key(prop)
+        got = _HEIGHTS.get(key)
+        if got is None:
+            got = (None, None, None)
+            font = get_font(fontManager._find_fonts_by_props(prop))
+            for table_name, gap_key, ascent_key, descent_key in (
+                    ('OS/2', 'sTypoLineGap', 'sTypoAscender', 'sTypoDescender'),
+                    ('hhea', 'lineGap', 'ascent', 'descent')):
+                table = font.get_sfnt_table(table_name)
+                if table is None:
+                    continue
+                fontsize = prop.get_size_in_points()
+                units_per_em = font.get_sfnt_table('head')['unitsPerEm']
+                scale = 1 / units_per_em * fontsize * self.dpi / 72
+                got = (table[ascent_key] * scale, -table[descent_key] * scale, table[gap_key] * scale)
+                break
+            _remember(_HEIGHTS, key, got)
+        return got
+
+    def draw_text(self, gc, x, y, s, prop, angle, ismath=False, mtext=None):
+        if ismath:
+            return super().draw_text(gc, x, y, s, prop, angle, ismath, mtext)
+        features = mtext.get_fontfeatures() if mtext is not None else None
+        language = mtext.get_language() if mtext is not None else None
+        key = (s, self._font_key(prop), None if features is None else tuple(features), language)
+        items = _SHAPES.get(key)
+        if items is None:
+            font = self._prepare_font(prop)
+            items = _remember(_SHAPES, key, tuple(
+                (item.ft_object, item.glyph_index, item.x, item.y)
+                for item in font._layout(s, flags=get_hinting_flag(), features=features,
+                                         language=language)))
+        self._draw_glyphs(gc, x, y, angle, prop.get_size_in_points(), items)
+
+    def _draw_glyphs(self, gc, x, y, angle, size, items):
+        """RendererAgg._draw_text_glyphs_and_boxes for shaped text, with each glyph's bitmap
+        taken from the cache when it was rendered before at the same fraction of a pixel."""
+        cos = math.cos(math.radians(angle))
+        sin = math.sin(math.radians(angle))
+        matrix = (0x10000 * np.array([[cos, -sin], [sin, cos]])).round().astype(int)
+        m_key = tuple(matrix.ravel().tolist())
+        flags = get_hinting_flag()
+        smooth = bool(gc.get_antialiased())
+        height = self.height
+        for font, glyph, dx, dy in items:          # dy is upwards, y downwards
+            tx = round(0x40 * (x + dx * cos - dy * sin))
+            ty = round(0x40 * (height - y + dx * sin + dy * cos))
+            key = (font, size, self.dpi, glyph, m_key, tx & 63, ty & 63, flags, smooth)
+            got = _GLYPHS.get(key)
+            if got is None:
+                font.set_size(size, self.dpi)
+                font._set_transform(matrix, [tx, ty])
+                bitmap = font._render_glyph(glyph, flags,
+                                            RenderMode.NORMAL if smooth else RenderMode.MONO)
+                buffer = np.array(bitmap.buffer, copy=True)
+                if not smooth:
+                    buffer *= 0xff
+                got = _remember(_GLYPHS, key, (buffer, bitmap.left - (tx >> 6), bitmap.top - (ty >> 6)))
+            buffer, left, top = got
+            self._renderer.draw_text_image(buffer, left + (tx >> 6),
+                                           int(height) - (top + (ty >> 6)) + buffer.shape[0], 0, gc)
+
+
+def layout_once(box) -> None:
+    """Let each box under ``box`` (a legend's offset boxes) work out its extent and its
+    children's places once per renderer: a drawing asks again and again, and nothing
+    they depend on changes while it draws (the renderer is new for every drawing)."""
+    for child in [box, *box.get_children()]:
+        if child is not box:
+            layout_once(child)
+        elif isinstance(box, OffsetBox):
+            for name in ("get_bbox", "_get_bbox_and_child_offsets"):
+                if name not in vars(box):
+                    setattr(box, name, _Once(getattr(box, name)))
+
+
+class _Once:
+    """A method's result for the last renderer it was called with."""
+
+    def __init__(self, method):
+        self.method, self.last = method, None
+
+    def __call__(self, renderer):
+        if self.last is not None and self.last[0] is renderer:
+            return self.last[1]
+        out = self.method(renderer)
+        self.last = (renderer, out)
+        return out
+
+
+def rgba(fig: Figure, dpi: float) -> tuple[tuple[int, int], memoryview]:
+    """Draw `fig` at `dpi` with TextCachingAgg: ((width, height), its RGBA buffer)."""
+    fig.set_dpi(dpi)
+    canvas = FigureCanvasAgg(fig)
+    w, h = canvas.get_width_height(physical=True)
+    canvas.renderer = TextCachingAgg(w, h, fig.dpi)
+    canvas._lastKey = (w, h, fig.dpi)        # FigureCanvasAgg.get_renderer keeps this one
+    canvas.draw()
+    return (w, h), canvas.buffer_rgba()

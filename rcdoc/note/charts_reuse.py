@@ -1,0 +1,95 @@
+"""One figure per kind of chart and process, cleared and drawn again for the next chart.
+
+A note draws the same kinds of chart again and again (a Bode chart, a phasor
+diagram and a histogram or two per stage). Making a figure's axes, and the
+Tick objects (three lines, two texts each) that every axis makes for its tick
+marks, cost about a third of a chart's drawing. `reused_figure` keeps, per
+kind of chart and size, the figure and axes that the first chart of that kind
+made, and hands them to the next one cleared by matplotlib's own
+`Axes.clear` (artists, limits, scales, locators, labels, grids back to their
+defaults) but with the axes' Tick objects kept: `clear` treats the kept ticks
+as it would fresh ones, and the chart then sets them up as it did before.
+So a chart kind must set up its ticks the same way every time (any call that
+changes ticks made unconditionally); every chart of the example board and the
+40-stage bench board comes out byte for byte as from a new figure
+(bench/charts.py, tests/test_charts_reuse.py).
+
+Figures are kept per process (a worker of a parallel build has its own); the
+caller must finish a chart (draw or save it) before asking for the next figure
+of its kind.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Sequence
+
+import matplotlib as mpl
+from matplotlib.backends.backend_svg import FigureCanvasSVG
+from matplotlib.figure import Figure
+from matplotlib.transforms import Bbox
+
+_KEPT: dict[tuple, tuple[Figure, tuple, dict]] = {}
+_PARS = ("left", "right", "bottom", "top", "wspace", "hspace")
+
+#: Off switch (tests compare reused figures against new ones).
+ENABLED = True
+
+
+def reused_figure(kind: str, width_in: float, height_in: float,
+                  make_axes: Callable[[Figure], Sequence]) -> tuple[Figure, tuple]:
+    """A figure of ``width_in`` x ``height_in`` with the axes ``make_axes(fig)`` makes
+    (a flat sequence), as new: the first time made, afterwards the kept one cleared."""
+    key = (kind, float(width_in), float(height_in))
+    kept = _KEPT.get(key) if ENABLED else None
+    if kept is None:
+        fig = Figure(figsize=(width_in, height_in))
+        FigureCanvasSVG(fig)
+        axes = tuple(make_axes(fig))
+        if ENABLED:
+            pars = {k: getattr(fig.subplotpars, k) for k in _PARS}
+            _KEPT[key] = (fig, axes, pars)
+        return fig, axes
+    fig, axes, pars = kept
+    _clear_figure(fig)
+    # The axes back where a new figure has them: what a chart computes in data units from
+    # sizes in points (an arrow head's extent, for the data limits) depends on it.
+    fig.subplots_adjust(**pars)
+    for ax in axes:
+        _clear_axes(ax)
+    return fig, axes
+
+
+def _clear_figure(fig: Figure) -> None:
+    """Back to a new figure's state: no legend, no title, the default resolution, the SVG
+    canvas (a PNG's drawing left an Agg canvas, whose text measures differ)."""
+    for legend in list(fig.legends):
+        legend.remove()
+    for text in list(fig.texts):
+        text.remove()
+    fig._suptitle = None
+    fig.set_dpi(mpl.rcParams["figure.dpi"])
+    FigureCanvasSVG(fig)
+    fig.stale = True
+
+
+def _clear_axes(ax) -> None:
+    """`Axes.clear`, keeping each axis's Tick objects (clear would drop them)."""
+    axes = (ax.xaxis, ax.yaxis)
+    for axis in axes:
+        axis.reset_ticks = _keep_ticks           # clear calls it: the kept ticks stay
+    try:
+        ax.clear()
+        for spine in ax.spines.values():
+            # A cleared spine places itself when first asked, and then resets its axis's
+            # ticks: placed now, while the kept ticks are protected.
+            spine._ensure_position_is_set()
+    finally:
+        for axis in axes:
+            del axis.reset_ticks
+    for axis in axes:
+        axis._autolabelpos = True                # rcdoc.note.chart_ticks.lean_axes may fix it
+    ax.dataLim.set(Bbox.null())                  # as new (clear only ignores the old limits)
+
+
+def _keep_ticks() -> None:
+    return None

@@ -1,0 +1,111 @@
+"""rcdoc.note.charts_raster against the method it replaces: matplotlib's own Agg renderer.
+
+The caching renderer keeps string sizes, shaped glyph runs and glyph bitmaps
+(by the fraction of a pixel where a glyph lands) from one drawing to the next.
+Every check draws the same figure with plain matplotlib Agg (the reference)
+and with TextCachingAgg, and compares the pixels exactly: texts at whole and
+fractional pixel positions, the same string moved by whole pixels (a cached
+bitmap placed elsewhere), rotated and non-antialiased text, mathtext (drawn by
+matplotlib itself), symbols the note prints (µ, Ω, minus sign, thin space), and
+whole charts (with legends laid out once per drawing, against matplotlib's
+own repeated layout).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.figure import Figure
+from matplotlib.transforms import IdentityTransform
+
+from rcdoc.note import charts, charts_freq, charts_raster, charts_reuse, charts_time
+
+
+def _plain(fig: Figure, dpi: float) -> np.ndarray:
+    fig.set_dpi(dpi)
+    canvas = FigureCanvasAgg(fig)
+    canvas.draw()
+    return np.asarray(canvas.buffer_rgba()).copy()
+
+
+def _cached(fig: Figure, dpi: float) -> np.ndarray:
+    (w, h), buf = charts_raster.rgba(fig, dpi)
+    return np.frombuffer(buf, np.uint8).reshape(h, w, 4).copy()
+
+
+def _text_figure() -> Figure:
+    fig = Figure(figsize=(4.0, 3.0))
+    rng = np.random.default_rng(7)
+    strings = ["0", "10\N{THIN SPACE}k", "Gain [dB]", "\N{MINUS SIGN}45°", "4.7\N{THIN SPACE}µ",
+               "220 Ω", "corner 1.59 kHz", "$f_c = 1/(2\\pi RC)$"]
+    for i, s in enumerate(strings):
+        x0, y0 = 8.0 + 3.0 * i, 20.0 + 30.0 * i
+        # The same string at a fractional place, moved by whole pixels (a cached bitmap
+        # reused elsewhere), and at another fraction.
+        for dx, dy in ((0.0, 0.0), (150.0, 3.0), (150.37, 3.81)):
+            fig.text(x0 + dx + rng.random(), y0 + dy, s, transform=IdentityTransform(),
+                     fontsize=6 + i)
+    fig.text(0.9, 0.5, "Phase [°]", rotation=90.0)
+    fig.text(0.6, 0.2, "tilted 30°", rotation=30.0, fontsize=9)
+    fig.text(0.1, 0.9, "aliased 123", antialiased=False)
+    return fig
+
+
+@pytest.mark.parametrize("dpi", [100.0, 150.0, 203.0])
+def test_text_pixels_equal_plain_agg(dpi):
+    fig = _text_figure()
+    reference = _plain(fig, dpi)
+    first = _cached(fig, dpi)            # fills the caches
+    again = _cached(fig, dpi)            # served from them
+    assert np.array_equal(first, reference)
+    assert np.array_equal(again, reference)
+    assert (reference[..., :3] < 128).any()          # something was drawn
+
+
+def test_text_sizes_equal_plain_agg():
+    # The measures matplotlib lays text out with (width, height, descent in pixels).
+    fig = _text_figure()
+    plain = FigureCanvasAgg(fig).get_renderer()
+    cached = charts_raster.TextCachingAgg(*plain.get_canvas_width_height(), fig.dpi)
+    for text in fig.texts:
+        s, prop = text.get_text(), text.get_fontproperties()
+        ismath = "$" in s
+        for _ in range(2):
+            assert cached.get_text_width_height_descent(s, prop, ismath) == \
+                plain.get_text_width_height_descent(s, prop, ismath)
+
+
+def test_charts_equal_plain_agg(monkeypatch):
+    # Whole charts: every PNG of the note goes through charts._png; drawn there with
+    # plain Agg instead, and legends laid out by matplotlib as often as it likes, the
+    # bytes must not change.
+    f = np.logspace(0, 6, 301)
+    h = 1.0 / (1.0 + 1j * f / 1591.5)          # first-order low-pass (textbook formula)
+    g, p = 20.0 * np.log10(np.abs(h)), np.degrees(np.angle(h))
+    rng = np.random.default_rng(11)
+
+    def draw():
+        return [charts_freq.bode("r-bode", f, g, p, corner_hz=1591.5, marks=[(1591.5, -3.0, -45.0)],
+                                 fmt="png"),
+                charts_time.histogram("r-hist", 1e3 + rng.standard_normal(500), nominal=1e3, lo=998.0,
+                                      label="R", unit="ohm", fmt="png"),
+                # A legend with a title (phasors): laid out once per drawing.
+                charts_freq.phasor("r-ph", [{"label": "V_R", "value": 0.5 + 0.5j, "kind": "R"},
+                                            {"label": "V_C", "value": 0.5 - 0.5j, "kind": "C",
+                                             "tail": 0.5 + 0.5j}],
+                                   reference_label="I", freq_hz=1591.5, fmt="png")]
+
+    def plain_rgba(fig, dpi):
+        fig.set_dpi(dpi)
+        canvas = FigureCanvasAgg(fig)
+        canvas.draw()
+        return canvas.get_width_height(physical=True), canvas.buffer_rgba()
+
+    monkeypatch.setattr(charts_reuse, "ENABLED", False)
+    rng = np.random.default_rng(11)
+    cached = draw()
+    monkeypatch.setattr(charts.charts_raster, "rgba", plain_rgba)
+    monkeypatch.setattr(charts.charts_raster, "layout_once", lambda box: None)
+    rng = np.random.default_rng(11)
+    assert draw() == cached
