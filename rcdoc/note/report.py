@@ -75,7 +75,7 @@ from weasyprint.urls import URLFetcher, URLFetcherResponse
 
 from rcdoc.errors import ProjectError
 from rcdoc.files import write_atomic
-from rcdoc.note import pdf_images
+from rcdoc.note import pdf_images, table_widths
 
 __all__ = [
     "render_document",
@@ -391,6 +391,7 @@ def _made_environment(search_path: tuple[Path, ...]) -> jinja2.Environment:
     env.filters["layout_rows"] = _layout_rows
     env.filters["keep_units"] = _keep_units
     env.globals["column_kinds"] = _column_kinds
+    env.globals["column_widths"] = table_widths.widths
     return env
 
 
