@@ -231,6 +231,14 @@ def _figure_markup(svg: str | bytes, alt: str = "") -> Markup:
             Markup(data), alt)
     if FIGURE_EMBEDDING == "inline":
         return Markup(_XML_PROLOG_RE.sub("", svg, count=1))
+    figures = _FIGURES.get()
+    if figures is not None and "<text" not in svg:
+        # The schematics (text as outlines) too wait in the image cache: their base64
+        # was two thirds of a stage's HTML, and the HTML parser walked every character
+        # of it. An SVG with text elements needs the document's fonts: a data: URL.
+        url = pdf_images.FIGURE_SCHEME + hashlib.sha256(svg.encode("utf-8")).hexdigest()
+        figures[url] = svg
+        return Markup('<img class="chart" src="{}" alt="{}">').format(url, alt)
     data = base64.b64encode(svg.encode("utf-8")).decode("ascii")
     return Markup('<img class="chart" src="data:image/svg+xml;base64,{}" alt="{}">').format(
         Markup(data), alt
@@ -424,9 +432,9 @@ def render_html(
 ) -> str:
     """The note as an HTML string (templates/note.html rendered with context).
 
-    With ``figures`` (a dict), palette PNG figures are referred to by a short
-    ``rcdoc-figure:`` URL and put in ``figures`` (URL -> PNG bytes) for
-    ``figure_images``; without it every figure is a ``data:`` URL.
+    With ``figures`` (a dict), palette PNG and SVG figures are referred to by a
+    short ``rcdoc-figure:`` URL and put in ``figures`` (URL -> PNG bytes or SVG
+    text) for ``figure_images``; without it every figure is a ``data:`` URL.
     Template mistakes (syntax, undefined names, missing templates) raise
     ProjectError naming the template file and line.
     """
@@ -474,7 +482,8 @@ def figure_images(figures: Mapping[str, bytes], cache: dict) -> dict:
     figure of ``figures`` (from render_html) it lacks; returns ``cache``."""
     for url, data in figures.items():
         if url not in cache:
-            cache[url] = pdf_images.IndexedPNG(url, data)
+            cache[url] = (pdf_images.svg_image(url, data) if isinstance(data, str)
+                          else pdf_images.IndexedPNG(url, data))
     return cache
 
 
