@@ -80,6 +80,7 @@ from rcdoc.note import pdf_images, table_widths
 __all__ = [
     "render_document",
     "render_html",
+    "render_css",
     "make_url_fetcher",
     "shipped_templates_dir",
     "ConfinedFetcher",
@@ -475,6 +476,15 @@ def render_html(
         raise  # a bug in rcdoc (context or shipped template), not the user's
     finally:
         _FIGURES.reset(token)
+
+
+def render_css(context: Mapping, *, template_dirs: Sequence[Path] = ()) -> str:
+    """The CSS that note.html puts in its <style> ahead of the part's own rules: the
+    palette and note.css (a template too), rendered with ``context`` as note.html does."""
+    env = _environment(_search_path(template_dirs))
+    extra = {"summary_rows": _summary_rows(context), "palette_css": Markup(_palette_css())}
+    css = env.get_template("note.css").render({**context, **extra})
+    return f"{extra['palette_css']}\n{css}"
 
 
 def figure_images(figures: Mapping[str, bytes], cache: dict) -> dict:
