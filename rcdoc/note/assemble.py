@@ -101,6 +101,16 @@ def chunk_key(stage_key: str, template_dirs: Sequence[Path], epoch: int | None,
     code) plus the templates, the date that goes into the fonts, the project
     folder (files a template may read), the renderer's versions and the font
     subsetter that ran (font_subsetter)."""
+    text = "\0".join([_PART_FORMAT, stage_key, templates_fingerprint(template_dirs),
+                      str(epoch), str(Path(project_dir).resolve()) if project_dir else "",
+                      *_renderer_versions(), font_subsetter()])
+    return hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
+@functools.lru_cache(maxsize=1)
+def _renderer_versions() -> tuple[str, ...]:
+    """The renderer's library versions, looked up once per process (each lookup
+    scans the installed distributions: 13 keys took a fiftieth of a render)."""
     from importlib.metadata import version
     versions = []
     for name in ("weasyprint", "pydyf", "fonttools", "pypdf"):
@@ -108,10 +118,7 @@ def chunk_key(stage_key: str, template_dirs: Sequence[Path], epoch: int | None,
             versions.append(f"{name}={version(name)}")
         except Exception:  # noqa: BLE001 - a missing library is part of the key too
             versions.append(f"{name}=?")
-    text = "\0".join([_PART_FORMAT, stage_key, templates_fingerprint(template_dirs),
-                      str(epoch), str(Path(project_dir).resolve()) if project_dir else "",
-                      *versions, font_subsetter()])
-    return hashlib.sha256(text.encode("utf-8")).hexdigest()
+    return tuple(versions)
 
 
 def font_subsetter() -> str:
