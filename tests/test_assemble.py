@@ -180,3 +180,32 @@ def test_joined_note_keeps_the_parts_version_and_its_own_identifier(note):
         assert f"/RcPageNumber{i}" in names
         assert page.get_contents().get_data().rstrip().endswith(
             f"q /RcPageNumber{i} Do Q".encode())
+
+
+def test_note_css_parsed_once_gives_the_same_bytes(monkeypatch):
+    # The note's CSS handed to weasyprint as one stylesheet parsed once per process
+    # (assemble._shared_css) against the reference: weasyprint reading the same CSS
+    # inside each document's <style>. Every part must come out byte for byte the same.
+    ctx = make_context()
+    kw = dict(source_date_epoch=EPOCH)
+    parts = [("front", ctx), ("stage", {**assemble._head(ctx), "stages": ctx["stages"][:1]})]
+    shared = [assemble.render_part(c, p, **kw) for p, c in parts]
+    assert assemble._SHEETS                        # the sheet was made and kept
+    monkeypatch.setattr(assemble, "_shared_css", lambda *a, **k: None)
+    inline = [assemble.render_part(c, p, **kw) for p, c in parts]
+    for a, b in zip(shared, inline):
+        assert a["pdf"] == b["pdf"] and a["pages"] == b["pages"] and a["pages"] >= 1
+
+
+def test_css_rules_of_one_document_stay_in_it(tmp_path):
+    # A note.css with @font-face (fonts belong to one document's configuration) or
+    # !important (its weight differs outside the document) is not shared.
+    base = report.shipped_templates_dir()
+    fetcher = report.make_url_fetcher([tmp_path, base])
+    ctx = make_context()
+    assert assemble._shared_css(ctx, [], str(base) + "/", fetcher) is not None
+    for extra in ("@font-face { font-family: X; src: url(x.ttf); }", "p { color: red !important; }"):
+        folder = tmp_path / str(len(extra))
+        folder.mkdir()
+        (folder / "note.css").write_text((base / "note.css").read_text() + extra)
+        assert assemble._shared_css(ctx, [folder], str(base) + "/", fetcher) is None

@@ -203,3 +203,33 @@ def test_text_stays_within_the_side_margins(board, request):
             outside.append((page, m.group(4)))
     assert page > 10 and words > 50 * page      # the word boxes were read
     assert not outside, outside[:10]
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("board", ["pages", "all_kinds_pages"])
+def test_no_word_runs_into_another(board, request):
+    # Tables are laid out with fixed column widths measured from the font
+    # (rcdoc/note/table_widths.py): a column too narrow for its content would let
+    # a cell's text run over the next cell's. Word boxes from poppler's
+    # pdftotext -bbox: on one line, no two words may overlap.
+    if shutil.which("pdftotext") is None:
+        pytest.skip("pdftotext (poppler-utils) not installed")
+    pdf = request.getfixturevalue(board)[0]["pdf"]
+    html = subprocess.run(["pdftotext", "-bbox", str(pdf), "-"], check=True,
+                          capture_output=True, text=True).stdout
+    overlaps, checked = [], 0
+    for number, body in enumerate(html.split("<page ")[1:], start=1):
+        words = [(float(a), float(b), float(c), float(d), w) for a, b, c, d, w in re.findall(
+            r'<word xMin="([\d.]+)" yMin="([\d.]+)" xMax="([\d.]+)" yMax="([\d.]+)">([^<]*)',
+            body)]
+        lines: dict[float, list] = {}
+        for x0, y0, x1, y1, w in words:
+            lines.setdefault(round(y1, 1), []).append((x0, x1, w))
+        for row in lines.values():
+            row.sort()
+            checked += len(row)
+            for (a0, a1, aw), (b0, b1, bw) in zip(row, row[1:]):
+                if b0 < a1 - 0.3:          # poppler rounds to a tenth of a point
+                    overlaps.append((number, aw, bw))
+    assert checked > 2000
+    assert not overlaps, overlaps[:10]

@@ -179,3 +179,36 @@ def test_note_figures_keep_their_pixels_in_one_document_and_in_parts(tmp_path):
         found = [i for p in pypdf.PdfReader(tmp_path / name).pages for i in p.images
                  if i.image.size == (120, 50)]
         assert found and all((np.asarray(i.image.convert("RGB")) == want).all() for i in found)
+
+
+@pytest.mark.slow
+def test_schematic_from_the_image_cache_draws_as_its_data_url(tmp_path):
+    # A text-free SVG (a schematic, its text as outlines) handed to weasyprint through
+    # its image cache (report.figure_images) must draw the same pixels as the same SVG
+    # fetched from a data: URL. Reference: weasyprint's own SVG loading, poppler's pdftoppm.
+    if shutil.which("pdftoppm") is None:
+        pytest.skip("pdftoppm (poppler-utils) not installed")
+    from rcdoc.kinds.recipes import Label, ladder
+    from rcdoc.note import report
+    from rcdoc.note.schematic import render_svg
+    svg = render_svg(ladder([("series", "R", Label("R14", "4.7 kΩ")),
+                             ("shunt", "C", Label("C9", "10 nF"))]))
+    assert "<text" not in svg
+    figures: dict = {}
+    token = report._FIGURES.set(figures)
+    try:
+        cached = str(report._figure_markup(svg, "schematic"))
+    finally:
+        report._FIGURES.reset(token)
+    plain = str(report._figure_markup(svg, "schematic"))
+    assert "data:" not in cached and "data:image/svg+xml" in plain and list(figures.values()) == [svg]
+    pixels = []
+    for name, img, cache in (("a", plain, {}), ("b", cached, report.figure_images(figures, {}))):
+        html = weasyprint.HTML(string=f'<div style="width:12cm">{img}</div>'
+                               '<style>img{width:100%}</style>')
+        (tmp_path / f"{name}.pdf").write_bytes(html.write_pdf(cache=cache))
+        subprocess.run(["pdftoppm", "-png", "-r", "100", "-singlefile", tmp_path / f"{name}.pdf",
+                        tmp_path / name], check=True)
+        pixels.append(np.asarray(Image.open(tmp_path / f"{name}.png").convert("L")))
+    assert (pixels[0] < 128).sum() > 500          # the schematic was drawn
+    assert (pixels[0] == pixels[1]).all()

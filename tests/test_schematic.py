@@ -516,7 +516,8 @@ def test_render_svg_is_valid_deterministic_and_text_free(name):
     root = svg_root(first)
     # text drawn as outlines: no dependence on the reader's fonts
     assert root.find(f".//{SVG_NS}text") is None
-    assert len(root.findall(f".//{SVG_NS}path")) > 10
+    outlines = [p for p in root.iter(f"{SVG_NS}path") if p.get("fill") not in (None, "none")]
+    assert outlines and sum(p.get("d").count("Z") for p in outlines) > 10   # glyph contours
     width_pt = float(re.match(r"([0-9.]+)pt", root.get("width")).group(1))
     # the widest stages stay near the 16 cm page width (453 pt)
     assert 100 < width_pt < 530
@@ -568,3 +569,77 @@ def test_reusing_factory_keeps_namedtuple_behaviour():
     assert a is _namedtuple("Anchor", ("x", "y")) and a(1, 2) == (1, 2) and a(1, 2).y == 2
     b = _namedtuple("Anchor", "x y", defaults=(0,))
     assert b is not a and b(1) == (1, 0)
+
+
+# --- labels merged into one path per colour (rcdoc.note.schematic.merged_text) ---------
+
+def _unmerged(recipe, monkeypatch):
+    import rcdoc.note.schematic as sch
+    monkeypatch.setattr(sch, "merged_text", lambda svg: svg)
+    return sch.render_svg(recipe)
+
+
+def _points(svg_text, only_text):
+    """Every absolute (x, y) of the filled paths (text) in user units, translations applied."""
+    root = svg_root(svg_text)
+    out = []
+
+    def walk(node, dx, dy, fill):
+        m = re.match(r"translate\(([-0-9.e]+) ([-0-9.e]+)\)", node.get("transform", ""))
+        if m:
+            dx, dy = dx + float(m.group(1)), dy + float(m.group(2))
+        fill = node.get("fill", fill)      # inherited from the groups around (SVG 1.1 §6.7)
+        if node.tag == SVG_NS + "path" and (not only_text or fill not in (None, "none")):
+            nums = [float(v) for v in re.findall(r"[-+]?(?:\d+\.?\d*|\.\d+)", node.get("d"))]
+            out.extend((round(x + dx, 3), round(y + dy, 3)) for x, y in zip(nums[::2], nums[1::2]))
+        for child in node:
+            walk(child, dx, dy, fill)
+    walk(root, 0.0, 0.0, None)
+    return sorted(out)
+
+
+@pytest.mark.parametrize("name", sorted(ALL_RECIPES))
+def test_merged_labels_keep_every_outline_point(name, monkeypatch):
+    # Source: SVG 1.1 §7.6 (a group's translate moves its children) and §8.3 (absolute
+    # M/L/Q/C coordinates): the merged text holds the same points, to the 3 decimals
+    # schemdraw writes, and the drawing is otherwise unchanged.
+    recipe = ALL_RECIPES[name]()
+    merged, plain = render_svg(recipe), _unmerged(recipe, monkeypatch)
+    assert _points(merged, True) == _points(plain, True)
+    assert len(svg_root(merged).findall(f".//{SVG_NS}g")) < len(svg_root(plain).findall(f".//{SVG_NS}g"))
+    for tag in ("circle", "polygon", "line"):
+        assert len(svg_root(merged).findall(f".//{SVG_NS}{tag}")) == \
+            len(svg_root(plain).findall(f".//{SVG_NS}{tag}"))
+
+
+def test_merge_leaves_other_path_commands_alone():
+    # Relative and arc commands are not x y pairs (SVG 1.1 §8.3): left as they are.
+    from rcdoc.note.schematic import merged_text
+    svg = ('<svg xmlns="http://www.w3.org/2000/svg"><g><g transform="translate(1 2)" fill="black">'
+           '<path d="M 0 0 l 1 1 Z" /></g></g></svg>')
+    assert merged_text(svg) == svg
+    ok = svg.replace("l 1 1", "L 1 1")
+    assert merged_text(ok) == ('<svg xmlns="http://www.w3.org/2000/svg">'
+                               '<path d="M 1 2 L 2 3 Z" fill="black" /></svg>')
+
+
+@pytest.mark.slow
+def test_merged_labels_draw_the_same_pixels(monkeypatch, tmp_path):
+    # Reference: weasyprint and pdftoppm (poppler) drawing the schematic as schemdraw
+    # wrote it; the merged one must give the same pixels at 150 dpi.
+    import shutil
+    import weasyprint
+    from PIL import Image, ImageChops
+    if shutil.which("pdftoppm") is None:
+        pytest.skip("pdftoppm (poppler-utils) not installed")
+    recipe = ALL_RECIPES["ladder"]()
+    pngs = []
+    for tag, svg in (("a", _unmerged(recipe, monkeypatch)), ("b", render_svg(recipe))):
+        import base64
+        url = "data:image/svg+xml;base64," + base64.b64encode(svg.encode()).decode()
+        weasyprint.HTML(string=f'<img src="{url}" style="width:16cm">').write_pdf(tmp_path / f"{tag}.pdf")
+        subprocess.run(["pdftoppm", "-png", "-r", "150", "-singlefile", tmp_path / f"{tag}.pdf",
+                        tmp_path / tag], check=True)
+        pngs.append(Image.open(tmp_path / f"{tag}.png").convert("L"))
+    assert pngs[0].getbbox() is not None
+    assert ImageChops.difference(*pngs).getbbox() is None

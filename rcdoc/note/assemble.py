@@ -182,14 +182,17 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
     if part == "numbers":
         ctx["page_count"] = page_count
     figures: dict = {}
-    html = report.render_html(ctx, template_dirs=template_dirs,
-                              source_date_epoch=source_date_epoch, figures=figures)
     search = report._search_path(template_dirs)
     base = next(d for d in search if (d / report._TEMPLATE_NAME).is_file())
+    sheet = _shared_css(ctx, template_dirs, str(base) + os.sep, fetcher)
+    html = report.render_html({**ctx, "shared_css": sheet is not None},
+                              template_dirs=template_dirs,
+                              source_date_epoch=source_date_epoch, figures=figures)
     cache = report.cache if image_cache is None else image_cache
     document = weasyprint.HTML(string=html, base_url=str(base) + os.sep,
                                url_fetcher=fetcher).render(
-        cache=report.figure_images(figures, cache))
+        cache=report.figure_images(figures, cache),
+        stylesheets=[sheet] if sheet is not None else None)
     scale = 0.75  # CSS px -> PDF pt, as weasyprint writes them (zoom 1)
     links, anchors = [], {}
     for i, page in enumerate(document.pages):
@@ -211,6 +214,39 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
         pdf = document.write_pdf(finisher=pdf_images.index_images)
     return {"key": key, "pdf": pdf, "pages": len(document.pages), "bookmarks": bookmarks,
             "anchors": anchors, "links": links}
+
+
+# Parsed note CSS by (text, base URL, folders the fetcher serves): each part of a
+# note parsed the same 9 kB of CSS again (a twentieth of a stage's render).
+_SHEETS: dict = {}
+# What a parsed sheet may not carry from one document to another: fonts and counter
+# styles are registered with the document's own configuration, imports fetched once.
+_PER_DOCUMENT = ("@font-face", "@counter-style", "@import")
+
+
+def _shared_css(context: Mapping, template_dirs, base_url: str, fetcher):
+    """note.html's CSS (report.render_css) as one weasyprint stylesheet per process,
+    or None (the CSS stays in the document) where it holds a rule that belongs to
+    one document, or cannot be rendered here (the document's render reports why).
+
+    Handed to weasyprint as a user stylesheet: below the document's own rules (the
+    part's overrides, the inline styles), above weasyprint's defaults, as the same
+    rules were inside the document (note.css uses no !important)."""
+    try:
+        text = report.render_css(context, template_dirs=template_dirs)
+    except Exception:  # noqa: BLE001 - the document's render reports template errors
+        return None
+    if any(rule in text for rule in _PER_DOCUMENT) or "!important" in text:
+        return None
+    allowed = tuple(str(d) for d in getattr(fetcher, "allowed_dirs", ()))
+    key = (hashlib.sha256(text.encode("utf-8")).hexdigest(), base_url, allowed)
+    sheet = _SHEETS.get(key)
+    if sheet is None:
+        if len(_SHEETS) >= 8:
+            _SHEETS.clear()
+        sheet = _SHEETS[key] = weasyprint.CSS(string=text, base_url=base_url,
+                                              url_fetcher=fetcher)
+    return sheet
 
 
 def _head(context: Mapping) -> dict:

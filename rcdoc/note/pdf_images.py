@@ -32,9 +32,9 @@ import numpy as np
 import pydyf
 from weasyprint.images import RasterImage
 
-__all__ = ["index_images", "indexed", "palette_png", "IndexedPNG", "FIGURE_SCHEME"]
+__all__ = ["index_images", "indexed", "palette_png", "IndexedPNG", "svg_image", "FIGURE_SCHEME"]
 
-#: The URL scheme of the note's own PNG figures in its HTML ("rcdoc-figure:<sha256>"):
+#: The URL scheme of the note's own figures (PNG, SVG) in its HTML ("rcdoc-figure:<sha256>"):
 #: never fetched, always found in the image cache (report.figure_images).
 FIGURE_SCHEME = "rcdoc-figure:"
 
@@ -171,3 +171,12 @@ class IndexedPNG(RasterImage):
                                              "BitsPerComponent": self._bits,
                                              "Columns": self.width}),
         }))
+
+
+def svg_image(url: str, svg: str):
+    """An SVG figure (rcdoc's schematics: no text elements, no external references)
+    for weasyprint's image cache, parsed as weasyprint parses an SVG it fetches.
+    No layout context is given: it only serves SVG text, which these lack."""
+    from xml.etree import ElementTree
+    from weasyprint.images import SVGImage
+    return SVGImage(ElementTree.fromstring(svg.encode("utf-8")), url, None, None)

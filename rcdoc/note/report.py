@@ -75,11 +75,12 @@ from weasyprint.urls import URLFetcher, URLFetcherResponse
 
 from rcdoc.errors import ProjectError
 from rcdoc.files import write_atomic
-from rcdoc.note import pdf_images
+from rcdoc.note import pdf_images, table_widths
 
 __all__ = [
     "render_document",
     "render_html",
+    "render_css",
     "make_url_fetcher",
     "shipped_templates_dir",
     "ConfinedFetcher",
@@ -231,6 +232,14 @@ def _figure_markup(svg: str | bytes, alt: str = "") -> Markup:
             Markup(data), alt)
     if FIGURE_EMBEDDING == "inline":
         return Markup(_XML_PROLOG_RE.sub("", svg, count=1))
+    figures = _FIGURES.get()
+    if figures is not None and "<text" not in svg:
+        # The schematics (text as outlines) too wait in the image cache: their base64
+        # was two thirds of a stage's HTML, and the HTML parser walked every character
+        # of it. An SVG with text elements needs the document's fonts: a data: URL.
+        url = pdf_images.FIGURE_SCHEME + hashlib.sha256(svg.encode("utf-8")).hexdigest()
+        figures[url] = svg
+        return Markup('<img class="chart" src="{}" alt="{}">').format(url, alt)
     data = base64.b64encode(svg.encode("utf-8")).decode("ascii")
     return Markup('<img class="chart" src="data:image/svg+xml;base64,{}" alt="{}">').format(
         Markup(data), alt
@@ -391,6 +400,7 @@ def _made_environment(search_path: tuple[Path, ...]) -> jinja2.Environment:
     env.filters["layout_rows"] = _layout_rows
     env.filters["keep_units"] = _keep_units
     env.globals["column_kinds"] = _column_kinds
+    env.globals["column_widths"] = table_widths.widths
     return env
 
 
@@ -423,9 +433,9 @@ def render_html(
 ) -> str:
     """The note as an HTML string (templates/note.html rendered with context).
 
-    With ``figures`` (a dict), palette PNG figures are referred to by a short
-    ``rcdoc-figure:`` URL and put in ``figures`` (URL -> PNG bytes) for
-    ``figure_images``; without it every figure is a ``data:`` URL.
+    With ``figures`` (a dict), palette PNG and SVG figures are referred to by a
+    short ``rcdoc-figure:`` URL and put in ``figures`` (URL -> PNG bytes or SVG
+    text) for ``figure_images``; without it every figure is a ``data:`` URL.
     Template mistakes (syntax, undefined names, missing templates) raise
     ProjectError naming the template file and line.
     """
@@ -468,12 +478,22 @@ def render_html(
         _FIGURES.reset(token)
 
 
+def render_css(context: Mapping, *, template_dirs: Sequence[Path] = ()) -> str:
+    """The CSS that note.html puts in its <style> ahead of the part's own rules: the
+    palette and note.css (a template too), rendered with ``context`` as note.html does."""
+    env = _environment(_search_path(template_dirs))
+    extra = {"summary_rows": _summary_rows(context), "palette_css": Markup(_palette_css())}
+    css = env.get_template("note.css").render({**context, **extra})
+    return f"{extra['palette_css']}\n{css}"
+
+
 def figure_images(figures: Mapping[str, bytes], cache: dict) -> dict:
     """``cache`` (weasyprint's image cache, URL -> image) with an image for each
     figure of ``figures`` (from render_html) it lacks; returns ``cache``."""
     for url, data in figures.items():
         if url not in cache:
-            cache[url] = pdf_images.IndexedPNG(url, data)
+            cache[url] = (pdf_images.svg_image(url, data) if isinstance(data, str)
+                          else pdf_images.IndexedPNG(url, data))
     return cache
 
 

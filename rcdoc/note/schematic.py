@@ -47,7 +47,7 @@ def render_svg(recipe: Recipe) -> str:
     plotter = _Plotter(d)
     for step in recipe.steps:
         plotter.draw(step)
-    return _scaled(d.get_imagedata("svg").decode("utf-8"))
+    return _scaled(merged_text(d.get_imagedata("svg").decode("utf-8")))
 
 
 class _Plotter:
@@ -213,3 +213,58 @@ def _scaled(svg: str) -> str:
     head, sep, body = svg.partition(">")
     head = re.sub(r'\b(width|height)="([0-9.]+)pt"', shrink, head)
     return head + sep + body
+
+
+# A text label as schemdraw writes it: a translated group of one <path> per glyph.
+_LABEL = re.compile(r'<g transform="translate\(([-0-9.e]+) ([-0-9.e]+)\)" fill="([^"]+)">'
+                    r'\s*((?:<path d="[^"]*" />\s*)*)</g>')
+_GLYPH = re.compile(r'<path d="([^"]*)" />')
+_EMPTY_GROUP = re.compile(r"<g>\s*</g>")
+_TOKEN = re.compile(r"[A-Za-z]|[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?")
+
+
+def _shifted(d: str, dx: float, dy: float) -> str | None:
+    """Path data ``d`` moved by (dx, dy); None when it holds a command other than
+    absolute M, L, Q, C or Z (whose numbers are all x y pairs)."""
+    out, pair = [], []
+    for token in _TOKEN.findall(d):
+        if token.isalpha():
+            if token not in "MLQCZ" or pair:
+                return None
+            out.append(token)
+            continue
+        pair.append(float(token))
+        if len(pair) == 2:
+            out += [f"{pair[0] + dx:.3f}".rstrip("0").rstrip("."),
+                    f"{pair[1] + dy:.3f}".rstrip("0").rstrip(".")]
+            pair = []
+    return None if pair else " ".join(out)
+
+
+def merged_text(svg: str) -> str:
+    """The schematic with every text label of one colour as a single <path>, drawn
+    last (over the lines, as the labels were). schemdraw writes each label as a
+    group of one path per glyph in nested groups: a fifth of a stage's page in
+    weasyprint went into those ~100 nodes per schematic. Same outlines, same
+    place (glyphs of a label do not overlap, so one path fills as many did);
+    an SVG in any other shape is returned as it is."""
+    runs: dict[str, list[str]] = {}
+    for m in _LABEL.finditer(svg):
+        dx, dy, colour = float(m.group(1)), float(m.group(2)), m.group(3)
+        for d in _GLYPH.findall(m.group(4)):
+            moved = _shifted(d, dx, dy)
+            if moved is None:
+                return svg
+            runs.setdefault(colour, []).append(moved)
+    if not runs:
+        return svg
+    body = _LABEL.sub("", svg)
+    while True:
+        emptied = _EMPTY_GROUP.sub("", body)
+        if emptied == body:
+            break
+        body = emptied
+    head, tail = body.rsplit("</svg>", 1)
+    paths = "".join(f'<path d="{" ".join(ds)}" fill="{colour}" />'
+                    for colour, ds in runs.items())
+    return head + paths + "</svg>" + tail

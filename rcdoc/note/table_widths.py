@@ -1,0 +1,129 @@
+"""Column widths of the note's data tables, measured from the note's font.
+
+What it is for: weasyprint's automatic table layout lays every cell out twice
+(once for its narrowest and widest width, once for real); a fifth of the
+render went there. With ``table-layout: fixed`` and the widths given here in
+``<col>`` elements each cell is laid out once. The widths follow the rule of
+the automatic layout (CSS 2.1 §17.5.2.2, informative): each column gets its
+widest content when they all fit, else its narrowest plus a share of the room
+left in proportion to how much wider it would like to be.
+
+Text is measured with the advance widths of DejaVu Sans and DejaVu Sans Bold,
+the note's first font, read from the copies that matplotlib ships (the same
+numbers on every machine, so the same HTML; the same advances as the system's
+DejaVu 2.37). The narrowest widths err wide, so that no column is narrower
+than its content; a table whose narrowest widths do not fit the page keeps
+the automatic layout (``widths`` returns None).
+
+What it must not do: read the system's fonts or anything the user gave.
+"""
+
+from __future__ import annotations
+
+import functools
+import re
+from collections.abc import Sequence
+from pathlib import Path
+
+__all__ = ["widths", "text_width"]
+
+# note.css: table.data is 8 pt, its cells have 1.6 mm of padding left and right;
+# the badge of a verdict is 7.5 pt bold capitals with 1.8 mm padding (its 0.5 pt border
+# does not widen the column: weasyprint's own column measured 41.35 pt, this 41.37 pt).
+_MM = 72 / 25.4
+_SIZE = 8.0
+_PAD = 2 * 1.6 * _MM
+_BADGE = 2 * 1.8 * _MM
+_PAGE = (210 - 18 - 18) * _MM          # A4 less the page's side margins, in pt
+# Kerning only narrows a line (the advance sums measured 0-0.2 pt wider than
+# weasyprint's own widths of the example's cells): 0.05 pt covers rounding.
+_EPS = 0.05
+_SHORT = 12       # _blocks.html: a cell of at most 12 characters never wraps
+_QUANTITY = re.compile(r"(?<![\w.])([+\-−±]?\d[\d.,]*(?:[eE][+\-−]?\d+)?) (\S{1,8})")
+
+
+@functools.lru_cache(maxsize=2)
+def _advances(bold: bool) -> tuple[dict[int, float], float]:
+    """Advance width per code point, in em, and the width taken for a code point
+    the font lacks (the widest glyph: another font draws it). The font files are
+    matplotlib's copies of DejaVu Sans (found without importing matplotlib)."""
+    import importlib.util
+    from fontTools.ttLib import TTFont
+    folder = Path(importlib.util.find_spec("matplotlib").submodule_search_locations[0])
+    name = "DejaVuSans-Bold.ttf" if bold else "DejaVuSans.ttf"
+    font = TTFont(str(folder / "mpl-data" / "fonts" / "ttf" / name), lazy=True)
+    em = font["head"].unitsPerEm
+    hmtx = font["hmtx"]
+    table = {code: hmtx[glyph][0] / em for code, glyph in font.getBestCmap().items()}
+    font.close()
+    return table, max(table.values())
+
+
+def text_width(text: str, size: float = _SIZE, bold: bool = False, wide: bool = True) -> float:
+    """Width of ``text`` on one line in pt (DejaVu Sans at ``size``, the sum of
+    its advances); ``wide``: erring wide (for the narrowest widths)."""
+    table, missing = _advances(bold)
+    em = sum(table.get(ord(ch), missing) for ch in text)
+    return em * size + (_EPS if wide else 0.0)
+
+
+def _pieces(text: str) -> list[str]:
+    """The pieces a line may break between: words, a number kept with its unit."""
+    return _QUANTITY.sub(lambda m: f"{m.group(1)}\u00a0{m.group(2)}", text).split()
+
+
+def _cell(text: str, *, nowrap: bool, bold: bool = False) -> tuple[float, float]:
+    """(narrowest, widest) width of a cell's content, in pt, padding included."""
+    whole = text_width(text, bold=bold)
+    if nowrap:
+        return whole + _PAD, whole + _PAD
+    narrow = max((text_width(p, bold=bold) for p in _pieces(text)), default=0.0)
+    return narrow + _PAD, max(narrow, text_width(text, bold=bold, wide=False)) + _PAD
+
+
+def _column(j: int, kind: str, header: str, rows: Sequence[Sequence], linked: bool):
+    """(narrowest, widest, verdict) of column ``j``, as _blocks.html draws its cells."""
+    classes = set(kind.split())
+    nowrap = bool(classes & {"nw", "num"})
+    lo, hi = _cell(header, nowrap=nowrap, bold=True)
+    for row in rows:
+        if j >= len(row):
+            continue
+        value = "" if row[j] is None else str(row[j])
+        if value in ("pass", "fail") and not (linked and j == 0):
+            w = text_width(value.upper(), 7.5, bold=True) + _BADGE + _PAD
+            a, b = w, w
+        else:
+            short = len(value) <= _SHORT and not (linked and j == 0)
+            a, b = _cell(value, nowrap=nowrap or short)
+        lo, hi = max(lo, a), max(hi, b)
+    return lo, hi, kind == "verdict"
+
+
+def widths(columns: Sequence, rows: Sequence[Sequence], kinds: Sequence[str],
+           linked: bool = False, room: float = _PAGE) -> list[float] | None:
+    """Each column's share of the table's width in per cent (summing to 100),
+    or None when the columns' narrowest widths do not fit ``room`` (pt).
+    ``kinds``: each column's classes as _blocks.html gives them; ``linked``: the
+    first column holds the links of the summary (they wrap)."""
+    if not columns:
+        return None
+    cols = [_column(j, str(kinds[j] if j < len(kinds) else ""), str(c), rows, linked)
+            for j, c in enumerate(columns)]
+    lo = [c[0] for c in cols]
+    hi = [c[1] for c in cols]
+    if sum(lo) > room:
+        return None
+    # Verdict columns are "width: 1%" in note.css: as narrow as their badge.
+    grow = [0.0 if c[2] else h for c, h in zip(cols, hi)]
+    if sum(hi) <= room:
+        spare = room - sum(hi)
+        total = sum(grow) or 1.0
+        out = [h + spare * g / total for h, g in zip(hi, grow)]
+    else:
+        want = [0.0 if c[2] else h - l for c, l, h in zip(cols, lo, hi)]
+        total = sum(want) or 1.0
+        out = [l + (room - sum(lo)) * w / total for l, w in zip(lo, want)]
+    share = [round(100 * w / room, 2) for w in out]
+    share[-1] = round(100 - sum(share[:-1]), 2)
+    return share

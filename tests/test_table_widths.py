@@ -1,0 +1,111 @@
+"""Column widths of the note's tables (rcdoc.note.table_widths) against weasyprint's
+own automatic table layout (CSS 2.1 §17.5.2.2), the reference they stand in for.
+
+Widths are measured on tables styled by the shipped note.css and rendered by
+weasyprint, a general-purpose HTML/CSS renderer: the column widths of its
+automatic layout, and the narrowest width of a cell (its min-content width).
+"""
+
+from __future__ import annotations
+
+import pytest
+import weasyprint
+from markupsafe import escape
+from weasyprint.formatting_structure import boxes
+
+from rcdoc.note import report, table_widths
+
+CSS = (report.shipped_templates_dir() / "note.css").read_text(encoding="utf-8")
+PX = 0.75          # CSS px -> pt
+
+
+def _columns(html: str) -> list[list[float]]:
+    """The column widths (pt) of every table weasyprint lays out in ``html``."""
+    doc = weasyprint.HTML(string=f"<style>{CSS}</style>{html}").render()
+    found = []
+
+    def walk(box):
+        if isinstance(box, boxes.TableBox):
+            found.append([w * PX for w in box.column_widths])
+        for child in getattr(box, "children", []):
+            walk(child)
+    for page in doc.pages:
+        walk(page._page_box)
+    return found
+
+
+def _table(columns, rows, kinds, shares=None) -> str:
+    cls = "data fixed" if shares else "data"
+    cols = "".join(f'<col style="width: {s}%">' for s in shares) if shares else ""
+    head = "".join(f'<th class="{k}">{escape(c)}</th>' for c, k in zip(columns, kinds))
+    body = "".join("<tr>" + "".join(
+        f'<td class="verdict"><span class="badge badge-{v}">{v}</span></td>' if v in ("pass", "fail")
+        else f'<td class="{(k + (" nw" if len(v) <= 12 else "")).strip()}">{escape(v)}</td>'
+        for v, k in zip(row, kinds)) + "</tr>" for row in rows)
+    return (f'<table class="{cls}"><colgroup>{cols}</colgroup><thead><tr>{head}</tr></thead>'
+            f"<tbody>{body}</tbody></table>")
+
+
+TEXTS = ["2.17 kΩ … 2.23 kΩ", "Corner frequency (−3 dB)", "±10 %", "546 µs", "−0.0879 dB/%",
+         "X7R; −45 % at 16 V, biased 12 V", "AVAWAY 0.1 Ω", "100 ppm/K", "≤ −10 dB"]
+
+
+@pytest.mark.parametrize("bold", [False, True])
+def test_text_width_is_weasyprints_own_to_a_fraction_of_a_point(bold):
+    # Reference: the one-column table weasyprint shrinks to its text (no padding, no wrap).
+    tag = "th" if bold else "td"
+    html = "".join(f'<table style="width:auto;border-collapse:collapse;font:8pt \'DejaVu Sans\'">'
+                   f'<tr><{tag} style="padding:0;white-space:nowrap">{escape(t)}</{tag}></tr></table>'
+                   for t in TEXTS)
+    got = [c[0] for c in _columns(html)]
+    for text, real in zip(TEXTS, got):
+        est = table_widths.text_width(text, bold=bold)
+        # Never narrower; wider only by kerning (AVAWAY: 4.6 %), else by under 0.5 pt.
+        assert real <= est <= max(real + 0.5, real * 1.06), (text, real, est)
+
+
+PARTS = (["Ref", "Role", "Value", "Tolerance", "Temperature / derating", "Range in circuit",
+          "Series", "Rating", "Model"],
+         [["C21", "c", "1 µF", "±10 %", "X7R; −45 % at 16 V, biased 12 V", "571 nF … 945 nF",
+           "E12", "25 V", "—"],
+          ["R30", "r", "220 kΩ", "±1 %", "—", "218 kΩ … 222 kΩ", "E96", "—", "—"]],
+         ["", "", "num", "num", "", "", "", "num", ""])
+CHECKS = (["Requirement", "Limit", "Nominal", "Worst sample", "Worst case", "Yield", "Verdict"],
+          [["Corner frequency (−3 dB)", "≤ 2 Hz", "959 mHz", "1.22 Hz", "751 mHz … 1.27 Hz",
+            "100 %", "pass"],
+           ["Gain at 5 Hz", "≥ −1 dB", "−0.243 dB", "−0.34 dB", "−0.357 dB … −0.182 dB",
+            "100 %", "fail"]],
+         ["nw", "num", "num", "num", "", "num", "verdict"])
+
+
+@pytest.mark.parametrize("table", [PARTS, CHECKS], ids=["fits", "wraps"])
+def test_widths_follow_the_automatic_layout(table):
+    # Reference: weasyprint's automatic layout of the same table; the fixed one
+    # (widths from table_widths) must give every column the same width within
+    # 1.5 pt, and each column at least weasyprint's narrowest width for it.
+    columns, rows, kinds = table
+    shares = table_widths.widths(columns, rows, kinds)
+    assert shares is not None and abs(sum(shares) - 100) < 1e-9
+    auto, fixed = _columns(_table(columns, rows, kinds) + _table(columns, rows, kinds, shares))
+    assert len(auto) == len(fixed) == len(columns)
+    for a, f in zip(auto, fixed):
+        assert abs(a - f) < 1.5, (auto, fixed)
+    squeezed = _table(columns, rows, kinds).replace('class="data"', 'class="data" style="width:1px"', 1)
+    narrow = _columns(squeezed)[0]
+    for n, f in zip(narrow, fixed):
+        assert f >= n - 0.05, (narrow, fixed)
+
+
+def test_no_widths_when_the_narrowest_columns_do_not_fit():
+    # Twelve columns of 15-character numbers cannot share 174 mm: automatic layout.
+    columns = [f"Value {i}" for i in range(12)]
+    rows = [["123456.789 kΩ/%"] * 12]
+    assert table_widths.widths(columns, rows, ["num"] * 12) is None
+    assert table_widths.widths([], [], []) is None
+
+
+def test_missing_glyphs_are_taken_as_wide_as_the_widest():
+    # A character DejaVu Sans lacks is drawn from another font: never taken narrower
+    # than the widest glyph the font has (common practice: err wide).
+    widest = table_widths.text_width("\u4e2d")        # a CJK ideograph
+    assert widest >= table_widths.text_width("W") and widest >= table_widths.text_width("—")
