@@ -182,26 +182,31 @@ def test_metric_names_stay_on_one_line(board, request):
     assert not wrapped, wrapped
 
 
+def _word_boxes(pdf) -> list[tuple[float, list[tuple[float, float, float, float, str]]]]:
+    """Each page's width and word boxes (x0, y0, x1, y1, word) from poppler's
+    pdftotext -bbox (pypdf gives where text starts, not where it ends)."""
+    if shutil.which("pdftotext") is None:
+        pytest.skip("pdftotext (poppler-utils) not installed")
+    html = subprocess.run(["pdftotext", "-bbox", str(pdf), "-"], check=True,
+                          capture_output=True, text=True).stdout
+    pages = []
+    for body in html.split("<page ")[1:]:
+        width = float(re.match(r'width="([\d.]+)"', body).group(1))
+        pages.append((width, [(float(a), float(b), float(c), float(d), w) for a, b, c, d, w in
+                              re.findall(r'<word xMin="([\d.]+)" yMin="([\d.]+)" '
+                                         r'xMax="([\d.]+)" yMax="([\d.]+)">([^<]*)', body)]))
+    return pages
+
+
 @pytest.mark.slow
 @pytest.mark.parametrize("board", ["pages", "all_kinds_pages"])
 def test_text_stays_within_the_side_margins(board, request):
-    # Word boxes from poppler's pdftotext -bbox (pypdf gives where text starts, not
-    # where it ends): no table cell or paragraph reaches into the left or right margin.
-    if shutil.which("pdftotext") is None:
-        pytest.skip("pdftotext (poppler-utils) not installed")
-    pdf = request.getfixturevalue(board)[0]["pdf"]
-    html = subprocess.run(["pdftotext", "-bbox", str(pdf), "-"], check=True,
-                          capture_output=True, text=True).stdout
-    outside, page, width, words = [], 0, 0.0, 0
-    for m in re.finditer(r'<page width="([\d.]+)"|<word xMin="([\d.]+)" yMin="[\d.]+" '
-                         r'xMax="([\d.]+)" yMax="[\d.]+">([^<]*)', html):
-        if m.group(1):
-            page, width = page + 1, float(m.group(1))
-            continue
-        x0, x1, words = float(m.group(2)), float(m.group(3)), words + 1
-        if x0 < _SIDE_MARGIN_PT - 0.5 or x1 > width - _SIDE_MARGIN_PT + 0.5:
-            outside.append((page, m.group(4)))
-    assert page > 10 and words > 50 * page      # the word boxes were read
+    # No table cell or paragraph reaches into the left or right margin.
+    pages = _word_boxes(request.getfixturevalue(board)[0]["pdf"])
+    outside = [(number, w) for number, (width, words) in enumerate(pages, start=1)
+               for x0, _, x1, _, w in words
+               if x0 < _SIDE_MARGIN_PT - 0.5 or x1 > width - _SIDE_MARGIN_PT + 0.5]
+    assert len(pages) > 10 and sum(len(w) for _, w in pages) > 50 * len(pages)  # boxes read
     assert not outside, outside[:10]
 
 
@@ -210,18 +215,10 @@ def test_text_stays_within_the_side_margins(board, request):
 def test_no_word_runs_into_another(board, request):
     # Tables are laid out with fixed column widths measured from the font
     # (rcdoc/note/table_widths.py): a column too narrow for its content would let
-    # a cell's text run over the next cell's. Word boxes from poppler's
-    # pdftotext -bbox: on one line, no two words may overlap.
-    if shutil.which("pdftotext") is None:
-        pytest.skip("pdftotext (poppler-utils) not installed")
-    pdf = request.getfixturevalue(board)[0]["pdf"]
-    html = subprocess.run(["pdftotext", "-bbox", str(pdf), "-"], check=True,
-                          capture_output=True, text=True).stdout
+    # a cell's text run over the next cell's. On one line, no two words may overlap.
     overlaps, checked = [], 0
-    for number, body in enumerate(html.split("<page ")[1:], start=1):
-        words = [(float(a), float(b), float(c), float(d), w) for a, b, c, d, w in re.findall(
-            r'<word xMin="([\d.]+)" yMin="([\d.]+)" xMax="([\d.]+)" yMax="([\d.]+)">([^<]*)',
-            body)]
+    for number, (_, words) in enumerate(_word_boxes(request.getfixturevalue(board)[0]["pdf"]),
+                                        start=1):
         lines: dict[float, list] = {}
         for x0, y0, x1, y1, w in words:
             lines.setdefault(round(y1, 1), []).append((x0, x1, w))
