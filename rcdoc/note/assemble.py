@@ -184,7 +184,7 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
     figures: dict = {}
     search = report._search_path(template_dirs)
     base = next(d for d in search if (d / report._TEMPLATE_NAME).is_file())
-    sheet = _shared_css(ctx, template_dirs, str(base) + os.sep, fetcher)
+    sheet = _shared_css(ctx, template_dirs, str(base) + os.sep, fetcher, source_date_epoch)
     html = report.render_html({**ctx, "shared_css": sheet is not None},
                               template_dirs=template_dirs,
                               source_date_epoch=source_date_epoch, figures=figures)
@@ -224,7 +224,8 @@ _SHEETS: dict = {}
 _PER_DOCUMENT = ("@font-face", "@counter-style", "@import")
 
 
-def _shared_css(context: Mapping, template_dirs, base_url: str, fetcher):
+def _shared_css(context: Mapping, template_dirs, base_url: str, fetcher,
+                source_date_epoch: int | None = None):
     """note.html's CSS (report.render_css) as one weasyprint stylesheet per process,
     or None (the CSS stays in the document) where it holds a rule that belongs to
     one document, or cannot be rendered here (the document's render reports why).
@@ -233,7 +234,8 @@ def _shared_css(context: Mapping, template_dirs, base_url: str, fetcher):
     part's overrides, the inline styles), above weasyprint's defaults, as the same
     rules were inside the document (note.css uses no !important)."""
     try:
-        text = report.render_css(context, template_dirs=template_dirs)
+        text = report.render_css(context, template_dirs=template_dirs,
+                                 source_date_epoch=source_date_epoch)
     except Exception:  # noqa: BLE001 - the document's render reports template errors
         return None
     if any(rule in text for rule in _PER_DOCUMENT) or "!important" in text:

@@ -441,11 +441,7 @@ def render_html(
     """
     search_path = _search_path(template_dirs)
     env = _environment(search_path)
-    extra = {
-        "created": _w3c_date(source_date_epoch) if source_date_epoch is not None else None,
-        "summary_rows": _summary_rows(context),
-        "palette_css": Markup(_palette_css()),
-    }
+    extra = _extras(context, source_date_epoch)
     token = _FIGURES.set(figures)
     try:
         template = env.get_template(_TEMPLATE_NAME)
@@ -478,11 +474,21 @@ def render_html(
         _FIGURES.reset(token)
 
 
-def render_css(context: Mapping, *, template_dirs: Sequence[Path] = ()) -> str:
+def _extras(context: Mapping, source_date_epoch: int | None) -> dict:
+    """What the templates see besides the context (note.html and note.css alike)."""
+    return {
+        "created": _w3c_date(source_date_epoch) if source_date_epoch is not None else None,
+        "summary_rows": _summary_rows(context),
+        "palette_css": Markup(_palette_css()),
+    }
+
+
+def render_css(context: Mapping, *, template_dirs: Sequence[Path] = (),
+               source_date_epoch: int | None = None) -> str:
     """The CSS that note.html puts in its <style> ahead of the part's own rules: the
     palette and note.css (a template too), rendered with ``context`` as note.html does."""
     env = _environment(_search_path(template_dirs))
-    extra = {"summary_rows": _summary_rows(context), "palette_css": Markup(_palette_css())}
+    extra = _extras(context, source_date_epoch)
     css = env.get_template("note.css").render({**context, **extra})
     return f"{extra['palette_css']}\n{css}"
 
