@@ -148,13 +148,24 @@ def test_failed_build_writes_no_cache(tmp_path, monkeypatch):
 
 
 @pytest.mark.slow
-def test_jobs_and_cache_give_the_same_bytes(project_file, tmp_path):
+def test_jobs_and_cache_give_the_same_bytes(project_file, tmp_path, monkeypatch):
+    import rcdoc.note.assemble as assemble
     p = load_project(str(project_file))
     serial = build.analyse_project(p, draw=True, jobs=1)
     pooled = build.analyse_project(p, draw=True, jobs=2)
     assert pooled.contexts == serial.contexts
+    # With workers, the appendix part was rendered by one of them, under the key
+    # the whole note's render computes: write_outputs does not render it again.
+    assert pooled.note_parts["appendix"]["pages"] >= 1
+    rendered = []
+    real = assemble.render_part
+    monkeypatch.setattr(assemble, "render_part",
+                        lambda ctx, part, **kw: rendered.append(part) or real(ctx, part, **kw))
     a = build.write_outputs(serial, tmp_path / "a")
+    assert "appendix" in rendered
+    rendered.clear()
     b = build.write_outputs(pooled, tmp_path / "b")
+    assert "appendix" not in rendered and "front" in rendered
     assert Path(a[1]).read_bytes() == Path(b[1]).read_bytes()
     assert Path(a[0]).read_bytes() == Path(b[0]).read_bytes()
 
@@ -214,3 +225,66 @@ def test_rebuild_reuses_page_numbers_and_gives_the_same_bytes(project_file, tmp_
     cold = build.write_outputs(build.analyse_project(p, draw=True), tmp_path / "cold")[0]
     assert "numbers" in rendered[rendered.index("front", 1):]
     assert Path(pdf).read_bytes() == Path(cold).read_bytes()
+
+
+@pytest.mark.slow
+def test_one_stage_drawn_by_a_worker_beside_the_front(project_file, tmp_path, monkeypatch):
+    # A rebuild with the command's pool: the changed stage is analysed here, drawn
+    # by a worker while this process renders the front matter from the results;
+    # the note is byte for byte the note a cold serial build makes (common practice).
+    import rcdoc.note.assemble as assemble
+    out = tmp_path / "out"
+    first = build.analyse_project(load_project(str(project_file)), draw=True, out_dir=out)
+    build.write_outputs(first, out)
+    project_file.write_text(PROJECT.replace('value = "100k"', 'value = "120k"'), encoding="utf-8")
+    calls = _counting(monkeypatch)
+    rendered = []
+    real = assemble.render_part
+    monkeypatch.setattr(assemble, "render_part",
+                        lambda ctx, part, **kw: rendered.append(part) or real(ctx, part, **kw))
+    p = load_project(str(project_file))
+    with build.WorkerPool(2, draw=True) as pool:
+        again = build.analyse_project(p, draw=True, jobs=2, out_dir=out, pool=pool)
+    assert calls == ["hp"] and again.computed == ["hp"] and again.cached == ["lp"]
+    assert rendered == ["front"]            # the stage's part came from the worker
+    assert again.note_parts["front"]["key"] and again.overview is not None
+    assert again.contexts[1]["id"] == "hp" and again.parts[1]["pages"] >= 1
+    pdf, _ = build.write_outputs(again, out)
+    assert rendered == ["front"]            # nothing rendered again
+    cold = build.write_outputs(build.analyse_project(p, draw=True), tmp_path / "cold")[0]
+    assert Path(pdf).read_bytes() == Path(cold).read_bytes()
+
+
+def test_pool_is_warmed_only_where_a_stage_is_to_analyse(project_file, tmp_path, monkeypatch):
+    # The fork server's imports cost CPU whether or not a worker is ever asked
+    # for: started early only when a stage has no cache entry (one stage: its
+    # drawing goes to a worker while the front matter is rendered here).
+    import rcdoc.commands.cli as cli
+    main = cli.main
+    out = tmp_path / "out"
+    p = load_project(str(project_file))
+    assert build.stages_to_analyse(p, out) == 2 and build.stages_to_analyse(p, None) == 2
+    warmed = []
+    monkeypatch.setattr(build.WorkerPool, "warm", lambda self: warmed.append(self.jobs))
+    monkeypatch.setattr(cli, "_build_checked", lambda *a: 0)     # the decision only
+    assert main(["build", str(project_file), "-o", str(out), "--jobs", "2", "--quiet"]) == 0
+    assert warmed == [2]
+    build.analyse_project(p, jobs=1, out_dir=out).commit_cache()
+    assert build.stages_to_analyse(p, out) == 0
+    warmed.clear()
+    assert main(["build", str(project_file), "-o", str(out), "--jobs", "2", "--quiet"]) == 0
+    assert warmed == []
+
+
+def test_fork_server_preload_is_silent_without_a_renderer():
+    # A server started before require_renderer must neither print weasyprint's
+    # banner nor a traceback when the renderer cannot load: the command says it
+    # in one line. Here weasyprint cannot be imported at all.
+    import subprocess
+    import sys
+    code = ("import sys; sys.modules['weasyprint'] = None; "
+            "import rcdoc.commands.preload; print('ok', 'rcdoc.note.assemble' in sys.modules)")
+    proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                          cwd=str(Path(__file__).resolve().parent.parent))
+    assert proc.returncode == 0 and proc.stderr == ""
+    assert proc.stdout == "ok False\n"

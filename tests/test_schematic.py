@@ -643,3 +643,17 @@ def test_merged_labels_draw_the_same_pixels(monkeypatch, tmp_path):
         pngs.append(Image.open(tmp_path / f"{tag}.png").convert("L"))
     assert pngs[0].getbbox() is not None
     assert ImageChops.difference(*pngs).getbbox() is None
+
+
+def test_drawn_after_another_library_took_the_default_xml_prefix():
+    # weasyprint's PDF metadata module registers ElementTree's empty prefix for
+    # elements without a namespace, taking it from the SVG namespace that
+    # schemdraw registered; the schematic must still be a plain <svg> root in the
+    # SVG namespace (W3C SVG 1.1, section 5.1.2), and the prefix goes back to its holder.
+    recipe = ladder([("series", "R", R14), ("shunt", "C", C9)])
+    render_svg(recipe)                           # schemdraw's SVG backend imported
+    ET.register_namespace("", "")                # as weasyprint.pdf.metadata does
+    svg = render_svg(recipe)
+    assert svg.lstrip().startswith("<svg") and "ns0:" not in svg
+    svg_root(svg)
+    assert ET._namespace_map.get("") == ""       # given back

@@ -23,6 +23,7 @@ import contextlib
 import multiprocessing
 import os
 import sys
+import threading
 import time
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass, field
@@ -53,8 +54,11 @@ class Outcome:
     pending: Callable[[], None] | None = None
     # Seconds each stage analysed in this run took (its unit of work; none for cached stages).
     seconds: dict[str, float] = field(default_factory=dict)
-    # The note's appendix and page-number parts of the last build (filed again by pending).
+    # The note's front, appendix and page-number parts of the last build, or made
+    # beside the stages in this one (filed again by pending).
     note_parts: dict = field(default_factory=dict)
+    # The summary chart, when drawn already (one item: rcdoc.note.page.note_context).
+    overview: tuple | None = None
 
     def commit_cache(self) -> None:
         if self.pending is not None:
@@ -100,17 +104,34 @@ def _part_unit(context, part_job):
         return None
     head, template_dirs, project_dir, epoch, key = part_job
     try:
-        import logging
-        # As in the main process, weasyprint's messages stay in its logger
-        # (it has a NullHandler); a worker's root logger may print them.
-        logging.getLogger("weasyprint").propagate = False
-        logging.getLogger("fontTools").addHandler(logging.NullHandler())  # font subsetting notes
-        logging.getLogger("fontTools").propagate = False
+        _quiet_renderer()
         from rcdoc.note.assemble import stage_part
         return stage_part(head, context, template_dirs=template_dirs, project_dir=project_dir,
                           source_date_epoch=epoch, key=key)
     except Exception:  # noqa: BLE001 - rendered again, and reported, in write_outputs
         return None
+
+
+def _appendix_unit(context, part_job):
+    """The appendix part (it depends on the project alone), rendered in a worker
+    while the stages are analysed; or None, and write_outputs renders it."""
+    _head, template_dirs, project_dir, epoch, key = part_job
+    try:
+        _quiet_renderer()
+        from rcdoc.note.assemble import render_part
+        return render_part(context, "appendix", template_dirs=template_dirs,
+                           project_dir=project_dir, source_date_epoch=epoch, key=key)
+    except Exception:  # noqa: BLE001 - rendered again, and reported, in write_outputs
+        return None
+
+
+def _quiet_renderer() -> None:
+    import logging
+    # As in the main process, weasyprint's messages stay in its logger
+    # (it has a NullHandler); a worker's root logger may print them.
+    logging.getLogger("weasyprint").propagate = False
+    logging.getLogger("fontTools").addHandler(logging.NullHandler())  # font subsetting notes
+    logging.getLogger("fontTools").propagate = False
 
 
 def _worker_init() -> None:
@@ -140,8 +161,7 @@ def _pool_context(draw: bool):
         # Workers fork from a server that has imported rcdoc once, and do not
         # re-run the parent's __main__ (the command line).
         preload = ["rcdoc.commands.spawnguard", "rcdoc.commands.build"]
-        ctx.set_forkserver_preload(preload + (["rcdoc.note.page", "rcdoc.note.assemble"]
-                                              if draw else []))
+        ctx.set_forkserver_preload(preload + (["rcdoc.commands.preload"] if draw else []))
         return ctx
     return multiprocessing.get_context("spawn")
 
@@ -166,6 +186,18 @@ class WorkerPool:
                                              initializer=_worker_init)
         return self._pool
 
+    def warm(self) -> None:
+        """Start the fork server now, so that its imports (rcdoc, and for a build
+        the note's modules: about 2 s of CPU) run beside this process's own
+        instead of after them. Only worth it where the pool will be used: the
+        server costs that CPU even if no worker is ever asked for."""
+        if self.jobs < 2:
+            return
+        ctx = _pool_context(self.draw)
+        if ctx.get_start_method() == "forkserver":
+            from multiprocessing import forkserver
+            forkserver.ensure_running()
+
     def __enter__(self) -> "WorkerPool":
         return self
 
@@ -177,6 +209,15 @@ class WorkerPool:
         else:
             self._pool.shutdown(wait=True, cancel_futures=kind is not None)
         self._pool = None
+
+
+def stages_to_analyse(project: Project, out_dir: Path | None) -> int:
+    """How many stages of ``project`` have no entry in the build cache of
+    ``out_dir`` (a quick look at file names: an unreadable entry counts as there)."""
+    if out_dir is None:
+        return len(project.stages)
+    cache = StageCache.for_output(out_dir, project.file)
+    return sum(not cache.has(stage_key(st, project)) for st in project.stages)
 
 
 def _part_keys(project: Project, template_dirs, keys=None) -> list[str]:
@@ -228,11 +269,19 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
         if on_done:
             on_done(stages[i].id, answer[4])
 
-    part_jobs, redo = ([None] * n, [])
+    note_parts = cache.get_note_parts() if cache is not None and draw else {}
+    part_jobs, redo, appendix = ([None] * n, [], None)
     if draw and int(jobs or 1) > 1:
         part_jobs, redo = _part_jobs(project, template_dirs, keys, todo, todraw, parts)
     workers = max(1, min(int(jobs or 1), len(todo) + len(redo) + len(todraw)))
-    if workers == 1:
+    if workers > 1 and part_jobs and part_jobs[0] is not None:
+        appendix = _appendix_job(project, template_dirs, part_jobs[0], note_parts)
+    overview = None
+    if (workers == 1 and pool is not None and pool.jobs > 1 and len(todo) == 1 and not todraw
+            and not redo and part_jobs[todo[0]] is not None):
+        overview = _one_beside_front(pool, project, todo[0], part_jobs[todo[0]], settle,
+                                     results, note_parts, progress)
+    elif workers == 1:
         for i in todo:
             if progress:
                 progress(stages[i].id)
@@ -242,8 +291,10 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
     else:
         with contextlib.ExitStack() as stack:    # a pool of its own ends with this project
             shared = pool or stack.enter_context(WorkerPool(workers, draw=draw))
-            _run_pool(shared, project, draw, (todo, redo, todraw), part_jobs, progress, settle,
-                      results, contexts, parts)
+            made = _run_pool(shared, project, draw, (todo, redo, todraw), part_jobs, progress,
+                             settle, results, contexts, parts, appendix)
+            if made is not None:
+                note_parts["appendix"] = made
 
     def file_entries():
         for i in range(n):
@@ -254,10 +305,9 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
                 cache.put_note_parts(note_parts)
             cache.prune()
     pending = file_entries if cache is not None else None
-    note_parts = cache.get_note_parts() if cache is not None and draw else {}
     return Outcome(project, results, contexts if draw else None, cached=cached,
                    computed=[stages[i].id for i in todo], parts=parts if draw else None,
-                   pending=pending, seconds=seconds, note_parts=note_parts)
+                   pending=pending, seconds=seconds, note_parts=note_parts, overview=overview)
 
 
 def _from_cache(cache, keys, stages, draw, results, contexts, parts):
@@ -301,10 +351,96 @@ def _part_jobs(project: Project, template_dirs, keys, todo, todraw, parts):
     return part_jobs, redo
 
 
+def _one_beside_front(shared: WorkerPool, project: Project, i: int, part_job, settle, results,
+                      note_parts: dict, progress) -> tuple:
+    """One stage to redo (a rebuild after a value change): analysed here, as
+    always; its drawing and its part of the note go to a worker of the command's
+    pool (started while this process loaded), while this process draws the
+    summary chart and renders the front matter, which need only the results.
+    Returns the summary chart (rcdoc.note.page.note_context's ``overview``)."""
+    stage = project.stages[i]
+    if progress:
+        progress(stage.id)
+    t0 = time.perf_counter()
+    answer = _stage_unit(stage, project, False)
+    if answer[0] == "error":
+        settle(i, answer)                           # raises the stage's error
+    results[i] = answer[1]
+    # Starting the worker waits for the fork server's imports (they may still run
+    # on a busy machine): a thread waits for it, this process goes on.
+    box: dict = {}
+    handing = threading.Thread(target=_submit, args=(box, shared, _draw_unit, answer[1],
+                                                     project, part_job), daemon=True)
+    handing.start()
+    try:
+        overview = _early_front(project, results, part_job, note_parts)
+        handing.join()
+        if "error" in box:
+            raise box["error"]
+        context, part = box["future"].result()
+    except BaseException:
+        handing.join()
+        if "future" in box:
+            box["future"].cancel()
+        raise
+    settle(i, ("ok", answer[1], context, part, time.perf_counter() - t0))
+    return overview
+
+
+def _submit(box: dict, shared: WorkerPool, fn, *args) -> None:
+    try:
+        box["future"] = shared.executor().submit(fn, *args)
+    except BaseException as exc:  # noqa: BLE001 - raised again in the waiting thread
+        box["error"] = exc
+
+
+def _early_front(project: Project, results, part_job, note_parts: dict) -> tuple:
+    """Draw the summary chart and render the front part from the results (the
+    stages' heads stand for their contexts: rcdoc.note.assemble.front_context),
+    under the key render_note computes; filed in ``note_parts`` for it. A front
+    that cannot be rendered here is left to write_outputs, which reports why."""
+    from rcdoc.note.assemble import context_key, front_context, render_part
+    from rcdoc.note.page import note_context, overview_image, stage_head
+    _head, dirs, project_dir, epoch, _key = part_job
+    overview = (overview_image(results),)
+    context = front_context(note_context(project, results, overview=overview,
+                                         stage_contexts=[stage_head(r) for r in results]), dirs)
+    key = context_key(context, "front", template_dirs=dirs, source_date_epoch=epoch,
+                      project_dir=project_dir)
+    have = note_parts.get("front")
+    if not (isinstance(have, dict) and have.get("key") == key):
+        try:
+            _quiet_renderer()
+            note_parts["front"] = render_part(context, "front", template_dirs=dirs,
+                                              project_dir=project_dir, source_date_epoch=epoch,
+                                              key=key)
+        except Exception:  # noqa: BLE001 - rendered again, and reported, in write_outputs
+            pass
+    return overview
+
+
+def _appendix_job(project: Project, template_dirs, part_job, note_parts: dict):
+    """(context, part job) of the appendix part when the last build's is not the
+    same, else None. Its key is the one render_note computes from the whole note's
+    context: when they differ (an appendix added by the command), write_outputs
+    renders it again."""
+    from rcdoc.note.assemble import appendix_context, context_key, project_head
+    from rcdoc.note.context import bom_appendix, method_appendix
+    _head, dirs, project_dir, epoch, _key = part_job
+    context = appendix_context(project_head(project), bom_appendix(project) + method_appendix())
+    key = context_key(context, "appendix", template_dirs=dirs, source_date_epoch=epoch,
+                      project_dir=project_dir)
+    have = note_parts.get("appendix")
+    if isinstance(have, dict) and have.get("key") == key:
+        return None
+    return context, (None, dirs, project_dir, epoch, key)
+
+
 def _run_pool(shared: WorkerPool, project, draw, work, part_jobs, progress, settle, results,
-              contexts, parts) -> None:
+              contexts, parts, appendix=None):
     """Run the units of work (stages to analyse, parts to redo, cached stages to
-    draw) in a pool of worker processes; results are taken in stage order."""
+    draw, and the appendix part when ``appendix`` is given) in a pool of worker
+    processes; results are taken in stage order. Returns the appendix part, or None."""
     todo, redo, todraw = work
     stages = project.stages
     pool = shared.executor()
@@ -316,6 +452,8 @@ def _run_pool(shared: WorkerPool, project, draw, work, part_jobs, progress, sett
     redone = {i: pool.submit(_part_unit, contexts[i], part_jobs[i]) for i in redo}
     drawn = {i: pool.submit(_draw_unit, results[i], project, part_jobs[i])
              for i in todraw}
+    # Last in the queue: it fills the time one worker would otherwise wait for the other.
+    extra = {"appendix": pool.submit(_appendix_unit, *appendix)} if appendix else {}
     try:
         for i in todo:              # in stage order: the first error is the first stage's
             settle(i, futures[i].result())
@@ -323,9 +461,10 @@ def _run_pool(shared: WorkerPool, project, draw, work, part_jobs, progress, sett
             parts[i] = redone[i].result()
         for i in todraw:
             contexts[i], parts[i] = drawn[i].result()
+        return extra["appendix"].result() if extra else None
     except BaseException:
         # Ctrl-C ends the running workers too, in WorkerPool.__exit__.
-        for f in (*futures.values(), *redone.values(), *drawn.values()):
+        for f in (*futures.values(), *redone.values(), *drawn.values(), *extra.values()):
             f.cancel()
         raise
 
@@ -358,7 +497,8 @@ def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
     csv_path, csv_bytes = out_dir / f"{stem}-parts.csv", parts_csv(outcome.results)
     if outcome.contexts is not None:
         context = note_context(project, outcome.results, extra_appendix=extra_appendix,
-                               stage_contexts=outcome.contexts, changes=changes)
+                               stage_contexts=outcome.contexts, changes=changes,
+                               overview=outcome.overview)
     else:
         context = note_context(project, outcome.results, extra_appendix=extra_appendix,
                                changes=changes)

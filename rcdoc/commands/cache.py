@@ -127,6 +127,10 @@ class StageCache:
     def _path(self, key: str) -> Path:
         return self.root / f"{key}.pickle"
 
+    def has(self, key: str) -> bool:
+        """Whether an entry for ``key`` is filed (readable or not: a quick look only)."""
+        return self._path(key).is_file()
+
     def get(self, key: str):
         """(StageResult, stage context) for ``key``, or None (missing or unreadable)."""
         self.used.add(key)

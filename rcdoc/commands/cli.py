@@ -110,7 +110,7 @@ def _jobs(args) -> int:
 
 
 def cmd_build(args) -> int:
-    from rcdoc.commands.build import WorkerPool, load_all
+    from rcdoc.commands.build import WorkerPool, load_all, output_dir, stages_to_analyse
     template_dirs = []
     if args.templates:
         tdir = Path(args.templates)
@@ -126,6 +126,14 @@ def cmd_build(args) -> int:
                            file=str(args.output))
     projects = load_all(args.files, samples=args.samples, seed=args.seed)
     _check_distinct_outputs(projects, args.output)
+    pool = WorkerPool(_jobs(args), draw=True)            # one pool for every file
+    if any(stages_to_analyse(p, output_dir(p.file, args.output)) for p in projects):
+        pool.warm()          # the workers' imports run beside this process's own
+    with pool:
+        return _build_checked(args, projects, template_dirs, pool)
+
+
+def _build_checked(args, projects, template_dirs, pool) -> int:
     from rcdoc.commands.renderer import require_renderer
     for notice in require_renderer():   # a missing system library: one line, before any work
         if not args.quiet:
@@ -137,8 +145,7 @@ def cmd_build(args) -> int:
         commits = [resolve_commit(p.file, args.since) for p in projects]
         olds = [read_at_revision(p.file, args.since, samples=args.samples, seed=args.seed)
                 for p in projects]
-    with WorkerPool(_jobs(args), draw=True) as pool:     # one pool for every file
-        return _build_all(args, projects, olds, commits, template_dirs, pool)
+    return _build_all(args, projects, olds, commits, template_dirs, pool)
 
 
 def _build_all(args, projects, olds, commits, template_dirs, pool) -> int:

@@ -40,7 +40,8 @@ import weasyprint
 from rcdoc.note import join, pdf_images, report
 
 __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "font_subsetter",
-           "render_part", "stage_part", "assemble", "render_note", "project_head", "context_key"]
+           "render_part", "stage_part", "assemble", "render_note", "project_head", "context_key",
+           "appendix_context", "front_context"]
 
 # Bump when what a part holds changes.
 _PART_FORMAT = "rcdoc-note-part-2"   # 2: charts as indexed images
@@ -301,11 +302,11 @@ def render_note(context: Mapping, *, template_dirs: Sequence[Path] = (),
         if have is None or want is None or have.get("key") != want:
             have = stage_part(context, stage, key=want, **kw)
         used.append(have)
-    front = render_part(context, "front", **kw)
+    front = _reused(note_parts, "front", front_context(context, template_dirs), kw)
     parts = [front, *used]
     if context.get("appendix"):
-        parts.append(_reused(note_parts, "appendix", {**_head(context), "stages": [],
-                                                      "appendix": context["appendix"]}, kw))
+        parts.append(_reused(note_parts, "appendix", appendix_context(context, context["appendix"]),
+                             kw))
     total = sum(p["pages"] for p in parts)
     numbers = _reused(note_parts, "numbers", {**_head(context), "stages": []}, kw,
                       page_count=total)
@@ -313,6 +314,30 @@ def render_note(context: Mapping, *, template_dirs: Sequence[Path] = (),
     board = context.get("board") or {}
     pdf_id = report.pdf_identifier(str(board.get("name", "")), str(board.get("revision", "")))
     return assemble(parts, numbers, info=info, pdf_id=pdf_id, lang=lang), used
+
+
+# What the shipped front matter (note.html's head, _cover.html, _summary.html) reads of a
+# stage: the fields rcdoc.note.page.stage_head gives.
+_FRONT_STAGE = ("id", "title", "kind", "status")
+
+
+def front_context(context: Mapping, template_dirs: Sequence[Path] = ()) -> dict:
+    """The front part's context: the note's, each stage reduced to its head (id,
+    title, kind, status) and no appendix, so that the front matter can be
+    rendered from the results before the stages are drawn (rcdoc.commands.build)
+    and is the same part either way. Template folders with partials of their
+    own (they may read any stage field) get the whole context."""
+    if any(p.name != report._TEMPLATE_NAME for d in template_dirs for p in Path(d).glob("*.html")):
+        return dict(context)
+    return {**context, "appendix": [],
+            "stages": [{k: s.get(k) for k in _FRONT_STAGE} for s in context.get("stages") or []]}
+
+
+def appendix_context(head: Mapping, appendix: Sequence) -> dict:
+    """The appendix part's context: the note's head (title, generator, board: from
+    note_context, or project_head where the appendix is rendered before the
+    results are in) and the appendix sections."""
+    return {**_head(head), "stages": [], "appendix": list(appendix)}
 
 
 def context_key(context: Mapping, part: str, *, template_dirs: Sequence[Path] = (),

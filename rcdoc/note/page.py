@@ -223,9 +223,15 @@ def stage_context(r: StageResult, project: Project) -> dict:
         blocks.append(sens)
     blocks += assumptions(list(_analysis_sentences(r, project)), list(r.assumptions))
     safety = safety_box(r, project.board.hazardous_voltage_v)
-    return {"id": st.id, "title": st.title, "kind": KINDS[st.kind].TITLE,
-            "status": r.status, "notes": list(paragraphs(st.notes)) if st.notes else [],
+    return {**stage_head(r), "notes": list(paragraphs(st.notes)) if st.notes else [],
             "safety": safety, "caution": stability_caution(r), "blocks": blocks}
+
+
+def stage_head(r: StageResult) -> dict:
+    """What the front matter shows of a stage (rcdoc.note.assemble.front_context);
+    the first fields of its stage_context."""
+    return {"id": r.stage.id, "title": r.stage.title, "kind": KINDS[r.stage.kind].TITLE,
+            "status": r.status}
 
 
 def pole_text(p: complex) -> str:
@@ -307,10 +313,13 @@ def overview_image(results: list[StageResult]) -> str | None:
 
 
 def note_context(project: Project, results: list[StageResult], *, extra_appendix=(),
-                 stage_contexts: list[dict] | None = None, changes: dict | None = None) -> dict:
+                 stage_contexts: list[dict] | None = None, changes: dict | None = None,
+                 overview: tuple | None = None) -> dict:
     """The whole note's context. ``stage_contexts`` (one stage_context per result,
     made in worker processes or taken from the build cache) saves drawing them here;
-    ``changes`` (rcdoc.commands.since.changes_section) goes right after the summary."""
+    ``changes`` (rcdoc.commands.since.changes_section) goes right after the summary;
+    ``overview`` (one item: overview_image of these results, drawn already) saves
+    drawing the summary chart again."""
     b = project.board
     a = project.analysis
     t0, t1 = a.temperature_c
@@ -327,7 +336,7 @@ def note_context(project: Project, results: list[StageResult], *, extra_appendix
                      ["Hazardous voltage threshold", fq(b.hazardous_voltage_v, "V")]],
         "summary": {"columns": ["Stage", "Kind", "Key result (spread)", "Checks passed",
                                 "Verdict"], "rows": summary_rows(results)},
-        "overview_image": overview_image(results),
+        "overview_image": overview[0] if overview is not None else overview_image(results),
         "stages": (list(stage_contexts) if stage_contexts is not None
                    else [stage_context(r, project) for r in results]),
         "appendix": list(extra_appendix) + bom_appendix(project) + method_appendix(),

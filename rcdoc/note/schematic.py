@@ -47,7 +47,28 @@ def render_svg(recipe: Recipe) -> str:
     plotter = _Plotter(d)
     for step in recipe.steps:
         plotter.draw(step)
-    return _scaled(merged_text(d.get_imagedata("svg").decode("utf-8")))
+    return _scaled(merged_text(_svg_text(d)))
+
+
+_SVG_NS = "http://www.w3.org/2000/svg"
+
+
+def _svg_text(d) -> str:
+    """schemdraw's SVG text, with the SVG namespace as the default one.
+
+    schemdraw gives ElementTree's empty prefix to the SVG namespace when its SVG
+    backend is imported; weasyprint's PDF metadata module, imported after it,
+    takes that prefix for elements without a namespace, and schemdraw's output
+    would then read <ns0:svg ...>. The prefix is lent to the SVG namespace for
+    the drawing and given back to whoever held it."""
+    import xml.etree.ElementTree as ET
+    holders = [uri for uri, prefix in ET._namespace_map.items() if prefix == ""]
+    ET.register_namespace("", _SVG_NS)
+    try:
+        return d.get_imagedata("svg").decode("utf-8")
+    finally:
+        for uri in holders:
+            ET.register_namespace("", uri)
 
 
 class _Plotter:

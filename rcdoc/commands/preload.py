@@ -1,0 +1,18 @@
+"""Imported by the worker pool's fork server of a build (never by the command itself):
+the note's drawing and rendering modules, loaded once before any worker forks.
+
+The server is started early (WorkerPool.warm), beside the command's own imports and
+before ``require_renderer`` has checked the system libraries. A renderer that cannot
+load (a missing Pango, say) must then not print weasyprint's banner or a traceback
+from the server: the command reports it in one line. A worker that needs the
+modules imports them again and fails in the usual, reported way.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import io
+
+with contextlib.suppress(Exception), contextlib.redirect_stdout(io.StringIO()):
+    import rcdoc.note.page  # noqa: F401
+    import rcdoc.note.assemble  # noqa: F401
