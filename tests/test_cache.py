@@ -154,9 +154,11 @@ def test_jobs_and_cache_give_the_same_bytes(project_file, tmp_path, monkeypatch)
     serial = build.analyse_project(p, draw=True, jobs=1)
     pooled = build.analyse_project(p, draw=True, jobs=2)
     assert pooled.contexts == serial.contexts
-    # With workers, the appendix part was rendered by one of them, under the key
-    # the whole note's render computes: write_outputs does not render it again.
+    # With workers, the appendix part was rendered by one of them, and the front
+    # matter here while they drew the stages, under the keys the whole note's
+    # render computes: write_outputs renders neither again.
     assert pooled.note_parts["appendix"]["pages"] >= 1
+    assert pooled.note_parts["front"]["pages"] >= 1 and pooled.overview is not None
     rendered = []
     real = assemble.render_part
     monkeypatch.setattr(assemble, "render_part",
@@ -165,7 +167,7 @@ def test_jobs_and_cache_give_the_same_bytes(project_file, tmp_path, monkeypatch)
     assert "appendix" in rendered
     rendered.clear()
     b = build.write_outputs(pooled, tmp_path / "b")
-    assert "appendix" not in rendered and "front" in rendered
+    assert "appendix" not in rendered and "front" not in rendered and "numbers" in rendered
     assert Path(a[1]).read_bytes() == Path(b[1]).read_bytes()
     assert Path(a[0]).read_bytes() == Path(b[0]).read_bytes()
 

@@ -97,6 +97,12 @@ def _draw_unit(result, project: Project, part_job=None):
     return context, _part_unit(context, part_job)
 
 
+def _timed_draw_unit(result, project: Project, part_job):
+    """_draw_unit of a stage just analysed by another unit, with its seconds."""
+    t0 = time.perf_counter()
+    return (*_draw_unit(result, project, part_job), time.perf_counter() - t0)
+
+
 def _part_unit(context, part_job):
     """A stage's part of the note, or None. Any failure here (a template
     mistake, say) leaves the part to the final render, which reports it."""
@@ -291,10 +297,9 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
     else:
         with contextlib.ExitStack() as stack:    # a pool of its own ends with this project
             shared = pool or stack.enter_context(WorkerPool(workers, draw=draw))
-            made = _run_pool(shared, project, draw, (todo, redo, todraw), part_jobs, progress,
-                             settle, results, contexts, parts, appendix)
-            if made is not None:
-                note_parts["appendix"] = made
+            overview = _run_pool(shared, project, draw, (todo, redo, todraw), part_jobs,
+                                 progress, settle, results, contexts, parts, appendix,
+                                 note_parts)
 
     def file_entries():
         for i in range(n):
@@ -437,36 +442,73 @@ def _appendix_job(project: Project, template_dirs, part_job, note_parts: dict):
 
 
 def _run_pool(shared: WorkerPool, project, draw, work, part_jobs, progress, settle, results,
-              contexts, parts, appendix=None):
+              contexts, parts, appendix=None, note_parts=None):
     """Run the units of work (stages to analyse, parts to redo, cached stages to
     draw, and the appendix part when ``appendix`` is given) in a pool of worker
-    processes; results are taken in stage order. Returns the appendix part, or None."""
+    processes; results are taken in stage order.
+
+    Where the stages' parts are rendered by the workers, a stage is analysed by
+    one unit and drawn by another queued behind every analysis: once the last
+    analysis is in, this process draws the summary chart and renders the front
+    matter (_early_front, filed in ``note_parts`` with the appendix) while the
+    workers draw. Returns the summary chart (note_context's ``overview``) or None."""
     todo, redo, todraw = work
     stages = project.stages
+    split = draw and note_parts is not None and bool(todo) and part_jobs[todo[0]] is not None
     pool = shared.executor()
     futures = {}
     for i in todo:
         if progress:
             progress(stages[i].id)
-        futures[i] = pool.submit(_stage_unit, stages[i], project, draw, part_jobs[i])
+        futures[i] = (pool.submit(_stage_unit, stages[i], project, False) if split else
+                      pool.submit(_stage_unit, stages[i], project, draw, part_jobs[i]))
     redone = {i: pool.submit(_part_unit, contexts[i], part_jobs[i]) for i in redo}
     drawn = {i: pool.submit(_draw_unit, results[i], project, part_jobs[i])
              for i in todraw}
-    # Last in the queue: it fills the time one worker would otherwise wait for the other.
     extra = {"appendix": pool.submit(_appendix_unit, *appendix)} if appendix else {}
+    overview = None
     try:
-        for i in todo:              # in stage order: the first error is the first stage's
-            settle(i, futures[i].result())
+        if split:
+            overview = _analyses_then_drawings(pool, project, todo, futures, part_jobs, settle,
+                                               results, note_parts)
+        else:
+            for i in todo:          # in stage order: the first error is the first stage's
+                settle(i, futures[i].result())
         for i in redo:
             parts[i] = redone[i].result()
         for i in todraw:
             contexts[i], parts[i] = drawn[i].result()
-        return extra["appendix"].result() if extra else None
+        made = extra["appendix"].result() if extra else None
     except BaseException:
         # Ctrl-C ends the running workers too, in WorkerPool.__exit__.
         for f in (*futures.values(), *redone.values(), *drawn.values(), *extra.values()):
             f.cancel()
         raise
+    if made is not None and note_parts is not None:
+        note_parts["appendix"] = made
+    return overview
+
+
+def _analyses_then_drawings(pool, project, todo, futures, part_jobs, settle, results,
+                            note_parts) -> tuple:
+    """Take the analyses in stage order (the first error is the first stage's),
+    queue each stage's drawing behind them, render the front matter here once
+    every result is in, then take the drawings. ``futures`` gets the drawings."""
+    seconds, drawings = {}, {}
+    try:
+        for i in todo:
+            answer = futures[i].result()
+            if answer[0] == "error":
+                settle(i, answer)                       # raises the stage's error
+            results[i], seconds[i] = answer[1], answer[4]
+            drawings[i] = pool.submit(_timed_draw_unit, answer[1], project, part_jobs[i])
+        overview = _early_front(project, results, part_jobs[todo[0]], note_parts)
+        for i in todo:
+            context, part, drew = drawings[i].result()
+            settle(i, ("ok", results[i], context, part, seconds[i] + drew))
+    finally:
+        futures.update({("draw", i): f for i, f in drawings.items()})   # cancelled on error
+    return overview
 
 
 def output_dir(project_file: str, out: str | None) -> Path:

@@ -37,7 +37,7 @@ from pathlib import Path
 
 import weasyprint
 
-from rcdoc.note import join, pdf_images, report
+from rcdoc.note import join, numbers, pdf_images, report
 
 __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "font_subsetter",
            "render_part", "stage_part", "assemble", "render_note", "project_head", "context_key",
@@ -371,10 +371,23 @@ def _reused(note_parts: dict | None, part: str, context: Mapping, kw: Mapping,
                       project_dir=kw["project_dir"], page_count=page_count)
     have = (note_parts or {}).get(part)
     if not isinstance(have, dict) or have.get("key") != key:
-        have = render_part(context, part, page_count=page_count, key=key, **kw)
+        have = (_numbers(context, page_count, key, kw) if part == "numbers"
+                else render_part(context, part, page_count=page_count, key=key, **kw))
     if note_parts is not None:
         note_parts[part] = have
     return have
+
+
+def _numbers(context: Mapping, total: int, key: str, kw: Mapping) -> dict:
+    """The page-number part: composed from a sample of numbers.SAMPLE_PAGES pages
+    where the footer fits its model (rcdoc.note.numbers), else laid out in full."""
+    if total > numbers.SAMPLE_PAGES:
+        sample = render_part(context, "numbers", page_count=numbers.SAMPLE_PAGES, **kw)
+        pdf = numbers.compose(sample, total)
+        if pdf is not None:
+            return {"key": key, "pdf": pdf, "pages": total, "bookmarks": [], "anchors": {},
+                    "links": []}
+    return render_part(context, "numbers", page_count=total, key=key, **kw)
 
 
 def project_head(project) -> dict:
