@@ -159,6 +159,10 @@ def test_jobs_and_cache_give_the_same_bytes(project_file, tmp_path, monkeypatch)
     # render computes: write_outputs renders neither again.
     assert pooled.note_parts["appendix"]["pages"] >= 1
     assert pooled.note_parts["front"]["pages"] >= 1 and pooled.overview is not None
+    # Not where the command adds to the front matter afterwards (build --since).
+    later = build.analyse_project(p, draw=True, jobs=2, front=False)
+    assert "front" not in later.note_parts and later.overview is None
+    assert later.contexts == serial.contexts
     rendered = []
     real = assemble.render_part
     monkeypatch.setattr(assemble, "render_part",

@@ -240,7 +240,7 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
                     jobs: int = 1, draw: bool = False, out_dir: Path | None = None,
                     template_dirs=(),
                     on_done: Callable[[str, float | None], None] | None = None,
-                    pool: WorkerPool | None = None) -> Outcome:
+                    pool: WorkerPool | None = None, front: bool = True) -> Outcome:
     """Analyse every stage; with ``draw`` also make each stage's note blocks.
 
     ``jobs`` > 1 runs stages in that many worker processes, which (with
@@ -251,6 +251,8 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
     ``on_done(stage_id, seconds)`` is called as each stage is done (seconds None: cached).
     ``pool`` (a WorkerPool) is the command's pool, shared with its other project
     files; without it, a pool is started for this project and ended with it.
+    ``front``: with workers, render the front matter while they draw (not where
+    the command adds to it afterwards: ``build --since``).
     """
     stages = list(project.stages)
     n = len(stages)
@@ -283,8 +285,8 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
     if workers > 1 and part_jobs and part_jobs[0] is not None:
         appendix = _appendix_job(project, template_dirs, part_jobs[0], note_parts)
     overview = None
-    if (workers == 1 and pool is not None and pool.jobs > 1 and len(todo) == 1 and not todraw
-            and not redo and part_jobs[todo[0]] is not None):
+    if (front and workers == 1 and pool is not None and pool.jobs > 1 and len(todo) == 1
+            and not todraw and not redo and part_jobs[todo[0]] is not None):
         overview = _one_beside_front(pool, project, todo[0], part_jobs[todo[0]], settle,
                                      results, note_parts, progress)
     elif workers == 1:
@@ -299,7 +301,7 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
             shared = pool or stack.enter_context(WorkerPool(workers, draw=draw))
             overview = _run_pool(shared, project, draw, (todo, redo, todraw), part_jobs,
                                  progress, settle, results, contexts, parts, appendix,
-                                 note_parts)
+                                 note_parts, front)
 
     def file_entries():
         for i in range(n):
@@ -442,7 +444,7 @@ def _appendix_job(project: Project, template_dirs, part_job, note_parts: dict):
 
 
 def _run_pool(shared: WorkerPool, project, draw, work, part_jobs, progress, settle, results,
-              contexts, parts, appendix=None, note_parts=None):
+              contexts, parts, appendix=None, note_parts=None, front=True):
     """Run the units of work (stages to analyse, parts to redo, cached stages to
     draw, and the appendix part when ``appendix`` is given) in a pool of worker
     processes; results are taken in stage order.
@@ -454,7 +456,8 @@ def _run_pool(shared: WorkerPool, project, draw, work, part_jobs, progress, sett
     workers draw. Returns the summary chart (note_context's ``overview``) or None."""
     todo, redo, todraw = work
     stages = project.stages
-    split = draw and note_parts is not None and bool(todo) and part_jobs[todo[0]] is not None
+    split = (front and draw and note_parts is not None and bool(todo)
+             and part_jobs[todo[0]] is not None)
     pool = shared.executor()
     futures = {}
     for i in todo:

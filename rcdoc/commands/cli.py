@@ -156,7 +156,7 @@ def _build_all(args, projects, olds, commits, template_dirs, pool) -> int:
         out_dir = output_dir(project.file, args.output)
         # Stages are analysed and drawn together (in --jobs processes), cached in out_dir.
         outcome = _analyse(project, args, draw=True, out_dir=out_dir,
-                           template_dirs=template_dirs, pool=pool)
+                           template_dirs=template_dirs, pool=pool, front=not args.since)
         extra = []
         changes = None           # right after the summary, named on the cover
         if args.since:
