@@ -97,6 +97,8 @@ def test_shapes_are_drawn_as_weasyprint_draws_them(body):
     SVG.format('<text x="0" y="0">R1</text>'),
     SVG.format('<circle cx="0" cy="0" r="2em" stroke="black" />'),
     SVG.format('<path d="M 0 0 L 1 1 2" stroke="black" />'),                  # an odd number
+    SVG.format('<path d="M 0 0 L nan 1" stroke="black" />'),
+    SVG.format('<path d="M 0 0 L 1_000 1" stroke="black" />'),
     SVG.format("").replace('width="120pt"', 'width="100%"'),
     SVG.format("").replace(' viewBox="-10 -20 160 80"', ""),
     "<svg xmlns='http://www.w3.org/2000/svg'",                                 # not XML

@@ -50,8 +50,22 @@ def _written(formats: list[str], numbers: list[float]) -> bytes:
     return _ZEROS.sub("", _WHOLE.sub("", text)).encode("ascii")
 
 
+_LETTERS = re.compile(r"([MmLlHhVvCcQqZz])")
+_STRAY = re.compile(r"[^MmLlHhVvCcQqZz\d\s,.eE+-]")      # "inf", "nan", "1_000", other letters
+
+
 def _tokens(data: str) -> list | None:
-    """Path data as [letter, numbers...] groups, or None on anything unexpected."""
+    """Path data as [letter, numbers...] groups, or None on anything unexpected.
+    Numbers apart by spaces or commas are read by float() in bulk; path data that
+    runs numbers together ("1.5.5", "10-5") is read number by number."""
+    pieces = _LETTERS.split(data)
+    if pieces[0].strip() or _STRAY.search(data):
+        return None
+    try:
+        return [[pieces[i], *map(float, pieces[i + 1].replace(",", " ").split())]
+                for i in range(1, len(pieces), 2)]
+    except ValueError:
+        pass
     groups, current = [], None
     for letter, number, _space, other in _TOKEN.findall(data):
         if other:
