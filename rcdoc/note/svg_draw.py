@@ -31,8 +31,8 @@ _PAINT_KEYS = {"style", "fill", "stroke", "stroke-width", "stroke-dasharray",
                "stroke-linecap", "stroke-linejoin", "fill-rule"}
 _SHAPE_KEYS = {"path": {"d"}, "polygon": {"points"}, "circle": {"cx", "cy", "r"}}
 _PLAIN = re.compile(r"^\s*[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?\s*$")
-_TOKEN = re.compile(r"([MmLlHhVvCcQqZz])|([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)|([\s,]+)|(.)")
-_ARGS = {"M": 2, "L": 2, "H": 1, "V": 1, "C": 6, "Q": 4, "Z": 0}
+_TOKEN = re.compile(r"([MmLlHhVvCcQqAaZz])|([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)|([\s,]+)|(.)")
+_ARGS = {"M": 2, "L": 2, "H": 1, "V": 1, "C": 6, "Q": 4, "A": 7, "Z": 0}
 _CAPS = {"round": 1, "square": 2}
 _JOINS = {"round": 1, "bevel": 2}
 
@@ -50,8 +50,8 @@ def _written(formats: list[str], numbers: list[float]) -> bytes:
     return _ZEROS.sub("", _WHOLE.sub("", text)).encode("ascii")
 
 
-_LETTERS = re.compile(r"([MmLlHhVvCcQqZz])")
-_STRAY = re.compile(r"[^MmLlHhVvCcQqZz\d\s,.eE+-]")      # "inf", "nan", "1_000", other letters
+_LETTERS = re.compile(r"([MmLlHhVvCcQqAaZz])")
+_STRAY = re.compile(r"[^MmLlHhVvCcQqAaZz\d\s,.eE+-]")      # "inf", "nan", "1_000", other letters
 
 
 def _tokens(data: str) -> list | None:
@@ -80,8 +80,64 @@ def _tokens(data: str) -> list | None:
     return groups
 
 
+def _rotate(x: float, y: float, angle: float) -> tuple[float, float]:
+    return x * math.cos(angle) - y * math.sin(angle), y * math.cos(angle) + x * math.sin(angle)
+
+
+def _arc(x1, y1, rx, ry, rotation, large, sweep, x3, y3) -> list[tuple]:
+    """The cubic curves weasyprint's svg/path.py draws for an elliptic arc from
+    (x1, y1) to (x3, y3) (radii not zero), step by step as it computes them."""
+    rotation = math.radians(rotation)
+    xe, ye = _rotate(x3 - x1, y3 - y1, -rotation)
+    y_scale = ry / rx
+    ye /= y_scale
+    angle = math.atan2(ye, xe)
+    xe, ye = (xe ** 2 + ye ** 2) ** .5, 0
+    rx = max(rx, xe / 2)
+    xc = xe / 2
+    yc = (rx ** 2 - xc ** 2) ** .5
+    if large == sweep:
+        yc = -yc
+    xe, ye = _rotate(xe, ye, angle)
+    xc, yc = _rotate(xc, yc, angle)
+    angle1, angle2 = math.atan2(-yc, -xc), math.atan2(ye - yc, xe - xc)
+    while angle1 < 0 or angle2 < 0:
+        angle1 += 2 * math.pi
+        angle2 += 2 * math.pi
+    if math.isclose(abs(angle2 - angle1), math.pi):
+        if sweep and angle2 < angle1:
+            angle1 -= 2 * math.pi
+        elif not sweep and angle2 > angle1:
+            angle2 -= 2 * math.pi
+    elif large == (abs(angle2 - angle1) < math.pi):
+        if angle1 > angle2:
+            angle1 -= 2 * math.pi
+        else:
+            angle2 -= 2 * math.pi
+    if large:
+        step = (angle2 - angle1) / 3
+        angles = ((angle1, angle1 + step), (angle1 + step, angle1 + 2 * step),
+                  (angle1 + 2 * step, angle2))
+    else:
+        angles = ((angle1, angle2),)
+    a, b = math.cos(rotation), math.sin(rotation)
+    c, d = -math.sin(rotation) * y_scale, math.cos(rotation) * y_scale
+
+    def moved(x, y):                     # weasyprint's Matrix.transform_point, same order
+        return 0 + x * a + y * c + 1 * x1, 0 + x * b + y * d + 1 * y1
+    h = 4 / 3 * math.tan((angles[0][1] - angles[0][0]) / 4)
+    curves = []
+    for angle1, angle2 in angles:
+        curves.append((*moved(xc + rx * math.cos(angle1) - h * rx * math.sin(angle1),
+                              yc + rx * math.sin(angle1) + h * rx * math.cos(angle1)),
+                       *moved(xc + rx * math.cos(angle2) + h * rx * math.sin(angle2),
+                              yc + rx * math.sin(angle2) - h * rx * math.cos(angle2)),
+                       *moved(xc + rx * math.cos(angle2), yc + rx * math.sin(angle2))))
+    return curves
+
+
 def _path_ops(data: str) -> bytes | None:
-    """PDF path operators for SVG path data (M L H V C Q Z, absolute or relative),
+    """PDF path operators for SVG path data (M L H V C Q A Z, absolute or relative),
     as weasyprint's svg/path.py builds them; None for anything else."""
     groups = _tokens(data)
     if groups is None:
@@ -104,6 +160,19 @@ def _path_ops(data: str) -> bytes | None:
             return None
         for i in range(0, len(args), need):
             a = args[i:i + need]
+            if kind == "A":
+                rx, ry, rotation, large, sweep, ex, ey = a
+                if large not in (0, 1) or sweep not in (0, 1) or not rx or not ry:
+                    # Flags run together with numbers, or a zero radius (weasyprint
+                    # then draws a line to the end point taken as relative): its own.
+                    return None
+                if letter == "a":
+                    ex, ey = ex + x, ey + y
+                for curve in _arc(x, y, rx, ry, rotation, bool(large), bool(sweep), ex, ey):
+                    fmt.append("%f %f %f %f %f %f c")
+                    out += curve
+                x, y = ex, ey
+                continue
             if letter.islower():
                 a = ([a[0] + (x if kind == "H" else y)] if need == 1 else
                      [v + (x if j % 2 == 0 else y) for j, v in enumerate(a)])
