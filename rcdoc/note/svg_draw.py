@@ -5,16 +5,18 @@ sizes every number through its CSS length parser; a schematic's outlined
 labels are thousands of numbers, and drawing one schematic took a twelfth of
 a stage's render. ``compile_svg`` reads rcdoc's own schematic SVG (a root
 ``svg`` with a viewBox, ``path``, ``polygon`` and ``circle`` elements painted
-by plain colours) once: the path data with one regular expression, each shape
-turned into the PDF path operators weasyprint would write (quadratic curves
-raised to cubic ones, circles as weasyprint's four curves), and the paint of
-each element set through weasyprint's own stream calls (colour, alpha, width,
-dashes, caps, joins, miter limit, fill rule), in weasyprint's order.
+by plain colours) once: the path data split at its letters and its numbers
+read in bulk, each shape turned into the PDF path operators weasyprint would
+write (quadratic curves raised to cubic ones, arcs and circles as weasyprint's
+cubic curves, computed as it computes them), and the paint of each element
+set through weasyprint's own stream calls (colour, alpha, width, dashes,
+caps, joins, miter limit, fill rule), in weasyprint's order.
 ``PathFigure`` is the result, for weasyprint's image cache.
 
 What it must not do: guess. An SVG holding anything else (another element or
-attribute, a transform, a unit or percentage, an arc, a smooth curve, a
-gradient) gets None, and the caller leaves it to weasyprint.
+attribute, a transform, a unit or percentage, a smooth curve, an arc of zero
+radius, a gradient, a colour not opaque) gets None, and the caller leaves it
+to weasyprint.
 """
 
 from __future__ import annotations
