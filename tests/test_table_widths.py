@@ -109,3 +109,67 @@ def test_missing_glyphs_are_taken_as_wide_as_the_widest():
     # than the widest glyph the font has (common practice: err wide).
     widest = table_widths.text_width("\u4e2d")        # a CJK ideograph
     assert widest >= table_widths.text_width("W") and widest >= table_widths.text_width("—")
+
+
+def _cell_lines(html: str) -> list[int]:
+    """The number of lines of every table cell weasyprint lays out in ``html``, in order."""
+    doc = weasyprint.HTML(string=f"<style>{CSS}</style>{html}").render()
+    found = []
+
+    def lines(box):
+        return (1 if isinstance(box, boxes.LineBox) else
+                sum(lines(child) for child in getattr(box, "children", [])))
+
+    def walk(box):
+        if isinstance(box, boxes.TableCellBox):
+            found.append(lines(box))
+        for child in getattr(box, "children", []):
+            walk(child)
+    for page in doc.pages:
+        walk(page._page_box)
+    return found
+
+
+def _spanned(columns, rows, kinds, shares, cell_kinds) -> str:
+    """A fixed table as _blocks.html writes it: each cell's text through
+    report._keep_units with its column's cell classes (short cells "nw")."""
+    def cls(k, v):
+        return (k + (" nw" if len(v) <= 12 and "nw" not in k.split() else "")).strip()
+    cols = "".join(f'<col style="width: {s}%">' for s in shares)
+    head = "".join(f'<th class="{k}">{escape(c)}</th>' for c, k in zip(columns, kinds))
+    body = "".join("<tr>" + "".join(
+        f'<td class="{cls(k, v)}">{report._keep_units(v, cls(k, v))}</td>'
+        for v, k in zip(row, cell_kinds)) + "</tr>" for row in rows)
+    return (f'<table class="data fixed"><colgroup>{cols}</colgroup><thead><tr>{head}</tr>'
+            f"</thead><tbody>{body}</tbody></table>")
+
+
+LONG = (["Part", "Assumed for the part"],
+        [["C21", "Tolerance ±10 % drawn uniformly over its whole range. X7R (EIA-198 class II): "
+                 "temperature coefficient within ±15 % from −55 °C to 125 °C; −45 % at 16 V."],
+         ["R30", "Tolerance ±1 % drawn uniformly; 100 ppm/K, linear from 25 °C."]],
+        ["", ""])
+
+
+@pytest.mark.parametrize("table", [PARTS, CHECKS, LONG], ids=["fits", "wraps", "long"])
+def test_cells_of_columns_at_their_widest_are_laid_out_as_when_they_may_wrap(table):
+    # Reference: weasyprint's own layout of the same fixed table. A column at least
+    # its widest content wide gets "nw" cells (no span per number and unit); every
+    # cell must come out in as many lines as with the spans and wrapping allowed,
+    # i.e. no cell of such a column would have wrapped (one line each, header included).
+    # A column of long text keeps its spans.
+    columns, rows, kinds = table
+    shares = table_widths.widths(columns, rows, kinds)
+    assert shares is not None
+    wide = ["nw" in k.split() for k in shares.cell_kinds]
+    assert shares.roomy == all(wide)
+    spans = _spanned(columns, rows, kinds, shares, kinds)
+    plain = _spanned(columns, rows, kinds, shares, shares.cell_kinds)
+    got = _cell_lines(plain)
+    assert got == _cell_lines(spans)
+    if table is LONG:
+        assert not wide[1] and not shares.roomy
+        assert got[len(columns) + 1] > 1       # the long column really wraps
+    else:
+        assert shares.roomy and plain.count("<span") == 0 < spans.count("<span")
+        assert set(got) == {1}

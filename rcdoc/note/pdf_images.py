@@ -32,7 +32,8 @@ import numpy as np
 import pydyf
 from weasyprint.images import RasterImage
 
-__all__ = ["index_images", "indexed", "palette_png", "IndexedPNG", "svg_image", "FIGURE_SCHEME"]
+__all__ = ["index_images", "indexed", "palette_png", "IndexedPNG", "svg_image", "weasy_svg_image",
+           "FIGURE_SCHEME"]
 
 #: The URL scheme of the note's own figures (PNG, SVG) in its HTML ("rcdoc-figure:<sha256>"):
 #: never fetched, always found in the image cache (report.figure_images).
@@ -175,8 +176,17 @@ class IndexedPNG(RasterImage):
 
 def svg_image(url: str, svg: str):
     """An SVG figure (rcdoc's schematics: no text elements, no external references)
-    for weasyprint's image cache, parsed as weasyprint parses an SVG it fetches.
-    No layout context is given: it only serves SVG text, which these lack."""
+    for weasyprint's image cache: compiled to PDF path operators where
+    rcdoc.note.svg_draw takes it (the same drawing, a fraction of the time),
+    else as weasyprint parses an SVG it fetches (weasy_svg_image)."""
+    from rcdoc.note import svg_draw
+    return svg_draw.compile_svg(svg) or weasy_svg_image(url, svg)
+
+
+def weasy_svg_image(url: str, svg: str):
+    """An SVG figure for weasyprint's image cache, parsed as weasyprint parses an
+    SVG it fetches. No layout context is given: it only serves SVG text, which
+    these lack."""
     from xml.etree import ElementTree
     from weasyprint.images import SVGImage
     return SVGImage(ElementTree.fromstring(svg.encode("utf-8")), url, None, None)

@@ -15,6 +15,11 @@ DejaVu 2.37). The narrowest widths err wide, so that no column is narrower
 than its content; a table whose narrowest widths do not fit the page keeps
 the automatic layout (``widths`` returns None).
 
+A column that gets at least its widest content wraps none of its cells, so the
+template marks its cells as ones that do not wrap (``Widths.cell_kinds``):
+their numbers then need no span to keep them with their units (a tenth of a
+stage's render went to laying out those spans).
+
 What it must not do: read the system's fonts or anything the user gave.
 """
 
@@ -25,7 +30,7 @@ import re
 from collections.abc import Sequence
 from pathlib import Path
 
-__all__ = ["widths", "text_width"]
+__all__ = ["widths", "text_width", "Widths"]
 
 # note.css: table.data is 8 pt, its cells have 1.6 mm of padding left and right;
 # the badge of a verdict is 7.5 pt bold capitals with 1.8 mm padding (its 0.5 pt border
@@ -38,6 +43,9 @@ _PAGE = (210 - 18 - 18) * _MM          # A4 less the page's side margins, in pt
 # Kerning only narrows a line (the advance sums measured 0-0.2 pt wider than
 # weasyprint's own widths of the example's cells): 0.05 pt covers rounding.
 _EPS = 0.05
+# Room a column keeps beyond its widest content to count as roomy (shares are rounded
+# to 0.01 %, 0.05 pt of the page's width; the last column takes the sum of the roundings).
+_SPARE = 0.5
 _SHORT = 12       # _blocks.html: a cell of at most 12 characters never wraps
 _QUANTITY = re.compile(r"(?<![\w.])([+\-−±]?\d[\d.,]*(?:[eE][+\-−]?\d+)?) (\S{1,8})")
 
@@ -100,8 +108,19 @@ def _column(j: int, kind: str, header: str, rows: Sequence[Sequence], linked: bo
     return lo, hi, kind == "verdict"
 
 
+class Widths(list):
+    """Each column's share of the table's width in per cent. ``roomy``: every
+    column is at least its widest content wide (with _SPARE to spare), so no
+    cell wraps; ``cell_kinds``: the columns' classes for their cells, with "nw"
+    added to each column that wide (a cell that does not wrap needs no span
+    around each number and unit, report._keep_units)."""
+
+    roomy = False
+    cell_kinds: list[str] = []
+
+
 def widths(columns: Sequence, rows: Sequence[Sequence], kinds: Sequence[str],
-           linked: bool = False, room: float = _PAGE) -> list[float] | None:
+           linked: bool = False, room: float = _PAGE) -> Widths | None:
     """Each column's share of the table's width in per cent (summing to 100),
     or None when the columns' narrowest widths do not fit ``room`` (pt).
     ``kinds``: each column's classes as _blocks.html gives them; ``linked``: the
@@ -124,6 +143,12 @@ def widths(columns: Sequence, rows: Sequence[Sequence], kinds: Sequence[str],
         want = [0.0 if c[2] else h - l for c, l, h in zip(cols, lo, hi)]
         total = sum(want) or 1.0
         out = [l + (room - sum(lo)) * w / total for l, w in zip(lo, want)]
-    share = [round(100 * w / room, 2) for w in out]
+    share = Widths(round(100 * w / room, 2) for w in out)
     share[-1] = round(100 - sum(share[:-1]), 2)
+    names = [str(kinds[j] if j < len(kinds) else "") for j in range(len(columns))]
+    # A column at least as wide as its widest content (and _SPARE) wraps no cell.
+    wide = [c[2] or s * room / 100 >= h + _SPARE for c, s, h in zip(cols, share, hi)]
+    share.roomy = all(wide)
+    share.cell_kinds = [k if not w or "nw" in k.split() else f"{k} nw".strip()
+                        for k, w in zip(names, wide)]
     return share
