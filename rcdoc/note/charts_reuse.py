@@ -26,6 +26,7 @@ from collections.abc import Callable, Sequence
 import matplotlib as mpl
 from matplotlib.backends.backend_svg import FigureCanvasSVG
 from matplotlib.figure import Figure
+from matplotlib.patches import Rectangle
 from matplotlib.transforms import Bbox
 
 _KEPT: dict[tuple, tuple[Figure, tuple, dict]] = {}
@@ -45,6 +46,9 @@ def reused_figure(kind: str, width_in: float, height_in: float,
         fig = Figure(figsize=(width_in, height_in))
         FigureCanvasSVG(fig)
         axes = tuple(make_axes(fig))
+        for ax in axes:
+            ax._gen_axes_patch = _AxesPatch.unit
+            ax.patch = _AxesPatch.like(ax.patch)
         if ENABLED:
             pars = {k: getattr(fig.subplotpars, k) for k in _PARS}
             _KEPT[key] = (fig, axes, pars)
@@ -93,3 +97,38 @@ def _clear_axes(ax) -> None:
 
 def _keep_ticks() -> None:
     return None
+
+
+class _AxesPatch(Rectangle):
+    """The axes' background rectangle, with its transform worked out once.
+
+    Every line, patch and tick added to the axes is clipped to this rectangle,
+    and matplotlib works the rectangle's transform out anew for each (some
+    thirty times a chart, as long as drawing a few lines). The transform is
+    kept while the rectangle's geometry and its transform to the figure (the
+    axes' own, which follows the axes when they move) stay the ones it was made
+    from: the same transform, the same pixels."""
+
+    _kept: tuple = ((), None, None)      # (geometry, transform to the figure, the transform)
+
+    @classmethod
+    def unit(cls) -> "_AxesPatch":
+        """What Axes._gen_axes_patch makes: the unit square in axes coordinates."""
+        return cls((0.0, 0.0), 1.0, 1.0)
+
+    @classmethod
+    def like(cls, patch: Rectangle) -> "_AxesPatch":
+        """The background rectangle of a new axes, as this class (colours, transform, clip)."""
+        new = cls.unit()
+        new.update_from(patch)
+        new.set_figure(patch.get_figure(root=False))
+        return new
+
+    def get_transform(self):
+        geometry = (self._x0, self._y0, self._width, self._height, self.angle,
+                    self.rotation_point, self._aspect_ratio_correction)
+        geometry_was, outer, kept = self._kept
+        if kept is None or geometry != geometry_was or outer is not self._transform:
+            kept = super().get_transform()
+            self._kept = (geometry, self._transform, kept)
+        return kept
