@@ -299,19 +299,31 @@ def _overview_figure(parsed: list):
 def _overview_axis(ax, group: list, xlabel: str) -> None:
     """The rows of one kind of frequency on a log axis of their own."""
     _grid(ax)
+    # The ranges and the nominal markers of a status are one line each (the pieces apart,
+    # NaN between them), not one per row: rows do not overlap, so the pixels are those of
+    # a line per row, for a fraction of the drawing time on a board of many stages.
+    ranges: dict = {"pass": ([], []), "fail": ([], [])}
+    nominals: dict = {"pass": ([], []), "fail": ([], [])}
     for i, (_, status, _, freqs) in enumerate(group):
-        color = pal.PASS if status == "pass" else pal.FAIL
         for k, (word, nom, f_min, f_max) in enumerate(freqs):
-            ax.plot([f_min, f_max], [i, i], color=color, linewidth=3.0, alpha=0.45,
-                    solid_capstyle="butt", zorder=2)
-            # Shape as well as colour: a circle passes, a cross fails (readable in grey print).
-            ax.plot([nom], [i], marker=_STATUS_MARKER[status], markersize=5.5, color=color,
-                    markeredgewidth=1.8, linestyle="none", zorder=3)
+            ranges[status][0].extend((f_min, f_max, np.nan))
+            ranges[status][1].extend((i, i, np.nan))
+            nominals[status][0].append(nom)
+            nominals[status][1].append(i)
             # The lower of two frequencies is labelled on its left, the others on their right.
             left = k == 0 and len(freqs) > 1
             ax.annotate(word + _eng(nom, "Hz"), xy=(f_min if left else f_max, i),
                         xytext=(-6 if left else 6, 0), textcoords="offset points",
                         ha="right" if left else "left", va="center", color=pal.INK, zorder=4)
+    for status in ("pass", "fail"):
+        if not nominals[status][0]:
+            continue
+        color = pal.PASS if status == "pass" else pal.FAIL
+        ax.plot(*ranges[status], color=color, linewidth=3.0, alpha=0.45, solid_capstyle="butt",
+                zorder=2)
+        # Shape as well as colour: a circle passes, a cross fails (readable in grey print).
+        ax.plot(*nominals[status], marker=_STATUS_MARKER[status], markersize=5.5, color=color,
+                markeredgewidth=1.8, linestyle="none", zorder=3)
     lo = min(q[2] for p in group for q in p[3])
     hi = max(q[3] for p in group for q in p[3])
     # At least a decade on each side keeps single stages readable and leaves room for values.
