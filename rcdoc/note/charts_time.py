@@ -13,7 +13,7 @@ from collections.abc import Mapping, Sequence
 import numpy as np
 from matplotlib import ticker
 from matplotlib.lines import Line2D
-from matplotlib.patches import Patch
+from matplotlib.patches import Patch, StepPatch
 
 from rcdoc.note import palette as pal
 from rcdoc.note.charts import (_UNSCALED_UNITS, HALF_WIDTH_IN, _arr, _AxisEngFormatter, _check_fig_id,
@@ -137,8 +137,8 @@ def histogram(fig_id: str, samples, *, nominal: float, lo: float | None = None, 
             if edges.size > 41:
                 edges = np.linspace(x_min, x_max, 41)
         counts, edges = np.histogram(x, bins=edges)
-        ax.stairs(counts, edges, fill=True, color=pal.BAND_INNER, zorder=2)
-        ax.stairs(counts, edges, color=pal.NOMINAL, linewidth=0.7, zorder=2.1)
+        _bars(ax, counts, edges, fill=True, facecolor=pal.BAND_INNER, linewidth=0, zorder=2)
+        _bars(ax, counts, edges, fill=False, edgecolor=pal.NOMINAL, linewidth=0.7, zorder=2.1)
         handles = [Patch(facecolor=pal.BAND_INNER, edgecolor=pal.NOMINAL, linewidth=0.7,
                          label=f"{x.size} samples" + (", all one value" if single else ""))]
         ax.axvline(nominal, color=pal.INK, linewidth=1.4, zorder=3)
@@ -164,6 +164,13 @@ def histogram(fig_id: str, samples, *, nominal: float, lo: float | None = None, 
         ax.set_ylabel("Samples per bin")
         _legend(fig, handles, max_cols=2)
         return _finish(fig, fig_id, title, fmt)
+
+
+def _bars(ax, counts, edges, **style) -> None:
+    """The patch ``ax.stairs`` adds (baseline 0, the colour given as face or edge colour),
+    without its data limits: the histogram sets both ranges itself, and the limits of a
+    step outline cost a curve per bin to work out."""
+    ax.add_artist(StepPatch(counts, edges, baseline=0, orientation="vertical", **style))
 
 
 def _hist_xaxis(ax, label: str, unit: str, nominal: float, single: bool) -> None:
