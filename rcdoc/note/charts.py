@@ -29,12 +29,15 @@ import re
 from collections.abc import Iterator
 
 import matplotlib
+import matplotlib.axis
 import matplotlib.style
 import numpy as np
 from cycler import cycler
 from matplotlib import ticker
 from matplotlib.backends.backend_svg import FigureCanvasSVG
 from matplotlib.figure import Figure
+from matplotlib.lines import Line2D
+from matplotlib.patches import Rectangle
 
 from rcdoc.input.quantities import format_eng
 from rcdoc.note import charts_raster
@@ -502,6 +505,25 @@ def _log_axis(axis, lo: float, hi: float) -> None:
 def _grid(ax) -> None:
     ax.grid(True, which="major", color=pal.GRID, linewidth=0.6)
     ax.grid(True, which="minor", color=pal.GRID, linewidth=0.3)
+
+
+def _vspan(ax, lo: float, hi: float, **style) -> Rectangle:
+    """``ax.axvspan(lo, hi, **style)`` on axes whose x and y ranges the chart sets itself:
+    the same patch, without the data limits axvspan works out through the axis
+    transforms (a tenth of a Bode chart's drawing, for limits nobody reads)."""
+    patch = Rectangle((lo, 0), hi - lo, 1, **style)
+    patch.set_transform(ax.get_xaxis_transform(which="grid"))
+    ax.add_artist(patch)
+    patch.get_path()._interpolation_steps = matplotlib.axis.GRIDLINE_INTERPOLATION_STEPS
+    return patch
+
+
+def _vline(ax, x: float, **style) -> Line2D:
+    """``ax.axvline(x, **style)`` on axes whose ranges the chart sets itself (see _vspan)."""
+    line = Line2D([x, x], [0, 1], transform=ax.get_xaxis_transform(which="grid"), **style)
+    ax.add_artist(line)
+    line.get_path()._interpolation_steps = matplotlib.axis.GRIDLINE_INTERPOLATION_STEPS
+    return line
 
 
 def _log_fraction(ax, x: float) -> float:

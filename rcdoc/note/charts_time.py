@@ -19,7 +19,7 @@ from rcdoc.note import palette as pal
 from rcdoc.note.charts import (_UNSCALED_UNITS, HALF_WIDTH_IN, _arr, _AxisEngFormatter, _check_fig_id,
                                _eng, _finish, _finite, _grid, _legend, _log_axis, _new_figure,
                                _OffsetFormatter, _OffsetLocator, _same_shape, _styled,
-                               _tick_formatter, _unit_symbol, WIDTH_IN)
+                               _tick_formatter, _unit_symbol, _vline, _vspan, WIDTH_IN)
 from rcdoc.note.charts_reuse import reused_figure
 
 
@@ -141,7 +141,7 @@ def histogram(fig_id: str, samples, *, nominal: float, lo: float | None = None, 
         _bars(ax, counts, edges, fill=False, edgecolor=pal.NOMINAL, linewidth=0.7, zorder=2.1)
         handles = [Patch(facecolor=pal.BAND_INNER, edgecolor=pal.NOMINAL, linewidth=0.7,
                          label=f"{x.size} samples" + (", all one value" if single else ""))]
-        ax.axvline(nominal, color=pal.INK, linewidth=1.4, zorder=3)
+        _vline(ax, nominal, color=pal.INK, linewidth=1.4, zorder=3)
         handles.append(Line2D([], [], color=pal.INK, linewidth=1.4, label=f"nominal {_eng(nominal, unit)}"))
         left, right = _hist_range(data_lo, data_hi, lo, hi)
         ax.set_xlim(left, right)
@@ -211,13 +211,13 @@ def _hist_limit(ax, limit: float, below: bool, left: float, right: float, y: flo
     scale; True when an arrow was drawn."""
     if left <= limit <= right:
         a, b = (left, limit) if below else (limit, right)
-        ax.axvspan(a, b, facecolor=pal.LIMIT, edgecolor="none", zorder=0.5)
-        ax.axvline(limit, color=pal.LIMIT_EDGE, linewidth=1.2, zorder=2.5)
+        _vspan(ax, a, b, facecolor=pal.LIMIT, edgecolor="none", zorder=0.5)
+        _vline(ax, limit, color=pal.LIMIT_EDGE, linewidth=1.2, zorder=2.5)
         return False
     off_left = limit < left
     if off_left != below:
         # The whole visible axis is on the forbidden side: shade it.
-        ax.axvspan(left, right, facecolor=pal.LIMIT, edgecolor="none", zorder=0.5)
+        _vspan(ax, left, right, facecolor=pal.LIMIT, edgecolor="none", zorder=0.5)
     edge = left if off_left else right
     ax.annotate(f"limit {_eng(limit, unit)}", xy=(edge, y),
                 xytext=(20 if off_left else -20, 0), textcoords="offset points",
