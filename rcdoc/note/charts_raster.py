@@ -33,12 +33,14 @@ from matplotlib.figure import Figure
 from matplotlib.font_manager import fontManager, get_font
 from matplotlib.ft2font import RenderMode
 from matplotlib.offsetbox import OffsetBox
+from matplotlib.text import Text
 
 _LIMIT = 50_000          # entries per cache: a note's charts use a few thousand
 _SIZES: dict = {}        # (string, font, dpi, ...) -> (width, height, descent)
 _SHAPES: dict = {}       # (string, font, dpi, ...) -> ((ft font, glyph, x, y), ...)
 _GLYPHS: dict = {}       # (ft font, size, dpi, glyph, matrix, x % 64, y % 64, ...) -> bitmap
 _HEIGHTS: dict = {}      # (font, dpi, ...) -> (ascent, descent, line gap)
+_LAYOUTS: dict = {}      # (string, font, alignment, rotation, ...) -> Text._get_layout's answer
 _RUNS: dict = {}         # (glyph keys, their offsets) -> (one bitmap of them or None, its offset)
 
 # rcParams that change how a string is shaped or rasterised (fonts found, hinting, kerning).
@@ -178,6 +180,32 @@ def _merged(placed: list, column0: int, row0: int) -> tuple:
             return None, 0, 0
         region |= buffer
     return whole, left - column0, top - row0
+
+
+def _text_layout(text, renderer):
+    """Text._get_layout, kept per string and the properties it depends on when the
+    renderer is a TextCachingAgg (the offsets of lines and box from the text's anchor:
+    the same for a tick label drawn at any place). Others, wrapped text, TeX and math
+    are worked out by matplotlib every time."""
+    if not isinstance(renderer, TextCachingAgg) or text.get_wrap() or text.get_usetex():
+        return _PLAIN_LAYOUT(text, renderer)
+    string = text.get_text()
+    if "$" in string:
+        return _PLAIN_LAYOUT(text, renderer)
+    key = (string, renderer._font_key(text.get_fontproperties()), text._linespacing,
+           text._get_multialignment(), text.get_rotation(), text.get_horizontalalignment(),
+           text.get_verticalalignment(), text.get_rotation_mode(), text.get_parse_math(),
+           text.get_figure(root=True).dpi)
+    got = _LAYOUTS.get(key)
+    if got is None:
+        got = _remember(_LAYOUTS, key, _PLAIN_LAYOUT(text, renderer))
+    return got
+
+
+_PLAIN_LAYOUT = Text._get_layout
+# Process-wide, but only a TextCachingAgg's drawing takes the kept layouts (above); its
+# callers in matplotlib only read what it returns.
+Text._get_layout = _text_layout
 
 
 def layout_once(box) -> None:
