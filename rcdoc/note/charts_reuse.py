@@ -81,6 +81,10 @@ def _clear_axes(ax) -> None:
     axes = (ax.xaxis, ax.yaxis)
     for axis in axes:
         axis.reset_ticks = _keep_ticks           # clear calls it: the kept ticks stay
+    # clear turns the grid off on every kept tick (twice), for the chart to turn it on
+    # again: a chart sets its grid the same way every time (see the module's docstring),
+    # so the kept ticks keep the grid the last chart of the kind left them.
+    ax.grid = _keep_grid
     try:
         ax.clear()
         for spine in ax.spines.values():
@@ -90,12 +94,17 @@ def _clear_axes(ax) -> None:
     finally:
         for axis in axes:
             del axis.reset_ticks
+        del ax.grid
     for axis in axes:
         axis._autolabelpos = True                # rcdoc.note.chart_ticks.lean_axes may fix it
     ax.dataLim.set(Bbox.null())                  # as new (clear only ignores the old limits)
 
 
 def _keep_ticks() -> None:
+    return None
+
+
+def _keep_grid(*args, **kwargs) -> None:
     return None
 
 
