@@ -6,8 +6,9 @@ change from chart to chart (log ranges twelve decades or under one apart,
 bands on and off, limits on and off-scale, marks, a single-valued histogram,
 one or three phasors, PNG and SVG), once on kept figures and once on new
 ones (plain matplotlib figures: no background rectangle with a kept transform,
-no grid left on the kept ticks); the outputs must be the same bytes. The curves are textbook formulas
-(first-order low-pass H = 1/(1 + j f/fc), step response 1 - exp(-t/tau)).
+no grid left on the kept ticks); the outputs must be the same bytes. The
+curves are textbook formulas (first-order low-pass H = 1/(1 + j f/fc), step
+response 1 - exp(-t/tau)).
 """
 
 from __future__ import annotations
