@@ -374,9 +374,11 @@ def test_overview_puts_ring_frequencies_on_their_own_axis_and_both_corners():
         assert ax_r.get_xlabel() == "Snubber ring frequency [Hz]"
         assert [t.get_text() for t in ax_f.get_yticklabels()] == ["lp", "bp", "notch"]
         assert [t.get_text() for t in ax_r.get_yticklabels()] == ["snub"]
-        # Both band-pass corners drawn as nominal markers on the band-pass row (y = 1).
+        # Both band-pass corners drawn as nominal markers on the band-pass row (y = 1); the
+        # markers of a status are one line, a point per frequency.
         marks = [ln for ln in ax_f.lines if ln.get_marker() not in (None, "None", "")]
-        bp = sorted(float(ln.get_xdata()[0]) for ln in marks if ln.get_ydata()[0] == 1)
+        bp = sorted(float(x) for ln in marks for x, y in zip(ln.get_xdata(), ln.get_ydata())
+                    if y == 1)
         assert bp == [100.0, 5e3]
         # Pass and fail differ in shape, not only in colour.
         shapes = {ln.get_color(): ln.get_marker() for ln in marks}

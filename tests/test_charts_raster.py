@@ -109,3 +109,44 @@ def test_charts_equal_plain_agg(monkeypatch):
     monkeypatch.setattr(charts.charts_raster, "layout_once", lambda box: None)
     rng = np.random.default_rng(11)
     assert draw() == cached
+
+
+def test_glyph_runs_blended_as_one_bitmap_equal_plain_agg():
+    # The glyphs of a string are blended as one bitmap when no pixel is covered by two of
+    # them. A combining long solidus (U+0338) drawn over "o" covers pixels of its base:
+    # that string is blended glyph by glyph. Both ways must give plain Agg's pixels.
+    charts_raster._RUNS.clear()
+    fig = Figure(figsize=(3.0, 1.5))
+    fig.text(0.05, 0.65, "Gain [dB] at 10\N{THIN SPACE}kHz", fontsize=9)
+    fig.text(0.05, 0.25, "o\u0338 x", fontsize=14)
+    reference = _plain(fig, 150.0)
+    assert np.array_equal(_cached(fig, 150.0), reference)
+    assert np.array_equal(_cached(fig, 150.0), reference)      # runs served from the cache
+    merged = {bitmap is not None for bitmap, _, _ in charts_raster._RUNS.values()}
+    assert merged == {True, False}        # one string merged, the overlaid one not
+
+
+def test_kept_text_layouts_equal_matplotlibs():
+    # Text._get_layout under TextCachingAgg answers from a cache keyed by the string and
+    # the properties it depends on; matplotlib's own answer for the same text (aligned,
+    # rotated, several lines, after a change of alignment) must be the same numbers.
+    fig = _text_figure()
+    fig.text(0.5, 0.5, "two\nlines [V]", ha="center", va="top", rotation=90.0, fontsize=7)
+    fig.text(0.3, 0.3, "anchor", rotation=45.0, rotation_mode="anchor", ha="right")
+    last = fig.text(0.2, 0.8, "moved 1.5 k", va="baseline")
+    renderer = charts_raster.TextCachingAgg(400, 300, 150.0)
+    fig.set_dpi(150.0)
+
+    def numbers(layout):
+        bbox, lines, (corner, size) = layout
+        return (tuple(bbox.bounds), [(s, tuple(w), tuple(xy)) for s, w, xy in lines],
+                tuple(corner), tuple(size))
+
+    for _ in range(2):
+        for text in fig.texts:
+            if "$" in text.get_text():
+                continue
+            want = numbers(charts_raster._PLAIN_LAYOUT(text, renderer))
+            assert numbers(charts_raster._text_layout(text, renderer)) == want
+        last.set_horizontalalignment("right")    # a changed property is a new layout
+        last.set_verticalalignment("top")

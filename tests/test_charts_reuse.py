@@ -5,8 +5,10 @@ response, histogram) are drawn in a mixed order in which each kind's settings
 change from chart to chart (log ranges twelve decades or under one apart,
 bands on and off, limits on and off-scale, marks, a single-valued histogram,
 one or three phasors, PNG and SVG), once on kept figures and once on new
-ones; the outputs must be the same bytes. The curves are textbook formulas
-(first-order low-pass H = 1/(1 + j f/fc), step response 1 - exp(-t/tau)).
+ones (plain matplotlib figures: no background rectangle with a kept transform,
+no grid left on the kept ticks); the outputs must be the same bytes. The
+curves are textbook formulas (first-order low-pass H = 1/(1 + j f/fc), step
+response 1 - exp(-t/tau)).
 """
 
 from __future__ import annotations
@@ -83,6 +85,10 @@ def test_kept_figures_draw_the_bytes_of_new_ones(monkeypatch):
     monkeypatch.setattr(charts_reuse, "ENABLED", True)
     kept = _all()
     assert len(charts_reuse._KEPT) == 4         # one figure per kind was kept and reused
+    # Kept axes clip to a background rectangle that keeps its transform; new ones (below,
+    # with reuse off) are plain matplotlib.
+    assert all(isinstance(ax.patch, charts_reuse._AxesPatch)
+               for _, axes, _ in charts_reuse._KEPT.values() for ax in axes)
     monkeypatch.setattr(charts_reuse, "ENABLED", False)
     fresh = _all()
     assert len(kept) == len(fresh)

@@ -194,23 +194,34 @@ def lean_axes(fig: Figure, free: tuple) -> None:
             if not isinstance(locator, _InView) and isinstance(formatter, free):
                 wrapped = _InView(locator)
                 axis.set_major_locator(wrapped)
-                axis.set_major_formatter(_AllLocs(formatter, locator))
+                axis.set_major_formatter(_AllLocs(formatter, wrapped))
             if not axis.label.get_text():
                 axis.set_label_coords(0.5, 0.5)
 
 
 class _InView(ticker.Locator):
-    """The ticks of another locator that lie in the view (as matplotlib would draw)."""
+    """The ticks of another locator that lie in the view (as matplotlib would draw).
+
+    It keeps the other locator's last answer for its view and axes box: the
+    axis's formatter asks for the same ticks right after (_AllLocs)."""
 
     def __init__(self, inner: ticker.Locator):
         self.inner = inner
+        self.last = None
 
     def set_axis(self, axis):
         super().set_axis(axis)
         self.inner.set_axis(axis)
 
+    def every(self):
+        """All the ticks of the other locator (in view or not)."""
+        key = (tuple(self.axis.get_view_interval()), tuple(self.axis.axes.bbox.bounds))
+        if self.last is None or self.last[0] != key:
+            self.last = (key, self.inner())
+        return self.last[1]
+
     def __call__(self):
-        locs = np.asarray(self.inner(), dtype=float)
+        locs = np.asarray(self.every(), dtype=float)
         return locs[_in_view(self.axis, locs)]
 
     def tick_values(self, vmin, vmax):
@@ -220,11 +231,11 @@ class _InView(ticker.Locator):
 class _AllLocs(ticker.Formatter):
     """A formatter prepared with every tick of its locator, in view or not."""
 
-    def __init__(self, inner: ticker.Formatter, locator: ticker.Locator):
+    def __init__(self, inner: ticker.Formatter, locator: _InView):
         self.inner, self.locator = inner, locator
 
     def format_ticks(self, values):
-        self.inner.set_locs(self.locator())
+        self.inner.set_locs(self.locator.every())
         return [self.inner(value) for value in values]
 
     def __call__(self, x, pos=None):

@@ -17,7 +17,7 @@ from matplotlib.patches import Arc, FancyArrowPatch, Patch, Rectangle
 from rcdoc.note import palette as pal
 from rcdoc.note.charts import (_BBOX, _arr, _AxisEngFormatter, _check_fig_id, _eng, _eng_range,
                                _finish, _finite, _grid, _legend, _log_axis, _log_fraction,
-                               _num, _same_shape, _styled, WIDTH_IN)
+                               _num, _same_shape, _styled, _vline, _vspan, WIDTH_IN)
 from rcdoc.note.charts_reuse import reused_figure
 
 
@@ -78,7 +78,7 @@ def bode(fig_id: str, freqs_hz, gain_db, phase_deg, *, band: Mapping | None = No
         if corner_spread is not None:
             lo, hi = (float(v) for v in corner_spread)
             for ax in (ax_g, ax_p):
-                ax.axvspan(lo, hi, color=pal.SPREAD, linewidth=0, zorder=0.5)
+                _vspan(ax, lo, hi, color=pal.SPREAD, linewidth=0, zorder=0.5)
             handles.append(Patch(color=pal.SPREAD, linewidth=0,
                                  label=f"corner spread {_eng_range(lo, hi, 'Hz')}"))
 
@@ -165,7 +165,7 @@ def _bode_corner(ax_g, ax_p, corner: float, f, g, fpos) -> Line2D:
     """The corner line on both panels and its label; returns its legend handle."""
     text = f"corner {_eng(corner, 'Hz')}"
     for ax in (ax_g, ax_p):
-        ax.axvline(corner, color=pal.MUTED, linewidth=0.9, linestyle=(0, (4, 2)), zorder=2)
+        _vline(ax, corner, color=pal.MUTED, linewidth=0.9, linestyle=(0, (4, 2)), zorder=2)
     # Put the label on the side where the curve is lower, away from it.
     right = np.interp(math.log10(corner) + 0.3, np.log10(fpos), g[np.isfinite(f) & (f > 0)])
     left = np.interp(math.log10(corner) - 0.3, np.log10(fpos), g[np.isfinite(f) & (f > 0)])

@@ -33,12 +33,15 @@ from matplotlib.figure import Figure
 from matplotlib.font_manager import fontManager, get_font
 from matplotlib.ft2font import RenderMode
 from matplotlib.offsetbox import OffsetBox
+from matplotlib.text import Text
 
 _LIMIT = 50_000          # entries per cache: a note's charts use a few thousand
 _SIZES: dict = {}        # (string, font, dpi, ...) -> (width, height, descent)
 _SHAPES: dict = {}       # (string, font, dpi, ...) -> ((ft font, glyph, x, y), ...)
 _GLYPHS: dict = {}       # (ft font, size, dpi, glyph, matrix, x % 64, y % 64, ...) -> bitmap
 _HEIGHTS: dict = {}      # (font, dpi, ...) -> (ascent, descent, line gap)
+_LAYOUTS: dict = {}      # (string, font, alignment, rotation, ...) -> Text._get_layout's answer
+_RUNS: dict = {}         # (glyph keys, their offsets) -> (one bitmap of them or None, its offset)
 
 # rcParams that change how a string is shaped or rasterised (fonts found, hinting, kerning).
 _TEXT_RC = ("font.family", "font.sans-serif", "font.serif", "font.monospace", "font.cursive",
@@ -113,7 +116,12 @@ class TextCachingAgg(RendererAgg):
 
     def _draw_glyphs(self, gc, x, y, angle, size, items):
         """RendererAgg._draw_text_glyphs_and_boxes for shaped text, with each glyph's bitmap
-        taken from the cache when it was rendered before at the same fraction of a pixel."""
+        taken from the cache when it was rendered before at the same fraction of a pixel.
+
+        The glyphs of a string go to Agg as one bitmap when no pixel is covered by two of
+        them: Agg blends each pixel by its own coverage and leaves a pixel of zero
+        coverage as it is, so the pixels are those of one blend per glyph (which cost
+        Agg a conversion of the graphics context each)."""
         cos = math.cos(math.radians(angle))
         sin = math.sin(math.radians(angle))
         matrix = (0x10000 * np.array([[cos, -sin], [sin, cos]])).round().astype(int)
@@ -121,6 +129,9 @@ class TextCachingAgg(RendererAgg):
         flags = get_hinting_flag()
         smooth = bool(gc.get_antialiased())
         height = self.height
+        rows = int(height)
+        placed = []                                # (bitmap, first column, first row)
+        keys = []
         for font, glyph, dx, dy in items:          # dy is upwards, y downwards
             tx = round(0x40 * (x + dx * cos - dy * sin))
             ty = round(0x40 * (height - y + dx * sin + dy * cos))
@@ -136,8 +147,65 @@ class TextCachingAgg(RendererAgg):
                     buffer *= 0xff
                 got = _remember(_GLYPHS, key, (buffer, bitmap.left - (tx >> 6), bitmap.top - (ty >> 6)))
             buffer, left, top = got
-            self._renderer.draw_text_image(buffer, left + (tx >> 6),
-                                           int(height) - (top + (ty >> 6)) + buffer.shape[0], 0, gc)
+            if buffer.size:
+                placed.append((buffer, left + (tx >> 6), rows - (top + (ty >> 6))))
+                keys.append(key)
+        if len(placed) > 1:
+            # The same glyphs at the same fractions of a pixel and whole pixels apart
+            # (a tick label drawn again) merge to the same bitmap.
+            column, row = placed[0][1], placed[0][2]
+            run = (tuple(keys), tuple((c - column, r - row) for _, c, r in placed))
+            got = _RUNS.get(run)
+            if got is None:
+                got = _remember(_RUNS, run, _merged(placed, column, row))
+            if got[0] is not None:
+                placed = [(got[0], column + got[1], row + got[2])]
+        for buffer, column, row in placed:
+            self._renderer.draw_text_image(buffer, column, row + buffer.shape[0], 0, gc)
+
+
+def _merged(placed: list, column0: int, row0: int) -> tuple:
+    """The glyph bitmaps ``placed`` (bitmap, first column, first row) as one: (bitmap,
+    its first column and row relative to ``column0``, ``row0``), or (None, 0, 0) when a
+    pixel is covered by two of them (Agg would blend it twice)."""
+    top = min(row for _, _, row in placed)
+    left = min(column for _, column, _ in placed)
+    bottom = max(row + b.shape[0] for b, _, row in placed)
+    right = max(column + b.shape[1] for b, column, _ in placed)
+    whole = np.zeros((bottom - top, right - left), np.uint8)
+    for buffer, column, row in placed:
+        h, w = buffer.shape
+        region = whole[row - top:row - top + h, column - left:column - left + w]
+        if np.logical_and(region, buffer).any():
+            return None, 0, 0
+        region |= buffer
+    return whole, left - column0, top - row0
+
+
+def _text_layout(text, renderer):
+    """Text._get_layout, kept per string and the properties it depends on when the
+    renderer is a TextCachingAgg (the offsets of lines and box from the text's anchor:
+    the same for a tick label drawn at any place). Others, wrapped text, TeX and math
+    are worked out by matplotlib every time."""
+    if not isinstance(renderer, TextCachingAgg) or text.get_wrap() or text.get_usetex():
+        return _PLAIN_LAYOUT(text, renderer)
+    string = text.get_text()
+    if "$" in string:
+        return _PLAIN_LAYOUT(text, renderer)
+    key = (string, renderer._font_key(text.get_fontproperties()), text._linespacing,
+           text._get_multialignment(), text.get_rotation(), text.get_horizontalalignment(),
+           text.get_verticalalignment(), text.get_rotation_mode(), text.get_parse_math(),
+           text.get_figure(root=True).dpi)
+    got = _LAYOUTS.get(key)
+    if got is None:
+        got = _remember(_LAYOUTS, key, _PLAIN_LAYOUT(text, renderer))
+    return got
+
+
+_PLAIN_LAYOUT = Text._get_layout
+# Process-wide, but only a TextCachingAgg's drawing takes the kept layouts (above); its
+# callers in matplotlib only read what it returns.
+Text._get_layout = _text_layout
 
 
 def layout_once(box) -> None:

@@ -14,6 +14,12 @@ changes ticks made unconditionally); every chart of the example board and the
 40-stage bench board comes out byte for byte as from a new figure
 (bench/charts.py, tests/test_charts_reuse.py).
 
+Two more repetitions are spared on a kept figure: its axes' background
+rectangle (that every line, patch and tick is clipped to) keeps its transform
+instead of working it out for each of them (`_AxesPatch`), and `clear` leaves
+the kept ticks' grid as the chart kind sets it every time, instead of turning
+it off on every tick for the chart to turn it on again.
+
 Figures are kept per process (a worker of a parallel build has its own); the
 caller must finish a chart (draw or save it) before asking for the next figure
 of its kind.
@@ -26,6 +32,7 @@ from collections.abc import Callable, Sequence
 import matplotlib as mpl
 from matplotlib.backends.backend_svg import FigureCanvasSVG
 from matplotlib.figure import Figure
+from matplotlib.patches import Rectangle
 from matplotlib.transforms import Bbox
 
 _KEPT: dict[tuple, tuple[Figure, tuple, dict]] = {}
@@ -46,6 +53,9 @@ def reused_figure(kind: str, width_in: float, height_in: float,
         FigureCanvasSVG(fig)
         axes = tuple(make_axes(fig))
         if ENABLED:
+            for ax in axes:
+                ax._gen_axes_patch = _AxesPatch.unit
+                ax.patch = _AxesPatch.like(ax.patch)
             pars = {k: getattr(fig.subplotpars, k) for k in _PARS}
             _KEPT[key] = (fig, axes, pars)
         return fig, axes
@@ -77,6 +87,10 @@ def _clear_axes(ax) -> None:
     axes = (ax.xaxis, ax.yaxis)
     for axis in axes:
         axis.reset_ticks = _keep_ticks           # clear calls it: the kept ticks stay
+    # clear turns the grid off on every kept tick (twice), for the chart to turn it on
+    # again: a chart sets its grid the same way every time (see the module's docstring),
+    # so the kept ticks keep the grid the last chart of the kind left them.
+    ax.grid = _keep_grid
     try:
         ax.clear()
         for spine in ax.spines.values():
@@ -86,6 +100,7 @@ def _clear_axes(ax) -> None:
     finally:
         for axis in axes:
             del axis.reset_ticks
+        del ax.grid
     for axis in axes:
         axis._autolabelpos = True                # rcdoc.note.chart_ticks.lean_axes may fix it
     ax.dataLim.set(Bbox.null())                  # as new (clear only ignores the old limits)
@@ -93,3 +108,42 @@ def _clear_axes(ax) -> None:
 
 def _keep_ticks() -> None:
     return None
+
+
+def _keep_grid(*args, **kwargs) -> None:
+    return None
+
+
+class _AxesPatch(Rectangle):
+    """The axes' background rectangle, with its transform worked out once.
+
+    Every line, patch and tick added to the axes is clipped to this rectangle,
+    and matplotlib works the rectangle's transform out anew for each (some
+    thirty times a chart, as long as drawing a few lines). The transform is
+    kept while the rectangle's geometry and its transform to the figure (the
+    axes' own, which follows the axes when they move) stay the ones it was made
+    from: the same transform, the same pixels."""
+
+    _kept: tuple = ((), None, None)      # (geometry, transform to the figure, the transform)
+
+    @classmethod
+    def unit(cls) -> "_AxesPatch":
+        """What Axes._gen_axes_patch makes: the unit square in axes coordinates."""
+        return cls((0.0, 0.0), 1.0, 1.0)
+
+    @classmethod
+    def like(cls, patch: Rectangle) -> "_AxesPatch":
+        """The background rectangle of a new axes, as this class (colours, transform, clip)."""
+        new = cls.unit()
+        new.update_from(patch)
+        new.set_figure(patch.get_figure(root=False))
+        return new
+
+    def get_transform(self):
+        geometry = (self._x0, self._y0, self._width, self._height, self.angle,
+                    self.rotation_point, self._aspect_ratio_correction)
+        geometry_was, outer, kept = self._kept
+        if kept is None or geometry != geometry_was or outer is not self._transform:
+            kept = super().get_transform()
+            self._kept = (geometry, self._transform, kept)
+        return kept

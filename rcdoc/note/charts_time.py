@@ -13,13 +13,13 @@ from collections.abc import Mapping, Sequence
 import numpy as np
 from matplotlib import ticker
 from matplotlib.lines import Line2D
-from matplotlib.patches import Patch
+from matplotlib.patches import Patch, StepPatch
 
 from rcdoc.note import palette as pal
 from rcdoc.note.charts import (_UNSCALED_UNITS, HALF_WIDTH_IN, _arr, _AxisEngFormatter, _check_fig_id,
                                _eng, _finish, _finite, _grid, _legend, _log_axis, _new_figure,
                                _OffsetFormatter, _OffsetLocator, _same_shape, _styled,
-                               _tick_formatter, _unit_symbol, WIDTH_IN)
+                               _tick_formatter, _unit_symbol, _vline, _vspan, WIDTH_IN)
 from rcdoc.note.charts_reuse import reused_figure
 
 
@@ -137,11 +137,11 @@ def histogram(fig_id: str, samples, *, nominal: float, lo: float | None = None, 
             if edges.size > 41:
                 edges = np.linspace(x_min, x_max, 41)
         counts, edges = np.histogram(x, bins=edges)
-        ax.stairs(counts, edges, fill=True, color=pal.BAND_INNER, zorder=2)
-        ax.stairs(counts, edges, color=pal.NOMINAL, linewidth=0.7, zorder=2.1)
+        _bars(ax, counts, edges, fill=True, facecolor=pal.BAND_INNER, linewidth=0, zorder=2)
+        _bars(ax, counts, edges, fill=False, edgecolor=pal.NOMINAL, linewidth=0.7, zorder=2.1)
         handles = [Patch(facecolor=pal.BAND_INNER, edgecolor=pal.NOMINAL, linewidth=0.7,
                          label=f"{x.size} samples" + (", all one value" if single else ""))]
-        ax.axvline(nominal, color=pal.INK, linewidth=1.4, zorder=3)
+        _vline(ax, nominal, color=pal.INK, linewidth=1.4, zorder=3)
         handles.append(Line2D([], [], color=pal.INK, linewidth=1.4, label=f"nominal {_eng(nominal, unit)}"))
         left, right = _hist_range(data_lo, data_hi, lo, hi)
         ax.set_xlim(left, right)
@@ -164,6 +164,13 @@ def histogram(fig_id: str, samples, *, nominal: float, lo: float | None = None, 
         ax.set_ylabel("Samples per bin")
         _legend(fig, handles, max_cols=2)
         return _finish(fig, fig_id, title, fmt)
+
+
+def _bars(ax, counts, edges, **style) -> None:
+    """The patch ``ax.stairs`` adds (baseline 0, the colour given as face or edge colour),
+    without its data limits: the histogram sets both ranges itself, and the limits of a
+    step outline cost a curve per bin to work out."""
+    ax.add_artist(StepPatch(counts, edges, baseline=0, orientation="vertical", **style))
 
 
 def _hist_xaxis(ax, label: str, unit: str, nominal: float, single: bool) -> None:
@@ -204,13 +211,13 @@ def _hist_limit(ax, limit: float, below: bool, left: float, right: float, y: flo
     scale; True when an arrow was drawn."""
     if left <= limit <= right:
         a, b = (left, limit) if below else (limit, right)
-        ax.axvspan(a, b, facecolor=pal.LIMIT, edgecolor="none", zorder=0.5)
-        ax.axvline(limit, color=pal.LIMIT_EDGE, linewidth=1.2, zorder=2.5)
+        _vspan(ax, a, b, facecolor=pal.LIMIT, edgecolor="none", zorder=0.5)
+        _vline(ax, limit, color=pal.LIMIT_EDGE, linewidth=1.2, zorder=2.5)
         return False
     off_left = limit < left
     if off_left != below:
         # The whole visible axis is on the forbidden side: shade it.
-        ax.axvspan(left, right, facecolor=pal.LIMIT, edgecolor="none", zorder=0.5)
+        _vspan(ax, left, right, facecolor=pal.LIMIT, edgecolor="none", zorder=0.5)
     edge = left if off_left else right
     ax.annotate(f"limit {_eng(limit, unit)}", xy=(edge, y),
                 xytext=(20 if off_left else -20, 0), textcoords="offset points",
@@ -299,19 +306,31 @@ def _overview_figure(parsed: list):
 def _overview_axis(ax, group: list, xlabel: str) -> None:
     """The rows of one kind of frequency on a log axis of their own."""
     _grid(ax)
+    # The ranges and the nominal markers of a status are one line each (the pieces apart,
+    # NaN between them), not one per row: rows do not overlap, so the pixels are those of
+    # a line per row, for a fraction of the drawing time on a board of many stages.
+    ranges: dict = {"pass": ([], []), "fail": ([], [])}
+    nominals: dict = {"pass": ([], []), "fail": ([], [])}
     for i, (_, status, _, freqs) in enumerate(group):
-        color = pal.PASS if status == "pass" else pal.FAIL
         for k, (word, nom, f_min, f_max) in enumerate(freqs):
-            ax.plot([f_min, f_max], [i, i], color=color, linewidth=3.0, alpha=0.45,
-                    solid_capstyle="butt", zorder=2)
-            # Shape as well as colour: a circle passes, a cross fails (readable in grey print).
-            ax.plot([nom], [i], marker=_STATUS_MARKER[status], markersize=5.5, color=color,
-                    markeredgewidth=1.8, linestyle="none", zorder=3)
+            ranges[status][0].extend((f_min, f_max, np.nan))
+            ranges[status][1].extend((i, i, np.nan))
+            nominals[status][0].append(nom)
+            nominals[status][1].append(i)
             # The lower of two frequencies is labelled on its left, the others on their right.
             left = k == 0 and len(freqs) > 1
             ax.annotate(word + _eng(nom, "Hz"), xy=(f_min if left else f_max, i),
                         xytext=(-6 if left else 6, 0), textcoords="offset points",
                         ha="right" if left else "left", va="center", color=pal.INK, zorder=4)
+    for status in ("pass", "fail"):
+        if not nominals[status][0]:
+            continue
+        color = pal.PASS if status == "pass" else pal.FAIL
+        ax.plot(*ranges[status], color=color, linewidth=3.0, alpha=0.45, solid_capstyle="butt",
+                zorder=2)
+        # Shape as well as colour: a circle passes, a cross fails (readable in grey print).
+        ax.plot(*nominals[status], marker=_STATUS_MARKER[status], markersize=5.5, color=color,
+                markeredgewidth=1.8, linestyle="none", zorder=3)
     lo = min(q[2] for p in group for q in p[3])
     hi = max(q[3] for p in group for q in p[3])
     # At least a decade on each side keeps single stages readable and leaves room for values.
