@@ -181,9 +181,13 @@ class Evaluator(PartStresses):
         lo, hi = lo.astype(float), hi.astype(float)
         fc = sweep_math.confirmed_crossing(self.response, thr, lo, hi, side == "up")
         todo = np.flatnonzero(ok & np.isnan(fc))          # the rows it does not serve
+        if todo.size:       # Newton's steps where they converge (confirmed as the closed form)
+            fc[todo] = sweep_math.newton_crossing(self.response, todo, thr[todo], lo[todo],
+                                                  hi[todo], side == "up")
+            todo = todo[np.isnan(fc[todo])]
         lo, hi, t = lo[todo], hi[todo], thr[todo]
         probe = self.response.rows(todo)
-        for _ in range(CORNER_ITERATIONS):
+        for _ in range(CORNER_ITERATIONS if todo.size else 0):
             mid = np.sqrt(lo * hi)
             under = probe.db(mid) < t
             if side == "up":

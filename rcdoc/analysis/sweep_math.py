@@ -182,9 +182,54 @@ def confirmed_crossing(response, thr_db: np.ndarray, lo_hz: np.ndarray, hi_hz: n
     f = level_crossing(r.gain, r.zeros, r.poles, r.pencil.sigma, 10 ** (thr_db / 10),
                        lo_hz, hi_hz)
     f[~r.ok] = np.nan
+    return _confirmed(r, f, np.arange(f.size), thr_db, falling)
+
+
+def _confirmed(response, f: np.ndarray, rows: np.ndarray, thr_db: np.ndarray,
+               falling: bool) -> np.ndarray:
+    """f (one per row of ``rows``), NaN where db(H) at f·(1 ∓ CLOSED_FORM_CHECK), evaluated
+    as the bisection does, is not on the two sides of thr_db (above then below if
+    ``falling``, else the reverse)."""
     idx = np.flatnonzero(np.isfinite(f))
     if idx.size:
-        under_hi = db(r.at_rows(f[idx] * (1 + CLOSED_FORM_CHECK), idx)) < thr_db[idx]
-        under_lo = db(r.at_rows(f[idx] * (1 - CLOSED_FORM_CHECK), idx)) < thr_db[idx]
+        at = rows[idx]
+        under_hi = db(response.at_rows(f[idx] * (1 + CLOSED_FORM_CHECK), at)) < thr_db[idx]
+        under_lo = db(response.at_rows(f[idx] * (1 - CLOSED_FORM_CHECK), at)) < thr_db[idx]
         f[idx[(under_hi == under_lo) | (under_hi != falling)]] = np.nan
     return f
+
+
+NEWTON_ITERATIONS = 12      # safeguarded Newton steps at most (quadratic: 4 to 6 do, normally)
+NEWTON_TOL = 1e-13          # stop when the step in log-frequency is below this
+
+
+def newton_crossing(response, rows: np.ndarray, thr_db: np.ndarray, lo_hz: np.ndarray,
+                    hi_hz: np.ndarray, falling: bool) -> np.ndarray:
+    """Per row of ``rows`` the frequency in [lo_hz, hi_hz] where the gain crosses thr_db,
+    by Newton's method on dB against log-frequency, the slope from the poles and zeros
+    (Response.rows(...).db_slope), kept inside the bracket (a step leaving it bisects
+    instead); NaN where a row's factors are unsafe, it did not converge, or the answer
+    is not confirmed as the closed form's is (``_confirmed``: within CLOSED_FORM_CHECK
+    of the bisection's). The bisection then serves those rows."""
+    probe = response.rows(rows)
+    a, b = np.log(lo_hz), np.log(hi_hz)
+    x = 0.5 * (a + b)
+    done = np.zeros(x.shape, dtype=bool)
+    with np.errstate(all="ignore"):
+        for _ in range(NEWTON_ITERATIONS):
+            g, slope = probe.db_slope(np.exp(x))
+            g = g - thr_db
+            under = g < 0                      # the crossing lies below x when falling
+            if falling:
+                b, a = np.where(under, x, b), np.where(under, a, x)
+            else:
+                a, b = np.where(under, x, a), np.where(under, b, x)
+            nxt = x - g / slope
+            inside = np.isfinite(nxt) & (nxt >= a) & (nxt <= b)     # x itself is a or b
+            nxt = np.where(inside, nxt, 0.5 * (a + b))
+            done = np.abs(nxt - x) <= NEWTON_TOL * np.maximum(np.abs(x), 1.0)
+            x = np.where(np.isfinite(g), nxt, np.nan)
+            if np.all(done | np.isnan(x)):
+                break
+    f = np.where(done, np.exp(x), np.nan)
+    return _confirmed(response, f, rows, thr_db, falling)
