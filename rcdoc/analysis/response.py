@@ -144,33 +144,43 @@ class Rows:
         return out
 
 
-    def db_slope(self, f_hz: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    def db_slope(self, f_hz: np.ndarray, curvature: bool = False):
         """(20·log10|H|, its derivative in dB per neper of frequency) of each row at its
         own frequency, from the factors alone: d ln|H| / d ln ω = Re Σ u/(u + c) over
-        the zeros minus over the poles, u = λ·jω (each factor is u + c). Rows whose
-        zero-pole-gain form is not safe get NaN (no direct solve: a Newton step's
-        caller falls back to its bisection there)."""
+        the zeros minus over the poles, u = λ·jω (each factor is u + c); with
+        ``curvature`` also the second derivative, Re Σ ± u·c/(u + c)² (du/d ln ω = u).
+        Rows whose zero-pole-gain form is not safe get NaN (no direct solve: a Newton
+        step's caller falls back to its bisection or golden section there)."""
         f = np.asarray(f_hz, dtype=float)
         r = self.response
         if r.through:
-            return np.zeros(f.shape), np.zeros(f.shape)
+            zero = np.zeros(f.shape)
+            return (zero, zero, zero) if curvature else (zero, zero)
         jw = 2j * math.pi * f
         with np.errstate(all="ignore"):
             h = self.gain.copy()
             slope = np.zeros(f.size, dtype=complex)
+            curve = np.zeros(f.size, dtype=complex) if curvature else None
             for sign, (lams, consts) in ((1.0, self.zeros), (-1.0, self.poles)):
                 for lam, const in zip(lams, consts):
                     u = lam * jw
                     fac = u + const
                     h = h * fac if sign > 0 else h / fac
-                    slope += sign * (u / fac)
+                    q = u / fac
+                    slope += sign * q
+                    if curvature:
+                        curve += sign * (q * (const / fac))
             out = np.abs(h)
             np.log(out, out=out)
             out *= _DB_PER_NEPER
             d = slope.real * _DB_PER_NEPER
+            dd = curve.real * _DB_PER_NEPER if curvature else None
         bad = ~(self.ok & np.isfinite(out) & np.isfinite(d))
         out[bad], d[bad] = np.nan, np.nan
-        return out, d
+        if not curvature:
+            return out, d
+        dd[bad | ~np.isfinite(dd)] = np.nan
+        return out, d, dd
 
 
 def _factors(sigma: float, eig: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
