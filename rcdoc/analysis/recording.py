@@ -159,10 +159,6 @@ class Recorder:
             if not (name == self.homed and self.inplace):     # else written already
                 self._store(name, n0 + 1, y, span)
 
-    def store(self, name: str, n: int, y: np.ndarray) -> None:
-        """Probe ``name``'s values y (m, s), time-major, at instants n .. n+m−1."""
-        self._store(name, n, y)
-
     def _store(self, name: str, n: int, y: np.ndarray, span=None) -> None:
         red = self.reduce.get(name)
         if red is None:             # time-major: a run is one contiguous block

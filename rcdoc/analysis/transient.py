@@ -198,10 +198,9 @@ def _march(
 
 
 def _constant_march(M: np.ndarray, k0: np.ndarray, k1: np.ndarray, x: np.ndarray, u: float,
-                    weights: np.ndarray, sink: Recorder, steps: int) -> None:
-    """The probes of a march whose input holds u at every step (a step drive) at instants
-    1 .. steps, handed to ``sink`` (a Recorder: recorded probes are written into their
-    rows, the others folded into their reductions); instant 0 is the caller's.
+                    weights: np.ndarray, outs: list, ss: slice, steps: int) -> None:
+    """The recorded probes of a march whose input holds u at every step (a step drive),
+    written into outs (T, S) rows 1 .. steps for the samples ``ss``; row 0 is the caller's.
 
     With g = (k0 + k1)·u the recursion z[n+1] = M_DD·z[n] + g_D of the marched states
     gives z[n0+l] = P_l·z[n0] + Q_l with P_l = M_DD^l and Q_l = (I + ... + M_DD^(l−1))·g_D,
@@ -228,18 +227,14 @@ def _constant_march(M: np.ndarray, k0: np.ndarray, k1: np.ndarray, x: np.ndarray
     rows = np.einsum("pis,lijs->lpjs", A, P[:R])                     # (R, probes, d+1, s)
     rows[:, :, d] += np.einsum("pns,ns->ps", wt, g)
     z = np.ascontiguousarray(x.T[dyn])                               # (d, s)
-    tmp = np.empty((R, s))
     for n0 in range(0, steps, R):
         m = min(R, steps - n0)
-        for p, name in enumerate(sink.names):
-            kept = name not in sink.reduce        # recorded: straight into its rows
-            y = sink.out[name][n0 + 1:n0 + 1 + m, sink.ss] if kept else tmp[:m]
+        for p, out in enumerate(outs):
+            y = out[n0 + 1:n0 + 1 + m, ss]
             np.multiply(rows[:m, p, 0], z[0], out=y)
             for j in range(1, d):
                 y += rows[:m, p, j] * z[j]
             y += rows[:m, p, d]
-            if not kept:
-                sink.store(name, n0 + 1, y)
         z = np.einsum("kjs,js->ks", P[m, :, :d], z) + P[m, :, d]
 
 
@@ -404,9 +399,8 @@ def transient(
     samples, steps = system.samples, uu.shape[1]
     use_dc = initial == "dc" and not _dc_singular(system)
     chunk = _chunk(system.size, steps, uu.shape[0] != 1)
-    # One input held at every instant (a step): in closed form, with or without
-    # reductions (so that an Evaluator's output is the same numbers either way).
-    constant = uu.shape[0] == 1 and bool(np.all(uu == uu[0, 0]))
+    # One input held at every instant (a step) and every probe recorded: in closed form.
+    constant = uu.shape[0] == 1 and not reduce and bool(np.all(uu == uu[0, 0]))
 
     for s0 in range(0, samples, chunk):
         ss = slice(s0, s0 + chunk)
@@ -424,7 +418,8 @@ def transient(
         sink = Recorder(spec, reduce, out, ss, steps)
         sink.initial(x)
         if constant:
-            _constant_march(M, k0, k1, x, float(uc[0, 0]), spec.weights[ss], sink, steps - 1)
+            _constant_march(M, k0, k1, x, float(uc[0, 0]), spec.weights[ss],
+                            [out[name] for name in spec.names], ss, steps - 1)
         else:
             _march(M, k0, k1, x, uc[:, :-1], uc[:, 1:], sink)
     return _results(spec, out, reduce, h, periodic=False)
