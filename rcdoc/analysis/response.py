@@ -161,15 +161,26 @@ class Rows:
             h = self.gain.copy()
             slope = np.zeros(f.size, dtype=complex)
             curve = np.zeros(f.size, dtype=complex) if curvature else None
-            for sign, (lams, consts) in ((1.0, self.zeros), (-1.0, self.poles)):
+            for zero, (lams, consts) in ((True, self.zeros), (False, self.poles)):
                 for lam, const in zip(lams, consts):
                     u = lam * jw
                     fac = u + const
-                    h = h * fac if sign > 0 else h / fac
-                    q = u / fac
-                    slope += sign * q
+                    inv = 1.0 / fac             # one complex division per factor
+                    if zero:
+                        h *= fac
+                    else:
+                        h *= inv
+                    q = u * inv
+                    if zero:
+                        slope += q
+                    else:
+                        slope -= q
                     if curvature:
-                        curve += sign * (q * (const / fac))
+                        q *= const * inv
+                        if zero:
+                            curve += q
+                        else:
+                            curve -= q
             out = np.abs(h)
             np.log(out, out=out)
             out *= _DB_PER_NEPER

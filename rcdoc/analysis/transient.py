@@ -174,6 +174,7 @@ def _march(
     buf = np.empty((run + 1, len(dyn), k0t.shape[1]))
     home = getattr(sink, "home", None)
     forcing = _Forcing(kd0, kd1, u0T, u1T)
+    shared = forcing.terms(steps) if forcing.shared else None
     z, prev = x.T[dyn], None
     for n0 in range(0, steps, run):
         m = min(run, steps - n0)
@@ -185,7 +186,10 @@ def _march(
             np.multiply(md[0], cur[0], out=nxt)
             for i in range(1, len(md)):
                 nxt += md[i] * cur[i]
-            forcing.add(nxt, n0 + l)
+            if shared is not None:
+                nxt += shared[n0 + l]
+            else:
+                forcing.add(nxt, n0 + l)
         if sink is not None:
             sink(n0, b[:m + 1])
         if n0 + m == steps:
@@ -251,6 +255,15 @@ class _Forcing:
             new = np.flatnonzero(np.r_[True, np.any(pair[1:] != pair[:-1], axis=1)])
             self.at = {int(n): kd0 * u0T[n] + kd1 * u1T[n] for n in new}
             self.g = None
+
+    def terms(self, steps: int) -> list:
+        """The shared input's term at every step, as references to the few arrays
+        computed where it changes (the march adds them: the same numbers as ``add``)."""
+        out, g = [], None
+        for n in range(steps):
+            g = self.at.get(n, g)
+            out.append(g)
+        return out
 
     def add(self, nxt: np.ndarray, n: int) -> None:
         if self.shared:
