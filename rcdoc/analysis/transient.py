@@ -210,10 +210,10 @@ def _constant_march(M: np.ndarray, k0: np.ndarray, k1: np.ndarray, x: np.ndarray
     gives z[n0+l] = P_l·z[n0] + Q_l with P_l = M_DD^l and Q_l = (I + ... + M_DD^(l−1))·g_D,
     and a probe w·x[n0+l] = (w·M[:, D]·P_(l−1))·z[n0] + (w·M[:, D]·Q_(l−1) + w·g) (the
     other states are M[:, D]·z + g of the step before). Those rows and constants are
-    formed once for l = 1 .. RUN; a run of RUN instants of a probe is then d + 1 products
-    of (RUN, samples) slices, and the d marched states are stepped once per run (the
-    per-step march costs d² + d products per step). The same recursion regrouped: equal
-    to rounding (tests/test_march.py)."""
+    formed once for l = 1 .. RUN; a run of RUN instants of a probe is then one sum of
+    d + 1 products per instant and sample, and the d marched states are stepped once
+    per run (the per-step march costs d² + d products per step, and forms the probe
+    after). The same recursion regrouped: equal to rounding (tests/test_march.py)."""
     Mt = np.moveaxis(M, 0, -1)                                      # (N, N, s)
     dyn = [j for j in range(Mt.shape[1]) if np.any(Mt[:, j, :] != 0)] or [0]
     d, s, R = len(dyn), Mt.shape[2], min(RUN, steps)
@@ -230,16 +230,15 @@ def _constant_march(M: np.ndarray, k0: np.ndarray, k1: np.ndarray, x: np.ndarray
     A = np.einsum("pns,nds->pds", wt, mcols)                         # (probes, d, s)
     rows = np.einsum("pis,lijs->lpjs", A, P[:R])                     # (R, probes, d+1, s)
     rows[:, :, d] += np.einsum("pns,ns->ps", wt, g)
-    z = np.ascontiguousarray(x.T[dyn])                               # (d, s)
+    # z with a last row of ones: a run of a probe is then one sum of products over
+    # j (einsum, no temporaries), the constant column included.
+    z = np.ones((d + 1, s))
+    z[:d] = x.T[dyn]
     for n0 in range(0, steps, R):
         m = min(R, steps - n0)
         for p, out in enumerate(outs):
-            y = out[n0 + 1:n0 + 1 + m, ss]
-            np.multiply(rows[:m, p, 0], z[0], out=y)
-            for j in range(1, d):
-                y += rows[:m, p, j] * z[j]
-            y += rows[:m, p, d]
-        z = np.einsum("kjs,js->ks", P[m, :, :d], z) + P[m, :, d]
+            np.einsum("ljs,js->ls", rows[:m, p], z, out=out[n0 + 1:n0 + 1 + m, ss])
+        z[:d] = np.einsum("kjs,js->ks", P[m], z)
 
 
 class _Forcing:
