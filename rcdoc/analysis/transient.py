@@ -224,21 +224,37 @@ def _constant_march(M: np.ndarray, k0: np.ndarray, k1: np.ndarray, x: np.ndarray
     for j in range(d):
         P[0, j, j] = 1.0
     for l in range(1, R + 1):
-        P[l] = np.einsum("kis,ijs->kjs", mdd, P[l - 1])
+        P[l] = _mix(mdd, P[l - 1])
         P[l, :, d] += gd
     wt = np.ascontiguousarray(np.moveaxis(weights, 0, -1))         # (probes, N, s)
-    A = np.einsum("pns,nds->pds", wt, mcols)                         # (probes, d, s)
-    rows = np.einsum("pis,lijs->lpjs", A, P[:R])                     # (R, probes, d+1, s)
-    rows[:, :, d] += np.einsum("pns,ns->ps", wt, g)
-    # z with a last row of ones: a run of a probe is then one sum of products over
-    # j (einsum, no temporaries), the constant column included.
-    z = np.ones((d + 1, s))
-    z[:d] = x.T[dyn]
+    A = _mix(wt, mcols)                                              # (probes, d, s)
+    c = _mix(wt, g[:, None, :])[:, 0]                                # (probes, s)
+    rows = np.stack([_mix(A, P[l]) for l in range(R)])               # (R, probes, d+1, s)
+    rows[:, :, d] += c
+    z = np.ones((d + 1, 1, s))                  # the states and a row of ones
+    z[:d, 0] = x.T[dyn]
+    tmp = np.empty((R, s))
     for n0 in range(0, steps, R):
         m = min(R, steps - n0)
         for p, out in enumerate(outs):
-            np.einsum("ljs,js->ls", rows[:m, p], z, out=out[n0 + 1:n0 + 1 + m, ss])
-        z[:d] = np.einsum("kjs,js->ks", P[m], z)
+            y = out[n0 + 1:n0 + 1 + m, ss]
+            np.multiply(rows[:m, p, 0], z[0, 0], out=y)
+            for j in range(1, d):
+                np.multiply(rows[:m, p, j], z[j, 0], out=tmp[:m])
+                y += tmp[:m]
+            y += rows[:m, p, d]
+        z[:d] = _mix(P[m], z)
+
+
+def _mix(A: np.ndarray, B: np.ndarray) -> np.ndarray:
+    """Σ_i A[:, i]·B[i] per sample: A (k, n, s), B (n, j, s) -> (k, j, s), summed over
+    i in order by elementwise products (numpy's einsum may change the order with the
+    layout, e.g. for a block of one sample; a row's numbers must not depend on its
+    block)."""
+    out = A[:, 0, None, :] * B[0][None]
+    for i in range(1, A.shape[1]):
+        out += A[:, i, None, :] * B[i][None]
+    return out
 
 
 class _Forcing:
