@@ -120,14 +120,16 @@ def test_march_of_the_dynamic_states_equals_the_full_march(seed):
             _close(got[name], ref[name])
 
 
-def test_reductions_of_the_dynamic_march_equal_those_of_the_full_march():
+@pytest.mark.parametrize("step", [False, True])
+def test_reductions_of_the_dynamic_march_equal_those_of_the_full_march(step):
     # The reductions (numpy max, sum, indexing: a general-purpose library) of the full
-    # march's probes, against the ones folded on the fly from the marched states.
+    # march's probes, against the ones folded on the fly from the marched states (for
+    # a step, from the closed-form runs).
     rng = np.random.default_rng(7)
     net, vals = _random_network(rng, 4)
     vals = _spread(vals, 6, rng)
     t = np.linspace(0.0, 1e-3, 203)
-    u = np.where(t < 4e-4, 3.0, 0.0)
+    u = np.full(t.size, 3.0) if step else np.where(t < 4e-4, 3.0, 0.0)
     names = [e for e in _probes(net) if e.startswith("v:")]
     red = Reduce(windows=((1, 100), (100, t.size)), at=(0, 1, 2, 3, 99, t.size - 1))
     got = engine.transient(net, vals, t, u, names, initial="rest", input_mode="hold",
@@ -195,3 +197,53 @@ def test_repeated_pole_matches_the_textbook():
     t = np.linspace(0.0, 20 * tau, 4001)
     y = engine.step(net, {"r1": 1e3, "c1": 1e-6, "r2": 1e3, "c2": 1e-6}, t)[0]
     np.testing.assert_allclose(y, 1 - np.exp(-t / tau) * (1 + t / tau), atol=1e-9)
+
+
+def _two_sections(r1, c1, r2, c2, buffered=False):
+    """Two RC sections (a unity buffer between them if ``buffered``: then the poles are
+    −1/(r1·c1) and −1/(r2·c2), repeated where those are equal)."""
+    if buffered:
+        return Network(elements=(Element("r1", "R", "in", "a"), Element("c1", "C", "a", "0"),
+                                 Element("r2", "R", "b", "out"), Element("c2", "C", "out", "0")),
+                       drive="in", output="out", opamps=(OpAmp("u1", plus="a", minus="b", out="b"),)
+                       ), {"r1": r1, "c1": c1, "r2": r2, "c2": c2}
+    return Network(elements=(Element("r1", "R", "in", "a"), Element("c1", "C", "a", "0"),
+                             Element("r2", "R", "a", "out"), Element("c2", "C", "out", "0")),
+                   drive="in", output="out"), {"r1": r1, "c1": c1, "r2": r2, "c2": c2}
+
+
+def _constant_cases():
+    a = np.array
+    yield "decades apart", _two_sections(a([1.0, 1.2]), a([1e-6, 1e-6]), a([1e6, 1e6]), a([1e-11, 1e-8]))
+    yield "stiff", _two_sections(a([1.0, 10.0]), a([1e-9, 1e-9]), a([1e5, 1e5]), a([1e-6, 1e-6]))
+    yield "repeated", _two_sections(a([1e3, 1e3]), a([1e-6, 1e-6]), a([1e3, 1e3 * (1 + 1e-7)]),
+                                    a([1e-6, 1e-6]), buffered=True)
+    for q in (0.5, 300.0):
+        yield f"Q {q}", _series_rlc(np.array([q, q * 1.01]))
+    yield "unstable", _growing_rc()
+    yield "single", _single_rc()
+
+
+@pytest.mark.parametrize("case", list(range(7)))
+def test_step_in_closed_form_runs_equals_the_per_step_march(case):
+    # The step drive's march in closed form per run (z[n0+l] = M^l·z[n0] + S_l·g) is the
+    # per-step recursion regrouped: on the production grid length (4000 instants), for
+    # time constants decades apart, a stiff pair, nearly repeated poles, Q of 0.5 and 300
+    # and a growing (unstable) sample, every probe agrees with the full march to about
+    # 1e-12 of its own size (common practice: two formulations of one recurrence).
+    name, (net, vals) = list(_constant_cases())[case]
+    poles = polemod.poles(net, vals)
+    decay = np.abs(poles.real[np.isfinite(poles)])
+    t = np.linspace(0.0, 24.0 / np.min(decay[decay > 0]), 4000)
+    if name == "unstable":
+        t = t[:400]                                 # e^(t/RC) grows; keep it finite
+    probes = _probes(net)
+    got = engine.transient(net, vals, t, np.full(t.size, 3.3), probes, initial="rest")
+    ref = _full_march(net, vals, t, np.full(t.size, 3.3), probes, "rest")
+    for p in probes:
+        _close(got[p], ref[p], rel=2e-12)
+    if name == "repeated":
+        # Textbook: the step response of 1/(1 + sτ)² is 1 − e^(−t/τ)·(1 + t/τ).
+        tau = 1e-3
+        np.testing.assert_allclose(got[net.output][0] / 3.3,
+                                   1 - np.exp(-t / tau) * (1 + t / tau), atol=1e-9)

@@ -107,3 +107,26 @@ def test_walk_through_the_nominal_detects_a_turn():
     assert worstcase.turns_back(-(np.linspace(-1, 1, worstcase.LINE_POINTS)) ** 2, 1)
     assert not worstcase.turns_back(np.linspace(-1, 1, worstcase.LINE_POINTS), 1)
     assert not worstcase.turns_back(np.zeros(worstcase.LINE_POINTS), 1)
+
+
+def test_seen_points_are_found_by_their_bytes_as_a_dict_finds_them():
+    # The search's bookkeeping (worstcase._Seen) against the method it replaced: a
+    # dict keyed by each row's bytes (Python's own dict), points numbered in the order
+    # of their first row; rows of -0.0 and 0.0, NaN and repeats included.
+    from rcdoc.analysis.worstcase import _Seen
+    rng = np.random.default_rng(0)
+    for trial in range(100):
+        p = int(rng.integers(1, 5))
+        seen, number, points = _Seen(p, 3), {}, []
+        pool = rng.choice([0.0, -0.0, 1.0, 2.5, np.nan, 1e-300], size=(30, p))
+        for _ in range(6):
+            rows = pool[rng.integers(0, 30, int(rng.integers(1, 40)))]
+            got_points, at, _ = seen.merge(rows, [0])
+            want = []
+            for row in rows:
+                n = number.setdefault(row.tobytes(), len(number))
+                if n == len(points):
+                    points.append(row)
+                want.append(n)
+            assert np.array_equal(at, want)
+            assert np.array_equal(got_points, np.array(points), equal_nan=True)

@@ -181,9 +181,13 @@ class Evaluator(PartStresses):
         lo, hi = lo.astype(float), hi.astype(float)
         fc = sweep_math.confirmed_crossing(self.response, thr, lo, hi, side == "up")
         todo = np.flatnonzero(ok & np.isnan(fc))          # the rows it does not serve
+        if todo.size:       # Newton's steps where they converge (confirmed as the closed form)
+            fc[todo] = sweep_math.newton_crossing(self.response, todo, thr[todo], lo[todo],
+                                                  hi[todo], side == "up")
+            todo = todo[np.isnan(fc[todo])]
         lo, hi, t = lo[todo], hi[todo], thr[todo]
         probe = self.response.rows(todo)
-        for _ in range(CORNER_ITERATIONS):
+        for _ in range(CORNER_ITERATIONS if todo.size else 0):
             mid = np.sqrt(lo * hi)
             under = probe.db(mid) < t
             if side == "up":
@@ -249,19 +253,29 @@ class Evaluator(PartStresses):
         """
         g = self.gain_db
         j = np.argmax(g, axis=1)
-        _, _, gc, gd = self._golden(j, PEAK_ITERATIONS, top=True)
-        return np.fmax(g[np.arange(self.rows), j], np.fmax(gc, gd))
+        f = self.freqs_hz
+        # Newton's steps on the slope where they serve (sweep_math.newton_peak), the
+        # golden section on the other rows.
+        top = sweep_math.newton_peak(self.response, np.arange(self.rows),
+                                     np.log(f[np.maximum(j - 1, 0)]),
+                                     np.log(f[np.minimum(j + 1, len(f) - 1)]))
+        rest = np.flatnonzero(np.isnan(top))
+        if rest.size:
+            _, _, gc, gd = self._golden(j[rest], PEAK_ITERATIONS, top=True, rows=rest)
+            top[rest] = np.fmax(gc, gd)
+        return np.fmax(g[np.arange(self.rows), j], top)
 
-    def _golden(self, j: np.ndarray, iterations: int, top: bool):
+    def _golden(self, j: np.ndarray, iterations: int, top: bool, rows=None):
         """Golden-section search in log-frequency over the two sweep steps around
-        column j of each row, for the top (``top``) or the bottom of the gain;
-        returns the last two probes (c, d in log-Hz) and their gains in dB."""
+        column j of each row (of the rows ``rows`` if given, an index array), for the
+        top (``top``) or the bottom of the gain; returns the last two probes (c, d in
+        log-Hz) and their gains in dB."""
         f = self.freqs_hz
         a = np.log(f[np.maximum(j - 1, 0)])
         b = np.log(f[np.minimum(j + 1, len(f) - 1)])
         k = (math.sqrt(5.0) - 1) / 2
         c, d = b - k * (b - a), a + k * (b - a)
-        probe = self.response.rows()
+        probe = self.response.rows(rows)
         gc, gd = probe.db(np.exp(c)), probe.db(np.exp(d))
         for _ in range(iterations):
             left = gc >= gd if top else gc <= gd     # the extreme lies in [a, d]

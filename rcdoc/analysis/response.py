@@ -144,6 +144,56 @@ class Rows:
         return out
 
 
+    def db_slope(self, f_hz: np.ndarray, curvature: bool = False):
+        """(20·log10|H|, its derivative in dB per neper of frequency) of each row at its
+        own frequency, from the factors alone: d ln|H| / d ln ω = Re Σ u/(u + c) over
+        the zeros minus over the poles, u = λ·jω (each factor is u + c); with
+        ``curvature`` also the second derivative, Re Σ ± u·c/(u + c)² (du/d ln ω = u).
+        Rows whose zero-pole-gain form is not safe get NaN (no direct solve: a Newton
+        step's caller falls back to its bisection or golden section there)."""
+        f = np.asarray(f_hz, dtype=float)
+        r = self.response
+        if r.through:
+            zero = np.zeros(f.shape)
+            return (zero, zero, zero) if curvature else (zero, zero)
+        jw = 2j * math.pi * f
+        with np.errstate(all="ignore"):
+            h = self.gain.copy()
+            slope = np.zeros(f.size, dtype=complex)
+            curve = np.zeros(f.size, dtype=complex) if curvature else None
+            for zero, (lams, consts) in ((True, self.zeros), (False, self.poles)):
+                for lam, const in zip(lams, consts):
+                    u = lam * jw
+                    fac = u + const
+                    inv = 1.0 / fac             # one complex division per factor
+                    if zero:
+                        h *= fac
+                    else:
+                        h *= inv
+                    q = u * inv
+                    if zero:
+                        slope += q
+                    else:
+                        slope -= q
+                    if curvature:
+                        q *= const * inv
+                        if zero:
+                            curve += q
+                        else:
+                            curve -= q
+            out = np.abs(h)
+            np.log(out, out=out)
+            out *= _DB_PER_NEPER
+            d = slope.real * _DB_PER_NEPER
+            dd = curve.real * _DB_PER_NEPER if curvature else None
+        bad = ~(self.ok & np.isfinite(out) & np.isfinite(d))
+        out[bad], d[bad] = np.nan, np.nan
+        if not curvature:
+            return out, d
+        dd[bad | ~np.isfinite(dd)] = np.nan
+        return out, d, dd
+
+
 def _factors(sigma: float, eig: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """(λ, 1 − σ·λ) per pole or zero, one contiguous row each: (K, S) and (K, S)."""
     return np.ascontiguousarray(eig.T), np.ascontiguousarray((1.0 - sigma * eig).T)

@@ -174,6 +174,7 @@ def _march(
     buf = np.empty((run + 1, len(dyn), k0t.shape[1]))
     home = getattr(sink, "home", None)
     forcing = _Forcing(kd0, kd1, u0T, u1T)
+    shared = forcing.terms(steps) if forcing.shared else None
     z, prev = x.T[dyn], None
     for n0 in range(0, steps, run):
         m = min(run, steps - n0)
@@ -185,7 +186,10 @@ def _march(
             np.multiply(md[0], cur[0], out=nxt)
             for i in range(1, len(md)):
                 nxt += md[i] * cur[i]
-            forcing.add(nxt, n0 + l)
+            if shared is not None:
+                nxt += shared[n0 + l]
+            else:
+                forcing.add(nxt, n0 + l)
         if sink is not None:
             sink(n0, b[:m + 1])
         if n0 + m == steps:
@@ -195,6 +199,62 @@ def _march(
     full = np.einsum("kjs,js->ks", mcols, prev) + k0t * u0T[-1] + k1t * u1T[-1]
     full[dyn] = z
     return np.ascontiguousarray(full.T)
+
+
+def _constant_march(M: np.ndarray, k0: np.ndarray, k1: np.ndarray, x: np.ndarray, u: float,
+                    weights: np.ndarray, outs: list, ss: slice, steps: int) -> None:
+    """The recorded probes of a march whose input holds u at every step (a step drive),
+    written into outs (T, S) rows 1 .. steps for the samples ``ss``; row 0 is the caller's.
+
+    With g = (k0 + k1)·u the recursion z[n+1] = M_DD·z[n] + g_D of the marched states
+    gives z[n0+l] = P_l·z[n0] + Q_l with P_l = M_DD^l and Q_l = (I + ... + M_DD^(l−1))·g_D,
+    and a probe w·x[n0+l] = (w·M[:, D]·P_(l−1))·z[n0] + (w·M[:, D]·Q_(l−1) + w·g) (the
+    other states are M[:, D]·z + g of the step before). Those rows and constants are
+    formed once for l = 1 .. RUN; a run of RUN instants of a probe is then one sum of
+    d + 1 products per instant and sample, and the d marched states are stepped once
+    per run (the per-step march costs d² + d products per step, and forms the probe
+    after). The same recursion regrouped: equal to rounding (tests/test_march.py)."""
+    Mt = np.moveaxis(M, 0, -1)                                      # (N, N, s)
+    dyn = [j for j in range(Mt.shape[1]) if np.any(Mt[:, j, :] != 0)] or [0]
+    d, s, R = len(dyn), Mt.shape[2], min(RUN, steps)
+    mcols = np.ascontiguousarray(Mt[:, dyn, :])                     # (N, d, s)
+    g = np.ascontiguousarray(k0.T + k1.T) * u                      # (N, s)
+    mdd, gd = mcols[dyn], g[dyn]                                    # (d, d, s), (d, s)
+    P = np.zeros((R + 1, d, d + 1, s))          # columns 0..d−1: P_l; column d: Q_l
+    for j in range(d):
+        P[0, j, j] = 1.0
+    for l in range(1, R + 1):
+        P[l] = _mix(mdd, P[l - 1])
+        P[l, :, d] += gd
+    wt = np.ascontiguousarray(np.moveaxis(weights, 0, -1))         # (probes, N, s)
+    A = _mix(wt, mcols)                                              # (probes, d, s)
+    c = _mix(wt, g[:, None, :])[:, 0]                                # (probes, s)
+    rows = np.stack([_mix(A, P[l]) for l in range(R)])               # (R, probes, d+1, s)
+    rows[:, :, d] += c
+    z = np.ones((d + 1, 1, s))                  # the states and a row of ones
+    z[:d, 0] = x.T[dyn]
+    tmp = np.empty((R, s))
+    for n0 in range(0, steps, R):
+        m = min(R, steps - n0)
+        for p, out in enumerate(outs):
+            y = out[n0 + 1:n0 + 1 + m, ss]
+            np.multiply(rows[:m, p, 0], z[0, 0], out=y)
+            for j in range(1, d):
+                np.multiply(rows[:m, p, j], z[j, 0], out=tmp[:m])
+                y += tmp[:m]
+            y += rows[:m, p, d]
+        z[:d] = _mix(P[m], z)
+
+
+def _mix(A: np.ndarray, B: np.ndarray) -> np.ndarray:
+    """Σ_i A[:, i]·B[i] per sample: A (k, n, s), B (n, j, s) -> (k, j, s), summed over
+    i in order by elementwise products (numpy's einsum may change the order with the
+    layout, e.g. for a block of one sample; a row's numbers must not depend on its
+    block)."""
+    out = A[:, 0, None, :] * B[0][None]
+    for i in range(1, A.shape[1]):
+        out += A[:, i, None, :] * B[i][None]
+    return out
 
 
 class _Forcing:
@@ -210,6 +270,15 @@ class _Forcing:
             new = np.flatnonzero(np.r_[True, np.any(pair[1:] != pair[:-1], axis=1)])
             self.at = {int(n): kd0 * u0T[n] + kd1 * u1T[n] for n in new}
             self.g = None
+
+    def terms(self, steps: int) -> list:
+        """The shared input's term at every step, as references to the few arrays
+        computed where it changes (the march adds them: the same numbers as ``add``)."""
+        out, g = [], None
+        for n in range(steps):
+            g = self.at.get(n, g)
+            out.append(g)
+        return out
 
     def add(self, nxt: np.ndarray, n: int) -> None:
         if self.shared:
@@ -358,6 +427,8 @@ def transient(
     samples, steps = system.samples, uu.shape[1]
     use_dc = initial == "dc" and not _dc_singular(system)
     chunk = _chunk(system.size, steps, uu.shape[0] != 1)
+    # One input held at every instant (a step) and every probe recorded: in closed form.
+    constant = uu.shape[0] == 1 and not reduce and bool(np.all(uu == uu[0, 0]))
 
     for s0 in range(0, samples, chunk):
         ss = slice(s0, s0 + chunk)
@@ -374,7 +445,11 @@ def transient(
                 x = np.zeros(G.shape[:2])
         sink = Recorder(spec, reduce, out, ss, steps)
         sink.initial(x)
-        _march(M, k0, k1, x, uc[:, :-1], uc[:, 1:], sink)
+        if constant:
+            _constant_march(M, k0, k1, x, float(uc[0, 0]), spec.weights[ss],
+                            [out[name] for name in spec.names], ss, steps - 1)
+        else:
+            _march(M, k0, k1, x, uc[:, :-1], uc[:, 1:], sink)
     return _results(spec, out, reduce, h, periodic=False)
 
 

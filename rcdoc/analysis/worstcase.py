@@ -315,35 +315,54 @@ class Context:
 class _Seen:
     """Points of the box evaluated so far and their value per search; which values
     exist is kept apart (a metric may be NaN). Points are found again by their
-    bytes (bookkeeping of the search's candidates, no arithmetic)."""
+    bytes (bookkeeping of the search's candidates, no arithmetic): each row's bytes
+    are one numpy void value, looked up among the sorted bytes of the points known."""
 
     def __init__(self, parts: int, searches: int):
         self.points = np.zeros((0, parts))
         self.values = np.zeros((0, searches))
         self.known = np.zeros((0, searches), dtype=bool)
-        self.number: dict[bytes, int] = {}
+        self.key = np.dtype((np.void, 8 * parts)) if parts else None
+        self.sorted = np.zeros(0, dtype=self.key) if parts else None   # keys, sorted
+        self.number = np.zeros(0, dtype=np.intp)                       # their points
 
     def merge(self, rows: np.ndarray, ks: list[int]):
         """Add ``rows``; returns (points, the index of each row among them, the
-        indices of the points that lack a value of one of the searches ``ks``)."""
+        indices of the points that lack a value of one of the searches ``ks``).
+        New points are numbered in the order of their first row."""
         rows = np.ascontiguousarray(rows, dtype=float)
-        at = np.empty(len(rows), dtype=np.intp)
-        fresh = []
-        for i, row in enumerate(rows):
-            key = row.tobytes()
-            n = self.number.get(key)
-            if n is None:
-                n = self.number[key] = len(self.points) + len(fresh)
-                fresh.append(i)
-            at[i] = n
-        if fresh:
-            f = len(fresh)
-            self.points = np.concatenate([self.points, rows[fresh]])
-            self.values = np.concatenate([self.values, np.zeros((f, self.values.shape[1]))])
-            self.known = np.concatenate([self.known, np.zeros((f, self.known.shape[1]), bool)])
+        if self.key is None:               # no parts: every row is the one empty point
+            rows = rows.reshape(len(rows), 0)
+            if not len(self.points):
+                self._append(np.zeros((1, 0)))
+            at = np.zeros(len(rows), dtype=np.intp)
+        else:
+            keys = rows.view(self.key).reshape(-1)
+            uniq, first, inverse = np.unique(keys, return_index=True, return_inverse=True)
+            pos = np.searchsorted(self.sorted, uniq)
+            hit = pos < self.sorted.size
+            hit[hit] = self.sorted[pos[hit]] == uniq[hit]
+            num = np.empty(uniq.size, dtype=np.intp)
+            num[hit] = self.number[pos[hit]]
+            fresh = np.flatnonzero(~hit)
+            fresh = fresh[np.argsort(first[fresh], kind="stable")]   # first-seen order
+            num[fresh] = len(self.points) + np.arange(fresh.size)
+            if fresh.size:
+                self._append(rows[first[fresh]])
+                allkeys = np.concatenate([self.sorted, uniq[fresh]])
+                order = np.argsort(allkeys, kind="stable")
+                self.sorted = allkeys[order]
+                self.number = np.concatenate([self.number, num[fresh]])[order]
+            at = num[inverse.reshape(-1)]
         asked = np.unique(at)
         todo = asked[~np.all(self.known[asked][:, ks], axis=1)]
         return self.points, at, todo
+
+    def _append(self, new: np.ndarray) -> None:
+        f = len(new)
+        self.points = np.concatenate([self.points, new])
+        self.values = np.concatenate([self.values, np.zeros((f, self.values.shape[1]))])
+        self.known = np.concatenate([self.known, np.zeros((f, self.known.shape[1]), bool)])
 
     def store(self, idx: np.ndarray, k: int, vals: np.ndarray) -> None:
         self.values[idx, k] = vals
