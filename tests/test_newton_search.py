@@ -20,13 +20,13 @@ import math
 
 import numpy as np
 import pytest
-import scipy.optimize as so
 import scipy.signal as sg
 
 from rcdoc.analysis import sweep_math
 from rcdoc.analysis.evaluate import Evaluator
 
 from boards import mc_evaluator
+from test_sweep_math import sallen_key_corner
 
 HEAD = '[board]\nname = "Newton"\nrevision = "A"\ndate = "2026-01-01"\n'
 
@@ -100,18 +100,9 @@ def test_newton_corner_matches_brentq_on_the_textbook_response(tmp_path, monkeyp
     monkeypatch.setattr(sweep_math, "level_crossing", lambda gain, *a: np.full(gain.shape[0], np.nan))
     fc = _fresh(ev).corner()
     monkeypatch.undo()
-    # scipy.signal.freqs of 1/(s²·R1R2C1C2 + s·C2(R1 + R2) + 1), scipy.optimize.brentq on
-    # |H| = 1/√2 (the standard unity-gain result), a few rows
+    # scipy.signal.freqs and scipy.optimize.brentq (test_sweep_math.sallen_key_corner), a few rows
     for i in range(0, ev.rows, 50):
-        a = [v["r1"][i] * v["r2"][i] * v["c1"][i] * v["c2"][i],
-             v["c2"][i] * (v["r1"][i] + v["r2"][i]), 1.0]
-
-        def gap(f):
-            return abs(sg.freqs([1.0], a, worN=[2 * np.pi * f])[1][0]) - 1 / math.sqrt(2)
-        lo, hi = fc[i] * 0.999, fc[i] * 1.001
-        assert gap(lo) > 0 > gap(hi)
-        ref = so.brentq(gap, lo, hi, xtol=1e-14 * fc[i], rtol=1e-15)
-        assert abs(fc[i] / ref - 1) < 1e-9
+        assert abs(fc[i] / sallen_key_corner(v, i, fc[i]) - 1) < 1e-9
 
 
 @pytest.mark.parametrize("kind,parts,cap,extra", CASES)

@@ -147,6 +147,20 @@ def test_transposed_copy_is_numpys():
     assert t.flags.c_contiguous and np.array_equal(t, np.degrees(a).astype(np.float32).T)
 
 
+def sallen_key_corner(v, i, near):
+    """Row ``i``'s -3 dB corner of the unity-gain Sallen-Key low-pass: scipy.signal.freqs
+    of 1/(s²·R1R2C1C2 + s·C2(R1 + R2) + 1) (the standard unity-gain result) and
+    scipy.optimize.brentq on |H| = |H(0)|/√2, bracketed within 0.1 % of ``near``."""
+    a = [v["r1"][i] * v["r2"][i] * v["c1"][i] * v["c2"][i],
+         v["c2"][i] * (v["r1"][i] + v["r2"][i]), 1.0]
+
+    def gap(f):
+        return abs(sg.freqs([1.0], a, worN=[2 * np.pi * f])[1][0]) - 1 / math.sqrt(2)
+    lo, hi = near * 0.999, near * 1.001
+    assert gap(lo) > 0 > gap(hi)
+    return so.brentq(gap, lo, hi, xtol=1e-14 * near, rtol=1e-15)
+
+
 def bisection_corner(ev, monkeypatch):
     """The method replaced: the same Evaluator with the closed form switched off."""
     monkeypatch.setattr(sweep_math, "level_crossing",
@@ -178,18 +192,8 @@ def test_closed_form_corner_is_the_bisections(tmp_path, monkeypatch, kind, cap):
     if kind == "rc-lowpass":                         # 1/(2πRC), any circuits textbook
         assert np.max(np.abs(fc * 2 * np.pi * v["r"] * v["c"] - 1)) < 1e-9
     if kind == "sallen-key-lowpass":
-        # scipy.signal.freqs of 1/(s²·R1R2C1C2 + s·C2(R1 + R2) + 1) and scipy.optimize.brentq
-        # on |H| = |H(0)|/√2 (the standard unity-gain result), a few rows
-        for i in range(0, ev.rows, 60):
-            a = [v["r1"][i] * v["r2"][i] * v["c1"][i] * v["c2"][i],
-                 v["c2"][i] * (v["r1"][i] + v["r2"][i]), 1.0]
-
-            def gap(f):
-                return abs(sg.freqs([1.0], a, worN=[2 * np.pi * f])[1][0]) - 1 / math.sqrt(2)
-            lo, hi = fc[i] * 0.999, fc[i] * 1.001
-            assert gap(lo) > 0 > gap(hi)
-            ref_i = so.brentq(gap, lo, hi, xtol=1e-14 * fc[i], rtol=1e-15)
-            assert abs(fc[i] / ref_i - 1) < 1e-9
+        for i in range(0, ev.rows, 60):         # a few rows
+            assert abs(fc[i] / sallen_key_corner(v, i, fc[i]) - 1) < 1e-9
 
 
 def test_level_crossing_falls_back_where_it_cannot_decide():
