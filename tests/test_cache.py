@@ -250,6 +250,7 @@ def test_one_stage_drawn_by_a_worker_beside_the_front(project_file, tmp_path, mo
                         lambda ctx, part, **kw: rendered.append(part) or real(ctx, part, **kw))
     p = load_project(str(project_file))
     with build.WorkerPool(2, draw=True) as pool:
+        pool.warm()       # as the command does: without a fork server started early
         again = build.analyse_project(p, draw=True, jobs=2, out_dir=out, pool=pool)
     assert calls == ["hp"] and again.computed == ["hp"] and again.cached == ["lp"]
     assert rendered == ["front"]            # the stage's part came from the worker
@@ -259,6 +260,25 @@ def test_one_stage_drawn_by_a_worker_beside_the_front(project_file, tmp_path, mo
     assert rendered == ["front"]            # nothing rendered again
     cold = build.write_outputs(build.analyse_project(p, draw=True), tmp_path / "cold")[0]
     assert Path(pdf).read_bytes() == Path(cold).read_bytes()
+
+
+@pytest.mark.slow
+def test_one_stage_stays_here_without_a_fork_server_started_early(project_file, tmp_path,
+                                                                  monkeypatch):
+    # Where workers would start only now (spawn, or a pool nobody warmed), their
+    # start-up costs more than the stage's drawing: all of it stays here.
+    out = tmp_path / "out"
+    build.write_outputs(build.analyse_project(load_project(str(project_file)), draw=True,
+                                              out_dir=out), out)
+    project_file.write_text(PROJECT.replace('value = "100k"', 'value = "120k"'), encoding="utf-8")
+
+    def no_worker(*args, **kwargs):
+        raise AssertionError("a worker was asked to draw one stage")
+    monkeypatch.setattr(build, "_one_beside_front", no_worker)
+    with build.WorkerPool(2, draw=True) as pool:
+        again = build.analyse_project(load_project(str(project_file)), draw=True, jobs=2,
+                                      out_dir=out, pool=pool)
+    assert again.computed == ["hp"] and again.contexts[1]["id"] == "hp"
 
 
 def test_pool_is_warmed_only_where_a_stage_is_to_analyse(project_file, tmp_path, monkeypatch):

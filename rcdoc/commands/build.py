@@ -189,6 +189,8 @@ class WorkerPool:
         self.jobs = max(1, int(jobs or 1))
         self.draw = draw
         self._pool: ProcessPoolExecutor | None = None
+        # Started early by warm(): a worker for one stage costs no start-up then.
+        self.warmed = False
 
     def executor(self) -> ProcessPoolExecutor:
         if self._pool is None:
@@ -208,6 +210,7 @@ class WorkerPool:
         if ctx.get_start_method() == "forkserver":
             from multiprocessing import forkserver
             forkserver.ensure_running()
+            self.warmed = True
 
     def __enter__(self) -> "WorkerPool":
         return self
@@ -290,7 +293,7 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
     if workers > 1 and part_jobs and part_jobs[0] is not None:
         appendix = _appendix_job(project, template_dirs, part_jobs[0], note_parts)
     overview = None
-    if (front and workers == 1 and pool is not None and pool.jobs > 1 and len(todo) == 1
+    if (front and workers == 1 and pool is not None and pool.warmed and len(todo) == 1
             and not todraw and not redo and part_jobs[todo[0]] is not None):
         overview = _one_beside_front(pool, project, todo[0], part_jobs[todo[0]], settle,
                                      results, note_parts, progress)
