@@ -10,7 +10,9 @@ remove them (``remove_stale_temps``); nothing else in a folder is touched.
 Ctrl-C: while ``interrupts()`` is active, SIGINT sets a flag (and raises
 KeyboardInterrupt). No output is renamed into place once the flag is set,
 even if some library swallowed the KeyboardInterrupt, and the command ends
-with status 130.
+with status 130. SIGTERM (a CI job's time-out, ``kill``) does the same with
+``Terminated``, a KeyboardInterrupt: the worker processes are stopped as for
+Ctrl-C, not left waiting for a parent that is gone, and the status is 143.
 """
 
 from __future__ import annotations
@@ -25,6 +27,10 @@ from pathlib import Path
 
 _TEMP = re.compile(r"\..+\.~rcdoc(\d+)\.[A-Za-z0-9_]+\.tmp")
 _interrupted = False
+
+
+class Terminated(KeyboardInterrupt):
+    """SIGTERM, handled as an interrupt (see the module docstring)."""
 
 
 def temp_prefix(name: str) -> str:
@@ -115,30 +121,32 @@ def _alive(pid: int) -> bool:
 
 def stop_if_interrupted() -> None:
     if _interrupted:
-        raise KeyboardInterrupt
+        raise Terminated if _interrupted == signal.SIGTERM else KeyboardInterrupt
 
 
 def was_interrupted() -> bool:
-    return _interrupted
+    return bool(_interrupted)
 
 
 @contextlib.contextmanager
 def interrupts():
-    """Record SIGINT for the duration (see the module docstring); main thread only."""
+    """Record SIGINT and SIGTERM for the duration (see the module docstring); main
+    thread only."""
     global _interrupted
     _interrupted = False
     if threading.current_thread() is not threading.main_thread():
         yield
         return
 
-    def on_sigint(signum, frame):
+    def on_signal(signum, frame):
         global _interrupted
-        _interrupted = True
-        raise KeyboardInterrupt
+        _interrupted = signum
+        raise Terminated if signum == signal.SIGTERM else KeyboardInterrupt
 
-    previous = signal.signal(signal.SIGINT, on_sigint)
+    previous = {s: signal.signal(s, on_signal) for s in (signal.SIGINT, signal.SIGTERM)}
     try:
         yield
         stop_if_interrupted()       # swallowed somewhere: still an interrupted build
     finally:
-        signal.signal(signal.SIGINT, previous)
+        for s, handler in previous.items():
+            signal.signal(s, handler)

@@ -10,6 +10,7 @@ tools run in CI: outputs land whole, an interrupted build exits 128 + SIGINT = 1
 
 from __future__ import annotations
 
+import contextlib
 import os
 import signal
 import subprocess
@@ -110,6 +111,58 @@ def test_ctrl_c_while_workers_run_gives_130(tmp_path):
     assert b"Traceback" not in err
     assert (out / "board.pdf").read_bytes() == OLD_PDF
     assert (out / "board.json").read_bytes() == OLD_JSON
+
+
+def _processes_with(marker: str) -> list[int]:
+    """Processes (Linux /proc) whose environment holds ``marker``: a build's
+    main process, its fork server and its workers all inherit it."""
+    found = []
+    for entry in Path("/proc").iterdir():
+        if entry.name.isdigit():
+            try:
+                if marker.encode() in (entry / "environ").read_bytes():
+                    found.append(int(entry.name))
+            except OSError:
+                pass
+    return found
+
+
+@pytest.mark.slow
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
+def test_sigterm_while_workers_run_gives_143_and_leaves_no_process(tmp_path):
+    # A CI job's time-out sends SIGTERM to the command alone: the build ends as
+    # for Ctrl-C (outputs untouched, status 128 + 15 as shells report it, common
+    # practice), and its fork server and workers do not stay behind waiting.
+    stages = "".join([f'[[stage]]\nid = "s{k}"\ntitle = "S{k}"\nkind = "rc-lowpass"\n'
+                      'parts.r = { value = "4k7" }\nparts.c = { value = "10 nF" }\n'
+                      'drive = { step = "1 V" }\n' for k in range(6)])
+    proj = tmp_path / "board.toml"
+    proj.write_text(project().split("[[stage]]")[0].replace("samples = 20", "samples = 100000")
+                    + stages, encoding="utf-8")
+    out = tmp_path / "out"
+    _old_note(out)
+    marker = f"RCDOC_TEST_RUN={tmp_path.name}-{os.getpid()}"
+    env = dict(os.environ, PYTHONPATH=str(Path(__file__).resolve().parents[1]),
+               RCDOC_TEST_RUN=marker.split("=", 1)[1])
+    child = subprocess.Popen([sys.executable, "-m", "rcdoc", "build", str(proj), "-o", str(out),
+                              "--quiet", "--jobs", "2"], env=env, stderr=subprocess.PIPE)
+    try:
+        time.sleep(4)              # inside the analysis: 6 stages × 100 000 samples
+        assert len(_processes_with(marker)) >= 3, "no workers running yet"
+        child.send_signal(signal.SIGTERM)
+        _, err = child.communicate(timeout=60)   # left-behind workers would hold stderr open
+        assert child.returncode == 143, err.decode()
+        assert b"Traceback" not in err and b"terminated" in err
+        assert (out / "board.pdf").read_bytes() == OLD_PDF
+        assert (out / "board.json").read_bytes() == OLD_JSON
+        deadline = time.monotonic() + 10
+        while _processes_with(marker) and time.monotonic() < deadline:
+            time.sleep(0.2)
+        assert _processes_with(marker) == []
+    finally:
+        for pid in _processes_with(marker):      # a failed run leaves nothing behind either
+            with contextlib.suppress(OSError):
+                os.kill(pid, signal.SIGKILL)
 
 
 @pytest.mark.slow

@@ -294,7 +294,7 @@ COMMANDS = {"build": cmd_build, "check": cmd_check, "diff": cmd_diff, "init": cm
 
 def main(argv: list[str] | None = None) -> int:
     from rcdoc.commands.terminal import third_party_quiet
-    from rcdoc.files import interrupts
+    from rcdoc.files import Terminated, interrupts
     args = make_parser().parse_args(argv)
     try:
         # Ctrl-C at any moment: status 130, no output replaced. The renderer's
@@ -304,6 +304,9 @@ def main(argv: list[str] | None = None) -> int:
     except ProjectError as exc:
         print(f"rcdoc: error: {one_line(str(exc))}", file=sys.stderr)
         return EXIT_INPUT
+    except Terminated:          # SIGTERM: workers stopped as for Ctrl-C; 128 + 15
+        print("rcdoc: terminated; nothing was written", file=sys.stderr)
+        return 143
     except KeyboardInterrupt:
         print("rcdoc: interrupted; nothing was written", file=sys.stderr)
         return 130
