@@ -90,9 +90,9 @@ def test_ctrl_c_during_final_render_gives_130_and_keeps_the_note(tmp_path, capsy
     assert signal.getsignal(signal.SIGINT) is signal.default_int_handler   # handler restored
 
 
-@pytest.mark.slow
-def test_ctrl_c_while_workers_run_gives_130(tmp_path):
-    # A real SIGINT to a build running stages in two worker processes.
+def _build_in_workers(tmp_path, **env_extra):
+    """``rcdoc build --jobs 2`` started on six slow stages (100 000 samples each)
+    over an older note; returns the running child and the output folder."""
     stages = "".join([f'[[stage]]\nid = "s{k}"\ntitle = "S{k}"\nkind = "rc-lowpass"\n'
                       'parts.r = { value = "4k7" }\nparts.c = { value = "10 nF" }\n'
                       'drive = { step = "1 V" }\n' for k in range(6)])
@@ -101,9 +101,16 @@ def test_ctrl_c_while_workers_run_gives_130(tmp_path):
                     + stages, encoding="utf-8")
     out = tmp_path / "out"
     _old_note(out)
-    env = dict(os.environ, PYTHONPATH=str(Path(__file__).resolve().parents[1]))
+    env = dict(os.environ, PYTHONPATH=str(Path(__file__).resolve().parents[1]), **env_extra)
     child = subprocess.Popen([sys.executable, "-m", "rcdoc", "build", str(proj), "-o", str(out),
                               "--quiet", "--jobs", "2"], env=env, stderr=subprocess.PIPE)
+    return child, out
+
+
+@pytest.mark.slow
+def test_ctrl_c_while_workers_run_gives_130(tmp_path):
+    # A real SIGINT to a build running stages in two worker processes.
+    child, out = _build_in_workers(tmp_path)
     time.sleep(3)                  # inside the analysis: 6 stages × 100 000 samples
     child.send_signal(signal.SIGINT)
     _, err = child.communicate(timeout=120)
@@ -133,22 +140,15 @@ def test_sigterm_while_workers_run_gives_143_and_leaves_no_process(tmp_path):
     # A CI job's time-out sends SIGTERM to the command alone: the build ends as
     # for Ctrl-C (outputs untouched, status 128 + 15 as shells report it, common
     # practice), and its fork server and workers do not stay behind waiting.
-    stages = "".join([f'[[stage]]\nid = "s{k}"\ntitle = "S{k}"\nkind = "rc-lowpass"\n'
-                      'parts.r = { value = "4k7" }\nparts.c = { value = "10 nF" }\n'
-                      'drive = { step = "1 V" }\n' for k in range(6)])
-    proj = tmp_path / "board.toml"
-    proj.write_text(project().split("[[stage]]")[0].replace("samples = 20", "samples = 100000")
-                    + stages, encoding="utf-8")
-    out = tmp_path / "out"
-    _old_note(out)
-    marker = f"RCDOC_TEST_RUN={tmp_path.name}-{os.getpid()}"
-    env = dict(os.environ, PYTHONPATH=str(Path(__file__).resolve().parents[1]),
-               RCDOC_TEST_RUN=marker.split("=", 1)[1])
-    child = subprocess.Popen([sys.executable, "-m", "rcdoc", "build", str(proj), "-o", str(out),
-                              "--quiet", "--jobs", "2"], env=env, stderr=subprocess.PIPE)
+    run = f"{tmp_path.name}-{os.getpid()}"
+    marker = f"RCDOC_TEST_RUN={run}"
+    child, out = _build_in_workers(tmp_path, RCDOC_TEST_RUN=run)
     try:
-        time.sleep(4)              # inside the analysis: 6 stages × 100 000 samples
+        deadline = time.monotonic() + 30       # the command, its fork server, a worker
+        while len(_processes_with(marker)) < 3 and time.monotonic() < deadline:
+            time.sleep(0.2)
         assert len(_processes_with(marker)) >= 3, "no workers running yet"
+        time.sleep(1)              # inside the analysis: 6 stages × 100 000 samples
         child.send_signal(signal.SIGTERM)
         _, err = child.communicate(timeout=60)   # left-behind workers would hold stderr open
         assert child.returncode == 143, err.decode()
