@@ -14,6 +14,8 @@ from pathlib import Path
 import pytest
 
 import rcdoc.commands.build as build
+import rcdoc.commands.schedule as schedule
+import rcdoc.commands.workers as workers
 from rcdoc.commands.cache import CACHE_DIR_NAME, StageCache, canonical, stage_key
 from rcdoc.kinds import load_project
 
@@ -55,12 +57,12 @@ def project_file(tmp_path):
 def _counting(monkeypatch):
     """Count stage analyses run in this process."""
     calls = []
-    real = build.analyse_stage
+    real = workers.analyse_stage
 
     def counted(stage, analysis):
         calls.append(stage.id)
         return real(stage, analysis)
-    monkeypatch.setattr(build, "analyse_stage", counted)
+    monkeypatch.setattr(workers, "analyse_stage", counted)
     return calls
 
 
@@ -137,8 +139,8 @@ def test_failed_build_writes_no_cache(tmp_path, monkeypatch):
         if stage.id == "hp":
             raise ProjectError("made to fail")
         return real(stage, analysis)
-    real = build.analyse_stage
-    monkeypatch.setattr(build, "analyse_stage", broken)
+    real = workers.analyse_stage
+    monkeypatch.setattr(workers, "analyse_stage", broken)
     out = tmp_path / "out"
     from rcdoc.errors import ProjectError
     with pytest.raises(ProjectError) as info:
@@ -186,7 +188,7 @@ def test_one_stage_to_redo_runs_in_this_process(project_file, tmp_path, monkeypa
 
     def no_pool(*args, **kwargs):
         raise AssertionError("a worker pool was started for one stage")
-    monkeypatch.setattr(build, "_run_pool", no_pool)
+    monkeypatch.setattr(schedule, "run_pool", no_pool)
     changed = build.analyse_project(load_project(str(project_file)), jobs=2, out_dir=out)
     assert calls == ["hp"] and changed.cached == ["lp"] and changed.computed == ["hp"]
 
@@ -274,7 +276,7 @@ def test_one_stage_stays_here_without_a_fork_server_started_early(project_file, 
 
     def no_worker(*args, **kwargs):
         raise AssertionError("a worker was asked to draw one stage")
-    monkeypatch.setattr(build, "_one_beside_front", no_worker)
+    monkeypatch.setattr(schedule, "one_beside_front", no_worker)
     with build.WorkerPool(2, draw=True) as pool:
         again = build.analyse_project(load_project(str(project_file)), draw=True, jobs=2,
                                       out_dir=out, pool=pool)

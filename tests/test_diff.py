@@ -332,10 +332,10 @@ def test_regressions_yield_fall_and_instability():
 
 @pytest.mark.slow
 def test_diff_reads_and_fills_the_build_cache(tmp_path, monkeypatch):
-    import rcdoc.commands.build
+    import rcdoc.commands.workers
     calls = []
-    real = rcdoc.commands.build.analyse_stage
-    monkeypatch.setattr(rcdoc.commands.build, "analyse_stage",
+    real = rcdoc.commands.workers.analyse_stage
+    monkeypatch.setattr(rcdoc.commands.workers, "analyse_stage",
                         lambda st, a: calls.append(st.id) or real(st, a))
     old = write(tmp_path / "old.toml", "A", "4k7")
     new = write(tmp_path / "new.toml", "B", "5k1")

@@ -12,7 +12,7 @@ import xml.etree.ElementTree as ET
 
 import pytest
 
-import rcdoc.commands.build
+import rcdoc.commands.workers
 from rcdoc import __version__
 from rcdoc.commands.cli import main
 from rcdoc.note.machine import escape_data, escape_property
@@ -216,8 +216,8 @@ def test_no_annotations_when_everything_passes(tmp_path, capsys):
 @pytest.fixture
 def count_analyses(monkeypatch):
     calls = []
-    real = rcdoc.commands.build.analyse_stage
-    monkeypatch.setattr(rcdoc.commands.build, "analyse_stage",
+    real = rcdoc.commands.workers.analyse_stage
+    monkeypatch.setattr(rcdoc.commands.workers, "analyse_stage",
                         lambda stage, analysis: calls.append(stage.id) or real(stage, analysis))
     return calls
 

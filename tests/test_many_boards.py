@@ -16,7 +16,7 @@ from concurrent.futures import ProcessPoolExecutor
 
 import pytest
 
-from rcdoc.commands import build, cli
+from rcdoc.commands import build, cli, workers
 
 HEAD = """\
 [board]
@@ -50,7 +50,7 @@ FAILING = 'metric = "corner"\nmax = "1.2 kHz"'
 
 @pytest.fixture
 def pools(monkeypatch):
-    """Counts the process pools rcdoc.commands.build starts."""
+    """Counts the process pools rcdoc.commands.workers starts."""
     made = []
 
     class Counting(ProcessPoolExecutor):
@@ -58,7 +58,7 @@ def pools(monkeypatch):
             made.append(kw.get("max_workers"))
             super().__init__(*args, **kw)
 
-    monkeypatch.setattr(build, "ProcessPoolExecutor", Counting)
+    monkeypatch.setattr(workers, "ProcessPoolExecutor", Counting)
     return made
 
 

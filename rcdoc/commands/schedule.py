@@ -1,0 +1,187 @@
+"""Where the build's units of work run, and in what order.
+
+What it is for: rcdoc.commands.build.analyse_project finds what the cache
+lacks; this module spreads it over the command's worker pool
+(rcdoc.commands.workers) and takes the answers back in stage order, so that
+the output does not depend on ``jobs``. Two plans:
+
+- several stages to redo: each is analysed by one unit and drawn by another,
+  queued behind every analysis; once every result is in, this process draws
+  the summary chart and renders the front matter while the workers draw
+  (``_run_pool``, ``_analyses_then_drawings``);
+- one stage to redo (a rebuild after a value change): it is analysed here,
+  and drawn and rendered by a worker of the pool started while this process
+  loaded, beside the front matter (``one_beside_front``).
+
+The appendix part depends on the project alone: a worker renders it while the
+stages are analysed (``appendix_job``).
+
+What it must not do: compute physics, draw, or format; it orchestrates.
+"""
+
+from __future__ import annotations
+
+import threading
+import time
+
+from rcdoc.commands.workers import (WorkerPool, _appendix_unit, _draw_unit, _part_unit,
+                                    _quiet_renderer, _stage_unit, _timed_draw_unit)
+from rcdoc.input.model import Project
+
+__all__ = ["one_beside_front", "appendix_job", "run_pool"]
+
+
+def one_beside_front(shared: WorkerPool, project: Project, i: int, part_job, settle, results,
+                      note_parts: dict, progress) -> tuple:
+    """One stage to redo (a rebuild after a value change): analysed here, as
+    always; its drawing and its part of the note go to a worker of the command's
+    pool (started while this process loaded), while this process draws the
+    summary chart and renders the front matter, which need only the results.
+    Returns the summary chart (rcdoc.note.page.note_context's ``overview``)."""
+    stage = project.stages[i]
+    if progress:
+        progress(stage.id)
+    t0 = time.perf_counter()
+    answer = _stage_unit(stage, project, False)
+    if answer[0] == "error":
+        settle(i, answer)                           # raises the stage's error
+    results[i] = answer[1]
+    # Starting the worker waits for the fork server's imports (they may still run
+    # on a busy machine): a thread waits for it, this process goes on.
+    box: dict = {}
+    handing = threading.Thread(target=_submit, args=(box, shared, _draw_unit, answer[1],
+                                                     project, part_job), daemon=True)
+    handing.start()
+    try:
+        overview = _early_front(project, results, part_job, note_parts)
+        handing.join()
+        if "error" in box:
+            raise box["error"]
+        context, part = box["future"].result()
+    except BaseException:
+        handing.join()
+        if "future" in box:
+            box["future"].cancel()
+        raise
+    settle(i, ("ok", answer[1], context, part, time.perf_counter() - t0))
+    return overview
+
+
+def _submit(box: dict, shared: WorkerPool, fn, *args) -> None:
+    try:
+        box["future"] = shared.executor().submit(fn, *args)
+    except BaseException as exc:  # noqa: BLE001 - raised again in the waiting thread
+        box["error"] = exc
+
+
+def _early_front(project: Project, results, part_job, note_parts: dict) -> tuple:
+    """Draw the summary chart and render the front part from the results (the
+    stages' heads stand for their contexts: rcdoc.note.assemble.front_context),
+    under the key render_note computes; filed in ``note_parts`` for it. A front
+    that cannot be rendered here is left to write_outputs, which reports why."""
+    from rcdoc.note.assemble import context_key, front_context, render_part
+    from rcdoc.note.page import note_context, overview_image, stage_head
+    _head, dirs, project_dir, epoch, _key = part_job
+    overview = (overview_image(results),)
+    context = front_context(note_context(project, results, overview=overview,
+                                         stage_contexts=[stage_head(r) for r in results]), dirs)
+    key = context_key(context, "front", template_dirs=dirs, source_date_epoch=epoch,
+                      project_dir=project_dir)
+    have = note_parts.get("front")
+    if not (isinstance(have, dict) and have.get("key") == key):
+        try:
+            _quiet_renderer()
+            note_parts["front"] = render_part(context, "front", template_dirs=dirs,
+                                              project_dir=project_dir, source_date_epoch=epoch,
+                                              key=key)
+        except Exception:  # noqa: BLE001 - rendered again, and reported, in write_outputs
+            pass
+    return overview
+
+
+def appendix_job(project: Project, template_dirs, part_job, note_parts: dict):
+    """(context, part job) of the appendix part when the last build's is not the
+    same, else None. Its key is the one render_note computes from the whole note's
+    context: when they differ (an appendix added by the command), write_outputs
+    renders it again."""
+    from rcdoc.note.assemble import appendix_context, context_key, project_head
+    from rcdoc.note.context import bom_appendix, method_appendix
+    _head, dirs, project_dir, epoch, _key = part_job
+    context = appendix_context(project_head(project), bom_appendix(project) + method_appendix())
+    key = context_key(context, "appendix", template_dirs=dirs, source_date_epoch=epoch,
+                      project_dir=project_dir)
+    have = note_parts.get("appendix")
+    if isinstance(have, dict) and have.get("key") == key:
+        return None
+    return context, (None, dirs, project_dir, epoch, key)
+
+
+def run_pool(shared: WorkerPool, project, draw, work, part_jobs, progress, settle, results,
+              contexts, parts, appendix=None, note_parts=None, front=True):
+    """Run the units of work (stages to analyse, parts to redo, cached stages to
+    draw, and the appendix part when ``appendix`` is given) in a pool of worker
+    processes; results are taken in stage order.
+
+    Where the stages' parts are rendered by the workers, a stage is analysed by
+    one unit and drawn by another queued behind every analysis: once the last
+    analysis is in, this process draws the summary chart and renders the front
+    matter (_early_front, filed in ``note_parts`` with the appendix) while the
+    workers draw. Returns the summary chart (note_context's ``overview``) or None."""
+    todo, redo, todraw = work
+    stages = project.stages
+    split = (front and draw and note_parts is not None and bool(todo)
+             and part_jobs[todo[0]] is not None)
+    pool = shared.executor()
+    futures = {}
+    for i in todo:
+        if progress:
+            progress(stages[i].id)
+        futures[i] = (pool.submit(_stage_unit, stages[i], project, False) if split else
+                      pool.submit(_stage_unit, stages[i], project, draw, part_jobs[i]))
+    redone = {i: pool.submit(_part_unit, contexts[i], part_jobs[i]) for i in redo}
+    drawn = {i: pool.submit(_draw_unit, results[i], project, part_jobs[i])
+             for i in todraw}
+    extra = {"appendix": pool.submit(_appendix_unit, *appendix)} if appendix else {}
+    overview = None
+    try:
+        if split:
+            overview = _analyses_then_drawings(pool, project, todo, futures, part_jobs, settle,
+                                               results, note_parts)
+        else:
+            for i in todo:          # in stage order: the first error is the first stage's
+                settle(i, futures[i].result())
+        for i in redo:
+            parts[i] = redone[i].result()
+        for i in todraw:
+            contexts[i], parts[i] = drawn[i].result()
+        made = extra["appendix"].result() if extra else None
+    except BaseException:
+        # Ctrl-C ends the running workers too, in WorkerPool.__exit__.
+        for f in (*futures.values(), *redone.values(), *drawn.values(), *extra.values()):
+            f.cancel()
+        raise
+    if made is not None and note_parts is not None:
+        note_parts["appendix"] = made
+    return overview
+
+
+def _analyses_then_drawings(pool, project, todo, futures, part_jobs, settle, results,
+                            note_parts) -> tuple:
+    """Take the analyses in stage order (the first error is the first stage's),
+    queue each stage's drawing behind them, render the front matter here once
+    every result is in, then take the drawings. ``futures`` gets the drawings."""
+    seconds, drawings = {}, {}
+    try:
+        for i in todo:
+            answer = futures[i].result()
+            if answer[0] == "error":
+                settle(i, answer)                       # raises the stage's error
+            results[i], seconds[i] = answer[1], answer[4]
+            drawings[i] = pool.submit(_timed_draw_unit, answer[1], project, part_jobs[i])
+        overview = _early_front(project, results, part_jobs[todo[0]], note_parts)
+        for i in todo:
+            context, part, drew = drawings[i].result()
+            settle(i, ("ok", results[i], context, part, seconds[i] + drew))
+    finally:
+        futures.update({("draw", i): f for i, f in drawings.items()})   # cancelled on error
+    return overview

@@ -1,0 +1,182 @@
+"""The build's units of work and the pool of worker processes that runs them.
+
+What it is for: a unit is what one worker does for one stage (analyse it; draw
+its note blocks; render its part of the note) or for the note (the appendix
+part). Units run in this process or in a worker of ``WorkerPool``; they take
+and return plain data, so that a worker's answer pickles: a ProjectError comes
+back as ("error", message, path, file).
+
+The pool starts its workers from a fork server that has imported rcdoc and,
+for a build, the note's modules once ('spawn' where there is no fork server);
+rcdoc.commands.schedule decides which units go where.
+
+What it must not do: decide the order of work or touch the cache.
+"""
+
+from __future__ import annotations
+
+import multiprocessing
+import sys
+import time
+from concurrent.futures import ProcessPoolExecutor
+
+from rcdoc.errors import ProjectError
+from rcdoc.input.model import Project, Stage
+from rcdoc.kinds import analyse_stage
+
+__all__ = ["WorkerPool"]
+
+
+def _stage_unit(stage: Stage, project: Project, draw: bool, part_job=None):
+    """One unit of work, in this process or a worker: analyse (and draw) one stage,
+    and with ``part_job`` render its part of the note (rcdoc.note.assemble).
+
+    A ProjectError comes back as plain data: its location would not survive pickling.
+    """
+    try:
+        t0 = time.perf_counter()
+        result = analyse_stage(stage, project.analysis)
+        context = None
+        if draw:
+            from rcdoc.note.page import stage_context
+            context = stage_context(result, project)
+        part = _part_unit(context, part_job)
+        return ("ok", result, context, part, time.perf_counter() - t0)
+    except ProjectError as exc:
+        return ("error", exc.message, exc.path, exc.file)
+
+
+def _draw_unit(result, project: Project, part_job=None):
+    """Draw (and render the part of) a stage whose analysis came from the cache,
+    filed there by ``rcdoc check`` or ``diff``, which do not draw."""
+    from rcdoc.note.page import stage_context
+    context = stage_context(result, project)
+    return context, _part_unit(context, part_job)
+
+
+def _timed_draw_unit(result, project: Project, part_job):
+    """_draw_unit of a stage just analysed by another unit, with its seconds."""
+    t0 = time.perf_counter()
+    return (*_draw_unit(result, project, part_job), time.perf_counter() - t0)
+
+
+def _part_unit(context, part_job):
+    """A stage's part of the note, or None. Any failure here (a template
+    mistake, say) leaves the part to the final render, which reports it."""
+    if part_job is None or context is None:
+        return None
+    head, template_dirs, project_dir, epoch, key = part_job
+    try:
+        _quiet_renderer()
+        from rcdoc.note.assemble import stage_part
+        return stage_part(head, context, template_dirs=template_dirs, project_dir=project_dir,
+                          source_date_epoch=epoch, key=key)
+    except Exception:  # noqa: BLE001 - rendered again, and reported, in write_outputs
+        return None
+
+
+def _appendix_unit(context, part_job):
+    """The appendix part (it depends on the project alone), rendered in a worker
+    while the stages are analysed; or None, and write_outputs renders it."""
+    _head, template_dirs, project_dir, epoch, key = part_job
+    try:
+        _quiet_renderer()
+        from rcdoc.note.assemble import render_part
+        return render_part(context, "appendix", template_dirs=template_dirs,
+                           project_dir=project_dir, source_date_epoch=epoch, key=key)
+    except Exception:  # noqa: BLE001 - rendered again, and reported, in write_outputs
+        return None
+
+
+def _quiet_renderer() -> None:
+    import logging
+    # As in the main process, weasyprint's messages stay in its logger
+    # (it has a NullHandler); a worker's root logger may print them.
+    logging.getLogger("weasyprint").propagate = False
+    logging.getLogger("fontTools").addHandler(logging.NullHandler())  # font subsetting notes
+    logging.getLogger("fontTools").propagate = False
+
+
+def _worker_init() -> None:
+    """Workers leave Ctrl-C to the main process, which stops them (_stop_workers);
+    a worker that took the KeyboardInterrupt itself could hand back a result
+    that hides it. What the worker has imported is frozen for the garbage
+    collector (gc.freeze)."""
+    import signal
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    # The modules' objects live as long as the worker: out of the garbage
+    # collector's full passes (about 5 % of a chart's CPU, measured).
+    import gc
+    gc.freeze()
+
+
+def _stop_workers(pool: ProcessPoolExecutor) -> None:
+    # ProcessPoolExecutor has no public way to end running tasks before 3.14.
+    processes = list((getattr(pool, "_processes", None) or {}).values())
+    pool.shutdown(wait=False, cancel_futures=True)
+    for p in processes:
+        p.terminate()
+
+
+def _pool_context(draw: bool):
+    """'forkserver' where there is one (Linux), else 'spawn': both start clean workers.
+
+    Only a build (``draw``) preloads the note's drawing modules: check and diff
+    never draw, so their workers never load matplotlib, schemdraw or weasyprint."""
+    methods = multiprocessing.get_all_start_methods()
+    if "forkserver" in methods and sys.platform.startswith("linux"):
+        ctx = multiprocessing.get_context("forkserver")
+        # Workers fork from a server that has imported rcdoc once, and do not
+        # re-run the parent's __main__ (the command line).
+        preload = ["rcdoc.commands.spawnguard", "rcdoc.commands.build"]
+        ctx.set_forkserver_preload(preload + (["rcdoc.commands.preload"] if draw else []))
+        return ctx
+    return multiprocessing.get_context("spawn")
+
+
+class WorkerPool:
+    """One pool of worker processes for a whole command, shared by every project
+    file it is given (``rcdoc build boards/*.toml``): the workers, and the
+    modules they preload, start once, not once a board. Started at the first
+    unit of work that needs one, so a command the cache answers starts none.
+    Use it as a context manager; ``draw`` says whether workers preload the
+    note's drawing modules (build), or never load them (check)."""
+
+    def __init__(self, jobs: int, *, draw: bool):
+        self.jobs = max(1, int(jobs or 1))
+        self.draw = draw
+        self._pool: ProcessPoolExecutor | None = None
+        # Started early by warm(): a worker for one stage costs no start-up then.
+        self.warmed = False
+
+    def executor(self) -> ProcessPoolExecutor:
+        if self._pool is None:
+            self._pool = ProcessPoolExecutor(max_workers=self.jobs,
+                                             mp_context=_pool_context(self.draw),
+                                             initializer=_worker_init)
+        return self._pool
+
+    def warm(self) -> None:
+        """Start the fork server now, so that its imports (rcdoc, and for a build
+        the note's modules: about 2 s of CPU) run beside this process's own
+        instead of after them. Only worth it where the pool will be used: the
+        server costs that CPU even if no worker is ever asked for."""
+        if self.jobs < 2:
+            return
+        ctx = _pool_context(self.draw)
+        if ctx.get_start_method() == "forkserver":
+            from multiprocessing import forkserver
+            forkserver.ensure_running()
+            self.warmed = True
+
+    def __enter__(self) -> "WorkerPool":
+        return self
+
+    def __exit__(self, kind, exc, tb) -> None:
+        if self._pool is None:
+            return
+        if kind is not None and issubclass(kind, KeyboardInterrupt):
+            _stop_workers(self._pool)      # do not wait for stages still running
+        else:
+            self._pool.shutdown(wait=True, cancel_futures=kind is not None)
+        self._pool = None
