@@ -6,9 +6,10 @@ lacks; this module spreads it over the command's worker pool
 the output does not depend on ``jobs``. Two plans:
 
 - several stages to redo: each is analysed by one unit and drawn by another,
-  queued behind every analysis; once every result is in, this process draws
-  the summary chart and renders the front matter while the workers draw
-  (``_run_pool``, ``_analyses_then_drawings``);
+  queued behind every analysis; until the workers are up, this process
+  analyses stages itself (it would wait otherwise); once every result is in,
+  it draws the summary chart and renders the front matter while the workers
+  draw (``run_pool``, ``_analyses_then_drawings``);
 - one stage to redo (a rebuild after a value change): it is analysed here,
   and drawn and rendered by a worker of the pool started while this process
   loaded, beside the front matter (``one_beside_front``).
@@ -126,27 +127,32 @@ def run_pool(shared: WorkerPool, project, draw, work, part_jobs, progress, settl
     one unit and drawn by another queued behind every analysis: once the last
     analysis is in, this process draws the summary chart and renders the front
     matter (_early_front, filed in ``note_parts`` with the appendix) while the
-    workers draw. Returns the summary chart (note_context's ``overview``) or None."""
+    workers draw; and while the workers start, this process analyses stages too
+    (_analyse_while_starting). Returns the summary chart (note_context's
+    ``overview``) or None."""
     todo, redo, todraw = work
     stages = project.stages
     split = (front and draw and note_parts is not None and bool(todo)
              and part_jobs[todo[0]] is not None)
     pool = shared.executor()
-    futures = {}
+    futures, mine, redone, drawn, extra = {}, {}, {}, {}, {}
     for i in todo:
         if progress:
             progress(stages[i].id)
-        futures[i] = (pool.submit(_stage_unit, stages[i], project, False) if split else
-                      pool.submit(_stage_unit, stages[i], project, draw, part_jobs[i]))
-    redone = {i: pool.submit(_part_unit, contexts[i], part_jobs[i]) for i in redo}
-    drawn = {i: pool.submit(_draw_unit, results[i], project, part_jobs[i])
-             for i in todraw}
-    extra = {"appendix": pool.submit(_appendix_unit, *appendix)} if appendix else {}
     overview = None
     try:
         if split:
+            _analyse_while_starting(pool, project, todo, futures, mine)
+        else:
+            for i in todo:
+                futures[i] = pool.submit(_stage_unit, stages[i], project, draw, part_jobs[i])
+        redone = {i: pool.submit(_part_unit, contexts[i], part_jobs[i]) for i in redo}
+        drawn = {i: pool.submit(_draw_unit, results[i], project, part_jobs[i])
+                 for i in todraw}
+        extra = {"appendix": pool.submit(_appendix_unit, *appendix)} if appendix else {}
+        if split:
             overview = _analyses_then_drawings(pool, project, todo, futures, part_jobs, settle,
-                                               results, note_parts)
+                                               results, note_parts, mine)
         else:
             for i in todo:          # in stage order: the first error is the first stage's
                 settle(i, futures[i].result())
@@ -165,15 +171,54 @@ def run_pool(shared: WorkerPool, project, draw, work, part_jobs, progress, settl
     return overview
 
 
+def _analyse_while_starting(pool, project: Project, todo, futures: dict, mine: dict) -> None:
+    """Queue the stages' analyses in the pool in stage order (``futures``), from a
+    thread: the first submit waits for the workers to start (the fork server's
+    imports, about 2 s, or longer where workers are fresh interpreters). Until
+    they are up, this process, idle otherwise, analyses stages itself, from the
+    last (``mine``: index -> the unit's answer); the thread skips those."""
+    lock, up, box, given = threading.Lock(), threading.Event(), {}, set()
+
+    def submit_all() -> None:
+        try:
+            for i in todo:
+                with lock:
+                    if i in mine:
+                        continue
+                    given.add(i)
+                futures[i] = pool.submit(_stage_unit, project.stages[i], project, False)
+                up.set()
+        except BaseException as exc:  # noqa: BLE001 - raised again in this thread
+            box["error"] = exc
+        finally:
+            up.set()
+    thread = threading.Thread(target=submit_all, daemon=True)
+    thread.start()
+    try:
+        while not up.is_set():
+            with lock:
+                free = [i for i in todo if i not in given and i not in mine]
+                if not free:
+                    break
+                i = free[-1]
+                mine[i] = None                  # claimed: the thread passes it by
+            mine[i] = _stage_unit(project.stages[i], project, False)
+    finally:
+        thread.join()
+    if "error" in box:
+        raise box["error"]
+
+
 def _analyses_then_drawings(pool, project, todo, futures, part_jobs, settle, results,
-                            note_parts) -> tuple:
-    """Take the analyses in stage order (the first error is the first stage's),
-    queue each stage's drawing behind them, render the front matter here once
-    every result is in, then take the drawings. ``futures`` gets the drawings."""
+                            note_parts, mine: dict) -> tuple:
+    """Take the analyses in stage order (the first error is the first stage's;
+    ``mine`` holds those made in this process), queue each stage's drawing
+    behind them, render the front matter here once every result is in, then
+    take the drawings. ``futures`` gets the drawings."""
     seconds, drawings = {}, {}
     try:
         for i in todo:
-            answer = futures[i].result()
+            answer = mine[i] if i in mine else futures[i].result()
             if answer[0] == "error":
                 settle(i, answer)                       # raises the stage's error
             results[i], seconds[i] = answer[1], answer[4]
