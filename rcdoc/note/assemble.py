@@ -35,6 +35,7 @@ import os
 from collections.abc import Mapping, Sequence
 from pathlib import Path
 
+from rcdoc.note import loader  # noqa: F401 - weasyprint, without ctypes' library search
 import weasyprint
 
 from rcdoc.note import join, numbers, pdf_images, report
