@@ -283,25 +283,45 @@ def test_one_stage_stays_here_without_a_fork_server_started_early(project_file, 
     assert again.computed == ["hp"] and again.contexts[1]["id"] == "hp"
 
 
-def test_pool_is_warmed_only_where_a_stage_is_to_analyse(project_file, tmp_path, monkeypatch):
-    # The fork server's imports cost CPU whether or not a worker is ever asked
-    # for: started early only when a stage has no cache entry (one stage: its
-    # drawing goes to a worker while the front matter is rendered here).
+def test_pool_is_warmed_first_and_stopped_where_no_stage_is_to_analyse(project_file, tmp_path,
+                                                                        monkeypatch):
+    # The fork server starts before the board loads (its imports run beside the
+    # command's own), and costs CPU whether or not a worker is ever asked for: it
+    # is stopped at once where every stage has a cache entry.
     import rcdoc.commands.cli as cli
     main = cli.main
     out = tmp_path / "out"
     p = load_project(str(project_file))
     assert build.stages_to_analyse(p, out) == 2 and build.stages_to_analyse(p, None) == 2
-    warmed = []
-    monkeypatch.setattr(build.WorkerPool, "warm", lambda self: warmed.append(self.jobs))
-    monkeypatch.setattr(cli, "_build_checked", lambda *a: 0)     # the decision only
+    calls = []
+    monkeypatch.setattr(workers.WorkerPool, "warm", lambda self: calls.append(("warm", self.jobs)))
+    monkeypatch.setattr(workers.WorkerPool, "cool", lambda self: calls.append(("cool", self.jobs)))
+    monkeypatch.setattr(cli, "_build_checked", lambda *a: calls.append("build") or 0)
     assert main(["build", str(project_file), "-o", str(out), "--jobs", "2", "--quiet"]) == 0
-    assert warmed == [2]
+    assert calls == [("warm", 2), "build", ("cool", 2)]    # the last: the pool's end, unused
     build.analyse_project(p, jobs=1, out_dir=out).commit_cache()
     assert build.stages_to_analyse(p, out) == 0
-    warmed.clear()
+    calls.clear()
     assert main(["build", str(project_file), "-o", str(out), "--jobs", "2", "--quiet"]) == 0
-    assert warmed == []
+    assert calls == [("warm", 2), ("cool", 2), "build", ("cool", 2)]
+
+
+def test_unused_fork_server_is_stopped(project_file, tmp_path):
+    # A real server, warmed and stopped while it still imports: no process of it
+    # is left, and a pool started afterwards works (a new server).
+    import os
+    from multiprocessing import forkserver
+    pool = workers.WorkerPool(2, draw=True)
+    pool.warm()
+    pid = forkserver._forkserver._forkserver_pid
+    if pid is None:
+        pytest.skip("no fork server on this platform")
+    pool.cool()
+    assert not pool.warmed and forkserver._forkserver._forkserver_pid is None
+    with pytest.raises(ChildProcessError):
+        os.waitpid(pid, 0)                  # reaped: not left as a zombie either
+    with workers.WorkerPool(2, draw=False) as again:
+        assert again.executor().submit(sum, [1, 2]).result(timeout=120) == 3
 
 
 def test_fork_server_preload_is_silent_without_a_renderer():

@@ -15,16 +15,25 @@ What it must not do: decide the order of work or touch the cache.
 
 from __future__ import annotations
 
+import contextlib
 import multiprocessing
+import os
+import signal
 import sys
 import time
 from concurrent.futures import ProcessPoolExecutor
 
 from rcdoc.errors import ProjectError
 from rcdoc.input.model import Project, Stage
-from rcdoc.kinds import analyse_stage
 
 __all__ = ["WorkerPool"]
+
+
+def analyse_stage(stage: Stage, analysis):
+    """rcdoc.kinds.analyse_stage, imported when first needed: the command imports
+    this module to start the pool's fork server before it loads the analysis."""
+    from rcdoc.kinds import analyse_stage as analyse
+    return analyse(stage, analysis)
 
 
 def _stage_unit(stage: Stage, project: Project, draw: bool, part_job=None):
@@ -169,11 +178,29 @@ class WorkerPool:
             forkserver.ensure_running()
             self.warmed = True
 
+    def cool(self) -> None:
+        """Stop a fork server that warm() started and no worker used (nothing to
+        redo, or the command failed first): it would go on importing after this
+        process ended, holding its stderr. Killed: it has no workers yet."""
+        if not self.warmed or self._pool is not None:
+            return
+        self.warmed = False
+        from multiprocessing import forkserver
+        server = getattr(forkserver, "_forkserver", None)
+        pid = getattr(server, "_forkserver_pid", None)
+        if pid is None:
+            return
+        with contextlib.suppress(OSError):
+            os.kill(pid, signal.SIGKILL)
+        with contextlib.suppress(Exception):   # closes its socket, reaps it
+            server._stop()
+
     def __enter__(self) -> "WorkerPool":
         return self
 
     def __exit__(self, kind, exc, tb) -> None:
         if self._pool is None:
+            self.cool()
             return
         if kind is not None and issubclass(kind, KeyboardInterrupt):
             _stop_workers(self._pool)      # do not wait for stages still running

@@ -35,7 +35,7 @@ import os
 from collections.abc import Mapping, Sequence
 from pathlib import Path
 
-from rcdoc.note import loader  # noqa: F401 - weasyprint, without ctypes' library search
+from rcdoc.note import renderer_libs  # noqa: F401 - weasyprint, without ctypes' library search
 import weasyprint
 
 from rcdoc.note import join, numbers, pdf_images, report

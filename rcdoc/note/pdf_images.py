@@ -30,7 +30,7 @@ from hashlib import md5
 
 import numpy as np
 import pydyf
-from rcdoc.note import loader  # noqa: F401 - weasyprint, without ctypes' library search
+from rcdoc.note import renderer_libs  # noqa: F401 - weasyprint, without ctypes' library search
 from weasyprint.images import RasterImage
 
 __all__ = ["index_images", "indexed", "palette_png", "IndexedPNG", "svg_image", "weasy_svg_image",

@@ -69,7 +69,7 @@ from urllib.request import url2pathname
 
 import jinja2
 import jinja2.sandbox
-from rcdoc.note import loader  # noqa: F401 - weasyprint, without ctypes' library search
+from rcdoc.note import renderer_libs  # noqa: F401 - weasyprint, without ctypes' library search
 import weasyprint
 from markupsafe import Markup, escape
 from weasyprint.urls import URLFetcher, URLFetcherResponse

@@ -1,4 +1,4 @@
-"""weasyprint imported without ctypes' library search (rcdoc.note.loader) opens
+"""weasyprint imported without ctypes' library search (rcdoc.note.renderer_libs) opens
 the same library files as with it, runs no subprocess for it, and leaves
 ctypes.util.find_library as it was. Each case in a fresh interpreter."""
 
@@ -48,6 +48,6 @@ def test_same_library_files_without_the_search():
     assert ours["maps"] == direct["maps"]
     assert any("libpango-1.0.so" in m for m in ours["maps"])
     # weasyprint's own import searched with ldconfig (and gcc, ld) for names it
-    # could not open; through the loader nothing is started.
+    # could not open; through rcdoc.note.renderer_libs nothing is started.
     assert any("ldconfig" in s for s in direct["started"])
     assert ours["started"] == [] and ours["restored"] is True
