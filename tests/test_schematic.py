@@ -561,6 +561,57 @@ def test_reused_record_classes_give_the_same_outlines():
     assert b"<path" in fast and fast == plain
 
 
+@pytest.mark.slow
+def test_kept_outlines_give_the_same_bytes_as_outlining_anew():
+    # rcdoc.note.outline_font keeps each outlined string per process. Reference:
+    # ziafont itself, unchanged, in a fresh process: the same schematic drawn twice
+    # (the second time wholly from kept outlines), and strings that differ only in
+    # size, alignment, line count or colour, each drawn twice, give the same bytes.
+    script = (
+        "import sys; import rcdoc.note.outline_font as o; "
+        "o.speed_up = (lambda: None) if sys.argv[1] == 'plain' else o.speed_up; "
+        "from rcdoc.kinds.recipes import *; from rcdoc.note.schematic import render_svg; "
+        "r = ladder([('series','R',Label('R14','4.7 kΩ')), ('shunt','C',Label('C9','10 µF')),"
+        " ('series','R',Label('R15','4.7 kΩ'))]); "
+        "sys.stdout.write(render_svg(r) + render_svg(r)); "
+        "import ziafont, schemdraw.backends.svg as sv; "
+        "f = ziafont.Font(sys.argv[2]); "
+        "[sys.stdout.write(ziafont.Text(s, font=f, size=z, halign=h, color=c).svg()) "
+        " for _ in range(2) for s in ('4.7 kΩ', 'R14\\n4.7 kΩ', 'AV') "
+        " for z in (9, 11.5) for h in ('left', 'center', 'right') for c in (None, '#555555')]; "
+        "[sys.stdout.write(repr(sv.text_size(s, font=sys.argv[2], size=z))) "
+        " for _ in range(2) for s in ('4.7 kΩ', 'R14\\n4.7 kΩ') for z in (9, 11.5)]")
+    from rcdoc.note.schematic import _font_file
+
+    def svg(mode):
+        return subprocess.run([sys.executable, "-c", script, mode, _font_file()],
+                              capture_output=True, check=True,
+                              env={"PYTHONHASHSEED": "123", "PATH": "/usr/bin:/bin",
+                                   "PYTHONPATH": ":".join(sys.path)}).stdout
+    fast, plain = svg("fast"), svg("plain")
+    assert fast.count(b"<path") > 100 and fast == plain
+
+
+def test_kept_outlines_are_copies():
+    # A kept outline is handed out as a copy: drawing one (ziafont sets the group's
+    # transform and fill, and the caller inserts it into its drawing) leaves the
+    # next use untouched (ziafont's own Text.drawon; common practice for caches of
+    # mutable objects).
+    from rcdoc.note.outline_font import speed_up
+    from rcdoc.note.schematic import _font_file
+    speed_up()
+    import xml.etree.ElementTree as ET
+    import ziafont
+    font = ziafont.Font(_font_file())
+    first = ziafont.Text("C9 10 nF", font=font, size=11)
+    second = ziafont.Text("C9 10 nF", font=font, size=11)
+    assert first._symbols.word is not second._symbols.word
+    parent = ET.Element("svg")
+    first.drawon(parent, 10, 20)
+    assert "transform" not in second._symbols.word.attrib
+    assert ET.tostring(second._symbols.word) != ET.tostring(parent[0])
+
+
 def test_reusing_factory_keeps_namedtuple_behaviour():
     # Source: the Python documentation of collections.namedtuple (fields, equality
     # with the plain tuple); options other than the plain form go to the real one.
