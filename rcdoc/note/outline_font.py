@@ -81,7 +81,7 @@ def _cache_outlines(font_module) -> None:
         if hit is None or hit[0] is not self.font:
             if len(_OUTLINES) >= _MAX_OUTLINES:
                 _OUTLINES.clear()
-            hit = (self.font, build(self))
+            hit = (self.font, _build_without_symbols(build, self, config.svg2))
             _OUTLINES[key] = hit
         # The group is placed into a drawing and given a transform and fill:
         # each caller gets its own copy.
@@ -90,3 +90,21 @@ def _cache_outlines(font_module) -> None:
 
     cached._rcdoc_cached = True
     text_class._buildstring = cached
+
+
+def _build_without_symbols(build, text, svg2: bool):
+    """``build(text)``; in SVG 1.1 with each glyph's <symbol> element made bare.
+
+    ziafont outlines every glyph of a string a second time as an SVG 2 <symbol>
+    and, in SVG 1.1 (schematics), throws the symbols away: it reads only their
+    ids (to list each glyph once). A third of the outlining went into them."""
+    if svg2:
+        return build(text)
+    import xml.etree.ElementTree as ET
+    from ziafont.glyph import SimpleGlyph
+    full = SimpleGlyph.svgsymbol
+    SimpleGlyph.svgsymbol = lambda glyph: ET.Element("symbol", {"id": glyph.id})
+    try:
+        return build(text)
+    finally:
+        SimpleGlyph.svgsymbol = full
