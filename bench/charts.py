@@ -12,7 +12,9 @@ revision REV (exported into a temporary folder): fresh processes, the two
 code paths interleaved, k rounds, best per chart type on each side; it prints
 the ratio REV / this tree per type and over all charts, and how many of the
 PNG images are byte-identical between the two (a chart that looks the same
-should normally be the same bytes; compare the rest with your eyes).
+should normally be the same bytes; compare the rest with your eyes), and how
+many are the same pixels (the decoded RGB images: a PNG deflated differently
+is other bytes but the same picture).
 
 --profile prints the top entries of a cProfile of one drawing of all charts.
 --quick shrinks the 40-stage board to 5 stages of 200 samples and k to 1.
@@ -70,8 +72,9 @@ def record(boards: dict[str, Path]) -> dict[str, list]:
 
 
 def draw_all(calls: dict[str, list], repeats: int, images: Path | None = None) -> dict:
-    """{board: {chart type: best CPU seconds over `repeats` for all its charts}}; with
-    `images`, the sha256 of each chart's bytes too (under the key "sha256")."""
+    """{board: {chart type: best CPU seconds over `repeats` for all its charts}}, with
+    the sha256 of each chart's bytes (under the key "sha256") and of its decoded
+    pixels (under "pixels"; SVG charts: of their text)."""
     funcs = {(m, n): getattr(importlib.import_module(m), n) for b in calls.values()
              for m, n, _a, _k in b}
     warm = {}                       # first use of each: imports and font caches, not timed
@@ -86,17 +89,27 @@ def draw_all(calls: dict[str, list], repeats: int, images: Path | None = None) -
         digests = []
         for _ in range(repeats):
             spent: dict[str, float] = {}
-            digests = []
+            digests, pixels = [], []
             for m, n, a, k in items:
                 t0 = time.process_time()
                 data = funcs[(m, n)](*a, **k)
                 spent[n] = spent.get(n, 0.0) + time.process_time() - t0
                 digests.append(hashlib.sha256(data if isinstance(data, bytes) else data.encode()).hexdigest())
+                pixels.append(_pixel_digest(data))
             for n, s in spent.items():
                 best[n] = min(best.get(n, float("inf")), s)
         out[board] = {"cpu": best, "count": {n: sum(1 for c in items if c[1] == n) for n in best},
-                      "sha256": digests}
+                      "sha256": digests, "pixels": pixels}
     return out
+
+
+def _pixel_digest(data: bytes | str) -> str:
+    if isinstance(data, str):
+        return hashlib.sha256(data.encode()).hexdigest()
+    from PIL import Image
+    with Image.open(io.BytesIO(data)) as im:
+        rgb = im.convert("RGB")
+        return hashlib.sha256(repr(rgb.size).encode() + rgb.tobytes()).hexdigest()
 
 
 _CHILD = """
@@ -125,7 +138,8 @@ def against(calls_file: Path, rev: str, repeats: int, work: Path) -> tuple[dict,
             got = json.loads(out)
             for board, res in got.items():
                 mine = sides[side].setdefault(board, {"cpu": {}, "count": res["count"],
-                                                      "sha256": res["sha256"]})
+                                                      "sha256": res["sha256"],
+                                                      "pixels": res["pixels"]})
                 for n, s in res["cpu"].items():
                     mine["cpu"][n] = min(mine["cpu"].get(n, float("inf")), s)
     return sides["this"], sides[rev]
@@ -148,8 +162,10 @@ def report(this: dict, other: dict | None, rev: str | None) -> None:
         if other:
             o_total = sum(other[board]["cpu"].values())
             same = sum(a == b for a, b in zip(res["sha256"], other[board]["sha256"]))
+            looks = sum(a == b for a, b in zip(res["pixels"], other[board]["pixels"]))
             print(f"{'all':16} {'':4} {'':9} {'':12} {o_total / total:6.2f}   "
-                  f"({same} of {len(res['sha256'])} images byte-identical to {rev}'s)")
+                  f"({same} of {len(res['sha256'])} images byte-identical to {rev}'s, "
+                  f"{looks} the same pixels)")
 
 
 def profile(calls: dict[str, list]) -> None:
