@@ -567,9 +567,13 @@ def test_kept_outlines_give_the_same_bytes_as_outlining_anew():
     # ziafont itself, unchanged, in a fresh process: the same schematic drawn twice
     # (the second time wholly from kept outlines), and strings that differ only in
     # size, alignment, line count or colour, each drawn twice, give the same bytes.
+    # The plain side also keeps schemdraw's own point transform (rcdoc.note.schematic.
+    # _speed_up_layout replaces it with the same arithmetic written out).
     script = (
-        "import sys; import rcdoc.note.outline_font as o; "
+        "import sys; import rcdoc.note.outline_font as o; import rcdoc.note.schematic as sch; "
         "o.speed_up = (lambda: None) if sys.argv[1] == 'plain' else o.speed_up; "
+        "sch._speed_up_layout = (lambda: None) if sys.argv[1] == 'plain' "
+        "else sch._speed_up_layout; "
         "from rcdoc.kinds.recipes import *; from rcdoc.note.schematic import render_svg; "
         "r = ladder([('series','R',Label('R14','4.7 kΩ')), ('shunt','C',Label('C9','10 µF')),"
         " ('series','R',Label('R15','4.7 kΩ'))]); "
@@ -590,6 +594,40 @@ def test_kept_outlines_give_the_same_bytes_as_outlining_anew():
                                    "PYTHONPATH": ":".join(sys.path)}).stdout
     fast, plain = svg("fast"), svg("plain")
     assert fast.count(b"<path") > 100 and fast == plain
+
+
+def test_written_out_transform_gives_schemdraws_floats():
+    # Reference: schemdraw's Transform.transform itself (taken before rcdoc replaces
+    # it): ((pt + localshift) * zoom) rotated about the origin, + shift. Every result
+    # bit for bit, signed zeros included, for right angles (schemdraw's directions),
+    # other angles, zooms of one number or per axis, points as tuples or Points.
+    import random
+    import struct
+
+    from schemdraw.transform import Transform
+    from schemdraw.util import Point
+
+    import rcdoc.note.schematic as sch
+    sch._speed_up_layout()
+    own = sch._PLAIN_TRANSFORM                  # schemdraw's, kept when it was replaced
+    assert Transform.transform is sch._transform and own.__module__ == "schemdraw.transform"
+    rng = random.Random(3)
+    special = [0.0, -0.0, 1.0, -1.0, 0.5, -2.25, 1e-17, 1e300]
+
+    def value(scale):
+        return rng.choice(special) if rng.random() < 0.4 else rng.uniform(-scale, scale)
+
+    def bits(point):
+        return [struct.pack("d", v) for v in point]
+
+    for _ in range(5000):
+        theta = rng.choice([0, 90, 180, 270, 360, 45, -30.5, 12.345, 90.0])
+        zoom = rng.choice([1, 0.5, 2.0, Point((1, -1)), Point((0.7, 1.3))])
+        t = Transform(theta, (value(30), value(30)), (value(3), value(3)), zoom)
+        pt = (value(10), value(10))
+        for p in (pt, Point(pt)):
+            want, got = own(t, p), sch._transform(t, p)
+            assert type(got) is Point and bits(got) == bits(want), (theta, zoom, p, want, got)
 
 
 def test_kept_outlines_are_copies():
