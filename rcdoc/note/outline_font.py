@@ -16,7 +16,7 @@ glyph of the string anew (positioning tables, outline path text): about two
 thirds of a schematic's drawing time. ``speed_up`` keeps each outlined string
 per process, keyed by what the outline depends on (string, font, size, line
 spacing, alignment), and hands out a copy of its group of glyph paths: the
-same bytes, once per string.
+same bytes, once per string (``tests/test_schematic_outlines.py``).
 """
 
 from __future__ import annotations

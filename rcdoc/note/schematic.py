@@ -71,7 +71,7 @@ def _transform(self, pt):
     """schemdraw.transform.Transform.transform: ((pt + localshift) * zoom), rotated by
     theta degrees about the origin (schemdraw.util.rotate), + shift; the same
     operations on the same floats in the same order, so the same results (signed
-    zeros included; tests/test_schematic.py compares them)."""
+    zeros included; tests/test_schematic_outlines.py compares them)."""
     Point = _Point
     zoom = self.zoom
     if not isinstance(zoom, Point) or len(pt) != 2:      # not as schemdraw makes them
