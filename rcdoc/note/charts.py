@@ -188,9 +188,12 @@ def _new_figure(height_in: float, width_in: float = WIDTH_IN) -> Figure:
 
 
 #: zlib level of a chart's PNG. Its compressed rows go into the PDF as they are
-#: (rcdoc.note.pdf_images.IndexedPNG), so the level sizes the note: level 3 wrote
-#: 21 % more bytes than 6 in 46 % of the time (bench/charts.py); the note keeps 6.
-_PNG_LEVEL = 6
+#: (rcdoc.note.pdf_images.IndexedPNG), so the level sizes the note: on the 137
+#: charts of the 40-stage bench board level 3 wrote 21 % more bytes than 6
+#: (2.58 against 2.13 MB) in 41 % of the time (0.35 against 0.86 s CPU), about
+#: 4 % of a chart's drawing; levels 1 and 2 were no faster and larger still.
+#: The 40-stage note stays well under its 6 MB aim (README, Performance).
+_PNG_LEVEL = 3
 
 #: Resolution of raster charts, chosen by measurement (README, Performance): at
 #: 150 dpi the note's PNGs are about 28 % smaller than at 200 dpi and still sharp

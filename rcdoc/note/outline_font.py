@@ -9,11 +9,20 @@ classes are all alike (same name, same fields), so ``speed_up`` hands ziafont
 one class per (name, fields), made once and reused. The records, the parsed
 font and so every SVG byte stay the same (``tests/test_schematic.py``
 compares the outlines with and without it in fresh processes).
+
+schemdraw also outlines every label three times (its size and its descent
+while the drawing is laid out, then once to draw it), each time placing every
+glyph of the string anew (positioning tables, outline path text): about two
+thirds of a schematic's drawing time. ``speed_up`` keeps each outlined string
+per process, keyed by what the outline depends on (string, font, size, line
+spacing, alignment), and hands out a copy of its group of glyph paths: the
+same bytes, once per string (``tests/test_schematic_outlines.py``).
 """
 
 from __future__ import annotations
 
 import collections
+import copy
 import functools
 
 __all__ = ["speed_up"]
@@ -35,8 +44,9 @@ def _namedtuple(typename, field_names, **options):
 
 
 def speed_up() -> None:
-    """Point ziafont's font readers at the reusing factory; call before a font loads.
-    Idempotent; does nothing where ziafont is missing."""
+    """Point ziafont's font readers at the reusing factory and its text at the
+    outline cache; call before a font loads. Idempotent; does nothing where
+    ziafont is missing."""
     import importlib
     for name in _READERS:
         try:
@@ -45,3 +55,56 @@ def speed_up() -> None:
             return
         if getattr(module, "namedtuple", None) is collections.namedtuple:
             module.namedtuple = _namedtuple
+    _cache_outlines(importlib.import_module("ziafont.font"))
+
+
+# Outlined strings kept per process; a build draws a few hundred distinct labels.
+_OUTLINES: dict = {}
+_MAX_OUTLINES = 4096
+
+
+def _cache_outlines(font_module) -> None:
+    text_class = font_module.Text
+    build = text_class._buildstring
+    if getattr(build, "_rcdoc_cached", False):
+        return
+
+    def cached(self):
+        # What _buildstring reads: the string, the font (one object per font file
+        # and process) and its features, size, line spacing, alignment (where
+        # lines are shifted), and ziafont's SVG 2 switch and number precision.
+        config = font_module.config
+        key = (self.str if isinstance(self.str, str) else tuple(self.str), id(self.font),
+               tuple(sorted(self.font.features.items())), self.size, self.linespacing,
+               self.halign, config.svg2, config.precision)
+        hit = _OUTLINES.get(key)
+        if hit is None or hit[0] is not self.font:
+            if len(_OUTLINES) >= _MAX_OUTLINES:
+                _OUTLINES.clear()
+            hit = (self.font, _build_without_symbols(build, self, config.svg2))
+            _OUTLINES[key] = hit
+        # The group is placed into a drawing and given a transform and fill:
+        # each caller gets its own copy.
+        return hit[1]._replace(word=copy.deepcopy(hit[1].word),
+                               symbols=[copy.deepcopy(s) for s in hit[1].symbols])
+
+    cached._rcdoc_cached = True
+    text_class._buildstring = cached
+
+
+def _build_without_symbols(build, text, svg2: bool):
+    """``build(text)``; in SVG 1.1 with each glyph's <symbol> element made bare.
+
+    ziafont outlines every glyph of a string a second time as an SVG 2 <symbol>
+    and, in SVG 1.1 (schematics), throws the symbols away: it reads only their
+    ids (to list each glyph once). A third of the outlining went into them."""
+    if svg2:
+        return build(text)
+    import xml.etree.ElementTree as ET
+    from ziafont.glyph import SimpleGlyph
+    full = SimpleGlyph.svgsymbol
+    SimpleGlyph.svgsymbol = lambda glyph: ET.Element("symbol", {"id": glyph.id})
+    try:
+        return build(text)
+    finally:
+        SimpleGlyph.svgsymbol = full
