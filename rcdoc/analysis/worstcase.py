@@ -119,29 +119,32 @@ def search_together(evaluate_all: EvaluateAll, problems: list, lows: np.ndarray,
             fx = st["sign"] * v
             st["fx"] = np.where(np.isfinite(fx), fx, -np.inf)
             st["found"] = [st["sign"] * st["fx"]]
+    least = MIN_STEP * np.where(span > 0, span, 1.0)
     for _ in range(ITERATIONS):
-        live = [k for k in live
-                if not np.all(state[k]["step"] <= MIN_STEP * np.where(span > 0, span, 1.0))]
+        # A start whose steps are all below MIN_STEP of their parts' ranges is done.
+        act = {k: np.flatnonzero(~np.all(state[k]["step"] <= least, axis=1)) for k in live}
+        live = [k for k in live if act[k].size]
         if not live:
             break
         cands = []
         for k in live:
-            st = state[k]
-            cand = st["x"][:, None, :] + st["moves"][None] * st["step"][:, None, :]  # (S, 2P, P)
+            st, a = state[k], act[k]
+            cand = st["x"][a, None, :] + st["moves"][None] * st["step"][a, None, :]  # (A, 2P, P)
             cands.append(np.clip(cand, lows, highs))
         values = evaluate_all(live, [c.reshape(-1, c.shape[-1]) for c in cands])
         for k, cand, v in zip(live, cands, values):
-            st = state[k]
-            s, p = st["x"].shape
-            fc = st["sign"][:, None] * v.reshape(s, 2 * p)
+            st, a = state[k], act[k]
+            p = st["x"].shape[1]
+            fc = st["sign"][a, None] * v.reshape(a.size, 2 * p)
             fc = np.where(np.isfinite(fc), fc, -np.inf)
             best = np.argmax(fc, axis=1)
-            fbest = fc[np.arange(s), best]
-            better = fbest > st["fx"] + FLAT * np.abs(st["fx"])
-            st["x"] = np.where(better[:, None], cand[np.arange(s), best], st["x"])
-            st["fx"] = np.where(better, fbest, st["fx"])
-            st["step"] = np.where(better[:, None], st["step"], st["step"] / 2.0)
-            st["found"].append(st["sign"] * st["fx"])
+            fbest = fc[np.arange(a.size), best]
+            fx = st["fx"][a]
+            better = fbest > fx + FLAT * np.abs(fx)
+            st["x"][a] = np.where(better[:, None], cand[np.arange(a.size), best], st["x"][a])
+            st["fx"][a] = np.where(better, fbest, fx)
+            st["step"][a] = np.where(better[:, None], st["step"][a], st["step"][a] / 2.0)
+            st["found"].append(st["sign"][a] * st["fx"][a])
     out = []
     for st in state:
         if st is None:
