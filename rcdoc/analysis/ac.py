@@ -172,11 +172,16 @@ def _inverse(A: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     n = A.shape[-1]
     if n == 0:
         return A.copy(), np.ones(A.shape[0], dtype=bool)
-    r = np.max(np.abs(A), axis=-1, keepdims=True)
-    r = np.where(r > 0, r, 1.0)
+    # Maxima and sums over a row or a column with samples last (contiguous copies):
+    # elementwise over long arrays, the same numbers in the same order as along the
+    # small trailing axes, in a fraction of the time.
+    At = np.abs(_samples_last(A))                          # |A|, (n, n, S)
+    r = np.max(At, axis=1, keepdims=True)                  # row maxima
+    r = np.moveaxis(np.where(r > 0, r, 1.0), -1, 0)        # (S, n, 1)
     Ae = A / r
-    c = np.max(np.abs(Ae), axis=-2, keepdims=True)
-    c = np.where(c > 0, c, 1.0)
+    At = np.abs(_samples_last(Ae))
+    c = np.max(At, axis=0, keepdims=True)                  # column maxima of A / r
+    c = np.moveaxis(np.where(c > 0, c, 1.0), -1, 0)        # (S, 1, n)
     Ae = Ae / c
     with np.errstate(all="ignore"):
         try:
@@ -186,12 +191,17 @@ def _inverse(A: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
             sv = np.linalg.svd(Ae, compute_uv=False)
             good = sv[..., -1] > _PZ_RCOND * sv[..., 0]
             inv[good] = np.linalg.inv(Ae[good])
-        norm = np.max(np.sum(np.abs(Ae), axis=-2), axis=-1)
-        norm_inv = np.max(np.sum(np.abs(inv), axis=-2), axis=-1)
+        norm = np.max(np.sum(np.abs(_samples_last(Ae)), axis=0), axis=0)
+        norm_inv = np.max(np.sum(np.abs(_samples_last(inv)), axis=0), axis=0)
         ok = np.isfinite(norm_inv) & (norm * norm_inv < 1.0 / _PZ_RCOND)
     # A = D_r·Ae·D_c, so A⁻¹ = D_c⁻¹·Ae⁻¹·D_r⁻¹.
     inv = inv / np.swapaxes(c, -1, -2) / np.swapaxes(r, -1, -2)
     return np.where(ok[:, None, None], inv, np.eye(n)), ok
+
+
+def _samples_last(A: np.ndarray) -> np.ndarray:
+    """(S, n, n) -> a contiguous (n, n, S) copy."""
+    return np.ascontiguousarray(np.moveaxis(A, 0, -1))
 
 
 class _Pencil:
