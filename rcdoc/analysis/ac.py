@@ -207,14 +207,31 @@ def _samples_last(A: np.ndarray) -> np.ndarray:
 class _Pencil:
     """Per-sample poles of the reduced pencil (kept unknowns), shared by every ratio."""
 
-    def __init__(self, system: System, f: np.ndarray):
+    def __init__(self, system: System, f: np.ndarray, poles: np.ndarray | None = None):
+        """``poles``: the network's finite poles per row (rad/s, NaN-padded; those of
+        rcdoc.analysis.poles), when known: the eigenvalues λ = 1/(σ − p) of A⁻¹C are
+        then taken from them (infinite poles: λ = 0) instead of solved for again."""
         self.d_node, self.keep = _eliminated(system)
         self.sigma = _shift(f)
         self.G = system.G[:, self.keep[:, None], self.keep]
         self.C = system.C[:, self.keep[:, None], self.keep]
         self.A_inv, self.ok = _inverse(self.G + self.sigma * self.C)
+        n = self.keep.size
+        if poles is not None and poles.shape[1] <= n:
+            with np.errstate(all="ignore"):
+                lam = 1.0 / (self.sigma - poles)
+            self.poles = np.zeros((poles.shape[0], n), dtype=complex)
+            self.poles[:, :poles.shape[1]] = np.where(np.isnan(poles), 0.0, lam)
+            self.found = np.count_nonzero(np.isfinite(poles), axis=1)
+            return
+        self.found = None
         with np.errstate(all="ignore"):
             self.poles = np.linalg.eigvals(self.A_inv @ self.C)
+
+    def solve_rows(self, rows: np.ndarray) -> None:
+        """The eigenvalues of A⁻¹C of the rows ``rows`` (an index array) solved for."""
+        with np.errstate(all="ignore"):
+            self.poles[rows] = np.linalg.eigvals(self.A_inv[rows] @ self.C[rows])
 
     def zpk(self, o: int, r0: np.ndarray, r1: np.ndarray | None, eigen: bool | float = True):
         """Gain x_o(σ) (S,), zeros as eigenvalues e (S, n) and usable rows for x_o of
