@@ -40,8 +40,8 @@ def _balance(G: np.ndarray, C: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     # Samples last: the maxima over a row or a column are then elementwise maxima
     # of contiguous arrays (four times faster than along the small trailing axes),
     # the same numbers in the same order.
-    g = np.ascontiguousarray(np.moveaxis(G, 0, -1))
-    c = np.ascontiguousarray(np.moveaxis(C, 0, -1))
+    g = np.moveaxis(G, 0, -1).copy(order="C")       # copies: scaled in place below
+    c = np.moveaxis(C, 0, -1).copy(order="C")
     s = np.empty_like(g)
     for _ in range(_BALANCE_ROUNDS):
         for axis in (1, 0):             # along a row, then along a column
