@@ -19,7 +19,7 @@ import numpy as np
 import pytest
 import scipy.signal as sg
 
-from rcdoc.analysis import ac, transient
+from rcdoc.analysis import ac, transient, worstcase
 from rcdoc.analysis import poles as polemod
 from rcdoc.analysis.response import Response
 
@@ -251,3 +251,75 @@ def test_unstable_samples_stay_missing(tmp_path):
         assert np.all(np.isnan(ev.metric(name))), name
     f = np.full(ev.rows, 800.0)
     assert np.max(np.abs(ev.response.at_rows(f) / ev.h_rows(f) - 1)) < 1e-9
+
+
+# ---- the worst-case search's stops (rcdoc.analysis.worstcase) ---------------------------
+
+def _search_reference(evaluate, starts, maximise, lows, highs):
+    """The pattern search as it was: every start of a search rides along until all
+    of them are below MIN_STEP, none stops on a flat neighbourhood."""
+    span = highs - lows
+    sign = np.where(maximise, 1.0, -1.0)
+    x, s, p = starts.copy(), *starts.shape
+    step = np.repeat((span / 4.0)[None, :], s, axis=0)
+    moves = np.concatenate([np.eye(p), -np.eye(p)])
+    fx = sign * evaluate(x)
+    fx = np.where(np.isfinite(fx), fx, -np.inf)
+    found = [sign * fx]
+    for _ in range(worstcase.ITERATIONS):
+        if np.all(step <= worstcase.MIN_STEP * span):
+            break
+        cand = np.clip(x[:, None, :] + moves[None] * step[:, None, :], lows, highs)
+        fc = sign[:, None] * evaluate(cand.reshape(-1, p)).reshape(s, 2 * p)
+        fc = np.where(np.isfinite(fc), fc, -np.inf)
+        best = np.argmax(fc, axis=1)
+        fbest = fc[np.arange(s), best]
+        better = fbest > fx + worstcase.FLAT * np.abs(fx)
+        x = np.where(better[:, None], cand[np.arange(s), best], x)
+        fx = np.where(better, fbest, fx)
+        step = np.where(better[:, None], step, step / 2.0)
+        found.append(sign * fx)
+    f = np.concatenate(found)
+    return f[np.isfinite(f)]
+
+
+def _bowl(x):          # smooth, its maximum 1.5 inside the box at (0.3, −0.2, 0.7)
+    return 1.5 - (x[:, 0] - 0.3) ** 2 - 2 * (x[:, 1] + 0.2) ** 2 - 0.5 * (x[:, 2] - 0.7) ** 2
+
+
+def _ramp(x):          # monotonic: its extremes at the box's corners
+    return 2.0 + x[:, 0] + 3 * x[:, 1] - x[:, 2]
+
+
+def _plateau(x):       # max(·, 0): zero over part of the box (a peaking)
+    return np.maximum(x[:, 0] * x[:, 1] - 0.1, 0.0)
+
+
+@pytest.mark.parametrize("fn", [_bowl, _ramp, _plateau])
+def test_search_stops_keep_the_searched_range(fn):
+    """Starts that stop on MIN_STEP alone or on a flat neighbourhood find the same
+    range as the search in which every start rode along to the end."""
+    rng = np.random.default_rng(11)
+    lows, highs = -np.ones(3), np.ones(3)
+    starts = rng.uniform(-1, 1, (8, 3))
+    up = np.array([True, False] * 4)
+    got = worstcase.search_together(lambda ks, xs: [fn(xs[0])], [(starts, up, 1e-12)],
+                                    lows, highs)[0]
+    ref = _search_reference(fn, starts, up, lows, highs)
+    assert (got.min(), got.max()) == (ref.min(), ref.max())
+
+
+def test_search_on_rounding_noise_stops_at_once():
+    """A metric that is constant up to rounding noise (a passband gain of 0 dB:
+    ±1e-14 dB) stops every start after one iteration below its floor; its range
+    stays within the noise."""
+    calls = []
+
+    def noise(ks, xs):
+        calls.append(len(xs[0]))
+        x = xs[0]
+        return [1e-14 * np.sin(1e3 * x.sum(axis=1))]
+    starts = np.zeros((4, 2))
+    got = worstcase.search_together(noise, [(starts, np.array([True, False] * 2), 1e-10)],
+                                    -np.ones(2), np.ones(2))[0]
+    assert len(calls) == 2 and np.all(np.abs(got) <= 1e-14)

@@ -31,6 +31,7 @@ import numpy as np
 
 from rcdoc.analysis import spread
 from rcdoc.analysis.evaluate import Evaluator
+from rcdoc.analysis.metrics import METRICS
 from rcdoc.analysis.network import Network
 from rcdoc.input import parts as partmodels
 from rcdoc.input.model import Analysis, Stage
@@ -40,6 +41,8 @@ STARTS = 4               # Monte Carlo samples started from, per direction
 ITERATIONS = 40          # pattern-search iterations at most
 MIN_STEP = 1e-6          # stop when every step is below this share of its part's range
 FLAT = 1e-9              # relative change taken as no change (rounding of the solver)
+FLAT_FLOOR = 1e-6        # share of a metric's resolution below which a start's
+                         # neighbourhood counts as flat (the search stops there)
 
 VERTICES = "vertices"                      # every corner of the box
 SENSITIVITY_VERTICES = "sensitivity vertices"   # many parts: the corners the sensitivities point to
@@ -94,7 +97,12 @@ def search_together(evaluate_all: EvaluateAll, problems: list, lows: np.ndarray,
                     highs: np.ndarray) -> list[np.ndarray]:
     """Several pattern searches (``search``'s, each with its own metric) in lockstep.
 
-    ``problems``: [(starts (S, P), maximise (S,))]. Each search takes exactly the
+    ``problems``: [(starts (S, P), maximise (S,)[, floor])]. A start stops when its
+    steps are all below MIN_STEP of the parts' ranges, or when no candidate of an
+    iteration differs from its value by more than ``floor`` (default 0: only an
+    exactly flat neighbourhood): a metric that does not change by a millionth of
+    its resolution there (a passband gain of 0 dB, rounding noise of 1e-15 dB)
+    has nothing for smaller steps to find. Each search takes exactly the
     steps it takes alone (its moves and its stop depend on its own values only);
     an iteration hands the candidates of every search still running to one call
     of ``evaluate_all(ks, xs)`` (the running searches' indices and candidates), so
@@ -103,12 +111,13 @@ def search_together(evaluate_all: EvaluateAll, problems: list, lows: np.ndarray,
     """
     span = highs - lows
     state = []
-    for starts, maximise in problems:
+    for starts, maximise, *floor in problems:
         s, p = starts.shape
         if s == 0 or p == 0 or not np.any(span > 0):
             state.append(None)
             continue
         state.append({"sign": np.where(maximise, 1.0, -1.0), "x": starts.copy(),
+                      "floor": floor[0] if floor else 0.0,
                       "step": np.repeat((span / 4.0)[None, :], s, axis=0),
                       "moves": np.concatenate([np.eye(p), -np.eye(p)])})   # (2P, P) unit moves
     live = [k for k, st in enumerate(state) if st is not None]
@@ -144,6 +153,8 @@ def search_together(evaluate_all: EvaluateAll, problems: list, lows: np.ndarray,
             st["x"][a] = np.where(better[:, None], cand[np.arange(a.size), best], st["x"][a])
             st["fx"][a] = np.where(better, fbest, fx)
             st["step"][a] = np.where(better[:, None], st["step"][a], st["step"][a] / 2.0)
+            flat = np.all(np.abs(fc - fx[:, None]) <= st["floor"], axis=1)    # -inf: not
+            st["step"][a[flat]] = 0.0
             st["found"].append(st["sign"][a] * st["fx"][a])
     out = []
     for st in state:
@@ -275,9 +286,10 @@ class Context:
             found.append([corner_y, arr[:1], samples, line_y])
             methods.append(base)
             if p and needs_search(corner_y, float(arr[0]), samples, line_y, p):
-                problems.append(start_points(
+                problems.append((*start_points(
                     self.part_values(b.mc), samples, self.part_values(slice(0, 1))[0],
-                    self.part_values(b.vertex), arr[b.vertex]))
+                    self.part_values(b.vertex), arr[b.vertex]),
+                    FLAT_FLOOR * METRICS[request[0]].resolution))
                 owners.append((len(found) - 1, request))
                 methods[-1] += SEARCHED
         if problems:
