@@ -302,10 +302,25 @@ def test_search_stops_keep_the_searched_range(fn):
     lows, highs = -np.ones(3), np.ones(3)
     starts = rng.uniform(-1, 1, (8, 3))
     up = np.array([True, False] * 4)
+    ref_batches = []
+
+    def counted(x):
+        ref_batches.append(len(x))
+        return fn(x)
+    ref = _search_reference(counted, starts, up, lows, highs)
     got = worstcase.search_together(lambda ks, xs: [fn(xs[0])], [(starts, up, 1e-12)],
                                     lows, highs)[0]
-    ref = _search_reference(fn, starts, up, lows, highs)
     assert (got.min(), got.max()) == (ref.min(), ref.max())
+    # Without the flat stop every value a start takes is the one-level search's
+    # (halvings evaluated SPECULATE at a time take the same moves).
+    batches = []
+
+    def count(ks, xs):
+        batches.append(len(xs[0]))
+        return [fn(xs[0])]
+    exact = worstcase.search_together(count, [(starts, up)], lows, highs)[0]
+    assert np.array_equal(np.unique(exact), np.unique(ref))
+    assert len(batches) <= len(ref_batches)
 
 
 def test_search_on_rounding_noise_stops_at_once():

@@ -41,6 +41,7 @@ STARTS = 4               # Monte Carlo samples started from, per direction
 ITERATIONS = 40          # pattern-search iterations at most
 MIN_STEP = 1e-6          # stop when every step is below this share of its part's range
 FLAT = 1e-9              # relative change taken as no change (rounding of the solver)
+SPECULATE = 3            # halvings evaluated together after an iteration without a move
 FLAT_FLOOR = 1e-6        # share of a metric's resolution below which a start's
                          # neighbourhood counts as flat (the search stops there)
 
@@ -119,6 +120,7 @@ def search_together(evaluate_all: EvaluateAll, problems: list, lows: np.ndarray,
         state.append({"sign": np.where(maximise, 1.0, -1.0), "x": starts.copy(),
                       "floor": floor[0] if floor else 0.0,
                       "step": np.repeat((span / 4.0)[None, :], s, axis=0),
+                      "it": np.zeros(s, dtype=int), "levels": np.ones(s, dtype=int),
                       "moves": np.concatenate([np.eye(p), -np.eye(p)])})   # (2P, P) unit moves
     live = [k for k, st in enumerate(state) if st is not None]
     if live:
@@ -130,32 +132,18 @@ def search_together(evaluate_all: EvaluateAll, problems: list, lows: np.ndarray,
             st["found"] = [st["sign"] * st["fx"]]
     least = MIN_STEP * np.where(span > 0, span, 1.0)
     for _ in range(ITERATIONS):
-        # A start whose steps are all below MIN_STEP of their parts' ranges is done.
-        act = {k: np.flatnonzero(~np.all(state[k]["step"] <= least, axis=1)) for k in live}
+        # A start whose steps are all below MIN_STEP of their parts' ranges is done,
+        # as is one that took ITERATIONS iterations.
+        act = {k: np.flatnonzero(~np.all(state[k]["step"] <= least, axis=1)
+                                 & (state[k]["it"] < ITERATIONS)) for k in live}
         live = [k for k in live if act[k].size]
         if not live:
             break
-        cands = []
-        for k in live:
-            st, a = state[k], act[k]
-            cand = st["x"][a, None, :] + st["moves"][None] * st["step"][a, None, :]  # (A, 2P, P)
-            cands.append(np.clip(cand, lows, highs))
-        values = evaluate_all(live, [c.reshape(-1, c.shape[-1]) for c in cands])
-        for k, cand, v in zip(live, cands, values):
-            st, a = state[k], act[k]
-            p = st["x"].shape[1]
-            fc = st["sign"][a, None] * v.reshape(a.size, 2 * p)
-            fc = np.where(np.isfinite(fc), fc, -np.inf)
-            best = np.argmax(fc, axis=1)
-            fbest = fc[np.arange(a.size), best]
-            fx = st["fx"][a]
-            better = fbest > fx + FLAT * np.abs(fx)
-            st["x"][a] = np.where(better[:, None], cand[np.arange(a.size), best], st["x"][a])
-            st["fx"][a] = np.where(better, fbest, fx)
-            st["step"][a] = np.where(better[:, None], st["step"][a], st["step"][a] / 2.0)
-            flat = np.all(np.abs(fc - fx[:, None]) <= st["floor"], axis=1)    # -inf: not
-            st["step"][a[flat]] = 0.0
-            st["found"].append(st["sign"][a] * st["fx"][a])
+        blocks = [_candidates(state[k], act[k], lows, highs) for k in live]
+        values = evaluate_all(live, [np.concatenate([c.reshape(-1, c.shape[-1]) for _, c in b])
+                                     for b in blocks])
+        for k, b, v in zip(live, blocks, values):
+            _advance(state[k], b, v, least)
     out = []
     for st in state:
         if st is None:
@@ -164,6 +152,52 @@ def search_together(evaluate_all: EvaluateAll, problems: list, lows: np.ndarray,
         f = np.concatenate(st["found"])
         out.append(f[np.isfinite(f)])
     return out
+
+
+def _candidates(st: dict, a: np.ndarray, lows: np.ndarray, highs: np.ndarray) -> list:
+    """The candidates of the active starts ``a`` of one search: [(starts, (A_l, 2P, P))]
+    per level l, the steps halved l times (a start that found nothing last time is
+    likely to find nothing again: its next halvings are evaluated in the same batch,
+    SPECULATE levels; one that moved, one level)."""
+    levels = st["levels"][a]
+    out = []
+    for level in range(int(levels.max())):
+        al = a[levels > level]
+        step = st["step"][al] / 2.0 ** level          # exact: the halvings to come
+        cand = st["x"][al, None, :] + st["moves"][None] * step[:, None, :]      # (A, 2P, P)
+        out.append((al, np.clip(cand, lows, highs)))
+    return out
+
+
+def _advance(st: dict, blocks: list, v: np.ndarray, least: np.ndarray) -> None:
+    """One search's iterations from its candidates' values ``v``, level by level: each
+    start takes the best improving move of a level and stops there for this batch,
+    or halves its steps and goes on to the next level if it is still active (the
+    same moves, halvings and stops as one level per batch)."""
+    p = st["x"].shape[1]
+    going = np.ones(len(st["x"]), dtype=bool)       # no move yet in this batch
+    at = 0
+    for level, (al, cand) in enumerate(blocks):
+        fc = st["sign"][al, None] * v[at:at + al.size * 2 * p].reshape(al.size, 2 * p)
+        at += al.size * 2 * p
+        if level:
+            keep = going[al] & (st["it"][al] < ITERATIONS) & ~np.all(st["step"][al] <= least,
+                                                                      axis=1)
+            al, cand, fc = al[keep], cand[keep], fc[keep]
+        fc = np.where(np.isfinite(fc), fc, -np.inf)
+        best = np.argmax(fc, axis=1)
+        fbest = fc[np.arange(al.size), best]
+        fx = st["fx"][al]
+        better = fbest > fx + FLAT * np.abs(fx)
+        st["x"][al] = np.where(better[:, None], cand[np.arange(al.size), best], st["x"][al])
+        st["fx"][al] = np.where(better, fbest, fx)
+        st["step"][al] = np.where(better[:, None], st["step"][al], st["step"][al] / 2.0)
+        flat = np.all(np.abs(fc - fx[:, None]) <= st["floor"], axis=1)    # -inf: not
+        st["step"][al[flat]] = 0.0
+        st["it"][al] += 1
+        st["levels"][al] = np.where(better, 1, SPECULATE)
+        going[al[better]] = False
+        st["found"].append(st["sign"][al] * st["fx"][al])
 
 
 def start_points(samples_x: np.ndarray, samples_y: np.ndarray, nominal: np.ndarray,
