@@ -300,9 +300,12 @@ class Context:
         p = len(self.batch.roles)
         if p == 0:
             return {key(q): np.zeros(0) for q in requests}
-        x = line_rows(self.part_values(slice(0, 1))[0], self.lows, self.highs)
-        ev = self.evaluator(x)
-        return {key(q): np.asarray(ev.metric(q[0], q[2], at_hz=q[1]), dtype=float)
+        nominal = self.part_values(slice(0, 1))
+        x = line_rows(nominal[0], self.lows, self.highs)
+        # After the nominal's row, as in the pipeline's chunk that carries the walks:
+        # the frequency scale of the poles (from the first row) is then the same.
+        ev = self.evaluator(np.concatenate([nominal, x]))
+        return {key(q): np.asarray(ev.metric(q[0], q[2], at_hz=q[1]), dtype=float)[1:]
                 for q in requests}
 
     def enclose(self, request, arr: np.ndarray, corner_y: np.ndarray, line_y: np.ndarray):
