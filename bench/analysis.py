@@ -8,7 +8,10 @@ REV, tree..., and the best of k repeats in CPU seconds (time.process_time
 inside the worker) is kept. Printed: CPU per kind and in all, the ratio REV /
 tree, and the largest relative difference between the two revisions' numbers
 (nominal, worst case and samples of every metric, yields, ratings, stresses,
-alternatives): the speed must not move a number beyond 1e-9 relative.
+alternatives): the speed must not move a number beyond 1e-9 relative. A second
+column leaves out differences below a millionth of the metric's resolution (as
+the example JSON's test does: a passband gain of 1e-15 dB is rounding noise of
+0 dB, its relative change means nothing).
 
 The machine may be shared: only the ratios of one run mean anything.
 Run:  python bench/analysis.py [--against REV] [--repeats K] [--quick] [--board FILE]
@@ -39,28 +42,43 @@ import numpy as np
 from rcdoc import kinds
 project = kinds.load_project(sys.argv[2])
 
+from rcdoc.analysis.metrics import METRICS
+
 def numbers(r):
-    out = []
+    """Every number of a stage's result, and beside each the absolute difference below
+    which it counts as equal: a millionth of its metric's resolution (the example
+    JSON's test: a passband gain of 1e-15 dB is rounding noise of 0 dB), else 0."""
+    out, floors = [], []
+    def add(values, floor=0.0):
+        out.extend(values)
+        floors.extend([floor] * len(values))
+    def floor_of(name):
+        return 1e-6 * METRICS[name].resolution if name in METRICS else 0.0
     for m in r.metrics:
         s = np.asarray(m.samples, dtype=float)
-        out += [m.nominal, *m.worst_case, float(np.nansum(s)), float(np.nanmin(s)) if s.size else 0.0,
-                float(np.nanmax(s)) if s.size else 0.0]
+        add([m.nominal, *m.worst_case, float(np.nanmin(s)) if s.size else 0.0,
+             float(np.nanmax(s)) if s.size else 0.0], floor_of(m.name))
+        add([float(np.nansum(s))], floor_of(m.name) * max(s.size, 1))
     for v in list(r.verdicts) + list(r.ratings):
-        out += [v.yield_, v.worst, v.nominal, v.wc_low, v.wc_high]
+        add([v.yield_])
+        add([v.worst, v.nominal, v.wc_low, v.wc_high], floor_of(getattr(v, "metric", "")))
     for st in r.stresses.values():
-        out += [st.nominal, st.worst]
+        add([st.nominal, st.worst])
     a = r.alternatives
     if a is not None:
         for row in a.rows:
-            out += list(row.metrics) + list(row.yields)
-    return [x if isinstance(x, float) and math.isfinite(x) else None for x in map(float, out)]
+            add(list(row.metrics) + list(row.yields))
+    vals = [x if isinstance(x, float) and math.isfinite(x) else None for x in map(float, out)]
+    return vals, floors
 
 for line in sys.stdin:
     idx = [int(x) for x in line.split(",") if x]
     t = time.process_time()
     results = [kinds.analyse_stage(project.stages[i], project.analysis) for i in idx]
     cpu = time.process_time() - t
-    print(json.dumps({"cpu": cpu, "numbers": [numbers(r) for r in results]}), flush=True)
+    got = [numbers(r) for r in results]
+    print(json.dumps({"cpu": cpu, "numbers": [g[0] for g in got], "floors": [g[1] for g in got]}),
+          flush=True)
 '''
 
 
@@ -90,15 +108,18 @@ def export(rev: str, into: Path) -> Path:
     return into
 
 
-def largest_difference(a: list, b: list) -> float:
+def largest_difference(a: list, b: list, floors: list | None = None) -> float:
+    """The largest relative difference between two results' numbers; with ``floors``,
+    of those apart by more than their floor (rounding noise of a zero left out)."""
     worst = 0.0
-    for sa, sb in zip(a, b):
+    for k, (sa, sb) in enumerate(zip(a, b)):
         if len(sa) != len(sb):
             return float("inf")
-        for x, y in zip(sa, sb):
+        fl = floors[k] if floors is not None else [0.0] * len(sa)
+        for x, y, f in zip(sa, sb, fl):
             if (x is None) != (y is None):
                 return float("inf")
-            if x is not None and x != y:
+            if x is not None and x != y and abs(x - y) > f:
                 worst = max(worst, abs(x - y) / max(abs(x), abs(y)))
     return worst
 
@@ -125,9 +146,10 @@ def main(argv=None) -> int:
             old.run([0]), new.run([0])                       # imports and first calls
             what = args.board or f"{stages} stages at {samples} samples"
             print(f"analysis of {what}: {args.against} / this tree, best of {k}, CPU s")
-            print(f"{'kind':22} {'stages':>6} {args.against[:10]:>10} {'tree':>8} {'ratio':>6}  max rel diff")
+            print(f"{'kind':22} {'stages':>6} {args.against[:10]:>10} {'tree':>8} {'ratio':>6}  "
+                  "max rel diff  beyond floor")
             tot_old = tot_new = 0.0
-            worst = 0.0
+            worst = worst_f = 0.0
             for kind in dict.fromkeys(kinds_of):
                 idx = [i for i, kd in enumerate(kinds_of) if kd == kind]
                 best_old = best_new = float("inf")
@@ -135,12 +157,13 @@ def main(argv=None) -> int:
                     a, b = old.run(idx), new.run(idx)
                     best_old, best_new = min(best_old, a["cpu"]), min(best_new, b["cpu"])
                 diff = largest_difference(a["numbers"], b["numbers"])
-                worst = max(worst, diff)
+                diff_f = largest_difference(a["numbers"], b["numbers"], b.get("floors"))
+                worst, worst_f = max(worst, diff), max(worst_f, diff_f)
                 tot_old, tot_new = tot_old + best_old, tot_new + best_new
                 print(f"{kind:22} {len(idx):6d} {best_old:10.2f} {best_new:8.2f} "
-                      f"{best_old / best_new:6.2f}  {diff:.1e}")
+                      f"{best_old / best_new:6.2f}  {diff:.1e}       {diff_f:.1e}")
             print(f"{'all':22} {len(kinds_of):6d} {tot_old:10.2f} {tot_new:8.2f} "
-                  f"{tot_old / tot_new:6.2f}  {worst:.1e}")
+                  f"{tot_old / tot_new:6.2f}  {worst:.1e}       {worst_f:.1e}")
         finally:
             old.close(), new.close()
     return 0

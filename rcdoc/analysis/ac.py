@@ -172,10 +172,10 @@ def _inverse(A: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     n = A.shape[-1]
     if n == 0:
         return A.copy(), np.ones(A.shape[0], dtype=bool)
-    r = np.max(np.abs(A), axis=-1, keepdims=True)
+    r = _abs_max(A, -1)                                    # row maxima, (S, n, 1)
     r = np.where(r > 0, r, 1.0)
     Ae = A / r
-    c = np.max(np.abs(Ae), axis=-2, keepdims=True)
+    c = _abs_max(Ae, -2)                                   # column maxima of A / r
     c = np.where(c > 0, c, 1.0)
     Ae = Ae / c
     with np.errstate(all="ignore"):
@@ -186,25 +186,64 @@ def _inverse(A: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
             sv = np.linalg.svd(Ae, compute_uv=False)
             good = sv[..., -1] > _PZ_RCOND * sv[..., 0]
             inv[good] = np.linalg.inv(Ae[good])
-        norm = np.max(np.sum(np.abs(Ae), axis=-2), axis=-1)
-        norm_inv = np.max(np.sum(np.abs(inv), axis=-2), axis=-1)
+        norm, norm_inv = _norm1(Ae), _norm1(inv)
         ok = np.isfinite(norm_inv) & (norm * norm_inv < 1.0 / _PZ_RCOND)
     # A = D_r·Ae·D_c, so A⁻¹ = D_c⁻¹·Ae⁻¹·D_r⁻¹.
     inv = inv / np.swapaxes(c, -1, -2) / np.swapaxes(r, -1, -2)
     return np.where(ok[:, None, None], inv, np.eye(n)), ok
 
 
+# From this many matrices on, maxima and sums over a row or a column are taken with
+# samples last (contiguous copies, (n, n, S)): elementwise over long arrays, the
+# same numbers in the same order as along the small trailing axes, three times
+# faster at 2000 matrices (slower below about 150: the copies).
+_SAMPLES_LAST = 150
+
+
+def _abs_max(A: np.ndarray, axis: int) -> np.ndarray:
+    """max |A| along a row (axis −1) or a column (−2) of each (S, n, n) matrix, keepdims."""
+    if A.shape[0] < _SAMPLES_LAST:
+        return np.max(np.abs(A), axis=axis, keepdims=True)
+    m = np.max(np.abs(np.ascontiguousarray(np.moveaxis(A, 0, -1))), axis=axis + 2,
+               keepdims=True)
+    return np.moveaxis(m, -1, 0)
+
+
+def _norm1(A: np.ndarray) -> np.ndarray:
+    """The 1-norm (largest column sum of |A|) of each (S, n, n) matrix, (S,)."""
+    if A.shape[0] < _SAMPLES_LAST:
+        return np.max(np.sum(np.abs(A), axis=-2), axis=-1)
+    return np.max(np.sum(np.abs(np.ascontiguousarray(np.moveaxis(A, 0, -1))), axis=0), axis=0)
+
+
 class _Pencil:
     """Per-sample poles of the reduced pencil (kept unknowns), shared by every ratio."""
 
-    def __init__(self, system: System, f: np.ndarray):
+    def __init__(self, system: System, f: np.ndarray, poles: np.ndarray | None = None):
+        """``poles``: the network's finite poles per row (rad/s, NaN-padded; those of
+        rcdoc.analysis.poles), when known: the eigenvalues λ = 1/(σ − p) of A⁻¹C are
+        then taken from them (infinite poles: λ = 0) instead of solved for again."""
         self.d_node, self.keep = _eliminated(system)
         self.sigma = _shift(f)
         self.G = system.G[:, self.keep[:, None], self.keep]
         self.C = system.C[:, self.keep[:, None], self.keep]
         self.A_inv, self.ok = _inverse(self.G + self.sigma * self.C)
+        n = self.keep.size
+        if poles is not None and poles.shape[1] <= n:
+            with np.errstate(all="ignore"):
+                lam = 1.0 / (self.sigma - poles)
+            self.poles = np.zeros((poles.shape[0], n), dtype=complex)
+            self.poles[:, :poles.shape[1]] = np.where(np.isnan(poles), 0.0, lam)
+            self.found = np.count_nonzero(np.isfinite(poles), axis=1)
+            return
+        self.found = None
         with np.errstate(all="ignore"):
             self.poles = np.linalg.eigvals(self.A_inv @ self.C)
+
+    def solve_rows(self, rows: np.ndarray) -> None:
+        """The eigenvalues of A⁻¹C of the rows ``rows`` (an index array) solved for."""
+        with np.errstate(all="ignore"):
+            self.poles[rows] = np.linalg.eigvals(self.A_inv[rows] @ self.C[rows])
 
     def zpk(self, o: int, r0: np.ndarray, r1: np.ndarray | None, eigen: bool | float = True):
         """Gain x_o(σ) (S,), zeros as eigenvalues e (S, n) and usable rows for x_o of

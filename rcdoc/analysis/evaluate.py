@@ -89,7 +89,8 @@ class Evaluator(PartStresses):
     @cached_property
     def response(self) -> Response:
         """Zero-pole-gain form of every row's H (the sweep's): cheap searches off the grid."""
-        return Response(self.system, self.system.node(self.network.output), self.freqs_hz)
+        return Response(self.system, self.system.node(self.network.output), self.freqs_hz,
+                        self.poles)
 
     @cached_property
     def h(self) -> np.ndarray:

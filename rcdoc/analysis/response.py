@@ -28,10 +28,12 @@ from rcdoc.analysis.assembly import System
 class Response:
     """H = V(out) per 1 V of source for every row of ``system``, from one pencil."""
 
-    def __init__(self, system: System, out: int, sweep_hz: np.ndarray):
+    def __init__(self, system: System, out: int, sweep_hz: np.ndarray,
+                 poles: np.ndarray | None = None):
+        """``poles``: the rows' finite poles where known (see _Pencil)."""
         self.system = system
         self.out = out
-        self.pencil = _Pencil(system, _freqs(sweep_hz))
+        self.pencil = _Pencil(system, _freqs(sweep_hz), poles)
         p = self.pencil
         self.through = out == p.d_node        # the output is the drive node: H = 1
         if not self.through:
@@ -45,12 +47,19 @@ class Response:
             c_o = p.C[0].copy()
             c_o[:, o] = r1[0]
             count = _rank(c_o)
+            finite = _rank(p.C[0])
+            if p.found is not None:
+                # Poles handed in: a row with fewer finite ones than the structure has
+                # (none found: no shift served it) gets A⁻¹C's eigenvalues instead.
+                short = np.flatnonzero(p.found < finite)
+                if short.size:
+                    p.solve_rows(short)
             scale = np.max(np.abs(p.poles), axis=1, initial=0.0)
             # No eigenvalues where the rank or the first row shows no finite zero.
             probe = bool(count) and (float(scale[0]) if np.isfinite(scale[0]) else True)
             self.gain, zeros, self.ok = p.zpk(o, -system.G[:, keep, d], r1, eigen=probe)
             self.zeros = _finite(zeros, scale, count)
-            self.poles = _finite(p.poles, scale, _rank(p.C[0]))
+            self.poles = _finite(p.poles, scale, finite)
 
     def sweep(self, freqs_hz: np.ndarray) -> np.ndarray:
         """H over a common set of frequencies, (S, F): the same arithmetic as ac.ac."""

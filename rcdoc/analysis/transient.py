@@ -170,8 +170,14 @@ def _march(
     kd0, kd1 = k0t[dyn], k1t[dyn]
     if sink is not None:
         sink.bind(dyn, mcols, k0t, k1t, u0T, u1T)
-    run = RUN if sink is not None else 1
+    # Runs of RUN steps with or without a sink: a run's states are rows of one
+    # buffer, so a step reads the row the step before wrote (no copy per step).
+    run = RUN
     buf = np.empty((run + 1, len(dyn), k0t.shape[1]))
+    # The d products M_DD[:, i]·z_i of a step as one multiplication into `prod`
+    # (d, d, s), then summed in the order i = 0, 1, ... as before: the same numbers.
+    stack = np.ascontiguousarray(np.stack(md)) if len(md) > 1 else None   # (d, d, s)
+    prod = np.empty_like(stack) if stack is not None else None
     home = getattr(sink, "home", None)
     forcing = _Forcing(kd0, kd1, u0T, u1T)
     shared = forcing.terms(steps) if forcing.shared else None
@@ -183,9 +189,13 @@ def _march(
         b[0] = z
         for l in range(m):
             nxt, cur = b[l + 1], b[l]
-            np.multiply(md[0], cur[0], out=nxt)
-            for i in range(1, len(md)):
-                nxt += md[i] * cur[i]
+            if stack is None:
+                np.multiply(md[0], cur[0], out=nxt)
+            else:
+                np.multiply(stack, cur[:, None, :], out=prod)
+                np.add(prod[0], prod[1], out=nxt)
+                for i in range(2, len(md)):
+                    nxt += prod[i]
             if shared is not None:
                 nxt += shared[n0 + l]
             else:

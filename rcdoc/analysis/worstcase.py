@@ -31,6 +31,7 @@ import numpy as np
 
 from rcdoc.analysis import spread
 from rcdoc.analysis.evaluate import Evaluator
+from rcdoc.analysis.metrics import METRICS
 from rcdoc.analysis.network import Network
 from rcdoc.input import parts as partmodels
 from rcdoc.input.model import Analysis, Stage
@@ -40,6 +41,9 @@ STARTS = 4               # Monte Carlo samples started from, per direction
 ITERATIONS = 40          # pattern-search iterations at most
 MIN_STEP = 1e-6          # stop when every step is below this share of its part's range
 FLAT = 1e-9              # relative change taken as no change (rounding of the solver)
+SPECULATE = 3            # halvings evaluated together after an iteration without a move
+FLAT_FLOOR = 1e-6        # share of a metric's resolution below which a start's
+                         # neighbourhood counts as flat (the search stops there)
 
 VERTICES = "vertices"                      # every corner of the box
 SENSITIVITY_VERTICES = "sensitivity vertices"   # many parts: the corners the sensitivities point to
@@ -94,7 +98,12 @@ def search_together(evaluate_all: EvaluateAll, problems: list, lows: np.ndarray,
                     highs: np.ndarray) -> list[np.ndarray]:
     """Several pattern searches (``search``'s, each with its own metric) in lockstep.
 
-    ``problems``: [(starts (S, P), maximise (S,))]. Each search takes exactly the
+    ``problems``: [(starts (S, P), maximise (S,)[, floor])]. A start stops when its
+    steps are all below MIN_STEP of the parts' ranges, or when no candidate of an
+    iteration differs from its value by more than ``floor`` (default 0: only an
+    exactly flat neighbourhood): a metric that does not change by a millionth of
+    its resolution there (a passband gain of 0 dB, rounding noise of 1e-15 dB)
+    has nothing for smaller steps to find. Each search takes exactly the
     steps it takes alone (its moves and its stop depend on its own values only);
     an iteration hands the candidates of every search still running to one call
     of ``evaluate_all(ks, xs)`` (the running searches' indices and candidates), so
@@ -103,13 +112,15 @@ def search_together(evaluate_all: EvaluateAll, problems: list, lows: np.ndarray,
     """
     span = highs - lows
     state = []
-    for starts, maximise in problems:
+    for starts, maximise, *floor in problems:
         s, p = starts.shape
         if s == 0 or p == 0 or not np.any(span > 0):
             state.append(None)
             continue
         state.append({"sign": np.where(maximise, 1.0, -1.0), "x": starts.copy(),
+                      "floor": floor[0] if floor else 0.0,
                       "step": np.repeat((span / 4.0)[None, :], s, axis=0),
+                      "it": np.zeros(s, dtype=int), "levels": np.ones(s, dtype=int),
                       "moves": np.concatenate([np.eye(p), -np.eye(p)])})   # (2P, P) unit moves
     live = [k for k, st in enumerate(state) if st is not None]
     if live:
@@ -119,29 +130,20 @@ def search_together(evaluate_all: EvaluateAll, problems: list, lows: np.ndarray,
             fx = st["sign"] * v
             st["fx"] = np.where(np.isfinite(fx), fx, -np.inf)
             st["found"] = [st["sign"] * st["fx"]]
+    least = MIN_STEP * np.where(span > 0, span, 1.0)
     for _ in range(ITERATIONS):
-        live = [k for k in live
-                if not np.all(state[k]["step"] <= MIN_STEP * np.where(span > 0, span, 1.0))]
+        # A start whose steps are all below MIN_STEP of their parts' ranges is done,
+        # as is one that took ITERATIONS iterations.
+        act = {k: np.flatnonzero(~np.all(state[k]["step"] <= least, axis=1)
+                                 & (state[k]["it"] < ITERATIONS)) for k in live}
+        live = [k for k in live if act[k].size]
         if not live:
             break
-        cands = []
-        for k in live:
-            st = state[k]
-            cand = st["x"][:, None, :] + st["moves"][None] * st["step"][:, None, :]  # (S, 2P, P)
-            cands.append(np.clip(cand, lows, highs))
-        values = evaluate_all(live, [c.reshape(-1, c.shape[-1]) for c in cands])
-        for k, cand, v in zip(live, cands, values):
-            st = state[k]
-            s, p = st["x"].shape
-            fc = st["sign"][:, None] * v.reshape(s, 2 * p)
-            fc = np.where(np.isfinite(fc), fc, -np.inf)
-            best = np.argmax(fc, axis=1)
-            fbest = fc[np.arange(s), best]
-            better = fbest > st["fx"] + FLAT * np.abs(st["fx"])
-            st["x"] = np.where(better[:, None], cand[np.arange(s), best], st["x"])
-            st["fx"] = np.where(better, fbest, st["fx"])
-            st["step"] = np.where(better[:, None], st["step"], st["step"] / 2.0)
-            st["found"].append(st["sign"] * st["fx"])
+        blocks = [_candidates(state[k], act[k], lows, highs) for k in live]
+        values = evaluate_all(live, [np.concatenate([c.reshape(-1, c.shape[-1]) for _, c in b])
+                                     for b in blocks])
+        for k, b, v in zip(live, blocks, values):
+            _advance(state[k], b, v, least)
     out = []
     for st in state:
         if st is None:
@@ -150,6 +152,52 @@ def search_together(evaluate_all: EvaluateAll, problems: list, lows: np.ndarray,
         f = np.concatenate(st["found"])
         out.append(f[np.isfinite(f)])
     return out
+
+
+def _candidates(st: dict, a: np.ndarray, lows: np.ndarray, highs: np.ndarray) -> list:
+    """The candidates of the active starts ``a`` of one search: [(starts, (A_l, 2P, P))]
+    per level l, the steps halved l times (a start that found nothing last time is
+    likely to find nothing again: its next halvings are evaluated in the same batch,
+    SPECULATE levels; one that moved, one level)."""
+    levels = st["levels"][a]
+    out = []
+    for level in range(int(levels.max())):
+        al = a[levels > level]
+        step = st["step"][al] / 2.0 ** level          # exact: the halvings to come
+        cand = st["x"][al, None, :] + st["moves"][None] * step[:, None, :]      # (A, 2P, P)
+        out.append((al, np.clip(cand, lows, highs)))
+    return out
+
+
+def _advance(st: dict, blocks: list, v: np.ndarray, least: np.ndarray) -> None:
+    """One search's iterations from its candidates' values ``v``, level by level: each
+    start takes the best improving move of a level and stops there for this batch,
+    or halves its steps and goes on to the next level if it is still active (the
+    same moves, halvings and stops as one level per batch)."""
+    p = st["x"].shape[1]
+    going = np.ones(len(st["x"]), dtype=bool)       # no move yet in this batch
+    at = 0
+    for level, (al, cand) in enumerate(blocks):
+        fc = st["sign"][al, None] * v[at:at + al.size * 2 * p].reshape(al.size, 2 * p)
+        at += al.size * 2 * p
+        if level:
+            keep = going[al] & (st["it"][al] < ITERATIONS) & ~np.all(st["step"][al] <= least,
+                                                                      axis=1)
+            al, cand, fc = al[keep], cand[keep], fc[keep]
+        fc = np.where(np.isfinite(fc), fc, -np.inf)
+        best = np.argmax(fc, axis=1)
+        fbest = fc[np.arange(al.size), best]
+        fx = st["fx"][al]
+        better = fbest > fx + FLAT * np.abs(fx)
+        st["x"][al] = np.where(better[:, None], cand[np.arange(al.size), best], st["x"][al])
+        st["fx"][al] = np.where(better, fbest, fx)
+        st["step"][al] = np.where(better[:, None], st["step"][al], st["step"][al] / 2.0)
+        flat = np.all(np.abs(fc - fx[:, None]) <= st["floor"], axis=1)    # -inf: not
+        st["step"][al[flat]] = 0.0
+        st["it"][al] += 1
+        st["levels"][al] = np.where(better, 1, SPECULATE)
+        going[al[better]] = False
+        st["found"].append(st["sign"][al] * st["fx"][al])
 
 
 def start_points(samples_x: np.ndarray, samples_y: np.ndarray, nominal: np.ndarray,
@@ -252,9 +300,12 @@ class Context:
         p = len(self.batch.roles)
         if p == 0:
             return {key(q): np.zeros(0) for q in requests}
-        x = line_rows(self.part_values(slice(0, 1))[0], self.lows, self.highs)
-        ev = self.evaluator(x)
-        return {key(q): np.asarray(ev.metric(q[0], q[2], at_hz=q[1]), dtype=float)
+        nominal = self.part_values(slice(0, 1))
+        x = line_rows(nominal[0], self.lows, self.highs)
+        # After the nominal's row, as in the pipeline's chunk that carries the walks:
+        # the frequency scale of the poles (from the first row) is then the same.
+        ev = self.evaluator(np.concatenate([nominal, x]))
+        return {key(q): np.asarray(ev.metric(q[0], q[2], at_hz=q[1]), dtype=float)[1:]
                 for q in requests}
 
     def enclose(self, request, arr: np.ndarray, corner_y: np.ndarray, line_y: np.ndarray):
@@ -272,9 +323,10 @@ class Context:
             found.append([corner_y, arr[:1], samples, line_y])
             methods.append(base)
             if p and needs_search(corner_y, float(arr[0]), samples, line_y, p):
-                problems.append(start_points(
+                problems.append((*start_points(
                     self.part_values(b.mc), samples, self.part_values(slice(0, 1))[0],
-                    self.part_values(b.vertex), arr[b.vertex]))
+                    self.part_values(b.vertex), arr[b.vertex]),
+                    FLAT_FLOOR * METRICS[request[0]].resolution))
                 owners.append((len(found) - 1, request))
                 methods[-1] += SEARCHED
         if problems:
