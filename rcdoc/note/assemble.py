@@ -37,7 +37,7 @@ from pathlib import Path
 
 import weasyprint
 
-from rcdoc.note import join, numbers, pdf_images, report
+from rcdoc.note import join, numbers, pdf_images, report, ua_sheet
 
 __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "font_subsetter",
            "render_part", "stage_part", "assemble", "render_note", "project_head", "context_key",
@@ -190,8 +190,9 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
                               template_dirs=template_dirs,
                               source_date_epoch=source_date_epoch, figures=figures)
     cache = report.cache if image_cache is None else image_cache
-    document = weasyprint.HTML(string=html, base_url=str(base) + os.sep,
-                               url_fetcher=fetcher).render(
+    html_class = ua_sheet.html_class(template_dirs, search[-1])
+    document = html_class(string=html, base_url=str(base) + os.sep,
+                          url_fetcher=fetcher).render(
         cache=report.figure_images(figures, cache),
         stylesheets=[sheet] if sheet is not None else None)
     scale = 0.75  # CSS px -> PDF pt, as weasyprint writes them (zoom 1)

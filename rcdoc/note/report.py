@@ -75,7 +75,7 @@ from weasyprint.urls import URLFetcher, URLFetcherResponse
 
 from rcdoc.errors import ProjectError
 from rcdoc.files import write_atomic
-from rcdoc.note import pdf_images, table_widths
+from rcdoc.note import pdf_images, table_widths, ua_sheet
 
 __all__ = [
     "render_document",
@@ -535,7 +535,8 @@ def render_document(context: dict, out_path: Path, *, template_dirs: Sequence[Pa
     # Relative URLs in a template resolve against the folder of the first
     # note.html found, where an override's own assets live.
     base = next(d for d in search_path if (d / _TEMPLATE_NAME).is_file())
-    document = weasyprint.HTML(string=html, base_url=str(base) + os.sep, url_fetcher=fetcher)
+    html_class = ua_sheet.html_class(template_dirs, search_path[-1])
+    document = html_class(string=html, base_url=str(base) + os.sep, url_fetcher=fetcher)
     pdf_id = pdf_identifier(str(board.get("name", "")), str(board.get("revision", "")))
 
     with _font_timestamp(source_date_epoch or 0):
