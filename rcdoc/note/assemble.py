@@ -37,7 +37,7 @@ from pathlib import Path
 
 import weasyprint
 
-from rcdoc.note import join, numbers, pdf_images, report, ua_sheet
+from rcdoc.note import join, note_html, numbers, pdf_images, report
 
 __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "font_subsetter",
            "render_part", "stage_part", "assemble", "render_note", "project_head", "context_key",
@@ -190,7 +190,7 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
                               template_dirs=template_dirs,
                               source_date_epoch=source_date_epoch, figures=figures)
     cache = report.cache if image_cache is None else image_cache
-    html_class = ua_sheet.html_class(template_dirs, search[-1])
+    html_class = note_html.html_class(template_dirs, search[-1])
     document = html_class(string=html, base_url=str(base) + os.sep,
                           url_fetcher=fetcher).render(
         cache=report.figure_images(figures, cache),

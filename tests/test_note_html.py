@@ -1,4 +1,4 @@
-"""Tests of rcdoc.note.ua_sheet: weasyprint's user-agent sheet without the rules
+"""Tests of rcdoc.note.note_html: weasyprint's user-agent sheet without the rules
 for note pseudo-elements, for the shipped templates only.
 
 The reference is weasyprint itself with its whole sheet: every part rendered with
@@ -16,7 +16,7 @@ import pytest
 import weasyprint
 from weasyprint.css import get_all_computed_styles
 
-from rcdoc.note import assemble, report, ua_sheet
+from rcdoc.note import assemble, report, note_html
 from test_report import EPOCH, make_context
 
 SHIPPED = report.shipped_templates_dir()
@@ -37,12 +37,12 @@ def test_shipped_templates_use_nothing_the_trimmed_sheet_leaves_out():
 
 
 def test_the_trimmed_sheet_drops_the_pseudo_element_styles_and_nothing_else():
-    sheet = ua_sheet.trimmed_sheet()
+    sheet = note_html.trimmed_sheet()
     assert sheet is not None                   # weasyprint's sheet is the expected one
     html = ("<table><tr><td>1</td><td><a href='#x'>2</a></td></tr></table>"
             "<ul><li id='x'>item</li></ul><h2>Title</h2>")
     full = weasyprint.HTML(string=html)
-    trimmed = ua_sheet.NoteHTML(string=html)
+    trimmed = note_html.NoteHTML(string=html)
     styles = {}
     for name, doc in (("full", full), ("trimmed", trimmed)):
         style_for = get_all_computed_styles(doc)
@@ -69,11 +69,11 @@ def test_the_trimmed_sheet_drops_the_pseudo_element_styles_and_nothing_else():
 
 def test_template_folder_with_a_shipped_name_keeps_the_whole_sheet(tmp_path):
     # A replaced template may use footnotes: weasyprint's own sheet for it.
-    assert ua_sheet.html_class([], SHIPPED) is ua_sheet.NoteHTML
+    assert note_html.html_class([], SHIPPED) is note_html.NoteHTML
     (tmp_path / "logo.png").write_bytes(b"")          # an asset of its own: no template
-    assert ua_sheet.html_class([tmp_path], SHIPPED) is ua_sheet.NoteHTML
+    assert note_html.html_class([tmp_path], SHIPPED) is note_html.NoteHTML
     (tmp_path / "_stage.html").write_text("<p>own</p>")
-    assert ua_sheet.html_class([tmp_path], SHIPPED) is weasyprint.HTML
+    assert note_html.html_class([tmp_path], SHIPPED) is weasyprint.HTML
 
 
 @pytest.mark.slow
@@ -85,7 +85,7 @@ def test_parts_and_whole_note_are_the_same_bytes_as_with_the_whole_sheet(monkeyp
     kw = dict(source_date_epoch=EPOCH)
     trimmed = [assemble.render_part(c, p, **kw) for p, c in parts]
     report.render_document(ctx, tmp_path / "trimmed.pdf", source_date_epoch=EPOCH)
-    monkeypatch.setattr(ua_sheet, "html_class", lambda *a: weasyprint.HTML)
+    monkeypatch.setattr(note_html, "html_class", lambda *a: weasyprint.HTML)
     full = [assemble.render_part(c, p, **kw) for p, c in parts]
     report.render_document(ctx, tmp_path / "full.pdf", source_date_epoch=EPOCH)
     for a, b in zip(trimmed, full):
