@@ -13,6 +13,7 @@ from __future__ import annotations
 import re
 
 import pytest
+import tinyhtml5
 import weasyprint
 from weasyprint.css import get_all_computed_styles
 
@@ -92,3 +93,85 @@ def test_parts_and_whole_note_are_the_same_bytes_as_with_the_whole_sheet(monkeyp
         assert a["pages"] == b["pages"] >= 1
         assert a["pdf"] == b["pdf"]
     assert (tmp_path / "trimmed.pdf").read_bytes() == (tmp_path / "full.pdf").read_bytes()
+
+
+def _tree(root) -> list[tuple]:
+    return [(e.tag, dict(e.attrib), e.text or "", e.tail or "") for e in root.iter()]
+
+
+def _html5(html: str) -> list[tuple]:
+    # As weasyprint.HTML reads a string: tinyhtml5, no namespaces.
+    return _tree(tinyhtml5.parse(html, namespace_html_elements=False))
+
+
+def _part_htmls(ctx: dict) -> list[str]:
+    head = assemble._head(ctx)
+    parts = [(assemble.front_context(ctx), "front"),
+             ({**head, "stages": ctx["stages"][:1]}, "stage"),
+             ({**head, "stages": ctx["stages"]}, "stage"),
+             (assemble.appendix_context(ctx, ctx.get("appendix") or []), "appendix"),
+             ({**head, "stages": [], "page_count": 3}, "numbers")]
+    htmls = [report.render_html({**c, "part": p, "shared_css": True}, source_date_epoch=EPOCH)
+             for c, p in parts]
+    return htmls + [report.render_html(ctx, source_date_epoch=EPOCH)]   # the whole note
+
+
+def test_shipped_templates_read_by_expat_as_by_tinyhtml5():
+    htmls = _part_htmls(make_context())
+    for html in htmls:
+        root = note_html.xhtml_tree(html)
+        assert root is not None                       # every part takes the fast path
+        assert _tree(root) == _html5(html)
+
+
+@pytest.mark.slow
+def test_example_board_parts_read_by_expat_as_by_tinyhtml5():
+    from rcdoc.commands.build import analyse_project
+    from rcdoc.kinds import load_project
+    from rcdoc.note.page import note_context
+
+    project = load_project(str(assemble.Path(__file__).resolve().parents[1] / "projects"
+                               / "greenhouse-controller.toml"), samples=20)
+    out = analyse_project(project, jobs=1, draw=True)
+    ctx = note_context(project, out.results, stage_contexts=out.contexts,
+                       overview=out.overview)
+    htmls = _part_htmls(ctx) + [
+        report.render_html({**assemble._head(ctx), "stages": [st], "part": "stage",
+                            "shared_css": True}) for st in ctx["stages"]]
+    for html in htmls:
+        root = note_html.xhtml_tree(html)
+        assert root is not None and _tree(root) == _html5(html)
+
+
+HEAD = "<!DOCTYPE html>\n<html>\n<head><title>t</title><style>p { color: red; }</style></head>\n"
+
+
+@pytest.mark.parametrize("body", [
+    "<body>\n<p>a <div>block</div> b</p>\n</body>\n</html>\n",      # a block ends the p
+    "<body><p><span><table></table></span></p></body></html>",      # deeper in the p
+    "<body><table><tr><td>1</td></tr></table></body></html>",       # HTML5 adds a tbody
+    '<body><p title="two\nlines">x</p></body></html>',              # XML: newline -> space
+    "<body><!-- a comment --><p>x</p></body></html>",               # kept by tinyhtml5
+    "<body><p>x<br>y</p></body></html>",                            # not XML
+    "<body><p>x</p></body>\ntext after the body</html>",            # moved into the body
+    "<body><p>&nbsp;</p></body></html>",                            # an HTML entity
+])
+def test_documents_expat_would_read_otherwise_go_to_tinyhtml5(body):
+    html = HEAD + body
+    assert note_html.xhtml_tree(html) is None
+    assert _tree(note_html.NoteHTML(string=html).etree_element) == _html5(html)
+
+
+def test_css_with_ampersand_goes_to_tinyhtml5():
+    # In HTML a style element's text is raw; XML would decode "&amp;".
+    html = ("<html><head><style>p::after { content: \"&amp;\"; }</style></head>"
+            "<body><p>x</p></body></html>")
+    assert note_html.xhtml_tree(html) is None
+
+
+def test_whitespace_around_head_and_body_moves_as_in_html5():
+    html = HEAD + "<body>\n<p>x</p>\n</body>\n</html>\n\n"
+    root = note_html.xhtml_tree(html)
+    assert root is not None and _tree(root) == _html5(html)
+    doc = note_html.NoteHTML(string=html, base_url="/tmp/")
+    assert doc.base_url == "/tmp/" and _tree(doc.etree_element) == _html5(html)
