@@ -175,3 +175,58 @@ def test_whitespace_around_head_and_body_moves_as_in_html5():
     assert root is not None and _tree(root) == _html5(html)
     doc = note_html.NoteHTML(string=html, base_url="/tmp/")
     assert doc.base_url == "/tmp/" and _tree(doc.etree_element) == _html5(html)
+
+
+def _stage_ctx(title: str | None = None) -> dict:
+    ctx = make_context()
+    stage = dict(ctx["stages"][0], **({"title": title} if title else {}))
+    return {**assemble._head(ctx), "stages": [stage], "part": "stage"}
+
+
+def test_margin_texts_are_the_ones_the_templates_set():
+    # What margin_css measures must be what string-set puts in the margin boxes.
+    from xml.etree import ElementTree
+    ctx = _stage_ctx()
+    root = ElementTree.fromstring(report.render_html({**ctx, "shared_css": True}))
+    running = {e.get("data-running") for e in root.iter() if e.get("data-running")}
+    generator = {e.get("data-generator") for e in root.iter() if e.get("data-generator")}
+    titles = [e.get("data-title") for e in root.iter() if e.get("data-title")]
+    top, bottom = note_html.margin_texts(ctx)
+    assert set(top) == running | set(titles) and {bottom} == generator
+
+
+def test_margin_widths_only_where_every_text_fits():
+    from rcdoc.note.table_widths import text_width
+    assert note_html.margin_css(_stage_ctx()).startswith("@page")
+    assert note_html.margin_css({**_stage_ctx(), "part": "front"}) == ""
+    half = (210 - 36) / 25.4 * 72 / 2                 # A4 less 18 mm margins, in pt, halved
+    long_title = "Wide title " * 12
+    assert text_width(long_title, size=7.5) > half
+    assert note_html.margin_css(_stage_ctx(long_title)) == ""
+
+
+def _title_of_width(points: float) -> str:
+    from rcdoc.note.table_widths import text_width
+    words = "Input filter of the long cable run to the pump controller".split()
+    title = ""
+    for i in range(200):
+        longer = (title + " " + words[i % len(words)]).strip()
+        if text_width(longer, size=7.5) > points:
+            return title
+        title = longer
+    return title
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("room", [1.5, 30.0])
+def test_margin_widths_give_the_same_pages(monkeypatch, room):
+    # The reference: weasyprint sharing the width out itself (no widths given),
+    # with a title just inside the limit and one well inside it.
+    half = (210 - 36) / 25.4 * 72 / 2
+    ctx = _stage_ctx(_title_of_width(half - room))
+    assert note_html.margin_css(ctx)
+    given = assemble.render_part(ctx, "stage", source_date_epoch=EPOCH)
+    monkeypatch.setattr(note_html, "margin_css", lambda context: "")
+    shared = assemble.render_part(ctx, "stage", source_date_epoch=EPOCH)
+    assert given["pages"] == shared["pages"] >= 1
+    assert given["pdf"] == shared["pdf"]

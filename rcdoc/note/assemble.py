@@ -186,11 +186,13 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
     search = report._search_path(template_dirs)
     base = next(d for d in search if (d / report._TEMPLATE_NAME).is_file())
     sheet = _shared_css(ctx, template_dirs, str(base) + os.sep, fetcher, source_date_epoch)
-    html = report.render_html({**ctx, "shared_css": sheet is not None},
+    html_class = note_html.html_class(template_dirs, search[-1])
+    shipped = html_class is note_html.NoteHTML
+    html = report.render_html({**ctx, "shared_css": sheet is not None,
+                               "margin_css": note_html.margin_css(ctx) if shipped else ""},
                               template_dirs=template_dirs,
                               source_date_epoch=source_date_epoch, figures=figures)
     cache = report.cache if image_cache is None else image_cache
-    html_class = note_html.html_class(template_dirs, search[-1])
     document = html_class(string=html, base_url=str(base) + os.sep,
                           url_fetcher=fetcher).render(
         cache=report.figure_images(figures, cache),

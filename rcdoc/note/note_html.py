@@ -24,8 +24,15 @@ values XML would normalise; CSS with ``&`` or ``<``; inline SVG or MathML; a
 comment, which tinyhtml5 keeps in the tree), goes
 to tinyhtml5 as before.
 
-Both give the same PDF, byte for byte (tests/test_note_html.py), at about a sixth
-less CPU per stage part (bench/floor.py e). A document made with a template
+The margin boxes. weasyprint sizes the page's margin boxes (board and revision
+top left, the section top right, the generator bottom left) from their texts'
+narrowest and widest widths on every page. Where a stage part's texts fit in
+half the page's width (measured with rcdoc.note.table_widths), widths given in
+CSS spare that: a text aligned left at the left edge, or right at the right
+edge, is drawn at the same place in a box of any width it fits in.
+
+Each gives the same PDF, byte for byte (tests/test_note_html.py); together a
+sixth less CPU per stage part (bench/floor.py e). A document made with a template
 folder that replaces a shipped template is read by weasyprint as it is, with
 weasyprint's whole sheet: its templates may use footnotes or plain HTML.
 """
@@ -34,7 +41,7 @@ from __future__ import annotations
 
 import functools
 import re
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from pathlib import Path
 from xml.etree import ElementTree
 
@@ -162,6 +169,43 @@ class NoteHTML(weasyprint.HTML):
         if sheet is None or forms:
             return super()._ua_stylesheets(forms)
         return [sheet]
+
+
+# note.css: the header's and footer's texts are DejaVu Sans at 7.5 and 7 pt, in the
+# margin boxes of an A4 page with 18 mm side margins.
+_HEADER_PT = 7.5
+_PAGE_PT = (210 - 18 - 18) * 72 / 25.4
+_SLACK_PT = 1.0
+
+
+def margin_texts(context: Mapping) -> tuple[list[str], str]:
+    """The texts a stage part's margin boxes show: board and revision and each
+    stage's title at the top, the generator at the bottom."""
+    board = context.get("board") or {}
+    top = [f"{board.get('name', '')} · rev {board.get('revision', '')}"]
+    top += [str(stage.get("title", "")) for stage in context.get("stages") or []]
+    return top, str(context.get("generator", ""))
+
+
+def margin_css(context: Mapping) -> str:
+    """CSS giving a stage part's margin boxes their widths (half the page each at
+    the top, the whole page at the bottom) where every text they show fits with
+    a point to spare; "" for other parts, or where one might not fit (weasyprint
+    then shares the width out as it would). The texts are those the templates set
+    (note.html, _stage.html: string-set from data-running, data-title and
+    data-generator; tests/test_note_html.py reads them back from the HTML)."""
+    if context.get("part") != "stage":
+        return ""
+    from rcdoc.note.table_widths import text_width
+
+    top, bottom = margin_texts(context)
+    half = _PAGE_PT / 2 - _SLACK_PT
+    if any(text_width(t, size=_HEADER_PT) > half for t in top):
+        return ""
+    if text_width(bottom, size=_HEADER_PT) > 2 * half:
+        return ""
+    return ("@page { @top-left { width: 50% } @top-right { width: 50% } "
+            "@bottom-left { width: 100% } }")
 
 
 def html_class(template_dirs: Sequence[Path], shipped_dir: Path) -> type:
