@@ -155,6 +155,11 @@ HEAD = "<!DOCTYPE html>\n<html>\n<head><title>t</title><style>p { color: red; }<
     "<body><p>x<br>y</p></body></html>",                            # not XML
     "<body><p>x</p></body>\ntext after the body</html>",            # moved into the body
     "<body><p>&nbsp;</p></body></html>",                            # an HTML entity
+    "<body><table><tbody>stray<tr><td>1</td></tr></tbody></table></body></html>",  # moved out
+    "<body><table><tbody><tr><td>1</td>stray</tr></tbody></table></body></html>",
+    "<body><P>x</P></body></html>",                                 # HTML5 lowers names
+    "<body><pre>\nx</pre></body></html>",                           # first newline dropped
+    "<body><p>\ud800</p></body></html>",                            # a lone surrogate
 ])
 def test_documents_expat_would_read_otherwise_go_to_tinyhtml5(body):
     html = HEAD + body

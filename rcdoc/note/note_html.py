@@ -85,19 +85,23 @@ def trimmed_sheet():
 # attribute's value, HTML keeps them.
 _BROKEN_TAG = re.compile(r"<[^<>]*[\t\r\n][^<>]*>")
 _STYLE = re.compile(r"<style\b[^>]*>(.*?)</style>", re.S | re.I)
+# Read otherwise by HTML5: foreign content (SVG, MathML), comments and processing
+# instructions (tinyhtml5 keeps comments in the tree), CDATA, and the elements
+# whose first line break HTML5 drops.
+_OTHERWISE = ("<svg", "<math", "<!--", "<?", "<![", "<pre", "<textarea", "<listing")
 
 
 def xhtml_tree(html: str) -> ElementTree.Element | None:
     """The element tree tinyhtml5 builds from ``html`` (as weasyprint asks: no
     namespaces), read by expat; None where expat cannot read it or might read it
     otherwise."""
-    if any(w in html for w in ("<svg", "<math", "<!--", "<?", "<![")) or _BROKEN_TAG.search(html):
-        return None                     # foreign content, comments: tinyhtml5 keeps them
+    if any(w in html for w in _OTHERWISE) or _BROKEN_TAG.search(html):
+        return None
     if any("&" in css or "<" in css for css in _STYLE.findall(html)):
         return None                     # raw text in HTML, parsed text in XML
     try:
         root = ElementTree.fromstring(html)
-    except ElementTree.ParseError:
+    except (ElementTree.ParseError, ValueError):     # ValueError: a lone surrogate
         return None
     if root.tag != "html" or [child.tag for child in root] != ["head", "body"]:
         return None
@@ -123,19 +127,29 @@ _ENDS_P = frozenset("address article aside blockquote details dialog div dl fiel
                     "figcaption figure footer form h1 h2 h3 h4 h5 h6 header hgroup hr "
                     "main menu nav ol p pre section summary table ul".split())
 _TABLE_CHILDREN = frozenset(("caption", "colgroup", "thead", "tbody", "tfoot"))
+_TABLE_TEXTLESS = frozenset(("table", "thead", "tbody", "tfoot", "tr", "colgroup"))
 
 
 def _rebuilt_by_html5(body: ElementTree.Element) -> bool:
-    """Whether the HTML5 tree builder would build another tree from this nesting:
-    a block inside a paragraph, a row straight inside a table (HTML5 adds the
-    tbody). A shipped template written so would be a mistake; its note is then
-    read as HTML, as before."""
+    """Whether the HTML5 tree builder would build another tree from this one:
+    names not in lower case, a block inside a paragraph, a row straight inside a
+    table (HTML5 adds the tbody), text between a table's rows or cells. A shipped
+    template written so would be a mistake; its note is then read as HTML, as
+    before."""
+    for element in body.iter():
+        if element.tag != element.tag.lower() or any(k != k.lower() for k in element.attrib):
+            return True                 # HTML5 lowers the case of names
     for p in body.iter("p"):
         if any(inner.tag in _ENDS_P for inner in p.iter() if inner is not p):
             return True
     for table in body.iter("table"):
         if any(child.tag not in _TABLE_CHILDREN for child in table):
             return True
+        # Text between a table's rows and cells: HTML5 moves it out of the table.
+        for box in table.iter():
+            if box.tag in _TABLE_TEXTLESS and any(
+                    (t or "").strip() for t in [box.text, *(child.tail for child in box)]):
+                return True
     return False
 
 
