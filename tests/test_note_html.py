@@ -235,3 +235,14 @@ def test_margin_widths_give_the_same_pages(monkeypatch, room):
     shared = assemble.render_part(ctx, "stage", source_date_epoch=EPOCH)
     assert given["pages"] == shared["pages"] >= 1
     assert given["pdf"] == shared["pdf"]
+
+
+def test_margin_box_fonts_are_the_ones_margin_css_measures():
+    # margin_css measures DejaVu Sans at 7.5 pt on an A4 page with 18 mm side
+    # margins: note.css must not set the margin boxes larger or the page narrower.
+    css = (SHIPPED / "note.css").read_text(encoding="utf-8")
+    page = css[css.index("@page {"):css.index("@page :first")]
+    assert "size: A4 portrait;" in page and "margin: 20mm 18mm 18mm 18mm;" in page
+    sizes = re.findall(r"font: ([\d.]+)pt \"DejaVu Sans\"", page)
+    assert len(sizes) == 4 and max(float(s) for s in sizes) <= note_html._HEADER_PT
+    assert not re.search(r"letter-spacing|word-spacing|font-weight|text-transform", page)
