@@ -38,7 +38,7 @@ from pathlib import Path
 from rcdoc.note import renderer_libs  # noqa: F401 - weasyprint, without ctypes' library search
 import weasyprint
 
-from rcdoc.note import join, numbers, pdf_images, report
+from rcdoc.note import join, note_html, numbers, pdf_images, report
 
 __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "font_subsetter",
            "render_part", "stage_part", "assemble", "render_note", "project_head", "context_key",
@@ -187,12 +187,15 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
     search = report._search_path(template_dirs)
     base = next(d for d in search if (d / report._TEMPLATE_NAME).is_file())
     sheet = _shared_css(ctx, template_dirs, str(base) + os.sep, fetcher, source_date_epoch)
-    html = report.render_html({**ctx, "shared_css": sheet is not None},
+    html_class = note_html.html_class(template_dirs, search[-1])
+    shipped = html_class is note_html.NoteHTML
+    html = report.render_html({**ctx, "shared_css": sheet is not None,
+                               "margin_css": note_html.margin_css(ctx) if shipped else ""},
                               template_dirs=template_dirs,
                               source_date_epoch=source_date_epoch, figures=figures)
     cache = report.cache if image_cache is None else image_cache
-    document = weasyprint.HTML(string=html, base_url=str(base) + os.sep,
-                               url_fetcher=fetcher).render(
+    document = html_class(string=html, base_url=str(base) + os.sep,
+                          url_fetcher=fetcher).render(
         cache=report.figure_images(figures, cache),
         stylesheets=[sheet] if sheet is not None else None)
     scale = 0.75  # CSS px -> PDF pt, as weasyprint writes them (zoom 1)

@@ -76,7 +76,7 @@ from weasyprint.urls import URLFetcher, URLFetcherResponse
 
 from rcdoc.errors import ProjectError
 from rcdoc.files import write_atomic
-from rcdoc.note import pdf_images, table_widths
+from rcdoc.note import note_html, pdf_images, table_widths
 
 __all__ = [
     "render_document",
@@ -227,9 +227,9 @@ def _figure_markup(svg: str | bytes, alt: str = "") -> Markup:
             # so the HTML parser never walks the base64 of every chart.
             url = pdf_images.FIGURE_SCHEME + hashlib.sha256(svg).hexdigest()
             figures[url] = svg
-            return Markup('<img class="chart" src="{}" alt="{}">').format(url, alt)
+            return Markup('<img class="chart" src="{}" alt="{}" />').format(url, alt)
         data = base64.b64encode(svg).decode("ascii")
-        return Markup('<img class="chart" src="data:image/png;base64,{}" alt="{}">').format(
+        return Markup('<img class="chart" src="data:image/png;base64,{}" alt="{}" />').format(
             Markup(data), alt)
     if FIGURE_EMBEDDING == "inline":
         return Markup(_XML_PROLOG_RE.sub("", svg, count=1))
@@ -240,9 +240,9 @@ def _figure_markup(svg: str | bytes, alt: str = "") -> Markup:
         # of it. An SVG with text elements needs the document's fonts: a data: URL.
         url = pdf_images.FIGURE_SCHEME + hashlib.sha256(svg.encode("utf-8")).hexdigest()
         figures[url] = svg
-        return Markup('<img class="chart" src="{}" alt="{}">').format(url, alt)
+        return Markup('<img class="chart" src="{}" alt="{}" />').format(url, alt)
     data = base64.b64encode(svg.encode("utf-8")).decode("ascii")
-    return Markup('<img class="chart" src="data:image/svg+xml;base64,{}" alt="{}">').format(
+    return Markup('<img class="chart" src="data:image/svg+xml;base64,{}" alt="{}" />').format(
         Markup(data), alt
     )
 
@@ -536,7 +536,8 @@ def render_document(context: dict, out_path: Path, *, template_dirs: Sequence[Pa
     # Relative URLs in a template resolve against the folder of the first
     # note.html found, where an override's own assets live.
     base = next(d for d in search_path if (d / _TEMPLATE_NAME).is_file())
-    document = weasyprint.HTML(string=html, base_url=str(base) + os.sep, url_fetcher=fetcher)
+    html_class = note_html.html_class(template_dirs, search_path[-1])
+    document = html_class(string=html, base_url=str(base) + os.sep, url_fetcher=fetcher)
     pdf_id = pdf_identifier(str(board.get("name", "")), str(board.get("revision", "")))
 
     with _font_timestamp(source_date_epoch or 0):
