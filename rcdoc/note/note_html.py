@@ -46,7 +46,9 @@ from pathlib import Path
 from xml.etree import ElementTree
 
 import cssselect2
-import weasyprint
+
+from rcdoc.note import renderer_libs  # noqa: F401 - weasyprint, without ctypes' library search
+import weasyprint  # noqa: E402 - after renderer_libs
 
 # The rules taken out: each starts a line of weasyprint's html5_ua.css.
 _DROPPED = ("::footnote-call", "::footnote-marker", "::note-call", "::note-marker",
