@@ -38,7 +38,7 @@ from pathlib import Path
 from rcdoc.note import renderer_libs  # noqa: F401 - weasyprint, without ctypes' library search
 import weasyprint
 
-from rcdoc.note import join, note_html, numbers, pdf_images, report
+from rcdoc.note import font_scratch, join, note_html, numbers, pdf_images, report
 
 __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "font_subsetter",
            "render_part", "stage_part", "assemble", "render_note", "project_head", "context_key",
@@ -194,10 +194,15 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
                               template_dirs=template_dirs,
                               source_date_epoch=source_date_epoch, figures=figures)
     cache = report.cache if image_cache is None else image_cache
-    document = html_class(string=html, base_url=str(base) + os.sep,
-                          url_fetcher=fetcher).render(
-        cache=report.figure_images(figures, cache),
-        stylesheets=[sheet] if sheet is not None else None)
+    with font_scratch.closed(project_dir) as fonts:     # @font-face fonts: not in /tmp
+        return _laid_out(html_class(string=html, base_url=str(base) + os.sep,
+                                    url_fetcher=fetcher).render(
+            cache=report.figure_images(figures, cache), font_config=fonts,
+            stylesheets=[sheet] if sheet is not None else None), key, source_date_epoch)
+
+
+def _laid_out(document, key, source_date_epoch) -> dict:
+    """render_part's dict from weasyprint's laid-out document."""
     scale = 0.75  # CSS px -> PDF pt, as weasyprint writes them (zoom 1)
     links, anchors = [], {}
     for i, page in enumerate(document.pages):

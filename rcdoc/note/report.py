@@ -76,7 +76,7 @@ from weasyprint.urls import URLFetcher, URLFetcherResponse
 
 from rcdoc.errors import ProjectError
 from rcdoc.files import write_atomic
-from rcdoc.note import note_html, pdf_images, table_widths
+from rcdoc.note import font_scratch, note_html, pdf_images, table_widths
 
 __all__ = [
     "render_document",
@@ -540,8 +540,8 @@ def render_document(context: dict, out_path: Path, *, template_dirs: Sequence[Pa
     document = html_class(string=html, base_url=str(base) + os.sep, url_fetcher=fetcher)
     pdf_id = pdf_identifier(str(board.get("name", "")), str(board.get("revision", "")))
 
-    with _font_timestamp(source_date_epoch or 0):
-        pdf_bytes = document.write_pdf(pdf_identifier=pdf_id,
+    with _font_timestamp(source_date_epoch or 0), font_scratch.closed(project_dir) as fonts:
+        pdf_bytes = document.write_pdf(pdf_identifier=pdf_id, font_config=fonts,
                                        cache=figure_images(figures, cache),
                                        finisher=pdf_images.index_images)  # charts indexed again
     write_note(out_path, pdf_bytes)

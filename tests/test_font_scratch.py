@@ -1,0 +1,106 @@
+"""A template's own @font-face font is kept, while a part renders, in a scratch
+folder inside the project folder (rcdoc.note.font_scratch), removed once the
+part is written: nothing in the system's temporary folder, nothing left over,
+and the font is the one the PDF carries. Both renders: the note in parts (an
+overridden partial) and the note as one document (an own note.html)."""
+
+from __future__ import annotations
+
+import shutil
+import tempfile
+from pathlib import Path
+
+import matplotlib
+import pypdf
+import pytest
+
+from rcdoc.commands import cli
+from rcdoc.note import font_scratch, report
+
+BOARD = """\
+[board]
+name = "Font board"
+revision = "A"
+date = "2026-03-01"
+
+[analysis]
+samples = 20
+
+[[stage]]
+id = "lp"
+title = "Input low-pass"
+kind = "rc-lowpass"
+parts.r = { ref = "R1", value = "4k7", tolerance = "1%" }
+parts.c = { ref = "C1", value = "10 nF", tolerance = "5%", dielectric = "C0G" }
+"""
+
+STYLE = ('<style>@font-face { font-family: "Own Serif"; src: url("own.ttf"); }\n'
+         '.board-name { font-family: "Own Serif"; }</style>\n')
+
+
+def _fonts(pdf: Path) -> set[str]:
+    names = set()
+    for page in pypdf.PdfReader(pdf).pages:
+        resources = page.get("/Resources")
+        fonts = resources.get_object().get("/Font") if resources is not None else None
+        for font in (fonts.get_object() if fonts is not None else {}).values():
+            names.add(str(font.get_object().get("/BaseFont", "")))
+    return names
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("whole", [False, True], ids=["parts", "one-document"])
+def test_font_face_fonts_stay_in_the_project_folder(tmp_path, monkeypatch, whole):
+    proj = tmp_path / "proj"
+    proj.mkdir()
+    board = proj / "board.toml"
+    board.write_text(BOARD, encoding="utf-8")
+    tpl = tmp_path / "tpl"
+    tpl.mkdir()
+    shipped = report.shipped_templates_dir()
+    # A font that the note does not use otherwise (matplotlib's copy of DejaVu Serif).
+    shutil.copy(Path(matplotlib.get_data_path()) / "fonts" / "ttf" / "DejaVuSerif.ttf",
+                tpl / "own.ttf")
+    (tpl / "_cover.html").write_text(STYLE + (shipped / "_cover.html").read_text("utf-8"),
+                                     encoding="utf-8")
+    # Relative URLs resolve against the folder of the note.html in use (README,
+    # "Templates"): an unchanged copy keeps the note in parts, a changed one makes it
+    # one document.
+    (tpl / "note.html").write_text((shipped / "note.html").read_text("utf-8")
+                                   + ("<!-- own -->\n" if whole else ""), encoding="utf-8")
+    system_tmp = tmp_path / "system-tmp"
+    system_tmp.mkdir()
+    monkeypatch.setattr(tempfile, "tempdir", str(system_tmp))
+    made = []
+    real = tempfile.mkdtemp
+
+    def watched(*args, **kwargs):
+        made.append(real(*args, **kwargs))
+        return made[-1]
+    monkeypatch.setattr(tempfile, "mkdtemp", watched)
+    rc = cli.main(["build", str(board), "-o", str(tmp_path / "out"), "--templates", str(tpl),
+                   "--jobs", "1", "--quiet"])
+    assert rc == 0
+    scratch = [Path(m) for m in made if Path(m).name.startswith(font_scratch.PREFIX)]
+    assert scratch and all(m.parent == proj for m in scratch)       # it was used, there
+    assert not [p for p in proj.iterdir() if p.name.startswith(font_scratch.PREFIX)]
+    assert not [p for p in system_tmp.iterdir() if p.name.startswith("weasyprint-")]
+    # weasyprint names an @font-face font after its family ("Own-Serif-Bold").
+    assert any("Own-Serif" in name for name in _fonts(tmp_path / "out" / "board.pdf"))
+
+
+def test_a_read_only_project_folder_falls_back_to_weasyprints_place(tmp_path, monkeypatch):
+    # mkdtemp refused in the project folder (a read-only checkout): weasyprint makes
+    # its own folder, in the system's temporary folder, as before; close removes it.
+    system_tmp = tmp_path / "system-tmp"
+    system_tmp.mkdir()
+    monkeypatch.setattr(tempfile, "tempdir", str(system_tmp))
+
+    def refused(*args, **kwargs):
+        raise PermissionError("read-only")
+    monkeypatch.setattr(font_scratch.tempfile, "mkdtemp", refused)
+    fonts = font_scratch.ProjectFonts(tmp_path / "proj")
+    fonts.add_font_face({"src": [], "font_family": "Own Serif"}, None)   # no source: a warning
+    assert fonts._folder is not None and fonts._folder.parent == system_tmp
+    fonts.close()
+    assert not any(system_tmp.iterdir())
