@@ -199,7 +199,11 @@ def test_shared_poles_give_scipys_response(tmp_path, case):
     path = tmp_path / "b.toml"
     path.write_text(_sk_board(r1, r2, c1, c2), encoding="utf-8")
     ev, v = mc_evaluator(path)
-    h = ev.h                                          # the Evaluator's: poles handed in
+    bare, _ = mc_evaluator(path)
+    bare.h                                            # a sweep asked for alone: its own
+    assert bare.response.pencil.found is None         # eigenvalues (no stability rule)
+    ev.metric("q")                                    # as the analysis asks: stability first,
+    h = ev.h                                          # then the response, poles handed in
     assert ev.response.pencil.found is not None
     own = Response(ev.system, ev.system.node(ev.network.output), ev.freqs_hz)
     assert own.pencil.found is None                   # the method it replaced: eigenvalues
