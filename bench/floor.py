@@ -527,6 +527,11 @@ def main(argv=None) -> int:
     print(f"floor bench: {'quick' if q else 'full'}, best of {k}, CPU seconds unless said, "
           f"{os.cpu_count()} cores, load {os.getloadavg()[0]:.1f}", flush=True)
     t_all = time.perf_counter()
+    # rcdoc's bytecode first, as an installed package has it (pip compiles at install,
+    # Python on first import): where PYTHONDONTWRITEBYTECODE is set, every command
+    # would otherwise compile the modules changed since their .pyc was written.
+    import compileall
+    compileall.compile_dir(str(ROOT / "rcdoc"), quiet=1)
     with tempfile.TemporaryDirectory(prefix="rcdoc-floor-") as name:
         tmp = Path(name)
         if "c" in args.sections:     # first: nothing else has run in a child yet

@@ -16,3 +16,21 @@ import io
 with contextlib.suppress(Exception), contextlib.redirect_stdout(io.StringIO()):
     import rcdoc.note.page  # noqa: F401
     import rcdoc.note.assemble  # noqa: F401
+
+
+
+def _first_stage() -> None:
+    """What each worker's first stage would load for itself, loaded here once:
+    schemdraw and ziamath, which outlines its labels (and reads its math font
+    when imported: 0.25 s), ziafont pointed at the reusing factory first
+    (rcdoc.note.outline_font), and the note's trimmed user-agent sheet."""
+    from rcdoc.note import note_html, outline_font
+    outline_font.speed_up()
+    import schemdraw  # noqa: F401
+    import schemdraw.elements  # noqa: F401
+    import ziamath  # noqa: F401
+    note_html.trimmed_sheet()
+
+
+with contextlib.suppress(Exception), contextlib.redirect_stdout(io.StringIO()):
+    _first_stage()
