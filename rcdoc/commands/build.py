@@ -8,8 +8,9 @@ Speed: each stage is analysed and, for a build, drawn into its note blocks
 and (with ``jobs`` > 1) rendered into its own part of the PDF (rcdoc.note.assemble).
 That work runs in units (rcdoc.commands.workers) in a pool of processes (``jobs``;
 'forkserver' or 'spawn' start, never threads: matplotlib is not thread-safe),
-in the order rcdoc.commands.schedule sets, and each stage's finished work is filed in the build cache (rcdoc.commands.cache) under a hash of
-everything it depends on, so a rebuild redoes only the stages that changed
+in the order rcdoc.commands.schedule sets, and each stage's finished work is
+filed in the build cache (rcdoc.commands.cache) under a hash of everything it
+depends on, so a rebuild redoes only the stages that changed
 and lays out only their pages, the front matter and the appendix.
 Results are gathered in stage order, so the output does not depend on
 ``jobs`` or on what came from the cache.

@@ -146,9 +146,10 @@ def _pool_context(draw: bool):
 class WorkerPool:
     """One pool of worker processes for a whole command, shared by every project
     file it is given (``rcdoc build boards/*.toml``): the workers, and the
-    modules they preload, start once, not once a board. Started at the first
-    unit of work that needs one, so a command the cache answers starts none.
-    Use it as a context manager; ``draw`` says whether workers preload the
+    modules they preload, start once, not once a board. The workers start at
+    the first unit of work that needs one, so a command the cache answers starts
+    none (``build`` starts the fork server early with ``warm`` and stops it
+    unused with ``cool``; leaving the block stops it too). Use it as a context manager; ``draw`` says whether workers preload the
     note's drawing modules (build), or never load them (check)."""
 
     def __init__(self, jobs: int, *, draw: bool):
@@ -168,8 +169,8 @@ class WorkerPool:
     def warm(self) -> None:
         """Start the fork server now, so that its imports (rcdoc, and for a build
         the note's modules: about 2 s of CPU) run beside this process's own
-        instead of after them. Only worth it where the pool will be used: the
-        server costs that CPU even if no worker is ever asked for."""
+        instead of after them. The server costs that CPU even if no worker is
+        ever asked for: ``cool`` stops it where none will be."""
         if self.jobs < 2:
             return
         ctx = _pool_context(self.draw)
