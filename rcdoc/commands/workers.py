@@ -127,6 +127,44 @@ def _stop_workers(pool: ProcessPoolExecutor) -> None:
         p.terminate()
 
 
+def _end_idle(pool: ProcessPoolExecutor) -> bool:
+    """End the workers of a pool with nothing left to run, at once: SIGTERM, for
+    which a worker keeps the default action, so it ends without the interpreter's
+    teardown (about 0.3 s of CPU a worker after a build, which the command would
+    wait for). False, and nothing done, where a unit is still pending or running,
+    or where the executor's internals are not those of Python 3.8 to 3.13: the
+    caller then shuts the pool down the usual way."""
+    pending = getattr(pool, "_pending_work_items", None)
+    processes = getattr(pool, "_processes", None)
+    if pending is None or processes is None or pending:
+        return False
+    running = list(processes.values())
+    pool.shutdown(wait=False)
+    for p in running:
+        p.terminate()
+    for p in running:
+        p.join(10)
+    pool.shutdown(wait=True)            # the executor's own thread, which reaps them
+    return True
+
+
+def stop_fork_server() -> None:
+    """Kill this process's fork server, if one runs, and forget it (a later pool
+    starts another). For a server with nothing left to do: unused
+    (``WorkerPool.cool``), or at the end of the ``rcdoc`` command
+    (rcdoc.commands.cli.entry), where it would otherwise tear itself down after
+    the command, holding the command's stderr. Killed: it keeps no state."""
+    from multiprocessing import forkserver
+    server = getattr(forkserver, "_forkserver", None)
+    pid = getattr(server, "_forkserver_pid", None)
+    if pid is None:
+        return
+    with contextlib.suppress(OSError):
+        os.kill(pid, signal.SIGKILL)
+    with contextlib.suppress(Exception):   # closes its socket, reaps it
+        server._stop()
+
+
 def _pool_context(draw: bool):
     """'forkserver' where there is one (Linux), else 'spawn': both start clean workers.
 
@@ -186,15 +224,7 @@ class WorkerPool:
         if not self.warmed or self._pool is not None:
             return
         self.warmed = False
-        from multiprocessing import forkserver
-        server = getattr(forkserver, "_forkserver", None)
-        pid = getattr(server, "_forkserver_pid", None)
-        if pid is None:
-            return
-        with contextlib.suppress(OSError):
-            os.kill(pid, signal.SIGKILL)
-        with contextlib.suppress(Exception):   # closes its socket, reaps it
-            server._stop()
+        stop_fork_server()
 
     def __enter__(self) -> "WorkerPool":
         return self
@@ -205,6 +235,6 @@ class WorkerPool:
             return
         if kind is not None and issubclass(kind, KeyboardInterrupt):
             _stop_workers(self._pool)      # do not wait for stages still running
-        else:
+        elif not (kind is None and _end_idle(self._pool)):
             self._pool.shutdown(wait=True, cancel_futures=kind is not None)
         self._pool = None

@@ -1,0 +1,150 @@
+"""How a build's processes end: idle workers at once, the command without the
+interpreter's teardown, and nothing left behind either way.
+
+Checks are "common practice" for command-line tools that run worker
+processes: every byte of output is out before the process ends, no process
+of the command outlives it, and nothing is printed that the command did not
+say (here: the multiprocessing resource tracker's "leaked semaphore" warning,
+which follows a process that ends without its exit handlers).
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import signal
+import subprocess
+import sys
+import time
+import uuid
+from pathlib import Path
+
+import pytest
+
+import rcdoc.commands.cli as cli
+import rcdoc.commands.workers as workers
+from test_cache import PROJECT
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def _workers_of(pool: workers.WorkerPool) -> list:
+    return list(pool.executor()._processes.values())
+
+
+def test_idle_workers_end_at_once():
+    # Nothing left to run: the workers are ended by SIGTERM, not left to tear
+    # their interpreter down; a pool started afterwards works.
+    with workers.WorkerPool(2, draw=False) as pool:
+        assert pool.executor().submit(sum, [1, 2]).result(timeout=120) == 3
+        running = _workers_of(pool)
+        assert running
+    assert all(not p.is_alive() for p in running)
+    assert all(p.exitcode == -signal.SIGTERM for p in running)
+    with workers.WorkerPool(2, draw=False) as again:
+        assert again.executor().submit(max, [4, 7]).result(timeout=120) == 7
+
+
+def test_busy_workers_are_left_to_finish():
+    # A unit still running is never cut short: _end_idle declines, and the
+    # usual shutdown waits for the unit's answer.
+    pool = workers.WorkerPool(2, draw=False)
+    executor = pool.executor()
+    started = executor.submit(time.sleep, 0.5)
+    assert workers._end_idle(executor) is False
+    executor.shutdown(wait=True)
+    assert started.done() and started.exception() is None
+
+
+def test_pool_internals_unknown_means_usual_shutdown():
+    # An executor without the internals _end_idle reads is shut down the usual way.
+    class Plain:
+        def shutdown(self, wait=True):
+            raise AssertionError("must not be called")
+    assert workers._end_idle(Plain()) is False
+
+
+def test_leave_under_a_tracer_exits_the_usual_way(monkeypatch):
+    # coverage and cProfile write their results at the interpreter's exit:
+    # under a tracer the command raises SystemExit instead of ending at once.
+    monkeypatch.setattr(os, "_exit", lambda status: pytest.fail("os._exit under a tracer"))
+    monkeypatch.setattr(sys, "gettrace", lambda: (lambda *a: None))
+    with pytest.raises(SystemExit) as ended:
+        cli._leave(3)
+    assert ended.value.code == 3
+
+
+@pytest.mark.slow
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
+def test_command_leaves_no_process_and_says_nothing_more(tmp_path):
+    # The `rcdoc` command with two workers: exit status, complete outputs and
+    # stdout, nothing on stderr but its progress lines. The moment it has ended,
+    # no process that carries its environment is left (fork server, workers)
+    # but multiprocessing's resource tracker, which ends as it reads the end of
+    # its pipe; once that has gone too, stderr still holds nothing more.
+    board = tmp_path / "board.toml"
+    board.write_text(PROJECT, encoding="utf-8")
+    out = tmp_path / "out"
+    mark = f"rcdoc-end-{uuid.uuid4().hex}"
+    env = dict(os.environ, PYTHONPATH=str(ROOT), RCDOC_TEST_MARK=mark)
+    said, err = tmp_path / "stdout.txt", tmp_path / "stderr.txt"
+    with said.open("w") as stdout, err.open("w") as stderr:
+        done = subprocess.run([sys.executable, "-m", "rcdoc", "build", str(board), "-o", str(out),
+                               "--jobs", "2"], env=env, stdout=stdout, stderr=stderr, timeout=600)
+        left = [pid for pid in _carrying(mark) if b"resource_tracker" not in _cmdline(pid)]
+    assert done.returncode == 0, err.read_text()
+    assert not left, [_cmdline(pid) for pid in left]
+    deadline = time.monotonic() + 10
+    while _carrying(mark) and time.monotonic() < deadline:
+        time.sleep(0.1)
+    assert not _carrying(mark)
+    lines = err.read_text().splitlines()
+    assert lines and all(line.startswith("rcdoc: ") for line in lines), lines
+    assert said.read_text().rstrip().endswith("board.json")   # the last line, flushed
+    summary = json.loads((out / "board.json").read_text(encoding="utf-8"))
+    assert [s["id"] for s in summary["stages"]] == ["lp", "hp"]
+    assert (out / "board.pdf").read_bytes().rstrip().endswith(b"%%EOF")
+
+
+LEAVE = """
+import multiprocessing, sys
+from rcdoc.commands.cli import _leave
+queue = multiprocessing.get_context("forkserver").Queue()   # named semaphores, tracked
+print("said before the end")                                 # a pipe: block-buffered
+_leave(4)
+"""
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="forkserver semaphores")
+def test_leave_flushes_and_unlinks_semaphores():
+    # What is still buffered is written, the exit status is kept, and semaphores
+    # alive at the end are unlinked by their finalizers, so the resource tracker
+    # has nothing to warn of ("leaked semaphore objects").
+    env = dict(os.environ, PYTHONPATH=str(ROOT))
+    done = subprocess.run([sys.executable, "-c", LEAVE], env=env, capture_output=True,
+                          text=True, timeout=120)
+    assert done.returncode == 4
+    assert done.stdout == "said before the end\n"
+    assert done.stderr == ""
+
+
+def _cmdline(pid: int) -> bytes:
+    try:
+        return Path(f"/proc/{pid}/cmdline").read_bytes()
+    except OSError:
+        return b""
+
+
+def _carrying(mark: str) -> list[int]:
+    found = []
+    for entry in os.listdir("/proc"):
+        if not entry.isdigit():
+            continue
+        try:
+            environ = Path(f"/proc/{entry}/environ").read_bytes()
+            state = Path(f"/proc/{entry}/stat").read_text().rsplit(")", 1)[1].split()[0]
+        except OSError:
+            continue
+        if mark.encode() in environ and state != "Z":
+            found.append(int(entry))
+    return found
