@@ -55,7 +55,9 @@ sys.path.insert(0, str(ROOT / "bench"))
 EXAMPLE = ROOT / "projects" / "greenhouse-controller.toml"
 ROWS: list[tuple[str, str, str]] = []          # (section, what, value) for the table
 HEAD = '[board]\nname = "Floor bench"\nrevision = "A"\ndate = "2026-01-01"\n'
-CLI = "import sys; from rcdoc.commands.cli import main; sys.exit(main(sys.argv[1:]))"
+# What the `rcdoc` console command runs (cli.entry: main, then the process ends
+# without the interpreter's teardown).
+CLI = "from rcdoc.commands.cli import entry; entry()"
 # A fresh process that runs a command and reports the command's resource use alone:
 # getrusage(RUSAGE_CHILDREN) counts the processes that were waited for; pool workers
 # forked by a forkserver may not be, so the CPU of the whole process tree is also
@@ -83,17 +85,25 @@ def tree(root):
             pid = info[pid][0] if pid in info else 0
         return False
     return {p: v for p, v in info.items() if under(p)}
+import threading
 t = time.perf_counter()
 p = subprocess.Popen(sys.argv[1:], stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
-cpu, tree_peak = {}, 0
-linux = os.path.isdir("/proc/self")
-while linux and p.poll() is None:
-    seen = tree(p.pid)
-    cpu.update({pid: v[1] for pid, v in seen.items()})
-    tree_peak = max(tree_peak, sum(v[2] for v in seen.values()))
-    time.sleep(0.2)
-err = p.communicate()[1]
+cpu, tree_peak, stop = {}, [0], threading.Event()
+def sample():       # beside the wait, so that the wall time is not rounded to the sampling
+    while not stop.is_set():
+        seen = tree(p.pid)
+        cpu.update({pid: v[1] for pid, v in seen.items()})
+        tree_peak[0] = max(tree_peak[0], sum(v[2] for v in seen.values()))
+        stop.wait(0.2)
+sampler = threading.Thread(target=sample, daemon=True)
+if os.path.isdir("/proc/self"):
+    sampler.start()
+err = p.communicate()[1]     # the command's end and the end of its stderr (any process holding it)
 w = time.perf_counter() - t
+stop.set()
+if sampler.is_alive():
+    sampler.join()
+tree_peak = tree_peak[0]
 u = resource.getrusage(resource.RUSAGE_CHILDREN)
 print(json.dumps({"rc": p.returncode, "wall": w,
   "cpu": max(u.ru_utime + u.ru_stime, sum(cpu.values())), "peak_mib": u.ru_maxrss / 1024,
