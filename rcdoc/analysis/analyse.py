@@ -22,7 +22,6 @@ from rcdoc.analysis import spread
 from rcdoc.analysis import worstcase
 from rcdoc.analysis import poles as polemod
 from rcdoc.analysis.evaluate import Evaluator, db, sweep_for
-from rcdoc.analysis.heap import reuse_freed_memory
 from rcdoc.analysis.surroundings import fixed_values
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Analysis, Stage
@@ -90,7 +89,6 @@ def analyse_stage(stage: Stage, analysis: Analysis, kind) -> StageResult:
     analysis does not know the kinds). Stages analysed as networks also get their preferred-value
     alternatives, judged with a reduced Monte Carlo (rcdoc.analysis.alternatives).
     """
-    reuse_freed_memory()             # once per process: large arrays without page faults
     custom = getattr(kind, "analyse", None)
     if custom is not None:           # kinds with their own analysis (snubbers)
         return custom(stage, analysis)
