@@ -250,8 +250,9 @@ def test_step_in_closed_form_runs_equals_the_per_step_march(case):
 
 
 def _march_per_step(M, k0, k1, x, u0, u1):
-    """The march's loop before its views were made once per buffer: each step's
-    products and sums with views and keyword outputs made anew (the replaced code)."""
+    """The march written plainly, one step at a time over the whole run of states:
+    each step's products M_DD[:, i]·z_i summed in the order i = 0, 1, ..., then the
+    forcing added (k0·u0 + k1·u1 as one term for a shared input, else in turn)."""
     Mt = np.ascontiguousarray(np.moveaxis(M, 0, -1))
     k0t, k1t = np.ascontiguousarray(k0.T), np.ascontiguousarray(k1.T)
     u0T, u1T = np.ascontiguousarray(u0.T), np.ascontiguousarray(u1.T)
@@ -297,8 +298,11 @@ class _Keep:
 
 @pytest.mark.parametrize("case", list(range(6)))
 def test_march_steps_equal_the_per_step_loop_bit_for_bit(case):
-    # The same operations in the same order (common practice: a loop's bookkeeping
-    # moved, its arithmetic untouched): every marched state equal, not just close.
+    # The march's runs, buffers and sink change no operation nor its order (common
+    # practice: bookkeeping apart from arithmetic): every marched state equal, not
+    # just close. A period's response from rest summed in closed form instead (4e-12
+    # relative from the march, as close to a long-double march as it) moved the
+    # example's pinned worst-case ripple by 2e-9: the ripple needs the march as it is.
     rng = np.random.default_rng(300 + case)
     net, vals = (_single_rc() if case == 0 else _random_network(rng, int(rng.integers(2, 6))))
     vals = _spread(vals, 7, rng)

@@ -182,13 +182,24 @@ def _march(
     forcing = _Forcing(kd0, kd1, u0T, u1T)
     shared = forcing.terms(steps) if forcing.shared else None
     z, prev = x.T[dyn], None
-    step = _Step(md[0], stack, prod, shared, forcing)
     for n0 in range(0, steps, run):
         m = min(run, steps - n0)
         b = home(n0, m) if home is not None else None
         b = buf if b is None else b         # a recorded probe's own rows, or a buffer
         b[0] = z
-        step(b, n0, m)
+        for l in range(m):
+            nxt, cur = b[l + 1], b[l]
+            if stack is None:
+                np.multiply(md[0], cur[0], out=nxt)
+            else:
+                np.multiply(stack, cur[:, None, :], out=prod)
+                np.add(prod[0], prod[1], out=nxt)
+                for i in range(2, len(md)):
+                    nxt += prod[i]
+            if shared is not None:
+                nxt += shared[n0 + l]
+            else:
+                forcing.add(nxt, n0 + l)
         if sink is not None:
             sink(n0, b[:m + 1])
         if n0 + m == steps:
@@ -198,43 +209,6 @@ def _march(
     full = np.einsum("kjs,js->ks", mcols, prev) + k0t * u0T[-1] + k1t * u1T[-1]
     full[dyn] = z
     return np.ascontiguousarray(full.T)
-
-
-class _Step:
-    """The march's steps n0 .. n0+m−1 into rows 1 .. m of a run's buffer b (row 0
-    holds z[n0]): z[n+1] = Σ_i M_DD[:, i]·z_i[n] (one multiplication into ``prod``,
-    then summed in the order i = 0, 1, ...) + the forcing. The rows' views are made
-    once per buffer, not per step, and the ufuncs take their output by position:
-    the same operations on the same numbers, about 12 % less time a step."""
-
-    def __init__(self, md0, stack, prod, shared, forcing):
-        self.md0, self.stack, self.shared, self.forcing = md0, stack, shared, forcing
-        self.prod, self.prods = prod, (list(prod) if prod is not None else [])
-        self.buffer, self.rows, self.wide = None, [], []
-
-    def _views(self, b: np.ndarray) -> None:
-        if b is not self.buffer:        # the march's own buffer, or a recorded probe's rows
-            self.buffer, self.rows = b, list(b)
-            self.wide = [r[:, None, :] for r in self.rows] if self.stack is not None else []
-
-    def __call__(self, b: np.ndarray, n0: int, m: int) -> None:
-        self._views(b)
-        rows, wide, shared = self.rows, self.wide, self.shared
-        mul, add = np.multiply, np.add
-        p0, p1, rest = (self.prods[0], self.prods[1], self.prods[2:]) if wide else (0, 0, ())
-        for l in range(m):
-            nxt = rows[l + 1]
-            if wide:
-                mul(self.stack, wide[l], self.prod)
-                add(p0, p1, nxt)
-                for p in rest:
-                    add(nxt, p, nxt)
-            else:
-                mul(self.md0, rows[l], nxt)
-            if shared is not None:
-                add(nxt, shared[n0 + l], nxt)
-            else:
-                self.forcing.add(nxt, n0 + l)
 
 
 def _constant_march(M: np.ndarray, k0: np.ndarray, k1: np.ndarray, x: np.ndarray, u: float,
