@@ -38,7 +38,7 @@ from pathlib import Path
 from rcdoc.note import renderer_libs  # noqa: F401 - weasyprint, without ctypes' library search
 import weasyprint
 
-from rcdoc.note import font_scratch, join, note_html, numbers, pdf_images, report
+from rcdoc.note import fast_layout, font_scratch, join, note_html, numbers, pdf_images, report
 
 __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "font_subsetter",
            "render_part", "stage_part", "assemble", "render_note", "project_head", "context_key",
@@ -180,6 +180,7 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
     """
     if fetcher is None:
         fetcher = _fetcher(template_dirs, project_dir)
+    fast_layout.install()                   # weasyprint 70's short paths, same PDF
     ctx = {**context, "part": part}
     if part == "numbers":
         ctx["page_count"] = page_count
