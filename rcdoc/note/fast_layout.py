@@ -83,32 +83,56 @@ def _replacements() -> list:
 
 
 def _computed_missing(general):
-    """ComputedStyle.__missing__ with the short way for a property no rule sets."""
-    from weasyprint.css import INHERITED, INITIAL_NOT_COMPUTED
-    from weasyprint.css.computed_values import PHYSICAL_FUNCTIONS
+    """ComputedStyle.__missing__ with the short way for a property whose value
+    needs none of the general path's special cases."""
+    from weasyprint.css import INHERITED, INITIAL_NOT_COMPUTED, Pending
+    from weasyprint.css.computed_values import COMPUTER_FUNCTIONS, PHYSICAL_FUNCTIONS
     from weasyprint.css.functions import check_math
     from weasyprint.css.properties import INITIAL_VALUES
 
     # Properties with code of their own in the general path: the ones that set
-    # or read another (display, float, position), page, the propagated text
-    # decorations, and the physical properties a logical one may set.
-    own_code = frozenset({"display", "float", "position", "page", *PHYSICAL_FUNCTIONS,
+    # or read another (display, float, position), page and the propagated text
+    # decorations. (Custom properties, "__*", too.)
+    own_code = frozenset({"display", "float", "position", "page",
                           *(k for k in INITIAL_VALUES if k.startswith("text_decoration_"))})
+    no_weight = (0, 0, (0, 0, 0))
 
     def __missing__(self, key):
-        if key in self.cascaded or key in own_code or key[:2] == "__":
+        if key in own_code or key[:2] == "__":
             return general(self, key)
-        if key in INHERITED:
-            parent = self.parent_style
-            if parent is None:
+        cascaded = self.cascaded
+        if key in cascaded:
+            value, weight = cascaded[key]
+            if isinstance(value, Pending) or value in ("inherit", "initial"):
                 return general(self, key)
-            value = parent[key]         # the parent's computed value
         else:
-            if key in INITIAL_NOT_COMPUTED:
+            value, weight = None, no_weight
+        logical = PHYSICAL_FUNCTIONS.get(key)
+        if logical is not None:
+            # A logical property (margin-inline-start...) that sets this one.
+            logical_key = logical(block="ttb", inline=self["direction"])
+            if logical_key in cascaded and cascaded[logical_key][1] >= weight:
                 return general(self, key)
+        if value is None:
+            if key in INHERITED:
+                parent = self.parent_style
+                if parent is None:
+                    return general(self, key)
+                value = parent[key]         # the parent's computed value
+                if check_math(value):
+                    return general(self, key)
+                self[key] = value
+                return value
             value = INITIAL_VALUES[key]
+            if key not in INITIAL_NOT_COMPUTED:
+                if check_math(value):
+                    return general(self, key)
+                self[key] = value
+                return value
         if check_math(value):
             return general(self, key)
+        if key in COMPUTER_FUNCTIONS:
+            value = COMPUTER_FUNCTIONS[key](self, key, value)
         self[key] = value
         return value
 
