@@ -195,7 +195,8 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
                               template_dirs=template_dirs,
                               source_date_epoch=source_date_epoch, figures=figures)
     cache = report.cache if image_cache is None else image_cache
-    with font_scratch.closed(project_dir) as fonts:     # @font-face fonts: not in /tmp
+    # @font-face fonts: not in /tmp; the shipped templates have none (one configuration).
+    with font_scratch.closed(project_dir, shared=shipped) as fonts:
         return _laid_out(html_class(string=html, base_url=str(base) + os.sep,
                                     url_fetcher=fetcher).render(
             cache=report.figure_images(figures, cache), font_config=fonts,
