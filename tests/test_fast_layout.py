@@ -61,7 +61,11 @@ around the floated box more than once, and once more.<span class="fn">A footnote
 <tr><td colspan="2">spanning</td></tr></table>
 <table class="sep"><tr><td>a</td><td>b</td></tr></table>
 <ul><li>item</li><li dir="rtl">בּ item</li></ul>
+<p dir="rtl">abc! (1) x</p><p>abc! (1) x</p><p lang="tr">fi ﬁ İi</p>
 <section class="named"><p>On a named page.</p></section>
+<p lang="de">Straße <span style="font-language-override: 'TRK'">fi</span>
+<span style="font: italic small-caps 300 1e-2px serif">tiny</span>
+<span style="font-size: 100px; font-variant-numeric: tabular-nums">10</span></p>
 </body></html>"""
 
 _LENGTHS = ("position_x", "position_y", "width", "height", "min_width", "max_width",
@@ -150,6 +154,19 @@ def test_every_box_has_weasyprints_own_used_lengths(general):
     assert len(fast) == len(reference) > 60
     for a, b in zip(fast, reference):
         assert a == b
+
+
+def test_the_same_pdf_as_with_weasyprints_own(general):
+    # Text in other directions, languages, fonts and sizes decades apart, with
+    # decorations: the Pango contexts and font descriptions kept for reuse.
+    reference = weasyprint.HTML(string=_HTML).write_pdf()
+    assert fast_layout.install()
+    fonts = weasyprint.text.fonts.FontConfiguration()
+    assert weasyprint.HTML(string=_HTML).write_pdf() == reference
+    twice = [weasyprint.HTML(string=_HTML).write_pdf(font_config=fonts) for _ in range(2)]
+    assert twice == [reference, reference]           # the kept ones, used again
+    contexts, descriptions = fonts._rcdoc_pango
+    assert len(contexts) >= 3 and len(descriptions) >= 4
 
 
 def _flow(html: weasyprint.HTML) -> list[tuple]:

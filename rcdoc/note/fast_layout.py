@@ -74,6 +74,8 @@ def _replacements() -> list:
     replaced = [(ComputedStyle, "__missing__", _computed_missing(ComputedStyle.__missing__)),
                 (boxes.Box, "is_in_normal_flow", _is_in_normal_flow),
                 (boxes.Box, "establishes_formatting_context", _establishes_context(boxes))]
+    from weasyprint.text import line_break
+    replaced.append((line_break.Layout, "setup", _layout_setup(line_break)))
     resolve = _resolve_percentages(percent)
     # Each layout module imported the function by name: each name is replaced.
     for module in (percent, absolute, block, column, floats, grid, inline, page, table):
@@ -237,3 +239,103 @@ def _establishes_context(boxes):
 
     establishes_formatting_context.__doc__ = boxes.Box.establishes_formatting_context.__doc__
     return establishes_formatting_context
+
+
+def _layout_setup(line_break):
+    """text.line_break.Layout.setup with the Pango context and font description
+    kept per font configuration: weasyprint made both anew for every piece of text
+    (and again to draw it). A context is kept per direction and language and never
+    changed once made (Pango layouts read it, weasyprint sets it up only here); a
+    layout takes a copy of the description it is given."""
+    pango, ffi, gobject = line_break.pango, line_break.ffi, line_break.gobject
+    LST_TO_ISO, PANGO_DIRECTION = line_break.LST_TO_ISO, line_break.PANGO_DIRECTION
+    unicode_to_char_p = line_break.unicode_to_char_p
+    font_features, get_font_description = line_break.font_features, line_break.get_font_description
+
+    def caches(font_config):
+        kept = font_config.__dict__.get("_rcdoc_pango")
+        if kept is None:
+            kept = font_config.__dict__["_rcdoc_pango"] = ({}, {})
+        return kept
+
+    def setup(self, style):
+        self.style = style
+        self.first_line_direction = 0
+
+        contexts, descriptions = caches(style.font_config)
+        if style["font_language_override"] != "normal":
+            lang = LST_TO_ISO.get(style["font_language_override"].lower(),
+                                  style["font_language_override"])
+        elif style["lang"]:
+            lang = style["lang"]
+        else:
+            lang = None
+        direction = style["direction"]
+        kept = contexts.get((direction, lang))
+        if kept is None:
+            pango_context = ffi.gc(
+                pango.pango_font_map_create_context(style.font_config.font_map),
+                gobject.g_object_unref)
+            pango.pango_context_set_round_glyph_positions(pango_context, False)
+            pango.pango_context_set_base_dir(pango_context, PANGO_DIRECTION[direction])
+            if lang:
+                lang_p, lang_text = unicode_to_char_p(lang)
+            if lang and lang_text:
+                language = pango.pango_language_from_string(lang_p)
+                pango.pango_context_set_language(pango_context, language)
+            else:
+                language = pango.pango_language_get_default()
+            kept = contexts[(direction, lang)] = (pango_context, language)
+        pango_context, self.language = kept
+
+        assert not isinstance(style["font_family"], str), "font_family should be a list"
+        key = (tuple(style["font_family"]), style["font_style"], style["font_stretch"],
+               style["font_weight"], style["font_size"], style["font_variant_caps"],
+               style["font_variation_settings"])
+        try:
+            font_description = descriptions.get(key)
+        except TypeError:                   # a value that cannot be a key: made each time
+            key, font_description = None, None
+        if font_description is None:
+            font_description = get_font_description(style)
+            if key is not None:
+                descriptions[key] = font_description
+        self.layout = ffi.gc(pango.pango_layout_new(pango_context), gobject.g_object_unref)
+        pango.pango_layout_set_auto_dir(self.layout, False)
+        pango.pango_layout_set_font_description(self.layout, font_description)
+
+        text_decoration = style["text_decoration_line"]
+        if text_decoration != "none":
+            metrics = ffi.gc(
+                pango.pango_context_get_metrics(pango_context, font_description,
+                                                self.language),
+                pango.pango_font_metrics_unref)
+            self.ascent = line_break.FROM_UNITS * pango.pango_font_metrics_get_ascent(metrics)
+            self.underline_position = line_break.FROM_UNITS * (
+                pango.pango_font_metrics_get_underline_position(metrics))
+            self.strikethrough_position = line_break.FROM_UNITS * (
+                pango.pango_font_metrics_get_strikethrough_position(metrics))
+            self.underline_thickness = line_break.FROM_UNITS * (
+                pango.pango_font_metrics_get_underline_thickness(metrics))
+            self.strikethrough_thickness = line_break.FROM_UNITS * (
+                pango.pango_font_metrics_get_strikethrough_thickness(metrics))
+        else:
+            self.ascent = None
+            self.underline_position = None
+            self.strikethrough_position = None
+
+        features = font_features(
+            style["font_kerning"], style["font_variant_ligatures"],
+            style["font_variant_position"], style["font_variant_caps"],
+            style["font_variant_numeric"], style["font_variant_alternates"],
+            style["font_variant_east_asian"], style["font_feature_settings"])
+        if features:
+            features = ",".join(f"{key} {value}" for key, value in features.items()).encode()
+            attr = style.font_config.font_features.setdefault(
+                features, pango.pango_attr_font_features_new(features))
+            attr_list = pango.pango_attr_list_new()
+            pango.pango_attr_list_insert(attr_list, attr)
+            pango.pango_layout_set_attributes(self.layout, attr_list)
+
+    setup.__doc__ = line_break.Layout.setup.__doc__
+    return setup
