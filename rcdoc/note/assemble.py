@@ -187,9 +187,10 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
     figures: dict = {}
     search = report._search_path(template_dirs)
     base = next(d for d in search if (d / report._TEMPLATE_NAME).is_file())
-    sheet = _shared_css(ctx, template_dirs, str(base) + os.sep, fetcher, source_date_epoch)
     html_class = note_html.html_class(template_dirs, search[-1])
     shipped = html_class is note_html.NoteHTML
+    sheet = _shared_css(ctx, template_dirs, str(base) + os.sep, fetcher, source_date_epoch,
+                        palette=shipped)
     html = report.render_html({**ctx, "shared_css": sheet is not None,
                                "margin_css": note_html.margin_css(ctx) if shipped else ""},
                               template_dirs=template_dirs,
@@ -237,14 +238,16 @@ _PER_DOCUMENT = ("@font-face", "@counter-style", "@import")
 
 
 def _shared_css(context: Mapping, template_dirs, base_url: str, fetcher,
-                source_date_epoch: int | None = None):
+                source_date_epoch: int | None = None, palette: bool = False):
     """note.html's CSS (report.render_css) as one weasyprint stylesheet per process,
     or None (the CSS stays in the document) where it holds a rule that belongs to
     one document, or cannot be rendered here (the document's render reports why).
 
     Handed to weasyprint as a user stylesheet: below the document's own rules (the
     part's overrides, the inline styles), above weasyprint's defaults, as the same
-    rules were inside the document (note.css uses no !important)."""
+    rules were inside the document (note.css uses no !important). ``palette``: no
+    other CSS of the document sets custom properties (the shipped templates): the
+    palette's values are put in place of each var() (note_html.inline_palette)."""
     try:
         text = report.render_css(context, template_dirs=template_dirs,
                                  source_date_epoch=source_date_epoch)
@@ -252,6 +255,8 @@ def _shared_css(context: Mapping, template_dirs, base_url: str, fetcher,
         return None
     if any(rule in text for rule in _PER_DOCUMENT) or "!important" in text:
         return None
+    if palette:
+        text = note_html.inline_palette(text) or text
     allowed = tuple(str(d) for d in getattr(fetcher, "allowed_dirs", ()))
     key = (hashlib.sha256(text.encode("utf-8")).hexdigest(), base_url, allowed)
     sheet = _SHEETS.get(key)
