@@ -104,3 +104,43 @@ def test_a_read_only_project_folder_falls_back_to_weasyprints_place(tmp_path, mo
     assert fonts._folder is not None and fonts._folder.parent == system_tmp
     fonts.close()
     assert not any(system_tmp.iterdir())
+
+
+def test_documents_of_the_shipped_templates_share_one_configuration(monkeypatch):
+    monkeypatch.setattr(font_scratch, "_SHARED", [])
+    with font_scratch.closed(None, shared=True) as first:
+        pass
+    with font_scratch.closed(None, shared=True) as second:
+        pass
+    assert second is first
+    with font_scratch.closed(None) as own:            # a template's own: a fresh one
+        assert own is not first
+    # Handed an @font-face font after all: that document keeps it, no later one sees it.
+    with font_scratch.closed(None, shared=True) as third:
+        assert third is first
+        third.add_font_face({"src": [], "font_family": "Own Serif"}, None)  # a warning
+    with font_scratch.closed(None, shared=True) as fourth:
+        assert fourth is not first and not fourth.spoilt
+
+
+@pytest.mark.slow
+def test_a_shared_configuration_gives_the_bytes_of_a_fresh_one(monkeypatch):
+    # The reference: each part with a configuration of its own (cold), as before.
+    from rcdoc.note import assemble
+    from test_report import EPOCH, make_context
+    ctx = make_context()
+    head = assemble._head(ctx)
+    parts = [({**head, "stages": ctx["stages"][1:]}, "stage"), (ctx, "front"),
+             ({**head, "stages": ctx["stages"][:1]}, "stage"),
+             (assemble.appendix_context(ctx, ctx["appendix"]), "appendix")]
+
+    def render(order):
+        return [assemble.render_part(c, p, source_date_epoch=EPOCH)["pdf"] for c, p in order]
+
+    monkeypatch.setattr(font_scratch, "_SHARED", [])
+    shared = render(parts) + render(parts[::-1])  # cold, then warm from the others
+    assert len(font_scratch._SHARED) == 1
+    closed = font_scratch.closed
+    monkeypatch.setattr(font_scratch, "closed", lambda folder, shared=False: closed(folder))
+    fresh = render(parts)
+    assert shared[:4] == fresh and shared[4:] == fresh[::-1]

@@ -246,3 +246,50 @@ def test_margin_box_fonts_are_the_ones_margin_css_measures():
     sizes = re.findall(r"font: ([\d.]+)pt \"DejaVu Sans\"", page)
     assert len(sizes) == 4 and max(float(s) for s in sizes) <= note_html._HEADER_PT
     assert not re.search(r"letter-spacing|word-spacing|font-weight|text-transform", page)
+
+
+# The palette's values put in place of var() (CSS Custom Properties 1, W3C: a var()
+# takes the inherited custom property's value, else its fallback).
+_ROOT_CSS = ":root { --rc-pass: #2f7d4f; --rc-ink: #262b33; }\n"
+
+
+def test_inline_palette_takes_the_roots_value_or_the_fallback():
+    css = _ROOT_CSS + ("/* a var() in a comment */ p { color: var(--rc-ink, #000) }\n"
+                       "b { border: 1pt solid var( --rc-pass ) } i { color: var(--rc-x, red) }")
+    out = note_html.inline_palette(css)
+    assert out == _ROOT_CSS + ("/* a var() in a comment */ p { color: #262b33 }\n"
+                               "b { border: 1pt solid #2f7d4f } i { color: red }")
+    assert note_html.inline_palette("p { color: var(--a, blue) }") == "p { color: blue }"
+
+
+@pytest.mark.parametrize("css", [
+    _ROOT_CSS + "p { --rc-ink: red; color: var(--rc-ink) }",      # set outside the palette
+    _ROOT_CSS + "p { color: var(--rc-none) }",                    # neither set nor fallback
+    _ROOT_CSS + "p { color: var(--rc-none, var(--rc-ink)) }",     # nested
+    ":root { --rc-ink: rgb(1, 2, 3); } p { color: var(--rc-ink) }",  # not a plain value
+    ":root { --rc-ink: #000; --rc-ink: #111; } p { color: var(--rc-ink) }",
+])
+def test_inline_palette_declines_what_it_cannot_replace_exactly(css):
+    assert note_html.inline_palette(css) is None
+
+
+def test_shipped_css_has_every_var_replaced():
+    css = report.render_css(make_context())
+    out = note_html.inline_palette(css)
+    assert out is not None and css.count("var(--") >= 30
+    assert "var(--" not in out
+    assert "color: var(--rc-muted, #5b6573)" in css and "#5b6573" not in out.split("}", 1)[1]
+
+
+@pytest.mark.slow
+def test_parts_with_the_palette_in_place_are_the_same_bytes(monkeypatch):
+    # The reference: weasyprint resolving each var() itself.
+    ctx = make_context()
+    parts = [("front", ctx), ("stage", {**assemble._head(ctx), "stages": ctx["stages"]}),
+             ("appendix", assemble.appendix_context(ctx, ctx["appendix"]))]
+    inlined = [assemble.render_part(c, p, source_date_epoch=EPOCH) for p, c in parts]
+    monkeypatch.setattr(note_html, "inline_palette", lambda css: None)
+    resolved = [assemble.render_part(c, p, source_date_epoch=EPOCH) for p, c in parts]
+    for a, b in zip(inlined, resolved):
+        assert a["pages"] == b["pages"] >= 1
+        assert a["pdf"] == b["pdf"]

@@ -38,7 +38,7 @@ from pathlib import Path
 from rcdoc.note import renderer_libs  # noqa: F401 - weasyprint, without ctypes' library search
 import weasyprint
 
-from rcdoc.note import font_scratch, join, note_html, numbers, pdf_images, report
+from rcdoc.note import fast_layout, font_scratch, join, note_html, numbers, pdf_images, report
 
 __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "font_subsetter",
            "render_part", "stage_part", "assemble", "render_note", "project_head", "context_key",
@@ -180,21 +180,24 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
     """
     if fetcher is None:
         fetcher = _fetcher(template_dirs, project_dir)
+    fast_layout.install()                   # weasyprint 70's short paths, same PDF
     ctx = {**context, "part": part}
     if part == "numbers":
         ctx["page_count"] = page_count
     figures: dict = {}
     search = report._search_path(template_dirs)
     base = next(d for d in search if (d / report._TEMPLATE_NAME).is_file())
-    sheet = _shared_css(ctx, template_dirs, str(base) + os.sep, fetcher, source_date_epoch)
     html_class = note_html.html_class(template_dirs, search[-1])
     shipped = html_class is note_html.NoteHTML
+    sheet = _shared_css(ctx, template_dirs, str(base) + os.sep, fetcher, source_date_epoch,
+                        palette=shipped)
     html = report.render_html({**ctx, "shared_css": sheet is not None,
                                "margin_css": note_html.margin_css(ctx) if shipped else ""},
                               template_dirs=template_dirs,
                               source_date_epoch=source_date_epoch, figures=figures)
     cache = report.cache if image_cache is None else image_cache
-    with font_scratch.closed(project_dir) as fonts:     # @font-face fonts: not in /tmp
+    # @font-face fonts: not in /tmp; the shipped templates have none (one configuration).
+    with font_scratch.closed(project_dir, shared=shipped) as fonts:
         return _laid_out(html_class(string=html, base_url=str(base) + os.sep,
                                     url_fetcher=fetcher).render(
             cache=report.figure_images(figures, cache), font_config=fonts,
@@ -235,14 +238,16 @@ _PER_DOCUMENT = ("@font-face", "@counter-style", "@import")
 
 
 def _shared_css(context: Mapping, template_dirs, base_url: str, fetcher,
-                source_date_epoch: int | None = None):
+                source_date_epoch: int | None = None, palette: bool = False):
     """note.html's CSS (report.render_css) as one weasyprint stylesheet per process,
     or None (the CSS stays in the document) where it holds a rule that belongs to
     one document, or cannot be rendered here (the document's render reports why).
 
     Handed to weasyprint as a user stylesheet: below the document's own rules (the
     part's overrides, the inline styles), above weasyprint's defaults, as the same
-    rules were inside the document (note.css uses no !important)."""
+    rules were inside the document (note.css uses no !important). ``palette``: no
+    other CSS of the document sets custom properties (the shipped templates): the
+    palette's values are put in place of each var() (note_html.inline_palette)."""
     try:
         text = report.render_css(context, template_dirs=template_dirs,
                                  source_date_epoch=source_date_epoch)
@@ -250,6 +255,8 @@ def _shared_css(context: Mapping, template_dirs, base_url: str, fetcher,
         return None
     if any(rule in text for rule in _PER_DOCUMENT) or "!important" in text:
         return None
+    if palette:
+        text = note_html.inline_palette(text) or text
     allowed = tuple(str(d) for d in getattr(fetcher, "allowed_dirs", ()))
     key = (hashlib.sha256(text.encode("utf-8")).hexdigest(), base_url, allowed)
     sheet = _SHEETS.get(key)

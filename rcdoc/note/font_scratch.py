@@ -11,6 +11,15 @@ font is loaded, and ``closed`` removes it as soon as the part is written.
 Where the project folder cannot take it (read-only), weasyprint's own place
 is used, as before.
 
+The shipped templates load no ``@font-face`` font: their documents share one
+font configuration per process (``closed(folder, shared=True)``). A new one
+read Fontconfig's configuration and font list again and started Pango with no
+font loaded and no glyph shaped, for every part: about a tenth of a stage's
+render. Fonts are found by the same configuration, so the same fonts are
+used, and each PDF embeds its own subsets: the same bytes (tests/test_font_scratch.py).
+Should a shared configuration be handed an ``@font-face`` font after all, it
+is retired after that document: no later document could find that font.
+
 What it must not do: change which font is loaded, or leave the folder behind.
 """
 
@@ -51,11 +60,38 @@ class ProjectFonts(FontConfiguration):
             self._folder = None
 
 
+class _SharedFonts(ProjectFonts):
+    """The configuration the documents of the shipped templates share; ``spoilt``
+    once an ``@font-face`` font was added to it."""
+
+    spoilt = False
+
+    def add_font_face(self, rule_descriptors, url_fetcher):
+        self.spoilt = True
+        return super().add_font_face(rule_descriptors, url_fetcher)
+
+
+_SHARED: list = []          # the process's shared configuration, made on first use
+
+
 @contextlib.contextmanager
-def closed(folder: Path | None) -> Iterator[ProjectFonts]:
-    """A ProjectFonts for one document, closed when the block ends (also on error)."""
-    fonts = ProjectFonts(folder)
+def closed(folder: Path | None, shared: bool = False) -> Iterator[ProjectFonts]:
+    """A ProjectFonts for one document, closed when the block ends (also on error).
+    ``shared``: the document loads no ``@font-face`` font (the shipped
+    templates): the process's shared configuration."""
+    if not shared:
+        fonts = ProjectFonts(folder)
+        try:
+            yield fonts
+        finally:
+            fonts.close()
+        return
+    if not _SHARED:
+        _SHARED.append(_SharedFonts(None))
+    fonts = _SHARED[0]
     try:
         yield fonts
     finally:
-        fonts.close()
+        if fonts.spoilt:                # a font of this document's own: not for the next
+            _SHARED.clear()
+            fonts.close()

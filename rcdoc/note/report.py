@@ -76,7 +76,7 @@ from weasyprint.urls import URLFetcher, URLFetcherResponse
 
 from rcdoc.errors import ProjectError
 from rcdoc.files import write_atomic
-from rcdoc.note import font_scratch, note_html, pdf_images, table_widths
+from rcdoc.note import fast_layout, font_scratch, note_html, pdf_images, table_widths
 
 __all__ = [
     "render_document",
@@ -538,6 +538,7 @@ def render_document(context: dict, out_path: Path, *, template_dirs: Sequence[Pa
     base = next(d for d in search_path if (d / _TEMPLATE_NAME).is_file())
     html_class = note_html.html_class(template_dirs, search_path[-1])
     document = html_class(string=html, base_url=str(base) + os.sep, url_fetcher=fetcher)
+    fast_layout.install()                   # weasyprint 70's short paths, same PDF
     pdf_id = pdf_identifier(str(board.get("name", "")), str(board.get("revision", "")))
 
     with _font_timestamp(source_date_epoch or 0), font_scratch.closed(project_dir) as fonts:

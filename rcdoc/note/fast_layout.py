@@ -1,0 +1,357 @@
+"""Shorter paths through four of weasyprint 70's hottest small functions, for
+every document rcdoc renders; each gives the same values, so the same PDF.
+
+What it is for: a stage part of the note has few boxes (some 200 per page),
+but weasyprint walks each through general code written for every CSS
+feature; three small functions called for every box took a fifth of a
+stage's render (sampled: computed styles a tenth, used lengths from
+percentages a twelfth, the flow tests a twenty-fifth):
+
+- ``ComputedStyle.__missing__`` computes a property the first time it is
+  read. For a property no rule sets (most of them, on most elements) the
+  answer is the parent's value (inherited properties) or the initial value;
+  the general code first runs the checks for logical properties, variables,
+  math functions and the properties with rules of their own. Here such a
+  property takes the short way unless it is one of those (the general code
+  then runs as before).
+- ``layout.percent.resolve_percentages`` sets a box's margins, paddings and
+  sizes from their computed values, one small function call per property; here
+  the same in one loop, the general ``percentage`` kept for anything but
+  lengths, percentages and ``auto``.
+- ``Box.is_in_normal_flow`` and ``Box.establishes_formatting_context`` ask
+  five methods for the box's float and position; here the two styles are read
+  once.
+- ``text.line_break.Layout.setup`` made a Pango context and a font
+  description for every piece of text, and again to draw it; here both are
+  kept per font configuration (a context per direction and language, a
+  description per font), made as weasyprint makes them.
+
+What it must not do: change a value. ``install`` patches nothing for another
+weasyprint than 70.0 (those functions may differ there) and says so by
+returning False; tests/test_fast_layout.py compares each with weasyprint's own
+on the example board's parts and on its own extremes, and the PDFs byte for
+byte.
+"""
+
+from __future__ import annotations
+
+from rcdoc.note import renderer_libs  # noqa: F401 - weasyprint, without ctypes' library search
+import weasyprint  # noqa: E402 - after renderer_libs
+
+__all__ = ["install", "uninstall", "installed"]
+# Measured on the example board's stage parts (one process, interleaved, best of 3):
+# together with the shared font configuration (font_scratch) and the palette put in
+# place (note_html.inline_palette) a stage part renders in a fifth less CPU time.
+
+_VERSION = "70.0"
+_SAVED: list = []      # (owner, name, weasyprint's own) while installed
+
+
+def installed() -> bool:
+    """Whether the short paths are in place."""
+    return bool(_SAVED)
+
+
+def install() -> bool:
+    """Put the short paths in place (once per process); False where the
+    weasyprint in use is not the one they were written for."""
+    if _SAVED:
+        return True
+    if weasyprint.__version__ != _VERSION:
+        return False
+    for owner, name, new in _replacements():
+        _SAVED.append((owner, name, owner.__dict__[name]))
+        setattr(owner, name, new)
+    return True
+
+
+def uninstall() -> None:
+    """weasyprint's own functions back (tests compare the two)."""
+    while _SAVED:
+        owner, name, old = _SAVED.pop()
+        setattr(owner, name, old)
+
+
+def _replacements() -> list:
+    from weasyprint.css import ComputedStyle
+    from weasyprint.formatting_structure import boxes
+    from weasyprint.layout import (absolute, block, column, float as floats, grid, inline,
+                                   page, percent, table)
+
+    replaced = [(ComputedStyle, "__missing__", _computed_missing(ComputedStyle.__missing__)),
+                (boxes.Box, "is_in_normal_flow", _is_in_normal_flow),
+                (boxes.Box, "establishes_formatting_context", _establishes_context(boxes))]
+    from weasyprint.text import line_break
+    replaced.append((line_break.Layout, "setup", _layout_setup(line_break)))
+    resolve = _resolve_percentages(percent)
+    # Each layout module imported the function by name: each name is replaced.
+    for module in (percent, absolute, block, column, floats, grid, inline, page, table):
+        if module.__dict__.get("resolve_percentages") is percent.resolve_percentages:
+            replaced.append((module, "resolve_percentages", resolve))
+    return replaced
+
+
+def _computed_missing(general):
+    """ComputedStyle.__missing__ with the short way for a property whose value
+    needs none of the general path's special cases."""
+    from weasyprint.css import INHERITED, INITIAL_NOT_COMPUTED, Pending
+    from weasyprint.css.computed_values import COMPUTER_FUNCTIONS, PHYSICAL_FUNCTIONS
+    from weasyprint.css.functions import check_math
+    from weasyprint.css.properties import INITIAL_VALUES
+
+    # Properties with code of their own in the general path: the ones that set
+    # or read another (display, float, position), page and the propagated text
+    # decorations. (Custom properties, "__*", too.)
+    own_code = frozenset({"display", "float", "position", "page",
+                          *(k for k in INITIAL_VALUES if k.startswith("text_decoration_"))})
+    no_weight = (0, 0, (0, 0, 0))
+
+    def __missing__(self, key):
+        if key in own_code or key[:2] == "__":
+            return general(self, key)
+        cascaded = self.cascaded
+        if key in cascaded:
+            value, weight = cascaded[key]
+            if isinstance(value, Pending) or value in ("inherit", "initial"):
+                return general(self, key)
+        else:
+            value, weight = None, no_weight
+        logical = PHYSICAL_FUNCTIONS.get(key)
+        if logical is not None:
+            # A logical property (margin-inline-start...) that sets this one.
+            logical_key = logical(block="ttb", inline=self["direction"])
+            if logical_key in cascaded and cascaded[logical_key][1] >= weight:
+                return general(self, key)
+        if value is None:
+            if key in INHERITED:
+                parent = self.parent_style
+                if parent is None:
+                    return general(self, key)
+                value = parent[key]         # the parent's computed value
+                if check_math(value):
+                    return general(self, key)
+                self[key] = value
+                return value
+            value = INITIAL_VALUES[key]
+            if key not in INITIAL_NOT_COMPUTED:
+                if check_math(value):
+                    return general(self, key)
+                self[key] = value
+                return value
+        if check_math(value):
+            return general(self, key)
+        if key in COMPUTER_FUNCTIONS:
+            value = COMPUTER_FUNCTIONS[key](self, key, value)
+        self[key] = value
+        return value
+
+    __missing__.__doc__ = general.__doc__
+    return __missing__
+
+
+def _resolve_percentages(percent):
+    """layout.percent.resolve_percentages in one loop (same reads, same order)."""
+    from math import inf
+
+    from weasyprint.css.functions import check_math
+    from weasyprint.formatting_structure import boxes
+
+    percentage = percent.percentage
+    adjust_box_sizing = percent.adjust_box_sizing
+    Box, PageBox = boxes.Box, boxes.PageBox
+    minimums = ("min_width", "min_height")
+
+    def used(box, style, name, refer_to):
+        # resolve_one_percentage
+        value = style[name]
+        unit = getattr(value, "unit", None)
+        if unit == "px":
+            value = value.value
+        elif unit == "%":
+            value = refer_to * value.value / 100
+        else:
+            value = percentage(value, style, refer_to)
+        if value == "auto" and name in minimums:
+            value = 0
+        setattr(box, name, value)
+
+    def resolve_percentages(box, containing_block):
+        if isinstance(containing_block, Box):
+            cb_width = containing_block.width
+            cb_height = containing_block.height
+        else:
+            cb_width, cb_height = containing_block
+        maybe_height = cb_height if isinstance(box, PageBox) else cb_width
+        style = box.style
+        used(box, style, "margin_left", cb_width)
+        used(box, style, "margin_right", cb_width)
+        used(box, style, "margin_top", maybe_height)
+        used(box, style, "margin_bottom", maybe_height)
+        used(box, style, "padding_left", cb_width)
+        used(box, style, "padding_right", cb_width)
+        used(box, style, "padding_top", maybe_height)
+        used(box, style, "padding_bottom", maybe_height)
+        used(box, style, "width", cb_width)
+        used(box, style, "min_width", cb_width)
+        used(box, style, "max_width", cb_width)
+        if cb_height == "auto":
+            height = style["height"]
+            if height == "auto" or check_math(height) or height.unit == "%":
+                box.height = "auto"
+            else:
+                assert height.unit.lower() == "px"
+                box.height = height.value
+            used(box, style, "min_height", 0)
+            used(box, style, "max_height", inf)
+        else:
+            used(box, style, "height", cb_height)
+            used(box, style, "min_height", cb_height)
+            used(box, style, "max_height", cb_height)
+        collapse = style["border_collapse"] == "collapse"
+        for prop in ("border_top_width", "border_right_width",
+                     "border_bottom_width", "border_left_width"):
+            if not (collapse and hasattr(box, prop)):
+                setattr(box, prop, style[prop])
+        adjust_box_sizing(box, "width")
+        adjust_box_sizing(box, "height")
+
+    resolve_percentages.__doc__ = percent.resolve_percentages.__doc__
+    return resolve_percentages
+
+
+_FLOATS = ("left", "right", "inline-start", "inline-end")
+_ABSOLUTE = ("absolute", "fixed")
+
+
+def _is_in_normal_flow(self):
+    """Return whether this box is in normal flow."""
+    style = self.style
+    floated = style["float"]
+    position = style["position"]
+    return not (floated in _FLOATS or position in _ABSOLUTE or position[0] == "running()"
+                or floated == "footnote" or position[0] == "note()")
+
+
+def _establishes_context(boxes):
+    """Box.establishes_formatting_context with the box's styles read once."""
+    BlockBox, BlockContainerBox = boxes.BlockBox, boxes.BlockContainerBox
+
+    def establishes_formatting_context(self):
+        style = self.style
+        return (style["float"] in _FLOATS or style["position"] in _ABSOLUTE
+                or self.is_column
+                or (isinstance(self, BlockContainerBox) and not isinstance(self, BlockBox))
+                or (isinstance(self, BlockBox) and style["overflow"] != "visible")
+                or "flow-root" in style["display"])
+
+    establishes_formatting_context.__doc__ = boxes.Box.establishes_formatting_context.__doc__
+    return establishes_formatting_context
+
+
+def _kept_contexts(line_break):
+    """A function giving a style's Pango context and language, made once per font
+    configuration, direction and language (as Layout.setup makes them)."""
+    pango, ffi, gobject = line_break.pango, line_break.ffi, line_break.gobject
+    LST_TO_ISO, PANGO_DIRECTION = line_break.LST_TO_ISO, line_break.PANGO_DIRECTION
+    unicode_to_char_p = line_break.unicode_to_char_p
+
+    def context_of(style, contexts):
+        if style["font_language_override"] != "normal":
+            lang = LST_TO_ISO.get(style["font_language_override"].lower(),
+                                  style["font_language_override"])
+        elif style["lang"]:
+            lang = style["lang"]
+        else:
+            lang = None
+        direction = style["direction"]
+        kept = contexts.get((direction, lang))
+        if kept is None:
+            pango_context = ffi.gc(
+                pango.pango_font_map_create_context(style.font_config.font_map),
+                gobject.g_object_unref)
+            pango.pango_context_set_round_glyph_positions(pango_context, False)
+            pango.pango_context_set_base_dir(pango_context, PANGO_DIRECTION[direction])
+            if lang:
+                lang_p, lang_text = unicode_to_char_p(lang)
+            if lang and lang_text:
+                language = pango.pango_language_from_string(lang_p)
+                pango.pango_context_set_language(pango_context, language)
+            else:
+                language = pango.pango_language_get_default()
+            kept = contexts[(direction, lang)] = (pango_context, language)
+        return kept
+
+    return context_of
+
+
+def _layout_setup(line_break):
+    """text.line_break.Layout.setup with the Pango context and font description
+    kept per font configuration: weasyprint made both anew for every piece of text
+    (and again to draw it). A context is kept per direction and language and never
+    changed once made (Pango layouts read it, weasyprint sets it up only here); a
+    layout takes a copy of the description it is given."""
+    pango, ffi, gobject = line_break.pango, line_break.ffi, line_break.gobject
+    font_features, get_font_description = line_break.font_features, line_break.get_font_description
+    units = line_break.FROM_UNITS
+    context_of = _kept_contexts(line_break)
+
+    def setup(self, style):
+        self.style = style
+        self.first_line_direction = 0
+        font_config = style.font_config
+        kept = font_config.__dict__.get("_rcdoc_pango")
+        if kept is None:
+            kept = font_config.__dict__["_rcdoc_pango"] = ({}, {})
+        contexts, descriptions = kept
+        pango_context, self.language = context_of(style, contexts)
+
+        assert not isinstance(style["font_family"], str), "font_family should be a list"
+        key = (tuple(style["font_family"]), style["font_style"], style["font_stretch"],
+               style["font_weight"], style["font_size"], style["font_variant_caps"],
+               style["font_variation_settings"])
+        try:
+            font_description = descriptions.get(key)
+        except TypeError:                   # a value that cannot be a key: made each time
+            key, font_description = None, None
+        if font_description is None:
+            font_description = get_font_description(style)
+            if key is not None:
+                descriptions[key] = font_description
+        self.layout = ffi.gc(pango.pango_layout_new(pango_context), gobject.g_object_unref)
+        pango.pango_layout_set_auto_dir(self.layout, False)
+        pango.pango_layout_set_font_description(self.layout, font_description)
+
+        if style["text_decoration_line"] != "none":
+            metrics = ffi.gc(
+                pango.pango_context_get_metrics(pango_context, font_description,
+                                                self.language),
+                pango.pango_font_metrics_unref)
+            self.ascent = units * pango.pango_font_metrics_get_ascent(metrics)
+            self.underline_position = units * (
+                pango.pango_font_metrics_get_underline_position(metrics))
+            self.strikethrough_position = units * (
+                pango.pango_font_metrics_get_strikethrough_position(metrics))
+            self.underline_thickness = units * (
+                pango.pango_font_metrics_get_underline_thickness(metrics))
+            self.strikethrough_thickness = units * (
+                pango.pango_font_metrics_get_strikethrough_thickness(metrics))
+        else:
+            self.ascent = None
+            self.underline_position = None
+            self.strikethrough_position = None
+
+        features = font_features(
+            style["font_kerning"], style["font_variant_ligatures"],
+            style["font_variant_position"], style["font_variant_caps"],
+            style["font_variant_numeric"], style["font_variant_alternates"],
+            style["font_variant_east_asian"], style["font_feature_settings"])
+        if features:
+            features = ",".join(f"{key} {value}" for key, value in features.items()).encode()
+            attr = font_config.font_features.setdefault(
+                features, pango.pango_attr_font_features_new(features))
+            attr_list = pango.pango_attr_list_new()
+            pango.pango_attr_list_insert(attr_list, attr)
+            pango.pango_layout_set_attributes(self.layout, attr_list)
+
+    setup.__doc__ = line_break.Layout.setup.__doc__
+    return setup

@@ -1,0 +1,223 @@
+"""Tests of rcdoc.note.fast_layout: shorter paths through weasyprint 70's
+computed styles, used lengths and flow tests.
+
+The reference is weasyprint itself (its own functions, put back with
+``fast_layout.uninstall``): every computed property of every element, every
+box's used lengths, and every PDF must be the same. The CSS exercised is
+from CSS 2.1 (W3C: percentages of the containing block §10.2-10.7, floats
+and positioning §9, the collapsing border model §17.6.2), CSS Box Sizing 3
+(``box-sizing``), CSS Logical Properties 1 (``margin-inline-start``), CSS
+Custom Properties 1 (``var()``), CSS Values 4 (``calc()``, ``min()``), CSS
+Text Decoration 3 (propagated decorations), CSS Paged Media 3 (named pages)
+and CSS Generated Content for Paged Media (``position: running()``,
+``float: footnote``), as weasyprint implements them.
+"""
+
+from __future__ import annotations
+
+import pytest
+import weasyprint
+from weasyprint.css.properties import INITIAL_VALUES
+
+from rcdoc.note import assemble, fast_layout, report
+from test_report import EPOCH, make_context
+
+# Every feature the short paths treat apart, at extremes a template may use:
+# percentages of an auto height, calc() and min(), lengths decades apart,
+# inherited custom properties, logical margins, decorations on nested boxes.
+_HTML = """<html lang="en"><head><style>
+@page { size: 300px 400px; margin: 10px; @top-center { content: string(t) } }
+@page wide { size: 600px 400px }
+:root { --gap: 3px; --ink: #123456; }
+body { margin: 2%; font: 10px/1.3 "DejaVu Sans"; color: var(--ink) }
+.pct { width: 50%; height: 20%; min-height: 10%; max-width: 90%; padding: 1% 2% 3% 4%;
+       margin: 5% auto 0 1e-3px }
+.calc { width: calc(100% - 2 * var(--gap)); margin-left: min(10%, 7px);
+        padding-top: calc(1em + 1%) }
+.bb { box-sizing: border-box; width: 100px; min-width: 10000px; max-width: 0.001px;
+      padding: 3px; border: 2px solid }
+.pb { box-sizing: padding-box; height: 40px; padding: 5px 0; max-height: 20%; }
+.fl { float: right; width: 30%; margin-inline-start: 4px }
+.ab { position: absolute; top: 10%; right: calc(5% + 1px); width: 20% }
+.fx { position: fixed; bottom: 0; left: 0 }
+.run { position: running(head) }
+.fn { float: footnote }
+.dec { text-decoration: underline overline; text-decoration-color: red }
+.dec span { text-decoration: line-through }
+.named { page: wide }
+.fr { display: flow-root; overflow: hidden }
+table { border-collapse: collapse; width: 100% } td { border: 1px solid; padding: 1%; }
+table.sep { border-collapse: separate; border-spacing: 2px }
+h1 { string-set: t content() }
+</style></head><body>
+<h1 class="run">Running head</h1><h1>Title</h1>
+<div class="pct">percent <span class="dec">dec <span>nested</span></span></div>
+<div class="calc">calc<div class="bb">border box</div><div class="pb">padding box</div></div>
+<p>Text before the float <span class="fl">floated</span> and after it, long enough to wrap
+around the floated box more than once, and once more.<span class="fn">A footnote.</span></p>
+<div class="ab">absolute</div><div class="fx">fixed</div>
+<div class="fr">flow root</div>
+<table><tr><td>1</td><td style="width: 30%">2 <b>bold</b></td></tr>
+<tr><td colspan="2">spanning</td></tr></table>
+<table class="sep"><tr><td>a</td><td>b</td></tr></table>
+<ul><li>item</li><li dir="rtl">בּ item</li></ul>
+<p dir="rtl">abc! (1) x</p><p>abc! (1) x</p><p lang="tr">fi ﬁ İi</p>
+<section class="named"><p>On a named page.</p></section>
+<p lang="de">Straße <span style="font-language-override: 'TRK'">fi</span>
+<span style="font: italic small-caps 300 1e-2px serif">tiny</span>
+<span style="font-size: 100px; font-variant-numeric: tabular-nums">10</span></p>
+</body></html>"""
+
+_LENGTHS = ("position_x", "position_y", "width", "height", "min_width", "max_width",
+            "min_height", "max_height", "margin_top", "margin_right", "margin_bottom",
+            "margin_left", "padding_top", "padding_right", "padding_bottom", "padding_left",
+            "border_top_width", "border_right_width", "border_bottom_width",
+            "border_left_width")
+
+
+@pytest.fixture()
+def general():
+    """weasyprint's own functions for the test; the short paths back after it."""
+    was = fast_layout.installed()
+    fast_layout.uninstall()
+    yield
+    if was:
+        fast_layout.install()
+
+
+def _boxes(document) -> list[tuple]:
+    out = []
+
+    def walk(box):
+        out.append((type(box).__name__, box.element_tag,
+                    tuple(getattr(box, name, None) for name in _LENGTHS),
+                    box.is_in_normal_flow(), box.establishes_formatting_context()))
+        for child in getattr(box, "children", ()) or ():
+            walk(child)
+        for child in getattr(box, "footnote_area", None) and [box.footnote_area] or ():
+            walk(child)
+
+    for page in document.pages:
+        walk(page._page_box)
+    return out
+
+
+def _styles(html: weasyprint.HTML) -> list[tuple]:
+    from weasyprint.css import get_all_computed_styles
+    style_for = get_all_computed_styles(html)
+    out = []
+    for element in html.wrapper_element.iter_subtree():
+        for pseudo in (None, "before", "marker"):
+            style = style_for(element.etree_element, pseudo)
+            if style is None:
+                continue
+            # Every property, read in two orders: the short path must not depend
+            # on what was read before.
+            for names in (sorted(INITIAL_VALUES), sorted(INITIAL_VALUES, reverse=True)):
+                fresh = style.copy()
+                fresh.clear()
+                out.append((element.etree_element.tag, pseudo,
+                            tuple((k, repr(fresh[k])) for k in names)))
+    return out
+
+
+def test_install_patches_weasyprint_70_only(monkeypatch, general):
+    assert not fast_layout.installed()
+    monkeypatch.setattr(weasyprint, "__version__", "71.0")
+    assert fast_layout.install() is False and not fast_layout.installed()
+    monkeypatch.setattr(weasyprint, "__version__", "70.0")
+    assert fast_layout.install() is True and fast_layout.installed()
+    from weasyprint.layout import block, percent, table
+    assert block.resolve_percentages is percent.resolve_percentages
+    assert table.resolve_percentages is percent.resolve_percentages
+    fast_layout.uninstall()
+    assert not fast_layout.installed()
+    assert block.resolve_percentages.__module__ == "weasyprint.layout.percent"
+
+
+def test_every_computed_property_is_weasyprints_own(general):
+    reference = _styles(weasyprint.HTML(string=_HTML))
+    assert fast_layout.install()
+    fast = _styles(weasyprint.HTML(string=_HTML))
+    assert len(fast) == len(reference) > 40
+    for a, b in zip(fast, reference):
+        assert a == b, (a[0], a[1], [x for x, y in zip(a[2], b[2]) if x != y][:3])
+
+
+def test_every_box_has_weasyprints_own_used_lengths(general):
+    reference = _boxes(weasyprint.HTML(string=_HTML).render())
+    assert fast_layout.install()
+    fast = _boxes(weasyprint.HTML(string=_HTML).render())
+    kinds = {b[0] for b in reference}
+    assert {"TableCellBox", "LineBox", "BlockBox", "PageBox", "MarginBox"} <= kinds
+    assert any(not b[3] for b in reference)          # out-of-flow boxes are there
+    assert len(fast) == len(reference) > 60
+    for a, b in zip(fast, reference):
+        assert a == b
+
+
+def test_the_same_pdf_as_with_weasyprints_own(general):
+    # Text in other directions, languages, fonts and sizes decades apart, with
+    # decorations: the Pango contexts and font descriptions kept for reuse.
+    reference = weasyprint.HTML(string=_HTML).write_pdf()
+    assert fast_layout.install()
+    fonts = weasyprint.text.fonts.FontConfiguration()
+    assert weasyprint.HTML(string=_HTML).write_pdf() == reference
+    twice = [weasyprint.HTML(string=_HTML).write_pdf(font_config=fonts) for _ in range(2)]
+    assert twice == [reference, reference]           # the kept ones, used again
+    contexts, descriptions = fonts._rcdoc_pango
+    assert len(contexts) >= 3 and len(descriptions) >= 4
+
+
+def _flow(html: weasyprint.HTML) -> list[tuple]:
+    # Boxes of each kind for every element's style, as the formatting structure
+    # builds them (before layout moves footnotes and running elements away).
+    from weasyprint.css import get_all_computed_styles
+    from weasyprint.formatting_structure import boxes
+    style_for = get_all_computed_styles(html)
+    out = []
+    for element in html.wrapper_element.iter_subtree():
+        style = style_for(element.etree_element)
+        for kind in (boxes.BlockBox, boxes.InlineBox, boxes.InlineBlockBox, boxes.TableCellBox,
+                     boxes.FlexBox, boxes.LineBox):
+            box = kind(element.etree_element.tag, style, element.etree_element, [])
+            out.append((element.etree_element.tag, kind.__name__, box.is_in_normal_flow(),
+                        box.establishes_formatting_context()))
+    return out
+
+
+def test_flow_tests_are_weasyprints_own(general):
+    reference = _flow(weasyprint.HTML(string=_HTML))
+    assert fast_layout.install()
+    fast = _flow(weasyprint.HTML(string=_HTML))
+    assert fast == reference
+    # Each answer is there: in flow or not, a formatting context or not.
+    assert {(r[2], r[3]) for r in reference} == {(True, True), (True, False),
+                                                 (False, True), (False, False)}
+    assert {r[0] for r in reference if not r[2]} >= {"span", "div", "h1"}
+
+
+@pytest.mark.slow
+def test_parts_and_whole_note_are_the_same_bytes_as_with_weasyprints_own(
+        general, monkeypatch, tmp_path):
+    ctx = make_context()          # a failing snubber: its caution box holds a list
+    parts = [("front", ctx), ("stage", {**assemble._head(ctx), "stages": ctx["stages"]}),
+             ("appendix", assemble.appendix_context(ctx, ctx["appendix"]))]
+    kw = dict(source_date_epoch=EPOCH)
+
+    def render(name):
+        out = [assemble.render_part(c, p, **kw) for p, c in parts]
+        report.render_document(ctx, tmp_path / name, source_date_epoch=EPOCH)
+        return out
+
+    install = fast_layout.install
+    monkeypatch.setattr(fast_layout, "install", lambda: False)   # the renderer asks
+    reference = render("own.pdf")
+    assert not fast_layout.installed()
+    monkeypatch.setattr(fast_layout, "install", install)
+    fast = render("fast.pdf")
+    assert fast_layout.installed()
+    for a, b in zip(fast, reference):
+        assert a["pages"] == b["pages"] >= 1
+        assert a["pdf"] == b["pdf"]
+    assert (tmp_path / "fast.pdf").read_bytes() == (tmp_path / "own.pdf").read_bytes()
