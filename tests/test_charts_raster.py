@@ -115,15 +115,15 @@ def test_glyph_runs_blended_as_one_bitmap_equal_plain_agg():
     # The glyphs of a string are blended as one bitmap when no pixel is covered by two of
     # them. A combining long solidus (U+0338) drawn over "o" covers pixels of its base:
     # that string is blended glyph by glyph. Both ways must give plain Agg's pixels.
-    charts_raster._RUNS.clear()
+    charts_raster._SHAPES.clear()
     fig = Figure(figsize=(3.0, 1.5))
     fig.text(0.05, 0.65, "Gain [dB] at 10\N{THIN SPACE}kHz", fontsize=9)
     fig.text(0.05, 0.25, "o\u0338 x", fontsize=14)
     reference = _plain(fig, 150.0)
     assert np.array_equal(_cached(fig, 150.0), reference)
     assert np.array_equal(_cached(fig, 150.0), reference)      # runs served from the cache
-    merged = {bitmap is not None for bitmap, _, _ in charts_raster._RUNS.values()}
-    assert merged == {True, False}        # one string merged, the overlaid one not
+    bitmaps = [len(run) for _, runs in charts_raster._SHAPES.values() for run in runs.values()]
+    assert sorted(bitmaps) == [1, 3]      # one string merged, the overlaid one not (3 glyphs)
 
 
 def test_kept_text_layouts_equal_matplotlibs():

@@ -36,6 +36,7 @@ import numpy as np
 from cycler import cycler
 from matplotlib import ticker
 from matplotlib.backends.backend_svg import FigureCanvasSVG
+from matplotlib.collections import FillBetweenPolyCollection
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 from matplotlib.patches import Rectangle
@@ -540,6 +541,15 @@ def _vline(ax, x: float, **style) -> Line2D:
     ax.add_artist(line)
     line.get_path()._interpolation_steps = matplotlib.axis.GRIDLINE_INTERPOLATION_STEPS
     return line
+
+
+def _fill(ax, x, lo, hi, **style) -> FillBetweenPolyCollection:
+    """``ax.fill_between(x, lo, hi, **style)`` on axes whose ranges the chart sets itself (see
+    _vspan): the same polygons (split where a value is not finite), without the data limits."""
+    t, a, b = (np.ma.masked_invalid(np.asarray(v, dtype=float)) for v in (x, lo, hi))
+    collection = FillBetweenPolyCollection("x", t, a, b, **style)
+    ax.add_collection(collection, autolim=False)
+    return collection
 
 
 def _log_fraction(ax, x: float) -> float:

@@ -11,7 +11,11 @@ three process-wide caches in front of the same FreeType calls:
 - each glyph's coverage bitmap, by font, size, glyph and the fraction of a
   pixel where it lands (FreeType rasterises a glyph moved by whole pixels to
   the same bitmap, moved: the outline is placed relative to its own pixel
-  grid; tests/test_charts_raster.py checks every pixel against plain Agg).
+  grid; tests/test_charts_raster.py checks every pixel against plain Agg),
+- with each shaped string, the bitmaps it was drawn as (its glyphs merged into
+  one where no pixel is covered twice), by the fractions of a pixel where its
+  glyphs land and the whole pixels between them: a string drawn again on the
+  same fractions (a tick label on the next chart) is one lookup, placed.
 
 The pixels are those of plain Agg; only the repeated work is gone. The caches
 are keyed by everything the results depend on (string, font properties, the
@@ -36,12 +40,12 @@ from matplotlib.offsetbox import OffsetBox
 from matplotlib.text import Text
 
 _LIMIT = 50_000          # entries per cache: a note's charts use a few thousand
+_RUNS_PER_STRING = 4096  # places of one string kept (by fractions of a pixel and glyph spacing)
 _SIZES: dict = {}        # (string, font, dpi, ...) -> (width, height, descent)
-_SHAPES: dict = {}       # (string, font, dpi, ...) -> ((ft font, glyph, x, y), ...)
+_SHAPES: dict = {}       # (string, font, dpi, ...) -> (((ft font, glyph, x, y), ...), its runs)
 _GLYPHS: dict = {}       # (ft font, size, dpi, glyph, matrix, x % 64, y % 64, ...) -> bitmap
 _HEIGHTS: dict = {}      # (font, dpi, ...) -> (ascent, descent, line gap)
 _LAYOUTS: dict = {}      # (string, font, alignment, rotation, ...) -> Text._get_layout's answer
-_RUNS: dict = {}         # (glyph keys, their offsets) -> (one bitmap of them or None, its offset)
 
 # rcParams that change how a string is shaped or rasterised (fonts found, hinting, kerning).
 _TEXT_RC = ("font.family", "font.sans-serif", "font.serif", "font.monospace", "font.cursive",
@@ -105,63 +109,76 @@ class TextCachingAgg(RendererAgg):
         features = mtext.get_fontfeatures() if mtext is not None else None
         language = mtext.get_language() if mtext is not None else None
         key = (s, self._font_key(prop), None if features is None else tuple(features), language)
-        items = _SHAPES.get(key)
-        if items is None:
+        shape = _SHAPES.get(key)
+        if shape is None:
             font = self._prepare_font(prop)
-            items = _remember(_SHAPES, key, tuple(
-                (item.ft_object, item.glyph_index, item.x, item.y)
-                for item in font._layout(s, flags=get_hinting_flag(), features=features,
-                                         language=language)))
-        self._draw_glyphs(gc, x, y, angle, prop.get_size_in_points(), items)
+            items = tuple((item.ft_object, item.glyph_index, item.x, item.y)
+                          for item in font._layout(s, flags=get_hinting_flag(), features=features,
+                                                   language=language))
+            shape = _remember(_SHAPES, key, (items, {}))
+        self._draw_glyphs(gc, x, y, angle, prop.get_size_in_points(), *shape)
 
-    def _draw_glyphs(self, gc, x, y, angle, size, items):
-        """RendererAgg._draw_text_glyphs_and_boxes for shaped text, with each glyph's bitmap
-        taken from the cache when it was rendered before at the same fraction of a pixel.
-
-        The glyphs of a string go to Agg as one bitmap when no pixel is covered by two of
-        them: Agg blends each pixel by its own coverage and leaves a pixel of zero
-        coverage as it is, so the pixels are those of one blend per glyph (which cost
-        Agg a conversion of the graphics context each)."""
+    def _draw_glyphs(self, gc, x, y, angle, size, items, runs):
+        """Draw a shaped string (``items``) at (x, y): its bitmaps are those the string
+        drew before wherever its glyphs landed on the same fractions of a pixel and the
+        same whole pixels apart (``runs``, the string's own cache), placed where its first
+        glyph's whole pixel is; else worked out by ``_glyph_run``."""
         cos = math.cos(math.radians(angle))
         sin = math.sin(math.radians(angle))
+        height = self.height
+        # Each glyph's place in 64ths of a pixel, as _glyph_run (and RendererAgg) works it out.
+        tx = [round(0x40 * (x + dx * cos - dy * sin)) for _, _, dx, dy in items]
+        ty = [round(0x40 * (height - y + dx * sin + dy * cos)) for _, _, dx, dy in items]
+        if not tx:
+            return
+        bx, by = tx[0] >> 6, ty[0] >> 6
+        smooth = bool(gc.get_antialiased())
+        key = (angle, smooth, get_hinting_flag(), tuple(t - (bx << 6) for t in tx),
+               tuple(t - (by << 6) for t in ty))
+        run = runs.get(key)
+        if run is None:
+            if len(runs) >= _RUNS_PER_STRING:
+                runs.clear()
+            run = runs[key] = self._glyph_run(cos, sin, size, items, tx, ty, smooth, bx, by)
+        column0, row0 = bx, int(height) - by
+        for buffer, column, row in run:
+            self._renderer.draw_text_image(buffer, column0 + column, row0 + row + buffer.shape[0], 0, gc)
+
+    def _glyph_run(self, cos, sin, size, items, tx, ty, smooth, bx, by) -> tuple:
+        """The bitmaps of a string whose glyphs land at ``tx``, ``ty`` (64ths of a pixel,
+        y downwards): ((bitmap, first column, first row), ...) relative to the first
+        glyph's whole pixel (``bx``, ``by``), as RendererAgg._draw_text_glyphs_and_boxes
+        renders them, each glyph's bitmap taken from the cache when it was rendered before
+        at the same fraction of a pixel.
+
+        The glyphs go to Agg as one bitmap when no pixel is covered by two of them: Agg
+        blends each pixel by its own coverage and leaves a pixel of zero coverage as it
+        is, so the pixels are those of one blend per glyph (which cost Agg a conversion
+        of the graphics context each)."""
         matrix = (0x10000 * np.array([[cos, -sin], [sin, cos]])).round().astype(int)
         m_key = tuple(matrix.ravel().tolist())
         flags = get_hinting_flag()
-        smooth = bool(gc.get_antialiased())
-        height = self.height
-        rows = int(height)
         placed = []                                # (bitmap, first column, first row)
-        keys = []
-        for font, glyph, dx, dy in items:          # dy is upwards, y downwards
-            tx = round(0x40 * (x + dx * cos - dy * sin))
-            ty = round(0x40 * (height - y + dx * sin + dy * cos))
-            key = (font, size, self.dpi, glyph, m_key, tx & 63, ty & 63, flags, smooth)
+        for (font, glyph, _dx, _dy), gx, gy in zip(items, tx, ty):
+            key = (font, size, self.dpi, glyph, m_key, gx & 63, gy & 63, flags, smooth)
             got = _GLYPHS.get(key)
             if got is None:
                 font.set_size(size, self.dpi)
-                font._set_transform(matrix, [tx, ty])
+                font._set_transform(matrix, [gx, gy])
                 bitmap = font._render_glyph(glyph, flags,
                                             RenderMode.NORMAL if smooth else RenderMode.MONO)
                 buffer = np.array(bitmap.buffer, copy=True)
                 if not smooth:
                     buffer *= 0xff
-                got = _remember(_GLYPHS, key, (buffer, bitmap.left - (tx >> 6), bitmap.top - (ty >> 6)))
+                got = _remember(_GLYPHS, key, (buffer, bitmap.left - (gx >> 6), bitmap.top - (gy >> 6)))
             buffer, left, top = got
             if buffer.size:
-                placed.append((buffer, left + (tx >> 6), rows - (top + (ty >> 6))))
-                keys.append(key)
+                placed.append((buffer, left + (gx >> 6) - bx, -(top + (gy >> 6) - by)))
         if len(placed) > 1:
-            # The same glyphs at the same fractions of a pixel and whole pixels apart
-            # (a tick label drawn again) merge to the same bitmap.
-            column, row = placed[0][1], placed[0][2]
-            run = (tuple(keys), tuple((c - column, r - row) for _, c, r in placed))
-            got = _RUNS.get(run)
-            if got is None:
-                got = _remember(_RUNS, run, _merged(placed, column, row))
-            if got[0] is not None:
-                placed = [(got[0], column + got[1], row + got[2])]
-        for buffer, column, row in placed:
-            self._renderer.draw_text_image(buffer, column, row + buffer.shape[0], 0, gc)
+            whole, column, row = _merged(placed, 0, 0)
+            if whole is not None:
+                placed = [(whole, column, row)]
+        return tuple(placed)
 
 
 def _merged(placed: list, column0: int, row0: int) -> tuple:
