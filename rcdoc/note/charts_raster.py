@@ -159,11 +159,16 @@ class TextCachingAgg(RendererAgg):
         m_key = tuple(matrix.ravel().tolist())
         flags = get_hinting_flag()
         placed = []                                # (bitmap, first column, first row)
+        sized = set()           # the fonts given this size here (set_size cost as much as a glyph)
         for (font, glyph, _dx, _dy), gx, gy in zip(items, tx, ty):
             key = (font, size, self.dpi, glyph, m_key, gx & 63, gy & 63, flags, smooth)
             got = _GLYPHS.get(key)
             if got is None:
-                font.set_size(size, self.dpi)
+                if font not in sized:
+                    # Nothing else uses the font before this loop ends, and _set_transform
+                    # replaces the transform that set_size sets: once per font is enough.
+                    font.set_size(size, self.dpi)
+                    sized.add(font)
                 font._set_transform(matrix, [gx, gy])
                 bitmap = font._render_glyph(glyph, flags,
                                             RenderMode.NORMAL if smooth else RenderMode.MONO)
