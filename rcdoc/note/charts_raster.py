@@ -29,12 +29,21 @@ again for every box that asks, about thirty times in one drawing.
 from __future__ import annotations
 
 import math
+import os
+import threading
 
 import matplotlib as mpl
 import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg, RendererAgg, get_hinting_flag
 from matplotlib.figure import Figure
 from matplotlib.font_manager import fontManager, get_font
+
+try:        # how matplotlib makes a font for get_font (unshared: _get_font's uncached body)
+    from matplotlib.font_manager import FontPath, _cached_realpath
+    from matplotlib.font_manager import _get_font as _shared_font
+    _make_font = _shared_font.__wrapped__
+except (ImportError, AttributeError):                  # pragma: no cover - other matplotlib
+    FontPath = _cached_realpath = _make_font = None
 from matplotlib.ft2font import RenderMode
 from matplotlib.offsetbox import OffsetBox
 from matplotlib.text import Text
@@ -45,12 +54,25 @@ _SIZES: dict = {}        # (string, font, dpi, ...) -> (width, height, descent)
 _SHAPES: dict = {}       # (string, font, dpi, ...) -> (((ft font, glyph, x, y), ...), its runs)
 _GLYPHS: dict = {}       # (ft font, size, dpi, glyph, matrix, x % 64, y % 64, ...) -> bitmap
 _HEIGHTS: dict = {}      # (font, dpi, ...) -> (ascent, descent, line gap)
+_SIZED: dict = {}        # (font files, kerning, last resort, size, dpi) -> a font at that size
+_AT_SIZE: set = set()    # those fonts: nothing else sets their size
 _LAYOUTS: dict = {}      # (string, font, alignment, rotation, ...) -> Text._get_layout's answer
 
 # rcParams that change how a string is shaped or rasterised (fonts found, hinting, kerning).
 _TEXT_RC = ("font.family", "font.sans-serif", "font.serif", "font.monospace", "font.cursive",
             "font.fantasy", "font.style", "font.variant", "font.weight", "font.stretch",
             "text.hinting", "text.hinting_factor", "text.kerning_factor", "text.antialiased")
+
+
+def _forget_fonts() -> None:
+    """FreeType's fonts must not be used across a fork (matplotlib forgets its own too)."""
+    _SIZED.clear()
+    _AT_SIZE.clear()
+    _SHAPES.clear()
+
+
+if hasattr(os, "register_at_fork"):
+    os.register_at_fork(after_in_child=_forget_fonts)
 
 
 def _remember(cache: dict, key, value):
@@ -71,6 +93,20 @@ class TextCachingAgg(RendererAgg):
         return (tuple(prop.get_family()), prop.get_slant(), prop.get_variant(), prop.get_weight(),
                 prop.get_stretch(), prop.get_size_in_points(), prop.get_file(),
                 prop.get_math_fontfamily(), self.dpi, get_hinting_flag(), self._rc_key)
+
+    def _prepare_font(self, font_prop):
+        """RendererAgg._prepare_font: the font of ``font_prop`` cleared, at its size; here a
+        font of this module's own per size and resolution, set to its size once (matplotlib
+        shares one font object per file and sets its size at every use, which cost as much
+        as rendering a glyph)."""
+        files = fontManager._find_fonts_by_props(font_prop)
+        size = font_prop.get_size_in_points()
+        font = _sized_font(files, size, self.dpi)
+        if font is None:
+            return super()._prepare_font(font_prop)
+        font._set_transform([[0x10000, 0], [0, 0x10000]], [0, 0])     # as get_font leaves it
+        font.clear()
+        return font
 
     def get_text_width_height_descent(self, s, prop, ismath):
         if ismath:
@@ -164,7 +200,7 @@ class TextCachingAgg(RendererAgg):
             key = (font, size, self.dpi, glyph, m_key, gx & 63, gy & 63, flags, smooth)
             got = _GLYPHS.get(key)
             if got is None:
-                if font not in sized:
+                if font not in sized and font not in _AT_SIZE:
                     # Nothing else uses the font before this loop ends, and _set_transform
                     # replaces the transform that set_size sets: once per font is enough.
                     font.set_size(size, self.dpi)
@@ -184,6 +220,29 @@ class TextCachingAgg(RendererAgg):
             if whole is not None:
                 placed = [(whole, column, row)]
         return tuple(placed)
+
+
+def _sized_font(files, size: float, dpi: float):
+    """A font of the files matplotlib's get_font(files) opens, made as get_font makes it
+    but kept here and set to ``size`` at ``dpi`` once; None where this matplotlib makes its
+    fonts otherwise (then the renderer takes matplotlib's shared font)."""
+    key = (tuple(files), mpl.rcParams["text.kerning_factor"],
+           mpl.rcParams["font.enable_last_resort"], size, dpi)
+    font = _SIZED.get(key)
+    if font is None and _SIZED.get(None, True):
+        try:
+            paths = tuple((_cached_realpath(f.path), f.face_index) if isinstance(f, FontPath)
+                          else (_cached_realpath(f), 0) for f in key[0])
+            font = _make_font(paths, _kerning_factor=key[1], thread_id=threading.get_ident(),
+                              enable_last_resort=key[2])
+        except (AttributeError, TypeError):           # another matplotlib's internals
+            _SIZED[None] = False
+            return None
+        font._set_transform([[0x10000, 0], [0, 0x10000]], [0, 0])
+        font.set_size(size, dpi)
+        _AT_SIZE.add(font)
+        _SIZED[key] = font
+    return font
 
 
 def _merged(placed: list, column0: int, row0: int) -> tuple:
