@@ -2,8 +2,9 @@
 
 The caching renderer keeps string sizes, shaped glyph runs and glyph bitmaps
 (by the fraction of a pixel where a glyph lands) from one drawing to the next.
-Every check draws the same figure with plain matplotlib Agg (the reference)
-and with TextCachingAgg, and compares the pixels exactly: texts at whole and
+Every check draws the same figure with plain matplotlib Agg (the reference; its
+strings anchored on whole pixels, as TextCachingAgg anchors them) and with
+TextCachingAgg, and compares the pixels exactly: texts at whole and
 fractional pixel positions, the same string moved by whole pixels (a cached
 bitmap placed elsewhere), rotated and non-antialiased text, mathtext (drawn by
 matplotlib itself), symbols the note prints (µ, Ω, minus sign, thin space), and
@@ -15,16 +16,34 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.backends.backend_agg import FigureCanvasAgg, RendererAgg
 from matplotlib.figure import Figure
 from matplotlib.transforms import IdentityTransform
 
 from rcdoc.note import charts, charts_freq, charts_raster, charts_reuse, charts_time
 
 
+class _WholePixelAgg(RendererAgg):
+    """Plain Agg with each string's anchor on the nearest whole pixel, as TextCachingAgg
+    places text (mathtext, drawn by matplotlib itself in both, as it comes)."""
+
+    def draw_text(self, gc, x, y, s, prop, angle, ismath=False, mtext=None):
+        if not ismath:
+            x, y = round(x), round(y)
+        return super().draw_text(gc, x, y, s, prop, angle, ismath, mtext)
+
+
+def _plain_canvas(fig: Figure) -> FigureCanvasAgg:
+    canvas = FigureCanvasAgg(fig)
+    w, h = canvas.get_width_height(physical=True)
+    canvas.renderer = _WholePixelAgg(w, h, fig.dpi)
+    canvas._lastKey = (w, h, fig.dpi)
+    return canvas
+
+
 def _plain(fig: Figure, dpi: float) -> np.ndarray:
     fig.set_dpi(dpi)
-    canvas = FigureCanvasAgg(fig)
+    canvas = _plain_canvas(fig)
     canvas.draw()
     return np.asarray(canvas.buffer_rgba()).copy()
 
@@ -98,7 +117,7 @@ def test_charts_equal_plain_agg(monkeypatch):
 
     def plain_rgba(fig, dpi):
         fig.set_dpi(dpi)
-        canvas = FigureCanvasAgg(fig)
+        canvas = _plain_canvas(fig)
         canvas.draw()
         return canvas.get_width_height(physical=True), canvas.buffer_rgba()
 
