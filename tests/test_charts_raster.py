@@ -169,3 +169,31 @@ def test_kept_text_layouts_equal_matplotlibs():
             assert numbers(charts_raster._text_layout(text, renderer)) == want
         last.set_horizontalalignment("right")    # a changed property is a new layout
         last.set_verticalalignment("top")
+
+
+def test_measures_from_shapes_equal_set_text():
+    # TextCachingAgg measures a string from its shape and each glyph's advance and box
+    # instead of FT2Font.set_text: the same (width, height, descent) as plain Agg's
+    # get_text_width_height_descent for strings with kerning pairs, spaces only, the empty
+    # string, the note's symbols, a combining mark, a zero-width space, glyphs only a
+    # fallback font has (measured by set_text), at several sizes and resolutions.
+    import random
+    import warnings
+
+    from matplotlib.font_manager import FontProperties
+
+    rng = random.Random(3)
+    alphabet = "AVToTyLTfiflkHzdB[]()0123456789.,:%µΩ−°–—  \u2009_-+=/xyzqpgjWMQ@#&*<>"
+    strings = ["", " ", "AV", "To kHz", "ffi", "corner 2.74\u2009kHz", "Gain [dB]",
+               "\u22120.347 LSB", "o\u0338 x", "x\u200by", "\u65e5\u672c 1"]
+    strings += ["".join(rng.choice(alphabet) for _ in range(rng.randint(1, 30))) for _ in range(150)]
+    with charts._styled("measure"), warnings.catch_warnings():
+        warnings.simplefilter("ignore")              # glyphs missing from DejaVu Sans
+        for size, dpi in ((8.0, 150.0), (9.0, 150.0), (6.0, 100.0), (13.0, 203.0)):
+            prop = FontProperties(family="DejaVu Sans", size=size)
+            mine = charts_raster.TextCachingAgg(10, 10, dpi)
+            plain = RendererAgg(10, 10, dpi)
+            for s in strings:
+                for _ in range(2):                   # measured, then from the caches
+                    assert mine.get_text_width_height_descent(s, prop, False) == \
+                        plain.get_text_width_height_descent(s, prop, False), (s, size, dpi)

@@ -6,7 +6,11 @@ drawing time went to text whose strings ("0", "10 k", "Gain [dB]", the legend
 entries) repeat from chart to chart. `TextCachingAgg` is that renderer with
 three process-wide caches in front of the same FreeType calls:
 
-- the size of a string (what matplotlib's layout asks for, per chart),
+- the size of a string (what matplotlib's layout asks for, per chart), worked
+  out from the glyphs it is shaped into and each glyph's advance and box, as
+  FreeType's set_text adds them up (set_text cost as much as the shaping: a
+  string is laid out once, not twice; strings with glyphs of a fallback font
+  are measured by set_text),
 - the glyphs and their places that a string is shaped into,
 - each glyph's coverage bitmap, by font, size, glyph and the fraction of a
   pixel where it lands (FreeType rasterises a glyph moved by whole pixels to
@@ -57,6 +61,7 @@ _RUNS_PER_STRING = 4096  # places of one string kept (by fractions of a pixel an
 _SIZES: dict = {}        # (string, font, dpi, ...) -> (width, height, descent)
 _SHAPES: dict = {}       # (string, font, dpi, ...) -> (((ft font, glyph, x, y), ...), its runs)
 _GLYPHS: dict = {}       # (ft font, size, dpi, glyph, matrix, x % 64, y % 64, ...) -> bitmap
+_METRICS: dict = {}      # (font, glyph, flags, font key) -> (advance, box bottom, box top)
 _HEIGHTS: dict = {}      # (font, dpi, ...) -> (ascent, descent, line gap)
 _SIZED: dict = {}        # (font files, kerning, last resort, size, dpi) -> a font at that size
 _AT_SIZE: set = set()    # those fonts: nothing else sets their size
@@ -116,11 +121,48 @@ class TextCachingAgg(RendererAgg):
     def get_text_width_height_descent(self, s, prop, ismath):
         if ismath:
             return super().get_text_width_height_descent(s, prop, ismath)
-        key = (s, self._font_key(prop))
-        got = _SIZES.get(key)
+        font_key = self._font_key(prop)
+        got = _SIZES.get((s, font_key))
         if got is None:
-            got = _remember(_SIZES, key, super().get_text_width_height_descent(s, prop, ismath))
+            got = _remember(_SIZES, (s, font_key), self._measure(s, prop, font_key))
         return got
+
+    def _measure(self, s, prop, font_key) -> tuple:
+        """RendererAgg.get_text_width_height_descent: width (the pen's advance), height and
+        descent (of the glyphs' boxes) of FT2Font.set_text, worked out from the string's
+        shape (kept for drawing it) and each glyph's advance and box (kept per glyph):
+        laying a string out cost as much again as shaping it. A string with glyphs of a
+        fallback font is measured by set_text itself."""
+        font = self._prepare_font(prop)
+        items = self._shape(s, prop, font_key, None, None)[0]
+        if any(ft is not font for ft, _, _, _ in items):
+            return super().get_text_width_height_descent(s, prop, False)
+        if not items:
+            return 0.0, 0.0, 0.0
+        flags = get_hinting_flag()
+        font._set_transform([[0x10000, 0], [0, 0x10000]], [0, 0])
+        y_lo, y_hi = 32000, -32000                    # set_text's starting box
+        for _, glyph, _, _ in items:
+            key = (font, glyph, flags, font_key)
+            got = _METRICS.get(key)
+            if got is None:
+                g = font.load_glyph(glyph, flags)
+                got = _remember(_METRICS, key, (g.horiAdvance, g.bbox[1], g.bbox[3]))
+            y_lo, y_hi = min(y_lo, got[1]), max(y_hi, got[2])
+        advance = round(items[-1][2] * 64) + got[0]
+        return advance / 64.0, (y_hi - y_lo) / 64.0, -y_lo / 64.0
+
+    def _shape(self, s, prop, font_key, features, language) -> tuple:
+        """The glyphs a string is shaped into (font, glyph, x, y), kept with its runs."""
+        key = (s, font_key, None if features is None else tuple(features), language)
+        shape = _SHAPES.get(key)
+        if shape is None:
+            font = self._prepare_font(prop)
+            items = tuple((item.ft_object, item.glyph_index, item.x, item.y)
+                          for item in font._layout(s, flags=get_hinting_flag(), features=features,
+                                                   language=language))
+            shape = _remember(_SHAPES, key, (items, {}))
+        return shape
 
     def _get_font_height_metrics(self, prop):
         """Ascent, descent and line gap of the font at this resolution, as matplotlib's
@@ -149,14 +191,7 @@ class TextCachingAgg(RendererAgg):
             return super().draw_text(gc, x, y, s, prop, angle, ismath, mtext)
         features = mtext.get_fontfeatures() if mtext is not None else None
         language = mtext.get_language() if mtext is not None else None
-        key = (s, self._font_key(prop), None if features is None else tuple(features), language)
-        shape = _SHAPES.get(key)
-        if shape is None:
-            font = self._prepare_font(prop)
-            items = tuple((item.ft_object, item.glyph_index, item.x, item.y)
-                          for item in font._layout(s, flags=get_hinting_flag(), features=features,
-                                                   language=language))
-            shape = _remember(_SHAPES, key, (items, {}))
+        shape = self._shape(s, prop, self._font_key(prop), features, language)
         # The string's anchor on a whole pixel (as matplotlib placed text up to 3.9): its
         # glyphs then land on the same fractions of a pixel wherever it is drawn, so their
         # bitmaps are rendered once per process, not once for nearly every place.

@@ -14,11 +14,13 @@ changes ticks made unconditionally); every chart of the example board and the
 40-stage bench board comes out byte for byte as from a new figure
 (bench/charts.py, tests/test_charts_reuse.py).
 
-Two more repetitions are spared on a kept figure: its axes' background
+Three more repetitions are spared on a kept figure: its axes' background
 rectangle (that every line, patch and tick is clipped to) keeps its transform
-instead of working it out for each of them (`_AxesPatch`), and `clear` leaves
-the kept ticks' grid as the chart kind sets it every time, instead of turning
-it off on every tick for the chart to turn it on again.
+instead of working it out for each of them (`_AxesPatch`), and `clear` keeps
+that rectangle (set up as a new one) instead of making another and clipping
+every kept tick to it again, and leaves the kept ticks' grid as the chart kind
+sets it every time, instead of turning it off on every tick for the chart to
+turn it on again.
 
 Figures are kept per process (a worker of a parallel build has its own); the
 caller must finish a chart (draw or save it) before asking for the next figure
@@ -30,6 +32,7 @@ from __future__ import annotations
 from collections.abc import Callable, Sequence
 
 import matplotlib as mpl
+from matplotlib import artist as martist
 from matplotlib.backends.backend_svg import FigureCanvasSVG
 from matplotlib.figure import Figure
 from matplotlib.patches import Rectangle
@@ -87,10 +90,15 @@ def _clear_axes(ax) -> None:
     axes = (ax.xaxis, ax.yaxis)
     for axis in axes:
         axis.reset_ticks = _keep_ticks           # clear calls it: the kept ticks stay
+        axis.set_clip_path = _ClipTicks(axis)
     # clear turns the grid off on every kept tick (twice), for the chart to turn it on
     # again: a chart sets its grid the same way every time (see the module's docstring),
     # so the kept ticks keep the grid the last chart of the kind left them.
     ax.grid = _keep_grid
+    # clear makes a new background rectangle and clips every kept tick to it; the kept
+    # one, set up by clear as a new one is, clips them as before (see _ClipTicks).
+    if isinstance(ax.patch, _AxesPatch):
+        ax._gen_axes_patch = _Same(ax.patch)
     try:
         ax.clear()
         for spine in ax.spines.values():
@@ -100,7 +108,9 @@ def _clear_axes(ax) -> None:
     finally:
         for axis in axes:
             del axis.reset_ticks
+            del axis.set_clip_path
         del ax.grid
+        ax._gen_axes_patch = _AxesPatch.unit
     for axis in axes:
         axis._autolabelpos = True                # rcdoc.note.chart_ticks.lean_axes may fix it
     ax.dataLim.set(Bbox.null())                  # as new (clear only ignores the old limits)
@@ -108,6 +118,34 @@ def _clear_axes(ax) -> None:
 
 def _keep_ticks() -> None:
     return None
+
+
+class _Same:
+    """Axes._gen_axes_patch handing back the kept background rectangle."""
+
+    def __init__(self, patch):
+        self.patch = patch
+
+    def __call__(self):
+        return self.patch
+
+
+class _ClipTicks:
+    """Axis.set_clip_path that clips only the ticks not yet clipped to that rectangle: a
+    kept tick clipped to the kept background rectangle keeps the clip box made from it
+    (the rectangle's kept transform: the same box)."""
+
+    def __init__(self, axis):
+        self.axis = axis
+
+    def __call__(self, path, transform=None):
+        axis = self.axis
+        martist.Artist.set_clip_path(axis, path, transform)
+        for tick in axis.majorTicks + axis.minorTicks:
+            if transform is not None or vars(tick).get("_rcdoc_clip") is not path:
+                tick.set_clip_path(path, transform)
+                tick._rcdoc_clip = path if transform is None else None
+        axis.stale = True
 
 
 def _keep_grid(*args, **kwargs) -> None:
