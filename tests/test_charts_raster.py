@@ -197,3 +197,78 @@ def test_measures_from_shapes_equal_set_text():
                 for _ in range(2):                   # measured, then from the caches
                     assert mine.get_text_width_height_descent(s, prop, False) == \
                         plain.get_text_width_height_descent(s, prop, False), (s, size, dpi)
+
+
+def _decoded(png: bytes) -> np.ndarray:
+    import io
+
+    from PIL import Image
+    with Image.open(io.BytesIO(png)) as im:
+        assert im.mode == "P"
+        return np.asarray(im.convert("RGB")).astype(int)
+
+
+def test_indexed_png_keeps_white_and_stays_near_every_colour():
+    # A chart's PNG: opaque white as a colour of its own, the other pixels quantised by
+    # Pillow's octree. Against the drawing's own RGB values (decoded by Pillow): white
+    # stays exactly white, no other pixel moves further than the octree's buckets (16
+    # levels per channel: Pillow's FASTOCTREE, 4 bits of each), and on average less than
+    # quantising the whole image with that octree did (the method it replaces).
+    import io
+
+    from PIL import Image
+    f = np.logspace(0, 6, 301)
+    h = 1.0 / (1.0 + 1j * f / 1591.5)          # first-order low-pass (textbook formula)
+    band = {f"{k}_{s}": (20 * np.log10(np.abs(h)) if k == "gain" else np.degrees(np.angle(h))) + d
+            for k in ("gain", "phase") for s, d in (("min", -3), ("max", 3), ("lo", -1), ("hi", 1))}
+    fig_bytes = {}
+
+    def keep(fig, dpi):
+        size, buffer = _plain_rgba(fig, dpi)
+        fig_bytes["rgba"] = (size, bytes(buffer))
+        return size, buffer
+
+    original = charts_raster.rgba
+    charts_raster.rgba = keep
+    try:
+        png = charts_freq.bode("q-bode", f, 20 * np.log10(np.abs(h)), np.degrees(np.angle(h)),
+                               band=band, corner_hz=1591.5, fmt="png")
+    finally:
+        charts_raster.rgba = original
+    (w, hgt), buffer = fig_bytes["rgba"]
+    source = np.frombuffer(buffer, np.uint8).reshape(hgt, w, 4)[..., :3].astype(int)
+    got = _decoded(png)
+    white = (source == 255).all(axis=2)
+    assert white.mean() > 0.5 and not white.all()
+    assert (got[white] == 255).all()
+    error = np.abs(got - source)
+    assert error.max() < 16
+    whole = Image.frombuffer("RGBA", (w, hgt), buffer, "raw", "RGBA", 0, 1).convert("RGB").quantize(
+        colors=256, method=Image.Quantize.FASTOCTREE, dither=Image.Dither.NONE)
+    assert error.mean() < np.abs(np.asarray(whole.convert("RGB")).astype(int) - source).mean()
+    # The same drawing, the same bytes; at most 256 colours.
+    assert charts_raster.indexed_png((w, hgt), buffer, 150.0, 3) == png
+    with Image.open(io.BytesIO(png)) as im:
+        assert len(im.getpalette()) // 3 <= 256
+
+
+def test_indexed_png_of_white_and_of_many_colours():
+    # A blank drawing is one white colour; a drawing of thousands of colours and no white
+    # still has at most 256 (the octree's 255 and white), each pixel within the octree's
+    # coarse buckets (Pillow's FASTOCTREE: 2 bits of each channel, under 64 levels).
+    blank = np.full((20, 30, 4), 255, np.uint8)
+    assert (_decoded(charts_raster.indexed_png((30, 20), blank.tobytes(), 150.0, 3)) == 255).all()
+    rng = np.random.default_rng(2)
+    noisy = rng.integers(0, 255, (40, 50, 4), dtype=np.uint8)
+    noisy[..., 3] = 255
+    png = charts_raster.indexed_png((50, 40), noisy.tobytes(), 150.0, 3)
+    got = _decoded(png)
+    assert np.abs(got - noisy[..., :3].astype(int)).max() < 64
+    assert len({tuple(c) for c in got.reshape(-1, 3)}) <= 256
+
+
+def _plain_rgba(fig, dpi):
+    fig.set_dpi(dpi)
+    canvas = _plain_canvas(fig)
+    canvas.draw()
+    return canvas.get_width_height(physical=True), canvas.buffer_rgba()
