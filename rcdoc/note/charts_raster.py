@@ -99,11 +99,13 @@ class TextCachingAgg(RendererAgg):
     def __init__(self, width, height, dpi):
         super().__init__(width, height, dpi)
         self._rc_key = tuple(str(mpl.rcParams[k]) for k in _TEXT_RC if k in mpl.rcParams)
+        # The rcParams stay as they are while a renderer draws (it is made for one drawing).
+        self._hinting = get_hinting_flag()
 
     def _font_key(self, prop) -> tuple:
         return (tuple(prop.get_family()), prop.get_slant(), prop.get_variant(), prop.get_weight(),
                 prop.get_stretch(), prop.get_size_in_points(), prop.get_file(),
-                prop.get_math_fontfamily(), self.dpi, get_hinting_flag(), self._rc_key)
+                prop.get_math_fontfamily(), self.dpi, self._hinting, self._rc_key)
 
     def _prepare_font(self, font_prop):
         """RendererAgg._prepare_font: the font of ``font_prop`` cleared, at its size; here a
@@ -140,7 +142,7 @@ class TextCachingAgg(RendererAgg):
             return super().get_text_width_height_descent(s, prop, False)
         if not items:
             return 0.0, 0.0, 0.0
-        flags = get_hinting_flag()
+        flags = self._hinting
         font._set_transform([[0x10000, 0], [0, 0x10000]], [0, 0])
         y_lo, y_hi = 32000, -32000                    # set_text's starting box
         for _, glyph, _, _ in items:
@@ -160,7 +162,7 @@ class TextCachingAgg(RendererAgg):
         if shape is None:
             font = self._prepare_font(prop)
             items = tuple((item.ft_object, item.glyph_index, item.x, item.y)
-                          for item in font._layout(s, flags=get_hinting_flag(), features=features,
+                          for item in font._layout(s, flags=self._hinting, features=features,
                                                    language=language))
             shape = _remember(_SHAPES, key, (items, {}))
         return shape
@@ -213,7 +215,7 @@ class TextCachingAgg(RendererAgg):
             return
         bx, by = tx[0] >> 6, ty[0] >> 6
         smooth = bool(gc.get_antialiased())
-        key = (angle, smooth, get_hinting_flag(), tuple(t - (bx << 6) for t in tx),
+        key = (angle, smooth, self._hinting, tuple(t - (bx << 6) for t in tx),
                tuple(t - (by << 6) for t in ty))
         run = runs.get(key)
         if run is None:
@@ -237,7 +239,7 @@ class TextCachingAgg(RendererAgg):
         of the graphics context each)."""
         matrix = (0x10000 * np.array([[cos, -sin], [sin, cos]])).round().astype(int)
         m_key = tuple(matrix.ravel().tolist())
-        flags = get_hinting_flag()
+        flags = self._hinting
         placed = []                                # (bitmap, first column, first row)
         sized = set()           # the fonts given this size here (set_size cost as much as a glyph)
         for (font, glyph, _dx, _dy), gx, gy in zip(items, tx, ty):
