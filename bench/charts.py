@@ -14,7 +14,8 @@ the ratio REV / this tree per type and over all charts, and how many of the
 PNG images are byte-identical between the two (a chart that looks the same
 should normally be the same bytes; compare the rest with your eyes), and how
 many are the same pixels (the decoded RGB images: a PNG deflated differently
-is other bytes but the same picture).
+is other bytes but the same picture). Each board's line also gives the bytes of
+all its charts (PNG; the 40-stage note's size aim).
 
 --profile prints the top entries of a cProfile of one drawing of all charts.
 --schematics times the schematics of the two boards instead (no analysis
@@ -80,7 +81,7 @@ def record(boards: dict[str, Path]) -> dict[str, list]:
 def draw_all(calls: dict[str, list], repeats: int, images: Path | None = None) -> dict:
     """{board: {chart type: best CPU seconds over `repeats` for all its charts}}, with
     the sha256 of each chart's bytes (under the key "sha256") and of its decoded
-    pixels (under "pixels"; SVG charts: of their text)."""
+    pixels (under "pixels"; SVG charts: of their text) and their total size ("bytes")."""
     funcs = {(m, n): getattr(importlib.import_module(m), n) for b in calls.values()
              for m, n, _a, _k in b}
     warm = {}                       # first use of each: imports and font caches, not timed
@@ -95,17 +96,18 @@ def draw_all(calls: dict[str, list], repeats: int, images: Path | None = None) -
         digests = []
         for _ in range(repeats):
             spent: dict[str, float] = {}
-            digests, pixels = [], []
+            digests, pixels, size = [], [], 0
             for m, n, a, k in items:
                 t0 = time.process_time()
                 data = funcs[(m, n)](*a, **k)
                 spent[n] = spent.get(n, 0.0) + time.process_time() - t0
+                size += len(data)
                 digests.append(hashlib.sha256(data if isinstance(data, bytes) else data.encode()).hexdigest())
                 pixels.append(_pixel_digest(data))
             for n, s in spent.items():
                 best[n] = min(best.get(n, float("inf")), s)
         out[board] = {"cpu": best, "count": {n: sum(1 for c in items if c[1] == n) for n in best},
-                      "sha256": digests, "pixels": pixels}
+                      "sha256": digests, "pixels": pixels, "bytes": size}
     return out
 
 
@@ -145,7 +147,8 @@ def against(calls_file: Path, rev: str, repeats: int, work: Path) -> tuple[dict,
             for board, res in got.items():
                 mine = sides[side].setdefault(board, {"cpu": {}, "count": res["count"],
                                                       "sha256": res["sha256"],
-                                                      "pixels": res["pixels"]})
+                                                      "pixels": res["pixels"],
+                                                      "bytes": res["bytes"]})
                 for n, s in res["cpu"].items():
                     mine["cpu"][n] = min(mine["cpu"].get(n, float("inf")), s)
     return sides["this"], sides[rev]
@@ -154,7 +157,9 @@ def against(calls_file: Path, rev: str, repeats: int, work: Path) -> tuple[dict,
 def report(this: dict, other: dict | None, rev: str | None) -> None:
     for board, res in this.items():
         total = sum(res["cpu"].values())
-        print(f"\n{board}: {sum(res['count'].values())} charts, {total:.2f} s CPU")
+        print(f"\n{board}: {sum(res['count'].values())} charts, {total:.2f} s CPU, "
+              f"{res['bytes'] / 1e6:.2f} MB" + (f" ({rev}: {other[board]['bytes'] / 1e6:.2f} MB)"
+                                                if other else ""))
         head = f"{'chart':16} {'n':>4} {'ms/chart':>9}"
         if other:
             head += f" {rev + ' ms':>12} {'ratio':>6}"

@@ -2,9 +2,11 @@
 
 - Vertical spans and lines on axes whose ranges the chart sets itself
   (charts._vspan, charts._vline) against matplotlib's Axes.axvspan and
-  Axes.axvline, and the histogram's bars (charts_time._bars) against
-  Axes.stairs: Bode charts with a corner and its spread, histograms with limits
-  inside the axis and off scale, the same PNG bytes.
+  Axes.axvline, the Bode chart's Monte Carlo bands (charts._fill) against
+  Axes.fill_between, and the histogram's bars (charts_time._bars) against
+  Axes.stairs: Bode charts with a corner and its spread, with bands broken by
+  values that are not finite, histograms with limits inside the axis and off
+  scale, the same PNG bytes.
 - The corner overview's ranges and markers, one line per status, against one
   line per row (the drawing they replace, kept below): the same bytes for
   passing and failing rows, band-pass rows with two frequencies, values decades
@@ -37,6 +39,13 @@ def _charts() -> list:
                 for s, d in (("min", -2), ("max", 2), ("lo", -1), ("hi", 1))}
         out.append(charts_freq.bode("l-bode", f, g, p, band=band, corner_hz=fc,
                                     corner_spread=spread, fmt="png"))
+        # Bands with gaps (no finite percentile where samples were unstable): the
+        # polygons split there, as fill_between splits them.
+        gappy = {k: v.copy() for k, v in band.items()}
+        for k in gappy:
+            gappy[k][120:135] = np.nan
+        gappy["gain_max"][200] = np.inf
+        out.append(charts_freq.bode("l-bode", f, g, p, band=gappy, corner_hz=fc, fmt="png"))
     rng = np.random.default_rng(5)
     x = 1e3 + 3.0 * rng.standard_normal(800)
     for lo, hi in ((995.0, 1004.0), (None, 2e3), (1e2, None), (900.0, 1100.0)):
@@ -53,6 +62,10 @@ def _axvline(ax, x, **style):
     return ax.axvline(x, **style)
 
 
+def _fill_between(ax, x, lo, hi, **style):
+    return ax.fill_between(x, lo, hi, **style)
+
+
 def _stairs(ax, counts, edges, *, fill, linewidth, zorder, facecolor=None, edgecolor=None):
     # As the histogram called it before: the colour as `color`, stairs' own defaults.
     return ax.stairs(counts, edges, fill=fill, color=facecolor if fill else edgecolor,
@@ -65,8 +78,9 @@ def test_spans_lines_and_bars_equal_matplotlibs_calls(monkeypatch):
         monkeypatch.setattr(module, "_vspan", _axvspan)
         monkeypatch.setattr(module, "_vline", _axvline)
     monkeypatch.setattr(charts_time, "_bars", _stairs)
+    monkeypatch.setattr(charts_freq, "_fill", _fill_between)
     plain = _charts()
-    assert len(lean) == len(plain) == 6
+    assert len(lean) == len(plain) == 8
     for i, (a, b) in enumerate(zip(lean, plain)):
         assert a == b, f"chart {i} differs from matplotlib's spans, lines and stairs"
 

@@ -36,6 +36,7 @@ import numpy as np
 from cycler import cycler
 from matplotlib import ticker
 from matplotlib.backends.backend_svg import FigureCanvasSVG
+from matplotlib.collections import FillBetweenPolyCollection
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 from matplotlib.patches import Rectangle
@@ -307,17 +308,12 @@ def _png(fig: Figure) -> bytes:
     """The chart as an indexed-colour PNG of at most 256 colours.
 
     A chart has a few colours and their anti-aliased blends: the palette
-    (octree, no dithering: deterministic) looks the same as full colour and
-    made the example note's PNGs 3.2 times smaller (README, Performance).
-    The file holds no text chunks and no dates: the same chart, the same bytes."""
-    from PIL import Image
+    (charts_raster.indexed_png: white and an octree of the rest, no dithering:
+    deterministic) looks the same as full colour and made the example note's
+    PNGs 3.2 times smaller (README, Performance). The file holds no text chunks
+    and no dates: the same chart, the same bytes."""
     size, buffer = charts_raster.rgba(fig, PNG_DPI)
-    rgba = Image.frombuffer("RGBA", size, buffer, "raw", "RGBA", 0, 1)
-    indexed = rgba.convert("RGB").quantize(colors=256, method=Image.Quantize.FASTOCTREE,
-                                           dither=Image.Dither.NONE)
-    out = io.BytesIO()
-    indexed.save(out, format="PNG", dpi=(PNG_DPI, PNG_DPI), compress_level=_PNG_LEVEL)
-    return out.getvalue()
+    return charts_raster.indexed_png(size, buffer, PNG_DPI, _PNG_LEVEL)
 
 
 def _prefix_ids(svg: str, prefix: str) -> str:
@@ -540,6 +536,15 @@ def _vline(ax, x: float, **style) -> Line2D:
     ax.add_artist(line)
     line.get_path()._interpolation_steps = matplotlib.axis.GRIDLINE_INTERPOLATION_STEPS
     return line
+
+
+def _fill(ax, x, lo, hi, **style) -> FillBetweenPolyCollection:
+    """``ax.fill_between(x, lo, hi, **style)`` on axes whose ranges the chart sets itself (see
+    _vspan): the same polygons (split where a value is not finite), without the data limits."""
+    t, a, b = (np.ma.masked_invalid(np.asarray(v, dtype=float)) for v in (x, lo, hi))
+    collection = FillBetweenPolyCollection("x", t, a, b, **style)
+    ax.add_collection(collection, autolim=False)
+    return collection
 
 
 def _log_fraction(ax, x: float) -> float:

@@ -16,7 +16,7 @@ from matplotlib.patches import Arc, FancyArrowPatch, Patch, Rectangle
 
 from rcdoc.note import palette as pal
 from rcdoc.note.charts import (_BBOX, _arr, _AxisEngFormatter, _check_fig_id, _eng, _eng_range,
-                               _finish, _finite, _grid, _legend, _log_axis, _log_fraction,
+                               _fill, _finish, _finite, _grid, _legend, _log_axis, _log_fraction,
                                _num, _same_shape, _styled, _vline, _vspan, WIDTH_IN)
 from rcdoc.note.charts_reuse import reused_figure
 
@@ -61,10 +61,10 @@ def bode(fig_id: str, freqs_hz, gain_db, phase_deg, *, band: Mapping | None = No
         if bands:
             outer = band.get("outer_label", "Monte Carlo min–max")
             inner = band.get("inner_label", "Monte Carlo 5–95 %")
-            ax_g.fill_between(f, bands["gain_min"], bands["gain_max"], color=pal.BAND_OUTER, linewidth=0, zorder=1)
-            ax_g.fill_between(f, bands["gain_lo"], bands["gain_hi"], color=pal.BAND_INNER, linewidth=0, zorder=1.1)
-            ax_p.fill_between(f, bands["phase_min"], bands["phase_max"], color=pal.BAND_OUTER, linewidth=0, zorder=1)
-            ax_p.fill_between(f, bands["phase_lo"], bands["phase_hi"], color=pal.BAND_INNER, linewidth=0, zorder=1.1)
+            _fill(ax_g, f, bands["gain_min"], bands["gain_max"], color=pal.BAND_OUTER, linewidth=0, zorder=1)
+            _fill(ax_g, f, bands["gain_lo"], bands["gain_hi"], color=pal.BAND_INNER, linewidth=0, zorder=1.1)
+            _fill(ax_p, f, bands["phase_min"], bands["phase_max"], color=pal.BAND_OUTER, linewidth=0, zorder=1)
+            _fill(ax_p, f, bands["phase_lo"], bands["phase_hi"], color=pal.BAND_INNER, linewidth=0, zorder=1.1)
             # A band thinner than about a point on both panels cannot be seen: no legend entry.
             for key, color, text in (("min", pal.BAND_OUTER, outer), ("lo", pal.BAND_INNER, inner)):
                 if _visible_band(ax_g, bands, "gain", key) or _visible_band(ax_p, bands, "phase", key):

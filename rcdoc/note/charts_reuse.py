@@ -14,11 +14,15 @@ changes ticks made unconditionally); every chart of the example board and the
 40-stage bench board comes out byte for byte as from a new figure
 (bench/charts.py, tests/test_charts_reuse.py).
 
-Two more repetitions are spared on a kept figure: its axes' background
+Four more repetitions are spared on a kept figure: its axes' background
 rectangle (that every line, patch and tick is clipped to) keeps its transform
-instead of working it out for each of them (`_AxesPatch`), and `clear` leaves
-the kept ticks' grid as the chart kind sets it every time, instead of turning
-it off on every tick for the chart to turn it on again.
+instead of working it out for each of them (`_AxesPatch`), and `clear` keeps
+that rectangle (set up as a new one) instead of making another and clipping
+every kept tick to it again, and leaves the kept ticks' grid as the chart kind
+sets it every time, instead of turning it off on every tick for the chart to
+turn it on again; and the tick settings a chart makes again as the last chart
+of its kind made them (its grid, hidden labels) are recorded for new ticks but
+not applied once more to the kept ticks, which have them (`_SameParams`).
 
 Figures are kept per process (a worker of a parallel build has its own); the
 caller must finish a chart (draw or save it) before asking for the next figure
@@ -30,6 +34,7 @@ from __future__ import annotations
 from collections.abc import Callable, Sequence
 
 import matplotlib as mpl
+from matplotlib import artist as martist
 from matplotlib.backends.backend_svg import FigureCanvasSVG
 from matplotlib.figure import Figure
 from matplotlib.patches import Rectangle
@@ -56,6 +61,8 @@ def reused_figure(kind: str, width_in: float, height_in: float,
             for ax in axes:
                 ax._gen_axes_patch = _AxesPatch.unit
                 ax.patch = _AxesPatch.like(ax.patch)
+                for axis in (ax.xaxis, ax.yaxis):
+                    axis.set_tick_params = _SameParams(axis)
             pars = {k: getattr(fig.subplotpars, k) for k in _PARS}
             _KEPT[key] = (fig, axes, pars)
         return fig, axes
@@ -86,11 +93,18 @@ def _clear_axes(ax) -> None:
     """`Axes.clear`, keeping each axis's Tick objects (clear would drop them)."""
     axes = (ax.xaxis, ax.yaxis)
     for axis in axes:
+        if isinstance(vars(axis).get("set_tick_params"), _SameParams):
+            axis.set_tick_params.new_chart()
         axis.reset_ticks = _keep_ticks           # clear calls it: the kept ticks stay
+        axis.set_clip_path = _ClipTicks(axis)
     # clear turns the grid off on every kept tick (twice), for the chart to turn it on
     # again: a chart sets its grid the same way every time (see the module's docstring),
     # so the kept ticks keep the grid the last chart of the kind left them.
     ax.grid = _keep_grid
+    # clear makes a new background rectangle and clips every kept tick to it; the kept
+    # one, set up by clear as a new one is, clips them as before (see _ClipTicks).
+    if isinstance(ax.patch, _AxesPatch):
+        ax._gen_axes_patch = _Same(ax.patch)
     try:
         ax.clear()
         for spine in ax.spines.values():
@@ -100,7 +114,9 @@ def _clear_axes(ax) -> None:
     finally:
         for axis in axes:
             del axis.reset_ticks
+            del axis.set_clip_path
         del ax.grid
+        ax._gen_axes_patch = _AxesPatch.unit
     for axis in axes:
         axis._autolabelpos = True                # rcdoc.note.chart_ticks.lean_axes may fix it
     ax.dataLim.set(Bbox.null())                  # as new (clear only ignores the old limits)
@@ -108,6 +124,76 @@ def _clear_axes(ax) -> None:
 
 def _keep_ticks() -> None:
     return None
+
+
+class _SameParams:
+    """Axis.set_tick_params of a kept axis: a call that repeats, in its place, the calls
+    the last chart made on the axis (a chart kind sets its ticks up the same way every
+    time) records the settings for new ticks and the offset text as matplotlib does, but
+    leaves the kept ticks, which have them from the last chart already; from the first
+    call that differs on, every call applies to the ticks too."""
+
+    def __init__(self, axis):
+        self.axis, self.last, self.now, self.same = axis, [], [], False
+
+    def new_chart(self) -> None:
+        self.last, self.now, self.same = self.now, [], True
+
+    def __call__(self, which="major", reset=False, **kwargs):
+        axis = self.axis
+        call = (which, reset, kwargs)
+        self.same = self.same and not reset and len(self.now) < len(self.last) and \
+            _equal(self.last[len(self.now)], call)
+        self.now.append(call)
+        if not self.same:
+            return type(axis).set_tick_params(axis, which, reset, **kwargs)
+        kept = {name: vars(axis)[name] for name in ("majorTicks", "minorTicks") if name in vars(axis)}
+        axis.majorTicks, axis.minorTicks = [], []
+        try:
+            return type(axis).set_tick_params(axis, which, reset, **kwargs)
+        finally:
+            for name in ("majorTicks", "minorTicks"):
+                if name in kept:
+                    setattr(axis, name, kept[name])
+                else:
+                    delattr(axis, name)
+
+
+def _equal(a: tuple, b: tuple) -> bool:
+    """The same set_tick_params call (values compared by type and value)."""
+    try:
+        return a[:2] == b[:2] and a[2].keys() == b[2].keys() and all(
+            type(a[2][k]) is type(b[2][k]) and bool(a[2][k] == b[2][k]) for k in a[2])
+    except (TypeError, ValueError):             # values without a plain equality
+        return False
+
+
+class _Same:
+    """Axes._gen_axes_patch handing back the kept background rectangle."""
+
+    def __init__(self, patch):
+        self.patch = patch
+
+    def __call__(self):
+        return self.patch
+
+
+class _ClipTicks:
+    """Axis.set_clip_path that clips only the ticks not yet clipped to that rectangle: a
+    kept tick clipped to the kept background rectangle keeps the clip box made from it
+    (the rectangle's kept transform: the same box)."""
+
+    def __init__(self, axis):
+        self.axis = axis
+
+    def __call__(self, path, transform=None):
+        axis = self.axis
+        martist.Artist.set_clip_path(axis, path, transform)
+        for tick in axis.majorTicks + axis.minorTicks:
+            if transform is not None or vars(tick).get("_rcdoc_clip") is not path:
+                tick.set_clip_path(path, transform)
+                tick._rcdoc_clip = path if transform is None else None
+        axis.stale = True
 
 
 def _keep_grid(*args, **kwargs) -> None:
