@@ -19,7 +19,8 @@ b  check  `rcdoc check` of eight first-order stages at 20 000 samples beyond
 c  big    one rc-lowpass stage with a step drive at 200 000 samples (`check`
           in a fresh process): CPU seconds and peak RSS.
 d  build  a cold 40-stage build (the analysed kinds in turn, 2000 samples)
-          with --jobs 2, wall and CPU; a rebuild after one part value changed.
+          with --jobs 2, wall and CPU; a rebuild after one part value changed,
+          k times from the cold build's output folder, the best kept.
 e  render the note's render (write_outputs of the example board, analysed and
           drawn beforehand, serial) against a floor: the distinct PNG images taken
           out of the note's own PDF, spread over as many pages in minimal HTML,
@@ -386,18 +387,27 @@ def section_big(tmp: Path, n: int) -> None:
 
 # ---- d: cold 40-stage build and a one-value rebuild ------------------------------
 
-def section_build(tmp: Path, stages: int, samples: int) -> Path:
+def section_build(tmp: Path, stages: int, samples: int, k: int = 1) -> Path:
+    """The cold build once; the rebuild k times, each from the output folder
+    (and its cache) as the cold build left it, the best kept."""
+    import shutil
     from rebuild import board          # bench/rebuild.py: the analysed kinds in turn
     path = tmp / "board40.toml"
     out = tmp / "board40-out"
     path.write_text(board(stages, samples), encoding="utf-8")
     cold = measure(["build", str(path), "-o", str(out), "--jobs", "2", "--quiet"], tmp)
     path.write_text(board(stages, samples, changed=stages // 2), encoding="utf-8")
-    warm = measure(["build", str(path), "-o", str(out), "--jobs", "2", "--quiet"], tmp)
+    shutil.copytree(out, tmp / "board40-cold")
+    warm = None
+    for _ in range(k):
+        shutil.rmtree(out)
+        shutil.copytree(tmp / "board40-cold", out)
+        run = measure(["build", str(path), "-o", str(out), "--jobs", "2", "--quiet"], tmp)
+        warm = run if warm is None or run["wall"] < warm["wall"] else warm
     name = f"{stages} stages, {samples} samples, --jobs 2"
     row("d", f"cold build, {name}   [target < 30 s wall]",
         f"{cold['wall']:.1f} s wall, {cold['cpu']:.1f} s CPU, {cold['tree_mib']:.0f} MiB peak (all)")
-    row("d", f"rebuild after one value change (stage {stages // 2})",
+    row("d", f"rebuild after one value change (stage {stages // 2}), best of {k}",
         f"{warm['wall']:.1f} s wall, {warm['cpu']:.1f} s CPU, {warm['tree_mib']:.0f} MiB peak (all)")
     row("d", "rebuild / cold, wall   [target < 10 %]", f"{100 * warm['wall'] / cold['wall']:.1f} %")
     row("d", "rebuild / cold, CPU", f"{100 * warm['cpu'] / cold['cpu']:.1f} %")
@@ -551,7 +561,7 @@ def main(argv=None) -> int:
         if "b" in args.sections:
             section_check(tmp, n, 20 if q else 100, min(k, 2))
         if "d" in args.sections:
-            section_build(tmp, 10 if q else 40, 300 if q else 2000)
+            section_build(tmp, 10 if q else 40, 300 if q else 2000, k)
         if "e" in args.sections:
             section_render(tmp, 200, 1 if q else 2)
         if "p" in args.sections:
