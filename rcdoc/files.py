@@ -13,6 +13,9 @@ even if some library swallowed the KeyboardInterrupt, and the command ends
 with status 130. SIGTERM (a CI job's time-out, ``kill``) does the same with
 ``Terminated``, a KeyboardInterrupt: the worker processes are stopped as for
 Ctrl-C, not left waiting for a parent that is gone, and the status is 143.
+An interrupt that lands inside a finalizer or weakref callback, where Python
+can only report it ("Exception ignored", with a traceback), is kept quiet: the
+flag holds it.
 """
 
 from __future__ import annotations
@@ -21,6 +24,7 @@ import contextlib
 import os
 import re
 import signal
+import sys
 import tempfile
 import threading
 from pathlib import Path
@@ -143,10 +147,21 @@ def interrupts():
         _interrupted = signum
         raise Terminated if signum == signal.SIGTERM else KeyboardInterrupt
 
+    def unraisable(report) -> None:
+        # The signal's exception raised inside a finalizer or a weakref callback
+        # (importlib's module locks have one) cannot leave it: Python would print
+        # "Exception ignored in ..." with a traceback. The flag holds it; the
+        # build stops at its next check, as for any swallowed interrupt.
+        if _interrupted and isinstance(report.exc_value, KeyboardInterrupt):
+            return
+        hook(report)
+
     previous = {s: signal.signal(s, on_signal) for s in (signal.SIGINT, signal.SIGTERM)}
+    hook, sys.unraisablehook = sys.unraisablehook, unraisable
     try:
         yield
         stop_if_interrupted()       # swallowed somewhere: still an interrupted build
     finally:
+        sys.unraisablehook = hook
         for s, handler in previous.items():
             signal.signal(s, handler)

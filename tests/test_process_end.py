@@ -148,3 +148,48 @@ def _carrying(mark: str) -> list[int]:
         if mark.encode() in environ and state != "Z":
             found.append(int(entry))
     return found
+
+
+class _SignalsItsOwnEnd:
+    """An object whose finalizer is where SIGTERM arrives."""
+
+    def __del__(self):
+        os.kill(os.getpid(), signal.SIGTERM)
+        time.sleep(0.2)             # the handler runs here, inside the finalizer
+
+
+@pytest.mark.skipif(not hasattr(signal, "SIGTERM") or sys.platform == "win32",
+                    reason="POSIX signals")
+def test_signal_inside_a_finalizer_prints_no_traceback(monkeypatch):
+    # SIGTERM while a finalizer or weakref callback runs (importlib's module
+    # locks have one): the handler's exception cannot leave it, and Python hands
+    # it to sys.unraisablehook, whose default prints "Exception ignored ...
+    # Traceback". Here nothing reaches the hook in place before the block, the
+    # interrupt still ends the block (common practice: a swallowed interrupt is
+    # not lost), and the hook and handler are put back.
+    from rcdoc.files import Terminated, interrupts, was_interrupted
+    reached = []
+    monkeypatch.setattr(sys, "unraisablehook", reached.append)
+    handler = signal.getsignal(signal.SIGTERM)
+    with pytest.raises(Terminated):
+        with interrupts():
+            doomed = _SignalsItsOwnEnd()
+            del doomed
+            assert was_interrupted()
+    assert reached == []
+    assert sys.unraisablehook == reached.append and signal.getsignal(signal.SIGTERM) == handler
+
+
+def test_other_unraisable_errors_still_reach_the_hook(monkeypatch):
+    # Only the interrupt is kept quiet: another error in a finalizer is reported.
+    from rcdoc.files import interrupts
+
+    class Broken:
+        def __del__(self):
+            raise ValueError("a finalizer's own error")
+    reached = []
+    monkeypatch.setattr(sys, "unraisablehook", reached.append)
+    with interrupts():
+        doomed = Broken()
+        del doomed
+    assert [type(r.exc_value) for r in reached] == [ValueError]
