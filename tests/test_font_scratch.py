@@ -123,6 +123,25 @@ def test_documents_of_the_shipped_templates_share_one_configuration(monkeypatch)
         assert fourth is not first and not fourth.spoilt
 
 
+def test_a_font_handed_to_the_shared_configuration_stays_in_the_project(tmp_path, monkeypatch):
+    # Confinement (the project's rule: no file outside the package, the templates
+    # and the project folder): even the shared configuration, should a document
+    # hand it an @font-face font, keeps the font in that document's project folder
+    # and removes it with the document.
+    monkeypatch.setattr(font_scratch, "_SHARED", [])
+    system_tmp = tmp_path / "system-tmp"
+    system_tmp.mkdir()
+    monkeypatch.setattr(tempfile, "tempdir", str(system_tmp))
+    proj = tmp_path / "proj"
+    proj.mkdir()
+    with font_scratch.closed(None, shared=True):
+        pass                                          # made before, for another project
+    with font_scratch.closed(proj, shared=True) as fonts:
+        fonts.add_font_face({"src": [], "font_family": "Own Serif"}, None)  # a warning
+        assert fonts._folder is not None and fonts._folder.parent == proj
+    assert not any(proj.iterdir()) and not any(system_tmp.iterdir())
+
+
 @pytest.mark.slow
 def test_a_shared_configuration_gives_the_bytes_of_a_fresh_one(monkeypatch):
     # The reference: each part with a configuration of its own (cold), as before.

@@ -89,6 +89,7 @@ def closed(folder: Path | None, shared: bool = False) -> Iterator[ProjectFonts]:
     if not _SHARED:
         _SHARED.append(_SharedFonts(None))
     fonts = _SHARED[0]
+    fonts._home = folder            # a font it is handed after all: this project's folder
     try:
         yield fonts
     finally:
