@@ -139,9 +139,7 @@ def _end_idle(pool: ProcessPoolExecutor) -> bool:
     if pending is None or processes is None or pending:
         return False
     running = list(processes.values())
-    pool.shutdown(wait=False)
-    for p in running:
-        p.terminate()
+    _stop_workers(pool)
     for p in running:
         p.join(10)
     pool.shutdown(wait=True)            # the executor's own thread, which reaps them
