@@ -115,6 +115,14 @@ CASES = [
      "stage[1].kind", ["required"], (), {}),
     ("part-value-missing", project(part_r('{ ref = "R1" }')), "stage[1].parts.r.value",
      ["missing"], (), {}),
+    # Beyond ~6200 dB, 10 ** (gain / 20) overflowed: an OverflowError traceback
+    # (found by mutating the example file's values).
+    ("amplifier-gain-overflows",
+     project('kind = "mfb-lowpass"\namplifier = { gbw = "1 MHz", gain = 1e300 }\n'),
+     "stage[1].amplifier.gain", ["300 dB", "ideal"], (), {}),
+    ("amplifier-gain-beyond-any-op-amp",
+     project('kind = "mfb-lowpass"\namplifier = { gbw = "1 MHz", gain = "400 dB" }\n'),
+     "stage[1].amplifier.gain", ["300 dB"], (), {}),
     ("unknown-amplifier-key",
      project('kind = "mfb-lowpass"\namplifier = { gbw = "1 MHz", slew = "1 V/us" }\n'),
      "stage[1].amplifier.slew", ["unknown key"], (), {}),

@@ -115,6 +115,10 @@ def load_labels(stage: Stage):
     return tuple(out)
 
 
+# The highest open-loop gain a project may state (10^15).
+MAX_GAIN_DB = 300.0
+
+
 def parse_amplifier(t: dict, path: str) -> dict:
     """``amplifier = { gbw = "10 MHz", gain = "120 dB" }``; default ideal (inf, inf)."""
     from rcdoc.input.quantities import parse_positive, parse_quantity
@@ -135,6 +139,11 @@ def parse_amplifier(t: dict, path: str) -> dict:
         db = parse_quantity(raw["gain"], "dB", f"{path}.amplifier.gain")
         if db <= 0:
             raise ProjectError("open-loop gain must be above 0 dB",
+                               path=f"{path}.amplifier.gain")
+        if db > MAX_GAIN_DB:
+            # No op-amp comes near 10^15; far beyond it 10 ** (db / 20) overflows.
+            raise ProjectError(f"open-loop gain above {MAX_GAIN_DB:g} dB is no real op-amp; "
+                               "leave 'gain' out for an ideal one",
                                path=f"{path}.amplifier.gain")
         a0 = 10 ** (db / 20)
     return {"gbw_hz": gbw, "a0": a0}
