@@ -196,3 +196,21 @@ def test_other_unraisable_errors_still_reach_the_hook(monkeypatch):
         doomed = Broken()
         del doomed
     assert [type(r.exc_value) for r in reached] == [ValueError]
+
+
+def _collector_state() -> tuple:
+    import gc
+    return gc.isenabled(), gc.get_freeze_count() > 0, "rcdoc.commands.gc_pause" in sys.modules
+
+
+def test_workers_collect_garbage_after_the_servers_paused_imports():
+    # The fork server imports with the cyclic collector off (gc_pause); a worker
+    # must have it on again, with what it inherited frozen, or every cycle its
+    # charts make would stay in memory until the build ends (common practice:
+    # CPython's gc module documents gc.freeze for forked servers).
+    if workers._pool_context(False).get_start_method() != "forkserver":
+        pytest.skip("the fork server is Linux-only")
+    with workers.WorkerPool(1, draw=False) as pool:
+        enabled, frozen, paused_in_server = pool.executor().submit(_collector_state).result(
+            timeout=120)
+    assert paused_in_server and enabled and frozen

@@ -110,13 +110,15 @@ def _worker_init() -> None:
     """Workers leave Ctrl-C to the main process, which stops them (_stop_workers);
     a worker that took the KeyboardInterrupt itself could hand back a result
     that hides it. What the worker has imported is frozen for the garbage
-    collector (gc.freeze)."""
+    collector (gc.freeze), and collection is on again (the fork server pauses
+    it while it imports: rcdoc.commands.gc_pause)."""
     import signal
     signal.signal(signal.SIGINT, signal.SIG_IGN)
     # The modules' objects live as long as the worker: out of the garbage
     # collector's full passes (about 5 % of a chart's CPU, measured).
     import gc
     gc.freeze()
+    gc.enable()
 
 
 def _stop_workers(pool: ProcessPoolExecutor) -> None:
@@ -173,7 +175,8 @@ def _pool_context(draw: bool):
         ctx = multiprocessing.get_context("forkserver")
         # Workers fork from a server that has imported rcdoc once, and do not
         # re-run the parent's __main__ (the command line).
-        preload = ["rcdoc.commands.spawnguard", "rcdoc.commands.build"]
+        preload = ["rcdoc.commands.gc_pause", "rcdoc.commands.spawnguard",
+                   "rcdoc.commands.build"]
         ctx.set_forkserver_preload(preload + (["rcdoc.commands.preload"] if draw else []))
         return ctx
     return multiprocessing.get_context("spawn")
