@@ -77,6 +77,17 @@ def test_shift_condition_is_decided_as_numpys_2_norm_number():
             assert got.any() and not got.all()
 
 
+def test_shift_condition_of_a_matrix_with_infinite_entries_is_false():
+    # numpy.linalg.cond's SVD raises LinAlgError ("SVD did not converge") on a
+    # matrix holding inf or NaN; such a sample has no poles (NaN), the others keep theirs.
+    good = np.eye(3)
+    bad_inf, bad_nan = np.eye(3), np.eye(3)
+    bad_inf[0, 0] = np.inf
+    bad_nan[1, 2] = np.nan
+    got = polemod._well_conditioned(np.stack([good, bad_inf, bad_nan, 2 * good]))
+    assert got.tolist() == [True, False, False, True]
+
+
 # ---- the inverse's scalings (rcdoc.analysis.ac) ----------------------------------------
 
 def _inverse_reference(A):

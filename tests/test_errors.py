@@ -115,14 +115,19 @@ CASES = [
      "stage[1].kind", ["required"], (), {}),
     ("part-value-missing", project(part_r('{ ref = "R1" }')), "stage[1].parts.r.value",
      ["missing"], (), {}),
-    # Beyond ~6200 dB, 10 ** (gain / 20) overflowed: an OverflowError traceback
-    # (found by mutating the example file's values).
+    # Found by mutating the example file's values; each was a traceback: beyond
+    # ~6200 dB, 10 ** (gain / 20) overflowed; a 1e300 V snubber's energy
+    # overflowed; a 5e-324 ohm source made the nodal matrix infinite.
     ("amplifier-gain-overflows",
      project('kind = "mfb-lowpass"\namplifier = { gbw = "1 MHz", gain = 1e300 }\n'),
-     "stage[1].amplifier.gain", ["300 dB", "ideal"], (), {}),
+     "stage[1].amplifier.gain", ["out of range"], (), {}),
     ("amplifier-gain-beyond-any-op-amp",
-     project('kind = "mfb-lowpass"\namplifier = { gbw = "1 MHz", gain = "400 dB" }\n'),
-     "stage[1].amplifier.gain", ["300 dB"], (), {}),
+     project('kind = "mfb-lowpass"\namplifier = { gbw = "1 MHz", gain = "7000 dB" }\n'),
+     "stage[1].amplifier.gain", ["300 dB", "ideal"], (), {}),
+    ("snubber-voltage-1e300", project(SNUBBER.replace('"48 V"', "1e300")),
+     "stage[1].voltage", ["out of range"], (), {}),
+    ("source-subnormal", project(head=HEAD + "source = 5e-324\n"), "stage[1].source",
+     ["out of range"], (), {}),
     ("unknown-amplifier-key",
      project('kind = "mfb-lowpass"\namplifier = { gbw = "1 MHz", slew = "1 V/us" }\n'),
      "stage[1].amplifier.slew", ["unknown key"], (), {}),
@@ -449,9 +454,12 @@ CASES = [
     # TOML 1.0: integers are 64-bit signed.
     ("integer-beyond-64-bit", project(analysis=f"[analysis]\nseed = {2**70}\n"),
      "analysis.seed", ["out of range"], (), {}),
-    ("sweep-1e-300-to-1e300",
-     project(analysis='[analysis]\nsweep = ["1e-300 Hz", "1e300 Hz"]\n'),
+    ("sweep-1e-20-to-1e20",
+     project(analysis='[analysis]\nsweep = ["1e-20 Hz", "1e20 Hz"]\n'),
      "analysis.sweep[0]", ["1 mHz"], (), {}),
+    ("sweep-1e-300-to-1e300",     # beyond any quantity's reach (quantities.QUANTITY_RANGE)
+     project(analysis='[analysis]\nsweep = ["1e-300 Hz", "1e300 Hz"]\n'),
+     "analysis.sweep[0]", ["out of range"], (), {}),
     ("sweep-above-10-thz", project(analysis='[analysis]\nsweep = ["1 MHz", "1e15 Hz"]\n'),
      "analysis.sweep[1]", ["10 THz"], (), {}),
     ("sweep-13-decades", project(analysis='[analysis]\nsweep = ["1 mHz", "10 GHz"]\n'),

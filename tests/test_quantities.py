@@ -263,6 +263,36 @@ def test_rejected_values_raise_project_error(value, unit):
     assert caught.value.path == "board.hazardous_voltage"
 
 
+@pytest.mark.parametrize("value,unit", [
+    (5e-324, "ohm"),        # a subnormal float: its reciprocal (a conductance) is inf
+    (1e300, "V"),           # its square (an energy) overflows
+    ("1e-31 F", "F"),
+    ("1e31 Hz", "Hz"),
+    ("-2e30 V", "V"),
+])
+def test_sizes_beyond_reach_are_refused(value, unit):
+    # Common practice: refuse what the floats cannot carry through products of
+    # values before any analysis (IEEE 754 binary64 ends near 1.8e308).
+    with pytest.raises(ProjectError, match="out of range") as caught:
+        parse_quantity(value, unit, "stage[1].source")
+    assert caught.value.path == "stage[1].source"
+
+
+def test_sizes_at_the_ends_of_reach_are_kept():
+    assert parse_quantity("1e-30 F", "F") == 1e-30
+    assert parse_quantity(1e30, "ohm") == 1e30
+    assert parse_quantity("-1e30 V", "V") == -1e30
+
+
+def test_negative_zero_reads_as_zero():
+    # A tolerance of -0.0 once gave numpy's uniform(high=-0.0, low=0.0): "high - low < 0".
+    for value in (-0.0, "-0 V"):
+        zero = parse_quantity(value, "V")
+        assert zero == 0.0 and math.copysign(1.0, zero) == 1.0
+    plus, minus = parse_tolerance(-0.0, "t")
+    assert math.copysign(1.0, plus) == 1.0 and math.copysign(1.0, minus) == 1.0
+
+
 def test_zero_and_negative_are_the_callers_business():
     assert parse_quantity("0 V", "V") == 0.0
     assert parse_quantity("-5 V", "V") == -5.0

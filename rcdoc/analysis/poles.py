@@ -73,12 +73,14 @@ def _well_conditioned(A: np.ndarray) -> np.ndarray:
     the 1-norm one (an inverse) lies within a factor n of it either way (Golub &
     Van Loan, Matrix Computations, 2.3.2), so it settles every matrix but those
     within that factor of the limit (or without a finite inverse), which get the
-    2-norm number itself."""
+    2-norm number itself. A matrix with an infinite or NaN entry is not well
+    conditioned (its SVD would not converge: LinAlgError)."""
     n = A.shape[-1]
     with np.errstate(all="ignore"):
         c1 = np.linalg.cond(A, 1)
         good = c1 * n < _COND_LIMIT
         unsure = ~good & ~(c1 > _COND_LIMIT * n)       # NaN lands here
+        unsure &= np.all(np.isfinite(A), axis=(-2, -1))
         if np.any(unsure):
             good[unsure] = np.linalg.cond(A[unsure]) < _COND_LIMIT
     return good
