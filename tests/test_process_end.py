@@ -214,3 +214,24 @@ def test_workers_collect_garbage_after_the_servers_paused_imports():
         enabled, frozen, paused_in_server = pool.executor().submit(_collector_state).result(
             timeout=120)
     assert paused_in_server and enabled and frozen
+
+
+def test_only_the_command_collects_less_often(monkeypatch):
+    # The command's process takes young collections every YOUNG_THRESHOLD objects
+    # (rcdoc.commands.collector); main() called from Python leaves its caller's
+    # settings as they were.
+    import gc
+    from rcdoc.commands import collector
+    before = gc.get_threshold()
+    try:
+        with pytest.raises(SystemExit):
+            cli.main(["--version"])
+        assert gc.get_threshold() == before
+        seen = {}
+        monkeypatch.setattr(cli, "main", lambda argv=None: gc.get_threshold()[0])
+        monkeypatch.setattr(cli, "_leave", lambda status: seen.setdefault("young", status))
+        cli.entry()
+        assert seen["young"] == collector.YOUNG_THRESHOLD != before[0]
+        assert gc.get_threshold()[1:] == before[1:]
+    finally:
+        gc.set_threshold(*before)

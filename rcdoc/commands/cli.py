@@ -323,6 +323,8 @@ def main(argv: list[str] | None = None) -> int:
 
 def entry() -> None:
     """The ``rcdoc`` command (and ``python -m rcdoc``): main, then the process ends."""
+    from rcdoc.commands.collector import tune
+    tune()
     _leave(main())
 
 
