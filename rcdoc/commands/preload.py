@@ -13,6 +13,12 @@ from __future__ import annotations
 import contextlib
 import io
 
+from rcdoc.note import lean_imports
+
+# Before matplotlib (rcdoc.note.page's charts), weasyprint and schemdraw are
+# imported: what they do at import that the note never uses is left for later.
+lean_imports.install()
+
 with contextlib.suppress(Exception), contextlib.redirect_stdout(io.StringIO()):
     import rcdoc.note.page  # noqa: F401
     import rcdoc.note.assemble  # noqa: F401

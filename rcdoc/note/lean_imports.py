@@ -1,0 +1,251 @@
+"""Start-up CPU: work the renderer's libraries do when imported that a build never uses,
+left undone or done on first use.
+
+What it is for: every build process imports weasyprint and matplotlib (the command
+itself, and the fork server its workers start from, which also imports schemdraw
+and ziamath): about 2 s of CPU each before any page. Measured with
+bench/imports.py, some of it is for things the note never asks for:
+
+- weasyprint 70 parses its user-agent sheets when ``weasyprint.html`` is imported
+  (the HTML sheet, the forms sheet, the presentational hints sheet: 0.1 s). The
+  note's documents use the trimmed sheet of ``note_html`` instead and no
+  presentational hints. Here the three are made on their first use (any attribute
+  read), with the same arguments; the HTML sheet's ``@counter-style`` rules are
+  still parsed at import into the shared counter styles that weasyprint hands to
+  every document (``HTML._ua_counter_style``, read before any sheet).
+- weasyprint 70 imports ``fontTools.subset`` (0.1 s) for the font subsetting it
+  does only where HarfBuzz's subsetter is missing. Here that module is loaded
+  by ``importlib.util.LazyLoader``: it runs on its first attribute read.
+- matplotlib 3.11 imports its 3D toolkit (``mpl_toolkits.mplot3d``) with its
+  projections: the note draws no 3D axes. Here that import fails quietly while
+  ``matplotlib.projections`` is imported (matplotlib expects it may: the 3D
+  projection is then not registered; its warning is not shown).
+- schemdraw 0.23 imports its optional matplotlib backend, and with it pyplot;
+  the note draws schematics with its SVG backend only. Here that backend is
+  missing while schemdraw is imported (schemdraw expects it may; its default
+  canvas is then SVG, which rcdoc.note.schematic asks for anyway).
+- ziamath 0.13 reads its default math font (STIX Two Math) when imported;
+  schematic labels are plain text, outlined with a text font through ziafont.
+  Here that font is read on its first use (a math expression).
+
+What it must not do: change a value or a byte of the note. Each step applies
+only to the library version it was written for (read from the installed
+distribution's folder name, without importing the library); for any other
+version, or when the module was imported before ``install``, the library
+imports as it would. tests/test_lean_imports.py compares each with the
+library's own import: the counter styles, the sheets' rules, the fonts'
+outlines, the schematics' SVG, the note's PDF bytes.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import importlib.abc
+import importlib.machinery
+import importlib.util
+import os
+import sys
+import warnings
+
+__all__ = ["install", "installed"]
+
+# The versions each step was written for (and checked against).
+_WEASYPRINT = ("weasyprint", "70.0")
+_MATPLOTLIB = ("matplotlib", "3.11.2")
+_SCHEMDRAW = ("schemdraw", "0.23")
+_ZIAMATH = ("ziamath", "0.13")
+
+_INSTALLED: list[str] = []      # the steps put in place in this process
+
+
+def installed() -> list[str]:
+    """The names of the modules whose import this process changed (tests)."""
+    return list(_INSTALLED)
+
+
+def install() -> None:
+    """Put each step in place where its library is the pinned version and the
+    module it changes is not imported yet. Idempotent; call before importing
+    weasyprint, matplotlib or schemdraw."""
+    if _INSTALLED:
+        return
+    _INSTALLED.append("")
+    if _version_is(*_WEASYPRINT):
+        _around("weasyprint.html", _deferred_sheets)
+        _lazy("fontTools.subset")
+    if _version_is(*_MATPLOTLIB):
+        _around("matplotlib.projections", _without_3d)
+    if _version_is(*_SCHEMDRAW):
+        _around("schemdraw", _without_mpl_backend)
+    if _version_is(*_ZIAMATH):
+        _around("ziamath.zmath", _deferred_math_font)
+
+
+def _version_is(name: str, version: str) -> bool:
+    """Whether ``name`` is installed as ``version`` (its ``.dist-info`` folder beside
+    the package), read without importing it."""
+    try:
+        spec = importlib.util.find_spec(name)
+    except (ImportError, ValueError):
+        return False
+    if spec is None or not spec.submodule_search_locations:
+        return False
+    folder = os.path.dirname(list(spec.submodule_search_locations)[0])
+    return os.path.isdir(os.path.join(folder, f"{name}-{version}.dist-info"))
+
+
+# ---- running code around one module's import ------------------------------------
+
+class _Around(importlib.abc.MetaPathFinder):
+    """Finds ``name`` as the path finder does, once, and runs ``around(module)`` (a
+    context manager) around its execution."""
+
+    def __init__(self, name: str, around):
+        self.name, self.around = name, around
+
+    def find_spec(self, fullname, path=None, target=None):
+        if fullname != self.name:
+            return None
+        with contextlib.suppress(ValueError):
+            sys.meta_path.remove(self)
+        spec = importlib.machinery.PathFinder.find_spec(fullname, path, target)
+        if spec is None or spec.loader is None:
+            return spec
+        spec.loader = _AroundLoader(spec.loader, self.around)
+        _INSTALLED.append(fullname)
+        return spec
+
+
+class _AroundLoader(importlib.abc.Loader):
+    def __init__(self, real, around):
+        self.real, self.around = real, around
+
+    def create_module(self, spec):
+        return self.real.create_module(spec)
+
+    def exec_module(self, module):
+        # The module keeps the path finder's own loader (tracebacks, source).
+        module.__loader__ = module.__spec__.loader = self.real
+        with self.around(module):
+            self.real.exec_module(module)
+
+
+def _around(name: str, around) -> None:
+    if name not in sys.modules:
+        sys.meta_path.insert(0, _Around(name, around))
+
+
+def _lazy(name: str) -> None:
+    """``name`` loaded by LazyLoader: its code runs on its first attribute read
+    (the recipe of the importlib documentation)."""
+    if name in sys.modules:
+        return
+    spec = importlib.util.find_spec(name)       # imports the parent package
+    if spec is None or spec.loader is None:
+        return
+    spec.loader = importlib.util.LazyLoader(spec.loader)
+    module = importlib.util.module_from_spec(spec)
+    sys.modules[name] = module
+    spec.loader.exec_module(module)
+    parent, _, child = name.rpartition(".")
+    setattr(sys.modules[parent], child, module)
+    _INSTALLED.append(name)
+
+
+def _deferred(cls):
+    """A subclass of ``cls`` whose instances are made (``cls.__init__`` with the same
+    arguments) on their first read of an attribute they do not have yet; they are
+    then plain ``cls`` instances."""
+
+    class Deferred(cls):
+        def __init__(self, *args, **kwargs):
+            self.__dict__["_rcdoc_deferred"] = (args, kwargs)
+
+        def __getattr__(self, name):
+            pending = self.__dict__.pop("_rcdoc_deferred", None)
+            if pending is None:
+                raise AttributeError(name)
+            self.__class__ = cls
+            cls.__init__(self, *pending[0], **pending[1])
+            return getattr(self, name)
+
+    Deferred.__name__ = Deferred.__qualname__ = cls.__name__
+    Deferred.__module__ = cls.__module__
+    return Deferred
+
+
+# ---- the steps ------------------------------------------------------------------
+
+@contextlib.contextmanager
+def _deferred_sheets(module):
+    """weasyprint.html makes its sheets with ``CSS(...)`` (weasyprint's class, read
+    from the package as the module starts): deferred sheets while it runs."""
+    package = sys.modules["weasyprint"]
+    real = package.CSS
+    deferred = _deferred(real)
+
+    def sheet(*args, **kwargs):
+        counters, text = kwargs.get("counter_style"), kwargs.get("string")
+        if counters is not None and isinstance(text, str):
+            # The counter styles go into the shared dict now: documents copy it.
+            rules = [line for line in text.splitlines()
+                     if line.lstrip().startswith("@counter-style")]
+            if rules:
+                real(string="\n".join(rules), counter_style=counters)
+        return deferred(*args, **kwargs)
+
+    package.CSS = sheet
+    try:
+        yield
+    finally:
+        package.CSS = real
+        if module.__dict__.get("CSS") is sheet:
+            module.CSS = real
+
+
+@contextlib.contextmanager
+def _without_3d(module):
+    """matplotlib.projections without mpl_toolkits.mplot3d (an ImportError there,
+    which matplotlib catches; its warning is not shown)."""
+    name = "mpl_toolkits.mplot3d"
+    if name in sys.modules:
+        yield
+        return
+    sys.modules[name] = None
+    try:
+        with warnings.catch_warnings():
+            warnings.filterwarnings("ignore", message="Unable to import Axes3D")
+            yield
+    finally:
+        if sys.modules.get(name, 0) is None:
+            del sys.modules[name]
+
+
+@contextlib.contextmanager
+def _without_mpl_backend(module):
+    """schemdraw without its matplotlib backend (an ImportError, which it catches)."""
+    name = "schemdraw.backends.mpl"
+    if name in sys.modules:
+        yield
+        return
+    sys.modules[name] = None
+    try:
+        yield
+    finally:
+        if sys.modules.get(name, 0) is None:
+            del sys.modules[name]
+
+
+@contextlib.contextmanager
+def _deferred_math_font(module):
+    """ziamath.zmath reads ``MathFont`` from ziamath.mathfont as it starts and
+    makes the default font with it: a deferred one while it runs."""
+    fonts = importlib.import_module("ziamath.mathfont")
+    real = fonts.MathFont
+    fonts.MathFont = _deferred(real)
+    try:
+        yield
+    finally:
+        fonts.MathFont = real
+        if module.__dict__.get("MathFont") is not real:
+            module.MathFont = real
