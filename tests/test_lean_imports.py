@@ -115,6 +115,56 @@ def test_font_subsetter_loaded_on_first_use_subsets_the_same():
     assert "Subsetter" in lean
 
 
+# A variable font made with fontTools' own FontBuilder (one glyph, a weight axis,
+# one delta set), instanced through the name weasyprint's PDF font module holds.
+VARIABLE_FONT = r'''
+import hashlib, io, os
+os.environ["SOURCE_DATE_EPOCH"] = "1700000000"
+import rcdoc.note.renderer_libs
+import weasyprint.pdf.fonts as pdf_fonts
+print("varLib loaded", "fontTools.varLib" in sys.modules)
+from fontTools.fontBuilder import FontBuilder
+from fontTools.pens.ttGlyphPen import TTGlyphPen
+from fontTools.ttLib import TTFont
+from fontTools.ttLib.tables.TupleVariation import TupleVariation
+def box(w, h):
+    pen = TTGlyphPen(None)
+    pen.moveTo((0, 0)); pen.lineTo((0, h)); pen.lineTo((w, h)); pen.lineTo((w, 0))
+    pen.closePath()
+    return pen.glyph()
+fb = FontBuilder(1000, isTTF=True)
+fb.setupGlyphOrder([".notdef", "A"])
+fb.setupCharacterMap({65: "A"})
+fb.setupGlyf({".notdef": box(500, 700), "A": box(600, 700)})
+fb.setupHorizontalMetrics({".notdef": (500, 0), "A": (600, 0)})
+fb.setupHorizontalHeader(ascent=800, descent=-200)
+fb.setupNameTable({"familyName": "Axis Test", "styleName": "Regular"})
+fb.setupOS2()
+fb.setupPost()
+fb.setupFvar([("wght", 100, 400, 900, "Weight")], [])
+fb.setupGvar({"A": [TupleVariation({"wght": (0, 1.0, 1.0)},
+                                   [(0, 0), (0, 0), (200, 0), (200, 0)] + [(0, 0)] * 4)]})
+buf = io.BytesIO()
+fb.save(buf)
+for weight in (400, 650, 900):
+    font = TTFont(io.BytesIO(buf.getvalue()))
+    static = pdf_fonts.instantiateVariableFont(font, {"wght": weight}, static=True)
+    out = io.BytesIO()
+    static.save(out)
+    print(weight, "fvar" in static, max(x for x, _ in static["glyf"]["A"].coordinates), hashlib.sha256(out.getvalue()).hexdigest())
+'''
+
+
+def test_variable_font_instancer_imported_on_first_call_gives_the_same_font():
+    lean, plain = _both(VARIABLE_FONT)
+    assert lean.splitlines()[0] == "varLib loaded False"
+    assert plain.splitlines()[0] == "varLib loaded True"
+    # fontTools' instancer through weasyprint's name for it: the same static fonts
+    # (the glyph 200 units wider at full weight, as the delta set says).
+    assert lean.splitlines()[1:] == plain.splitlines()[1:]
+    assert "400 False 600 " in lean and "900 False 800 " in lean
+
+
 CHART = r'''
 import hashlib, io
 import rcdoc.note.renderer_libs

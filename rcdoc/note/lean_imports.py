@@ -13,9 +13,13 @@ bench/imports.py, some of it is for things the note never asks for:
   read), with the same arguments; the HTML sheet's ``@counter-style`` rules are
   still parsed at import into the shared counter styles that weasyprint hands to
   every document (``HTML._ua_counter_style``, read before any sheet).
-- weasyprint 70 imports ``fontTools.subset`` (0.1 s) for the font subsetting it
-  does only where HarfBuzz's subsetter is missing. Here that module is loaded
-  by ``importlib.util.LazyLoader``: it runs on its first attribute read.
+- weasyprint 70 imports ``fontTools.subset`` for the font subsetting it does
+  only where HarfBuzz's subsetter is missing, and fontTools' variable font
+  instancer (with fontTools.varLib and lxml) for variable fonts, which the note
+  does not use: 0.15 s. Here the subsetter is loaded by
+  ``importlib.util.LazyLoader`` (its code runs on its first attribute read), and
+  ``instantiateVariableFont`` is a function that imports the instancer on its
+  first call and hands it the same arguments.
 - matplotlib 3.11 imports its 3D toolkit (``mpl_toolkits.mplot3d``) with its
   projections: the note draws no 3D axes. Here that import fails quietly while
   ``matplotlib.projections`` is imported (matplotlib expects it may: the 3D
@@ -45,6 +49,7 @@ import importlib.machinery
 import importlib.util
 import os
 import sys
+import types
 import warnings
 
 __all__ = ["install", "installed"]
@@ -73,6 +78,7 @@ def install() -> None:
     if _version_is(*_WEASYPRINT):
         _around("weasyprint.html", _deferred_sheets)
         _lazy("fontTools.subset")
+        _around("weasyprint.pdf.fonts", _deferred_instancer)
     if _version_is(*_MATPLOTLIB):
         _around("matplotlib.projections", _without_3d)
     if _version_is(*_SCHEMDRAW):
@@ -201,6 +207,31 @@ def _deferred_sheets(module):
         package.CSS = real
         if module.__dict__.get("CSS") is sheet:
             module.CSS = real
+
+
+def _instantiate_variable_font(*args, **kwargs):
+    """fontTools.varLib.instancer.instantiateVariableFont, imported on its first call."""
+    from fontTools.varLib.instancer import instantiateVariableFont
+    return instantiateVariableFont(*args, **kwargs)
+
+
+@contextlib.contextmanager
+def _deferred_instancer(module):
+    """weasyprint.pdf.fonts imports ``instantiateVariableFont`` by name from
+    fontTools.varLib.instancer: while it runs, that module is a stand-in holding a
+    function that imports the real one on its first call."""
+    name = "fontTools.varLib.instancer"
+    if name in sys.modules:
+        yield
+        return
+    stand_in = types.ModuleType(name, "rcdoc.note.lean_imports: imported on first use")
+    stand_in.instantiateVariableFont = _instantiate_variable_font
+    sys.modules[name] = stand_in
+    try:
+        yield
+    finally:
+        if sys.modules.get(name) is stand_in:
+            del sys.modules[name]
 
 
 @contextlib.contextmanager
