@@ -193,6 +193,37 @@ def test_matplotlib_without_its_3d_toolkit_draws_the_same():
     assert lean.splitlines()[2:] == plain.splitlines()[2:]      # the PNG's bytes
 
 
+# Every artist class's set() (docstring and signature) as matplotlib wrote it while
+# the classes were made, the property tables (kwdoc) asked for afterwards, and the
+# docstrings that quote them (Axes.plot, Figure.add_subplot, ...).
+ARTIST_DOCS = r'''
+import rcdoc.note.renderer_libs
+import matplotlib.figure, matplotlib.backends.backend_agg, matplotlib.backends.backend_svg
+import matplotlib.pyplot, matplotlib.axes
+from matplotlib import artist
+def subclasses(c):
+    for s in c.__subclasses__():
+        yield s
+        yield from subclasses(s)
+# (the 3D toolkit's classes left out: test_matplotlib_without_its_3d_toolkit...)
+classes = sorted({c for c in subclasses(artist.Artist) if c.__module__.startswith("matplotlib.")}
+                 | {artist.Artist}, key=lambda c: (c.__module__, c.__qualname__))
+print(len(classes))
+for c in classes:
+    print(c.__module__, c.__qualname__, c.set.__signature__)
+    print(c.set.__doc__)
+    print(artist.kwdoc(c))
+for f in (matplotlib.axes.Axes.plot, matplotlib.axes.Axes.text, matplotlib.figure.Figure.add_subplot):
+    print(f.__doc__)
+'''
+
+
+def test_artist_docstrings_written_with_kept_answers_are_the_same():
+    lean, plain = _both(ARTIST_DOCS)
+    assert int(lean.splitlines()[0]) > 80 and "linewidth or linewidths" in lean
+    assert lean == plain
+
+
 SCHEMATIC = r'''
 import rcdoc.note.renderer_libs
 from rcdoc.kinds.recipes import *

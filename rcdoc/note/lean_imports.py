@@ -24,6 +24,11 @@ bench/imports.py, some of it is for things the note never asks for:
   projections: the note draws no 3D axes. Here that import fails quietly while
   ``matplotlib.projections`` is imported (matplotlib expects it may: the 3D
   projection is then not registered; its warning is not shown).
+- matplotlib 3.11 writes the docstring of each artist class's ``set`` as the
+  class is made: the accepted values of every setter, read from the setter's
+  docstring (``ArtistInspector.get_valid_values``), again for every class that
+  inherits it (8000 reads, 0.1 s). Here each answer is kept per setter function
+  and docstring: the same docstrings, each setter read once.
 - schemdraw 0.23 imports its optional matplotlib backend, and with it pyplot;
   the note draws schematics with its SVG backend only. Here that backend is
   missing while schemdraw is imported (schemdraw expects it may; its default
@@ -81,6 +86,7 @@ def install() -> None:
         _around("weasyprint.pdf.fonts", _deferred_instancer)
     if _version_is(*_MATPLOTLIB):
         _around("matplotlib.projections", _without_3d)
+        _around("matplotlib.artist", _valid_values_kept)
     if _version_is(*_SCHEMDRAW):
         _around("schemdraw", _without_mpl_backend)
     if _version_is(*_ZIAMATH):
@@ -250,6 +256,34 @@ def _without_3d(module):
     finally:
         if sys.modules.get(name, 0) is None:
             del sys.modules[name]
+
+
+@contextlib.contextmanager
+def _valid_values_kept(module):
+    """After matplotlib.artist has run: ``ArtistInspector.get_valid_values`` keeps
+    each answer per setter function and docstring."""
+    yield
+    inspector = module.ArtistInspector
+    real = inspector.get_valid_values
+    kept: dict = {}
+
+    def get_valid_values(self, attr):
+        # What the answer is read from: the setter's docstring (its first
+        # parameter's name too: the function's code), unless it has a _kwarg_doc.
+        func = getattr(self.o, f"set_{attr}", None)
+        doc = getattr(func, "__doc__", None)
+        if not isinstance(doc, str) or hasattr(func, "_kwarg_doc"):
+            return real(self, attr)
+        try:
+            return kept[func, doc]
+        except KeyError:
+            answer = kept[func, doc] = real(self, attr)
+            return answer
+        except TypeError:               # a setter that cannot be a key
+            return real(self, attr)
+
+    get_valid_values.__doc__ = real.__doc__
+    inspector.get_valid_values = get_valid_values
 
 
 @contextlib.contextmanager
