@@ -27,9 +27,10 @@ with contextlib.suppress(Exception), contextlib.redirect_stdout(io.StringIO()):
 
 def _first_stage() -> None:
     """What each worker's first stage would load for itself, loaded here once:
-    schemdraw and ziamath, which outlines its labels (and reads its math font
-    when imported: 0.25 s), ziafont pointed at the reusing factory first
-    (rcdoc.note.outline_font), and the note's trimmed user-agent sheet."""
+    schemdraw and ziamath, which outlines its labels (its math font is read
+    on first use: rcdoc.note.lean_imports), ziafont pointed at the reusing
+    factory first (rcdoc.note.outline_font), and the note's trimmed
+    user-agent sheet."""
     from rcdoc.note import note_html, outline_font
     outline_font.speed_up()
     import schemdraw  # noqa: F401
