@@ -234,22 +234,27 @@ import ziamath, ziamath.zmath as zm
 from ziamath.mathfont import MathFont
 print("pyplot", "matplotlib.pyplot" in sys.modules, "mpl backend",
       "schemdraw.backends.mpl" in sys.modules)
-print("default font read", type(zm.loadedfonts["default"]) is MathFont)
+print("default font read", type(zm.loadedfonts["default"]) is MathFont,
+      "escapes", "ziamath.escapes" in sys.modules)
 print(svg)
 print(ziamath.Math.fromlatex(r"f_c = \frac{1}{2 \pi R C}").svg())
 print(ziamath.Text("gain $A_v$ at 1 kHz", size=12).svg())
+print(ziamath.Math.fromlatex(r"x \le 3 \cdot 10^{-3} \pm \Omega").svg())
+import ziamath.escapes
+print(ziamath.escapes.unescape("<mn>-1</mn><mo>&times;</mo><mi>&alpha;</mi>"))
 print("default font read", type(zm.loadedfonts["default"]) is MathFont)
 '''
 
 
 def test_schemdraw_and_ziamath_with_parts_left_out_draw_the_same():
     lean, plain = _both(SCHEMATIC)
-    # schemdraw's matplotlib backend (and pyplot) left out; ziamath's math font read
-    # only when math is drawn: the schematic, a formula and text with math alike.
+    # schemdraw's matplotlib backend (and pyplot) left out; ziamath's math font and
+    # escapes read only when math is drawn: the schematic, formulas (escapes and
+    # signs among them) and text with math alike.
     assert lean.splitlines()[:2] == ["pyplot False mpl backend False",
-                                     "default font read False"]
+                                     "default font read False escapes False"]
     assert plain.splitlines()[:2] == ["pyplot True mpl backend True",
-                                      "default font read True"]
+                                      "default font read True escapes True"]
     assert lean.splitlines()[2:] == plain.splitlines()[2:]
     assert lean.count("<path") > 10 and lean.endswith("default font read True\n")
 

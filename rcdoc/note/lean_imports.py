@@ -33,9 +33,11 @@ bench/imports.py, some of it is for things the note never asks for:
   the note draws schematics with its SVG backend only. Here that backend is
   missing while schemdraw is imported (schemdraw expects it may; its default
   canvas is then SVG, which rcdoc.note.schematic asks for anyway).
-- ziamath 0.13 reads its default math font (STIX Two Math) when imported;
-  schematic labels are plain text, outlined with a text font through ziafont.
-  Here that font is read on its first use (a math expression).
+- ziamath 0.13 reads its default math font (STIX Two Math) and compiles its
+  table of MathML escapes (2000 names in one regular expression) when
+  imported: 0.1 s. Schematic labels are plain text, outlined with a text font
+  through ziafont. Here the font is read on its first use (a math expression),
+  and ``unescape`` is a function that imports the escapes on its first call.
 
 What it must not do: change a value or a byte of the note. Each step applies
 only to the library version it was written for (read from the installed
@@ -301,16 +303,32 @@ def _without_mpl_backend(module):
             del sys.modules[name]
 
 
+def _unescape(xmlstr):
+    """ziamath.escapes.unescape, imported on its first call."""
+    from ziamath.escapes import unescape
+    return unescape(xmlstr)
+
+
 @contextlib.contextmanager
 def _deferred_math_font(module):
     """ziamath.zmath reads ``MathFont`` from ziamath.mathfont as it starts and
-    makes the default font with it: a deferred one while it runs."""
+    makes the default font with it: a deferred one while it runs. It imports
+    ``unescape`` by name from ziamath.escapes: a stand-in module holding a
+    function that imports the real one on its first call."""
     fonts = importlib.import_module("ziamath.mathfont")
     real = fonts.MathFont
     fonts.MathFont = _deferred(real)
+    name = "ziamath.escapes"
+    stand_in = None
+    if name not in sys.modules:
+        stand_in = types.ModuleType(name, "rcdoc.note.lean_imports: imported on first use")
+        stand_in.unescape = _unescape
+        sys.modules[name] = stand_in
     try:
         yield
     finally:
         fonts.MathFont = real
         if module.__dict__.get("MathFont") is not real:
             module.MathFont = real
+        if stand_in is not None and sys.modules.get(name) is stand_in:
+            del sys.modules[name]
