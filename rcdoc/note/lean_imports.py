@@ -27,8 +27,10 @@ bench/imports.py, some of it is for things the note never asks for:
 - matplotlib 3.11 writes the docstring of each artist class's ``set`` as the
   class is made: the accepted values of every setter, read from the setter's
   docstring (``ArtistInspector.get_valid_values``), again for every class that
-  inherits it (8000 reads, 0.1 s). Here each answer is kept per setter function
-  and docstring: the same docstrings, each setter read once.
+  inherits it (8000 reads), and reads the class's aliases and setters twice
+  (0.25 s in all). Here each answer is kept per setter function and docstring,
+  and the second reading of a class takes the first one's answers: the same
+  signatures and docstrings.
 - schemdraw 0.23 imports its optional matplotlib backend, and with it pyplot;
   the note draws schematics with its SVG backend only. Here that backend is
   missing while schemdraw is imported (schemdraw expects it may; its default
@@ -88,7 +90,7 @@ def install() -> None:
         _around("weasyprint.pdf.fonts", _deferred_instancer)
     if _version_is(*_MATPLOTLIB):
         _around("matplotlib.projections", _without_3d)
-        _around("matplotlib.artist", _valid_values_kept)
+        _around("matplotlib.artist", _artist_docs_kept)
     if _version_is(*_SCHEMDRAW):
         _around("schemdraw", _without_mpl_backend)
     if _version_is(*_ZIAMATH):
@@ -261,17 +263,23 @@ def _without_3d(module):
 
 
 @contextlib.contextmanager
-def _valid_values_kept(module):
-    """After matplotlib.artist has run: ``ArtistInspector.get_valid_values`` keeps
-    each answer per setter function and docstring."""
+def _artist_docs_kept(module):
+    """After matplotlib.artist has run: each class's ``set`` signature and
+    docstring written with one reading of the class, each setter's docstring
+    read once."""
     yield
-    inspector = module.ArtistInspector
+    _keep_valid_values(module.ArtistInspector)
+    _one_reading_per_update(module.Artist, module.ArtistInspector)
+
+
+def _keep_valid_values(inspector) -> None:
+    """``ArtistInspector.get_valid_values`` keeps each answer per setter function
+    and docstring (what the answer is read from: the docstring, the first
+    parameter's name in the function's code; a ``_kwarg_doc`` is read as is)."""
     real = inspector.get_valid_values
     kept: dict = {}
 
     def get_valid_values(self, attr):
-        # What the answer is read from: the setter's docstring (its first
-        # parameter's name too: the function's code), unless it has a _kwarg_doc.
         func = getattr(self.o, f"set_{attr}", None)
         doc = getattr(func, "__doc__", None)
         if not isinstance(doc, str) or hasattr(func, "_kwarg_doc"):
@@ -286,6 +294,48 @@ def _valid_values_kept(module):
 
     get_valid_values.__doc__ = real.__doc__
     inspector.get_valid_values = get_valid_values
+
+
+_READING: list = []     # the answers of the class being written now, if any
+
+
+def _one_reading_per_update(artist, inspector) -> None:
+    """``Artist._update_set_signature_and_docstring`` reads the class's aliases
+    and setters twice (once for the signature, once for the docstring), each a
+    walk over every name of the class; both readings see the class as it is
+    then. Here the second reading takes the first one's answers."""
+    update = artist.__dict__["_update_set_signature_and_docstring"].__func__
+
+    def _update_set_signature_and_docstring(cls):
+        _READING.append({})
+        try:
+            update(cls)
+        finally:
+            _READING.pop()
+
+    _update_set_signature_and_docstring.__doc__ = update.__doc__
+    artist._update_set_signature_and_docstring = classmethod(_update_set_signature_and_docstring)
+    for name in ("get_aliases", "get_setters"):
+        setattr(inspector, name, _read_once(name, getattr(inspector, name)))
+
+
+def _read_once(name: str, real):
+    def read(self):
+        if not _READING:
+            return real(self)
+        key = (name, self.o)
+        answers = _READING[-1]
+        if key not in answers:
+            answers[key] = real(self)
+        # A copy each time, as each call of the library's own makes anew: the
+        # setters' names (a list), the aliases (a dict of sets of names).
+        answer = answers[key]
+        if isinstance(answer, dict):
+            return {k: set(v) for k, v in answer.items()}
+        return list(answer)
+
+    read.__name__, read.__doc__ = real.__name__, real.__doc__
+    return read
 
 
 @contextlib.contextmanager
