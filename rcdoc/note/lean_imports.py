@@ -46,8 +46,9 @@ only to the library version it was written for (read from the installed
 distribution's folder name, without importing the library); for any other
 version, or when the module was imported before ``install``, the library
 imports as it would. tests/test_lean_imports.py compares each with the
-library's own import: the counter styles, the sheets' rules, the fonts'
-outlines, the schematics' SVG, the note's PDF bytes.
+library's own import, in fresh processes: documents laid out with weasyprint's
+own sheets, fontTools' subsets and instances, every artist's docstrings, a
+chart's PNG, schematics and formulas in SVG, and the example note's PDF bytes.
 """
 
 from __future__ import annotations
@@ -61,7 +62,7 @@ import sys
 import types
 import warnings
 
-__all__ = ["install", "installed"]
+__all__ = ["install"]
 
 # The versions each step was written for (and checked against).
 _WEASYPRINT = ("weasyprint", "70.0")
@@ -69,21 +70,16 @@ _MATPLOTLIB = ("matplotlib", "3.11.2")
 _SCHEMDRAW = ("schemdraw", "0.23")
 _ZIAMATH = ("ziamath", "0.13")
 
-_INSTALLED: list[str] = []      # the steps put in place in this process
-
-
-def installed() -> list[str]:
-    """The names of the modules whose import this process changed (tests)."""
-    return list(_INSTALLED)
+_DONE: list[bool] = []          # install has run in this process
 
 
 def install() -> None:
     """Put each step in place where its library is the pinned version and the
     module it changes is not imported yet. Idempotent; call before importing
     weasyprint, matplotlib or schemdraw."""
-    if _INSTALLED:
+    if _DONE:
         return
-    _INSTALLED.append("")
+    _DONE.append(True)
     if _version_is(*_WEASYPRINT):
         _around("weasyprint.html", _deferred_sheets)
         _lazy("fontTools.subset")
@@ -128,7 +124,6 @@ class _Around(importlib.abc.MetaPathFinder):
         if spec is None or spec.loader is None:
             return spec
         spec.loader = _AroundLoader(spec.loader, self.around)
-        _INSTALLED.append(fullname)
         return spec
 
 
@@ -165,7 +160,6 @@ def _lazy(name: str) -> None:
     spec.loader.exec_module(module)
     parent, _, child = name.rpartition(".")
     setattr(sys.modules[parent], child, module)
-    _INSTALLED.append(name)
 
 
 def _deferred(cls):
