@@ -13,6 +13,12 @@ from __future__ import annotations
 import contextlib
 import io
 
+from rcdoc.note import lean_imports
+
+# Before matplotlib (rcdoc.note.page's charts), weasyprint and schemdraw are
+# imported: what they do at import that the note never uses is left for later.
+lean_imports.install()
+
 with contextlib.suppress(Exception), contextlib.redirect_stdout(io.StringIO()):
     import rcdoc.note.page  # noqa: F401
     import rcdoc.note.assemble  # noqa: F401
@@ -21,9 +27,10 @@ with contextlib.suppress(Exception), contextlib.redirect_stdout(io.StringIO()):
 
 def _first_stage() -> None:
     """What each worker's first stage would load for itself, loaded here once:
-    schemdraw and ziamath, which outlines its labels (and reads its math font
-    when imported: 0.25 s), ziafont pointed at the reusing factory first
-    (rcdoc.note.outline_font), and the note's trimmed user-agent sheet."""
+    schemdraw and ziamath, which outlines its labels (its math font is read
+    on first use: rcdoc.note.lean_imports), ziafont pointed at the reusing
+    factory first (rcdoc.note.outline_font), and the note's trimmed
+    user-agent sheet."""
     from rcdoc.note import note_html, outline_font
     outline_font.speed_up()
     import schemdraw  # noqa: F401

@@ -26,6 +26,8 @@ import contextlib
 import ctypes.util
 import sys
 
+from rcdoc.note import lean_imports
+
 
 @contextlib.contextmanager
 def _no_library_search():
@@ -39,6 +41,10 @@ def _no_library_search():
     finally:
         ctypes.util.find_library = real
 
+
+# What weasyprint, matplotlib and schemdraw do at import that the note never uses,
+# left for later (rcdoc.note.lean_imports): before any of them is imported.
+lean_imports.install()
 
 with _no_library_search():
     import weasyprint  # noqa: E402,F401 - the import this module exists for

@@ -1,0 +1,378 @@
+"""Start-up CPU: work the renderer's libraries do when imported that a build never uses,
+left undone or done on first use.
+
+What it is for: every build process imports weasyprint and matplotlib (the command
+itself, and the fork server its workers start from, which also imports schemdraw
+and ziamath): about 2 s of CPU each before any page. Measured with
+bench/imports.py, some of it is for things the note never asks for:
+
+- weasyprint 70 parses its user-agent sheets when ``weasyprint.html`` is imported
+  (the HTML sheet, the forms sheet, the presentational hints sheet: 0.1 s). The
+  note's documents use the trimmed sheet of ``note_html`` instead and no
+  presentational hints. Here the three are made on their first use (any attribute
+  read), with the same arguments; the HTML sheet's ``@counter-style`` rules are
+  still parsed at import into the shared counter styles that weasyprint hands to
+  every document (``HTML._ua_counter_style``, read before any sheet).
+- weasyprint 70 imports ``fontTools.subset`` for the font subsetting it does
+  only where HarfBuzz's subsetter is missing, and fontTools' variable font
+  instancer (with fontTools.varLib and lxml) for variable fonts, which the note
+  does not use: 0.15 s. Here the subsetter is loaded by
+  ``importlib.util.LazyLoader`` (its code runs on its first attribute read), and
+  ``instantiateVariableFont`` is a function that imports the instancer on its
+  first call and hands it the same arguments.
+- matplotlib 3.11 imports its 3D toolkit (``mpl_toolkits.mplot3d``) with its
+  projections: the note draws no 3D axes. Here that import fails quietly while
+  ``matplotlib.projections`` is imported (matplotlib expects it may: the 3D
+  projection is then not registered; its warning is not shown).
+- matplotlib 3.11 writes the docstring of each artist class's ``set`` as the
+  class is made: the accepted values of every setter, read from the setter's
+  docstring (``ArtistInspector.get_valid_values``), again for every class that
+  inherits it (8000 reads), and reads the class's aliases and setters twice
+  (0.25 s in all). Here each answer is kept per setter function and docstring,
+  and the second reading of a class takes the first one's answers: the same
+  signatures and docstrings.
+- schemdraw 0.23 imports its optional matplotlib backend, and with it pyplot;
+  the note draws schematics with its SVG backend only. Here that backend is
+  missing while schemdraw is imported (schemdraw expects it may; its default
+  canvas is then SVG, which rcdoc.note.schematic asks for anyway).
+- ziamath 0.13 reads its default math font (STIX Two Math) and compiles its
+  table of MathML escapes (2000 names in one regular expression) when
+  imported: 0.1 s. Schematic labels are plain text, outlined with a text font
+  through ziafont. Here the font is read on its first use (a math expression),
+  and ``unescape`` is a function that imports the escapes on its first call.
+
+What it must not do: change a value or a byte of the note. Each step applies
+only to the library version it was written for (read from the installed
+distribution's folder name, without importing the library); for any other
+version, or when the module was imported before ``install``, the library
+imports as it would. tests/test_lean_imports.py compares each with the
+library's own import, in fresh processes: documents laid out with weasyprint's
+own sheets, fontTools' subsets and instances, every artist's docstrings, a
+chart's PNG, schematics and formulas in SVG, and the example note's PDF bytes.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import importlib.abc
+import importlib.machinery
+import importlib.util
+import os
+import sys
+import types
+import warnings
+
+__all__ = ["install"]
+
+# The versions each step was written for (and checked against).
+_WEASYPRINT = ("weasyprint", "70.0")
+_MATPLOTLIB = ("matplotlib", "3.11.2")
+_SCHEMDRAW = ("schemdraw", "0.23")
+_ZIAMATH = ("ziamath", "0.13")
+
+_DONE: list[bool] = []          # install has run in this process
+
+
+def install() -> None:
+    """Put each step in place where its library is the pinned version and the
+    module it changes is not imported yet. Idempotent; call before importing
+    weasyprint, matplotlib or schemdraw."""
+    if _DONE:
+        return
+    _DONE.append(True)
+    if _version_is(*_WEASYPRINT):
+        _around("weasyprint.html", _deferred_sheets)
+        _lazy("fontTools.subset")
+        _around("weasyprint.pdf.fonts", _deferred_instancer)
+    if _version_is(*_MATPLOTLIB):
+        _around("matplotlib.projections", _without_3d)
+        _around("matplotlib.artist", _artist_docs_kept)
+    if _version_is(*_SCHEMDRAW):
+        _around("schemdraw", _without_mpl_backend)
+    if _version_is(*_ZIAMATH):
+        _around("ziamath.zmath", _deferred_math_font)
+
+
+def _version_is(name: str, version: str) -> bool:
+    """Whether ``name`` is installed as ``version`` (its ``.dist-info`` folder beside
+    the package), read without importing it."""
+    try:
+        spec = importlib.util.find_spec(name)
+    except (ImportError, ValueError):
+        return False
+    if spec is None or not spec.submodule_search_locations:
+        return False
+    folder = os.path.dirname(list(spec.submodule_search_locations)[0])
+    return os.path.isdir(os.path.join(folder, f"{name}-{version}.dist-info"))
+
+
+# ---- running code around one module's import ------------------------------------
+
+class _Around(importlib.abc.MetaPathFinder):
+    """Finds ``name`` as the path finder does, once, and runs ``around(module)`` (a
+    context manager) around its execution."""
+
+    def __init__(self, name: str, around):
+        self.name, self.around = name, around
+
+    def find_spec(self, fullname, path=None, target=None):
+        if fullname != self.name:
+            return None
+        with contextlib.suppress(ValueError):
+            sys.meta_path.remove(self)
+        spec = importlib.machinery.PathFinder.find_spec(fullname, path, target)
+        if spec is None or spec.loader is None:
+            return spec
+        spec.loader = _AroundLoader(spec.loader, self.around)
+        return spec
+
+
+class _AroundLoader(importlib.abc.Loader):
+    def __init__(self, real, around):
+        self.real, self.around = real, around
+
+    def create_module(self, spec):
+        return self.real.create_module(spec)
+
+    def exec_module(self, module):
+        # The module keeps the path finder's own loader (tracebacks, source).
+        module.__loader__ = module.__spec__.loader = self.real
+        with self.around(module):
+            self.real.exec_module(module)
+
+
+def _around(name: str, around) -> None:
+    if name not in sys.modules:
+        sys.meta_path.insert(0, _Around(name, around))
+
+
+def _lazy(name: str) -> None:
+    """``name`` loaded by LazyLoader: its code runs on its first attribute read
+    (the recipe of the importlib documentation)."""
+    if name in sys.modules:
+        return
+    spec = importlib.util.find_spec(name)       # imports the parent package
+    if spec is None or spec.loader is None:
+        return
+    spec.loader = importlib.util.LazyLoader(spec.loader)
+    module = importlib.util.module_from_spec(spec)
+    sys.modules[name] = module
+    spec.loader.exec_module(module)
+    parent, _, child = name.rpartition(".")
+    setattr(sys.modules[parent], child, module)
+
+
+def _deferred(cls):
+    """A subclass of ``cls`` whose instances are made (``cls.__init__`` with the same
+    arguments) on their first read of an attribute they do not have yet; they are
+    then plain ``cls`` instances."""
+
+    class Deferred(cls):
+        def __init__(self, *args, **kwargs):
+            self.__dict__["_rcdoc_deferred"] = (args, kwargs)
+
+        def __getattr__(self, name):
+            pending = self.__dict__.pop("_rcdoc_deferred", None)
+            if pending is None:
+                raise AttributeError(name)
+            self.__class__ = cls
+            cls.__init__(self, *pending[0], **pending[1])
+            return getattr(self, name)
+
+    Deferred.__name__ = Deferred.__qualname__ = cls.__name__
+    Deferred.__module__ = cls.__module__
+    return Deferred
+
+
+# ---- the steps ------------------------------------------------------------------
+
+@contextlib.contextmanager
+def _deferred_sheets(module):
+    """weasyprint.html makes its sheets with ``CSS(...)`` (weasyprint's class, read
+    from the package as the module starts): deferred sheets while it runs."""
+    package = sys.modules["weasyprint"]
+    real = package.CSS
+    deferred = _deferred(real)
+
+    def sheet(*args, **kwargs):
+        counters, text = kwargs.get("counter_style"), kwargs.get("string")
+        if counters is not None and isinstance(text, str):
+            # The counter styles go into the shared dict now: documents copy it.
+            rules = [line for line in text.splitlines()
+                     if line.lstrip().startswith("@counter-style")]
+            if rules:
+                real(string="\n".join(rules), counter_style=counters)
+        return deferred(*args, **kwargs)
+
+    package.CSS = sheet
+    try:
+        yield
+    finally:
+        package.CSS = real
+        if module.__dict__.get("CSS") is sheet:
+            module.CSS = real
+
+
+def _instantiate_variable_font(*args, **kwargs):
+    """fontTools.varLib.instancer.instantiateVariableFont, imported on its first call."""
+    from fontTools.varLib.instancer import instantiateVariableFont
+    return instantiateVariableFont(*args, **kwargs)
+
+
+@contextlib.contextmanager
+def _deferred_instancer(module):
+    """weasyprint.pdf.fonts imports ``instantiateVariableFont`` by name from
+    fontTools.varLib.instancer: while it runs, that module is a stand-in holding a
+    function that imports the real one on its first call."""
+    name = "fontTools.varLib.instancer"
+    if name in sys.modules:
+        yield
+        return
+    stand_in = types.ModuleType(name, "rcdoc.note.lean_imports: imported on first use")
+    stand_in.instantiateVariableFont = _instantiate_variable_font
+    sys.modules[name] = stand_in
+    try:
+        yield
+    finally:
+        if sys.modules.get(name) is stand_in:
+            del sys.modules[name]
+
+
+@contextlib.contextmanager
+def _without_3d(module):
+    """matplotlib.projections without mpl_toolkits.mplot3d (an ImportError there,
+    which matplotlib catches; its warning is not shown)."""
+    name = "mpl_toolkits.mplot3d"
+    if name in sys.modules:
+        yield
+        return
+    sys.modules[name] = None
+    try:
+        with warnings.catch_warnings():
+            warnings.filterwarnings("ignore", message="Unable to import Axes3D")
+            yield
+    finally:
+        if sys.modules.get(name, 0) is None:
+            del sys.modules[name]
+
+
+@contextlib.contextmanager
+def _artist_docs_kept(module):
+    """After matplotlib.artist has run: each class's ``set`` signature and
+    docstring written with one reading of the class, each setter's docstring
+    read once."""
+    yield
+    _keep_valid_values(module.ArtistInspector)
+    _one_reading_per_update(module.Artist, module.ArtistInspector)
+
+
+def _keep_valid_values(inspector) -> None:
+    """``ArtistInspector.get_valid_values`` keeps each answer per setter function
+    and docstring (what the answer is read from: the docstring, the first
+    parameter's name in the function's code; a ``_kwarg_doc`` is read as is)."""
+    real = inspector.get_valid_values
+    kept: dict = {}
+
+    def get_valid_values(self, attr):
+        func = getattr(self.o, f"set_{attr}", None)
+        doc = getattr(func, "__doc__", None)
+        if not isinstance(doc, str) or hasattr(func, "_kwarg_doc"):
+            return real(self, attr)
+        try:
+            return kept[func, doc]
+        except KeyError:
+            answer = kept[func, doc] = real(self, attr)
+            return answer
+        except TypeError:               # a setter that cannot be a key
+            return real(self, attr)
+
+    get_valid_values.__doc__ = real.__doc__
+    inspector.get_valid_values = get_valid_values
+
+
+_READING: list = []     # the answers of the class being written now, if any
+
+
+def _one_reading_per_update(artist, inspector) -> None:
+    """``Artist._update_set_signature_and_docstring`` reads the class's aliases
+    and setters twice (once for the signature, once for the docstring), each a
+    walk over every name of the class; both readings see the class as it is
+    then. Here the second reading takes the first one's answers."""
+    update = artist.__dict__["_update_set_signature_and_docstring"].__func__
+
+    def _update_set_signature_and_docstring(cls):
+        _READING.append({})
+        try:
+            update(cls)
+        finally:
+            _READING.pop()
+
+    _update_set_signature_and_docstring.__doc__ = update.__doc__
+    artist._update_set_signature_and_docstring = classmethod(_update_set_signature_and_docstring)
+    for name in ("get_aliases", "get_setters"):
+        setattr(inspector, name, _read_once(name, getattr(inspector, name)))
+
+
+def _read_once(name: str, real):
+    def read(self):
+        if not _READING:
+            return real(self)
+        key = (name, self.o)
+        answers = _READING[-1]
+        if key not in answers:
+            answers[key] = real(self)
+        # A copy each time, as each call of the library's own makes anew: the
+        # setters' names (a list), the aliases (a dict of sets of names).
+        answer = answers[key]
+        if isinstance(answer, dict):
+            return {k: set(v) for k, v in answer.items()}
+        return list(answer)
+
+    read.__name__, read.__doc__ = real.__name__, real.__doc__
+    return read
+
+
+@contextlib.contextmanager
+def _without_mpl_backend(module):
+    """schemdraw without its matplotlib backend (an ImportError, which it catches)."""
+    name = "schemdraw.backends.mpl"
+    if name in sys.modules:
+        yield
+        return
+    sys.modules[name] = None
+    try:
+        yield
+    finally:
+        if sys.modules.get(name, 0) is None:
+            del sys.modules[name]
+
+
+def _unescape(xmlstr):
+    """ziamath.escapes.unescape, imported on its first call."""
+    from ziamath.escapes import unescape
+    return unescape(xmlstr)
+
+
+@contextlib.contextmanager
+def _deferred_math_font(module):
+    """ziamath.zmath reads ``MathFont`` from ziamath.mathfont as it starts and
+    makes the default font with it: a deferred one while it runs. It imports
+    ``unescape`` by name from ziamath.escapes: a stand-in module holding a
+    function that imports the real one on its first call."""
+    fonts = importlib.import_module("ziamath.mathfont")
+    real = fonts.MathFont
+    fonts.MathFont = _deferred(real)
+    name = "ziamath.escapes"
+    stand_in = None
+    if name not in sys.modules:
+        stand_in = types.ModuleType(name, "rcdoc.note.lean_imports: imported on first use")
+        stand_in.unescape = _unescape
+        sys.modules[name] = stand_in
+    try:
+        yield
+    finally:
+        fonts.MathFont = real
+        if module.__dict__.get("MathFont") is not real:
+            module.MathFont = real
+        if stand_in is not None and sys.modules.get(name) is stand_in:
+            del sys.modules[name]
