@@ -106,6 +106,25 @@ def check_values(value: Any, path: str) -> None:
         check_text(value, path, multiline=True)
 
 
+# Every quantity a board's file states lies far inside this (a femtofarad is
+# 1e-15 F, a teraohm 1e12 ohm). Beyond it, squares and products of values
+# (energies, conductances, matrix entries) leave the range of floats: refused
+# here, before any analysis, not met as an overflow or a failed factorisation.
+QUANTITY_RANGE = (1e-30, 1e30)
+
+
+def check_size(value: float, shown: str, expected: str, path: str) -> float:
+    """A quantity's ``value`` if zero or its size lies within QUANTITY_RANGE;
+    -0.0 becomes 0.0 (a negative zero turns a zero-width interval round: high <
+    low). ``shown`` is the value as written, ``expected`` what the key takes."""
+    lo, hi = QUANTITY_RANGE
+    if value != 0 and not lo <= abs(value) <= hi:
+        raise ProjectError(f"{shown} is out of range: the size of a quantity must lie "
+                           f"between {lo:g} and {hi:g} in its base unit; expected {expected}",
+                           path=path)
+    return value + 0.0
+
+
 def check_text(value: str, path: str, *, multiline: bool = False) -> str:
     """A text value: length within limit; no control or line-separator characters
     (``multiline`` text may keep newlines and tabs)."""

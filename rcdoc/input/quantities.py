@@ -19,6 +19,7 @@ import numbers
 import re
 
 from rcdoc.errors import ProjectError
+from rcdoc.input.limits import check_size
 
 __all__ = [
     "format_yield",
@@ -340,7 +341,7 @@ def parse_quantity(value: object, unit: str, path: str = "") -> float:
     if isinstance(value, bool) or not isinstance(value, (str, numbers.Real)):
         raise ProjectError(f"expected {_unit_phrase(unit)}, got {_describe(value)}", path=path)
     if isinstance(value, str):
-        return _within_reach(_parse_text(value, unit, path), value, unit, path)
+        return check_size(_parse_text(value, unit, path), _show(value), _unit_phrase(unit), path)
     try:
         result = float(value)
     except (OverflowError, ValueError):
@@ -348,25 +349,8 @@ def parse_quantity(value: object, unit: str, path: str = "") -> float:
     if not math.isfinite(result):
         raise ProjectError(f"{_show(value)} is not a finite number; expected {_unit_phrase(unit)}",
                            path=path)
-    return _within_reach(result, value, unit, path)
+    return check_size(result, _show(value), _unit_phrase(unit), path)
 
-
-# Every quantity a board's file states lies far inside this (a femtofarad is
-# 1e-15 F, a teraohm 1e12 ohm). Beyond it, squares and products of values
-# (energies, conductances, matrix entries) leave the range of floats: refused
-# here, before any analysis, not met as an overflow or a failed factorisation.
-QUANTITY_RANGE = (1e-30, 1e30)
-
-
-def _within_reach(result: float, original: object, unit: str, path: str) -> float:
-    """``result`` if zero or its size lies within QUANTITY_RANGE; -0.0 becomes 0.0
-    (a negative zero would turn a zero-width interval round: high < low)."""
-    lo, hi = QUANTITY_RANGE
-    if result != 0 and not lo <= abs(result) <= hi:
-        raise ProjectError(f"{_show(original)} is out of range: the size of a quantity must "
-                           f"lie between {lo:g} and {hi:g} in its base unit; expected "
-                           f"{_unit_phrase(unit)}", path=path)
-    return result + 0.0
 
 
 def parse_positive(value: object, unit: str, path: str = "") -> float:
