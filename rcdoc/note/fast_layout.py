@@ -170,29 +170,10 @@ def _resolve_percentages(percent):
     its results kept per style and containing block size: a style's values do
     not change once read, and table cells and their lines share styles and
     widths, so most calls copy a kept answer onto the box."""
-    from math import inf
-
-    from weasyprint.css.functions import check_math
     from weasyprint.formatting_structure import boxes
 
-    percentage = percent.percentage
-    adjust_box_sizing = percent.adjust_box_sizing
     Box, PageBox = boxes.Box, boxes.PageBox
-    minimums = ("min_width", "min_height")
-
-    def used(box, style, name, refer_to):
-        # resolve_one_percentage
-        value = style[name]
-        unit = getattr(value, "unit", None)
-        if unit == "px":
-            value = value.value
-        elif unit == "%":
-            value = refer_to * value.value / 100
-        else:
-            value = percentage(value, style, refer_to)
-        if value == "auto" and name in minimums:
-            value = 0
-        setattr(box, name, value)
+    resolve = _one_by_one(percent)
 
     def resolve_percentages(box, containing_block):
         if isinstance(containing_block, Box):
@@ -222,6 +203,35 @@ def _resolve_percentages(percent):
             for name, value in borders.items():
                 if not hasattr(box, name):
                     attributes[name] = value
+
+    resolve_percentages.__doc__ = percent.resolve_percentages.__doc__
+    return resolve_percentages
+
+
+def _one_by_one(percent):
+    """The used lengths of a box set one by one from its style, as weasyprint's
+    resolve_percentages sets them."""
+    from math import inf
+
+    from weasyprint.css.functions import check_math
+
+    percentage = percent.percentage
+    adjust_box_sizing = percent.adjust_box_sizing
+    minimums = ("min_width", "min_height")
+
+    def used(box, style, name, refer_to):
+        # resolve_one_percentage
+        value = style[name]
+        unit = getattr(value, "unit", None)
+        if unit == "px":
+            value = value.value
+        elif unit == "%":
+            value = refer_to * value.value / 100
+        else:
+            value = percentage(value, style, refer_to)
+        if value == "auto" and name in minimums:
+            value = 0
+        setattr(box, name, value)
 
     def resolve(box, style, cb_width, cb_height, page_box):
         maybe_height = cb_height if page_box else cb_width
@@ -257,8 +267,7 @@ def _resolve_percentages(percent):
         adjust_box_sizing(box, "width")
         adjust_box_sizing(box, "height")
 
-    resolve_percentages.__doc__ = percent.resolve_percentages.__doc__
-    return resolve_percentages
+    return resolve
 
 
 def _kept_strut(general):
