@@ -15,6 +15,8 @@ and CSS Generated Content for Paged Media (``position: running()``,
 
 from __future__ import annotations
 
+import copy
+
 import pytest
 import weasyprint
 from weasyprint.css.properties import INITIAL_VALUES
@@ -221,3 +223,43 @@ def test_parts_and_whole_note_are_the_same_bytes_as_with_weasyprints_own(
         assert a["pages"] == b["pages"] >= 1
         assert a["pdf"] == b["pdf"]
     assert (tmp_path / "fast.pdf").read_bytes() == (tmp_path / "own.pdf").read_bytes()
+
+
+def test_kept_answers_are_weasyprints_own(general):
+    # The used lengths and line struts kept per style are read again at later calls
+    # (table cells and their lines share styles): each kept one is weasyprint's own
+    # answer for that style, computed afresh.
+    from weasyprint.layout import percent
+    from weasyprint.text import line_break
+    own_strut, own_resolve = line_break.strut, percent.resolve_percentages
+    html = _HTML.replace("</body>", "<table>" + "<tr><td>x</td><td>2 %</td></tr>" * 30
+                         + "</table></body>")
+    reference = _boxes(weasyprint.HTML(string=html).render())
+    assert fast_layout.install()
+    document = weasyprint.HTML(string=html).render()
+    assert _boxes(document) == reference
+    styles = {}
+
+    def walk(box):
+        box = getattr(box, "_box", box)        # an absolute box's placeholder
+        styles[id(box.style)] = box
+        for child in getattr(box, "children", ()) or ():
+            walk(child)
+
+    for page in document.pages:
+        walk(page._page_box)
+    struts = used = 0
+    for box in styles.values():
+        kept = box.style.__dict__.get("_rcdoc_strut")
+        if kept is not None:
+            struts += 1
+            assert kept == own_strut(box.style)
+        for (width, height, _), (lengths, _, _) in box.style.__dict__.get(
+                "_rcdoc_used", {}).items():
+            used += 1
+            fresh = copy.copy(box)
+            for name in lengths:
+                delattr(fresh, name)
+            own_resolve(fresh, (width, height))
+            assert lengths == {name: getattr(fresh, name) for name in lengths}
+    assert struts > 10 and used > 20

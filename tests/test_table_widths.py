@@ -173,3 +173,38 @@ def test_cells_of_columns_at_their_widest_are_laid_out_as_when_they_may_wrap(tab
     else:
         assert shares.roomy and plain.count("<span") == 0 < spans.count("<span")
         assert set(got) == {1}
+
+
+def test_cells_that_fit_a_narrower_column_are_laid_out_as_when_they_may_wrap():
+    # Reference: weasyprint's own layout of the same fixed table with every number
+    # kept with its unit by a span and wrapping allowed. A cell of a column too narrow
+    # for its widest content gets "nw" (no spans) when its own text fits the column
+    # on one line: it must come out in one line, as it does with the spans; the cells
+    # that would wrap keep their spans and wrap as before.
+    columns = ["Requirement", "Limit", "Worst case"]
+    rows = [["Corner frequency", "180 Hz … 280 Hz", "213 Hz … 241 Hz"],
+            ["Gain at 1 kHz, the mark the converter reads at its rate",
+             "≤ −10 dB at 1 kHz and ≥ −0.5 dB at 10 Hz, over the whole range",
+             "−13.6 dB … −12.6 dB at 1 kHz; −0.1 dB … 0 dB at 10 Hz over the range"],
+            ["Settling", "546 µs", "612 µs"]]
+    kinds = ["", "", ""]
+    shares = table_widths.widths(columns, rows, kinds, room=300.0)
+    assert shares is not None and not shares.roomy
+    assert len(shares.row_kinds) == len(rows)
+    plain = [f'<td class="{k}">{report._keep_units(v, k)}</td>'
+             for row, ks in zip(rows, shares.row_kinds) for v, k in zip(row, ks)]
+    spans = [f'<td>{report._keep_units(v, "")}</td>' for row in rows for v in row]
+    nowrap = ["nw" in k.split() for ks in shares.row_kinds for k in ks]
+    assert nowrap[3:6] == [False] * 3 and sum(nowrap) >= 6      # the long row may wrap
+
+    def table(cells):
+        cols = "".join(f'<col style="width: {s}%">' for s in shares)
+        body = "".join("<tr>" + "".join(cells[i:i + 3]) + "</tr>" for i in range(0, 9, 3))
+        return (f'<div style="width: 300pt"><table class="data fixed"><colgroup>{cols}'
+                f"</colgroup><tbody>{body}</tbody></table></div>")
+
+    got, want = _cell_lines(table(plain)), _cell_lines(table(spans))
+    assert got == want
+    assert all(n == 1 for n, fits in zip(want, nowrap) if fits)
+    assert max(want) > 1                                         # the long row wraps
+    assert table(plain).count("<span") < table(spans).count("<span")

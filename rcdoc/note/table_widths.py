@@ -113,10 +113,13 @@ class Widths(list):
     column is at least its widest content wide (with _SPARE to spare), so no
     cell wraps; ``cell_kinds``: the columns' classes for their cells, with "nw"
     added to each column that wide (a cell that does not wrap needs no span
-    around each number and unit, report._keep_units)."""
+    around each number and unit, report._keep_units); ``row_kinds``: each row's
+    classes for its cells, with "nw" also on each cell of a narrower column
+    whose own text fits its column on one line (with _SPARE to spare)."""
 
     roomy = False
     cell_kinds: list[str] = []
+    row_kinds: list[list[str]] = []
 
 
 def widths(columns: Sequence, rows: Sequence[Sequence], kinds: Sequence[str],
@@ -151,4 +154,27 @@ def widths(columns: Sequence, rows: Sequence[Sequence], kinds: Sequence[str],
     share.roomy = all(wide)
     share.cell_kinds = [k if not w or "nw" in k.split() else f"{k} nw".strip()
                         for k, w in zip(names, wide)]
+    share.row_kinds = _row_kinds(rows, share, linked, room)
     return share
+
+
+def _row_kinds(rows: Sequence[Sequence], share: Widths, linked: bool,
+               room: float) -> list[list[str]]:
+    """Each row's cell classes: the column's (``share.cell_kinds``), with "nw" on a
+    cell whose text, measured erring wide, fits its column on one line: it would
+    not have wrapped, so it needs no span per number and unit either (such spans
+    were a tenth of a stage's text pieces, each laid out and drawn on its own)."""
+    kinds = share.cell_kinds
+    out = []
+    for row in rows:
+        cells = list(kinds)
+        for j, kind in enumerate(kinds[:len(row)]):
+            if "nw" in kind.split() or (linked and j == 0) or row[j] is None:
+                continue
+            value = str(row[j])
+            if value in ("pass", "fail"):
+                continue
+            if text_width(value) + _PAD + _SPARE <= share[j] * room / 100:
+                cells[j] = f"{kind} nw".strip()
+        out.append(cells)
+    return out
