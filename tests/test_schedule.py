@@ -102,3 +102,17 @@ def test_an_error_while_submitting_reaches_the_main_process(project):
             raise RuntimeError("pool broke")
     with pytest.raises(RuntimeError, match="pool broke"):
         schedule._analyse_while_starting(Broken(), project, [0, 1, 2], {}, {})
+
+
+def test_units_are_left_to_the_pool_after_an_interrupt_and_cancelled_after_an_error():
+    # After Ctrl-C or SIGTERM the pool's own shutdown cancels what has not started,
+    # in the executor's thread: a future cancelled here as well can meet the
+    # workers' end in that thread, where Python 3.11 sets BrokenProcessPool on it
+    # and the thread dies with InvalidStateError (concurrent.futures.process,
+    # terminate_broken). After any other error nothing else stops them.
+    from rcdoc.files import Terminated
+    for exc, cancelled in ((KeyboardInterrupt(), False), (Terminated(), False),
+                           (ValueError("a stage's error"), True)):
+        futures = [Future(), Future()]
+        schedule._cancel(futures, exc)
+        assert [f.cancelled() for f in futures] == [cancelled, cancelled]

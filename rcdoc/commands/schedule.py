@@ -59,13 +59,27 @@ def one_beside_front(shared: WorkerPool, project: Project, i: int, part_job, set
         if "error" in box:
             raise box["error"]
         context, part = box["future"].result()
-    except BaseException:
+    except BaseException as exc:
         handing.join()
         if "future" in box:
-            box["future"].cancel()
+            _cancel([box["future"]], exc)
         raise
     settle(i, ("ok", answer[1], context, part, time.perf_counter() - t0))
     return overview
+
+
+def _cancel(futures, exc: BaseException) -> None:
+    """Cancel the units not yet started, after an error; not after Ctrl-C or
+    SIGTERM, where WorkerPool.__exit__ ends the workers and its shutdown cancels
+    them in the executor's own thread. A future cancelled here while still in
+    that thread's list of pending work meets the workers' end there: Python 3.11
+    then sets BrokenProcessPool on a cancelled future, and that thread dies
+    with an InvalidStateError traceback on the terminal (seen once in the
+    SIGTERM test)."""
+    if isinstance(exc, KeyboardInterrupt):
+        return
+    for f in futures:
+        f.cancel()
 
 
 def _submit(box: dict, shared: WorkerPool, fn, *args) -> None:
@@ -161,10 +175,9 @@ def run_pool(shared: WorkerPool, project, draw, work, part_jobs, progress, settl
         for i in todraw:
             contexts[i], parts[i] = drawn[i].result()
         made = extra["appendix"].result() if extra else None
-    except BaseException:
+    except BaseException as exc:
         # Ctrl-C ends the running workers too, in WorkerPool.__exit__.
-        for f in (*futures.values(), *redone.values(), *drawn.values(), *extra.values()):
-            f.cancel()
+        _cancel([*futures.values(), *redone.values(), *drawn.values(), *extra.values()], exc)
         raise
     if made is not None and note_parts is not None:
         note_parts["appendix"] = made
