@@ -1,7 +1,7 @@
 """Imported first by the worker pool's fork server (never by the command itself):
 no cyclic garbage collection while the server imports.
 
-The server's imports (rcdoc, numpy and scipy; for a build also matplotlib,
+The server's imports (rcdoc and numpy; for a build also matplotlib,
 weasyprint and schemdraw) make about a million objects, none of them garbage,
 and the collector's passes over them cost a tenth of the imports' CPU (measured:
 2.12 s against 1.92 s, best of 12). The server does nothing else but fork, so

@@ -352,7 +352,6 @@ def parse_quantity(value: object, unit: str, path: str = "") -> float:
     return check_size(result, _show(value), _unit_phrase(unit), path)
 
 
-
 def parse_positive(value: object, unit: str, path: str = "") -> float:
     """As ``parse_quantity``, and the value must be greater than zero."""
     result = parse_quantity(value, unit, path)
