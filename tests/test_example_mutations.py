@@ -67,6 +67,8 @@ def mutated(lines: list[str], rng: random.Random) -> str:
               if _KEY_VALUE.match(line) and not line.rstrip().endswith(("[", '"""', "{"))]
     for _ in range(rng.choice([1, 1, 2, 3])):
         i = rng.choice(places)
+        if "=" not in lines[i]:            # emptied by an earlier change of this document
+            continue
         roll = rng.random()
         if roll < 0.9:
             inner = list(_INLINE.finditer(lines[i])) if "{" in lines[i] else []
