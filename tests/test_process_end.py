@@ -219,7 +219,8 @@ def test_workers_collect_garbage_after_the_servers_paused_imports():
 def test_only_the_command_collects_less_often(monkeypatch):
     # The command's process takes young collections every YOUNG_THRESHOLD objects
     # (rcdoc.commands.collector); main() called from Python leaves its caller's
-    # settings as they were.
+    # settings as they were (common practice: a library call leaves the
+    # interpreter's global settings alone).
     import gc
     from rcdoc.commands import collector
     before = gc.get_threshold()

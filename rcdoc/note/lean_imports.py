@@ -184,6 +184,41 @@ def _deferred(cls):
     return Deferred
 
 
+@contextlib.contextmanager
+def _stand_in(name: str, **attrs):
+    """While the block runs, module ``name`` is a stand-in holding ``attrs`` (each
+    a function importing the real one on its first call); nothing where the real
+    module is imported already."""
+    if name in sys.modules:
+        yield
+        return
+    stand_in = types.ModuleType(name, "rcdoc.note.lean_imports: imported on first use")
+    for key, value in attrs.items():
+        setattr(stand_in, key, value)
+    sys.modules[name] = stand_in
+    try:
+        yield
+    finally:
+        if sys.modules.get(name) is stand_in:
+            del sys.modules[name]
+
+
+@contextlib.contextmanager
+def _absent(name: str):
+    """While the block runs, importing ``name`` raises ImportError (its entry in
+    sys.modules is None, as the import system documents); nothing where it is
+    imported already."""
+    if name in sys.modules:
+        yield
+        return
+    sys.modules[name] = None
+    try:
+        yield
+    finally:
+        if sys.modules.get(name, 0) is None:
+            del sys.modules[name]
+
+
 # ---- the steps ------------------------------------------------------------------
 
 @contextlib.contextmanager
@@ -224,36 +259,18 @@ def _deferred_instancer(module):
     """weasyprint.pdf.fonts imports ``instantiateVariableFont`` by name from
     fontTools.varLib.instancer: while it runs, that module is a stand-in holding a
     function that imports the real one on its first call."""
-    name = "fontTools.varLib.instancer"
-    if name in sys.modules:
+    with _stand_in("fontTools.varLib.instancer",
+                   instantiateVariableFont=_instantiate_variable_font):
         yield
-        return
-    stand_in = types.ModuleType(name, "rcdoc.note.lean_imports: imported on first use")
-    stand_in.instantiateVariableFont = _instantiate_variable_font
-    sys.modules[name] = stand_in
-    try:
-        yield
-    finally:
-        if sys.modules.get(name) is stand_in:
-            del sys.modules[name]
 
 
 @contextlib.contextmanager
 def _without_3d(module):
     """matplotlib.projections without mpl_toolkits.mplot3d (an ImportError there,
     which matplotlib catches; its warning is not shown)."""
-    name = "mpl_toolkits.mplot3d"
-    if name in sys.modules:
+    with _absent("mpl_toolkits.mplot3d"), warnings.catch_warnings():
+        warnings.filterwarnings("ignore", message="Unable to import Axes3D")
         yield
-        return
-    sys.modules[name] = None
-    try:
-        with warnings.catch_warnings():
-            warnings.filterwarnings("ignore", message="Unable to import Axes3D")
-            yield
-    finally:
-        if sys.modules.get(name, 0) is None:
-            del sys.modules[name]
 
 
 @contextlib.contextmanager
@@ -335,16 +352,8 @@ def _read_once(name: str, real):
 @contextlib.contextmanager
 def _without_mpl_backend(module):
     """schemdraw without its matplotlib backend (an ImportError, which it catches)."""
-    name = "schemdraw.backends.mpl"
-    if name in sys.modules:
+    with _absent("schemdraw.backends.mpl"):
         yield
-        return
-    sys.modules[name] = None
-    try:
-        yield
-    finally:
-        if sys.modules.get(name, 0) is None:
-            del sys.modules[name]
 
 
 def _unescape(xmlstr):
@@ -362,17 +371,10 @@ def _deferred_math_font(module):
     fonts = importlib.import_module("ziamath.mathfont")
     real = fonts.MathFont
     fonts.MathFont = _deferred(real)
-    name = "ziamath.escapes"
-    stand_in = None
-    if name not in sys.modules:
-        stand_in = types.ModuleType(name, "rcdoc.note.lean_imports: imported on first use")
-        stand_in.unescape = _unescape
-        sys.modules[name] = stand_in
     try:
-        yield
+        with _stand_in("ziamath.escapes", unescape=_unescape):
+            yield
     finally:
         fonts.MathFont = real
         if module.__dict__.get("MathFont") is not real:
             module.MathFont = real
-        if stand_in is not None and sys.modules.get(name) is stand_in:
-            del sys.modules[name]
