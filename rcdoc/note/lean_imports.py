@@ -233,10 +233,15 @@ def _deferred_sheets(module):
         counters, text = kwargs.get("counter_style"), kwargs.get("string")
         if counters is not None and isinstance(text, str):
             # The counter styles go into the shared dict now: documents copy it.
-            rules = [line for line in text.splitlines()
-                     if line.lstrip().startswith("@counter-style")]
+            lines = text.splitlines()
+            rules = [line for line in lines if line.lstrip().startswith("@counter-style")]
             if rules:
                 real(string="\n".join(rules), counter_style=counters)
+                # Not again when the sheet is read: weasyprint would warn that
+                # "disc" and "decimal" are defined already (and keep the first).
+                kwargs["string"] = "\n".join(
+                    "" if line.lstrip().startswith("@counter-style") else line
+                    for line in lines)
         return deferred(*args, **kwargs)
 
     package.CSS = sheet
