@@ -49,7 +49,7 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLE = ROOT / "projects" / "greenhouse-controller.toml"
 CHARTS = (("rcdoc.note.charts_freq", ("bode", "phasor")),
-          ("rcdoc.note.charts_time", ("time_response", "histogram", "corner_overview", "sweep")),
+          ("rcdoc.note.charts_time", ("time_response", "histogram", "corner_overview_pages", "sweep")),
           ("rcdoc.note.logic_chart", ("edges",)))
 
 
@@ -73,7 +73,7 @@ def record(boards: dict[str, Path]) -> dict[str, list]:
         results = [analyse_stage(s, project.analysis) for s in project.stages]
         for r in results:
             page.stage_context(r, project)
-        page.overview_image(results)
+        page.overview_images(results)
         out[board] = list(calls)
     return out
 

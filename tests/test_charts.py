@@ -388,6 +388,72 @@ def test_overview_puts_ring_frequencies_on_their_own_axis_and_both_corners():
         assert not any("ring" in t for t in texts)
 
 
+def _many_rows(n: int) -> list:
+    """n stages (every seventh a snubber ring, every fifth failing), corners decades apart."""
+    return [{"label": f"s{i}", "kind": "ring" if i % 7 == 3 else "corner",
+             "status": "fail" if i % 5 == 0 else "pass",
+             "nominal": 10.0 ** (1 + i % 6), "min": 0.9 * 10.0 ** (1 + i % 6),
+             "max": 1.1 * 10.0 ** (1 + i % 6)} for i in range(n)]
+
+
+@pytest.mark.parametrize("n, sizes", [(1, [1]), (25, [25]), (26, [13, 13]), (40, [20, 20]),
+                                      (51, [17, 17, 17]), (60, [20, 20, 20])])
+def test_overview_takes_as_many_charts_as_fit_a_page(n, sizes):
+    # At most OVERVIEW_ROWS rows a chart, dealt out in order and as evenly as can be;
+    # each chart no taller than the 10 in that fit under a heading on an A4 page at the
+    # note's 88 % width (16 cm wide at 0.96 of its size: 244 mm of the 259 mm body).
+    from rcdoc.note.charts import PNG_DPI
+    from rcdoc.note.charts_time import corner_overview_pages
+    from PIL import Image
+    import io
+    rows = _many_rows(n)
+    charts = corner_overview_pages("many", rows)
+    assert len(charts) == len(sizes)
+    heights = [Image.open(io.BytesIO(c)).size[1] / PNG_DPI for c in charts]
+    assert max(heights) <= 10.0, heights
+    # The rows of each chart are its own: their labels, in order, and no other.
+    from rcdoc.note.charts import _styled
+    from rcdoc.note.charts_time import _overview_figure, _overview_rows
+    parsed = _overview_rows(rows)
+    start = 0
+    for size in sizes:
+        with _styled("many-rows"):
+            fig = _overview_figure(parsed[start:start + size])
+            labels = [t.get_text() for ax in fig.axes for t in ax.get_yticklabels()]
+        piece = parsed[start:start + size]
+        assert sorted(labels) == sorted(p[0] for p in piece)
+        start += size
+    assert start == n
+
+
+def test_overview_headings_name_the_stages_of_each_chart():
+    from rcdoc.note.charts_time import corner_overview_pages
+    from rcdoc.note.page import overview_titles
+    labels = [r["label"] for r in _many_rows(51)]
+    assert overview_titles(labels[:7], 1) == ["Corner, notch and ring frequencies of all stages"]
+    count = len(corner_overview_pages("titles", _many_rows(51)))
+    assert overview_titles(labels, count) == [
+        f"Corner, notch and ring frequencies, stages s{a} to s{b}"
+        for a, b in ((0, 16), (17, 33), (34, 50))]
+
+
+def test_overview_charts_of_one_board_share_their_axes():
+    # A chart whose rows span one decade still spans every row's frequencies: the charts
+    # of a board read as one.
+    from rcdoc.note.charts import _styled
+    from rcdoc.note.charts_time import _overview_figure, _overview_limits, _overview_rows
+    parsed = _overview_rows(_many_rows(40))
+    filters = [p for p in parsed if p[2] == "filter"]
+    whole = _overview_limits(filters)
+    # 9 Hz ... 1.1 MHz: half a decade beyond each end, rounded out to whole decades.
+    assert whole == (1.0, 1e7)
+    narrow = [p for p in filters if p[3][0][1] == 100.0]
+    assert _overview_limits(narrow) == (10.0, 1e3)     # 90 Hz ... 110 Hz
+    with _styled("shared"):
+        fig = _overview_figure(narrow, {"filter": whole})
+        assert fig.axes[0].get_xlim() == pytest.approx(whole)
+
+
 def test_overview_rejects_an_unknown_kind():
     with pytest.raises(ValueError, match="kind"):
         charts_time.corner_overview("x", [{"label": "a", "kind": "pole", "nominal": 1.0,

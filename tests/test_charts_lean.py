@@ -85,7 +85,7 @@ def test_spans_lines_and_bars_equal_matplotlibs_calls(monkeypatch):
         assert a == b, f"chart {i} differs from matplotlib's spans, lines and stairs"
 
 
-def _overview_axis_per_row(ax, group, xlabel):
+def _overview_axis_per_row(ax, group, xlabel, limits):
     """The drawing replaced: a line and a marker per frequency of each row."""
     charts_time._grid(ax)
     for i, (_, status, _, freqs) in enumerate(group):
@@ -99,10 +99,7 @@ def _overview_axis_per_row(ax, group, xlabel):
             ax.annotate(word + _eng(nom, "Hz"), xy=(f_min if left else f_max, i),
                         xytext=(-6 if left else 6, 0), textcoords="offset points",
                         ha="right" if left else "left", va="center", color=pal.INK, zorder=4)
-    lo = min(q[2] for p in group for q in p[3])
-    hi = max(q[3] for p in group for q in p[3])
-    x_lo = 10.0 ** np.floor(np.log10(lo) - 0.5)
-    x_hi = 10.0 ** np.ceil(np.log10(hi) + 0.5)
+    x_lo, x_hi = limits
     ax.set_xscale("log")
     ax.set_xlim(x_lo, x_hi)
     charts_time._log_axis(ax.xaxis, x_lo, x_hi)

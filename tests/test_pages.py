@@ -230,3 +230,77 @@ def test_no_word_runs_into_another(board, request):
                     overlaps.append((number, aw, bw))
     assert checked > 2000
     assert not overlaps, overlaps[:10]
+
+
+# Top and bottom page margins of templates/note.css (@page margin), in points.
+_TOP_MARGIN_PT, _BOTTOM_MARGIN_PT = 20 / 25.4 * 72, 18 / 25.4 * 72
+
+
+def _image_boxes(reader) -> list[list[tuple[float, float, float, float]]]:
+    """Each page's images as (x0, y0, x1, y1) in points: the unit square an image
+    fills, through the transformation in force where the page draws it (PDF 32000-1,
+    8.9.4); form XObjects (the page-number overlay) are not images."""
+    pages = []
+    for page in reader.pages:
+        xobjects = page.get("/Resources", {}).get("/XObject", {})
+        boxes = []
+
+        def before(op, args, cm, tm, boxes=boxes, xobjects=xobjects):
+            if op == b"Do" and xobjects[args[0]].get("/Subtype") == "/Image":
+                a, b, c, d, e, f = cm
+                xs, ys = (e, e + a, e + c, e + a + c), (f, f + b, f + d, f + b + d)
+                boxes.append((min(xs), min(ys), max(xs), max(ys)))
+
+        page.extract_text(visitor_operand_before=before)
+        pages.append(boxes)
+    return pages
+
+
+def _outside_body(reader) -> list:
+    return [(number, [round(v) for v in box])
+            for number, (page, boxes) in enumerate(zip(reader.pages, _image_boxes(reader)), 1)
+            for box in boxes
+            if box[0] < _SIDE_MARGIN_PT - 0.5 or box[2] > float(page.mediabox.width) - _SIDE_MARGIN_PT + 0.5
+            or box[1] < _BOTTOM_MARGIN_PT - 0.5
+            or box[3] > float(page.mediabox.height) - _TOP_MARGIN_PT + 0.5]
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("board", ["pages", "all_kinds_pages"])
+def test_charts_stay_within_the_page_body(board, request):
+    # No chart reaches into a margin, over the running header or the footer.
+    reader = pypdf.PdfReader(request.getfixturevalue(board)[0]["pdf"])
+    assert sum(map(len, _image_boxes(reader))) > 20         # the images were found
+    assert not _outside_body(reader)
+
+
+def test_summary_chart_of_many_stages_fits_its_pages():
+    # 60 stages: the summary chart in three charts of 20, each on a page with its
+    # heading, inside the page body. (One chart of 60 rows was 19 in tall: it ran
+    # over the footer and off the page, its heading alone on the page before.)
+    import io
+
+    from rcdoc.note import assemble, charts_time
+    from rcdoc.note.page import _overview_keys
+    rows = [{"label": f"s{i}", "kind": "ring" if i % 7 == 3 else "corner",
+             "status": "fail" if i % 5 == 0 else "pass", "nominal": 10.0 ** (1 + i % 6),
+             "min": 0.9 * 10.0 ** (1 + i % 6), "max": 1.1 * 10.0 ** (1 + i % 6)}
+            for i in range(60)]
+    charts = [{"image": im, "title": f"Stage frequencies, part {k + 1}"}
+              for k, im in enumerate(charts_time.corner_overview_pages("many", rows))]
+    context = {"title": "Design note: Many rev A", "generator": "rcdoc test",
+               "board": {"name": "Many", "revision": "A", "date": "2026-01-01", "authors": [],
+                         "notes": []},
+               "status": "fail", "analysis": [],
+               "summary": {"columns": ["Stage", "Verdict"],
+                           "rows": [{"id": r["label"], "cells": [r["label"], r["status"]]}
+                                    for r in rows]},
+               **_overview_keys(charts), "stages": [], "appendix": [], "changes": None}
+    reader = pypdf.PdfReader(io.BytesIO(assemble.render_part(context, "front")["pdf"]))
+    boxes = _image_boxes(reader)
+    assert sum(map(len, boxes)) == 3
+    assert not _outside_body(reader)
+    for k in range(3):
+        heading = next(i for i, page in enumerate(reader.pages)
+                       if f"Stage frequencies, part {k + 1}" in page.extract_text())
+        assert len(boxes[heading]) == 1, f"chart {k + 1} is not on the page of its heading"

@@ -95,9 +95,9 @@ def _early_front(project: Project, results, part_job, note_parts: dict) -> tuple
     under the key render_note computes; filed in ``note_parts`` for it. A front
     that cannot be rendered here is left to write_outputs, which reports why."""
     from rcdoc.note.assemble import context_key, front_context, render_part
-    from rcdoc.note.page import note_context, overview_image, stage_head
+    from rcdoc.note.page import note_context, overview_images, stage_head
     _head, dirs, project_dir, epoch, _key = part_job
-    overview = (overview_image(results),)
+    overview = (overview_images(results),)
     context = front_context(note_context(project, results, overview=overview,
                                          stage_contexts=[stage_head(r) for r in results]), dirs)
     key = context_key(context, "front", template_dirs=dirs, source_date_epoch=epoch,

@@ -274,7 +274,7 @@ def _head(context: Mapping) -> dict:
     part does not change when another stage does."""
     return {"title": context.get("title", ""), "generator": context.get("generator", ""),
             "board": context.get("board", {}), "status": "pass", "analysis": [],
-            "summary": {}, "overview_image": None, "appendix": []}
+            "summary": {}, "overview_image": None, "overview_images": [], "appendix": []}
 
 
 def stage_part(head: Mapping, stage_context: Mapping, *, template_dirs=(), project_dir=None,

@@ -284,15 +284,54 @@ def corner_overview(fig_id: str, rows: Sequence[Mapping], title: str = "", *, fm
         return _finish(_overview_figure(parsed), fig_id, title, fmt)
 
 
-def _overview_figure(parsed: list):
-    """The figure of corner_overview from its checked rows (inside the chart style)."""
+#: The most rows of one summary chart. The chart is 0.75 + 0.45 in per axis + 0.3 in
+#: per row tall: 25 rows on both axes make 9.2 in, shown at 0.96 of that (88 % of the
+#: A4 text width) 224 mm, which leaves its heading room on a page of 259 mm.
+OVERVIEW_ROWS = 25
+
+
+def corner_overview_pages(fig_id: str, rows: Sequence[Mapping], *, per_chart: int = OVERVIEW_ROWS,
+                          fmt: str = "png") -> list:
+    """corner_overview in charts of at most ``per_chart`` rows each (the rows in
+    order, the charts as even as can be), so that each fits a page: a board of 40
+    stages gives two charts of 20. Every chart of an axis spans the frequencies of
+    all the rows on that axis, so the charts read as one."""
+    _check_fig_id(fig_id)
+    if per_chart < 1:
+        raise ValueError(f"per_chart must be at least 1, got {per_chart}")
+    parsed = _overview_rows(rows)
+    count = -(-len(parsed) // per_chart)
+    size = -(-len(parsed) // count)
+    limits = {axis: _overview_limits([p for p in parsed if p[2] == axis])
+              for axis in _AXIS_LABEL if any(p[2] == axis for p in parsed)}
+    charts = []
+    for k in range(count):
+        piece_id = fig_id if count == 1 else f"{fig_id}-{k + 1}"
+        with _styled(piece_id):
+            charts.append(_finish(_overview_figure(parsed[k * size:(k + 1) * size], limits),
+                                  piece_id, "", fmt))
+    return charts
+
+
+def _overview_limits(group: list) -> tuple[float, float]:
+    """The log axis of a group of rows: at least a decade beyond its lowest and
+    highest frequency (single stages stay readable, values have room)."""
+    lo = min(q[2] for p in group for q in p[3])
+    hi = max(q[3] for p in group for q in p[3])
+    return 10.0 ** math.floor(math.log10(lo) - 0.5), 10.0 ** math.ceil(math.log10(hi) + 0.5)
+
+
+def _overview_figure(parsed: list, limits: Mapping | None = None):
+    """The figure of corner_overview from its checked rows (inside the chart style);
+    ``limits``: each axis's (low, high) frequency, else the rows' own."""
     groups = [(axis, [p for p in parsed if p[2] == axis]) for axis in _AXIS_LABEL]
     groups = [(axis, g) for axis, g in groups if g]
     fig = _new_figure(0.75 + 0.45 * len(groups) + 0.3 * len(parsed))
     axes = fig.subplots(len(groups), 1, squeeze=False,
                         height_ratios=[len(g) + 1.5 for _, g in groups])[:, 0]
     for ax, (axis, group) in zip(axes, groups):
-        _overview_axis(ax, group, _AXIS_LABEL[axis])
+        _overview_axis(ax, group, _AXIS_LABEL[axis],
+                       (limits or {}).get(axis) or _overview_limits(group))
     handles = []
     for status, color in (("pass", pal.PASS), ("fail", pal.FAIL)):
         if any(p[1] == status for p in parsed):
@@ -303,8 +342,9 @@ def _overview_figure(parsed: list):
     return fig
 
 
-def _overview_axis(ax, group: list, xlabel: str) -> None:
-    """The rows of one kind of frequency on a log axis of their own."""
+def _overview_axis(ax, group: list, xlabel: str, limits: tuple[float, float]) -> None:
+    """The rows of one kind of frequency on a log axis of their own, from
+    ``limits[0]`` to ``limits[1]`` Hz."""
     _grid(ax)
     # The ranges and the nominal markers of a status are one line each (the pieces apart,
     # NaN between them), not one per row: rows do not overlap, so the pixels are those of
@@ -331,11 +371,7 @@ def _overview_axis(ax, group: list, xlabel: str) -> None:
         # Shape as well as colour: a circle passes, a cross fails (readable in grey print).
         ax.plot(*nominals[status], marker=_STATUS_MARKER[status], markersize=5.5, color=color,
                 markeredgewidth=1.8, linestyle="none", zorder=3)
-    lo = min(q[2] for p in group for q in p[3])
-    hi = max(q[3] for p in group for q in p[3])
-    # At least a decade on each side keeps single stages readable and leaves room for values.
-    x_lo = 10.0 ** math.floor(math.log10(lo) - 0.5)
-    x_hi = 10.0 ** math.ceil(math.log10(hi) + 0.5)
+    x_lo, x_hi = limits
     ax.set_xscale("log")
     ax.set_xlim(x_lo, x_hi)
     _log_axis(ax.xaxis, x_lo, x_hi)

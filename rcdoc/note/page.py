@@ -10,6 +10,7 @@ here knows HTML.
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 
 import numpy as np
 
@@ -289,9 +290,12 @@ _OVERVIEW_FREQS = ((("corner_low", "corner_high"), "corner"), (("corner",), "cor
                    (("ring_frequency",), "ring"))
 
 
-def overview_image(results: list[StageResult]) -> str | None:
-    """The summary chart: each stage's corners (both of a band-pass), notch or ring
-    frequency, nominal and Monte Carlo min-max."""
+def overview_images(results: list[StageResult]) -> list[dict]:
+    """The summary chart, in charts that fit a page each (at most
+    charts_time.OVERVIEW_ROWS stages), as the templates get them
+    (``overview_images``: {"image": PNG bytes, "title"}): each stage's corners
+    (both of a band-pass), notch or ring frequency, nominal and Monte Carlo
+    min-max. Empty where no stage has one of them."""
     rows = []
     for r in results:
         for names, kind in _OVERVIEW_FREQS:
@@ -308,8 +312,28 @@ def overview_image(results: list[StageResult]) -> str | None:
                          "status": r.status})
             break
     if not rows:
-        return None
-    return charts_time.corner_overview("board-overview", rows, fmt="png")
+        return []
+    images = charts_time.corner_overview_pages("board-overview", rows, fmt="png")
+    titles = overview_titles([row["label"] for row in rows], len(images))
+    return [{"image": im, "title": t} for im, t in zip(images, titles)]
+
+
+def overview_titles(labels: Sequence[str], charts: int) -> list[str]:
+    """The headings of the summary charts of stages ``labels`` dealt out over
+    ``charts`` charts as charts_time.corner_overview_pages deals them."""
+    if charts == 1:
+        return ["Corner, notch and ring frequencies of all stages"]
+    size = -(-len(labels) // charts)
+    return [f"Corner, notch and ring frequencies, stages {labels[k * size]} to "
+            f"{labels[min(len(labels), (k + 1) * size) - 1]}" for k in range(charts)]
+
+
+def _overview_keys(charts: list[dict]) -> dict:
+    """The context's summary charts: ``overview_images`` (all of them, with their
+    headings) and ``overview_image`` (the first, for templates written before a
+    summary chart could take more than one page)."""
+    return {"overview_images": list(charts),
+            "overview_image": charts[0]["image"] if charts else None}
 
 
 def note_context(project: Project, results: list[StageResult], *, extra_appendix=(),
@@ -318,8 +342,8 @@ def note_context(project: Project, results: list[StageResult], *, extra_appendix
     """The whole note's context. ``stage_contexts`` (one stage_context per result,
     made in worker processes or taken from the build cache) saves drawing them here;
     ``changes`` (rcdoc.commands.since.changes_section) goes right after the summary;
-    ``overview`` (one item: overview_image of these results, drawn already) saves
-    drawing the summary chart again."""
+    ``overview`` (one item: overview_images of these results, drawn already) saves
+    drawing the summary charts again."""
     b = project.board
     a = project.analysis
     t0, t1 = a.temperature_c
@@ -336,7 +360,7 @@ def note_context(project: Project, results: list[StageResult], *, extra_appendix
                      ["Hazardous voltage threshold", fq(b.hazardous_voltage_v, "V")]],
         "summary": {"columns": ["Stage", "Kind", "Key result (spread)", "Checks passed",
                                 "Verdict"], "rows": summary_rows(results)},
-        "overview_image": overview[0] if overview is not None else overview_image(results),
+        **_overview_keys(overview[0] if overview is not None else overview_images(results)),
         "stages": (list(stage_contexts) if stage_contexts is not None
                    else [stage_context(r, project) for r in results]),
         "appendix": list(extra_appendix) + bom_appendix(project) + method_appendix(),

@@ -19,7 +19,9 @@ The context (the pipeline fills it; every string is plain text and is escaped)::
      "analysis": [[label, value], ...],
      "summary": {"columns": [str, ...],
                  "rows": [{"id": stage id, "cells": [str, ...]}, ...]},
-     "overview_image": str | None,
+     "overview_images": [{"image": str | bytes, "title": str}, ...],  # the summary
+                        # chart, one per page (at most 25 stages each)
+     "overview_image": str | bytes | None,    # the first of them (older templates)
      "stages": [{"id": str, "title": str, "kind": str, "status": "pass"|"fail",
                  "notes": [paragraph, ...],
                  "safety": None | {"voltage": "325 V", "head": "Mains voltage: ...",
@@ -42,7 +44,7 @@ first cell (the stage title) links to ``#stage-<id>``. A plain list of cells is
 accepted too; row *i* then links to ``stages[i]``. In every table a cell equal
 to ``"pass"`` or ``"fail"`` becomes a verdict badge and a cell that reads as a
 number (``"10.2 kHz"``, ``"-39.8 dB"``, ``"99.7 %"``) is right-aligned.
-Keys marked ``| None`` (and ``safety``, ``caution``, ``overview_image``, ``appendix``, ``changes``,
+Keys marked ``| None`` (and ``safety``, ``caution``, ``overview_image(s)``, ``appendix``, ``changes``,
 ``caption``, ``width``, ``note``, block ``title``) may also be left out.
 
 Figures are embedded as ``<img src="data:image/svg+xml;base64,...">``: on six
