@@ -52,8 +52,8 @@ def textbook_db(f_hz: np.ndarray) -> np.ndarray:
     return 20 * np.log10(np.abs(h))
 
 
-def nodal_db(f_hz: np.ndarray, r1, r2, r3, c1, c2, c3) -> np.ndarray:
-    """|Vout/Vin| of the unloaded twin-T by nodal analysis (Kirchhoff's current law)
+def nodal_h(f_hz: np.ndarray, r1, r2, r3, c1, c2, c3) -> np.ndarray:
+    """Vout/Vin of the unloaded twin-T by nodal analysis (Kirchhoff's current law)
     at the nodes t (r1-r2-c3), u (c1-c2-r3) and out, with 1 V at the input."""
     s = 2j * np.pi * np.asarray(f_hz, dtype=float)
     g1, g2, g3 = 1 / r1, 1 / r2, 1 / r3
@@ -64,8 +64,32 @@ def nodal_db(f_hz: np.ndarray, r1, r2, r3, c1, c2, c3) -> np.ndarray:
                   np.stack([z, y1 + y2 + g3, -y2], -1),
                   np.stack([-g2 + z, -y2, g2 + y2], -1)], -2)
     b = np.stack([g1 + z, y1, z], -1)[..., None]
-    v = np.linalg.solve(a, b)[..., 0]
-    return 20 * np.log10(np.abs(v[..., 2]))
+    return np.linalg.solve(a, b)[..., 0][..., 2]
+
+
+def nodal_db(f_hz: np.ndarray, r1, r2, r3, c1, c2, c3) -> np.ndarray:
+    """|Vout/Vin| of the unloaded twin-T in dB (nodal_h)."""
+    return 20 * np.log10(np.abs(nodal_h(f_hz, r1, r2, r3, c1, c2, c3)))
+
+
+def test_phase_band_keeps_samples_within_half_a_turn_of_the_nominal(tmp_path):
+    # A twin-T out of balance has its zero pair on one side of the jω axis or the
+    # other: unwrapped along the sweep, the phase above the notch ends near 0° for
+    # R3 2 % high and near −360° for R3 2 % low (the same angle; independent nodal
+    # analysis above). The Bode band shows each sample's phase within half a turn of
+    # the nominal's, so it does not span that whole turn.
+    f = np.geomspace(F0 / 100, F0 * 100, 2001)
+    ends = [np.degrees(np.unwrap(np.angle(nodal_h(f, R, R, k * R / 2, C, C, 2 * C))))[-1]
+            for k in (0.98, 1.02)]
+    assert abs(ends[1] - ends[0]) == pytest.approx(360, abs=10)
+    r = analysed(tmp_path, tolerance="2%", samples=400)
+    nominal = np.degrees(np.unwrap(np.angle(r.h_nominal)))
+    band = r.band
+    for edge in (band.phase_min, band.phase_max, band.phase_lo, band.phase_hi):
+        assert np.all(np.abs(edge - nominal) <= 180 + 1e-3)
+    # Far above the notch every sample's angle is close to the nominal's.
+    assert band.phase_max[-1] - band.phase_min[-1] < 10
+    assert band.phase_min[-1] <= nominal[-1] <= band.phase_max[-1]
 
 
 def test_nodal_solver_matches_the_textbook_balanced_twin_t():
