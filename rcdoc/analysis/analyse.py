@@ -19,7 +19,7 @@ from rcdoc.analysis.alternatives import stage_alternatives
 from rcdoc.analysis import engine
 from rcdoc.input import parts as partmodels
 from rcdoc.analysis import spread
-from rcdoc.analysis import worstcase
+from rcdoc.analysis import sweep_math, worstcase
 from rcdoc.analysis import poles as polemod
 from rcdoc.analysis.evaluate import Evaluator, db, sweep_for
 from rcdoc.analysis.surroundings import fixed_values
@@ -234,7 +234,7 @@ def _gather_spread(s: _Setup, g: _Gathered, ev: Evaluator, mc_idx: np.ndarray) -
     # extremes taken in radians: degrees are a monotone scaling (the same numbers).
     span = mc_idx[-1] + 1 - mc_idx[0] == mc_idx.size
     sel = slice(mc_idx[0], mc_idx[-1] + 1) if span else mc_idx
-    gain, ph = ev.gain_db[sel], _near_nominal(ev.phase_unwrapped[sel], g.h_nominal)
+    gain, ph = ev.gain_db[sel], sweep_math.near_reference(ev.phase_unwrapped[sel], g.h_nominal)
     g.band_env.merge(gain.min(axis=0), gain.max(axis=0),
                      np.degrees(ph.min(axis=0)), np.degrees(ph.max(axis=0)))
     if sum(x.shape[1] for x in g.gains) < BAND_SAMPLES:
@@ -321,22 +321,6 @@ def _waveforms(s: _Setup, g: _Gathered, nominal_unstable: bool):
                     mean=float(y0.mean()),
                     input=np.where(t < d.duty / d.frequency_hz, d.amplitude_v, 0.0))
     return step, pwm
-
-
-def _near_nominal(phase: np.ndarray, h_nominal: np.ndarray) -> np.ndarray:
-    """Each sample's unwrapped phase (radians, rows by frequencies) moved by whole
-    turns to within half a turn of the nominal's at each frequency: the same
-    angle. A zero that sits on one side of the jω axis in some samples and on
-    the other in the rest (a twin-T notch) turns the phase by +180° in the ones
-    and −180° in the others, so unwrapped they end a whole turn apart above it;
-    a band over them drew every angle in between, which no sample has. The
-    metrics keep the phase unwrapped from the passband."""
-    ref = np.unwrap(np.angle(h_nominal))
-    # Where the nominal's phase is not a number, the samples' stay as they are.
-    turns = np.round(np.nan_to_num((phase - ref) / (2 * np.pi), nan=0.0, posinf=0.0, neginf=0.0))
-    if not turns.any():
-        return phase
-    return phase - (2 * np.pi) * turns
 
 
 def _response_band(g: _Gathered) -> ResponseBand:

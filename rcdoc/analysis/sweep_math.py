@@ -7,7 +7,8 @@ a response with at most two poles and two zeros from the closed-form root of
 |N(jω)|² = t·|D(jω)|² (a quadratic in ω²) instead of a bisection.
 
 What it must not do: change a number beyond rounding. Each function states
-the method it replaces; tests/test_sweep_math.py compares them.
+the method it replaces; tests/test_sweep_math.py compares them. (``near_reference``
+replaces nothing: it is how the Bode band shows a phase, tests/test_notch.py.)
 """
 
 from __future__ import annotations
@@ -280,3 +281,19 @@ def newton_peak(response, rows: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.
             g_end, _ = sub.db_slope(np.exp(x))
             out[inner] = np.where(done, np.fmax(g, g_end), np.nan)
     return out
+
+
+def near_reference(phase: np.ndarray, h_nominal: np.ndarray) -> np.ndarray:
+    """Each sample's unwrapped phase (radians, rows by frequencies) moved by whole
+    turns to within half a turn of the nominal's at each frequency: the same
+    angle. A zero that sits on one side of the jω axis in some samples and on
+    the other in the rest (a twin-T notch) turns the phase by +180° in the ones
+    and −180° in the others, so unwrapped they end a whole turn apart above it;
+    a band over them drew every angle in between, which no sample has. The
+    metrics keep the phase unwrapped from the passband."""
+    ref = np.unwrap(np.angle(h_nominal))
+    # Where the nominal's phase is not a number, the samples' stay as they are.
+    turns = np.round(np.nan_to_num((phase - ref) / _TURN, nan=0.0, posinf=0.0, neginf=0.0))
+    if not turns.any():
+        return phase
+    return phase - _TURN * turns
