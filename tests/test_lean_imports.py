@@ -292,3 +292,42 @@ def test_example_note_has_the_same_bytes(tmp_path):
     for suffix in (".pdf", ".json"):
         lean, plain = ((outs[m] / (name + suffix)).read_bytes() for m in ("lean", "plain"))
         assert len(lean) > 10_000 and lean == plain
+
+
+COMPILED_FFI = r'''
+import rcdoc.note.renderer_libs
+import weasyprint, weasyprint.text.ffi as F
+print(type(F.ffi).__module__, type(F.ffi).__name__)
+pdf = weasyprint.HTML(string="<p>Ω <b>bold</b></p><table><tr><td>1</td></tr></table>").write_pdf()
+print("pdf", len(pdf) > 1000, "pycparser" in sys.modules)
+'''
+
+
+def test_weasyprint_gets_the_compiled_ffi_and_never_parses_c():
+    # With the step, weasyprint's FFI is cffi's compiled (out-of-line) one and pycparser
+    # is never imported, not even for the type strings a document's layout names; the
+    # same document's bytes are compared with weasyprint's own import in
+    # test_example_note_has_the_same_bytes.
+    lean, plain = _run(COMPILED_FFI, "lean").stdout, _run(COMPILED_FFI, "plain").stdout
+    assert lean.splitlines() == ["_cffi_backend FFI", "pdf True False"]
+    assert plain.splitlines() == ["cffi.api FFI", "pdf True True"]
+
+
+def test_compiled_ffi_is_the_one_the_tool_writes(tmp_path):
+    # rcdoc/note/_weasyprint_ffi.py is what tools/weasyprint_ffi.py makes from the
+    # installed weasyprint's text/ffi.py with the installed cffi (both pinned by
+    # lean_imports; elsewhere the step stays off and this has nothing to compare).
+    import importlib
+
+    from rcdoc.note import lean_imports
+    if not (lean_imports._version_is(*lean_imports._WEASYPRINT)
+            and lean_imports._version_is(*lean_imports._CFFI)):
+        pytest.skip("another weasyprint or cffi: the compiled FFI is not used")
+    sys.path.insert(0, str(REPO / "tools"))
+    try:
+        tool = importlib.import_module("weasyprint_ffi")
+    finally:
+        sys.path.remove(str(REPO / "tools"))
+    digest = tool.generate(tmp_path / "fresh.py")
+    assert digest == lean_imports._FFI_SOURCE
+    assert (tmp_path / "fresh.py").read_bytes() == tool.TARGET.read_bytes()

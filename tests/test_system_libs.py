@@ -4,8 +4,8 @@
 it, in one line on stderr, exit status 2, nothing on stdout, nothing written;
 `rcdoc check` works without the renderer at all. Each case runs in a fresh
 interpreter, where the library is made to fail as it would on such a machine:
-cffi's own dlopen is asked for a file that does not exist (its real error
-message), Fontconfig is given a configuration with no font folder, or the
+cffi's own dlopen (and the compiled FFI's, rcdoc.note.lean_imports) is asked
+for a file that does not exist (its real error message), Fontconfig is given a configuration with no font folder, or the
 weasyprint package is blocked (sys.modules['weasyprint'] = None).
 The package names are checked against the system's package database (dpkg -S)
 where there is one.
@@ -64,6 +64,14 @@ elif BREAK:
             name = str(name) + ".not-installed"
         return _dlopen(self, name, *args)
     cffi.FFI.dlopen = dlopen
+    # weasyprint's compiled FFI (rcdoc.note.lean_imports) opens them here.
+    import rcdoc.note.lean_imports as lean
+    _open = lean._open_library
+    def open_library(ffi, name, flags):
+        if BREAK in str(name):
+            name = str(name) + ".not-installed"
+        return _open(ffi, name, flags)
+    lean._open_library = open_library
 """
 
 COMMAND = PRELUDE + """

@@ -35,6 +35,16 @@ bench/imports.py, some of it is for things the note never asks for:
   the note draws schematics with its SVG backend only. Here that backend is
   missing while schemdraw is imported (schemdraw expects it may; its default
   canvas is then SVG, which rcdoc.note.schematic asks for anyway).
+- weasyprint 70 declares the C functions and types of Pango, HarfBuzz,
+  fontconfig and GObject with cffi when ``weasyprint.text.ffi`` is imported:
+  pycparser (imported for it) parses 16 kB of C, and parses again each type
+  string weasyprint's code names on first use (``ffi.new("PangoRectangle *")``):
+  0.04 s at import and 0.06 s in a worker's first part. Here, where that file
+  is byte for byte the one of weasyprint 70.0 and cffi is 2.0.0, weasyprint gets
+  the same declarations compiled ahead by cffi (its out-of-line ABI mode:
+  ``rcdoc/note/_weasyprint_ffi.py``, written by tools/weasyprint_ffi.py), whose
+  types cffi reads from its own tables without pycparser; the libraries are
+  opened by the same names and flags.
 - ziamath 0.13 reads its default math font (STIX Two Math) and compiles its
   table of MathML escapes (2000 names in one regular expression) when
   imported: 0.1 s. Schematic labels are plain text, outlined with a text font
@@ -69,6 +79,9 @@ _WEASYPRINT = ("weasyprint", "70.0")
 _MATPLOTLIB = ("matplotlib", "3.11.2")
 _SCHEMDRAW = ("schemdraw", "0.23")
 _ZIAMATH = ("ziamath", "0.13")
+_CFFI = ("cffi", "2.0.0")
+# weasyprint 70.0's text/ffi.py (sha256), from which rcdoc/note/_weasyprint_ffi.py was made.
+_FFI_SOURCE = "530e83118f7841d2791678ece23d5e43a7a24150ee1ea64bb4ba70c70b3eb5da"
 
 _DONE: list[bool] = []          # install has run in this process
 
@@ -84,6 +97,8 @@ def install() -> None:
         _around("weasyprint.html", _deferred_sheets)
         _lazy("fontTools.subset")
         _around("weasyprint.pdf.fonts", _deferred_instancer)
+        if _version_is(*_CFFI):
+            _around("weasyprint.text.ffi", _prebuilt_ffi)
     if _version_is(*_MATPLOTLIB):
         _around("matplotlib.projections", _without_3d)
         _around("matplotlib.artist", _artist_docs_kept)
@@ -251,6 +266,55 @@ def _deferred_sheets(module):
         package.CSS = real
         if module.__dict__.get("CSS") is sheet:
             module.CSS = real
+
+
+def _open_library(ffi, name, flags):
+    """``ffi.dlopen(name, flags)``: one place that opens weasyprint's libraries
+    through the compiled FFI (tests/test_system_libs.py makes it fail as a
+    missing library does)."""
+    return ffi.dlopen(name, flags)
+
+
+@contextlib.contextmanager
+def _prebuilt_ffi(module):
+    """weasyprint.text.ffi makes ``ffi = cffi.FFI()``, declares its C with
+    ``ffi.cdef(...)`` and opens each library with ``ffi.dlopen``. While it runs,
+    ``cffi.FFI()`` gives a stand-in: its ``cdef`` declares nothing (the compiled
+    FFI holds those declarations: the file is checked to be the one it was made
+    from), ``dlopen`` and the rest are the compiled FFI's; afterwards the
+    module's ``ffi`` is the compiled FFI itself, which every other module of
+    weasyprint imports from it."""
+    import hashlib
+    try:
+        with open(module.__spec__.origin, "rb") as fh:
+            same = hashlib.sha256(fh.read()).hexdigest() == _FFI_SOURCE
+    except (OSError, TypeError):
+        same = False
+    if not same:
+        yield
+        return
+    import cffi
+
+    from rcdoc.note._weasyprint_ffi import ffi as compiled
+
+    class StandIn:
+        def cdef(self, source, *args, **kwargs):
+            """Declared already, in the compiled FFI."""
+
+        def dlopen(self, name, flags=0):
+            return _open_library(compiled, name, flags)
+
+        def __getattr__(self, name):
+            return getattr(compiled, name)
+
+    real = cffi.FFI
+    cffi.FFI = StandIn
+    try:
+        yield
+    finally:
+        cffi.FFI = real
+    if isinstance(module.__dict__.get("ffi"), StandIn):
+        module.ffi = compiled
 
 
 def _instantiate_variable_font(*args, **kwargs):
