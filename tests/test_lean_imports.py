@@ -331,3 +331,22 @@ def test_compiled_ffi_is_the_one_the_tool_writes(tmp_path):
     digest = tool.generate(tmp_path / "fresh.py")
     assert digest == lean_imports._FFI_SOURCE
     assert (tmp_path / "fresh.py").read_bytes() == tool.TARGET.read_bytes()
+
+
+def test_compiled_ffi_keeps_its_libraries_loaded():
+    # A library the compiled FFI opened is unmapped when its Lib object is freed; at the
+    # interpreter's exit that came before objects whose destructors live in it (the
+    # suite's process ended in a segmentation fault in its last garbage collection).
+    # Each is opened with RTLD_NODELETE beside weasyprint's own flags (dlopen(3)).
+    from rcdoc.note import lean_imports
+    from rcdoc.note._weasyprint_ffi import ffi
+
+    class Recording:
+        RTLD_NODELETE = ffi.RTLD_NODELETE
+
+        def dlopen(self, name, flags):
+            return name, flags
+
+    assert lean_imports._open_library(Recording(), "libpango-1.0.so.0", ffi.RTLD_NOW) == (
+        "libpango-1.0.so.0", ffi.RTLD_NOW | ffi.RTLD_NODELETE)
+    assert ffi.RTLD_NODELETE and not ffi.RTLD_NOW & ffi.RTLD_NODELETE

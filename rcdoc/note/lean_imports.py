@@ -271,8 +271,14 @@ def _deferred_sheets(module):
 def _open_library(ffi, name, flags):
     """``ffi.dlopen(name, flags)``: one place that opens weasyprint's libraries
     through the compiled FFI (tests/test_system_libs.py makes it fail as a
-    missing library does)."""
-    return ffi.dlopen(name, flags)
+    missing library does). RTLD_NODELETE where the system has it: a library the
+    compiled FFI opened is closed when its Lib object is freed, which at the
+    interpreter's exit may come before objects whose destructors are in that
+    library: the test suite's process ended in a segmentation fault in its last
+    garbage collection (none with the libraries kept, none with weasyprint's own
+    FFI). weasyprint's libraries stay loaded for the life of the process, as
+    they do anyway."""
+    return ffi.dlopen(name, flags | getattr(ffi, "RTLD_NODELETE", 0))
 
 
 @contextlib.contextmanager
