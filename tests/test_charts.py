@@ -437,6 +437,18 @@ def test_overview_headings_name_the_stages_of_each_chart():
         for a, b in ((0, 16), (17, 33), (34, 50))]
 
 
+def test_overview_row_labels_keep_both_ends_of_a_long_stage_id():
+    # A 62-character stage id as a row label left the summary chart's plot a sliver
+    # (the left margin follows the longest label): at most 24 characters, the start
+    # and the end kept, unless two labels would then read the same.
+    from rcdoc.note.charts_time import _row_labels
+    long_id = "an-extremely-long-stage-identifier-for-layout-testing-purpose-x"
+    assert _row_labels(["lp-1", long_id]) == ["lp-1", "an-extremel…ng-purpose-x"]
+    assert all(len(s) <= 24 for s in _row_labels([long_id, "x" * 24, "y" * 25]))
+    twins = ["sensor-input-filter-channel-" + c + "-a-long-tail-end" for c in "ab"]
+    assert _row_labels(twins) == twins
+
+
 def test_overview_charts_of_one_board_share_their_axes():
     # A chart whose rows span one decade still spans every row's frequencies: the charts
     # of a board read as one.

@@ -342,6 +342,25 @@ def _overview_figure(parsed: list, limits: Mapping | None = None):
     return fig
 
 
+#: The longest row label of the summary chart, in characters: its left margin grows
+#: with the longest label, and a 64-character stage id left the plot a sliver.
+_LABEL_CHARS = 24
+
+
+def _row_labels(labels: Sequence[str], limit: int = _LABEL_CHARS) -> list[str]:
+    """The summary chart's row labels, each at most ``limit`` characters: a longer
+    one keeps its start and its end around an ellipsis (stage ids differ at
+    either end: ``sensor-input-…-channel-2``); where two would then read the
+    same, both stay whole."""
+    head = (limit - 1) // 2
+    tail = limit - 1 - head
+    short = [s if len(s) <= limit else f"{s[:head]}…{s[-tail:]}" for s in labels]
+    seen: dict[str, int] = {}
+    for s in short:
+        seen[s] = seen.get(s, 0) + 1
+    return [s if seen[s] == 1 else full for s, full in zip(short, labels)]
+
+
 def _overview_axis(ax, group: list, xlabel: str, limits: tuple[float, float]) -> None:
     """The rows of one kind of frequency on a log axis of their own, from
     ``limits[0]`` to ``limits[1]`` Hz."""
@@ -377,7 +396,7 @@ def _overview_axis(ax, group: list, xlabel: str, limits: tuple[float, float]) ->
     _log_axis(ax.xaxis, x_lo, x_hi)
     ax.grid(False, which="minor")
     ax.set_ylim(len(group) - 0.4, -0.6)
-    ax.set_yticks(range(len(group)), [p[0] for p in group])
+    ax.set_yticks(range(len(group)), _row_labels([p[0] for p in group]))
     ax.tick_params(axis="y", length=0)
     ax.grid(False, axis="y", which="both")
     ax.set_xlabel(xlabel)
