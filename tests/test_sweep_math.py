@@ -282,3 +282,38 @@ def test_zeros_skipped_only_where_none_is_finite(tmp_path, monkeypatch, kind, ca
     assert np.array_equal(full.response.sweep(ev.freqs_hz), h)
     assert full.response.zeros.shape == ev.response.zeros.shape
     assert ev.response.zeros.shape[1] == (1 if kind == "rc-highpass" else 0)
+
+
+def test_near_reference_moves_whole_turns_only():
+    # The Bode band's phase rule: an entry more than half a turn from the nominal's
+    # unwrapped phase moves by whole turns (the same angle, numpy's own np.angle
+    # of both agrees), a NaN stays, and without such an entry the array is as given.
+    from rcdoc.analysis.sweep_math import near_reference
+    rng = np.random.default_rng(5)
+    h = np.exp(-1j * np.linspace(0.0, 9.0, 301))
+    ref = np.unwrap(np.angle(h))
+    phase = ref + rng.normal(0.0, 0.3, (400, 301))
+    assert near_reference(phase, h) is phase
+    turned = phase + 2 * np.pi * rng.integers(-2, 3, phase.shape)
+    turned[7, 11] = np.nan
+    out = near_reference(turned, h)
+    ok = ~np.isnan(turned)
+    assert np.allclose(out[ok], phase[ok], rtol=0, atol=1e-12) and np.isnan(out[7, 11])
+    assert np.allclose(np.angle(np.exp(1j * out[ok])), np.angle(np.exp(1j * turned[ok])))
+
+
+def test_near_reference_with_the_rows_extremes_gives_the_same():
+    # Given the rows' minimum and maximum, a phase within half a turn everywhere is
+    # returned as it is (no pass over the rows), and any other the same as without.
+    from rcdoc.analysis.sweep_math import near_reference
+    rng = np.random.default_rng(8)
+    h = np.exp(-1j * np.linspace(0.0, 4.0, 101))
+    ref = np.unwrap(np.angle(h))
+    close = ref + rng.normal(0.0, 0.2, (50, 101))
+    assert near_reference(close, h, close.min(axis=0), close.max(axis=0)) is close
+    far = close.copy()
+    far[3, 40:] -= 2 * np.pi
+    far[9, 2] = np.nan
+    lo, hi = np.nanmin(far, axis=0), np.nanmax(far, axis=0)
+    for extremes in ((lo, hi), (far.min(axis=0), far.max(axis=0))):
+        np.testing.assert_array_equal(near_reference(far, h, *extremes), near_reference(far, h))

@@ -234,9 +234,12 @@ def _gather_spread(s: _Setup, g: _Gathered, ev: Evaluator, mc_idx: np.ndarray) -
     # extremes taken in radians: degrees are a monotone scaling (the same numbers).
     span = mc_idx[-1] + 1 - mc_idx[0] == mc_idx.size
     sel = slice(mc_idx[0], mc_idx[-1] + 1) if span else mc_idx
-    gain, ph = ev.gain_db[sel], sweep_math.near_reference(ev.phase_unwrapped[sel], g.h_nominal)
-    g.band_env.merge(gain.min(axis=0), gain.max(axis=0),
-                     np.degrees(ph.min(axis=0)), np.degrees(ph.max(axis=0)))
+    gain, raw = ev.gain_db[sel], ev.phase_unwrapped[sel]
+    lo, hi = raw.min(axis=0), raw.max(axis=0)
+    ph = sweep_math.near_reference(raw, g.h_nominal, lo, hi)
+    if ph is not raw:
+        lo, hi = ph.min(axis=0), ph.max(axis=0)
+    g.band_env.merge(gain.min(axis=0), gain.max(axis=0), np.degrees(lo), np.degrees(hi))
     if sum(x.shape[1] for x in g.gains) < BAND_SAMPLES:
         # Kept as float32, one frequency per contiguous row (the percentiles select
         # along rows); degrees computed in double and rounded once, as before.

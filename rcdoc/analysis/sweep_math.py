@@ -283,17 +283,28 @@ def newton_peak(response, rows: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.
     return out
 
 
-def near_reference(phase: np.ndarray, h_nominal: np.ndarray) -> np.ndarray:
+def near_reference(phase: np.ndarray, h_nominal: np.ndarray, lo: np.ndarray | None = None,
+                   hi: np.ndarray | None = None) -> np.ndarray:
     """Each sample's unwrapped phase (radians, rows by frequencies) moved by whole
     turns to within half a turn of the nominal's at each frequency: the same
     angle. A zero that sits on one side of the jω axis in some samples and on
     the other in the rest (a twin-T notch) turns the phase by +180° in the ones
     and −180° in the others, so unwrapped they end a whole turn apart above it;
     a band over them drew every angle in between, which no sample has. The
-    metrics keep the phase unwrapped from the passband."""
+    metrics keep the phase unwrapped from the passband. ``lo``, ``hi``: the
+    phase's minimum and maximum over the rows, when known: where both lie within
+    half a turn of the nominal's everywhere, no entry can move."""
     ref = np.unwrap(np.angle(h_nominal))
-    # Where the nominal's phase is not a number, the samples' stay as they are.
-    turns = np.round(np.nan_to_num((phase - ref) / _TURN, nan=0.0, posinf=0.0, neginf=0.0))
-    if not turns.any():
+    if lo is not None and hi is not None and not (np.isnan(lo).any() or np.isnan(hi).any()):
+        if not (np.any(hi - ref > np.pi) or np.any(ref - lo > np.pi)):
+            return phase
+    # Only entries more than half a turn away move (a comparison with NaN is
+    # false: where either phase is not a number, nothing moves). Usually none:
+    # one pass, and the array as it came.
+    away = np.abs(phase - ref) > np.pi
+    if not away.any():
         return phase
-    return phase - _TURN * turns
+    rows, cols = np.nonzero(away)
+    out = phase.copy()
+    out[rows, cols] -= _TURN * np.round((phase[rows, cols] - ref[cols]) / _TURN)
+    return out
