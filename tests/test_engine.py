@@ -518,28 +518,3 @@ def test_opamp_without_feedback_has_no_unique_solution():
     )
     with pytest.raises(ProjectError, match="no unique solution"):
         engine.assemble(net, {"r": 1e3, "rl": 1e3})
-
-
-def test_pencil_eigenvalues_from_the_capacitors_columns_equal_numpys_whole():
-    # ac._eigvals_of_product takes the eigenvalues of A⁻¹C from the columns where C
-    # has a capacitor (zero columns of A⁻¹C give zero eigenvalues: a block-triangular
-    # matrix). Reference: numpy.linalg.eigvals of the whole product, the same matrices.
-    from rcdoc.analysis import ac
-    rng = np.random.default_rng(12)
-    S, n = 300, 4
-    A_inv = rng.normal(size=(S, n, n))
-    C = np.zeros((S, n, n))
-    for i, j, v in ((0, 0, 1.0), (0, 2, -1.0), (2, 0, -1.0), (2, 2, 1.0), (3, 3, 1.0)):
-        C[:, i, j] = v * rng.uniform(0.5, 2.0, S)     # capacitors at nodes 0, 2 and 3
-    ours = ac._eigvals_of_product(A_inv, C)
-    numpys = np.linalg.eigvals(A_inv @ C)
-    assert ours.shape == numpys.shape == (S, n)
-    key = lambda z: np.lexsort((z.imag, z.real), axis=-1)    # noqa: E731
-    a = np.take_along_axis(ours, key(ours), axis=-1)
-    b = np.take_along_axis(numpys, key(numpys), axis=-1)
-    scale = np.abs(numpys).max(axis=1, keepdims=True)
-    assert np.all(np.abs(a - b) <= 1e-12 * scale)
-    assert np.count_nonzero(ours == 0, axis=1).min() == 1   # column 1 holds no capacitor
-    full = rng.normal(size=(S, n, n))                       # no zero column: numpy's own
-    np.testing.assert_array_equal(ac._eigvals_of_product(A_inv, full),
-                                  np.linalg.eigvals(A_inv @ full))

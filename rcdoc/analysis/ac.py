@@ -216,25 +216,6 @@ def _norm1(A: np.ndarray) -> np.ndarray:
     return np.max(np.sum(np.abs(np.ascontiguousarray(np.moveaxis(A, 0, -1))), axis=0), axis=0)
 
 
-def _eigvals_of_product(A_inv: np.ndarray, C: np.ndarray) -> np.ndarray:
-    """The eigenvalues of A⁻¹C per matrix, (S, n), from the columns where some C
-    is not zero (K): a column of C that is zero in every matrix is a zero column
-    of A⁻¹C, so that A⁻¹C, its rows and columns taken K first, is block lower
-    triangular with a zero block: its eigenvalues are those of (A⁻¹C)[K, K] =
-    A⁻¹[K, :]·C[:, K] and a zero for every other column. A Sallen-Key's pencil
-    (4 unknowns, capacitors at 3 nodes) needs a 3 × 3 problem per sample
-    instead of a 4 × 4: the eigenvalue solver was a fifth of its sweep."""
-    n = C.shape[-1]
-    cols = np.flatnonzero(np.any(C != 0, axis=(0, 1))) if C.shape[0] else np.arange(n)
-    with np.errstate(all="ignore"):
-        if cols.size == n:
-            return np.linalg.eigvals(A_inv @ C)
-        out = np.zeros(C.shape[:-1], dtype=complex)
-        if cols.size:
-            out[:, :cols.size] = np.linalg.eigvals(A_inv[:, cols, :] @ C[:, :, cols])
-    return out
-
-
 class _Pencil:
     """Per-sample poles of the reduced pencil (kept unknowns), shared by every ratio."""
 
@@ -256,11 +237,13 @@ class _Pencil:
             self.found = np.count_nonzero(np.isfinite(poles), axis=1)
             return
         self.found = None
-        self.poles = _eigvals_of_product(self.A_inv, self.C)
+        with np.errstate(all="ignore"):
+            self.poles = np.linalg.eigvals(self.A_inv @ self.C)
 
     def solve_rows(self, rows: np.ndarray) -> None:
         """The eigenvalues of A⁻¹C of the rows ``rows`` (an index array) solved for."""
-        self.poles[rows] = _eigvals_of_product(self.A_inv[rows], self.C[rows])
+        with np.errstate(all="ignore"):
+            self.poles[rows] = np.linalg.eigvals(self.A_inv[rows] @ self.C[rows])
 
     def zpk(self, o: int, r0: np.ndarray, r1: np.ndarray | None, eigen: bool | float = True):
         """Gain x_o(σ) (S,), zeros as eigenvalues e (S, n) and usable rows for x_o of
@@ -284,7 +267,7 @@ class _Pencil:
                 first = np.linalg.eigvals(Ao_inv[0] @ Co[0])
                 if np.all(np.abs(first) <= 1e-16 * eigen):
                     return x_sigma, none, ok
-        zeros = _eigvals_of_product(Ao_inv, Co)
+            zeros = np.linalg.eigvals(Ao_inv @ Co)
         return x_sigma, zeros, ok
 
     def product(self, gain: np.ndarray | None, eig: np.ndarray, jw: np.ndarray) -> np.ndarray:
