@@ -317,3 +317,37 @@ def test_near_reference_with_the_rows_extremes_gives_the_same():
     lo, hi = np.nanmin(far, axis=0), np.nanmax(far, axis=0)
     for extremes in ((lo, hi), (far.min(axis=0), far.max(axis=0))):
         np.testing.assert_array_equal(near_reference(far, h, *extremes), near_reference(far, h))
+
+
+@pytest.mark.parametrize("dtype", [np.float32, np.float64])
+def test_band_percentiles_from_the_row_before_are_numpys(dtype):
+    # A band's rows (one frequency each) keep their samples' order from row to row,
+    # and row_percentiles then looks for each rank among the samples that held it in
+    # the row before (spread._order_pairs). Rows here: first-order low-pass gains in
+    # dB over a sweep (monotone in the corner at every frequency), the passband's
+    # near-ties, a constant row, rows of quantised values (many exact ties), a row
+    # whose order is reversed and one shuffled (the candidates fail there). Reference:
+    # numpy.percentile, linear method, bit for bit.
+    from rcdoc.analysis import spread
+    rng = np.random.default_rng(21)
+    n = 20000
+    fc = 1e3 * rng.uniform(0.8, 1.2, n)
+    f = np.logspace(0, 6, 120)
+    rows = -10 * np.log10(1 + (f[:, None] / fc[None, :]) ** 2)
+    rows[10] = -3.0
+    rows[40:60] = np.round(rows[40:60], 1)
+    rows[70] = -rows[70]
+    rows[71] = rng.permutation(rows[71])
+    rows = rows.astype(dtype)
+    j = int(np.floor((n - 1) * 0.05))
+    pair = spread._order_pairs(rows, j)
+    assert pair is not None                  # the order carried over: no fallback to all rows
+    sorted_rows = np.sort(rows, axis=1)
+    assert np.array_equal(pair[0], sorted_rows[:, j]) and np.array_equal(pair[1], sorted_rows[:, j + 1])
+    for q in [(5.0, 95.0), (50.0,), (0.5, 99.5)]:
+        ref = np.percentile(rows, q, axis=1)
+        assert np.array_equal(spread.row_percentiles(rows, q), ref)
+    shuffled = np.stack([rng.permutation(rows[-1]) for _ in range(80)])
+    assert spread._order_pairs(shuffled, j) is None         # order lost: partitions instead
+    assert np.array_equal(spread.row_percentiles(shuffled, (5.0, 95.0)),
+                          np.percentile(shuffled, (5.0, 95.0), axis=1))

@@ -145,15 +145,69 @@ def column_percentiles(a: np.ndarray, q: tuple[float, ...]) -> np.ndarray:
     return row_percentiles(transposed(a), q)
 
 
+# From this many samples a row's order statistics are found from the samples that held
+# those ranks in the row before (_order_pairs); below it, by a partition of each row.
+_WINDOW_MIN = 2000
+_WINDOW = 48               # ranks kept on either side of the one sought
+
+
+def _order_pairs(rows: np.ndarray, j: int) -> tuple[np.ndarray, np.ndarray] | None:
+    """Order statistics j and j + 1 (0-based) of every row of ``rows`` (frequencies
+    by samples, no NaN), exactly; None where the rows do not keep their samples'
+    order from one to the next (a partition of each is then cheaper).
+
+    A band's rows are one frequency each: a sample's rank barely moves from one
+    frequency to the next. So the samples that held ranks j ± _WINDOW in the row
+    before are taken as candidates, and two counts over the row check them: with
+    L and U their lowest and highest value, if the row has exactly as many values
+    in [L, U] as there are candidates, the candidates are those values, and the
+    row's sorted order is the values below L, then the candidates sorted, then the
+    values above U. Where ranks j and j + 1 fall among them, they are read off the
+    candidates' sorted values (ties included: every value equal to L or U is
+    counted); otherwise the row is partitioned in full, which also gives the next
+    row's candidates. Each answer is the order statistic itself, as numpy's
+    partition gives it."""
+    R, n = rows.shape
+    lo = np.empty(R, dtype=rows.dtype)
+    hi = np.empty(R, dtype=rows.dtype)
+    first, last = max(0, j - _WINDOW), min(n - 1, j + 1 + _WINDOW)
+    kth = sorted({first, j, j + 1, last})
+    cand = None
+    full = 0
+    for i in range(R):
+        row = rows[i]
+        if cand is not None:
+            vals = row[cand]
+            below = np.count_nonzero(row < vals.min())
+            upto = np.count_nonzero(row <= vals.max())
+            if upto - below == cand.size and below <= j and j + 1 < upto:
+                order = np.argsort(vals, kind="stable")
+                k = j - below
+                lo[i], hi[i] = vals[order[k]], vals[order[k + 1]]
+                a, b = k - _WINDOW, k + 1 + _WINDOW
+                if a >= 0 and b < cand.size:
+                    cand = cand[order[a:b + 1]]
+                    continue
+        full += 1
+        if full > 32 and 2 * full > i:         # the order does not carry over: partition
+            return None
+        idx = np.argpartition(row, kth)
+        lo[i], hi[i] = row[idx[j]], row[idx[j + 1]]
+        cand = idx[first:last + 1]
+    return lo, hi
+
+
 def row_percentiles(rows: np.ndarray, q: tuple[float, ...], overwrite: bool = False) -> np.ndarray:
     """np.percentile(rows, q, axis=1) (linear method), with the same values, faster.
 
     numpy partitions for several ranks at once with a generic selection; here
-    each rank pair is found by one single-rank partition of the contiguous rows
-    (numpy's vectorised path) and the minimum above it, then interpolated with
-    numpy's own arithmetic (virtual index (n − 1)·q and its lerp). An order
-    statistic is one value whatever the selection, so the result is identical;
-    rows with NaN, few samples or a rank at an end take np.percentile.
+    each rank pair is found among the samples that held it in the row before
+    (_order_pairs, from _WINDOW_MIN samples), or by one single-rank partition of
+    the contiguous rows (numpy's vectorised path) and the minimum above it, then
+    interpolated with numpy's own arithmetic (virtual index (n − 1)·q and its
+    lerp). An order statistic is one value whatever the selection, so the result
+    is identical; rows with NaN, few samples or a rank at an end take
+    np.percentile.
     ``overwrite``: ``rows`` (contiguous) may be reordered within each row.
     """
     rows = np.asarray(rows)
@@ -166,12 +220,18 @@ def row_percentiles(rows: np.ndarray, q: tuple[float, ...], overwrite: bool = Fa
     gamma = virtual - prev
     if np.any(prev < 0) or np.any(prev >= n - 1):       # a rank at an end: numpy's path
         return np.percentile(rows, q, axis=1)
-    work = rows if overwrite and rows.flags.c_contiguous else np.array(rows, order="C")
     out = np.empty((len(qs), rows.shape[0]), dtype=np.result_type(rows.dtype, gamma.dtype))
+    work = None
     for k, (j, t) in enumerate(zip(prev, gamma)):
-        work.partition(j, axis=1)
-        lo = work[:, j].copy()
-        hi = work[:, j + 1:].min(axis=1)
+        pair = _order_pairs(rows, int(j)) if n >= _WINDOW_MIN else None
+        if pair is not None:
+            lo, hi = pair
+        else:
+            if work is None:
+                work = rows if overwrite and rows.flags.c_contiguous else np.array(rows, order="C")
+            work.partition(j, axis=1)
+            lo = work[:, j].copy()
+            hi = work[:, j + 1:].min(axis=1)
         diff = hi - lo                                  # numpy's _lerp, step by step
         res = np.add(lo, diff * t)
         if t >= 0.5:
