@@ -430,9 +430,9 @@ def test_overview_headings_name_the_stages_of_each_chart():
     from rcdoc.note.charts_time import corner_overview_pages
     from rcdoc.note.page import overview_titles
     labels = [r["label"] for r in _many_rows(51)]
-    assert overview_titles(labels[:7], 1) == ["Corner, notch and ring frequencies of all stages"]
-    count = len(corner_overview_pages("titles", _many_rows(51)))
-    assert overview_titles(labels, count) == [
+    assert overview_titles(labels[:7]) == ["Corner, notch and ring frequencies of all stages"]
+    assert len(corner_overview_pages("titles", _many_rows(51))) == 3
+    assert overview_titles(labels) == [
         f"Corner, notch and ring frequencies, stages s{a} to s{b}"
         for a, b in ((0, 16), (17, 33), (34, 50))]
 

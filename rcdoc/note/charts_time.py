@@ -297,20 +297,26 @@ def corner_overview_pages(fig_id: str, rows: Sequence[Mapping], *, per_chart: in
     stages gives two charts of 20. Every chart of an axis spans the frequencies of
     all the rows on that axis, so the charts read as one."""
     _check_fig_id(fig_id)
-    if per_chart < 1:
-        raise ValueError(f"per_chart must be at least 1, got {per_chart}")
     parsed = _overview_rows(rows)
-    count = -(-len(parsed) // per_chart)
-    size = -(-len(parsed) // count)
+    pieces = overview_slices(len(parsed), per_chart)
     limits = {axis: _overview_limits([p for p in parsed if p[2] == axis])
               for axis in _AXIS_LABEL if any(p[2] == axis for p in parsed)}
     charts = []
-    for k in range(count):
-        piece_id = fig_id if count == 1 else f"{fig_id}-{k + 1}"
+    for k, piece in enumerate(pieces):
+        piece_id = fig_id if len(pieces) == 1 else f"{fig_id}-{k + 1}"
         with _styled(piece_id):
-            charts.append(_finish(_overview_figure(parsed[k * size:(k + 1) * size], limits),
-                                  piece_id, "", fmt))
+            charts.append(_finish(_overview_figure(parsed[piece], limits), piece_id, "", fmt))
     return charts
+
+
+def overview_slices(rows: int, per_chart: int = OVERVIEW_ROWS) -> list[slice]:
+    """How corner_overview_pages deals ``rows`` rows out: in order, at most
+    ``per_chart`` a chart, the charts as even as can be."""
+    if per_chart < 1:
+        raise ValueError(f"per_chart must be at least 1, got {per_chart}")
+    count = max(1, -(-rows // per_chart))
+    size = max(1, -(-rows // count))
+    return [slice(k * size, min(rows, (k + 1) * size)) for k in range(count)]
 
 
 def _overview_limits(group: list) -> tuple[float, float]:

@@ -314,18 +314,18 @@ def overview_images(results: list[StageResult]) -> list[dict]:
     if not rows:
         return []
     images = charts_time.corner_overview_pages("board-overview", rows, fmt="png")
-    titles = overview_titles([row["label"] for row in rows], len(images))
+    titles = overview_titles([row["label"] for row in rows])
     return [{"image": im, "title": t} for im, t in zip(images, titles)]
 
 
-def overview_titles(labels: Sequence[str], charts: int) -> list[str]:
-    """The headings of the summary charts of stages ``labels`` dealt out over
-    ``charts`` charts as charts_time.corner_overview_pages deals them."""
-    if charts == 1:
+def overview_titles(labels: Sequence[str]) -> list[str]:
+    """The headings of the summary charts of stages ``labels``, one per chart as
+    charts_time.corner_overview_pages deals the stages out."""
+    pieces = charts_time.overview_slices(len(labels))
+    if len(pieces) == 1:
         return ["Corner, notch and ring frequencies of all stages"]
-    size = -(-len(labels) // charts)
-    return [f"Corner, notch and ring frequencies, stages {labels[k * size]} to "
-            f"{labels[min(len(labels), (k + 1) * size) - 1]}" for k in range(charts)]
+    return [f"Corner, notch and ring frequencies, stages {labels[p.start]} to "
+            f"{labels[p.stop - 1]}" for p in pieces]
 
 
 def _overview_keys(charts: list[dict]) -> dict:
