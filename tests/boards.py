@@ -45,3 +45,13 @@ def mc_evaluator(path: Path):
     char = kind.characteristic_hz(stage)
     return Evaluator(stage, kind.build(stage), values, sweep_for(char, project.analysis),
                      passband_of(stage, kind), char), values
+
+
+def overview_rows(n: int) -> list:
+    """Rows of the summary chart (rcdoc.note.charts_time.corner_overview) for n
+    stages: every seventh a snubber's ring frequency, every fifth failing, the
+    frequencies six decades apart; invented, for layout tests."""
+    return [{"label": f"s{i}", "kind": "ring" if i % 7 == 3 else "corner",
+             "status": "fail" if i % 5 == 0 else "pass",
+             "nominal": 10.0 ** (1 + i % 6), "min": 0.9 * 10.0 ** (1 + i % 6),
+             "max": 1.1 * 10.0 ** (1 + i % 6)} for i in range(n)]

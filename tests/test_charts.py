@@ -15,6 +15,7 @@ import matplotlib
 import numpy as np
 import pytest
 
+from boards import overview_rows
 from rcdoc.note import charts, charts_freq, charts_time
 
 from rcdoc.note import palette
@@ -388,14 +389,6 @@ def test_overview_puts_ring_frequencies_on_their_own_axis_and_both_corners():
         assert not any("ring" in t for t in texts)
 
 
-def _many_rows(n: int) -> list:
-    """n stages (every seventh a snubber ring, every fifth failing), corners decades apart."""
-    return [{"label": f"s{i}", "kind": "ring" if i % 7 == 3 else "corner",
-             "status": "fail" if i % 5 == 0 else "pass",
-             "nominal": 10.0 ** (1 + i % 6), "min": 0.9 * 10.0 ** (1 + i % 6),
-             "max": 1.1 * 10.0 ** (1 + i % 6)} for i in range(n)]
-
-
 @pytest.mark.parametrize("n, sizes", [(1, [1]), (25, [25]), (26, [13, 13]), (40, [20, 20]),
                                       (51, [17, 17, 17]), (60, [20, 20, 20])])
 def test_overview_takes_as_many_charts_as_fit_a_page(n, sizes):
@@ -406,7 +399,7 @@ def test_overview_takes_as_many_charts_as_fit_a_page(n, sizes):
     from rcdoc.note.charts_time import corner_overview_pages
     from PIL import Image
     import io
-    rows = _many_rows(n)
+    rows = overview_rows(n)
     charts = corner_overview_pages("many", rows)
     assert len(charts) == len(sizes)
     heights = [Image.open(io.BytesIO(c)).size[1] / PNG_DPI for c in charts]
@@ -429,9 +422,9 @@ def test_overview_takes_as_many_charts_as_fit_a_page(n, sizes):
 def test_overview_headings_name_the_stages_of_each_chart():
     from rcdoc.note.charts_time import corner_overview_pages
     from rcdoc.note.page import overview_titles
-    labels = [r["label"] for r in _many_rows(51)]
+    labels = [r["label"] for r in overview_rows(51)]
     assert overview_titles(labels[:7]) == ["Corner, notch and ring frequencies of all stages"]
-    assert len(corner_overview_pages("titles", _many_rows(51))) == 3
+    assert len(corner_overview_pages("titles", overview_rows(51))) == 3
     assert overview_titles(labels) == [
         f"Corner, notch and ring frequencies, stages s{a} to s{b}"
         for a, b in ((0, 16), (17, 33), (34, 50))]
@@ -454,7 +447,7 @@ def test_overview_charts_of_one_board_share_their_axes():
     # of a board read as one.
     from rcdoc.note.charts import _styled
     from rcdoc.note.charts_time import _overview_figure, _overview_limits, _overview_rows
-    parsed = _overview_rows(_many_rows(40))
+    parsed = _overview_rows(overview_rows(40))
     filters = [p for p in parsed if p[2] == "filter"]
     whole = _overview_limits(filters)
     # 9 Hz ... 1.1 MHz: half a decade beyond each end, rounded out to whole decades.

@@ -280,12 +280,10 @@ def test_summary_chart_of_many_stages_fits_its_pages():
     # over the footer and off the page, its heading alone on the page before.)
     import io
 
+    from boards import overview_rows
     from rcdoc.note import assemble, charts_time
     from rcdoc.note.page import _overview_keys
-    rows = [{"label": f"s{i}", "kind": "ring" if i % 7 == 3 else "corner",
-             "status": "fail" if i % 5 == 0 else "pass", "nominal": 10.0 ** (1 + i % 6),
-             "min": 0.9 * 10.0 ** (1 + i % 6), "max": 1.1 * 10.0 ** (1 + i % 6)}
-            for i in range(60)]
+    rows = overview_rows(60)
     charts = [{"image": im, "title": f"Stage frequencies, part {k + 1}"}
               for k, im in enumerate(charts_time.corner_overview_pages("many", rows))]
     context = {"title": "Design note: Many rev A", "generator": "rcdoc test",

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import math
 import re
+from collections import Counter
 from collections.abc import Mapping, Sequence
 
 import numpy as np
@@ -320,8 +321,9 @@ def overview_slices(rows: int, per_chart: int = OVERVIEW_ROWS) -> list[slice]:
 
 
 def _overview_limits(group: list) -> tuple[float, float]:
-    """The log axis of a group of rows: at least a decade beyond its lowest and
-    highest frequency (single stages stay readable, values have room)."""
+    """The log axis of a group of rows: from half a decade below its lowest to half
+    a decade above its highest frequency, rounded out to whole decades (single
+    stages stay readable, values have room)."""
     lo = min(q[2] for p in group for q in p[3])
     hi = max(q[3] for p in group for q in p[3])
     return 10.0 ** math.floor(math.log10(lo) - 0.5), 10.0 ** math.ceil(math.log10(hi) + 0.5)
@@ -361,9 +363,7 @@ def _row_labels(labels: Sequence[str], limit: int = _LABEL_CHARS) -> list[str]:
     head = (limit - 1) // 2
     tail = limit - 1 - head
     short = [s if len(s) <= limit else f"{s[:head]}…{s[-tail:]}" for s in labels]
-    seen: dict[str, int] = {}
-    for s in short:
-        seen[s] = seen.get(s, 0) + 1
+    seen = Counter(short)
     return [s if seen[s] == 1 else full for s, full in zip(short, labels)]
 
 
