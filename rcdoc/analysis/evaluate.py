@@ -104,11 +104,22 @@ class Evaluator(PartStresses):
     @cached_property
     def phase_rad(self) -> np.ndarray:
         """Principal phase of the sweep (rows × frequencies), computed once: the
-        phase at every mark and the phase band read it (np.angle's values, faster)."""
+        phase at every mark and the phase band read it (np.angle's values, faster).
+        First- and second-order responses take it in real arithmetic, without the
+        complex sweep (Response.sweep_phase)."""
+        if "h" not in self.__dict__:
+            got = self.response.sweep_phase(self.freqs_hz)
+            if got is not None:
+                return got
         return sweep_math.angle(self.h)
 
     @cached_property
     def gain_db(self) -> np.ndarray:
+        """20·log10|H| over the sweep; in real arithmetic where Response.sweep_db can."""
+        if "h" not in self.__dict__:
+            got = self.response.sweep_db(self.freqs_hz)
+            if got is not None:
+                return got
         return db(self.h)
 
     def phase_wraps(self, from_high: bool = False):

@@ -21,6 +21,7 @@ import math
 
 import numpy as np
 
+from rcdoc.analysis import sweep_math
 from rcdoc.analysis.ac import _Pencil, _direct, _freqs, _pz_blocks
 from rcdoc.analysis.assembly import System
 
@@ -80,6 +81,79 @@ class Response:
         if not np.all(ok):
             H[~ok] = _direct(system, f, ~ok, lambda X: X[..., self.out])
         return H
+
+    def sweep_db(self, freqs_hz: np.ndarray) -> np.ndarray | None:
+        """sweep_math.db(self.sweep(freqs_hz)) in real arithmetic, where every row's H
+        has at most two poles and two zeros, each pair real or conjugate (first- and
+        second-order stages): |H|² = g²·|N|²/|D|² with each of N and D one real
+        quadratic in ω (``_Quadratic``), so no complex array is made. None where
+        the rows do not fit (the caller takes the complex sweep)."""
+        parts = self._quadratics()
+        if parts is None:
+            return None
+        num, den = parts
+        f = _freqs(freqs_hz)
+        w = 2 * math.pi * f
+        x = w * w
+        out = np.empty((self.system.samples, f.size))
+        g2 = np.square(self.gain)
+        with np.errstate(all="ignore"):
+            for ss in _pz_blocks(self.system.samples, f.size):
+                o = out[ss]
+                den.squared(ss, x, out=o)
+                if num is not None:
+                    o /= num.squared(ss, x)
+                np.divide(g2[ss, None], o, out=o)
+                np.log(o, out=o)
+                o *= _DB_PER_NEPER / 2          # 10·log10 of |H|²
+        return self._patched(out, f, sweep_math.db)
+
+    def sweep_phase(self, freqs_hz: np.ndarray) -> np.ndarray | None:
+        """sweep_math.angle(self.sweep(freqs_hz)) in real arithmetic, where sweep_db
+        applies (else None): the angle of g·N·conj(D), whose argument is H's."""
+        parts = self._quadratics()
+        if parts is None:
+            return None
+        num, den = parts
+        f = _freqs(freqs_hz)
+        w = 2 * math.pi * f
+        x = w * w
+        out = np.empty((self.system.samples, f.size))
+        sign = np.sign(self.gain)[:, None]          # 0 where g is: np.angle(0) = 0
+        with np.errstate(all="ignore"):
+            for ss in _pz_blocks(self.system.samples, f.size):
+                re, im = den.parts(ss, x, w)
+                np.negative(im, out=im)                 # conj(D)
+                if num is not None:
+                    nr, ni = num.parts(ss, x, w)
+                    re, im = nr * re - ni * im, nr * im + ni * re
+                re *= sign[ss]
+                im *= sign[ss]
+                out[ss] = sweep_math.angle_of(re, im)
+        return self._patched(out, f, sweep_math.angle)
+
+    def _quadratics(self):
+        """(numerator, denominator) as _Quadratic (numerator None: no finite zero), or
+        None where some usable row has more than two of either, or two that are
+        neither both real nor a conjugate pair; computed once."""
+        if "_quads" not in self.__dict__:
+            quads = None
+            if not self.through:
+                den = _Quadratic.of(self.pencil.sigma, self.poles, self.ok)
+                num = (_Quadratic.of(self.pencil.sigma, self.zeros, self.ok)
+                       if self.zeros.shape[1] else None)
+                if den is not None and (num is not None or not self.zeros.shape[1]):
+                    quads = (num, den)
+            self.__dict__["_quads"] = quads
+        return self.__dict__["_quads"]
+
+    def _patched(self, out: np.ndarray, f: np.ndarray, of) -> np.ndarray:
+        """``out`` with the rows the zero-pole-gain form does not serve (ac's rule, or a
+        result that is not finite) replaced by ``of`` of their direct solution."""
+        ok = self.ok & np.all(np.isfinite(out), axis=1)
+        if not np.all(ok):
+            out[~ok] = of(_direct(self.system, f, ~ok, lambda X: X[..., self.out]))
+        return out
 
     def at_rows(self, f_hz: np.ndarray, rows: np.ndarray | None = None) -> np.ndarray:
         """H at one frequency per row, (S,) (rows may ask for different frequencies);
@@ -201,6 +275,56 @@ class Rows:
             return out, d
         dd[bad | ~np.isfinite(dd)] = np.nan
         return out, d, dd
+
+
+class _Quadratic:
+    """Π_k (1 + (jω − σ)·e_k) over at most two e_k per row, real or a conjugate pair:
+    with a_k = 1 − σ·e_k it is c0 − c2·ω² + j·c1·ω, c0 = a1·a2, c1 = a1·e2 + a2·e1,
+    c2 = e1·e2, all real (one e: c0 = a, c1 = e, c2 = 0). Its rounding is the
+    factored form's: near a pole of quality Q both lose about Q units in the last
+    place (the real part's cancellation in one, 1 + (jω − σ)·e's in the other)."""
+
+    def __init__(self, c0: np.ndarray, c1: np.ndarray, c2: np.ndarray):
+        self.c0, self.c1, self.c2 = c0, c1, c2
+        self.c1sq = c1 * c1
+
+    @classmethod
+    def of(cls, sigma: float, eig: np.ndarray, ok: np.ndarray) -> "_Quadratic | None":
+        """From the eigenvalues (S, n) of the pencil; None unless every row in ``ok``
+        fits (rows outside ``ok`` are solved directly: their values do not count)."""
+        rows, n = eig.shape
+        if n > 2:
+            return None
+        if n == 0:
+            return cls(np.ones(rows), np.zeros(rows), np.zeros(rows))
+        with np.errstate(all="ignore"):
+            if n == 1:
+                e = eig[:, 0]
+                if np.any((e.imag != 0) & ok):
+                    return None
+                e = np.where(ok, e.real, 0.0)
+                return cls(1.0 - sigma * e, e, np.zeros(rows))
+            e1, e2 = eig[:, 0], eig[:, 1]
+            fits = ((e1.imag == 0) & (e2.imag == 0)) | (e2 == np.conj(e1))
+            if not np.all(fits | ~ok):
+                return None
+            e1, e2 = np.where(ok, e1, 0.0), np.where(ok, e2, 0.0)
+            a1, a2 = 1.0 - sigma * e1, 1.0 - sigma * e2
+            return cls((a1 * a2).real, (a1 * e2 + a2 * e1).real, (e1 * e2).real)
+
+    def squared(self, ss: slice, x: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
+        """|value|² = (c0 − c2·x)² + c1²·x for the rows ``ss``, x = ω²: (s, F)."""
+        out = np.multiply.outer(self.c2[ss], x, out=out)
+        np.subtract(self.c0[ss, None], out, out=out)
+        np.square(out, out=out)
+        out += np.multiply.outer(self.c1sq[ss], x)
+        return out
+
+    def parts(self, ss: slice, x: np.ndarray, w: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(real part, imaginary part) for the rows ``ss``: (s, F) each."""
+        re = np.multiply.outer(self.c2[ss], x)
+        np.subtract(self.c0[ss, None], re, out=re)
+        return re, np.multiply.outer(self.c1[ss], w)
 
 
 def _factors(sigma: float, eig: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
