@@ -11,6 +11,12 @@ the sweep instead of several sweeps.
 Rows where the zero-pole-gain form is not safe (ac's rule: near-singular at
 the shift, or a non-finite result) are solved directly, those rows only.
 
+The sweep's gain and phase of a first- or second-order response (at most two
+poles and two zeros, real or conjugate pairs) are taken in real arithmetic
+(``sweep_db``, ``sweep_phase``): numerator and denominator are each one real
+quadratic in ω, so no complex array is formed (a fifth of a Sallen-Key's
+sweep and corner, measured).
+
 What it must not do: know about stage kinds or metrics, or loop in Python
 over rows (loops run over poles and zeros only).
 """
