@@ -144,7 +144,9 @@ class Response:
         neither both real nor a conjugate pair; computed once."""
         if "_quads" not in self.__dict__:
             quads = None
-            if not self.through:
+            # A real gain (real G and C at a real shift: every network rcdoc builds);
+            # anything else keeps the complex sweep.
+            if not self.through and not np.iscomplexobj(self.gain):
                 den = _Quadratic.of(self.pencil.sigma, self.poles, self.ok)
                 num = (_Quadratic.of(self.pencil.sigma, self.zeros, self.ok)
                        if self.zeros.shape[1] else None)
