@@ -94,49 +94,47 @@ class Response:
         second-order stages): |H|² = g²·|N|²/|D|² with each of N and D one real
         quadratic in ω (``_Quadratic``), so no complex array is made. None where
         the rows do not fit (the caller takes the complex sweep)."""
-        parts = self._quadratics()
-        if parts is None:
-            return None
-        num, den = parts
-        f = _freqs(freqs_hz)
-        w = 2 * math.pi * f
-        x = w * w
-        out = np.empty((self.system.samples, f.size))
         g2 = np.square(self.gain)
-        with np.errstate(all="ignore"):
-            for ss in _pz_blocks(self.system.samples, f.size):
-                o = out[ss]
-                den.squared(ss, x, out=o)
-                if num is not None:
-                    o /= num.squared(ss, x)
-                np.divide(g2[ss, None], o, out=o)
-                np.log(o, out=o)
-                o *= _DB_PER_NEPER / 2          # 10·log10 of |H|²
-        return self._patched(out, f, sweep_math.db)
+
+        def block(num, den, ss, x, w, o):
+            den.squared(ss, x, out=o)
+            if num is not None:
+                o /= num.squared(ss, x)
+            np.divide(g2[ss, None], o, out=o)
+            np.log(o, out=o)
+            o *= _DB_PER_NEPER / 2          # 10·log10 of |H|²
+        return self._real_sweep(freqs_hz, block, sweep_math.db)
 
     def sweep_phase(self, freqs_hz: np.ndarray) -> np.ndarray | None:
         """sweep_math.angle(self.sweep(freqs_hz)) in real arithmetic, where sweep_db
         applies (else None): the angle of g·N·conj(D), whose argument is H's."""
+        sign = np.sign(self.gain)[:, None]          # 0 where g is: np.angle(0) = 0
+
+        def block(num, den, ss, x, w, o):
+            re, im = den.parts(ss, x, w)
+            np.negative(im, out=im)                 # conj(D)
+            if num is not None:
+                nr, ni = num.parts(ss, x, w)
+                re, im = nr * re - ni * im, nr * im + ni * re
+            re *= sign[ss]
+            im *= sign[ss]
+            o[...] = sweep_math.angle_of(re, im)
+        return self._real_sweep(freqs_hz, block, sweep_math.angle)
+
+    def _real_sweep(self, freqs_hz: np.ndarray, block, of) -> np.ndarray | None:
+        """(S, F) filled by ``block(num, den, rows, ω², ω, out)`` over cache-sized blocks
+        of rows, the rows the form does not serve patched with ``of`` of their direct
+        solution; None where the rows do not fit (``_quadratics``)."""
         parts = self._quadratics()
         if parts is None:
             return None
-        num, den = parts
         f = _freqs(freqs_hz)
         w = 2 * math.pi * f
-        x = w * w
         out = np.empty((self.system.samples, f.size))
-        sign = np.sign(self.gain)[:, None]          # 0 where g is: np.angle(0) = 0
         with np.errstate(all="ignore"):
             for ss in _pz_blocks(self.system.samples, f.size):
-                re, im = den.parts(ss, x, w)
-                np.negative(im, out=im)                 # conj(D)
-                if num is not None:
-                    nr, ni = num.parts(ss, x, w)
-                    re, im = nr * re - ni * im, nr * im + ni * re
-                re *= sign[ss]
-                im *= sign[ss]
-                out[ss] = sweep_math.angle_of(re, im)
-        return self._patched(out, f, sweep_math.angle)
+                block(*parts, ss, w * w, w, out[ss])
+        return self._patched(out, f, of)
 
     def _quadratics(self):
         """(numerator, denominator) as _Quadratic (numerator None: no finite zero), or
