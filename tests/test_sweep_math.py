@@ -411,3 +411,21 @@ def test_real_sweep_patches_unsafe_rows_and_leaves_higher_orders(tmp_path, monke
     assert ev.response.poles.shape[1] == 3
     assert ev.response.sweep_db(ev.freqs_hz) is None and ev.response.sweep_phase(ev.freqs_hz) is None
     assert np.array_equal(ev.gain_db, sweep_math.db(ev.h))
+
+
+@pytest.mark.parametrize("kind,cap", [("sallen-key-lowpass", "20 nF"), ("sallen-key-lowpass", "3600 uF"),
+                                      ("rc-highpass", "10 nF")])
+def test_one_row_of_the_complex_sweep_is_that_row_of_the_whole(tmp_path, kind, cap):
+    """The nominal row's complex response (the Bode chart's nominal line), taken
+    alone where the gain and phase needed no complex sweep: the whole sweep's row,
+    bit for bit, also for a row the direct solve serves."""
+    ev, _ = evaluator(tmp_path, kind, cap, samples=60)
+    ev.response.ok[5] = False                       # served by the direct solve
+    rows = [ev.h_row(i) for i in (0, 5, ev.rows - 1)]
+    assert "h" not in ev.__dict__                   # no complex sweep of every row
+    whole = ev.response.sweep(ev.freqs_hz)
+    for got, i in zip(rows, (0, 5, ev.rows - 1)):
+        assert np.array_equal(got, whole[i])
+    # ... and the row the direct solve serves is the nodal solution at each frequency.
+    direct = np.array([ev.h_rows(np.full(ev.rows, f))[5] for f in ev.freqs_hz[::60]])
+    assert np.max(np.abs(rows[1][::60] / direct - 1)) < 1e-12

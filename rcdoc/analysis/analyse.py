@@ -207,7 +207,7 @@ def _gather(s: _Setup) -> _Gathered:
         g.unstable.append(ev.unstable[:n])
         if start == 0:
             # Row 0 of the first chunk is the nominal design (the bands refer to it).
-            g.h_nominal = ev.h[0].copy()
+            g.h_nominal = ev.h_row(0)
         # Spread bands of the response over the stable Monte Carlo rows only.
         mc_idx = _mc_rows(rows, batch)
         if mc_idx is not None:

@@ -101,6 +101,13 @@ class Evaluator(PartStresses):
     def h(self) -> np.ndarray:
         return self.response.sweep(self.freqs_hz)
 
+    def h_row(self, i: int) -> np.ndarray:
+        """H over the sweep of row ``i`` alone, (F,): the complex sweep's numbers,
+        without sweeping every row where their gain and phase need no complex sweep."""
+        if "h" in self.__dict__:
+            return self.h[i].copy()
+        return self.response.sweep(self.freqs_hz, slice(i, i + 1))[0]
+
     @cached_property
     def phase_rad(self) -> np.ndarray:
         """Principal phase of the sweep (rows × frequencies), computed once: the

@@ -68,24 +68,28 @@ class Response:
             self.zeros = _finite(zeros, scale, count)
             self.poles = _finite(p.poles, scale, finite)
 
-    def sweep(self, freqs_hz: np.ndarray) -> np.ndarray:
-        """H over a common set of frequencies, (S, F): the same arithmetic as ac.ac."""
+    def sweep(self, freqs_hz: np.ndarray, rows: slice = slice(None)) -> np.ndarray:
+        """H over a common set of frequencies, (S, F): the same arithmetic as ac.ac;
+        of the rows ``rows`` only if given (a slice: the nominal row of a chunk whose
+        gain and phase came from the real arithmetic)."""
         f = _freqs(freqs_hz)
         system, p = self.system, self.pencil
+        which = np.arange(system.samples)[rows]
         if self.through:
-            return np.ones((system.samples, f.size), dtype=complex)
+            return np.ones((which.size, f.size), dtype=complex)
+        gain, zeros, poles = self.gain[rows], self.zeros[rows], self.poles[rows]
         jw = 2j * math.pi * f
-        H = np.empty((system.samples, f.size), dtype=complex)
+        H = np.empty((which.size, f.size), dtype=complex)
         with np.errstate(all="ignore"):
-            for ss in _pz_blocks(system.samples, f.size):
-                den = p.product(None, self.poles[ss], jw)
-                if self.zeros.shape[1]:
-                    np.divide(p.product(self.gain[ss], self.zeros[ss], jw), den, out=H[ss])
+            for ss in _pz_blocks(which.size, f.size):
+                den = p.product(None, poles[ss], jw)
+                if zeros.shape[1]:
+                    np.divide(p.product(gain[ss], zeros[ss], jw), den, out=H[ss])
                 else:           # no zero: the gain over the poles, one division
-                    np.divide(self.gain[ss, None], den, out=H[ss])
-        ok = self.ok & np.all(np.isfinite(H), axis=1)
+                    np.divide(gain[ss, None], den, out=H[ss])
+        ok = self.ok[rows] & np.all(np.isfinite(H), axis=1)
         if not np.all(ok):
-            H[~ok] = _direct(system, f, ~ok, lambda X: X[..., self.out])
+            H[~ok] = _direct(system, f, which[~ok], lambda X: X[..., self.out])
         return H
 
     def sweep_db(self, freqs_hz: np.ndarray) -> np.ndarray | None:
