@@ -74,23 +74,20 @@ class Response:
         gain and phase came from the real arithmetic)."""
         f = _freqs(freqs_hz)
         system, p = self.system, self.pencil
-        which = np.arange(system.samples)[rows]
+        count = len(range(*rows.indices(system.samples)))
         if self.through:
-            return np.ones((which.size, f.size), dtype=complex)
+            return np.ones((count, f.size), dtype=complex)
         gain, zeros, poles = self.gain[rows], self.zeros[rows], self.poles[rows]
         jw = 2j * math.pi * f
-        H = np.empty((which.size, f.size), dtype=complex)
+        H = np.empty((count, f.size), dtype=complex)
         with np.errstate(all="ignore"):
-            for ss in _pz_blocks(which.size, f.size):
+            for ss in _pz_blocks(count, f.size):
                 den = p.product(None, poles[ss], jw)
                 if zeros.shape[1]:
                     np.divide(p.product(gain[ss], zeros[ss], jw), den, out=H[ss])
                 else:           # no zero: the gain over the poles, one division
                     np.divide(gain[ss, None], den, out=H[ss])
-        ok = self.ok[rows] & np.all(np.isfinite(H), axis=1)
-        if not np.all(ok):
-            H[~ok] = _direct(system, f, which[~ok], lambda X: X[..., self.out])
-        return H
+        return self._patched(H, f, None, rows)
 
     def sweep_db(self, freqs_hz: np.ndarray) -> np.ndarray | None:
         """sweep_math.db(self.sweep(freqs_hz)) in real arithmetic, where every row's H
@@ -157,12 +154,15 @@ class Response:
             self.__dict__["_quads"] = quads
         return self.__dict__["_quads"]
 
-    def _patched(self, out: np.ndarray, f: np.ndarray, of) -> np.ndarray:
-        """``out`` with the rows the zero-pole-gain form does not serve (ac's rule, or a
-        result that is not finite) replaced by ``of`` of their direct solution."""
-        ok = self.ok & np.all(np.isfinite(out), axis=1)
+    def _patched(self, out: np.ndarray, f: np.ndarray, of, rows: slice = slice(None)) -> np.ndarray:
+        """``out`` (the rows ``rows``) with the rows the zero-pole-gain form does not
+        serve (ac's rule, or a result that is not finite) replaced by their direct
+        solution, or by ``of`` of it."""
+        ok = self.ok[rows] & np.all(np.isfinite(out), axis=1)
         if not np.all(ok):
-            out[~ok] = of(_direct(self.system, f, ~ok, lambda X: X[..., self.out]))
+            which = np.arange(self.system.samples)[rows][~ok]
+            h = _direct(self.system, f, which, lambda X: X[..., self.out])
+            out[~ok] = h if of is None else of(h)
         return out
 
     def at_rows(self, f_hz: np.ndarray, rows: np.ndarray | None = None) -> np.ndarray:
