@@ -55,3 +55,18 @@ def overview_rows(n: int) -> list:
              "status": "fail" if i % 5 == 0 else "pass",
              "nominal": 10.0 ** (1 + i % 6), "min": 0.9 * 10.0 ** (1 + i % 6),
              "max": 1.1 * 10.0 ** (1 + i % 6)} for i in range(n)]
+
+
+def summary_context(rows: list, charts: list, status: str = "pass", changes=None) -> dict:
+    """A note context of the board "Many" with no stage pages: the summary table
+    of ``rows`` (overview_rows), the summary charts ``charts`` and, optionally, a
+    change record; for tests of the front matter and the summary charts."""
+    from rcdoc.note.page import _overview_keys
+    return {"title": "Design note: Many rev A", "generator": "rcdoc test",
+            "board": {"name": "Many", "revision": "A", "date": "2026-01-01", "authors": [],
+                      "notes": []},
+            "status": status, "analysis": [],
+            "summary": {"columns": ["Stage", "Verdict"],
+                        "rows": [{"id": r["label"], "cells": [r["label"], r["status"]]}
+                                 for r in rows]},
+            **_overview_keys(charts), "stages": [], "appendix": [], "changes": changes}

@@ -76,8 +76,10 @@ def test_rebuild_after_one_value_change_redoes_only_that_stage(project_file, tmp
     # Entries are filed only once the outputs are written (write_outputs commits them).
     assert not (out / CACHE_DIR_NAME).exists()
     first.commit_cache()
-    entries = list((out / CACHE_DIR_NAME / "board").glob("*.pickle"))
+    entries = _stage_entries(out)
     assert len(entries) == 2
+    # Beside them, the summary chart the note will show, kept for the next build.
+    assert (out / CACHE_DIR_NAME / "board" / "note-parts.pickle").is_file()
 
     calls.clear()
     again = build.analyse_project(load_project(str(project_file)), draw=True, out_dir=out)
@@ -95,7 +97,12 @@ def test_rebuild_after_one_value_change_redoes_only_that_stage(project_file, tmp
     # Corner of an RC high-pass 1/(2πRC) moves down when R grows (textbook formula).
     assert changed.results[1].metrics[0].nominal < first.results[1].metrics[0].nominal
     # The stale entry of the old "hp" is pruned: one entry per stage remains.
-    assert len(list((out / CACHE_DIR_NAME / "board").glob("*.pickle"))) == 2
+    assert len(_stage_entries(out)) == 2
+
+
+def _stage_entries(out):
+    """The build cache's stage entries (not the note's parts: note-parts.pickle)."""
+    return [e for e in (out / CACHE_DIR_NAME / "board").glob("*.pickle") if e.stem != "note-parts"]
 
 
 def test_key_covers_stage_fields_and_analysis(project_file):
@@ -238,7 +245,8 @@ def test_rebuild_reuses_page_numbers_and_gives_the_same_bytes(project_file, tmp_
 @pytest.mark.slow
 def test_one_stage_drawn_by_a_worker_beside_the_front(project_file, tmp_path, monkeypatch):
     # A rebuild with the command's pool: the changed stage is analysed here, drawn
-    # by a worker while this process renders the front matter from the results;
+    # by a worker while this process renders the front matter from the results,
+    # and its part rendered here once the drawing is in (the renderer is warm here);
     # the note is byte for byte the note a cold serial build makes (common practice).
     import rcdoc.note.assemble as assemble
     out = tmp_path / "out"
@@ -255,11 +263,11 @@ def test_one_stage_drawn_by_a_worker_beside_the_front(project_file, tmp_path, mo
         pool.warm()       # as the command does: without a fork server started early
         again = build.analyse_project(p, draw=True, jobs=2, out_dir=out, pool=pool)
     assert calls == ["hp"] and again.computed == ["hp"] and again.cached == ["lp"]
-    assert rendered == ["front"]            # the stage's part came from the worker
+    assert rendered == ["front", "stage"]   # the drawing came from the worker
     assert again.note_parts["front"]["key"] and again.overview is not None
     assert again.contexts[1]["id"] == "hp" and again.parts[1]["pages"] >= 1
     pdf, _ = build.write_outputs(again, out)
-    assert rendered == ["front"]            # nothing rendered again
+    assert rendered == ["front", "stage"]   # nothing rendered again
     cold = build.write_outputs(build.analyse_project(p, draw=True), tmp_path / "cold")[0]
     assert Path(pdf).read_bytes() == Path(cold).read_bytes()
 

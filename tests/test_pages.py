@@ -280,20 +280,12 @@ def test_summary_chart_of_many_stages_fits_its_pages():
     # over the footer and off the page, its heading alone on the page before.)
     import io
 
-    from boards import overview_rows
+    from boards import overview_rows, summary_context
     from rcdoc.note import assemble, charts_time
-    from rcdoc.note.page import _overview_keys
     rows = overview_rows(60)
     charts = [{"image": im, "title": f"Stage frequencies, part {k + 1}"}
               for k, im in enumerate(charts_time.corner_overview_pages("many", rows))]
-    context = {"title": "Design note: Many rev A", "generator": "rcdoc test",
-               "board": {"name": "Many", "revision": "A", "date": "2026-01-01", "authors": [],
-                         "notes": []},
-               "status": "fail", "analysis": [],
-               "summary": {"columns": ["Stage", "Verdict"],
-                           "rows": [{"id": r["label"], "cells": [r["label"], r["status"]]}
-                                    for r in rows]},
-               **_overview_keys(charts), "stages": [], "appendix": [], "changes": None}
+    context = summary_context(rows, charts, status="fail")
     reader = pypdf.PdfReader(io.BytesIO(assemble.render_part(context, "front")["pdf"]))
     boxes = _image_boxes(reader)
     assert sum(map(len, boxes)) == 3

@@ -236,3 +236,23 @@ def test_only_the_command_collects_less_often(monkeypatch):
         assert gc.get_threshold()[1:] == before[1:]
     finally:
         gc.set_threshold(*before)
+
+
+def test_a_worker_killed_mid_run_ends_the_command_in_one_line(tmp_path, monkeypatch, capsys):
+    # A worker the system kills (for want of memory, say) breaks the pool: the
+    # command says so in one line, exit status 3 (neither a failed check, 1, nor
+    # an input mistake, 2), and writes nothing (common practice). The worker
+    # here ends itself (os._exit) in the middle of its unit.
+    import rcdoc.commands.build as build
+    project = tmp_path / "board.toml"
+    project.write_text(PROJECT, encoding="utf-8")
+
+    def killed(project, *, pool=None, **kw):
+        pool.executor().submit(os._exit, 1).result(timeout=120)
+    monkeypatch.setattr(build, "analyse_project", killed)
+    status = cli.main(["build", str(project), "-o", str(tmp_path / "out"), "--jobs", "2",
+                       "--quiet"])
+    err = capsys.readouterr().err
+    assert status == cli.EXIT_BROKEN == 3
+    assert err.count("\n") == 1 and "worker process ended abruptly" in err
+    assert "Traceback" not in err and not (tmp_path / "out").exists()

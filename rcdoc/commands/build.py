@@ -56,6 +56,10 @@ class Outcome:
     note_parts: dict = field(default_factory=dict)
     # The summary chart, when drawn already (one item: rcdoc.note.page.note_context).
     overview: tuple | None = None
+    # Each stage's cache key (rcdoc.commands.cache.stage_key), where there is a cache.
+    keys: list | None = None
+    # The JSON summary and the parts list, made already (``prepare``), by name.
+    prepared: dict = field(default_factory=dict)
 
     def commit_cache(self) -> None:
         if self.pending is not None:
@@ -106,6 +110,7 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
     """
     stages = list(project.stages)
     n = len(stages)
+    prepared: dict = {}
     results: list = [None] * n
     contexts: list = [None] * n
     parts: list = [None] * n
@@ -138,14 +143,11 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
     if (front and workers == 1 and pool is not None and pool.warmed and len(todo) == 1
             and not todraw and not redo and part_jobs[todo[0]] is not None):
         overview = schedule.one_beside_front(pool, project, todo[0], part_jobs[todo[0]], settle,
-                                     results, note_parts, progress)
+                                             results, note_parts, progress,
+                                             meanwhile=lambda: prepare(project, results, prepared))
     elif workers == 1:
-        for i in todo:
-            if progress:
-                progress(stages[i].id)
-            settle(i, _stage_unit(stages[i], project, draw))
-        for i in todraw:
-            contexts[i], parts[i] = _draw_unit(results[i], project)
+        overview = _serially(project, todo, todraw, draw, front, settle, results, contexts, parts,
+                             note_parts, progress)
     else:
         with contextlib.ExitStack() as stack:    # a pool of its own ends with this project
             shared = pool or stack.enter_context(WorkerPool(workers, draw=draw))
@@ -164,7 +166,23 @@ def analyse_project(project: Project, *, progress: Callable[[str], None] | None 
     pending = file_entries if cache is not None else None
     return Outcome(project, results, contexts if draw else None, cached=cached,
                    computed=[stages[i].id for i in todo], parts=parts if draw else None,
-                   pending=pending, seconds=seconds, note_parts=note_parts, overview=overview)
+                   pending=pending, seconds=seconds, note_parts=note_parts, overview=overview,
+                   keys=keys if cache is not None else None, prepared=prepared)
+
+
+def _serially(project, todo, todraw, draw: bool, front: bool, settle, results, contexts, parts,
+              note_parts, progress) -> tuple | None:
+    """Analyse (with ``draw``, also draw) the stages in this process; with ``draw``
+    and ``front``, draw the summary charts too (those of the last build whose rows
+    did not change are kept). Returns Outcome's ``overview``."""
+    stages = project.stages
+    for i in todo:
+        if progress:
+            progress(stages[i].id)
+        settle(i, _stage_unit(stages[i], project, draw))
+    for i in todraw:
+        contexts[i], parts[i] = _draw_unit(results[i], project)
+    return (schedule.summary_charts(results, note_parts),) if draw and front else None
 
 
 def _from_cache(cache, keys, stages, draw, results, contexts, parts):
@@ -227,13 +245,12 @@ def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
     """Render the PDF and the JSON; both land only if both could be made."""
     from rcdoc.note.page import note_context
     from rcdoc.note.pdf import render_pdf
-    from rcdoc.note.summary import summary, to_json
     project = outcome.project
     stem = Path(project.file).stem
     pdf_path, json_path = out_dir / f"{stem}.pdf", out_dir / f"{stem}.json"
-    json_bytes = to_json(summary(project, outcome.results)).encode("utf-8")
-    from rcdoc.note.partslist import parts_csv
-    csv_path, csv_bytes = out_dir / f"{stem}-parts.csv", parts_csv(outcome.results)
+    made = outcome.prepared or prepare(project, outcome.results, {})
+    json_bytes, csv_bytes = made["json"], made["csv"]
+    csv_path = out_dir / f"{stem}-parts.csv"
     if outcome.contexts is not None:
         context = note_context(project, outcome.results, extra_appendix=extra_appendix,
                                stage_contexts=outcome.contexts, changes=changes,
@@ -253,7 +270,7 @@ def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
                           project_dir=Path(project.file).resolve().parent,
                           source_date_epoch=source_date_epoch(project),
                           stage_parts=outcome.parts,
-                          stage_keys=(_part_keys(project, template_dirs)
+                          stage_keys=(_part_keys(project, template_dirs, outcome.keys)
                                       if outcome.contexts is not None else None),
                           note_parts=outcome.note_parts)
         if used is not None and outcome.parts is not None:
@@ -274,6 +291,18 @@ def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
                 if d.is_dir() and not any(d.iterdir()):
                     d.rmdir()
     return pdf_path, json_path
+
+
+def prepare(project: Project, results, into: dict) -> dict:
+    """The JSON summary and the parts list of ``results`` (bytes, as written), in
+    ``into``: made by write_outputs, or before it by a rebuild's main process while
+    it waits for its workers (rcdoc.commands.schedule.one_beside_front), which also
+    loads what joins the note's parts then."""
+    from rcdoc.note.partslist import parts_csv
+    from rcdoc.note.summary import summary, to_json
+    into["json"] = to_json(summary(project, results)).encode("utf-8")
+    into["csv"] = parts_csv(results)
+    return into
 
 
 def load_all(files: list[str], *, samples=None, seed=None) -> list[Project]:

@@ -9,12 +9,16 @@ from __future__ import annotations
 import argparse
 import os
 import sys
+from concurrent.futures import BrokenExecutor
 from pathlib import Path
 
 from rcdoc import __version__
 from rcdoc.errors import ProjectError
 
 EXIT_OK, EXIT_FAIL, EXIT_INPUT = 0, 1, 2
+# The run could not end: a worker process was killed (by the system for want of
+# memory, say). Not 1 (a check failed) nor 2 (the input is wrong).
+EXIT_BROKEN = 3
 
 
 class _Parser(argparse.ArgumentParser):
@@ -313,6 +317,10 @@ def main(argv: list[str] | None = None) -> int:
     except ProjectError as exc:
         print(f"rcdoc: error: {one_line(str(exc))}", file=sys.stderr)
         return EXIT_INPUT
+    except BrokenExecutor:
+        print("rcdoc: error: a worker process ended abruptly (killed, or out of memory); "
+              "nothing was written; run again, or with --jobs 1", file=sys.stderr)
+        return EXIT_BROKEN
     except Terminated:          # SIGTERM: workers stopped as for Ctrl-C; 128 + 15
         print("rcdoc: terminated; nothing was written", file=sys.stderr)
         return 143

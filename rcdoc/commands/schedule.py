@@ -25,20 +25,26 @@ from __future__ import annotations
 import threading
 import time
 
-from rcdoc.commands.workers import (WorkerPool, _appendix_unit, _draw_unit, _part_unit,
+from rcdoc.commands.workers import (WorkerPool, _appendix_unit, _charts_unit, _draw_unit,
+                                    _part_unit,
                                     _quiet_renderer, _stage_unit, _timed_draw_unit)
 from rcdoc.input.model import Project
 
-__all__ = ["one_beside_front", "appendix_job", "run_pool"]
+__all__ = ["one_beside_front", "appendix_job", "run_pool", "summary_charts"]
 
 
 def one_beside_front(shared: WorkerPool, project: Project, i: int, part_job, settle, results,
-                      note_parts: dict, progress) -> tuple:
+                      note_parts: dict, progress, meanwhile=None) -> tuple:
     """One stage to redo (a rebuild after a value change): analysed here, as
-    always; its drawing and its part of the note go to a worker of the command's
-    pool (started while this process loaded), while this process draws the
-    summary chart and renders the front matter, which need only the results.
-    Returns the summary chart (rcdoc.note.page.note_context's ``overview``)."""
+    always; its drawing goes to a worker of the command's pool (started while
+    this process loaded) and the summary charts to another, while this process
+    renders the front matter, which needs only the results; then the charts'
+    part (where they take pages of their own) and the stage's part, here too,
+    where the renderer is loaded and warm. This process never loads matplotlib;
+    the workers never load the renderer. ``meanwhile`` (no arguments) runs here
+    while the workers draw: what the outputs need of the results alone. Returns
+    the summary charts (rcdoc.note.page.note_context's ``overview``)."""
+    from rcdoc.note.overview import overview_rows, overview_titles, own_pages
     stage = project.stages[i]
     if progress:
         progress(stage.id)
@@ -47,25 +53,38 @@ def one_beside_front(shared: WorkerPool, project: Project, i: int, part_job, set
     if answer[0] == "error":
         settle(i, answer)                           # raises the stage's error
     results[i] = answer[1]
-    # Starting the worker waits for the fork server's imports (they may still run
+    rows = overview_rows(results)
+    titles = overview_titles([row["label"] for row in rows]) if rows else []
+    keys, drawn = _chart_store(rows, note_parts)
+    # Starting the workers waits for the fork server's imports (they may still run
     # on a busy machine): a thread waits for it, this process goes on.
     box: dict = {}
-    handing = threading.Thread(target=_submit, args=(box, shared, _draw_unit, answer[1],
-                                                     project, part_job), daemon=True)
+    handing = threading.Thread(target=_submit, args=(box, shared, [
+        (_draw_unit, answer[1], project), (_charts_unit, rows, drawn, keys)]), daemon=True)
     handing.start()
     try:
-        overview = _early_front(project, results, part_job, note_parts)
+        if own_pages(titles):   # the front part has no charts: render it now
+            _early_front(project, results, part_job, note_parts,
+                         [{"image": b"", "title": t} for t in titles])
+        if meanwhile is not None:
+            meanwhile()
+            from rcdoc.note import join  # noqa: F401 - pikepdf, for the join that follows
         handing.join()
         if "error" in box:
             raise box["error"]
-        context, part = box["future"].result()
+        drawing, charting = box["futures"]
+        charts = charting.result()
+        _file_charts(note_parts, keys, charts)
+        # The front part (unless rendered above: the same key) and the charts' own part.
+        _early_front(project, results, part_job, note_parts, charts)
+        context, _ = drawing.result()
+        stage_part = _part_unit(context, part_job)
     except BaseException as exc:
         handing.join()
-        if "future" in box:
-            _cancel([box["future"]], exc)
+        _cancel(box.get("futures", []), exc)
         raise
-    settle(i, ("ok", answer[1], context, part, time.perf_counter() - t0))
-    return overview
+    settle(i, ("ok", answer[1], context, stage_part, time.perf_counter() - t0))
+    return (charts,)
 
 
 def _cancel(futures, exc: BaseException) -> None:
@@ -82,36 +101,90 @@ def _cancel(futures, exc: BaseException) -> None:
         f.cancel()
 
 
-def _submit(box: dict, shared: WorkerPool, fn, *args) -> None:
+def _submit(box: dict, shared: WorkerPool, units) -> None:
+    """Submit ``units`` ((function, *args) each) to the pool; their futures in
+    ``box["futures"]``, in order, or the error in ``box["error"]``."""
     try:
-        box["future"] = shared.executor().submit(fn, *args)
+        pool = shared.executor()
+        box["futures"] = [pool.submit(fn, *args) for fn, *args in units]
     except BaseException as exc:  # noqa: BLE001 - raised again in the waiting thread
         box["error"] = exc
 
 
-def _early_front(project: Project, results, part_job, note_parts: dict) -> tuple:
-    """Draw the summary chart and render the front part from the results (the
-    stages' heads stand for their contexts: rcdoc.note.assemble.front_context),
-    under the key render_note computes; filed in ``note_parts`` for it. A front
-    that cannot be rendered here is left to write_outputs, which reports why."""
-    from rcdoc.note.assemble import context_key, front_context, render_part
-    from rcdoc.note.page import note_context, overview_images, stage_head
+def _early_front(project: Project, results, part_job, note_parts: dict,
+                 charts: list | None = None) -> tuple:
+    """Render the front part from the results (the stages' heads stand for their
+    contexts: rcdoc.note.assemble.front_context), under the key render_note
+    computes, and the summary charts' part where they take pages of their own;
+    filed in ``note_parts`` for it. ``charts``: the summary charts, drawn already
+    (or stand-ins where they are apart: the front part does not show them); else
+    they are drawn here. A part that cannot be rendered here is left to
+    write_outputs, which reports why. Returns note_context's ``overview``."""
+    from rcdoc.note.assemble import charts_context, front_context
+    from rcdoc.note.page import note_context, stage_head
+    if charts is None:
+        charts = summary_charts(results, note_parts)
+    context = note_context(project, results, overview=(charts,),
+                           stage_contexts=[stage_head(r) for r in results])
+    _render_note_part(front_context(context, part_job[1]), "front", part_job, note_parts)
+    if any(c["image"] for c in charts):
+        apart = charts_context(context)
+        if apart is not None:
+            _render_note_part(apart, "overview", part_job, note_parts)
+    return (charts,)
+
+
+# The summary charts of the last build in its note parts (rcdoc.commands.cache):
+# image by chart key (rcdoc.note.overview.chart_keys).
+_CHARTS = "overview-charts"
+
+
+def _chart_store(rows, note_parts: dict) -> tuple[list[str], dict]:
+    """The keys of the summary charts of ``rows``, and the charts of the last
+    build (``note_parts``) that have one of them."""
+    from rcdoc.commands.cache import code_fingerprint
+    from rcdoc.note.overview import chart_keys
+    keys = chart_keys(rows, code_fingerprint()) if rows else []
+    store = note_parts.get(_CHARTS) or {}
+    return keys, {k: store[k] for k in keys if isinstance(store.get(k), bytes)}
+
+
+def _file_charts(note_parts: dict, keys, charts) -> None:
+    """Keep this build's summary charts for the next (filed with the note parts)."""
+    note_parts[_CHARTS] = {k: c["image"] for k, c in zip(keys, charts)}
+
+
+def summary_charts(results, note_parts: dict | None) -> list:
+    """The summary charts of ``results`` (rcdoc.note.page.overview_images), drawn
+    here where the last build's (in ``note_parts``) do not serve; ``note_parts``
+    then keeps these."""
+    from rcdoc.note.overview import overview_rows
+    from rcdoc.note.page import overview_charts
+    rows = overview_rows(results)
+    if note_parts is None:
+        return overview_charts(rows)
+    keys, drawn = _chart_store(rows, note_parts)
+    charts = overview_charts(rows, drawn, keys)
+    _file_charts(note_parts, keys, charts)
+    return charts
+
+
+def _render_note_part(context, part: str, part_job, note_parts: dict) -> None:
+    """Render ``part`` of the note from ``context`` into ``note_parts`` unless the
+    one there has the same key; a failure is left to write_outputs."""
+    from rcdoc.note.assemble import context_key, render_part
     _head, dirs, project_dir, epoch, _key = part_job
-    overview = (overview_images(results),)
-    context = front_context(note_context(project, results, overview=overview,
-                                         stage_contexts=[stage_head(r) for r in results]), dirs)
-    key = context_key(context, "front", template_dirs=dirs, source_date_epoch=epoch,
+    key = context_key(context, part, template_dirs=dirs, source_date_epoch=epoch,
                       project_dir=project_dir)
-    have = note_parts.get("front")
-    if not (isinstance(have, dict) and have.get("key") == key):
-        try:
-            _quiet_renderer()
-            note_parts["front"] = render_part(context, "front", template_dirs=dirs,
-                                              project_dir=project_dir, source_date_epoch=epoch,
-                                              key=key)
-        except Exception:  # noqa: BLE001 - rendered again, and reported, in write_outputs
-            pass
-    return overview
+    have = note_parts.get(part)
+    if isinstance(have, dict) and have.get("key") == key:
+        return
+    try:
+        _quiet_renderer()
+        note_parts[part] = render_part(context, part, template_dirs=dirs,
+                                       project_dir=project_dir, source_date_epoch=epoch, key=key)
+    except Exception:  # noqa: BLE001 - rendered again, and reported, in write_outputs
+        pass
 
 
 def appendix_job(project: Project, template_dirs, part_job, note_parts: dict):

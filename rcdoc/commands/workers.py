@@ -84,6 +84,13 @@ def _part_unit(context, part_job):
         return None
 
 
+def _charts_unit(rows, drawn=None, keys=()):
+    """The summary charts drawn from their rows (rcdoc.note.overview.overview_rows;
+    those in ``drawn`` by their ``keys`` are taken from it: page.overview_charts)."""
+    from rcdoc.note.page import overview_charts
+    return overview_charts(rows, drawn, keys)
+
+
 def _appendix_unit(context, part_job):
     """The appendix part (it depends on the project alone), rendered in a worker
     while the stages are analysed; or None, and write_outputs renders it."""

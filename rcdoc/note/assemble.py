@@ -39,10 +39,11 @@ from rcdoc.note import renderer_libs  # noqa: F401 - weasyprint, without ctypes'
 import weasyprint
 
 from rcdoc.note import fast_layout, font_scratch, note_html, pdf_images, report
+from rcdoc.note.overview import own_pages
 
 __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "font_subsetter",
            "render_part", "stage_part", "assemble", "render_note", "project_head", "context_key",
-           "appendix_context", "front_context"]
+           "appendix_context", "front_context", "charts_context"]
 
 # Bump when what a part holds changes.
 _PART_FORMAT = "rcdoc-note-part-2"   # 2: charts as indexed images
@@ -320,7 +321,13 @@ def render_note(context: Mapping, *, template_dirs: Sequence[Path] = (),
             have = stage_part(context, stage, key=want, **kw)
         used.append(have)
     front = _reused(note_parts, "front", front_context(context, template_dirs), kw)
-    parts = [front, *used]
+    parts = [front]
+    charts = charts_context(context)
+    if charts is not None:
+        parts.append(_reused(note_parts, "overview", charts, kw))
+    elif note_parts is not None:
+        note_parts.pop("overview", None)
+    parts += used
     if context.get("appendix"):
         parts.append(_reused(note_parts, "appendix", appendix_context(context, context["appendix"]),
                              kw))
@@ -346,9 +353,28 @@ def front_context(context: Mapping, template_dirs: Sequence[Path] = ()) -> dict:
     and is the same part either way. Template folders with partials of their
     own (they may read any stage field) get the whole context."""
     if any(p.name != report._TEMPLATE_NAME for d in template_dirs for p in Path(d).glob("*.html")):
-        return dict(context)
-    return {**context, "appendix": [],
-            "stages": [{k: s.get(k) for k in _FRONT_STAGE} for s in context.get("stages") or []]}
+        front = dict(context)
+    else:
+        front = {**context, "appendix": [],
+                 "stages": [{k: s.get(k) for k in _FRONT_STAGE} for s in context.get("stages") or []]}
+    if own_pages(context.get("overview_images") or []):
+        # The summary charts and the change record after them are the next part
+        # (charts_context); the cover still names the change record.
+        front.update(overview_images=[], overview_image=None, charts_apart=True)
+    return front
+
+
+def charts_context(context: Mapping) -> dict | None:
+    """The context of the part that holds the summary charts where they take pages
+    of their own (rcdoc.note.overview.own_pages), and the change record that
+    follows them; None where they stay in the front part. Made of the note's head
+    and the charts alone, so that a worker that drew the charts renders the same
+    part (rcdoc.commands.schedule)."""
+    charts = list(context.get("overview_images") or [])
+    if not own_pages(charts):
+        return None
+    return {**_head(context), "stages": [], "overview_images": charts,
+            "overview_image": charts[0]["image"], "changes": context.get("changes")}
 
 
 def appendix_context(head: Mapping, appendix: Sequence) -> dict:

@@ -22,6 +22,7 @@ from rcdoc.note.charts import (_UNSCALED_UNITS, HALF_WIDTH_IN, _arr, _AxisEngFor
                                _OffsetFormatter, _OffsetLocator, _same_shape, _styled,
                                _tick_formatter, _unit_symbol, _vline, _vspan, WIDTH_IN)
 from rcdoc.note.charts_reuse import reused_figure
+from rcdoc.note.overview import OVERVIEW_ROWS, overview_slices
 
 
 # ---------------------------------------------------------------------------
@@ -285,18 +286,13 @@ def corner_overview(fig_id: str, rows: Sequence[Mapping], title: str = "", *, fm
         return _finish(_overview_figure(parsed), fig_id, title, fmt)
 
 
-#: The most rows of one summary chart. The chart is 0.75 + 0.45 in per axis + 0.3 in
-#: per row tall: 25 rows on both axes make 9.2 in, shown at 0.96 of that (88 % of the
-#: A4 text width) 224 mm, which leaves its heading room on a page of 259 mm.
-OVERVIEW_ROWS = 25
-
-
 def corner_overview_pages(fig_id: str, rows: Sequence[Mapping], *, per_chart: int = OVERVIEW_ROWS,
-                          fmt: str = "png") -> list:
+                          fmt: str = "png", skip=()) -> list:
     """corner_overview in charts of at most ``per_chart`` rows each (the rows in
     order, the charts as even as can be), so that each fits a page: a board of 40
     stages gives two charts of 20. Every chart of an axis spans the frequencies of
-    all the rows on that axis, so the charts read as one."""
+    all the rows on that axis, so the charts read as one. The charts numbered in
+    ``skip`` are not drawn (None in their place: the caller has them already)."""
     _check_fig_id(fig_id)
     parsed = _overview_rows(rows)
     pieces = overview_slices(len(parsed), per_chart)
@@ -304,20 +300,13 @@ def corner_overview_pages(fig_id: str, rows: Sequence[Mapping], *, per_chart: in
               for axis in _AXIS_LABEL if any(p[2] == axis for p in parsed)}
     charts = []
     for k, piece in enumerate(pieces):
+        if k in skip:
+            charts.append(None)
+            continue
         piece_id = fig_id if len(pieces) == 1 else f"{fig_id}-{k + 1}"
         with _styled(piece_id):
             charts.append(_finish(_overview_figure(parsed[piece], limits), piece_id, "", fmt))
     return charts
-
-
-def overview_slices(rows: int, per_chart: int = OVERVIEW_ROWS) -> list[slice]:
-    """How corner_overview_pages deals ``rows`` rows out: in order, at most
-    ``per_chart`` a chart, the charts as even as can be."""
-    if per_chart < 1:
-        raise ValueError(f"per_chart must be at least 1, got {per_chart}")
-    count = max(1, -(-rows // per_chart))
-    size = max(1, -(-rows // count))
-    return [slice(k * size, min(rows, (k + 1) * size)) for k in range(count)]
 
 
 def _overview_limits(group: list) -> tuple[float, float]:

@@ -21,14 +21,17 @@ from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Project
 from rcdoc.input.project import paragraphs
 from rcdoc.kinds import KINDS
-from rcdoc.note import charts_freq, charts_time
-from rcdoc.note import schematic as sch
-from rcdoc.note.blocks import assumptions, draw_all
+from rcdoc.note.overview import overview_rows, overview_titles
 from rcdoc.note.context import (bom_appendix, checks_table, fq,
                                 kind_result, method_appendix, metric_label, metrics_table,
                                 parts_table, ratings_table, sensitivity_table, summary_rows)
 from rcdoc.note.safety import safety_box
 from rcdoc.note.summary import board_status
+
+# The drawing modules (matplotlib, schemdraw) are imported where a figure is drawn:
+# the command's process of a one-value rebuild builds the note's context and renders
+# the front matter, and leaves every drawing to the workers (rcdoc.commands.schedule),
+# whose fork server has them loaded (rcdoc.commands.preload).
 
 
 def bode_limits(r: StageResult) -> list[dict]:
@@ -58,6 +61,7 @@ def bode_figure(r: StageResult) -> dict:
         if m.name == "gain" and m.at_hz is not None:
             ph = r.metric("phase", m.at_hz)
             marks.append((m.at_hz, m.nominal, ph.nominal if ph else math.nan))
+    from rcdoc.note import charts_freq
     svg = charts_freq.bode(f"{r.stage.id}-bode", r.freqs_hz, gain, phase, band=r.band.as_mapping(),
                       corner_hz=corner, corner_spread=spread_, marks=marks,
                       limits=bode_limits(r), title="", fmt="png")
@@ -101,6 +105,7 @@ def phasor_figure(r: StageResult) -> dict | None:
         ref_label = "source voltage"
         angle = (math.degrees(math.atan2(ph.output.imag, ph.output.real))
                  if ph.output is not None else None)
+    from rcdoc.note import charts_freq
     svg = charts_freq.phasor(f"{r.stage.id}-phasor", vectors, reference_label=ref_label,
                         freq_hz=ph.freq_hz, angle_deg=angle, fmt="png")
     what = ("the series current, common to every part on the path, is the reference direction"
@@ -136,6 +141,7 @@ def _ref_of(r: StageResult, element: str) -> str:
 
 
 def time_figures(r: StageResult) -> list[dict]:
+    from rcdoc.note import charts_time
     out = []
     if r.step is not None:
         s = r.step
@@ -171,6 +177,7 @@ def time_figures(r: StageResult) -> list[dict]:
 
 
 def histogram_figures(r: StageResult) -> list[dict]:
+    from rcdoc.note import charts_time
     out = []
     for v in r.verdicts:
         m = next((m for m in r.metrics if (m.name, m.at_hz, m.detail) ==
@@ -191,6 +198,8 @@ def histogram_figures(r: StageResult) -> list[dict]:
 
 
 def stage_context(r: StageResult, project: Project) -> dict:
+    from rcdoc.note import schematic as sch
+    from rcdoc.note.blocks import assumptions, draw_all
     st = r.stage
     kind = KINDS[st.kind]
     blocks: list[dict] = []
@@ -284,48 +293,32 @@ def _analysis_sentences(r: StageResult, project: Project):
                f"{t1:g} °C.")
 
 
-# Which frequency of a stage the summary chart shows, by kind: (metric names, chart kind).
-_OVERVIEW_FREQS = ((("corner_low", "corner_high"), "corner"), (("corner",), "corner"),
-                   (("notch_frequency",), "notch"), (("f0",), "natural"),
-                   (("ring_frequency",), "ring"))
-
-
 def overview_images(results: list[StageResult]) -> list[dict]:
     """The summary chart, in charts that fit a page each (at most
-    charts_time.OVERVIEW_ROWS stages), as the templates get them
+    rcdoc.note.overview.OVERVIEW_ROWS stages), as the templates get them
     (``overview_images``: {"image": PNG bytes, "title"}): each stage's corners
     (both of a band-pass), notch or ring frequency, nominal and Monte Carlo
     min-max. Empty where no stage has one of them."""
-    rows = []
-    for r in results:
-        for names, kind in _OVERVIEW_FREQS:
-            found = [next((m for m in r.metrics if m.name == n and m.at_hz is None), None)
-                     for n in names]
-            if any(m is None or not math.isfinite(m.nominal) for m in found):
-                continue
-            freqs = []
-            for m in found:
-                s = m.samples[np.isfinite(m.samples)]
-                freqs.append({"nominal": m.nominal, "min": float(s.min()) if s.size else m.nominal,
-                              "max": float(s.max()) if s.size else m.nominal})
-            rows.append({"label": r.stage.id, "kind": kind, "frequencies": freqs,
-                         "status": r.status})
-            break
+    return overview_charts(overview_rows(results))
+
+
+def overview_charts(rows: list[dict], drawn: dict | None = None,
+                    keys: Sequence[str] = ()) -> list[dict]:
+    """overview_images drawn from the rows rcdoc.note.overview.overview_rows gives.
+    ``drawn`` (key -> image) holds charts drawn before, under the keys
+    rcdoc.note.overview.chart_keys gave them; the charts whose key (``keys``, one a
+    chart) is there are taken from it, not drawn again."""
     if not rows:
         return []
-    images = charts_time.corner_overview_pages("board-overview", rows, fmt="png")
+    have = [(drawn or {}).get(k) for k in keys]
+    have = [im if isinstance(im, bytes) else None for im in have]
+    from rcdoc.note import charts_time
+    images = charts_time.corner_overview_pages(
+        "board-overview", rows, fmt="png", skip={k for k, im in enumerate(have) if im is not None})
+    images = [old if old is not None else new
+              for old, new in zip(have + [None] * (len(images) - len(have)), images)]
     titles = overview_titles([row["label"] for row in rows])
     return [{"image": im, "title": t} for im, t in zip(images, titles)]
-
-
-def overview_titles(labels: Sequence[str]) -> list[str]:
-    """The headings of the summary charts of stages ``labels``, one per chart as
-    charts_time.corner_overview_pages deals the stages out."""
-    pieces = charts_time.overview_slices(len(labels))
-    if len(pieces) == 1:
-        return ["Corner, notch and ring frequencies of all stages"]
-    return [f"Corner, notch and ring frequencies, stages {labels[p.start]} to "
-            f"{labels[p.stop - 1]}" for p in pieces]
 
 
 def _overview_keys(charts: list[dict]) -> dict:
