@@ -120,6 +120,52 @@ def test_key_covers_stage_fields_and_analysis(project_file):
     assert canonical({"a": 1.0}) != canonical({"a": 1.0000000000000002})
 
 
+class _Payload:
+    """Pickles as a call of ``fn`` with ``args``: how a forged pickle runs code."""
+
+    def __init__(self, fn, *args):
+        self.fn, self.args = fn, args
+
+    def __reduce__(self):
+        return self.fn, self.args
+
+
+@pytest.mark.slow
+def test_forged_entry_runs_no_code_and_is_rebuilt(project_file, tmp_path, monkeypatch):
+    # An entry that names a function (here one that would write a file) is refused
+    # as it loads, before the call: nothing runs, and the stage is analysed again
+    # (common practice for pickles in a folder others may write, such as a cache
+    # committed in a pull request).
+    import os
+    import pickle
+    out = tmp_path / "out"
+    p = load_project(str(project_file))
+    build.analyse_project(p, draw=True, out_dir=out).commit_cache()
+    cache = StageCache.for_output(out, str(project_file))
+    key = stage_key(p.stages[0], p)
+    marker = tmp_path / "ran"
+    forged = [_Payload(os.system, f"touch {marker}"), _Payload(Path.touch, marker),
+              _Payload(eval, "1"), _Payload(__import__, "os")]
+    for payload in forged:
+        (cache.root / f"{key}.pickle").write_bytes(pickle.dumps(
+            {"format": "rcdoc-stage-cache-1", "key": key, "result": payload, "context": {},
+             "part": None}, protocol=pickle.HIGHEST_PROTOCOL))
+        assert StageCache.for_output(out, str(project_file)).get(key) is None
+    # The same through a class of rcdoc's that is not a data class, and through an
+    # attribute chain from a data class to the module's globals.
+    from rcdoc.analysis.results import StageResult
+    for module, name in (("rcdoc.commands.workers", "WorkerPool"),
+                         ("rcdoc.files", "write_atomic"),
+                         ("rcdoc.analysis.results", "StageResult.__init__.__globals__")):
+        with pytest.raises(pickle.UnpicklingError):
+            from rcdoc.commands.cache import _EntryUnpickler
+            _EntryUnpickler(__import__("io").BytesIO(b"")).find_class(module, name)
+    assert StageResult is not None and not marker.exists()
+    calls = _counting(monkeypatch)
+    again = build.analyse_project(p, draw=True, out_dir=out)
+    assert calls == ["lp"] and again.cached == ["hp"] and not marker.exists()
+
+
 @pytest.mark.slow
 def test_damaged_entry_is_rebuilt(project_file, tmp_path, monkeypatch):
     out = tmp_path / "out"

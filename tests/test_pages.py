@@ -111,6 +111,22 @@ def all_kinds_pages(tmp_path_factory):
     return _render(out, board)
 
 
+def test_every_kinds_cache_entries_load_as_rcdoc_data(all_kinds_pages):
+    # The build cache's entries are read back by an unpickler that builds rcdoc's
+    # data classes, numpy arrays and plain values only (rcdoc.commands.cache): what
+    # every kind files (results, drawn blocks, note parts) loads through it, the
+    # same objects as pickle's own load.
+    import pickle
+
+    from rcdoc.commands.cache import CACHE_DIR_NAME, _load
+    entries = sorted((all_kinds_pages[0]["pdf"].parent / CACHE_DIR_NAME).rglob("*.pickle"))
+    # A stage of every kind (and of each snubber variant), and the note's parts.
+    assert len(entries) > len(KINDS) and any(e.stem == "note-parts" for e in entries)
+    for entry in entries:
+        plain = pickle.loads(entry.read_bytes())
+        assert pickle.dumps(_load(entry), protocol=5) == pickle.dumps(plain, protocol=5)
+
+
 def _page_lines(page) -> dict:
     """The page's text and the lowest body-text baseline as a fraction of the body height."""
     height = float(page.mediabox.height)

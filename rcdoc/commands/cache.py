@@ -19,13 +19,19 @@ and one more, ``note-parts.pickle``, for the parts of the note that span all
 stages but change rarely (the appendix and the page numbers).
 
 What it must not do: analyse, draw, or decide what a stage needs; it stores
-and finds. The entries are pickles: the folder is a private scratch area of
-the build, never something to share or to load from an untrusted source.
+and finds. The entries are pickles, read back by an unpickler that builds
+rcdoc's own data classes, numpy arrays and plain values and nothing else
+(``_EntryUnpickler``): an entry that names anything else (a function to call,
+which is how a forged pickle runs code) is refused and rebuilt. The folder is
+still a private scratch area of the build: an entry holds results as computed,
+so one from an untrusted source (a pull request that commits it) could hold
+made-up verdicts. Never share it or take it from such a source.
 """
 
 from __future__ import annotations
 
 import dataclasses
+import enum
 import hashlib
 import json
 import math
@@ -109,6 +115,47 @@ def stage_key(stage, project) -> str:
     return hashlib.sha256(text.encode("utf-8")).hexdigest()
 
 
+# What an entry may name besides rcdoc's own data classes: numpy's array, scalar
+# and dtype rebuilders (numpy 1 and 2 module names) and a few builtin types.
+_PLAIN = {("builtins", "complex"), ("builtins", "set"), ("builtins", "frozenset"),
+          ("builtins", "slice"), ("numpy", "dtype"), ("numpy", "ndarray"),
+          ("numpy._core.numeric", "_frombuffer"), ("numpy.core.numeric", "_frombuffer"),
+          ("numpy._core.multiarray", "_reconstruct"), ("numpy.core.multiarray", "_reconstruct"),
+          ("numpy._core.multiarray", "scalar"), ("numpy.core.multiarray", "scalar")}
+
+
+class _EntryUnpickler(pickle.Unpickler):
+    """Unpickles what StageCache files and nothing else: rcdoc's data classes
+    (dataclasses, enums, named tuples, and FrozenMap, which pickles as one call
+    of itself), numpy arrays, scalars and dtypes, and builtin values. A pickle
+    runs code only through the globals it names (a function, called with its
+    arguments as it loads); any other name stops the load, and the entry is
+    rebuilt (common practice for pickles from a folder others can write)."""
+
+    def find_class(self, module: str, name: str):
+        if "." in name:                 # no attribute chains (Class.__init__.__globals__)
+            raise pickle.UnpicklingError(f"{module}.{name}: not in a cache entry")
+        if (module, name) in _PLAIN:
+            return super().find_class(module, name)
+        if module == "rcdoc" or module.startswith("rcdoc."):
+            found = super().find_class(module, name)
+            if isinstance(found, type) and (
+                    dataclasses.is_dataclass(found) or issubclass(found, enum.Enum)
+                    or (issubclass(found, tuple) and hasattr(found, "_fields"))
+                    or (found.__name__ == "FrozenMap" and found.__module__ == "rcdoc.analysis.results")):
+                return found
+        elif module.split(".")[0] == "numpy":
+            found = super().find_class(module, name)
+            if isinstance(found, type) and issubclass(found, np.generic):
+                return found
+        raise pickle.UnpicklingError(f"{module}.{name}: not in a cache entry")
+
+
+def _load(path: Path):
+    with open(path, "rb") as fh:
+        return _EntryUnpickler(fh).load()
+
+
 class StageCache:
     """Entries of one project in ``root`` (``<out>/.rcdoc-cache/<stem>``)."""
 
@@ -135,8 +182,7 @@ class StageCache:
         """(StageResult, stage context) for ``key``, or None (missing or unreadable)."""
         self.used.add(key)
         try:
-            with open(self._path(key), "rb") as fh:
-                entry = pickle.load(fh)
+            entry = _load(self._path(key))
             if (isinstance(entry, dict) and entry.get("format") == _FORMAT
                     and entry.get("key") == key and "result" in entry and "context" in entry):
                 self.hits += 1
@@ -165,8 +211,7 @@ class StageCache:
         the last build filed, by name; each carries its own key (rcdoc.note.assemble)."""
         self.used.add(_NOTE_PARTS)
         try:
-            with open(self._path(_NOTE_PARTS), "rb") as fh:
-                entry = pickle.load(fh)
+            entry = _load(self._path(_NOTE_PARTS))
             if isinstance(entry, dict) and entry.get("format") == _FORMAT:
                 return {k: v for k, v in entry.get("parts", {}).items() if isinstance(v, dict)}
         except Exception:  # noqa: BLE001 - a damaged entry is rendered again
