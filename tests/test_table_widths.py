@@ -104,6 +104,30 @@ def test_no_widths_when_the_narrowest_columns_do_not_fit():
     assert table_widths.widths([], [], []) is None
 
 
+@pytest.mark.parametrize("name", ["DejaVuSans.ttf", "DejaVuSans-Bold.ttf"])
+def test_advances_read_from_the_font_tables_are_fonttools_own(name, tmp_path):
+    # The advances come from the font's tables read directly (OpenType spec:
+    # table directory, head, hhea, hmtx, cmap format 12); fontTools, a general-
+    # purpose font library, reads the same numbers for every code point.
+    import importlib.util
+    from pathlib import Path
+    folder = Path(importlib.util.find_spec("matplotlib").submodule_search_locations[0])
+    path = folder / "mpl-data" / "fonts" / "ttf" / name
+    direct = table_widths._read_advances(path)
+    assert len(direct) > 5000 and direct == table_widths._font_tools_advances(path)
+    # A font without the full-repertoire subtable (here: its cmap's directory entry
+    # renamed) is left to fontTools; a cut-off file ends in an error _advances catches.
+    data = bytearray(path.read_bytes())
+    at = bytes(data).index(b"cmap", 12)
+    data[at:at + 4] = b"cmaq"
+    (tmp_path / "no-cmap.ttf").write_bytes(bytes(data))
+    assert table_widths._read_advances(tmp_path / "no-cmap.ttf") is None
+    (tmp_path / "cut.ttf").write_bytes(path.read_bytes()[:2000])
+    import struct
+    with pytest.raises((struct.error, IndexError, ValueError)):
+        table_widths._read_advances(tmp_path / "cut.ttf")
+
+
 def test_missing_glyphs_are_taken_as_wide_as_the_widest():
     # A character DejaVu Sans lacks is drawn from another font: never taken narrower
     # than the widest glyph the font has (common practice: err wide).
