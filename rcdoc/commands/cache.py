@@ -124,6 +124,10 @@ _PLAIN = {("builtins", "complex"), ("builtins", "set"), ("builtins", "frozenset"
           ("numpy._core.multiarray", "scalar"), ("numpy.core.multiarray", "scalar")}
 
 
+# The packages whose data classes an entry holds; importing them runs nothing else.
+_DATA_PACKAGES = ("rcdoc.analysis.", "rcdoc.input.", "rcdoc.kinds.")
+
+
 class _EntryUnpickler(pickle.Unpickler):
     """Unpickles what StageCache files and nothing else: rcdoc's data classes
     (dataclasses, enums, named tuples, and FrozenMap, which pickles as one call
@@ -137,16 +141,16 @@ class _EntryUnpickler(pickle.Unpickler):
             raise pickle.UnpicklingError(f"{module}.{name}: not in a cache entry")
         if (module, name) in _PLAIN:
             return super().find_class(module, name)
-        if module == "rcdoc" or module.startswith("rcdoc."):
+        if module.startswith(_DATA_PACKAGES):   # not any module: importing one may run code
             found = super().find_class(module, name)
             if isinstance(found, type) and (
                     dataclasses.is_dataclass(found) or issubclass(found, enum.Enum)
                     or (issubclass(found, tuple) and hasattr(found, "_fields"))
                     or (found.__name__ == "FrozenMap" and found.__module__ == "rcdoc.analysis.results")):
                 return found
-        elif module.split(".")[0] == "numpy":
+        elif module in ("numpy", "numpy.dtypes"):
             found = super().find_class(module, name)
-            if isinstance(found, type) and issubclass(found, np.generic):
+            if isinstance(found, type) and issubclass(found, (np.generic, np.dtype)):
                 return found
         raise pickle.UnpicklingError(f"{module}.{name}: not in a cache entry")
 

@@ -4,7 +4,7 @@ the note's drawing modules, loaded once before any worker forks.
 The renderer (weasyprint, with the note's trimmed user-agent sheet) is not among
 them: a worker loads it when it first renders a part of the note. The workers of
 a one-value rebuild only draw (the command's process renders the parts), and
-their fork server, on that rebuild's critical path, is ready 0.2 s sooner
+their fork server, on that rebuild's critical path, is ready about 0.25 s sooner
 without it; a cold build's workers each load it once.
 
 The server is started early (WorkerPool.warm), beside the command's own imports and

@@ -368,8 +368,8 @@ def charts_context(context: Mapping) -> dict | None:
     """The context of the part that holds the summary charts where they take pages
     of their own (rcdoc.note.overview.own_pages), and the change record that
     follows them; None where they stay in the front part. Made of the note's head
-    and the charts alone, so that a worker that drew the charts renders the same
-    part (rcdoc.commands.schedule)."""
+    and the charts alone, so that it is the same part wherever it is made (a
+    rebuild renders it from the charts a worker drew: rcdoc.commands.schedule)."""
     charts = list(context.get("overview_images") or [])
     if not own_pages(charts):
         return None
