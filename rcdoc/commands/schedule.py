@@ -62,8 +62,9 @@ def one_beside_front(shared: WorkerPool, project: Project, i: int, part_job, set
     handing = threading.Thread(target=_submit, args=(box, shared, [
         (_draw_unit, answer[1], project), (_charts_unit, rows, drawn, keys)]), daemon=True)
     handing.start()
+    apart = own_pages(titles)
     try:
-        if own_pages(titles):   # the front part has no charts: render it now
+        if apart:       # the front part has no charts: render it now
             _early_front(project, results, part_job, note_parts,
                          [{"image": b"", "title": t} for t in titles])
         if meanwhile is not None:
@@ -75,8 +76,12 @@ def one_beside_front(shared: WorkerPool, project: Project, i: int, part_job, set
         drawing, charting = box["futures"]
         charts = charting.result()
         _file_charts(note_parts, keys, charts)
-        # The front part (unless rendered above: the same key) and the charts' own part.
-        _early_front(project, results, part_job, note_parts, charts)
+        if apart:       # their own part, from the note's head and the charts alone
+            from rcdoc.note.assemble import charts_context
+            _render_note_part(charts_context({**part_job[0], "overview_images": charts}),
+                              "overview", part_job, note_parts)
+        else:           # the front part shows them
+            _early_front(project, results, part_job, note_parts, charts)
         context, _ = drawing.result()
         stage_part = _part_unit(context, part_job)
     except BaseException as exc:
