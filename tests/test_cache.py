@@ -54,6 +54,18 @@ def project_file(tmp_path):
     return path
 
 
+def _rendering(monkeypatch) -> list:
+    """The parts of the note rendered in this process from now on, by name, in order."""
+    import rcdoc.note.assemble as assemble
+    rendered, real = [], assemble.render_part
+
+    def recorded(context, part, **kw):
+        rendered.append(part)
+        return real(context, part, **kw)
+    monkeypatch.setattr(assemble, "render_part", recorded)
+    return rendered
+
+
 def _counting(monkeypatch):
     """Count stage analyses run in this process."""
     calls = []
@@ -120,6 +132,13 @@ def test_key_covers_stage_fields_and_analysis(project_file):
     assert canonical({"a": 1.0}) != canonical({"a": 1.0000000000000002})
 
 
+def _filed(project_file, out):
+    """The project, built once into ``out`` with its cache entries filed, and that cache."""
+    p = load_project(str(project_file))
+    build.analyse_project(p, draw=True, out_dir=out).commit_cache()
+    return p, StageCache.for_output(out, str(project_file))
+
+
 class _Payload:
     """Pickles as a call of ``fn`` with ``args``: how a forged pickle runs code."""
 
@@ -136,33 +155,33 @@ def test_forged_entry_runs_no_code_and_is_rebuilt(project_file, tmp_path, monkey
     # as it loads, before the call: nothing runs, and the stage is analysed again
     # (common practice for pickles in a folder others may write, such as a cache
     # committed in a pull request).
+    import io
     import os
     import pickle
+
+    from rcdoc.commands.cache import _FORMAT, _EntryUnpickler
     out = tmp_path / "out"
-    p = load_project(str(project_file))
-    build.analyse_project(p, draw=True, out_dir=out).commit_cache()
-    cache = StageCache.for_output(out, str(project_file))
+    p, cache = _filed(project_file, out)
     key = stage_key(p.stages[0], p)
     marker = tmp_path / "ran"
     forged = [_Payload(os.system, f"touch {marker}"), _Payload(Path.touch, marker),
               _Payload(eval, "1"), _Payload(__import__, "os")]
     for payload in forged:
         (cache.root / f"{key}.pickle").write_bytes(pickle.dumps(
-            {"format": "rcdoc-stage-cache-1", "key": key, "result": payload, "context": {},
+            {"format": _FORMAT, "key": key, "result": payload, "context": {},
              "part": None}, protocol=pickle.HIGHEST_PROTOCOL))
         assert StageCache.for_output(out, str(project_file)).get(key) is None
-    # The same through a class of rcdoc's that is not a data class, and through an
-    # attribute chain from a data class to the module's globals.
-    from rcdoc.analysis.results import StageResult
+    # The same for a class of rcdoc's that is not data, a function of rcdoc's, a
+    # module outside the data packages, and an attribute chain from a data class
+    # to its module's globals.
     for module, name in (("rcdoc.commands.workers", "WorkerPool"),
                          ("rcdoc.files", "write_atomic"),
-                         ("rcdoc.note.report", "ConfinedFetcher"),   # a class, not data
+                         ("rcdoc.note.report", "ConfinedFetcher"),
                          ("numpy.testing", "assert_equal"),
                          ("rcdoc.analysis.results", "StageResult.__init__.__globals__")):
         with pytest.raises(pickle.UnpicklingError):
-            from rcdoc.commands.cache import _EntryUnpickler
-            _EntryUnpickler(__import__("io").BytesIO(b"")).find_class(module, name)
-    assert StageResult is not None and not marker.exists()
+            _EntryUnpickler(io.BytesIO(b"")).find_class(module, name)
+    assert not marker.exists()
     calls = _counting(monkeypatch)
     again = build.analyse_project(p, draw=True, out_dir=out)
     assert calls == ["lp"] and again.cached == ["hp"] and not marker.exists()
@@ -171,9 +190,7 @@ def test_forged_entry_runs_no_code_and_is_rebuilt(project_file, tmp_path, monkey
 @pytest.mark.slow
 def test_damaged_entry_is_rebuilt(project_file, tmp_path, monkeypatch):
     out = tmp_path / "out"
-    p = load_project(str(project_file))
-    build.analyse_project(p, draw=True, out_dir=out).commit_cache()
-    cache = StageCache.for_output(out, str(project_file))
+    p, cache = _filed(project_file, out)
     victim = cache.root / f"{stage_key(p.stages[0], p)}.pickle"
     victim.write_bytes(b"\x80\x05 not a pickle at all")
     calls = _counting(monkeypatch)
@@ -206,7 +223,6 @@ def test_failed_build_writes_no_cache(tmp_path, monkeypatch):
 
 @pytest.mark.slow
 def test_jobs_and_cache_give_the_same_bytes(project_file, tmp_path, monkeypatch):
-    import rcdoc.note.assemble as assemble
     p = load_project(str(project_file))
     serial = build.analyse_project(p, draw=True, jobs=1)
     pooled = build.analyse_project(p, draw=True, jobs=2)
@@ -220,10 +236,7 @@ def test_jobs_and_cache_give_the_same_bytes(project_file, tmp_path, monkeypatch)
     later = build.analyse_project(p, draw=True, jobs=2, front=False)
     assert "front" not in later.note_parts and later.overview is None
     assert later.contexts == serial.contexts
-    rendered = []
-    real = assemble.render_part
-    monkeypatch.setattr(assemble, "render_part",
-                        lambda ctx, part, **kw: rendered.append(part) or real(ctx, part, **kw))
+    rendered = _rendering(monkeypatch)
     a = build.write_outputs(serial, tmp_path / "a")
     assert "appendix" in rendered
     rendered.clear()
@@ -270,18 +283,11 @@ def test_rebuild_reuses_page_numbers_and_gives_the_same_bytes(project_file, tmp_
                                                              monkeypatch):
     # The page-number part is reused when the page count did not change; the
     # rebuilt note is byte for byte the note a cold build makes (common practice).
-    import rcdoc.note.assemble as assemble
     out = tmp_path / "out"
     first = build.analyse_project(load_project(str(project_file)), draw=True, out_dir=out)
     build.write_outputs(first, out)
     project_file.write_text(PROJECT.replace('value = "100k"', 'value = "120k"'), encoding="utf-8")
-    rendered = []
-    real = assemble.render_part
-
-    def counted(context, part, **kw):
-        rendered.append(part)
-        return real(context, part, **kw)
-    monkeypatch.setattr(assemble, "render_part", counted)
+    rendered = _rendering(monkeypatch)
     p = load_project(str(project_file))
     pdf, _ = build.write_outputs(build.analyse_project(p, draw=True, out_dir=out), out)
     assert "numbers" not in rendered and "front" in rendered and "stage" in rendered
@@ -296,16 +302,12 @@ def test_one_stage_drawn_by_a_worker_beside_the_front(project_file, tmp_path, mo
     # by a worker while this process renders the front matter from the results,
     # and its part rendered here once the drawing is in (the renderer is warm here);
     # the note is byte for byte the note a cold serial build makes (common practice).
-    import rcdoc.note.assemble as assemble
     out = tmp_path / "out"
     first = build.analyse_project(load_project(str(project_file)), draw=True, out_dir=out)
     build.write_outputs(first, out)
     project_file.write_text(PROJECT.replace('value = "100k"', 'value = "120k"'), encoding="utf-8")
     calls = _counting(monkeypatch)
-    rendered = []
-    real = assemble.render_part
-    monkeypatch.setattr(assemble, "render_part",
-                        lambda ctx, part, **kw: rendered.append(part) or real(ctx, part, **kw))
+    rendered = _rendering(monkeypatch)
     p = load_project(str(project_file))
     with build.WorkerPool(2, draw=True) as pool:
         pool.warm()       # as the command does: without a fork server started early

@@ -12,6 +12,7 @@ from pathlib import Path
 import pypdf
 import pytest
 from boards import overview_rows, summary_context
+from test_cache import _rendering
 
 from rcdoc.commands import build, schedule
 from rcdoc.kinds import load_project
@@ -214,10 +215,7 @@ def test_rebuild_of_a_board_with_several_summary_charts(tmp_path, monkeypatch):
     assert first.note_parts["overview"]["pages"] == 2
     build.write_outputs(first, out)
     path.write_text(_board(n, changed=n - 1), encoding="utf-8")
-    rendered = []
-    real = assemble.render_part
-    monkeypatch.setattr(assemble, "render_part",
-                        lambda ctx, part, **kw: rendered.append(part) or real(ctx, part, **kw))
+    rendered = _rendering(monkeypatch)
     p = load_project(str(path))
     with build.WorkerPool(2, draw=True) as pool:
         pool.warm()

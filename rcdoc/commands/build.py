@@ -296,8 +296,7 @@ def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
 def prepare(project: Project, results, into: dict) -> dict:
     """The JSON summary and the parts list of ``results`` (bytes, as written), in
     ``into``: made by write_outputs, or before it by a rebuild's main process while
-    it waits for its workers (rcdoc.commands.schedule.one_beside_front), which also
-    loads what joins the note's parts then."""
+    its workers draw (rcdoc.commands.schedule.one_beside_front's ``meanwhile``)."""
     from rcdoc.note.partslist import parts_csv
     from rcdoc.note.summary import summary, to_json
     into["json"] = to_json(summary(project, results)).encode("utf-8")
