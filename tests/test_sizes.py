@@ -21,6 +21,9 @@ MAX_MODULE_LINES = 600
 MAX_FUNCTION_LINES = 80
 
 PENDING: set[str] = set()      # no file is exempt
+# Written by a tool, not by hand (tools/compile_templates.py: jinja2's code of a
+# shipped template, one function per template); the templates themselves are small.
+GENERATED = "rcdoc/note/compiled_templates/t_"
 
 
 def long_functions(source: str, limit: int) -> list[tuple[str, int, int]]:
@@ -43,12 +46,15 @@ def long_functions(source: str, limit: int) -> list[tuple[str, int, int]]:
 
 
 def modules() -> list[Path]:
-    return sorted(PACKAGE.rglob("*.py"))
+    return sorted(p for p in PACKAGE.rglob("*.py")
+                  if not p.relative_to(ROOT).as_posix().startswith(GENERATED))
 
 
 def test_the_scan_sees_the_package():
     names = {p.relative_to(ROOT).as_posix() for p in modules()}
     assert "rcdoc/analysis/engine.py" in names and "rcdoc/commands/cli.py" in names
+    assert "rcdoc/note/compiled_templates/__init__.py" in names
+    assert not any(n.startswith(GENERATED) for n in names)
     assert len(names) > 30
 
 

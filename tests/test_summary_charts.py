@@ -221,11 +221,12 @@ def test_rebuild_of_a_board_with_several_summary_charts(tmp_path, monkeypatch):
         pool.warm()
         again = build.analyse_project(p, draw=True, jobs=2, out_dir=out, pool=pool)
     assert again.computed == [f"f{n - 1}"]
-    # The front part first (it does not wait for the charts), then the charts' part.
-    assert rendered == ["front", "overview", "stage"]
+    # The front part first (it does not wait for the charts), then the stage's part
+    # (the charts' worker yields its core to the stage's drawing), then the charts'.
+    assert rendered == ["front", "stage", "overview"]
     assert again.note_parts["overview"]["key"] != first.note_parts["overview"]["key"]
     pdf, _ = build.write_outputs(again, out)
-    assert rendered == ["front", "overview", "stage"]        # nothing rendered again
+    assert rendered == ["front", "stage", "overview"]        # nothing rendered again
     cold = build.write_outputs(build.analyse_project(p, draw=True), tmp_path / "cold")[0]
     assert Path(pdf).read_bytes() == Path(cold).read_bytes()
     reader = pypdf.PdfReader(pdf)
@@ -234,3 +235,18 @@ def test_rebuild_of_a_board_with_several_summary_charts(tmp_path, monkeypatch):
     first_stage = next(i for i, t in enumerate(texts) if "Filter 0" in t and "Schematic" in t)
     # Cover, the summary table, then the two charts, each on a page of its own, then stages.
     assert heads == [heads[0], heads[0] + 1] and heads[0] >= 2 and first_stage == heads[1] + 1
+
+
+def test_a_worker_whose_charts_nothing_waits_for_yields_its_core():
+    # The charts' unit of a rebuild whose charts take pages of their own lowers its
+    # process's priority (niceness 10, never less than it was); other units do not.
+    code = ("import os, sys\n"
+            "from rcdoc.commands import workers\n"
+            "before = os.getpriority(os.PRIO_PROCESS, 0)\n"
+            "workers._charts_unit([], behind=sys.argv[1] == '1')\n"
+            "print(before, os.getpriority(os.PRIO_PROCESS, 0))\n")
+    for behind in ("0", "1"):
+        out = subprocess.run([sys.executable, "-c", code, behind], capture_output=True,
+                             text=True, check=True).stdout.split()
+        before, after = int(out[0]), int(out[1])
+        assert after == (max(before, 10) if behind == "1" else before)

@@ -232,3 +232,100 @@ def test_cells_that_fit_a_narrower_column_are_laid_out_as_when_they_may_wrap():
     assert all(n == 1 for n, fits in zip(want, nowrap) if fits)
     assert max(want) > 1                                         # the long row wraps
     assert table(plain).count("<span") < table(spans).count("<span")
+
+
+def test_pieces_keep_each_number_with_its_unit():
+    # The narrowest width of a column is its widest unbreakable piece: a number with
+    # its unit is one (str.split would also split at the no-break space joining them).
+    assert table_widths._pieces("Corner frequency: 2.74 kHz (2.59 kHz … 2.91 kHz)") == [
+        "Corner", "frequency:", "2.74\u00a0kHz", "(2.59\u00a0kHz", "…", "2.91\u00a0kHz)"]
+    assert table_widths._pieces(" a\u00a0b  c\n") == ["a\u00a0b", "c"]
+
+
+def test_lines_break_first_fit_between_pieces():
+    text = "Corner frequency: 2.74 kHz (2.59 kHz … 2.91 kHz)"
+    w = table_widths.text_width
+    for limit in (45.0, 70.0, 90.0, 120.0, 160.0):
+        lines = table_widths._lines(text, limit)
+        assert " ".join(lines) == text
+        assert all(w(line) <= limit for line in lines)
+        # First fit: no line could have taken the next line's first piece.
+        for line, after in zip(lines, lines[1:]):
+            first = table_widths._pieces(after)[0].replace("\u00a0", " ")
+            assert w(f"{line} {first}") > limit
+        assert not any(line.endswith(("2.74", "2.59", "2.91")) for line in lines)
+    assert table_widths._lines(text, 20.0) is None        # "frequency:" alone is wider
+    assert table_widths._lines("one", 100.0) == ("one",)
+
+
+def _cell_boxes(html: str) -> list[tuple[int, float, float, str]]:
+    """Every table cell weasyprint lays out in ``html``: (lines, widest line, content
+    width, text), widths in pt."""
+    doc = weasyprint.HTML(string=f"<style>{CSS}</style>{html}").render()
+    found = []
+
+    def line_boxes(box):
+        if isinstance(box, boxes.LineBox):
+            return [box]
+        return [b for child in getattr(box, "children", []) for b in line_boxes(child)]
+
+    def text(box):
+        if isinstance(box, boxes.TextBox):
+            return box.text
+        return "".join(text(child) for child in getattr(box, "children", []))
+
+    def walk(box):
+        if isinstance(box, boxes.TableCellBox):
+            lines = line_boxes(box)
+            widest = max((sum(c.margin_width() for c in line.children) for line in lines),
+                         default=0.0)
+            found.append((len(lines), widest * PX, box.width * PX,
+                          " ".join(text(line) for line in lines)))
+        for child in getattr(box, "children", []):
+            walk(child)
+    for page in doc.pages:
+        walk(page._page_box)
+    return found
+
+
+def test_cells_set_in_measured_lines_fit_their_columns():
+    # Reference: weasyprint's own layout. A cell of a column too narrow for it is set
+    # in the lines table_widths measured (no wrapping, no span per number and unit):
+    # every line must fit the cell, and the cell must show its text, in as many
+    # lines as measured and at most one more than weasyprint's own wrapping of it.
+    columns = ["Requirement", "Limit", "Worst case"]
+    rows = [["Corner frequency", "180 Hz … 280 Hz", "213 Hz … 241 Hz"],
+            ["Gain at 1 kHz, the mark the converter reads at its rate",
+             "≤ −10 dB at 1 kHz and ≥ −0.5 dB at 10 Hz, over the whole range",
+             "−13.6 dB … −12.6 dB at 1 kHz; −0.1 dB … 0 dB at 10 Hz over the range"],
+            ["Multiple-feedback low-pass", "Corner frequency: 59 Hz (48.1 Hz … 73.8 Hz)",
+             "Sallen-Key low-pass, unity gain"]]
+    shares = table_widths.widths(columns, rows, ["", "", ""], room=300.0)
+    assert shares is not None and not shares.roomy
+    set_lines = [[None] * 3 if lines is None else lines for lines in shares.row_lines]
+    assert sum(bool(c) for r in set_lines for c in r) >= 4
+
+    def cell(value, kind, lines, spans):
+        if lines and not spans:
+            return (f'<td class="{(kind + " nw").strip()}">'
+                    + "<br>".join(str(escape(line)) for line in lines) + "</td>")
+        return f'<td class="{kind}">{report._keep_units(value, kind)}</td>'
+
+    def table(spans):
+        cols = "".join(f'<col style="width: {s}%">' for s in shares)
+        body = "".join("<tr>" + "".join(
+            cell(v, "" if spans else k, ls, spans) for v, k, ls in zip(row, ks, lr)) + "</tr>"
+            for row, ks, lr in zip(rows, shares.row_kinds, set_lines))
+        return (f'<div style="width: 300pt"><table class="data fixed"><colgroup>{cols}'
+                f"</colgroup><tbody>{body}</tbody></table></div>")
+
+    got, own = _cell_boxes(table(False)), _cell_boxes(table(True))
+    for (n, widest, width, shown), (n_own, *_), value, lines in zip(
+            got, own, [v for r in rows for v in r], [c for r in set_lines for c in r]):
+        assert widest <= width + 0.01, (value, widest, width)
+        assert " ".join(shown.split()) == " ".join(value.split())
+        if lines:
+            assert n == len(lines) and n_own <= n <= n_own + 1
+        else:
+            assert n == n_own
+    assert table(False).count("<span") < table(True).count("<span")

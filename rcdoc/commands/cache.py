@@ -97,9 +97,9 @@ def code_fingerprint() -> str:
     for path in sorted(package.rglob("*.py")):
         h.update(path.relative_to(package).as_posix().encode() + b"\0")
         h.update(path.read_bytes() + b"\0")
+    from rcdoc.versions import version
     for name in ("numpy", "scipy", "matplotlib", "schemdraw", "ziamath", "ziafont"):
         try:
-            from importlib.metadata import version
             h.update(f"{name}={version(name)}\0".encode())
         except Exception:  # noqa: BLE001 - a missing library is part of the fingerprint too
             h.update(f"{name}=?\0".encode())

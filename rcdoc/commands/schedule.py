@@ -58,11 +58,11 @@ def one_beside_front(shared: WorkerPool, project: Project, i: int, part_job, set
     keys, drawn = _chart_store(rows, note_parts)
     # Starting the workers waits for the fork server's imports (they may still run
     # on a busy machine): a thread waits for it, this process goes on.
+    apart = own_pages(titles)
     box: dict = {}
     handing = threading.Thread(target=_submit, args=(box, shared, [
-        (_draw_unit, answer[1], project), (_charts_unit, rows, drawn, keys)]), daemon=True)
+        (_draw_unit, answer[1], project), (_charts_unit, rows, drawn, keys, apart)]), daemon=True)
     handing.start()
-    apart = own_pages(titles)
     try:
         if apart:       # the front part has no charts: render it now
             _early_front(project, results, part_job, note_parts,
@@ -74,16 +74,21 @@ def one_beside_front(shared: WorkerPool, project: Project, i: int, part_job, set
         if "error" in box:
             raise box["error"]
         drawing, charting = box["futures"]
-        charts = charting.result()
-        _file_charts(note_parts, keys, charts)
-        if apart:       # their own part, from the note's head and the charts alone
+        if apart:       # the stage's part first: the charts' worker yields its core meanwhile
+            context, _ = drawing.result()
+            stage_part = _part_unit(context, part_job)
+            charts = charting.result()
+            _file_charts(note_parts, keys, charts)
+            # Their own part, from the note's head and the charts alone.
             from rcdoc.note.assemble import charts_context
             _render_note_part(charts_context({**part_job[0], "overview_images": charts}),
                               "overview", part_job, note_parts)
         else:           # the front part shows them
+            charts = charting.result()
+            _file_charts(note_parts, keys, charts)
             _early_front(project, results, part_job, note_parts, charts)
-        context, _ = drawing.result()
-        stage_part = _part_unit(context, part_job)
+            context, _ = drawing.result()
+            stage_part = _part_unit(context, part_job)
     except BaseException as exc:
         handing.join()
         _cancel(box.get("futures", []), exc)

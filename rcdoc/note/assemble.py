@@ -112,13 +112,12 @@ def chunk_keys(stage_keys: Sequence[str], template_dirs: Sequence[Path], epoch: 
 @functools.lru_cache(maxsize=1)
 def _renderer_id() -> tuple[str, ...]:
     """The renderer's library versions and the font subsetter: fixed for a
-    process, and read once (importlib.metadata parses each package's
-    METADATA file on every call, 7 ms a call)."""
-    from importlib.metadata import version
+    process, and read once (rcdoc.versions)."""
+    from rcdoc.versions import version
     versions = []
-    for name in ("weasyprint", "pydyf", "fonttools"):
+    for name, package in (("weasyprint", None), ("pydyf", None), ("fonttools", "fontTools")):
         try:
-            versions.append(f"{name}={version(name)}")
+            versions.append(f"{name}={version(name, package)}")
         except Exception:  # noqa: BLE001 - a missing library is part of the key too
             versions.append(f"{name}=?")
     return (*versions, font_subsetter())
@@ -135,8 +134,8 @@ def font_subsetter() -> str:
             return f"harfbuzz {_harfbuzz_version()}"
     except (ImportError, AttributeError, OSError):
         pass
-    from importlib.metadata import version
-    return f"fonttools {version('fonttools')}"
+    from rcdoc.versions import version
+    return f"fonttools {version('fonttools', 'fontTools')}"
 
 
 @functools.lru_cache(maxsize=1)

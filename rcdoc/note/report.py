@@ -70,6 +70,7 @@ from urllib.parse import urlsplit
 from urllib.request import url2pathname
 
 import jinja2
+import jinja2.bccache
 import jinja2.sandbox
 from rcdoc.note import renderer_libs  # noqa: F401 - weasyprint, without ctypes' library search
 import weasyprint
@@ -78,7 +79,7 @@ from weasyprint.urls import URLFetcher, URLFetcherResponse
 
 from rcdoc.errors import ProjectError
 from rcdoc.files import write_atomic
-from rcdoc.note import fast_layout, font_scratch, note_html, pdf_images, table_widths
+from rcdoc.note import compiled_templates, fast_layout, font_scratch, note_html, pdf_images, table_widths
 
 __all__ = [
     "render_document",
@@ -374,6 +375,43 @@ class _ConfinedLoader(jinja2.FileSystemLoader):
         return source, filename, uptodate
 
 
+class _Precompiled(jinja2.BytecodeCache):
+    """jinja2's bytecode cache interface, for one thing: the code of a shipped
+    template compiled ahead (rcdoc.note.compiled_templates: the same code,
+    bytecode kept by Python's imports), where the template read is that
+    template, unchanged, from the shipped folder. Nothing is ever stored."""
+
+    def __init__(self, shipped: Path, settings: str):
+        self.shipped, self.settings = shipped, settings
+
+    def get_bucket(self, environment, name, filename, source):
+        bucket = jinja2.bccache.Bucket(environment, "", self.get_source_checksum(source))
+        if filename is not None and Path(filename).parent == self.shipped:
+            bucket.code = compiled_templates.code(name, bucket.checksum, filename,
+                                                  self.settings, jinja2.__version__)
+        return bucket
+
+    def load_bytecode(self, bucket) -> None:
+        pass
+
+    def dump_bytecode(self, bucket) -> None:
+        pass
+
+    def set_bucket(self, bucket) -> None:
+        pass
+
+
+def _codegen_settings(env: jinja2.Environment) -> str:
+    """What of an environment shapes the code jinja2 makes of a template."""
+    names = ("block_start_string", "block_end_string", "variable_start_string",
+             "variable_end_string", "comment_start_string", "comment_end_string",
+             "line_statement_prefix", "line_comment_prefix", "trim_blocks", "lstrip_blocks",
+             "newline_sequence", "keep_trailing_newline", "optimized", "autoescape",
+             "sandboxed", "is_async")
+    return repr((type(env).__name__, *(getattr(env, n) for n in names),
+                 sorted(env.extensions), sorted(env.filters), sorted(env.tests)))
+
+
 def _environment(search_path: Sequence[Path]) -> jinja2.Environment:
     # One environment per template search path and process: it keeps the
     # compiled templates (compiling them for every part of the note took a
@@ -404,6 +442,7 @@ def _made_environment(search_path: tuple[Path, ...]) -> jinja2.Environment:
     env.filters["keep_units"] = _keep_units
     env.globals["column_kinds"] = _column_kinds
     env.globals["column_widths"] = table_widths.widths
+    env.bytecode_cache = _Precompiled(search_path[-1], _codegen_settings(env))
     return env
 
 

@@ -121,8 +121,34 @@ def text_width(text: str, size: float = _SIZE, bold: bool = False, wide: bool = 
 
 
 def _pieces(text: str) -> list[str]:
-    """The pieces a line may break between: words, a number kept with its unit."""
-    return _QUANTITY.sub(lambda m: f"{m.group(1)}\u00a0{m.group(2)}", text).split()
+    """The pieces a line may break between: words, a number kept with its unit
+    (joined here by a no-break space; the text's own no-break spaces join too)."""
+    return [p for p in _SPACES.split(_QUANTITY.sub(lambda m: f"{m.group(1)}\u00a0{m.group(2)}",
+                                                  text)) if p]
+
+
+# The spaces HTML collapses and breaks lines at (not str.split's: it splits at no-break
+# spaces too, and a number came apart from its unit).
+_SPACES = re.compile(r"[ \t\n\r\f]+")
+
+
+def _lines(text: str, limit: float) -> tuple[str, ...] | None:
+    """``text`` broken into lines of at most ``limit`` pt (measured erring wide),
+    first fit, only between _pieces (so never between a number and its unit);
+    None where one piece alone is wider."""
+    lines: list[str] = []
+    line = ""
+    quantity_spaces = _QUANTITY.sub(lambda m: f"{m.group(1)}\x00{m.group(2)}", text)
+    for piece in (p.replace("\x00", " ") for p in _SPACES.split(quantity_spaces) if p):
+        joined = f"{line} {piece}" if line else piece
+        if text_width(joined) <= limit:
+            line = joined
+            continue
+        if not line or text_width(piece) > limit:
+            return None
+        lines.append(line)
+        line = piece
+    return (*lines, line) if line else tuple(lines)
 
 
 def _cell(text: str, *, nowrap: bool, bold: bool = False) -> tuple[float, float]:
@@ -165,6 +191,7 @@ class Widths(list):
     roomy = False
     cell_kinds: list[str] = []
     row_kinds: list[list[str]] = []
+    row_lines: list[list[tuple[str, ...] | None]] = []
 
 
 def widths(columns: Sequence, rows: Sequence[Sequence], kinds: Sequence[str],
@@ -199,27 +226,40 @@ def widths(columns: Sequence, rows: Sequence[Sequence], kinds: Sequence[str],
     share.roomy = all(wide)
     share.cell_kinds = [k if not w or "nw" in k.split() else f"{k} nw".strip()
                         for k, w in zip(names, wide)]
-    share.row_kinds = _row_kinds(rows, share, linked, room)
+    share.row_kinds, share.row_lines = _row_kinds(rows, share, linked, room)
     return share
 
 
 def _row_kinds(rows: Sequence[Sequence], share: Widths, linked: bool,
-               room: float) -> list[list[str]]:
-    """Each row's cell classes: the column's (``share.cell_kinds``), with "nw" on a
-    cell whose text, measured erring wide, fits its column on one line: it would
-    not have wrapped, so it needs no span per number and unit either (such spans
-    were a tenth of a stage's text pieces, each laid out and drawn on its own)."""
+               room: float) -> tuple[list[list[str]], list[list[tuple[str, ...] | None]]]:
+    """Each row's cell classes and lines.
+
+    Classes: the column's (``share.cell_kinds``), with "nw" on a cell whose text,
+    measured erring wide, fits its column on one line: it would not have wrapped,
+    so it needs no span per number and unit either (such spans were a tenth of a
+    stage's text pieces, each laid out and drawn on its own).
+
+    Lines: for a cell of a column too narrow for it, its text broken into the
+    lines it will show (``_lines``: first fit, between words, never between a
+    number and its unit), or None where one piece alone is wider than the column.
+    Given, a cell shows these lines and does not wrap: again no span (a summary
+    row had three, a fifth of the front matter's render)."""
     kinds = share.cell_kinds
-    out = []
+    classes, lines = [], []
     for row in rows:
-        cells = list(kinds)
+        cells: list[str] = list(kinds)
+        broken: list[tuple[str, ...] | None] = [None] * len(kinds)
         for j, kind in enumerate(kinds[:len(row)]):
             if "nw" in kind.split() or (linked and j == 0) or row[j] is None:
                 continue
             value = str(row[j])
             if value in ("pass", "fail"):
                 continue
-            if text_width(value) + _PAD + _SPARE <= share[j] * room / 100:
+            limit = share[j] * room / 100 - _PAD - _SPARE
+            if text_width(value) <= limit:
                 cells[j] = f"{kind} nw".strip()
-        out.append(cells)
-    return out
+            elif len(value) > _SHORT:        # a short cell never wraps (_blocks.html)
+                broken[j] = _lines(value, limit)
+        classes.append(cells)
+        lines.append(broken)
+    return classes, lines
