@@ -123,6 +123,35 @@ def test_font_subsetter_loaded_on_first_use_subsets_the_same():
     assert "Subsetter" in lean
 
 
+WOFF2 = r'''
+import hashlib, io, os
+os.environ["SOURCE_DATE_EPOCH"] = "1700000000"    # fontTools stamps head.modified
+import rcdoc.note.renderer_libs
+import weasyprint.text.fonts as text_fonts
+print(type(text_fonts.woff2).__name__, "fontTools.ttLib.tables._g_l_y_f" in sys.modules)
+from fontTools.ttLib import TTFont
+from rcdoc.note.schematic import _font_file
+font = TTFont(_font_file())
+font.flavor = "woff2"
+packed = io.BytesIO()
+font.save(packed)
+out = io.BytesIO()
+text_fonts.woff2.decompress(io.BytesIO(packed.getvalue()), out)
+print(hashlib.sha256(out.getvalue()).hexdigest(), len(out.getvalue()))
+print(sorted(n for n in dir(text_fonts.woff2) if not n.startswith("__")))
+'''
+
+
+def test_woff2_module_loaded_on_first_use_decompresses_the_same():
+    lean, plain = _both(WOFF2)
+    # Not loaded (nor the glyph tables it brings) until a WOFF2 font is read;
+    # then fontTools' own round trip of DejaVu Sans gives the same bytes.
+    assert lean.splitlines()[0] == "_LazyModule False"
+    assert plain.splitlines()[0] == "module True"
+    assert lean.splitlines()[1:] == plain.splitlines()[1:]
+    assert "decompress" in lean
+
+
 # A variable font made with fontTools' own FontBuilder (one glyph, a weight axis,
 # one delta set), instanced through the name weasyprint's PDF font module holds.
 VARIABLE_FONT = r'''
