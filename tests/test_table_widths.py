@@ -137,21 +137,7 @@ def test_missing_glyphs_are_taken_as_wide_as_the_widest():
 
 def _cell_lines(html: str) -> list[int]:
     """The number of lines of every table cell weasyprint lays out in ``html``, in order."""
-    doc = weasyprint.HTML(string=f"<style>{CSS}</style>{html}").render()
-    found = []
-
-    def lines(box):
-        return (1 if isinstance(box, boxes.LineBox) else
-                sum(lines(child) for child in getattr(box, "children", [])))
-
-    def walk(box):
-        if isinstance(box, boxes.TableCellBox):
-            found.append(lines(box))
-        for child in getattr(box, "children", []):
-            walk(child)
-    for page in doc.pages:
-        walk(page._page_box)
-    return found
+    return [lines for lines, *_ in _cell_boxes(html)]
 
 
 def _spanned(columns, rows, kinds, shares, cell_kinds) -> str:

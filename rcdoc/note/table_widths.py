@@ -120,10 +120,11 @@ def text_width(text: str, size: float = _SIZE, bold: bool = False, wide: bool = 
     return em * size + (_EPS if wide else 0.0)
 
 
-def _pieces(text: str) -> list[str]:
+def _pieces(text: str, joint: str = "\u00a0") -> list[str]:
     """The pieces a line may break between: words, a number kept with its unit
-    (joined here by a no-break space; the text's own no-break spaces join too)."""
-    return [p for p in _SPACES.split(_QUANTITY.sub(lambda m: f"{m.group(1)}\u00a0{m.group(2)}",
+    (joined here by ``joint``, a no-break space; the text's own no-break spaces
+    join too)."""
+    return [p for p in _SPACES.split(_QUANTITY.sub(lambda m: f"{m.group(1)}{joint}{m.group(2)}",
                                                   text)) if p]
 
 
@@ -138,8 +139,9 @@ def _lines(text: str, limit: float) -> tuple[str, ...] | None:
     None where one piece alone is wider."""
     lines: list[str] = []
     line = ""
-    quantity_spaces = _QUANTITY.sub(lambda m: f"{m.group(1)}\x00{m.group(2)}", text)
-    for piece in (p.replace("\x00", " ") for p in _SPACES.split(quantity_spaces) if p):
+    # Joined by a NUL, which no text of a note holds (rcdoc.input.limits refuses
+    # control characters), and then by the space they had: the text unchanged.
+    for piece in (p.replace("\x00", " ") for p in _pieces(text, "\x00")):
         joined = f"{line} {piece}" if line else piece
         if text_width(joined) <= limit:
             line = joined
