@@ -15,6 +15,8 @@ What it must not do: give another answer than ``importlib.metadata.version``.
 Where the folder is not there, or there twice (an egg-info, editable or
 vendored install, a stale copy left beside the new one), the answer is
 ``importlib.metadata``'s own. tests/test_versions.py compares the two.
+rcdoc.note.lean_imports asks ``folder_version`` which library versions its
+steps apply to.
 """
 
 from __future__ import annotations
@@ -24,7 +26,7 @@ import importlib.util
 import os
 import re
 
-__all__ = ["version"]
+__all__ = ["version", "folder_version"]
 
 _SUFFIX = ".dist-info"
 
@@ -33,7 +35,7 @@ def version(distribution: str, package: str | None = None) -> str:
     """The installed version of ``distribution`` (its top-level import name is
     ``package``, the distribution's own name by default); raises
     ``importlib.metadata.PackageNotFoundError`` where it is not installed."""
-    found = _from_folder(distribution, package or distribution)
+    found = folder_version(distribution, package)
     if found is not None:
         return found
     from importlib.metadata import version as metadata_version
@@ -46,9 +48,11 @@ def _normal(name: str) -> str:
     return re.sub(r"[-_.]+", "_", name).lower()
 
 
-def _from_folder(distribution: str, package: str) -> str | None:
+def folder_version(distribution: str, package: str | None = None) -> str | None:
+    """The version in the name of ``distribution``'s one ``.dist-info`` folder
+    beside its package ``package`` (found without importing it), or None."""
     try:
-        spec = importlib.util.find_spec(package)
+        spec = importlib.util.find_spec(package or distribution)
     except (ImportError, ValueError):
         return None
     if spec is None:

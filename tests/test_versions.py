@@ -25,7 +25,7 @@ def test_same_version_as_importlib_metadata(distribution, package):
 def test_read_from_the_folder_name(distribution, package):
     # The short way is the one taken for wheel installs (else the test above
     # would pass through importlib.metadata alone).
-    assert versions._from_folder(distribution, package or distribution) == \
+    assert versions.folder_version(distribution, package) == \
         importlib.metadata.version(distribution)
 
 
@@ -47,12 +47,12 @@ def test_folder_missing_or_doubled_falls_back(tmp_path, monkeypatch):
     (pkg / "__init__.py").write_text("")
     monkeypatch.syspath_prepend(str(tmp_path))
     versions._listing.cache_clear()
-    assert versions._from_folder("demo-pkg", "demo_pkg") is None          # no folder
+    assert versions.folder_version("demo-pkg", "demo_pkg") is None          # no folder
     (tmp_path / "demo_pkg-1.2.dist-info").mkdir()
     versions._listing.cache_clear()
-    assert versions._from_folder("demo-pkg", "demo_pkg") == "1.2"
-    assert versions._from_folder("Demo.Pkg", "demo_pkg") == "1.2"
+    assert versions.folder_version("demo-pkg", "demo_pkg") == "1.2"
+    assert versions.folder_version("Demo.Pkg", "demo_pkg") == "1.2"
     (tmp_path / "demo_pkg-1.3.dist-info").mkdir()                        # a stale copy
     versions._listing.cache_clear()
-    assert versions._from_folder("demo-pkg", "demo_pkg") is None
+    assert versions.folder_version("demo-pkg", "demo_pkg") is None
     versions._listing.cache_clear()

@@ -103,8 +103,9 @@ def _yield_cores() -> None:
     # os.nice raises the niceness of this process alone; it cannot be undone
     # without privileges, so only a worker of one rebuild's pool asks for it.
     try:
-        if os.getpriority(os.PRIO_PROCESS, 0) < _BEHIND:
-            os.nice(_BEHIND - os.getpriority(os.PRIO_PROCESS, 0))
+        now = os.getpriority(os.PRIO_PROCESS, 0)
+        if now < _BEHIND:
+            os.nice(_BEHIND - now)
     except (AttributeError, OSError):     # no such call on this system: as it was
         pass
 

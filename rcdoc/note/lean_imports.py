@@ -69,7 +69,6 @@ import contextlib
 import importlib.abc
 import importlib.machinery
 import importlib.util
-import os
 import sys
 import types
 import warnings
@@ -112,16 +111,10 @@ def install() -> None:
 
 
 def _version_is(name: str, version: str) -> bool:
-    """Whether ``name`` is installed as ``version`` (its ``.dist-info`` folder beside
-    the package), read without importing it."""
-    try:
-        spec = importlib.util.find_spec(name)
-    except (ImportError, ValueError):
-        return False
-    if spec is None or not spec.submodule_search_locations:
-        return False
-    folder = os.path.dirname(list(spec.submodule_search_locations)[0])
-    return os.path.isdir(os.path.join(folder, f"{name}-{version}.dist-info"))
+    """Whether ``name`` is installed as ``version`` (its one ``.dist-info`` folder
+    beside the package, rcdoc.versions), read without importing it."""
+    from rcdoc.versions import folder_version
+    return folder_version(name) == version
 
 
 # ---- running code around one module's import ------------------------------------
