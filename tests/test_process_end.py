@@ -34,13 +34,16 @@ def _workers_of(pool: workers.WorkerPool) -> list:
 
 def test_idle_workers_end_at_once():
     # Nothing left to run: the workers are ended by SIGTERM, not left to tear
-    # their interpreter down; a pool started afterwards works.
-    with workers.WorkerPool(2, draw=False) as pool:
-        assert pool.executor().submit(sum, [1, 2]).result(timeout=120) == 3
-        running = _workers_of(pool)
-        assert running
-    assert all(not p.is_alive() for p in running)
-    assert all(p.exitcode == -signal.SIGTERM for p in running)
+    # their interpreter down; a pool started afterwards works. Several rounds:
+    # the end-of-work marker racing the signal, or a second reader of the
+    # fork server's status pipe (exit code 255), showed in about one in four.
+    for _ in range(8):
+        with workers.WorkerPool(2, draw=False) as pool:
+            assert pool.executor().submit(sum, [1, 2]).result(timeout=120) == 3
+            running = _workers_of(pool)
+            assert running
+        assert all(not p.is_alive() for p in running)
+        assert [p.exitcode for p in running] == [-signal.SIGTERM] * len(running)
     with workers.WorkerPool(2, draw=False) as again:
         assert again.executor().submit(max, [4, 7]).result(timeout=120) == 7
 

@@ -171,11 +171,15 @@ def _end_idle(pool: ProcessPoolExecutor) -> bool:
     processes = getattr(pool, "_processes", None)
     if pending is None or processes is None or pending:
         return False
-    running = list(processes.values())
-    _stop_workers(pool)
-    for p in running:
-        p.join(10)
-    pool.shutdown(wait=True)            # the executor's own thread, which reaps them
+    # SIGTERM before the shutdown: the shutdown's wake-up hands an idle worker
+    # its end-of-work marker, on which it would leave the slow way if it read
+    # it before the signal came. The executor's own thread then reaps them
+    # alone: a second reader of a fork-server worker's status pipe races it,
+    # and the loser records the exit code as 255 (Python 3.11's
+    # popen_forkserver).
+    for p in list(processes.values()):
+        p.terminate()
+    pool.shutdown(wait=True)
     return True
 
 
