@@ -154,6 +154,9 @@ def _worker_init() -> None:
 
 def _stop_workers(pool: ProcessPoolExecutor) -> None:
     # ProcessPoolExecutor has no public way to end running tasks before 3.14.
+    # The shutdown first, unlike _end_idle: with units still pending, the
+    # executor's thread cancels them itself before it finds the workers gone
+    # (else it marks them broken while they are being cancelled: _cancel).
     processes = list((getattr(pool, "_processes", None) or {}).values())
     pool.shutdown(wait=False, cancel_futures=True)
     for p in processes:
