@@ -492,6 +492,13 @@ CASES = [
      project(part_r('{ value = "4k7", tcr = "20000 ppm/K" }'),
              analysis='[analysis]\ntemperature = ["-40 °C", "85 °C"]\n'),
      "stage[1].parts.r.tcr", ["tcr", "analysis.temperature", "-0.3"], (), {}),
+    # The same limit for a coefficient the part takes from its dielectric: C0G's
+    # 0 ± 30 ppm/K (EIA-198) at its negative end, 1 − 30e-6 × (40000 − 25) = −0.199.
+    ("dielectric-coefficient-pushes-value-negative",
+     project(part_c('{ value = "10 nF", dielectric = "C0G" }'),
+             analysis='[analysis]\ntemperature = ["-40 °C", "40000 °C"]\n'),
+     "stage[1].parts.c.dielectric", ["C0G", "-30 ppm/K", "analysis.temperature", "-0.199"],
+     (), {}),
     ("network-node-trailing-newline",
      project(NETWORK + 'elements = [ { part = "r1", between = ["in", "out\\n"] }, '
              '{ part = "c1", between = ["out", "0"] } ]\n'),

@@ -350,6 +350,11 @@ def _part(role: str, t: dict, path: str, analysis: Analysis, bom_rows) -> Part:
         diel = decode_dielectric(code, f"{path}.dielectric")
         check_temperature_range(diel, *analysis.temperature_c, f"{path}.dielectric")
         kw["dielectric"] = code
+        if "tcr" not in t and diel.tc_ppm is not None:
+            # The code's own coefficient (C0G 0 ± 30 ppm/K, film): the same limit.
+            for tc in (diel.tc_ppm - diel.tc_spread_ppm, diel.tc_ppm + diel.tc_spread_ppm):
+                _check_tcr(tc, analysis.temperature_c, path,
+                           what=f"{diel.code}'s coefficient {tc:+g} ppm/K", key="dielectric")
         if "tcr" in t and diel.family == "class-2":
             raise ProjectError("a class II dielectric has no tcr; its code sets the "
                                "temperature band", path=f"{path}.tcr")
@@ -405,16 +410,19 @@ def _pulse_rating(raw, kind: str, path: str) -> dict:
     return {"pulse_energy_j": value} if unit == "J" else {"pulse_power_w": value}
 
 
-def _check_tcr(tcr_ppm: float, temperature_c: tuple[float, float], path: str) -> None:
-    """The linear model value·(1 + tcr·(T − 25 °C)) must stay above zero over the range."""
+def _check_tcr(tcr_ppm: float, temperature_c: tuple[float, float], path: str, *,
+               what: str | None = None, key: str = "tcr") -> None:
+    """The linear model value·(1 + tcr·(T − 25 °C)) must stay above zero over the
+    range; ``what`` and ``key`` name a coefficient the part does not state (its
+    dielectric's)."""
     from rcdoc.input.parts import REFERENCE_C
     for t_c in temperature_c:
         factor = 1.0 + tcr_ppm * 1e-6 * (t_c - REFERENCE_C)
         if factor <= 0:
-            raise ProjectError(f"tcr {tcr_ppm:g} ppm/K at {t_c:g} °C (analysis.temperature) "
-                               f"scales the value by {factor:.3g}: a part value cannot be zero "
-                               "or negative; check the tcr or analysis.temperature",
-                               path=f"{path}.tcr")
+            raise ProjectError(f"{what or f'tcr {tcr_ppm:g} ppm/K'} at {t_c:g} °C "
+                               f"(analysis.temperature) scales the value by {factor:.3g}: "
+                               "a part value cannot be zero or negative; check the "
+                               f"{key} or analysis.temperature", path=f"{path}.{key}")
 
 
 def _check(t: dict, path: str, stage_metrics: tuple[str, ...],
