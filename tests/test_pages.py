@@ -310,3 +310,36 @@ def test_summary_chart_of_many_stages_fits_its_pages():
         heading = next(i for i, page in enumerate(reader.pages)
                        if f"Stage frequencies, part {k + 1}" in page.extract_text())
         assert len(boxes[heading]) == 1, f"chart {k + 1} is not on the page of its heading"
+
+
+@pytest.mark.slow
+def test_words_longer_than_a_line_stay_on_the_page(tmp_path):
+    # A hostile board: a board name, a stage title, a stage id and a part's model
+    # name, each one word far longer than any line or column. Each breaks where it
+    # must (note.css: overflow-wrap); before, the title ran off the page and the
+    # summary table gave its first column all the width, so that the kind, the
+    # result and the verdict of the stage were not shown at all.
+    head, first = re.split(r"(?m)^(?=\[\[stage\]\]\s*$)", EXAMPLE.read_text(encoding="utf-8"))[:2]
+    long_title, long_id, long_name = "Sensor_" + "X" * 150, "m-" + "y" * 60, "Board" + "Z" * 90
+    head = re.sub(r'(?m)^name = ".*"$', f'name = "{long_name}"', head, count=1)
+    head = re.sub(r"(?m)^samples = \d+", "samples = 100", head)
+    first = re.sub(r'(?m)^title = ".*"$', f'title = "{long_title}"', first, count=1)
+    first = re.sub(r'(?m)^id = ".*"$', f'id = "{long_id}"', first, count=1)
+    first = first.replace('power = "0.1 W" }', 'power = "0.1 W", model = "' + "Q" * 70 + '" }')
+    board = tmp_path / "long-words.toml"
+    board.write_text(head + first, encoding="utf-8")
+    assert "Q" * 70 in first
+    pages = _render(tmp_path / "out", board)
+    boxes = _word_boxes(pages[0]["pdf"])
+    outside = [(number, w[:20]) for number, (width, words) in enumerate(boxes, start=1)
+               for x0, _, x1, _, w in words
+               if x0 < _SIDE_MARGIN_PT - 0.5 or x1 > width - _SIDE_MARGIN_PT + 0.5]
+    assert not outside, outside[:10]
+    # The summary shows the stage's every column, its verdict whole.
+    summary = pages[1]["text"]
+    for word in ("Kind", "Verdict", "RC low-pass", "PASS", "5 of 5"):
+        assert word in summary, (word, summary[:600])
+    # Nothing of the long words is lost: each is all there, broken over lines.
+    text = "".join("".join(p["text"].split()) for p in pages)
+    for word in (long_title, long_id, long_name, "Q" * 70):
+        assert word in text, word

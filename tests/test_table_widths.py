@@ -104,6 +104,22 @@ def test_no_widths_when_the_narrowest_columns_do_not_fit():
     assert table_widths.widths([], [], []) is None
 
 
+def test_a_word_wider_than_the_page_claims_at_most_its_share():
+    # A 200-character id in a wrapping column: its narrowest width is capped (note.css
+    # breaks such a word where it must), so the table keeps fixed widths and the other
+    # columns their own narrowest widths; uncapped, it alone overflowed the page and
+    # the table fell back to the automatic layout, which squeezed the others out.
+    columns = ["Stage", "Kind", "Key result", "Verdict"]
+    rows = [["s" * 200, "RC low-pass", "Corner frequency: 226 Hz (214 Hz … 240 Hz)", "pass"]]
+    narrowest = table_widths._column(0, "", "Stage", rows, False)[0]
+    assert narrowest == pytest.approx(table_widths._LONGEST_PIECE + table_widths._PAD)
+    share = table_widths.widths(columns, rows, ["", "", "", "verdict"])
+    assert share is not None
+    room = table_widths._PAGE
+    assert share[1] * room / 100 >= table_widths.text_width("low-pass") + table_widths._PAD
+    assert share[2] * room / 100 >= table_widths.text_width("frequency:") + table_widths._PAD
+
+
 @pytest.mark.parametrize("name", ["DejaVuSans.ttf", "DejaVuSans-Bold.ttf"])
 def test_advances_read_from_the_font_tables_are_fonttools_own(name, tmp_path):
     # The advances come from the font's tables read directly (OpenType spec:

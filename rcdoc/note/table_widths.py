@@ -48,6 +48,10 @@ _EPS = 0.05
 # to 0.01 %, 0.05 pt of the page's width; the last column takes the sum of the roundings).
 _SPARE = 0.5
 _SHORT = 12       # _blocks.html: a cell of at most 12 characters never wraps
+# The most a single word may claim as a column's narrowest width: a longer one (an id,
+# a title or a model name without spaces) is broken where it must (note.css:
+# overflow-wrap: anywhere) rather than squeezing the other columns off the table.
+_LONGEST_PIECE = 40 * _MM
 _QUANTITY = re.compile(r"(?<![\w.])([+\-−±]?\d[\d.,]*(?:[eE][+\-−]?\d+)?) (\S{1,8})")
 
 
@@ -158,7 +162,8 @@ def _cell(text: str, *, nowrap: bool, bold: bool = False) -> tuple[float, float]
     whole = text_width(text, bold=bold)
     if nowrap:
         return whole + _PAD, whole + _PAD
-    narrow = max((text_width(p, bold=bold) for p in _pieces(text)), default=0.0)
+    narrow = min(max((text_width(p, bold=bold) for p in _pieces(text)), default=0.0),
+                 _LONGEST_PIECE)
     return narrow + _PAD, max(narrow, text_width(text, bold=bold, wide=False)) + _PAD
 
 

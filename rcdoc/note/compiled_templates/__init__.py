@@ -37,7 +37,7 @@ TEMPLATES: dict[str, tuple[str, str]] = {
     '_overview.html': ('t__overview_html', '83a17aa31ded8e14913e0b1a7cc2c9be0a6f1453'),
     '_stage.html': ('t__stage_html', 'c3414c2b5b9f55f81cfc8cfbb8318e00e2e7bad3'),
     '_summary.html': ('t__summary_html', '101b87e2f43417ee8fc6d7a2848e9fd8b94744d2'),
-    'note.css': ('t_note_css', '1380075d6d7003c6bcb55ccb681a7c2ce4f82fd6'),
+    'note.css': ('t_note_css', 'e0145ec2688e5c0294be17a54827752de461d1b5'),
     'note.html': ('t_note_html', '36b665197ded5e5eb3594392370612ba4272f94d'),
 }
 # END GENERATED
