@@ -181,6 +181,21 @@ def test_metric_result_counts_missing_samples_and_copies_nothing_writable():
     assert arr.flags.writeable and not m.samples.flags.writeable
 
 
+def test_one_sample_has_no_standard_deviation():
+    # One Monte Carlo sample tells nothing of the parts' spread: the JSON gives no std
+    # (null, as for a metric without any finite sample) rather than a spread of zero;
+    # two samples give numpy's population std (ddof 0), as every other count does.
+    from rcdoc.note.summary import metric_entry
+
+    def entry(values):
+        return metric_entry(MetricResult(name="corner", at_hz=None, param=None, nominal=1.0,
+                                         samples=np.array(values), worst_case=(1.0, 3.0),
+                                         worst_case_method="vertices", sensitivity={}))
+    assert entry([2.0])["std"] is None
+    assert entry([2.0, math.nan])["std"] is None
+    assert entry([1.0, 3.0])["std"] == pytest.approx(np.std([1.0, 3.0]))
+
+
 def test_results_pickle_for_the_build_cache(example):
     import pickle
     _, results = example

@@ -158,6 +158,8 @@ def metrics_table(r: StageResult) -> dict:
             lo, hi, mean, std = s.min(), s.max(), s.mean(), s.std()
             if std <= 1e-9 * abs(mean):      # a constant, up to rounding
                 std = 0.0
+            if s.size < 2:                   # one sample has no spread to speak of
+                std = math.nan
         else:
             lo = hi = mean = std = math.nan
         missing = m.samples.size - s.size

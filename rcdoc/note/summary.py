@@ -43,7 +43,8 @@ def metric_entry(m) -> dict:
     entry["min"] = _num(finite.min()) if finite.size else None
     entry["max"] = _num(finite.max()) if finite.size else None
     entry["mean"] = _num(finite.mean()) if finite.size else None
-    entry["std"] = _num(finite.std()) if finite.size else None
+    # The spread of one sample says nothing about the spread of the parts: no std.
+    entry["std"] = _num(finite.std()) if finite.size > 1 else None
     entry["worst_case"] = [_num(m.worst_case[0]), _num(m.worst_case[1])]
     entry["worst_case_method"] = m.worst_case_method
     entry["missing"] = m.missing
