@@ -81,9 +81,12 @@ def third_party_quiet():
     font subsetting, weasyprint) are captured, not printed: they are about
     fonts, not about the board, and a CI log is read for the board."""
     # fontTools logs its font-subsetting notes at WARNING with no handler of its
-    # own, so Python's last-resort handler prints them; weasyprint's messages
-    # already stay in its logger (rcdoc.note.report), whose levels are left alone.
-    loggers = [logging.getLogger("fontTools")]
+    # own, so Python's last-resort handler prints them. weasyprint's logger has a
+    # handler that drops them, but its records also reach the root logger, which
+    # a library's logging.debug() call may have set up to print (ziafont's does:
+    # logging.basicConfig): it is kept from passing them on, as in the workers.
+    # Its missing-glyph records are gathered there (rcdoc.note.glyphs).
+    loggers = [logging.getLogger("fontTools"), logging.getLogger("weasyprint")]
     saved = [(lg, lg.propagate) for lg in loggers]
     null = logging.NullHandler()
     for lg in loggers:

@@ -38,7 +38,7 @@ from pathlib import Path
 from rcdoc.note import renderer_libs  # noqa: F401 - weasyprint, without ctypes' library search
 import weasyprint
 
-from rcdoc.note import fast_layout, font_scratch, note_html, pdf_images, report
+from rcdoc.note import fast_layout, font_scratch, glyphs, note_html, pdf_images, report
 from rcdoc.note.overview import own_pages
 
 __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "font_subsetter",
@@ -46,7 +46,7 @@ __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "
            "appendix_context", "front_context", "charts_context"]
 
 # Bump when what a part holds changes.
-_PART_FORMAT = "rcdoc-note-part-2"   # 2: charts as indexed images
+_PART_FORMAT = "rcdoc-note-part-3"   # 2: charts as indexed images; 3: missing_glyphs
 
 
 def can_assemble(template_dirs: Sequence[Path] = ()) -> bool:
@@ -173,7 +173,8 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
                 page_count: int = 0, image_cache: dict | None = None) -> dict:
     """One part of the note as a plain dict: ``pdf`` (bytes), ``pages``,
     ``bookmarks`` (weasyprint's tree in PDF points), ``anchors`` (name ->
-    (page, x, y)), ``links`` (internal links: (page, target, rect)) and ``key``.
+    (page, x, y)), ``links`` (internal links: (page, target, rect)), ``key`` and
+    ``missing_glyphs`` (the characters no font could draw, rcdoc.note.glyphs).
 
     Internal links are taken out of the part's PDF (their targets are in other
     parts) and recorded in ``links``; assemble() puts them back.
@@ -197,11 +198,15 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
                               source_date_epoch=source_date_epoch, figures=figures)
     cache = report.cache if image_cache is None else image_cache
     # @font-face fonts: not in /tmp; the shipped templates have none (one configuration).
-    with font_scratch.closed(project_dir, shared=shipped) as fonts:
-        return _laid_out(html_class(string=html, base_url=str(base) + os.sep,
+    with font_scratch.closed(project_dir, shared=shipped) as fonts, \
+            glyphs.collecting() as missing:
+        part = _laid_out(html_class(string=html, base_url=str(base) + os.sep,
                                     url_fetcher=fetcher).render(
             cache=report.figure_images(figures, cache), font_config=fonts,
             stylesheets=[sheet] if sheet is not None else None), key, source_date_epoch)
+    # Kept with the part (a worker's, a cached one): the command says which they were.
+    part["missing_glyphs"] = "".join(sorted(missing))
+    return part
 
 
 def _laid_out(document, key, source_date_epoch) -> dict:
