@@ -21,6 +21,7 @@ flag holds it.
 from __future__ import annotations
 
 import contextlib
+import errno
 import os
 import re
 import signal
@@ -80,6 +81,9 @@ def commit(pairs) -> None:
     """Rename several finished temporary files into place as one step: SIGINT is
     held back while they move, so an interrupt leaves all old or all new."""
     stop_if_interrupted()
+    for _, path in pairs:       # all or none: a folder in a file's place fails before any move
+        if Path(path).is_dir() and not Path(path).is_symlink():
+            raise IsADirectoryError(errno.EISDIR, "a folder has this file's name", str(path))
     can_block = hasattr(signal, "pthread_sigmask") and \
         threading.current_thread() is threading.main_thread()
     if can_block:

@@ -18,7 +18,7 @@ def _pdfs_in(directory) -> list[str]:
     for path in sorted(directory.rglob("*.pdf")):
         # A rendered note embeds fonts (tens of kilobytes); the stand-ins some
         # tests write to prove a file is left alone are a few bytes.
-        if path.stat().st_size >= 4096:
+        if path.is_file() and path.stat().st_size >= 4096:     # a folder may take the name
             with path.open("rb") as fh:
                 if fh.read(5) == b"%PDF-":
                     found.append(path.name)

@@ -48,6 +48,34 @@ def test_same_stem_in_two_folders_with_one_output_is_refused(tmp_path, capsys):
     assert not out.exists()          # nothing written, no shared cache made
 
 
+@pytest.mark.parametrize("taken", ["board.pdf", "board.json", "board-parts.csv"])
+def test_a_folder_named_as_an_output_is_refused_before_any_work(tmp_path, capsys, taken):
+    # It used to fail only when the note was moved into place, after the JSON and
+    # the parts list had landed, and the message named the temporary file.
+    (tmp_path / "board.toml").write_text(project(), encoding="utf-8")
+    out = tmp_path / "out"
+    (out / taken).mkdir(parents=True)
+    rc = cli.main(["build", str(tmp_path / "board.toml"), "-o", str(out), "--quiet"])
+    err = capsys.readouterr().err
+    assert rc == 2 and "Traceback" not in err and len(err.strip().splitlines()) == 1
+    assert str(out / taken) in err and "folder" in err
+    assert sorted(p.name for p in out.iterdir()) == [taken]     # nothing written, no cache
+
+
+def test_commit_moves_none_when_a_folder_takes_a_files_place(tmp_path):
+    # files.commit is all or nothing for this failure too (common practice for
+    # atomic output: readers see the old set of files or the new one).
+    a_tmp, b_tmp = tmp_path / "a.tmp", tmp_path / "b.tmp"
+    a_tmp.write_text("new a")
+    b_tmp.write_text("new b")
+    (tmp_path / "a").write_text("old a")
+    (tmp_path / "b").mkdir()
+    with pytest.raises(IsADirectoryError) as info:
+        files.commit([(a_tmp, tmp_path / "a"), (b_tmp, tmp_path / "b")])
+    assert info.value.filename == str(tmp_path / "b")
+    assert (tmp_path / "a").read_text() == "old a" and a_tmp.exists() and b_tmp.exists()
+
+
 def test_same_stem_with_default_folders_is_allowed(tmp_path):
     # Without -o each file writes beside itself: different notes, different caches.
     from rcdoc.commands.build import load_all

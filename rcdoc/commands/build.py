@@ -240,17 +240,33 @@ def source_date_epoch(project: Project) -> int:
     return int(dt.datetime(d.year, d.month, d.day, tzinfo=dt.timezone.utc).timestamp())
 
 
+def note_paths(project: Project, out_dir: Path) -> tuple[Path, Path, Path]:
+    """The files a build writes for ``project`` in ``out_dir``: the note, the JSON
+    summary and the parts list."""
+    stem = Path(project.file).stem
+    return out_dir / f"{stem}.pdf", out_dir / f"{stem}.json", out_dir / f"{stem}-parts.csv"
+
+
+def check_note_paths(project: Project, out_dir: Path) -> None:
+    """Refuse, before any work, a note whose file name is taken by a folder (or a
+    symbolic link to one: the file would replace the link, but a reader of the
+    link expects a folder there): the build would fail at the end, after the
+    others of its files had landed."""
+    for path in note_paths(project, out_dir):
+        if path.is_dir():
+            raise ProjectError("a folder has the name of a file the build writes; "
+                               "move it or write elsewhere with -o", file=str(path))
+
+
 def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
                   extra_appendix=(), changes=None) -> tuple[Path, Path]:
     """Render the PDF and the JSON; both land only if both could be made."""
     from rcdoc.note.page import note_context
     from rcdoc.note.pdf import render_pdf
     project = outcome.project
-    stem = Path(project.file).stem
-    pdf_path, json_path = out_dir / f"{stem}.pdf", out_dir / f"{stem}.json"
+    pdf_path, json_path, csv_path = note_paths(project, out_dir)
     made = outcome.prepared or prepare(project, outcome.results, {})
     json_bytes, csv_bytes = made["json"], made["csv"]
-    csv_path = out_dir / f"{stem}-parts.csv"
     if outcome.contexts is not None:
         context = note_context(project, outcome.results, extra_appendix=extra_appendix,
                                stage_contexts=outcome.contexts, changes=changes,

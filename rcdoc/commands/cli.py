@@ -125,7 +125,7 @@ def cmd_build(args) -> int:
 
 
 def _build_loaded(args, pool) -> int:
-    from rcdoc.commands.build import load_all, output_dir, stages_to_analyse
+    from rcdoc.commands.build import check_note_paths, load_all, output_dir, stages_to_analyse
     template_dirs = []
     if args.templates:
         tdir = Path(args.templates)
@@ -141,6 +141,8 @@ def _build_loaded(args, pool) -> int:
                            file=str(args.output))
     projects = load_all(args.files, samples=args.samples, seed=args.seed)
     _check_distinct_outputs(projects, args.output)
+    for p in projects:
+        check_note_paths(p, output_dir(p.file, args.output))
     if not any(stages_to_analyse(p, output_dir(p.file, args.output)) for p in projects):
         pool.cool()          # its CPU would be spent for nothing
     return _build_checked(args, projects, template_dirs, pool)
