@@ -62,6 +62,21 @@ def test_a_folder_named_as_an_output_is_refused_before_any_work(tmp_path, capsys
     assert sorted(p.name for p in out.iterdir()) == [taken]     # nothing written, no cache
 
 
+@pytest.mark.parametrize("command", ["check-junit", "diff-json"])
+def test_a_report_file_that_is_a_folder_is_refused_before_any_work(tmp_path, capsys, command):
+    board = tmp_path / "board.toml"
+    board.write_text(project(), encoding="utf-8")
+    (tmp_path / "report").mkdir()
+    argv = (["check", str(board), "--junit", str(tmp_path / "report")] if command == "check-junit"
+            else ["diff", str(board), str(board), "--json", str(tmp_path / "report")])
+    rc = cli.main([*argv, "-o", str(tmp_path / "out")])
+    err = capsys.readouterr().err
+    assert rc == 2 and "Traceback" not in err and len(err.strip().splitlines()) == 1
+    assert str(tmp_path / "report") in err and "folder" in err
+    assert not (tmp_path / "out").exists()          # refused before the analysis
+    assert list((tmp_path / "report").iterdir()) == []
+
+
 def test_commit_moves_none_when_a_folder_takes_a_files_place(tmp_path):
     # files.commit is all or nothing for this failure too (common practice for
     # atomic output: readers see the old set of files or the new one).

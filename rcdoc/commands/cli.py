@@ -229,6 +229,8 @@ def cmd_check(args) -> int:
     from rcdoc.files import write_atomic
     from rcdoc.note.summary import junit
     projects = load_all(args.files, samples=args.samples, seed=args.seed)
+    if args.junit:
+        _file_target(args.junit, "--junit")
     if args.json:                # where each summary goes, settled before any analysis
         from rcdoc.note.machine import json_targets
         json_paths = json_targets(args.json, [p.file for p in projects])
@@ -270,6 +272,8 @@ def cmd_diff(args) -> int:
 
     from rcdoc.commands.diff_render import render_rich
     from rcdoc.commands.regression import diff_json, run_diff, write_json
+    if args.json:
+        _file_target(args.json, "--json")
     d, regs = run_diff(args.old, args.new, samples=args.samples, seed=args.seed,
                        jobs=_jobs(args), output=args.output)
     render_rich(d, Console())
@@ -279,6 +283,14 @@ def cmd_diff(args) -> int:
         print(f"rcdoc: {len(regs)} regression{'' if len(regs) == 1 else 's'}", file=sys.stderr)
         return EXIT_FAIL
     return EXIT_OK
+
+
+def _file_target(path: str, option: str) -> None:
+    """A report file named by ``option``, refused before any work where a folder
+    has its name (it failed only once the analysis was done)."""
+    if Path(path).is_dir():
+        raise ProjectError(f"{option} names a folder; give the file to write",
+                           path=option, file=path)
 
 
 def cmd_init(args) -> int:
