@@ -250,6 +250,25 @@ def test_network_without_complex_pair_leaves_f0_q_missing(tmp_path):
     assert math.isfinite(res.metric("corner").nominal)
 
 
+def test_network_with_time_constants_far_apart_finds_its_corner(tmp_path):
+    # A fast section (1 ohm, 1 nF: 1 ns) before a slow one (1 Mohm, 1 uF: 1 s). Its
+    # poles, 0.16 Hz and 160 MHz, lie 3 decades and more from their geometric mean
+    # (160 kHz), where the sweep used to stop: the corner was "not found".
+    # Source: textbook two-section ladder H(s) = 1/(s²R1C1R2C2 + s(R1C1 + R2C2 + R1C2) + 1),
+    # its -3 dB point by scipy.optimize.brentq.
+    from scipy.optimize import brentq
+    r1, c1, r2, c2 = 1.0, 1e-9, 1e6, 1e-6
+    stage = network_stage([("r1", "vin", "a"), ("c1", "a", "0"), ("r2", "a", "vout"),
+                           ("c2", "vout", "0")],
+                          {"r1": "1 ohm", "c1": "1 nF", "r2": "1 Mohm", "c2": "1 uF"})
+    res = analyse_one(tmp_path, stage, analysis="samples = 20")
+    a, b = r1 * c1 + r2 * c2 + r1 * c2, r1 * c1 * r2 * c2
+    w3 = brentq(lambda w: abs(1 / (1 + 1j * w * a - w * w * b)) ** 2 - 0.5, 1e-3, 1e3, xtol=1e-15)
+    corner = res.metric("corner")
+    assert corner.nominal == pytest.approx(w3 / TWO_PI, rel=1e-9)
+    assert corner.missing == 0
+
+
 # ---- phase at a mark -----------------------------------------------------------
 
 

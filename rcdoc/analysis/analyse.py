@@ -125,9 +125,10 @@ def _setup(stage: Stage, analysis: Analysis, kind, evaluator) -> _Setup:
     batch = spread.build_batch(stage, analysis)
     char_hz = kind.characteristic_hz(stage)
     nominal_vals = batch.take(slice(0, 1))
+    poles_hz = None
     if char_hz is None:
-        char_hz = _char_from_poles(stage, network, nominal_vals, passband)
-    freqs = sweep_for(char_hz, analysis)
+        char_hz, poles_hz = _char_from_poles(stage, network, nominal_vals, passband)
+    freqs = sweep_for(char_hz, analysis, poles_hz)
     requests = _metric_requests(stage, kind.metrics(stage.options, stage.drive), kind)
     # Time grid shared by all rows, from the nominal alone (a row's numbers must
     # not depend on the other rows or on --samples).
@@ -422,7 +423,10 @@ def _wave(t, nominal, waves, env: _Envelope, mean=None, input=None) -> Waveform:
                     lo=lo, hi=hi, mean=mean, input=input)
 
 
-def _char_from_poles(stage, network, values, passband) -> float:
+def _char_from_poles(stage, network, values, passband
+                     ) -> tuple[float, tuple[float, float] | None]:
+    """The nominal network's frequency (the geometric mean of its lowest and highest
+    pole frequency) and those two frequencies, in Hz (None without a pole)."""
     ev = Evaluator(stage, network, values, np.array([1.0]), passband, 1.0)
     # Shift for the pole search taken from the network's RC products (any positive value works).
     p = ev.poles[0]
@@ -430,8 +434,9 @@ def _char_from_poles(stage, network, values, passband) -> float:
     mags = np.abs(p)
     mags = mags[mags > 0]
     if mags.size == 0:
-        return 1e3
-    return float(np.sqrt(mags.min() * mags.max()) / (2 * np.pi))
+        return 1e3, None
+    lo, hi = mags.min() / (2 * np.pi), mags.max() / (2 * np.pi)
+    return float(np.sqrt(lo * hi)), (float(lo), float(hi))
 
 
 def _ratings(stage, batch, cap_peaks, res_powers) -> list[checkmod.Verdict]:

@@ -34,12 +34,25 @@ TIME_CONSTANTS = 24.0                # step window in slowest nominal time const
 PWM_POINTS = 1000                    # points over one PWM period
 
 
-def sweep_for(stage_char_hz: float, analysis) -> np.ndarray:
-    """Log sweep: the project's range, or 3 decades either side of the stage's frequency."""
+# The widest default sweep, either side of the stage's frequency: 15 decades in all.
+SWEEP_HALF_SPAN = 10 ** 7.5
+
+
+def sweep_for(stage_char_hz: float, analysis, poles_hz: tuple[float, float] | None = None
+              ) -> np.ndarray:
+    """Log sweep: the project's range, or 3 decades either side of the stage's
+    frequency, widened to a decade beyond ``poles_hz`` (the lowest and highest
+    pole frequency of a network whose frequency is taken from its poles), at
+    most SWEEP_HALF_SPAN either side: a network with time constants far apart
+    has poles outside 3 decades of their geometric mean, and its corner was
+    then not found."""
     if analysis.sweep_hz is not None:
         lo, hi = analysis.sweep_hz
     else:
         lo, hi = stage_char_hz / 1e3, stage_char_hz * 1e3
+        if poles_hz is not None:
+            lo = max(min(lo, poles_hz[0] / 10), stage_char_hz / SWEEP_HALF_SPAN)
+            hi = min(max(hi, poles_hz[1] * 10), stage_char_hz * SWEEP_HALF_SPAN)
     n = max(int(round(math.log10(hi / lo) * analysis.points_per_decade)) + 1, 2)
     return np.logspace(math.log10(lo), math.log10(hi), n)
 
