@@ -34,8 +34,9 @@ TIME_CONSTANTS = 24.0                # step window in slowest nominal time const
 PWM_POINTS = 1000                    # points over one PWM period
 
 
-# The widest default sweep, either side of the stage's frequency: 15 decades in all.
-SWEEP_HALF_SPAN = 10 ** 7.5
+# The widest default sweep, either side of the stage's frequency: 12 decades in all, as
+# the widest `sweep` a project may give (rcdoc.input.limits).
+SWEEP_HALF_SPAN = 1e6
 
 
 def sweep_for(stage_char_hz: float, analysis, poles_hz: tuple[float, float] | None = None
