@@ -22,6 +22,7 @@ from rcdoc.analysis.noise import integration_grid, resonant_columns
 from rcdoc.analysis.response import Response
 from rcdoc.analysis.stresses import PartStresses
 from rcdoc.analysis.timesearch import cross_time, last_outside, block_extremes
+from rcdoc.input.limits import SWEEP_MAX_DECADES
 from rcdoc.input.model import Check, Stage
 from rcdoc.analysis.network import Network
 
@@ -34,9 +35,9 @@ TIME_CONSTANTS = 24.0                # step window in slowest nominal time const
 PWM_POINTS = 1000                    # points over one PWM period
 
 
-# The widest default sweep, either side of the stage's frequency: 12 decades in all, as
-# the widest `sweep` a project may give (rcdoc.input.limits).
-SWEEP_HALF_SPAN = 1e6
+# The widest default sweep, either side of the stage's frequency: in all, as many
+# decades as the widest `sweep` a project may give.
+SWEEP_HALF_SPAN = 10 ** (SWEEP_MAX_DECADES / 2)
 
 
 def sweep_for(stage_char_hz: float, analysis, poles_hz: tuple[float, float] | None = None
