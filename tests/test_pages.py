@@ -314,11 +314,12 @@ def test_summary_chart_of_many_stages_fits_its_pages():
 
 @pytest.mark.slow
 def test_words_longer_than_a_line_stay_on_the_page(tmp_path):
-    # A hostile board: a board name, a stage title, a stage id and a part's model
-    # name, each one word far longer than any line or column. Each breaks where it
-    # must (note.css: overflow-wrap); before, the title ran off the page and the
+    # A hostile board: a board name, a stage title, a stage id, a part's model name
+    # and designator, each one word far longer than any line or column. Each breaks
+    # where it must (note.css: overflow-wrap); before, the title ran off the page, the
     # summary table gave its first column all the width, so that the kind, the
-    # result and the verdict of the stage were not shown at all.
+    # result and the verdict of the stage were not shown at all, and the parts
+    # table kept the designator on one line and ran off the page.
     head, first = re.split(r"(?m)^(?=\[\[stage\]\]\s*$)", EXAMPLE.read_text(encoding="utf-8"))[:2]
     long_title, long_id, long_name = "Sensor_" + "X" * 150, "m-" + "y" * 60, "Board" + "Z" * 90
     head = re.sub(r'(?m)^name = ".*"$', f'name = "{long_name}"', head, count=1)
@@ -326,6 +327,10 @@ def test_words_longer_than_a_line_stay_on_the_page(tmp_path):
     first = re.sub(r'(?m)^title = ".*"$', f'title = "{long_title}"', first, count=1)
     first = re.sub(r'(?m)^id = ".*"$', f'id = "{long_id}"', first, count=1)
     first = first.replace('power = "0.1 W" }', 'power = "0.1 W", model = "' + "Q" * 70 + '" }')
+    # A designator of 44 characters, the most a table's first column keeps on one
+    # line, in wide letters: too wide for that beside the other columns.
+    long_ref = "R12_" + "K" * 40
+    first = first.replace('ref = "R12"', f'ref = "{long_ref}"')
     board = tmp_path / "long-words.toml"
     board.write_text(head + first, encoding="utf-8")
     assert "Q" * 70 in first
@@ -341,5 +346,5 @@ def test_words_longer_than_a_line_stay_on_the_page(tmp_path):
         assert word in summary, (word, summary[:600])
     # Nothing of the long words is lost: each is all there, broken over lines.
     text = "".join("".join(p["text"].split()) for p in pages)
-    for word in (long_title, long_id, long_name, "Q" * 70):
+    for word in (long_title, long_id, long_name, "Q" * 70, long_ref):
         assert word in text, word

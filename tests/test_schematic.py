@@ -59,6 +59,19 @@ def test_label_is_two_lines_ref_then_value():
     assert Label("", "48 Ω").lines() == ("48 Ω",)
 
 
+def test_a_long_designator_is_drawn_shortened_around_an_ellipsis():
+    # A file may give a 200-character designator; the schematic shows its start
+    # and its end (the parts table the whole), so that it does not run over the
+    # parts beside it.
+    from rcdoc.kinds.recipes_base import REF_CHARS, shortened
+    ref = "R12_" + "K" * 40 + "7"
+    line = Label(ref, "2.2 kΩ").lines()[0]
+    assert len(line) == REF_CHARS and line.startswith("R12_") and line.endswith("K7")
+    assert "…" in line
+    assert shortened("R120A", REF_CHARS) == "R120A"
+    assert shortened("abcdefghijk", 5) == "ab…jk" and shortened("abcdef", 5) == "ab…ef"
+
+
 def test_recipe_rejects_reference_to_a_point_not_yet_drawn():
     with pytest.raises(ValueError, match="refers to 'later'"):
         Recipe((Step("R", "r1", start="later"), Step("dot", "later")))

@@ -44,6 +44,20 @@ LABEL_CLEAR = 0.45   # from a vertical part's axis to its text (see _CLEARANCE)
 AIR = 0.35           # least gap between a text and the next line or text
 
 
+# The longest designator a schematic shows whole: a longer one (a file may give 200
+# characters) would run over the parts beside it; the parts table shows it in full.
+REF_CHARS = 10
+
+
+def shortened(text: str, limit: int) -> str:
+    """``text`` in at most ``limit`` characters: a longer one keeps its start and its
+    end around an ellipsis (designators and ids differ at either end)."""
+    if len(text) <= limit:
+        return text
+    head = (limit - 1) // 2
+    return f"{text[:head]}…{text[len(text) - (limit - 1 - head):]}"
+
+
 @dataclass(frozen=True)
 class Label:
     """A part's designator and its value, already formatted ("R14", "4.7 kΩ")."""
@@ -52,7 +66,7 @@ class Label:
     value: str
 
     def lines(self) -> tuple[str, ...]:
-        return tuple(line for line in (self.ref, self.value) if line)
+        return tuple(line for line in (shortened(self.ref, REF_CHARS), self.value) if line)
 
 
 @dataclass(frozen=True)

@@ -16,6 +16,7 @@ from matplotlib import ticker
 from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, StepPatch
 
+from rcdoc.kinds.recipes_base import shortened
 from rcdoc.note import palette as pal
 from rcdoc.note.charts import (_UNSCALED_UNITS, HALF_WIDTH_IN, _arr, _AxisEngFormatter, _check_fig_id,
                                _eng, _finish, _finite, _grid, _legend, _log_axis, _new_figure,
@@ -349,9 +350,7 @@ def _row_labels(labels: Sequence[str], limit: int = _LABEL_CHARS) -> list[str]:
     one keeps its start and its end around an ellipsis (stage ids differ at
     either end: ``sensor-input-…-channel-2``); where two would then read the
     same, both stay whole."""
-    head = (limit - 1) // 2
-    tail = limit - 1 - head
-    short = [s if len(s) <= limit else f"{s[:head]}…{s[-tail:]}" for s in labels]
+    short = [shortened(s, limit) for s in labels]
     seen = Counter(short)
     return [s if seen[s] == 1 else full for s, full in zip(short, labels)]
 
