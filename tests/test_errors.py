@@ -499,6 +499,12 @@ CASES = [
              analysis='[analysis]\ntemperature = ["-40 °C", "40000 °C"]\n'),
      "stage[1].parts.c.dielectric", ["C0G", "-30 ppm/K", "analysis.temperature", "-0.199"],
      (), {}),
+    # 33 characters: the message says the length limit, not only the letters.
+    ("network-node-name-too-long",
+     project(NETWORK.replace('input = "in"', 'input = "' + "n" * 33 + '"')
+             + 'elements = [ { part = "r1", between = ["in", "out"] }, '
+               '{ part = "c1", between = ["out", "0"] } ]\n'),
+     "stage[1].input", ["node name", "1 to 32"], (), {}),
     ("network-node-trailing-newline",
      project(NETWORK + 'elements = [ { part = "r1", between = ["in", "out\\n"] }, '
              '{ part = "c1", between = ["out", "0"] } ]\n'),

@@ -24,6 +24,7 @@ ROLES: tuple[str, ...] = ()   # the stage names its own parts (the letter gives 
 # Node names are the user's and are used as given (fullmatch: no trailing newline).
 # Internal nodes (rcdoc.kinds.base.SOURCE_NODE...) hold a character outside this set.
 NODE = re.compile(r"[A-Za-z0-9_]{1,32}")
+NODE_RULE = "1 to 32 letters, digits or '_'"
 
 
 def parse_options(t: dict, path: str) -> dict:
@@ -34,8 +35,7 @@ def parse_options(t: dict, path: str) -> dict:
     for key in ("input", "output"):
         node = t[key]
         if not isinstance(node, str) or not NODE.fullmatch(node):
-            raise ProjectError("expected a node name (letters, digits, '_')",
-                               path=f"{path}.{key}")
+            raise ProjectError(f"expected a node name: {NODE_RULE}", path=f"{path}.{key}")
         if node == GROUND:
             raise ProjectError(f"the {key} cannot be ground (\"0\")", path=f"{path}.{key}")
         opts[key] = node
@@ -65,8 +65,8 @@ def parse_options(t: dict, path: str) -> dict:
             raise ProjectError("expected a part role", path=f"{epath}.part")
         if (not isinstance(between, list) or len(between) != 2
                 or not all(isinstance(n, str) and NODE.fullmatch(n) for n in between)):
-            raise ProjectError("expected two node names, e.g. [\"in\", \"mid\"]",
-                               path=f"{epath}.between")
+            raise ProjectError(f"expected two node names, e.g. [\"in\", \"mid\"]; a node name "
+                               f"is {NODE_RULE}", path=f"{epath}.between")
         if between[0] == between[1]:
             raise ProjectError("both ends on the same node", path=f"{epath}.between")
         elements.append((role, between[0], between[1], epath))
