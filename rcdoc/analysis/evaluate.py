@@ -33,21 +33,13 @@ PEAK_ITERATIONS = 30                 # golden-section steps: bracket shrinks by 
 TIME_POINTS = 4000                   # step-response grid
 TIME_CONSTANTS = 24.0                # step window in slowest nominal time constants
 PWM_POINTS = 1000                    # points over one PWM period
+SWEEP_HALF_SPAN = 10 ** (SWEEP_MAX_DECADES / 2)   # the widest `sweep` a project may give
 
 
-# The widest default sweep, either side of the stage's frequency: in all, as many
-# decades as the widest `sweep` a project may give.
-SWEEP_HALF_SPAN = 10 ** (SWEEP_MAX_DECADES / 2)
-
-
-def sweep_for(stage_char_hz: float, analysis, poles_hz: tuple[float, float] | None = None
-              ) -> np.ndarray:
+def sweep_for(stage_char_hz: float, analysis, poles_hz=None) -> np.ndarray:
     """Log sweep: the project's range, or 3 decades either side of the stage's
-    frequency, widened to a decade beyond ``poles_hz`` (the lowest and highest
-    pole frequency of a network whose frequency is taken from its poles), at
-    most SWEEP_HALF_SPAN either side: a network with time constants far apart
-    has poles outside 3 decades of their geometric mean, and its corner was
-    then not found."""
+    frequency, widened to a decade beyond ``poles_hz`` (a network's lowest and
+    highest pole frequency: far apart, they lie outside those 3 decades)."""
     if analysis.sweep_hz is not None:
         lo, hi = analysis.sweep_hz
     else:
