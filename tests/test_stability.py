@@ -269,6 +269,37 @@ def test_network_with_time_constants_far_apart_finds_its_corner(tmp_path):
     assert corner.missing == 0
 
 
+def test_band_pass_seven_decades_wide_finds_both_corners(tmp_path):
+    # rc-bandpass (series C1, shunt R1, series R2, shunt C2) with corners near 1 Hz
+    # and 10 MHz: both lay outside 3 decades of their geometric mean (3.2 kHz).
+    # Source: textbook, H(s) = sR1C1/(s²R1C1R2C2 + s(R1C1 + R2C2 + R1C2) + 1); the
+    # -3 dB points against its peak by scipy.optimize (minimize_scalar, brentq).
+    from scipy.optimize import brentq, minimize_scalar
+    r1, c1, r2, c2 = 1e6, 159e-9, 1e3, 15.9e-12
+
+    def gain(f):
+        s = 2j * np.pi * f
+        return abs(s * r1 * c1 / (s * s * r1 * c1 * r2 * c2 + s * (r1 * c1 + r2 * c2 + r1 * c2) + 1))
+    top = minimize_scalar(lambda lf: -gain(10 ** lf), bounds=(1, 6), method="bounded",
+                          options={"xatol": 1e-12})
+    f_peak, half = 10 ** top.x, gain(10 ** top.x) / np.sqrt(2)
+    low = brentq(lambda f: gain(f) - half, 0.01, f_peak, xtol=1e-14)
+    high = brentq(lambda f: gain(f) - half, f_peak, 1e9, xtol=1e-6)
+    stage = """
+        [[stage]]
+        id = "bp"
+        title = "Wide band-pass"
+        kind = "rc-bandpass"
+        parts.c1 = { value = "159 nF", tolerance = "1%" }
+        parts.r1 = { value = "1 Mohm", tolerance = "1%" }
+        parts.r2 = { value = "1 kohm", tolerance = "1%" }
+        parts.c2 = { value = "15.9 pF", tolerance = "1%" }
+        """
+    res = analyse_one(tmp_path, stage, analysis="samples = 20")
+    assert res.metric("corner_low").nominal == pytest.approx(low, rel=1e-9)
+    assert res.metric("corner_high").nominal == pytest.approx(high, rel=1e-9)
+
+
 # ---- phase at a mark -----------------------------------------------------------
 
 
