@@ -165,11 +165,11 @@ def vectorised(stage, analysis, values: dict[str, np.ndarray], keep: int):
     kind = kind_of(stage)
     network = kind.build(stage)
     passband = passband_of(stage, kind)
-    char_hz = kind.characteristic_hz(stage)
+    char_hz, poles_hz = kind.characteristic_hz(stage), None
     if char_hz is None:
         nominal = {k: v[:1] for k, v in values.items()}
-        char_hz = _char_from_poles(stage, network, nominal, passband)
-    freqs = sweep_for(char_hz, analysis)
+        char_hz, poles_hz = _char_from_poles(stage, network, nominal, passband)
+    freqs = sweep_for(char_hz, analysis, poles_hz)      # as rcdoc.analysis.analyse._setup
     mark = stage.marks_hz[0]
     rows = len(next(iter(values.values())))
     keys = ("gain_db", "phase_deg", "corner", "gain_mark", "phase_mark", "rise", "settle", "step")
