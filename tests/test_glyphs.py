@@ -2,9 +2,10 @@
 nothing of the renderer's own.
 
 The board's text holds two characters of Unicode's Supplementary Private Use
-Area-B (U+10FF00 and U+10FFFD): assigned to no script, so no font a note's
-machine would have draws them (Unicode Standard, chapter 23.5, private-use
-characters), and the renderer draws .notdef boxes in their place.
+Area-B (U+10FF00 and U+10FFFD): the Unicode Standard leaves their meaning to
+private agreement (its section on private-use characters), so no font a note's
+machine would have draws them (common practice), and the renderer draws
+.notdef boxes in their place.
 
 Before, the command said nothing about the boxes, and with --jobs 1 printed
 weasyprint's warning for every character and every drawing of it (some fifty
