@@ -60,6 +60,8 @@ class Outcome:
     keys: list | None = None
     # The JSON summary and the parts list, made already (``prepare``), by name.
     prepared: dict = field(default_factory=dict)
+    # Characters no installed font drew in the note written (write_outputs; rcdoc.note.glyphs).
+    missing_glyphs: set = field(default_factory=set)
 
     def commit_cache(self) -> None:
         if self.pending is not None:
@@ -261,6 +263,7 @@ def check_note_paths(project: Project, out_dir: Path) -> None:
 def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
                   extra_appendix=(), changes=None) -> tuple[Path, Path]:
     """Render the PDF and the JSON; both land only if both could be made."""
+    from rcdoc.note import glyphs
     from rcdoc.note.page import note_context
     from rcdoc.note.pdf import render_pdf
     project = outcome.project
@@ -282,15 +285,20 @@ def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),
     csv_tmp = make_temp(out_dir, csv_path.name)
     done = False
     try:
-        used = render_pdf(context, tmp_path, template_dirs=list(template_dirs),
-                          project_dir=Path(project.file).resolve().parent,
-                          source_date_epoch=source_date_epoch(project),
-                          stage_parts=outcome.parts,
-                          stage_keys=(_part_keys(project, template_dirs, outcome.keys)
-                                      if outcome.contexts is not None else None),
-                          note_parts=outcome.note_parts)
+        with glyphs.collecting() as missing:     # a note rendered here as one document
+            used = render_pdf(context, tmp_path, template_dirs=list(template_dirs),
+                              project_dir=Path(project.file).resolve().parent,
+                              source_date_epoch=source_date_epoch(project),
+                              stage_parts=outcome.parts,
+                              stage_keys=(_part_keys(project, template_dirs, outcome.keys)
+                                          if outcome.contexts is not None else None),
+                              note_parts=outcome.note_parts)
         if used is not None and outcome.parts is not None:
             outcome.parts[:] = used     # filed in the cache by commit_cache below
+        # And those of the parts: rendered here, by a worker or by an earlier build.
+        parts = [*(outcome.parts or []), *(outcome.note_parts or {}).values()]
+        outcome.missing_glyphs = missing | {c for p in parts if isinstance(p, dict)
+                                            for c in p.get("missing_glyphs", "")}
         json_tmp.write_bytes(json_bytes)
         json_tmp.chmod(tmp_path.stat().st_mode)   # as readable as the note
         csv_tmp.write_bytes(csv_bytes)

@@ -180,32 +180,23 @@ def _build_all(args, projects, olds, commits, template_dirs, pool) -> int:
             old = _analyse(olds[k], args, pool=pool)
             changes = changes_section(compare(olds[k], old.results, project, outcome.results,
                                               old_label=f"git:{commits[k].short}"), commits[k])
-        from rcdoc.note import glyphs
         try:
-            with glyphs.collecting() as missing:     # a note rendered as one document
-                pdf, js = write_outputs(outcome, out_dir, template_dirs=template_dirs,
-                                        extra_appendix=extra, changes=changes)
+            pdf, js = write_outputs(outcome, out_dir, template_dirs=template_dirs,
+                                    extra_appendix=extra, changes=changes)
         except OSError as exc:     # e.g. no permission: one line, not a traceback
             raise ProjectError(f"cannot write the note: {exc.strerror or exc}",
                                file=str(exc.filename or out_dir)) from exc
         if not args.quiet:
             print_outcome(outcome)
             _say(f"wrote {pdf} and {js}")
-            missing |= _missing_glyphs(outcome)
-            if missing:
+            if outcome.missing_glyphs:
+                from rcdoc.note.glyphs import listed
                 print(f"rcdoc: note: {project.file}: no installed font draws "
-                      f"{glyphs.listed(missing)}; the note shows empty boxes in their place "
-                      "(install a font that has them)", file=sys.stderr)
+                      f"{listed(outcome.missing_glyphs)}; the note shows empty boxes in their "
+                      "place (install a font that has them)", file=sys.stderr)
         if outcome.status != "pass":
             worst = EXIT_FAIL
     return worst
-
-
-def _missing_glyphs(outcome) -> set[str]:
-    """The characters no font could draw in the parts of the note just written
-    (rendered here, by a worker or by an earlier build: rcdoc.note.glyphs)."""
-    parts = [*(outcome.parts or []), *(outcome.note_parts or {}).values()]
-    return {c for p in parts if isinstance(p, dict) for c in p.get("missing_glyphs", "")}
 
 
 def _check_distinct_outputs(projects, output) -> None:
