@@ -50,7 +50,7 @@ _SPARE = 0.5
 _SHORT = 12       # _blocks.html: a cell of at most 12 characters never wraps
 # The most a single word may claim as a column's narrowest width: a longer one (an id,
 # a title or a model name without spaces) is broken where it must (note.css:
-# overflow-wrap: anywhere) rather than squeezing the other columns off the table.
+# overflow-wrap on table cells) rather than squeezing the other columns off the table.
 _LONGEST_PIECE = 40 * _MM
 _QUANTITY = re.compile(r"(?<![\w.])([+\-−±]?\d[\d.,]*(?:[eE][+\-−]?\d+)?) (\S{1,8})")
 

@@ -31,7 +31,7 @@ JINJA2 = '3.1.6'
 SETTINGS = "('ImmutableSandboxedEnvironment', '{%', '%}', '{{', '}}', '{#', '#}', None, None, True, True, '\\n', True, True, True, True, False, [], ['abs', 'attr', 'batch', 'capitalize', 'center', 'count', 'd', 'default', 'dictsort', 'e', 'escape', 'figure', 'filesizeformat', 'first', 'float', 'forceescape', 'format', 'groupby', 'indent', 'int', 'items', 'join', 'keep_units', 'last', 'layout_rows', 'length', 'list', 'lower', 'map', 'max', 'min', 'pprint', 'random', 'reject', 'rejectattr', 'replace', 'reverse', 'round', 'safe', 'select', 'selectattr', 'slice', 'sort', 'string', 'striptags', 'sum', 'title', 'tojson', 'trim', 'truncate', 'unique', 'upper', 'urlencode', 'urlize', 'wordcount', 'wordwrap', 'xmlattr'], ['!=', '<', '<=', '==', '>', '>=', 'boolean', 'callable', 'defined', 'divisibleby', 'eq', 'equalto', 'escaped', 'even', 'false', 'filter', 'float', 'ge', 'greaterthan', 'gt', 'in', 'integer', 'iterable', 'le', 'lessthan', 'lower', 'lt', 'mapping', 'ne', 'none', 'number', 'numeric', 'odd', 'sameas', 'sequence', 'string', 'test', 'true', 'undefined', 'upper', 'verdict'])"
 TEMPLATES: dict[str, tuple[str, str]] = {
     '_appendix.html': ('t__appendix_html', 'a09a0f68a730be7459e2c1394601dd3eb9761aee'),
-    '_blocks.html': ('t__blocks_html', 'c09bce95c73a16af5ec60b146bfb3ca025f96e70'),
+    '_blocks.html': ('t__blocks_html', '2624b00439e46965698ccf596e8d8d04b0cc424b'),
     '_changes.html': ('t__changes_html', '18ce67c6b96b5576184c3dd87e52ecf6d232b9bc'),
     '_cover.html': ('t__cover_html', 'b069c775d4ef4d0f9493597b18cb1269155a8dff'),
     '_overview.html': ('t__overview_html', '83a17aa31ded8e14913e0b1a7cc2c9be0a6f1453'),

@@ -144,7 +144,7 @@ def root(context, missing=missing, environment=environment):
         t_13 = []
         l_1_column_kinds = resolve('column_kinds')
         l_1_column_widths = resolve('column_widths')
-        l_1_plain = l_1_kinds = l_1_shares = l_1_row_kinds = l_1_row_lines = missing
+        l_1_plain = l_1_kinds = l_1_linked = l_1_shares = l_1_row_kinds = l_1_row_lines = missing
         if l_1_columns is missing:
             l_1_columns = undefined("parameter 'columns' was not provided", name='columns')
         if l_1_rows is missing:
@@ -159,11 +159,12 @@ def root(context, missing=missing, environment=environment):
         if ((l_1_label_width and l_1_rows) and (t_6(environment, t_5(context, t_5(context, t_5(context, l_1_rows, 'first'), 'string'), 'length')) <= l_1_label_width)):
             pass
             l_1_kinds = ([t_8(markup_join((environment.getitem((undefined(name='kinds') if l_1_kinds is missing else l_1_kinds), 0), ' nw', )))] + (undefined(name='kinds') if l_1_kinds is missing else l_1_kinds)[1:])
-        l_1_shares = environment.call(context, (undefined(name='column_widths') if l_1_column_widths is missing else l_1_column_widths), l_1_columns, l_1_rows, (undefined(name='kinds') if l_1_kinds is missing else l_1_kinds), ((not t_10(l_1_link_ids)) and (t_4(l_1_link_ids) > 0)))
+        l_1_linked = ((not t_10(l_1_link_ids)) and (t_4(l_1_link_ids) > 0))
+        l_1_shares = environment.call(context, (undefined(name='column_widths') if l_1_column_widths is missing else l_1_column_widths), l_1_columns, l_1_rows, (undefined(name='kinds') if l_1_kinds is missing else l_1_kinds), (undefined(name='linked') if l_1_linked is missing else l_1_linked))
         if ((not (undefined(name='shares') if l_1_shares is missing else l_1_shares)) and ((undefined(name='kinds') if l_1_kinds is missing else l_1_kinds) != (undefined(name='plain') if l_1_plain is missing else l_1_plain))):
             pass
             l_1_kinds = (undefined(name='plain') if l_1_plain is missing else l_1_plain)
-            l_1_shares = environment.call(context, (undefined(name='column_widths') if l_1_column_widths is missing else l_1_column_widths), l_1_columns, l_1_rows, (undefined(name='kinds') if l_1_kinds is missing else l_1_kinds), ((not t_10(l_1_link_ids)) and (t_4(l_1_link_ids) > 0)))
+            l_1_shares = environment.call(context, (undefined(name='column_widths') if l_1_column_widths is missing else l_1_column_widths), l_1_columns, l_1_rows, (undefined(name='kinds') if l_1_kinds is missing else l_1_kinds), (undefined(name='linked') if l_1_linked is missing else l_1_linked))
         l_1_row_kinds = (environment.getattr((undefined(name='shares') if l_1_shares is missing else l_1_shares), 'row_kinds') if (undefined(name='shares') if l_1_shares is missing else l_1_shares) else None)
         l_1_row_lines = (environment.getattr((undefined(name='shares') if l_1_shares is missing else l_1_shares), 'row_lines') if (undefined(name='shares') if l_1_shares is missing else l_1_shares) else None)
         t_13.append(
@@ -418,5 +419,5 @@ def root(context, missing=missing, environment=environment):
     context.vars['blocks'] = l_0_blocks = Macro(environment, macro, 'blocks', ('items',), False, False, False, context.eval_ctx.autoescape)
 
 blocks = {}
-debug_info = '3=78&4=87&5=91&6=96&8=100&11=121&12=127&16=143&19=157&20=158&21=159&22=161&26=162&28=163&29=165&30=166&34=167&35=168&36=172&37=180&39=201&42=224&43=228&44=230&45=232&47=238&48=241&49=245&51=253&60=267&61=276&62=279&63=288&64=291&68=305&69=313&70=321&71=330&72=333&76=347&78=355&79=362&80=367&85=378&86=383&87=386&89=390&90=391&92=394&93=398&94=401&95=405&96=408&97=412'
+debug_info = '3=78&4=87&5=91&6=96&8=100&11=121&12=127&16=143&19=157&20=158&21=159&22=161&26=162&27=163&29=164&30=166&31=167&35=168&36=169&37=173&38=181&40=202&43=225&44=229&45=231&46=233&48=239&49=242&50=246&52=254&61=268&62=277&63=280&64=289&65=292&69=306&70=314&71=322&72=331&73=334&77=348&79=356&80=363&81=368&86=379&87=384&88=387&90=391&91=392&93=395&94=399&95=402&96=406&97=409&98=413'
 # jinja2 3.1.6's code of templates/_blocks.html, written by tools/compile_templates.py: do not edit.
