@@ -77,6 +77,15 @@ def replace(tmp, path) -> None:
     os.replace(tmp, path)
 
 
+def refuse_folder(path, message: str, key: str = "") -> None:
+    """Raise ProjectError (naming ``path`` and ``key``) where a folder, or a link
+    to one, has the name of a file a command is to write: checked before any work,
+    so that the command does not fail at its end, after its other files landed."""
+    if Path(path).is_dir():
+        from rcdoc.errors import ProjectError
+        raise ProjectError(message, path=key, file=str(path))
+
+
 def commit(pairs) -> None:
     """Rename several finished temporary files into place as one step: SIGINT is
     held back while they move, so an interrupt leaves all old or all new."""

@@ -31,7 +31,7 @@ from rcdoc.commands import schedule
 from rcdoc.commands.cache import StageCache, stage_key
 from rcdoc.commands.workers import WorkerPool, _draw_unit, _stage_unit
 from rcdoc.errors import ProjectError
-from rcdoc.files import commit, make_temp, remove_stale_temps
+from rcdoc.files import commit, make_temp, refuse_folder, remove_stale_temps
 from rcdoc.input.model import Project
 from rcdoc.kinds import load_project
 
@@ -250,14 +250,10 @@ def note_paths(project: Project, out_dir: Path) -> tuple[Path, Path, Path]:
 
 
 def check_note_paths(project: Project, out_dir: Path) -> None:
-    """Refuse, before any work, a note whose file name is taken by a folder (or a
-    symbolic link to one: the file would replace the link, but a reader of the
-    link expects a folder there): the build would fail at the end, after the
-    others of its files had landed."""
+    """Refuse, before any work, a note, JSON or parts list whose name a folder has."""
     for path in note_paths(project, out_dir):
-        if path.is_dir():
-            raise ProjectError("a folder has the name of a file the build writes; "
-                               "move it or write elsewhere with -o", file=str(path))
+        refuse_folder(path, "a folder has the name of a file the build writes; "
+                            "move it or write elsewhere with -o")
 
 
 def write_outputs(outcome: Outcome, out_dir: Path, *, template_dirs=(),

@@ -217,11 +217,11 @@ def _check_distinct_outputs(projects, output) -> None:
 def cmd_check(args) -> int:
     from rcdoc.commands.build import WorkerPool, load_all, output_dir
     from rcdoc.commands.terminal import print_outcome
-    from rcdoc.files import write_atomic
+    from rcdoc.files import refuse_folder, write_atomic
     from rcdoc.note.summary import junit
     projects = load_all(args.files, samples=args.samples, seed=args.seed)
     if args.junit:
-        _file_target(args.junit, "--junit")
+        refuse_folder(args.junit, "this is a folder; give the file to write", "--junit")
     if args.json:                # where each summary goes, settled before any analysis
         from rcdoc.note.machine import json_targets
         json_paths = json_targets(args.json, [p.file for p in projects])
@@ -263,8 +263,9 @@ def cmd_diff(args) -> int:
 
     from rcdoc.commands.diff_render import render_rich
     from rcdoc.commands.regression import diff_json, run_diff, write_json
+    from rcdoc.files import refuse_folder
     if args.json:
-        _file_target(args.json, "--json")
+        refuse_folder(args.json, "this is a folder; give the file to write", "--json")
     d, regs = run_diff(args.old, args.new, samples=args.samples, seed=args.seed,
                        jobs=_jobs(args), output=args.output)
     render_rich(d, Console())
@@ -274,14 +275,6 @@ def cmd_diff(args) -> int:
         print(f"rcdoc: {len(regs)} regression{'' if len(regs) == 1 else 's'}", file=sys.stderr)
         return EXIT_FAIL
     return EXIT_OK
-
-
-def _file_target(path: str, option: str) -> None:
-    """A report file named by ``option``, refused before any work where a folder
-    has its name (it failed only once the analysis was done)."""
-    if Path(path).is_dir():
-        raise ProjectError(f"{option} names a folder; give the file to write",
-                           path=option, file=path)
 
 
 def cmd_init(args) -> int:
