@@ -23,9 +23,10 @@ d  build  a cold 40-stage build (the analysed kinds in turn, 2000 samples)
           changed from that build's output folder; k rounds of the two,
           interleaved, the best of each kept.
 e  render the note's render (write_outputs of the example board, analysed and
-          drawn beforehand, serial) against a floor: the distinct PNG images taken
-          out of the note's own PDF, spread over as many pages in minimal HTML,
-          rendered by weasyprint directly. (d prints the 40-stage PDF's size.)
+          drawn beforehand, serial, the garbage collector set as the command sets
+          it) against a floor: the distinct PNG images taken out of the note's own
+          PDF, spread over as many pages in minimal HTML, rendered by weasyprint
+          directly in the same process. (d prints the 40-stage PDF's size.)
 p  profile cProfile of the check path (one case of b's board, in process):
           the top entries by cumulative time inside rcdoc.
 
@@ -425,12 +426,16 @@ def section_build(tmp: Path, stages: int, samples: int, k: int = 1) -> Path:
 # ---- e: the note's render against a floor ----------------------------------------
 
 # Runs in a fresh process: analyse and draw once (serial), then render the note
-# and the floor k times, interleaved; prints CPU seconds as JSON.
+# and the floor k times, interleaved; prints CPU seconds as JSON. The process's
+# garbage collector is set as the rcdoc command sets its own (collector.tune), for
+# the note and the floor alike: the note's render is measured as the command runs it.
 RENDER = r'''
 import json, sys, time
 from pathlib import Path
 sys.path.insert(0, sys.argv[1])
 import floor as bench
+from rcdoc.commands.collector import tune
+tune()
 file, samples, k, tmp = Path(sys.argv[2]), int(sys.argv[3]), int(sys.argv[4]), Path(sys.argv[5])
 project = bench.load(file, samples=samples)
 outcome = bench.analyse_drawn(project)

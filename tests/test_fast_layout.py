@@ -263,3 +263,67 @@ def test_kept_answers_are_weasyprints_own(general):
             own_resolve(fresh, (width, height))
             assert lengths == {name: getattr(fresh, name) for name in lengths}
     assert struts > 10 and used > 20
+
+
+# Text whose drawing needs a layout other than the measured one, or that Pango
+# breaks inside one paragraph: justified lines (their word spacing is set only
+# to draw), an ellipsis, preserved newlines and tabs, a line separator (U+2028,
+# a mandatory break in Unicode line breaking, UAX #14), letter and word
+# spacing, right-to-left text, a text too long for its cell, and SVG text.
+_TEXTS = """<html lang="en"><head><style>
+@page { size: 220px 300px; margin: 8px }
+body { font: 9px/1.2 "DejaVu Sans" }
+.j { text-align: justify; width: 120px }
+.e { width: 60px; white-space: nowrap; overflow: hidden; text-overflow: ellipsis }
+.s { letter-spacing: 1.5px; word-spacing: 4px }
+td { border: 1px solid; width: 30px; overflow-wrap: anywhere }
+</style></head><body>
+<p class="j">Justified text set over several lines so that the word spacing of
+every line but the last is stretched to the full width of its box, twice.</p>
+<p class="e">An ellipsis ends this line long before its end</p>
+<pre>pre line one\tand a tab
+line two\rthree</pre>
+<p>a line\u2028separator and a paragraph\u2029separator</p>
+<p class="s">spaced out words</p><p dir="rtl">טקסט abc עברי (1)</p>
+<table><tr><td>Averyveryverylongword</td><td>10 kΩ</td></tr></table>
+<svg width="120" height="30"><text x="4" y="20" font-size="10">SVG text Ω</text></svg>
+</body></html>"""
+
+
+def _shaped(html: str, monkeypatch) -> tuple[bytes, int]:
+    """The PDF of ``html``, and how many Pango layouts its drawing made (after
+    the layout of its pages)."""
+    from weasyprint.text import line_break
+    made = []
+    setup = line_break.Layout.setup
+
+    def counted(self, style):
+        made.append(1)
+        return setup(self, style)
+
+    with monkeypatch.context() as patch:
+        patch.setattr(line_break.Layout, "setup", counted)
+        document = weasyprint.HTML(string=html).render()
+        measured = len(made)
+        pdf = document.write_pdf()
+    return pdf, len(made) - measured
+
+
+def test_each_line_is_shaped_once_and_drawn_the_same(general, monkeypatch):
+    # weasyprint measures a line with a Pango layout, drops it, and makes and shapes
+    # it again to draw it; the kept layout is drawn instead, where it is the same.
+    plain = _HTML.replace("</body>", "<p>plain text</p>" * 40 + "</body>")
+    for html in (_HTML, _TEXTS, plain):
+        reference, redrawn = _shaped(html, monkeypatch)
+        assert redrawn > 20                      # weasyprint: every drawn line again
+        assert fast_layout.install()
+        try:
+            pdf, again = _shaped(html, monkeypatch)
+        finally:
+            fast_layout.uninstall()
+        assert pdf == reference
+        if html is _TEXTS:
+            # Made again to draw: the justified lines, the lines with breaks in them.
+            assert 0 < again < redrawn
+        else:
+            assert again == 0
