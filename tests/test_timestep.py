@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 from scipy import signal
 
-from rcdoc.analysis import analyse
+from rcdoc.analysis import spread
 
 from rcdoc.analysis import engine
 from rcdoc.analysis.network import Element, Network
@@ -70,7 +70,7 @@ def test_highpass_nominal_does_not_change_with_samples(tmp_path):
 def test_samples_do_not_change_with_chunking(tmp_path, monkeypatch):
     stage = _highpass_stage("22 pF")
     whole = analyse_one(tmp_path, stage, analysis="samples = 50", name="a")
-    monkeypatch.setattr(analyse, "CHUNK_ROWS", 7)
+    monkeypatch.setattr(spread, "CHUNK_ROWS", 7)
     split = analyse_one(tmp_path, stage, analysis="samples = 50", name="b")
     # Source: common practice, a sample's result must not depend on the chunk it is solved in.
     for m1, m2 in zip(whole.metrics, split.metrics):

@@ -30,8 +30,6 @@ from rcdoc.analysis.phasor_choice import phasor_frequency
 from rcdoc.analysis.results import (MetricResult, PartRow, PartStress, Phasors, ResponseBand,
                                     StageResult, Waveform, param_of)
 
-CHUNK_ROWS = 4000            # rows of the batch solved at once: bounds memory
-BAND_SAMPLES = 20000         # percentile bands use at most this many samples
 WAVE_SAMPLES = 5000          # time-response bands use at most this many samples
 WAVE_POINTS = 400            # time-response points kept for the figures
 BAND_PERCENTILES = (5.0, 95.0)
@@ -193,8 +191,9 @@ def _gather(s: _Setup) -> _Gathered:
     g = _Gathered(values=[[] for _ in s.requests])
     batch = s.batch
     walks = _wc_context(s).line_batch()
-    for start in range(0, batch.rows, CHUNK_ROWS):
-        rows = slice(start, min(start + CHUNK_ROWS, batch.rows))
+    step = spread.chunk_rows(len(s.freqs))
+    for start in range(0, batch.rows, step):
+        rows = slice(start, min(start + step, batch.rows))
         n, vals = rows.stop - rows.start, batch.take(rows)
         tail = walks is not None and rows.stop == batch.rows
         if tail:
@@ -241,11 +240,12 @@ def _gather_spread(s: _Setup, g: _Gathered, ev: Evaluator, mc_idx: np.ndarray) -
     if ph is not raw:
         lo, hi = ph.min(axis=0), ph.max(axis=0)
     g.band_env.merge(gain.min(axis=0), gain.max(axis=0), np.degrees(lo), np.degrees(hi))
-    if sum(x.shape[1] for x in g.gains) < BAND_SAMPLES:
+    room = spread.band_samples(gain.shape[1]) - sum(x.shape[1] for x in g.gains)
+    if room > 0:
         # Kept as float32, one frequency per contiguous row (the percentiles select
         # along rows); degrees computed in double and rounded once, as before.
-        g.gains.append(spread.transposed(gain, np.float32))
-        g.phases.append(spread.transposed(ph, np.float32, np.degrees))
+        g.gains.append(spread.transposed(gain[:room], np.float32))
+        g.phases.append(spread.transposed(ph[:room], np.float32, np.degrees))
     drive = s.stage.drive
     shown = {} if drive is None else {"step": (ev.step, 0.0)}
     if drive is not None and drive.kind == "pwm":
@@ -257,8 +257,9 @@ def _gather_spread(s: _Setup, g: _Gathered, ev: Evaluator, mc_idx: np.ndarray) -
         idx = np.linspace(0, y.shape[1] - 1, WAVE_POINTS).astype(int)
         drawn = y[mc_idx[:, None], idx[None, :]] - offset
         g.wave_env[wname].add(drawn, None)
-        if sum(len(x) for x in g.waves[wname]) < WAVE_SAMPLES:
-            g.waves[wname].append(drawn.astype(np.float32))
+        room = WAVE_SAMPLES - sum(len(x) for x in g.waves[wname])
+        if room > 0:
+            g.waves[wname].append(drawn[:room].astype(np.float32))
 
 
 def _metric_results(s: _Setup, g: _Gathered) -> list[MetricResult]:
@@ -342,7 +343,7 @@ def analyse_network(stage: Stage, analysis: Analysis, kind,
 
     Steps: set-up (network, batch of rows: nominal, Monte Carlo, sensitivity
     probes, corners; sweep and time grid from the nominal alone), the batch in
-    chunks of CHUNK_ROWS (every requested metric, Bode and waveform bands,
+    chunks (spread.chunk_rows: every requested metric, Bode and waveform bands,
     part stresses), then per metric the worst case (corners, walks, interior
     search: worstcase.Context) and sensitivities, the verdicts of the checks
     and ratings, the waveforms and phasors of the nominal. A kind with metrics

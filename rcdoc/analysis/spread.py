@@ -21,6 +21,30 @@ from rcdoc.input.model import Analysis, Stage
 
 SENSITIVITY_STEP = 1e-3     # relative change of one part for its sensitivity (finite difference)
 FULL_VERTEX_PARTS = 8       # up to this many parts, every corner of the tolerance box is tried
+# What bounds the analysis's memory: the rows of the batch solved at once and the
+# Monte Carlo samples the drawn percentile band of the response keeps, and for
+# each, how many values (rows x sweep points) one of its arrays may hold. The
+# defaults' 301 points are a first-order stage's default sweep (six decades at 50
+# points a decade): there the row limits hold.
+CHUNK_ROWS = 4000
+CHUNK_VALUES = 4000 * 301
+BAND_SAMPLES = 20000
+BAND_VALUES = 20000 * 301
+
+
+def chunk_rows(points: int) -> int:
+    """Rows of the batch evaluated at once for a sweep of ``points`` frequencies:
+    CHUNK_ROWS, fewer where the sweep is long (200 at 1 000 points a decade over
+    six decades: a chunk's arrays no larger than at the default sweep), but at
+    least 100 (each chunk also marches its rows through time, at a cost per step)."""
+    return min(CHUNK_ROWS, max(100, CHUNK_VALUES // max(1, points)))
+
+
+def band_samples(points: int) -> int:
+    """Monte Carlo samples the percentile band of a sweep of ``points`` frequencies
+    is drawn from: BAND_SAMPLES, fewer where the sweep is long (1 003 at 1 000
+    points a decade over six decades; 5 % and 95 % are then ranks 50 and 953)."""
+    return max(1, min(BAND_SAMPLES, BAND_VALUES // max(1, points)))
 
 
 @dataclass(frozen=True)
