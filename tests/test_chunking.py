@@ -60,6 +60,7 @@ def test_a_long_sweep_is_solved_in_small_chunks_with_the_same_samples(tmp_path, 
         tracemalloc.stop()
     points = len(long_sweep.freqs_hz)
     assert points > 6000
+    band_samples = spread.band_samples(points)
     # One chunk of all 3 000 samples would hold 3 000 x 6 001 complex values
     # (288 MB) in each of its sweep arrays; the chunks of 200 rows, 19 MB.
     assert peak < 150e6, f"{peak / 1e6:.0f} MB"
@@ -80,3 +81,8 @@ def test_a_long_sweep_is_solved_in_small_chunks_with_the_same_samples(tmp_path, 
     np.testing.assert_array_equal(b1.gain_max, b2.gain_max)
     assert np.all(b1.gain_lo >= b2.gain_min) and np.all(b1.gain_hi <= b2.gain_max)
     assert np.allclose(b1.gain_lo, b2.gain_lo, atol=0.05)    # dB: both estimate the 5 %
+    assert b1.drawn == band_samples < 3000 and b2.drawn == 3000
+    # The note says so under the frequency response.
+    from rcdoc.note.page import _drawn
+    assert _drawn(long_sweep) == f" (from the first {b1.drawn} of them)"
+    assert _drawn(whole) == ""

@@ -334,6 +334,7 @@ def _response_band(g: _Gathered) -> ResponseBand:
         p0 = np.degrees(np.unwrap(np.angle(g.h_nominal)))[:, None].astype(np.float32)
         g.gains, g.phases = [g0], [p0]
         g.band_env.add(g0.T, p0.T)
+        return replace(_band(g.gains, g.phases, g.band_env), drawn=0)
     return _band(g.gains, g.phases, g.band_env)
 
 
@@ -410,7 +411,8 @@ def _band(gains, phases, env: _Envelope) -> ResponseBand:
     g_lo, g_hi = spread.row_percentiles(g, BAND_PERCENTILES, overwrite=True).astype(float)
     p_lo, p_hi = spread.row_percentiles(p, BAND_PERCENTILES, overwrite=True).astype(float)
     return ResponseBand(gain_min=env.lo, gain_max=env.hi, gain_lo=g_lo, gain_hi=g_hi,
-                        phase_min=env.plo, phase_max=env.phi, phase_lo=p_lo, phase_hi=p_hi)
+                        phase_min=env.plo, phase_max=env.phi, phase_lo=p_lo, phase_hi=p_hi,
+                        drawn=g.shape[1])
 
 
 def _wave(t, nominal, waves, env: _Envelope, mean=None, input=None) -> Waveform:

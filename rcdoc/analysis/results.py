@@ -184,7 +184,9 @@ class Waveform(_ReadOnlyAgain):
 
 @dataclass(frozen=True)
 class ResponseBand(_ReadOnlyAgain):
-    """The spread of the Bode response over the stable Monte Carlo samples, (F,) each."""
+    """The spread of the Bode response over the stable Monte Carlo samples, (F,) each:
+    min and max over all of them, the 5 % and 95 % percentiles (lo, hi) over the
+    first ``drawn`` of them (rcdoc.analysis.spread.band_samples)."""
 
     gain_min: np.ndarray
     gain_max: np.ndarray
@@ -194,14 +196,18 @@ class ResponseBand(_ReadOnlyAgain):
     phase_max: np.ndarray
     phase_lo: np.ndarray
     phase_hi: np.ndarray
+    drawn: int = 0
 
     def __post_init__(self):
-        for name in self.__dataclass_fields__:
+        for name in self._ARRAYS:
             object.__setattr__(self, name, _frozen(getattr(self, name)))
+
+    _ARRAYS = ("gain_min", "gain_max", "gain_lo", "gain_hi",
+               "phase_min", "phase_max", "phase_lo", "phase_hi")
 
     def as_mapping(self) -> Mapping[str, np.ndarray]:
         """Read-only name -> array view, for a chart that takes its bands by name."""
-        return FrozenMap({k: getattr(self, k) for k in self.__dataclass_fields__})
+        return FrozenMap({k: getattr(self, k) for k in self._ARRAYS})
 
 
 @dataclass(frozen=True)

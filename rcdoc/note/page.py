@@ -67,8 +67,18 @@ def bode_figure(r: StageResult) -> dict:
                       limits=bode_limits(r), title="", fmt="png")
     return {"type": "figure", "title": "Frequency response", "image": svg, "width": "full",
             "caption": f"Gain and phase, nominal (line) with the spread of {r.samples} Monte "
-                       "Carlo samples: outer band min–max, inner band 5–95 %. Shaded regions "
-                       "are forbidden by the checks."}
+                       f"Carlo samples: outer band min–max, inner band 5–95 %{_drawn(r)}. "
+                       "Shaded regions are forbidden by the checks."}
+
+
+def _drawn(r: StageResult) -> str:
+    """What the Bode caption adds where the inner band is drawn from fewer samples
+    than the stable ones (over 20 000 samples, or fewer over a long sweep:
+    rcdoc.analysis.spread.band_samples)."""
+    stable = r.samples - r.samples_unstable
+    if 0 < r.band.drawn < stable:
+        return f" (from the first {r.band.drawn} of them)"
+    return ""
 
 
 def phasor_figure(r: StageResult) -> dict | None:
