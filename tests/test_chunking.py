@@ -3,9 +3,9 @@ solved at once and the samples of the drawn percentile band, both sized by the
 number of sweep points (rcdoc.analysis.spread.chunk_rows, band_samples).
 
 A sample's results must not depend on the chunk it is solved in (common
-practice); the memory is measured with tracemalloc, which numpy reports its
-array buffers to (numpy documentation, "Memory management": NumPy traces its
-data allocations through the tracemalloc domain of the Python allocator).
+practice); the memory is measured with tracemalloc, which sees numpy's array
+buffers (numpy documentation, "Memory management in NumPy": tracemalloc's
+tracking hooks were added to NumPy's PyDataMem_* data allocation routines).
 """
 
 from __future__ import annotations

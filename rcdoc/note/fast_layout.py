@@ -35,7 +35,8 @@ percentages a twelfth, the flow tests a twenty-fifth):
   would make again: the same style, no justification spacing, and no
   paragraph separator in the text (the drawing sets Pango's single-paragraph
   mode, which the kept layout then has from the start). Drawn, it is dropped
-  as before. (A sixth less of a stage part's drawing CPU, measured.)
+  as before. (For the example's note, 4 864 Pango layouts instead of 7 942;
+  its render 2.39 s of CPU against 2.49 s, best of fourteen, interleaved.)
 
 What it must not do: change a value. ``install`` patches nothing for another
 weasyprint than 70.0 (those functions may differ there) and says so by
