@@ -204,6 +204,5 @@ def test_results_pickle_for_the_build_cache(example):
         assert back.metrics[0].sensitivity == r.metrics[0].sensitivity
         assert [m.key for m in back.metrics] == [m.key for m in r.metrics]
         assert not back.metrics[0].samples.flags.writeable
-    w = Waveform(t_s=np.arange(3.0), nominal=np.zeros(3), lo=np.zeros(3), hi=np.zeros(3),
-                 min=np.zeros(3), max=np.zeros(3))
+    w = Waveform(t_s=np.arange(3.0), nominal=np.zeros(3), min=np.zeros(3), max=np.zeros(3))
     assert pickle.loads(pickle.dumps(w)).t_s.tolist() == [0.0, 1.0, 2.0]

@@ -1,4 +1,4 @@
-"""The cheaper arithmetic of rcdoc.analysis.sweep_math and spread.column_percentiles
+"""The cheaper arithmetic of rcdoc.analysis.sweep_math and spread.row_percentiles
 against the methods they replace and general-purpose libraries.
 
 Sources: numpy.unwrap and numpy.percentile (the methods replaced, general-purpose
@@ -18,7 +18,7 @@ import scipy.signal as sg
 
 from rcdoc.analysis import sweep_math
 from rcdoc.analysis.evaluate import Evaluator
-from rcdoc.analysis.spread import column_percentiles, row_percentiles, transposed
+from rcdoc.analysis.spread import row_percentiles, transposed
 
 from boards import mc_evaluator
 
@@ -59,7 +59,7 @@ def test_unwrapped_at_is_the_last_value_of_numpys_unwrap():
 
 @pytest.mark.parametrize("n", [1, 5, 63, 64, 65, 999, 5000, 20001])
 @pytest.mark.parametrize("dtype", [np.float32, np.float64])
-def test_column_percentiles_are_numpys(n, dtype):
+def test_row_percentiles_are_numpys(n, dtype):
     rng = np.random.default_rng(n)
     a = (rng.standard_normal((n, 37)) * 3 - 20).astype(dtype)
     a[:, 3] = 1.5                                    # a constant column
@@ -67,13 +67,13 @@ def test_column_percentiles_are_numpys(n, dtype):
     a[:, 6] *= 1e-30                                 # values decades apart from the rest
     for q in [(5.0, 95.0), (0.0, 100.0), (50.0,), (12.5, 87.5)]:
         ref = np.percentile(a, q, axis=0)            # numpy.percentile, linear method
-        got = column_percentiles(a, q)
+        got = row_percentiles(transposed(a), q)          # each column, as a row
         assert got.dtype == ref.dtype and np.array_equal(got, ref)
         assert np.array_equal(row_percentiles(np.ascontiguousarray(a.T), q), ref)
         assert np.array_equal(row_percentiles(np.array(a.T, order="C"), q, overwrite=True), ref)
     a[n // 2, 9] = np.nan                            # a sample without a value: numpy's NaN
     ref = np.percentile(a, (5.0, 95.0), axis=0)
-    assert np.array_equal(column_percentiles(a, (5.0, 95.0)), ref, equal_nan=True)
+    assert np.array_equal(row_percentiles(transposed(a), (5.0, 95.0)), ref, equal_nan=True)
 
 
 STAGES = {

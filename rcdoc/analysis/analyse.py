@@ -30,7 +30,6 @@ from rcdoc.analysis.phasor_choice import phasor_frequency
 from rcdoc.analysis.results import (MetricResult, PartRow, PartStress, Phasors, ResponseBand,
                                     StageResult, Waveform, param_of)
 
-WAVE_SAMPLES = 5000          # time-response bands use at most this many samples
 WAVE_POINTS = 400            # time-response points kept for the figures
 BAND_PERCENTILES = (5.0, 95.0)
 _STRESS = {"R": "resistor_power", "C": "capacitor_voltage"}
@@ -145,7 +144,6 @@ class _Gathered:
     gains: list = field(default_factory=list)
     phases: list = field(default_factory=list)
     band_env: "_Envelope" = None
-    waves: dict = field(default_factory=lambda: {"step": [], "pwm": []})
     wave_env: dict = None
     cap_peaks: dict = field(default_factory=dict)
     res_powers: dict = field(default_factory=dict)
@@ -257,9 +255,6 @@ def _gather_spread(s: _Setup, g: _Gathered, ev: Evaluator, mc_idx: np.ndarray) -
         idx = np.linspace(0, y.shape[1] - 1, WAVE_POINTS).astype(int)
         drawn = y[mc_idx[:, None], idx[None, :]] - offset
         g.wave_env[wname].add(drawn, None)
-        room = WAVE_SAMPLES - sum(len(x) for x in g.waves[wname])
-        if room > 0:
-            g.waves[wname].append(drawn[:room].astype(np.float32))
 
 
 def _metric_results(s: _Setup, g: _Gathered) -> list[MetricResult]:
@@ -316,13 +311,13 @@ def _waveforms(s: _Setup, g: _Gathered, nominal_unstable: bool):
     if not timed:
         return None, None
     ev = g.nominal
-    step = _wave(s.time_s, ev.step, g.waves["step"], g.wave_env["step"])
+    step = _wave(s.time_s, ev.step, g.wave_env["step"])
     pwm = None
     d = s.stage.drive
     if d.kind == "pwm":
         t = ev.pwm_time_s
         y0 = ev.pwm
-        pwm = _wave(t, y0 - y0.mean(), g.waves["pwm"], g.wave_env["pwm"],
+        pwm = _wave(t, y0 - y0.mean(), g.wave_env["pwm"],
                     mean=float(y0.mean()),
                     input=np.where(t < d.duty / d.frequency_hz, d.amplitude_v, 0.0))
     return step, pwm
@@ -415,15 +410,12 @@ def _band(gains, phases, env: _Envelope) -> ResponseBand:
                         drawn=g.shape[1])
 
 
-def _wave(t, nominal, waves, env: _Envelope, mean=None, input=None) -> Waveform:
+def _wave(t, nominal, env: _Envelope, mean=None, input=None) -> Waveform:
     idx = np.linspace(0, len(t) - 1, WAVE_POINTS).astype(int)
-    if not waves:                    # every Monte Carlo sample unstable: the nominal alone
-        waves = [nominal[idx][None]]
-        env.add(waves[0], None)
-    y = np.concatenate(waves).astype(float)
-    lo, hi = spread.column_percentiles(y, BAND_PERCENTILES)
+    if env.lo is None:               # every Monte Carlo sample unstable: the nominal alone
+        env.add(nominal[idx][None], None)
     return Waveform(t_s=t[idx], nominal=nominal[idx], min=env.lo, max=env.hi,
-                    lo=lo, hi=hi, mean=mean, input=input)
+                    mean=mean, input=input)
 
 
 def _char_from_poles(stage, network, values, passband

@@ -166,19 +166,17 @@ class MetricResult(_ReadOnlyAgain):
 
 @dataclass(frozen=True)
 class Waveform(_ReadOnlyAgain):
-    """A time response for the figures: nominal, 5–95 % band and min–max over samples."""
+    """A time response for the figures: nominal, and min–max over the stable samples."""
 
     t_s: np.ndarray
     nominal: np.ndarray
-    lo: np.ndarray
-    hi: np.ndarray
     min: np.ndarray
     max: np.ndarray
     mean: float | None = None            # PWM: the nominal output's mean (shown about it)
     input: np.ndarray | None = None      # PWM: the drive over one period
 
     def __post_init__(self):
-        for name in ("t_s", "nominal", "lo", "hi", "min", "max", "input"):
+        for name in ("t_s", "nominal", "min", "max", "input"):
             object.__setattr__(self, name, _frozen(getattr(self, name)))
 
 

@@ -160,15 +160,6 @@ def transposed(a: np.ndarray, dtype=None, fn=None) -> np.ndarray:
     return out
 
 
-def column_percentiles(a: np.ndarray, q: tuple[float, ...]) -> np.ndarray:
-    """np.percentile(a, q, axis=0) (linear method), with the same values, faster:
-    row_percentiles of the transpose."""
-    a = np.asarray(a)
-    if a.ndim != 2 or a.shape[0] < _SELECT_MIN:
-        return np.percentile(a, q, axis=0)
-    return row_percentiles(transposed(a), q)
-
-
 # From this many samples a row's order statistics are found from the samples that held
 # those ranks in the row before (_order_pairs); below it, by a partition of each row.
 _WINDOW_MIN = 2000
