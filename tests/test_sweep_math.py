@@ -67,9 +67,8 @@ def test_row_percentiles_are_numpys(n, dtype):
     a[:, 6] *= 1e-30                                 # values decades apart from the rest
     for q in [(5.0, 95.0), (0.0, 100.0), (50.0,), (12.5, 87.5)]:
         ref = np.percentile(a, q, axis=0)            # numpy.percentile, linear method
-        got = row_percentiles(transposed(a), q)          # each column, as a row
+        got = row_percentiles(transposed(a), q)      # each column, as a row
         assert got.dtype == ref.dtype and np.array_equal(got, ref)
-        assert np.array_equal(row_percentiles(np.ascontiguousarray(a.T), q), ref)
         assert np.array_equal(row_percentiles(np.array(a.T, order="C"), q, overwrite=True), ref)
     a[n // 2, 9] = np.nan                            # a sample without a value: numpy's NaN
     ref = np.percentile(a, (5.0, 95.0), axis=0)

@@ -43,7 +43,7 @@ def chunk_rows(points: int) -> int:
 def band_samples(points: int) -> int:
     """Monte Carlo samples the percentile band of a sweep of ``points`` frequencies
     is drawn from: BAND_SAMPLES, fewer where the sweep is long (1 003 at 1 000
-    points a decade over six decades; 5 % and 95 % are then ranks 50 and 953)."""
+    points a decade over six decades)."""
     return max(1, min(BAND_SAMPLES, BAND_VALUES // max(1, points)))
 
 
