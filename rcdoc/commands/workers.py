@@ -243,17 +243,27 @@ class WorkerPool:
                                              initializer=_worker_init)
         return self._pool
 
-    def warm(self) -> None:
-        """Start the fork server now, so that its imports (rcdoc, and for a build
-        the note's modules: about 2 s of CPU) run beside this process's own
+    def warm(self, before_fork=None) -> None:
+        """Start the fork server now, so that its imports (for a build the note's
+        drawing modules: about 0.4 s of CPU) run beside this process's own
         instead of after them. The server costs that CPU even if no worker is
-        ever asked for: ``cool`` stops it where none will be."""
+        ever asked for: ``cool`` stops it where none will be. In the ``rcdoc``
+        command it is a fork of this process (rcdoc.commands.forked_server), made
+        after ``before_fork`` (no arguments) has run: what it imports is the
+        server's too."""
         if self.jobs < 2:
             return
         ctx = _pool_context(self.draw)
         if ctx.get_start_method() == "forkserver":
             from multiprocessing import forkserver
-            forkserver.ensure_running()
+            from rcdoc.commands import forked_server
+            # Forked from this process where it may be (the rcdoc command, one
+            # thread, no file of its own open): no interpreter to start, and
+            # what this process has imported is the server's too.
+            if forked_server.start_tracker() and before_fork is not None:
+                before_fork()
+            if not forked_server.start_server():
+                forkserver.ensure_running()
             self.warmed = True
 
     def cool(self) -> None:
