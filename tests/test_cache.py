@@ -297,6 +297,39 @@ def test_rebuild_reuses_page_numbers_and_gives_the_same_bytes(project_file, tmp_
 
 
 @pytest.mark.slow
+def test_cover_is_rendered_again_only_when_a_verdict_moves(tmp_path, monkeypatch):
+    # The cover shows the board, the overall verdict and each stage's name and
+    # verdict: a value change that moves no verdict reuses the last build's
+    # cover, one that fails a check renders it again, and each rebuilt note is
+    # byte for byte the note a cold build makes (common practice).
+    checked = PROJECT.replace('dielectric = "C0G" }\n\n', 'dielectric = "C0G" }\n'
+                              '[[stage.check]]\nmetric = "corner"\nmin = "2 kHz"\n'
+                              'max = "4 kHz"\n\n', 1)
+    assert checked.count("[[stage.check]]") == 1
+    board, out = tmp_path / "board.toml", tmp_path / "out"
+
+    def rebuilt(text):
+        board.write_text(text, encoding="utf-8")
+        rendered.clear()
+        p = load_project(str(board))
+        outcome = build.analyse_project(p, draw=True, out_dir=out)
+        pdf, _ = build.write_outputs(outcome, out)
+        done = list(rendered)
+        cold = build.write_outputs(build.analyse_project(p, draw=True), tmp_path / "cold")[0]
+        assert Path(pdf).read_bytes() == Path(cold).read_bytes()
+        return outcome.status, done
+
+    rendered = _rendering(monkeypatch)
+    # RC low-pass corner 1/(2 pi (Rs + R) C) (textbook formula): 2.79 kHz with
+    # 1 kohm + 4.7 kohm and 10 nF, 3.06 kHz with 4.2 kohm, 332 Hz with 47 kohm.
+    assert rebuilt(checked) == ("pass", ["stage", "stage", "cover", "front", "appendix", "numbers"])
+    status, done = rebuilt(checked.replace('value = "4k7"', 'value = "4k2"'))
+    assert status == "pass" and "cover" not in done and "front" in done
+    status, done = rebuilt(checked.replace('value = "4k7"', 'value = "47k"'))
+    assert status == "fail" and "cover" in done and "front" in done
+
+
+@pytest.mark.slow
 def test_one_stage_drawn_by_a_worker_beside_the_front(project_file, tmp_path, monkeypatch):
     # A rebuild with the command's pool: the changed stage is analysed here, drawn
     # by a worker while this process renders the front matter from the results,
@@ -313,7 +346,9 @@ def test_one_stage_drawn_by_a_worker_beside_the_front(project_file, tmp_path, mo
         pool.warm()       # as the command does: without a fork server started early
         again = build.analyse_project(p, draw=True, jobs=2, out_dir=out, pool=pool)
     assert calls == ["hp"] and again.computed == ["hp"] and again.cached == ["lp"]
-    assert rendered == ["front", "stage"]   # the drawing came from the worker
+    # The drawing came from the worker; the cover (no verdict moved) from the last build.
+    assert rendered == ["front", "stage"]
+    assert again.note_parts["cover"]["key"] == first.note_parts["cover"]["key"]
     assert again.note_parts["front"]["key"] and again.overview is not None
     assert again.contexts[1]["id"] == "hp" and again.parts[1]["pages"] >= 1
     pdf, _ = build.write_outputs(again, out)

@@ -51,7 +51,7 @@ class Outcome:
     pending: Callable[[], None] | None = None
     # Seconds each stage analysed in this run took (its unit of work; none for cached stages).
     seconds: dict[str, float] = field(default_factory=dict)
-    # The note's front, appendix and page-number parts of the last build, or made
+    # The note's cover, front, appendix and page-number parts of the last build, or made
     # beside the stages in this one (filed again by pending).
     note_parts: dict = field(default_factory=dict)
     # The summary chart, when drawn already (one item: rcdoc.note.page.note_context).

@@ -123,20 +123,22 @@ def _submit(box: dict, shared: WorkerPool, units) -> None:
 
 def _early_front(project: Project, results, part_job, note_parts: dict,
                  charts: list | None = None) -> tuple:
-    """Render the front part from the results (the stages' heads stand for their
+    """Render the cover and front parts from the results (the stages' heads stand for their
     contexts: rcdoc.note.assemble.front_context), under the key render_note
     computes, and the summary charts' part where they take pages of their own;
     filed in ``note_parts`` for it. ``charts``: the summary charts, drawn already
     (or stand-ins where they are apart: the front part does not show them); else
     they are drawn here. A part that cannot be rendered here is left to
     write_outputs, which reports why. Returns note_context's ``overview``."""
-    from rcdoc.note.assemble import charts_context, front_context
+    from rcdoc.note.assemble import charts_context, cover_context, front_context
     from rcdoc.note.page import note_context, stage_head
     if charts is None:
         charts = summary_charts(results, note_parts)
     context = note_context(project, results, overview=(charts,),
                            stage_contexts=[stage_head(r) for r in results])
-    _render_note_part(front_context(context, part_job[1]), "front", part_job, note_parts)
+    front = front_context(context, part_job[1])
+    _render_note_part(cover_context(front, part_job[1]), "cover", part_job, note_parts)
+    _render_note_part(front, "front", part_job, note_parts)
     if any(c["image"] for c in charts):
         apart = charts_context(context)
         if apart is not None:

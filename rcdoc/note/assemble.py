@@ -324,8 +324,9 @@ def render_note(context: Mapping, *, template_dirs: Sequence[Path] = (),
         if have is None or want is None or have.get("key") != want:
             have = stage_part(context, stage, key=want, **kw)
         used.append(have)
-    front = _reused(note_parts, "front", front_context(context, template_dirs), kw)
-    parts = [front]
+    front_ctx = front_context(context, template_dirs)
+    cover = _reused(note_parts, "cover", cover_context(front_ctx, template_dirs), kw)
+    parts = [cover, _reused(note_parts, "front", front_ctx, kw)]
     charts = charts_context(context)
     if charts is not None:
         parts.append(_reused(note_parts, "overview", charts, kw))
@@ -339,7 +340,7 @@ def render_note(context: Mapping, *, template_dirs: Sequence[Path] = (),
     numbers = _reused(note_parts, "numbers", {**_head(context), "stages": []}, kw,
                       page_count=total)
     from rcdoc.note import join
-    info, lang = join.document_info(front["pdf"])
+    info, lang = join.document_info(cover["pdf"])
     board = context.get("board") or {}
     pdf_id = report.pdf_identifier(str(board.get("name", "")), str(board.get("revision", "")))
     return assemble(parts, numbers, info=info, pdf_id=pdf_id, lang=lang), used
@@ -356,7 +357,7 @@ def front_context(context: Mapping, template_dirs: Sequence[Path] = ()) -> dict:
     rendered from the results before the stages are drawn (rcdoc.commands.build)
     and is the same part either way. Template folders with partials of their
     own (they may read any stage field) get the whole context."""
-    if any(p.name != report._TEMPLATE_NAME for d in template_dirs for p in Path(d).glob("*.html")):
+    if _own_partials(template_dirs):
         front = dict(context)
     else:
         front = {**context, "appendix": [],
@@ -366,6 +367,25 @@ def front_context(context: Mapping, template_dirs: Sequence[Path] = ()) -> dict:
         # (charts_context); the cover still names the change record.
         front.update(overview_images=[], overview_image=None, charts_apart=True)
     return front
+
+
+# What the shipped cover (_cover.html) and note.html's head read of the note's context.
+_COVER = ("title", "generator", "board", "status", "stages", "analysis", "changes")
+
+
+def cover_context(front: Mapping, template_dirs: Sequence[Path] = ()) -> dict:
+    """The cover part's context, from the front part's (front_context): what the
+    cover shows (the board, the overall verdict, the stages' heads, the analysis
+    settings), so that a change that moves no verdict leaves its key as it was
+    and a rebuild reuses it. Template folders with partials of their own get the
+    front part's whole context."""
+    if _own_partials(template_dirs):
+        return dict(front)
+    return {k: front.get(k) for k in _COVER}
+
+
+def _own_partials(template_dirs: Sequence[Path]) -> bool:
+    return any(p.name != report._TEMPLATE_NAME for d in template_dirs for p in Path(d).glob("*.html"))
 
 
 def charts_context(context: Mapping) -> dict | None:

@@ -38,7 +38,7 @@ TEMPLATES: dict[str, tuple[str, str]] = {
     '_stage.html': ('t__stage_html', 'c3414c2b5b9f55f81cfc8cfbb8318e00e2e7bad3'),
     '_summary.html': ('t__summary_html', '101b87e2f43417ee8fc6d7a2848e9fd8b94744d2'),
     'note.css': ('t_note_css', 'aa3c6bdb2102def72dad34ba3b572a407c01d847'),
-    'note.html': ('t_note_html', '36b665197ded5e5eb3594392370612ba4272f94d'),
+    'note.html': ('t_note_html', 'f39b63a9f265a89edb2b86c18e69c44a6e6a3b36'),
 }
 # END GENERATED
 

@@ -17,9 +17,9 @@ def root(context, missing=missing, environment=environment):
     l_0_palette_css = resolve('palette_css')
     l_0_part = resolve('part')
     l_0_margin_css = resolve('margin_css')
-    l_0_charts_apart = resolve('charts_apart')
     l_0_range = resolve('range')
     l_0_page_count = resolve('page_count')
+    l_0_charts_apart = resolve('charts_apart')
     l_0_ui = missing
     try:
         t_1 = environment.filters['join']
@@ -85,13 +85,13 @@ def root(context, missing=missing, environment=environment):
         else:
             pass
             yield '@page { @bottom-right { content: none; } }\n'
-        if ((undefined(name='part') if l_0_part is missing else l_0_part) in ('stage', 'appendix', 'overview')):
+        if ((undefined(name='part') if l_0_part is missing else l_0_part) in ('front', 'stage', 'appendix', 'overview')):
             pass
             yield '@page :first { @top-left { content: string(board); } @top-right { content: string(section); } }'
             if (t_3((undefined(name='margin_css') if l_0_margin_css is missing else l_0_margin_css)) and (undefined(name='margin_css') if l_0_margin_css is missing else l_0_margin_css)):
                 pass
                 yield escape((undefined(name='margin_css') if l_0_margin_css is missing else l_0_margin_css))
-            yield '.stage, .appendix, .overview.apart { break-before: auto; }\n'
+            yield '.summary, .stage, .appendix, .overview.apart { break-before: auto; }\n'
     yield '</style>\n</head>\n<body>\n'
     if (not t_3((undefined(name='part') if l_0_part is missing else l_0_part))):
         pass
@@ -129,7 +129,7 @@ def root(context, missing=missing, environment=environment):
             for event in gen:
                 yield event
         finally: gen.close()
-    elif ((undefined(name='part') if l_0_part is missing else l_0_part) == 'front'):
+    elif ((undefined(name='part') if l_0_part is missing else l_0_part) == 'cover'):
         pass
         template = environment.get_template('_cover.html', 'note.html')
         gen = template.root_render_func(template.new_context(context.get_all(), True, {'ui': l_0_ui}))
@@ -137,20 +137,6 @@ def root(context, missing=missing, environment=environment):
             for event in gen:
                 yield event
         finally: gen.close()
-        template = environment.get_template('_summary.html', 'note.html')
-        gen = template.root_render_func(template.new_context(context.get_all(), True, {'ui': l_0_ui}))
-        try:
-            for event in gen:
-                yield event
-        finally: gen.close()
-        if (not (t_3((undefined(name='charts_apart') if l_0_charts_apart is missing else l_0_charts_apart)) and (undefined(name='charts_apart') if l_0_charts_apart is missing else l_0_charts_apart))):
-            pass
-            template = environment.get_template('_changes.html', 'note.html')
-            gen = template.root_render_func(template.new_context(context.get_all(), True, {'ui': l_0_ui}))
-            try:
-                for event in gen:
-                    yield event
-            finally: gen.close()
     elif ((undefined(name='part') if l_0_part is missing else l_0_part) == 'numbers'):
         pass
         for l_1__ in environment.call(context, (undefined(name='range') if l_0_range is missing else l_0_range), (undefined(name='page_count') if l_0_page_count is missing else l_0_page_count)):
@@ -167,7 +153,23 @@ def root(context, missing=missing, environment=environment):
         yield '" data-generator="'
         yield escape((undefined(name='generator') if l_0_generator is missing else l_0_generator))
         yield '" style="string-set: board attr(data-running), generator attr(data-generator)"></div>\n'
-        if ((undefined(name='part') if l_0_part is missing else l_0_part) == 'stage'):
+        if ((undefined(name='part') if l_0_part is missing else l_0_part) == 'front'):
+            pass
+            template = environment.get_template('_summary.html', 'note.html')
+            gen = template.root_render_func(template.new_context(context.get_all(), True, {'ui': l_0_ui}))
+            try:
+                for event in gen:
+                    yield event
+            finally: gen.close()
+            if (not (t_3((undefined(name='charts_apart') if l_0_charts_apart is missing else l_0_charts_apart)) and (undefined(name='charts_apart') if l_0_charts_apart is missing else l_0_charts_apart))):
+                pass
+                template = environment.get_template('_changes.html', 'note.html')
+                gen = template.root_render_func(template.new_context(context.get_all(), True, {'ui': l_0_ui}))
+                try:
+                    for event in gen:
+                        yield event
+                finally: gen.close()
+        elif ((undefined(name='part') if l_0_part is missing else l_0_part) == 'stage'):
             pass
             for l_1_stage in (undefined(name='stages') if l_0_stages is missing else l_0_stages):
                 _loop_vars = {}
@@ -206,5 +208,5 @@ def root(context, missing=missing, environment=environment):
     yield '</body>\n</html>\n'
 
 blocks = {}
-debug_info = '6=43&11=46&12=48&13=50&14=52&15=62&16=65&17=67&22=70&23=72&24=74&26=80&30=82&35=88&39=91&46=96&47=98&48=104&49=110&50=116&51=119&53=126&54=132&55=134&56=140&58=146&59=148&61=154&62=156&65=164&66=170&67=172&68=175&70=182&73=185&75=192&77=200'
+debug_info = '6=43&11=46&12=48&13=50&14=52&15=62&16=65&17=67&22=70&23=72&24=74&26=80&31=82&36=88&40=91&47=96&48=98&49=104&50=110&51=116&52=119&54=126&55=132&57=134&58=140&59=142&62=150&63=156&64=158&66=164&67=166&69=172&70=174&71=177&73=184&76=187&78=194&80=202'
 # jinja2 3.1.6's code of templates/note.html, written by tools/compile_templates.py: do not edit.
