@@ -387,7 +387,8 @@ def test_pool_is_warmed_first_and_stopped_where_no_stage_is_to_analyse(project_f
     p = load_project(str(project_file))
     assert build.stages_to_analyse(p, out) == 2 and build.stages_to_analyse(p, None) == 2
     calls = []
-    monkeypatch.setattr(workers.WorkerPool, "warm", lambda self: calls.append(("warm", self.jobs)))
+    monkeypatch.setattr(workers.WorkerPool, "warm",
+                        lambda self, before_fork=None: calls.append(("warm", self.jobs)))
     monkeypatch.setattr(workers.WorkerPool, "cool", lambda self: calls.append(("cool", self.jobs)))
     monkeypatch.setattr(cli, "_build_checked", lambda *a: calls.append("build") or 0)
     assert main(["build", str(project_file), "-o", str(out), "--jobs", "2", "--quiet"]) == 0
