@@ -183,6 +183,17 @@ def test_junit_has_file_line_time_and_properties(tmp_path):
 
 # --------------------------------------------------------------------------- annotations
 
+@pytest.mark.parametrize("text", ["plain", "a & b < c > d", 'say "hi"', "it's", """both ' and """"",
+                                  "line\nbreak\r\tand tab", "", "&amp; already", "µ Ω ±"])
+def test_junit_escaping_is_that_of_the_standard_library(text):
+    # The JUnit writer escapes as Python's xml.sax.saxutils does (the reference),
+    # without importing it (it loads urllib.request).
+    from xml.sax.saxutils import escape as std_escape, quoteattr as std_quoteattr
+    from rcdoc.note import summary
+    assert summary.escape(text) == std_escape(text)
+    assert summary.quoteattr(text) == std_quoteattr(text)
+
+
 def test_escaping_follows_the_workflow_command_rules():
     # The runner's workflow-command format: data escapes % CR LF; properties also : and ,.
     assert escape_data("50% a\r\nb: c, d") == "50%25 a%0D%0Ab: c, d"

@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import json
 import math
-from xml.sax.saxutils import escape, quoteattr
 
 import numpy as np
 
@@ -18,6 +17,27 @@ from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Project
 from rcdoc.input.quantities import PART_UNITS, format_quantity
 from rcdoc.note.machine import check_extras, describe_verdict  # noqa: F401 - part of this module's interface
+
+# XML escaping as xml.sax.saxutils writes it (tests/test_summary.py compares the
+# two), without that module: it imports urllib.request and with it http.client,
+# email and ssl (about 10 ms in each process that loads this module and not the
+# renderer: the workers' fork server, rcdoc check).
+def escape(text: str) -> str:
+    """Character data: &, < and > as entities."""
+    return text.replace("&", "&amp;").replace(">", "&gt;").replace("<", "&lt;")
+
+
+def quoteattr(text: str) -> str:
+    """An attribute value with its quotes: escaped, line breaks and tabs as
+    character references, in double quotes (single ones where it holds a double
+    quote and no single one)."""
+    text = escape(text).replace("\n", "&#10;").replace("\r", "&#13;").replace("\t", "&#9;")
+    if '"' not in text:
+        return f'"{text}"'
+    if "'" not in text:
+        return f"'{text}'"
+    return '"' + text.replace('"', "&quot;") + '"'
+
 
 def _num(x) -> float | None:
     if x is None:
