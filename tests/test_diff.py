@@ -255,6 +255,11 @@ def test_since_head_names_the_commit_on_the_cover_and_after_the_summary(repo, tm
     assert summary < at < stage                                 # right after the summary
     assert "HEAD" not in pages[at]                              # the commit, not the name
     assert f"git:{short}" in pages[at]
+    # The cover (a part of its own) links to the change record in another part.
+    reader = pypdf.PdfReader(out / "b.pdf")
+    targets = [a.get_object()["/Dest"][0] for a in reader.pages[0].get("/Annots", [])
+               if a.get_object().get("/Subtype") == "/Link"]
+    assert reader.pages[at].indirect_reference in targets
 
 
 @needs_git

@@ -18,10 +18,9 @@ from rcdoc.input.model import Project
 from rcdoc.input.quantities import PART_UNITS, format_quantity
 from rcdoc.note.machine import check_extras, describe_verdict  # noqa: F401 - part of this module's interface
 
-# XML escaping as xml.sax.saxutils writes it (tests/test_summary.py compares the
-# two), without that module: it imports urllib.request and with it http.client,
-# email and ssl (about 10 ms in each process that loads this module and not the
-# renderer: the workers' fork server, rcdoc check).
+# XML escaping as xml.sax.saxutils writes it (tests/test_machine_output.py compares
+# the two), without that module: it imports urllib.request and with it http.client,
+# email and ssl (about 10 ms of `rcdoc check`, which loads no renderer).
 def escape(text: str) -> str:
     """Character data: &, < and > as entities."""
     return text.replace("&", "&amp;").replace(">", "&gt;").replace("<", "&lt;")
