@@ -101,3 +101,38 @@ def test_kept_outlines_are_copies():
     first.drawon(parent, 10, 20)
     assert "transform" not in second._symbols.word.attrib
     assert ET.tostring(second._symbols.word) != ET.tostring(parent[0])
+
+
+def test_mark_anchors_read_on_first_use_place_marks_as_ziafont_does():
+    # Reference: ziafont's own mark-to-base and mark-to-mark subtables, which read
+    # every anchor as the font loads. rcdoc.note.outline_font reads them on first
+    # use: none for text without combining marks; for text with them, the same
+    # outlines (the same mark positions) as ziafont's reading gives.
+    import ziafont
+    import ziafont.gpos as gpos
+    from rcdoc.note import outline_font
+    from rcdoc.note.schematic import _font_file
+    outline_font.speed_up()
+    lazy_base, lazy_mark = gpos.MarkToBaseSubtable, gpos.MarkToMarkSubtable
+    if not getattr(lazy_base, "_rcdoc_lazy", False):
+        pytest.skip("another ziafont than the one the lazy tables are written for")
+    eager_base, eager_mark = lazy_base.__mro__[1], lazy_mark.__mro__[1]
+    try:
+        gpos.MarkToBaseSubtable, gpos.MarkToMarkSubtable = eager_base, eager_mark
+        eager = ziafont.Font(_font_file())
+    finally:
+        gpos.MarkToBaseSubtable, gpos.MarkToMarkSubtable = lazy_base, lazy_mark
+    lazy = ziafont.Font(_font_file())
+    tables = [t for lookup in lazy.gpos.lookups for t in lookup.subtables
+              if getattr(t, "_rcdoc_lazy", False)]
+    read = lambda: {name for t in tables for name in ("markarray", "basearray", "mark1array",
+                                                      "mark2array") if name in t.__dict__}
+    assert {type(t).__name__ for t in tables} == {"MarkToBase", "MarkToMark"}
+    assert ziafont.Text("R14 4.7 kΩ", font=lazy, size=9).svg() == \
+        ziafont.Text("R14 4.7 kΩ", font=eager, size=9).svg()
+    assert read() == set()                          # no mark: no anchor read
+    for text in ("e\u0301", "A\u0308\u0301x", "n\u0303\u0323", "q\u0307\u0323\u0301 b\u0300"):
+        for size in (9, 11.5):
+            assert ziafont.Text(text, font=lazy, size=size).svg() == \
+                ziafont.Text(text, font=eager, size=size).svg(), text
+    assert read() == {"markarray", "basearray", "mark1array", "mark2array"}

@@ -17,6 +17,17 @@ thirds of a schematic's drawing time. ``speed_up`` keeps each outlined string
 per process, keyed by what the outline depends on (string, font, size, line
 spacing, alignment), and hands out a copy of its group of glyph paths: the
 same bytes, once per string (``tests/test_schematic_outlines.py``).
+
+ziafont also reads every anchor of the font's mark attachment tables (GPOS
+mark-to-base and mark-to-mark: some 7800 anchor records for DejaVu Sans, the
+mark-to-mark ones read again for each mark, about half of the font's loading)
+although an anchor is looked at only where a combining mark follows a glyph
+its table covers, which a schematic's labels never have. With ziafont 0.11
+``speed_up`` reads those tables' coverage as ziafont does and their anchors
+on first use, with the same reads (the same records; the file position put
+back), so a worker's first schematic costs about 0.04 s less
+(``tests/test_schematic_outlines.py`` compares the positions of marked text
+with ziafont's own reading).
 """
 
 from __future__ import annotations
@@ -56,6 +67,96 @@ def speed_up() -> None:
         if getattr(module, "namedtuple", None) is collections.namedtuple:
             module.namedtuple = _namedtuple
     _cache_outlines(importlib.import_module("ziafont.font"))
+    from rcdoc.versions import folder_version
+    if folder_version("ziafont") == _LAZY_MARKS_FOR:
+        _lazy_mark_tables(importlib.import_module("ziafont.gpos"))
+
+
+# The ziafont whose mark attachment subtables _lazy_mark_tables reads as they do.
+_LAZY_MARKS_FOR = "0.11"
+
+
+def _kept_position(fontfile, read):
+    """``read()`` with the font file's position put back after it."""
+    at = fontfile.tell()
+    try:
+        return read()
+    finally:
+        fontfile.seek(at)
+
+
+def _lazy_mark_tables(gpos) -> None:
+    """Replace ziafont.gpos's mark-to-base and mark-to-mark subtables by ones that
+    read their coverage at once and their anchors when first asked for."""
+    if getattr(gpos.MarkToBaseSubtable, "_rcdoc_lazy", False):
+        return
+
+    class MarkToBase(gpos.MarkToBaseSubtable):
+        _rcdoc_lazy = True
+
+        def __init__(self, ofst, fontfile):       # the reads of ziafont's own, less the arrays
+            self.ofst = ofst
+            self.fontfile = fontfile
+            self.fmt = fontfile.readuint16(ofst)
+            assert self.fmt == 1
+            markcovofst = fontfile.readuint16()
+            basecovofst = fontfile.readuint16()
+            self._arrays = (fontfile.readuint16(), fontfile.readuint16(), fontfile.readuint16())
+            self.markcoverage = gpos.Coverage(ofst + markcovofst, fontfile)
+            self.basecoverage = gpos.Coverage(ofst + basecovofst, fontfile)
+
+        @functools.cached_property
+        def markarray(self):
+            _, markarrayofst, _ = self._arrays
+            return _kept_position(self.fontfile, lambda: gpos.read_markarray_table(
+                self.ofst + markarrayofst, self.fontfile))
+
+        @functools.cached_property
+        def basearray(self):
+            markclasscnt, _, basearrayofst = self._arrays
+            return _kept_position(self.fontfile, lambda: gpos.read_basearray(
+                self.ofst + basearrayofst, self.fontfile, markclasscnt))
+
+    class MarkToMark(gpos.MarkToMarkSubtable):
+        _rcdoc_lazy = True
+
+        def __init__(self, ofst, fontfile):
+            self.ofst = ofst
+            self.fontfile = fontfile
+            self.fmt = fontfile.readuint16(ofst)
+            assert self.fmt == 1
+            mark1covofst = fontfile.readuint16()
+            mark2covofst = fontfile.readuint16()
+            self._arrays = (fontfile.readuint16(), fontfile.readuint16(), fontfile.readuint16())
+            self.mark1coverage = gpos.Coverage(ofst + mark1covofst, fontfile)
+            self.mark2coverage = gpos.Coverage(ofst + mark2covofst, fontfile)
+
+        @functools.cached_property
+        def mark1array(self):
+            _, mark1arrayofst, _ = self._arrays
+            return _kept_position(self.fontfile, lambda: gpos.read_markarray_table(
+                self.ofst + mark1arrayofst, self.fontfile))
+
+        @functools.cached_property
+        def mark2array(self):
+            return _kept_position(self.fontfile, self._read_mark2array)
+
+        def _read_mark2array(self):
+            # ziafont's loop (its reading of mark1array inside it aside).
+            markclasscnt, _, mark2arrayofst = self._arrays
+            fontfile = self.fontfile
+            mark2count = fontfile.readuint16(self.ofst + mark2arrayofst)
+            mark2array = []
+            for _ in range(mark2count):
+                anchorofsts = [fontfile.readuint16() for _ in range(markclasscnt)]
+                ptr = fontfile.tell()
+                mark2array.append([gpos.read_anchortable(self.ofst + mark2arrayofst + a, fontfile)
+                                   for a in anchorofsts])
+                fontfile.seek(ptr)
+            return mark2array
+
+    gpos.MarkToBaseSubtable = MarkToBase
+    gpos.MarkToMarkSubtable = MarkToMark
 
 
 # Outlined strings kept per process; a build draws a few hundred distinct labels.
