@@ -85,31 +85,38 @@ def _kept_position(fontfile, read):
         fontfile.seek(at)
 
 
+def _coverages(gpos, table, ofst: int, fontfile) -> tuple:
+    """The reads of ziafont's own mark-to-base and mark-to-mark subtables (their
+    heads have the same layout: format, two coverage offsets, the mark class
+    count, two array offsets), less the arrays: the two coverage tables; the
+    arrays' place kept in ``table._arrays`` (class count, first, second)."""
+    table.ofst = ofst
+    table.fontfile = fontfile
+    table.fmt = fontfile.readuint16(ofst)
+    assert table.fmt == 1
+    first, second = fontfile.readuint16(), fontfile.readuint16()
+    table._arrays = (fontfile.readuint16(), fontfile.readuint16(), fontfile.readuint16())
+    return gpos.Coverage(ofst + first, fontfile), gpos.Coverage(ofst + second, fontfile)
+
+
 def _lazy_mark_tables(gpos) -> None:
     """Replace ziafont.gpos's mark-to-base and mark-to-mark subtables by ones that
     read their coverage at once and their anchors when first asked for."""
     if getattr(gpos.MarkToBaseSubtable, "_rcdoc_lazy", False):
         return
 
+    def mark_array(table):
+        # The marks' anchors, at the first array offset of either subtable.
+        return _kept_position(table.fontfile, lambda: gpos.read_markarray_table(
+            table.ofst + table._arrays[1], table.fontfile))
+
     class MarkToBase(gpos.MarkToBaseSubtable):
         _rcdoc_lazy = True
 
-        def __init__(self, ofst, fontfile):       # the reads of ziafont's own, less the arrays
-            self.ofst = ofst
-            self.fontfile = fontfile
-            self.fmt = fontfile.readuint16(ofst)
-            assert self.fmt == 1
-            markcovofst = fontfile.readuint16()
-            basecovofst = fontfile.readuint16()
-            self._arrays = (fontfile.readuint16(), fontfile.readuint16(), fontfile.readuint16())
-            self.markcoverage = gpos.Coverage(ofst + markcovofst, fontfile)
-            self.basecoverage = gpos.Coverage(ofst + basecovofst, fontfile)
+        def __init__(self, ofst, fontfile):
+            self.markcoverage, self.basecoverage = _coverages(gpos, self, ofst, fontfile)
 
-        @functools.cached_property
-        def markarray(self):
-            _, markarrayofst, _ = self._arrays
-            return _kept_position(self.fontfile, lambda: gpos.read_markarray_table(
-                self.ofst + markarrayofst, self.fontfile))
+        markarray = functools.cached_property(mark_array)
 
         @functools.cached_property
         def basearray(self):
@@ -121,21 +128,9 @@ def _lazy_mark_tables(gpos) -> None:
         _rcdoc_lazy = True
 
         def __init__(self, ofst, fontfile):
-            self.ofst = ofst
-            self.fontfile = fontfile
-            self.fmt = fontfile.readuint16(ofst)
-            assert self.fmt == 1
-            mark1covofst = fontfile.readuint16()
-            mark2covofst = fontfile.readuint16()
-            self._arrays = (fontfile.readuint16(), fontfile.readuint16(), fontfile.readuint16())
-            self.mark1coverage = gpos.Coverage(ofst + mark1covofst, fontfile)
-            self.mark2coverage = gpos.Coverage(ofst + mark2covofst, fontfile)
+            self.mark1coverage, self.mark2coverage = _coverages(gpos, self, ofst, fontfile)
 
-        @functools.cached_property
-        def mark1array(self):
-            _, mark1arrayofst, _ = self._arrays
-            return _kept_position(self.fontfile, lambda: gpos.read_markarray_table(
-                self.ofst + mark1arrayofst, self.fontfile))
+        mark1array = functools.cached_property(mark_array)
 
         @functools.cached_property
         def mark2array(self):
