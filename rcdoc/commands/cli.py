@@ -113,10 +113,8 @@ def _jobs(args) -> int:
     return args.jobs or os.cpu_count() or 1
 
 
-def cmd_build(args, pool=None) -> int:
-    """``pool``: the command's pool, started by main (else started here)."""
-    if pool is None:
-        pool = _started_pool(args)
+def cmd_build(args, pool) -> int:
+    """``pool``: the command's pool, started by main before anything else (_started_pool)."""
     with pool:
         return _build_loaded(args, pool)
 
@@ -328,7 +326,8 @@ def _check_template_syntax(folder: Path) -> None:
             raise ProjectError(f"line {exc.lineno}: {exc.message}", file=str(path)) from None
 
 
-COMMANDS = {"build": cmd_build, "check": cmd_check, "diff": cmd_diff, "init": cmd_init}
+# The commands but build, which main starts with its pool (cmd_build).
+COMMANDS = {"check": cmd_check, "diff": cmd_diff, "init": cmd_init}
 
 
 def main(argv: list[str] | None = None) -> int:
