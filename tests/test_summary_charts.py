@@ -200,8 +200,8 @@ def _board(n: int, r0: int = 1000, changed: int | None = None) -> str:
 @pytest.mark.slow
 def test_rebuild_of_a_board_with_several_summary_charts(tmp_path, monkeypatch):
     # A one-value rebuild with the command's pool: the stage analysed here, drawn by
-    # one worker, the summary charts by the other; the front matter, the charts'
-    # part and the stage's part rendered here. The note is byte for byte the one a
+    # a worker, which then draws the summary charts; the front matter, the stage's
+    # part and the charts' part rendered here. The note is byte for byte the one a
     # cold serial build makes (common practice: a cache must not show), and the
     # pages are in the note's order.
     n = OVERVIEW_ROWS + 2
@@ -222,7 +222,7 @@ def test_rebuild_of_a_board_with_several_summary_charts(tmp_path, monkeypatch):
         again = build.analyse_project(p, draw=True, jobs=2, out_dir=out, pool=pool)
     assert again.computed == [f"f{n - 1}"]
     # The front part first (it does not wait for the charts), then the stage's part
-    # (the charts' worker yields its core to the stage's drawing), then the charts'.
+    # (while the stage's worker draws the charts), then the charts'.
     assert rendered == ["front", "stage", "overview"]
     assert again.note_parts["overview"]["key"] != first.note_parts["overview"]["key"]
     pdf, _ = build.write_outputs(again, out)
@@ -235,18 +235,3 @@ def test_rebuild_of_a_board_with_several_summary_charts(tmp_path, monkeypatch):
     first_stage = next(i for i, t in enumerate(texts) if "Filter 0" in t and "Schematic" in t)
     # Cover, the summary table, then the two charts, each on a page of its own, then stages.
     assert heads == [heads[0], heads[0] + 1] and heads[0] >= 2 and first_stage == heads[1] + 1
-
-
-def test_a_worker_whose_charts_nothing_waits_for_yields_its_core():
-    # The charts' unit of a rebuild whose charts take pages of their own lowers its
-    # process's priority (niceness 10, never less than it was); other units do not.
-    code = ("import os, sys\n"
-            "from rcdoc.commands import workers\n"
-            "before = os.getpriority(os.PRIO_PROCESS, 0)\n"
-            "workers._charts_unit([], behind=sys.argv[1] == '1')\n"
-            "print(before, os.getpriority(os.PRIO_PROCESS, 0))\n")
-    for behind in ("0", "1"):
-        out = subprocess.run([sys.executable, "-c", code, behind], capture_output=True,
-                             text=True, check=True).stdout.split()
-        before, after = int(out[0]), int(out[1])
-        assert after == (max(before, 10) if behind == "1" else before)

@@ -37,13 +37,18 @@ def one_beside_front(shared: WorkerPool, project: Project, i: int, part_job, set
                       note_parts: dict, progress, meanwhile=None) -> tuple:
     """One stage to redo (a rebuild after a value change): analysed here, as
     always; its drawing goes to a worker of the command's pool (started while
-    this process loaded) and the summary charts to another, while this process
-    renders the front matter, which needs only the results; then the charts'
-    part (where they take pages of their own) and the stage's part, here too,
-    where the renderer is loaded and warm. This process never loads matplotlib;
-    the workers never load the renderer. ``meanwhile`` (no arguments) runs here
-    while the workers draw: what the outputs need of the results alone. Returns
-    the summary charts (rcdoc.note.page.note_context's ``overview``)."""
+    this process loaded), while this process renders the front matter, which
+    needs only the results; then the stage's part and the charts' part (where
+    they take pages of their own), here too, where the renderer is loaded and
+    warm. Where the charts take pages of their own, the worker that drew the
+    stage draws them next, while this process renders the stage's part (a
+    second worker drew them beside the stage: its start and first figure
+    cost more CPU than the wait, on two cores); else another worker draws them
+    at once, for the front matter shows them. This process never loads
+    matplotlib; the workers never load the renderer. ``meanwhile`` (no
+    arguments) runs here while the workers draw: what the outputs need of the
+    results alone. Returns the summary charts (rcdoc.note.page.note_context's
+    ``overview``)."""
     from rcdoc.note.overview import overview_rows, overview_titles, own_pages
     stage = project.stages[i]
     if progress:
@@ -59,9 +64,11 @@ def one_beside_front(shared: WorkerPool, project: Project, i: int, part_job, set
     # Starting the workers waits for the fork server's imports (they may still run
     # on a busy machine): a thread waits for it, this process goes on.
     apart = own_pages(titles)
+    units = [(_draw_unit, answer[1], project)]
+    if not apart:
+        units.append((_charts_unit, rows, drawn, keys))
     box: dict = {}
-    handing = threading.Thread(target=_submit, args=(box, shared, [
-        (_draw_unit, answer[1], project), (_charts_unit, rows, drawn, keys, apart)]), daemon=True)
+    handing = threading.Thread(target=_submit, args=(box, shared, units), daemon=True)
     handing.start()
     try:
         if apart:       # the front part has no charts: render it now
@@ -73,9 +80,11 @@ def one_beside_front(shared: WorkerPool, project: Project, i: int, part_job, set
         handing.join()
         if "error" in box:
             raise box["error"]
-        drawing, charting = box["futures"]
-        if apart:       # the stage's part first: the charts' worker yields its core meanwhile
+        drawing = box["futures"][0]
+        if apart:       # the stage's part here, the charts in the worker that drew the stage
             context, _ = drawing.result()
+            charting = shared.executor().submit(_charts_unit, rows, drawn, keys)
+            box["futures"].append(charting)
             stage_part = _part_unit(context, part_job)
             charts = charting.result()
             _file_charts(note_parts, keys, charts)
@@ -84,7 +93,7 @@ def one_beside_front(shared: WorkerPool, project: Project, i: int, part_job, set
             _render_note_part(charts_context({**part_job[0], "overview_images": charts}),
                               "overview", part_job, note_parts)
         else:           # the front part shows them
-            charts = charting.result()
+            charts = box["futures"][1].result()
             _file_charts(note_parts, keys, charts)
             _early_front(project, results, part_job, note_parts, charts)
             context, _ = drawing.result()

@@ -84,35 +84,11 @@ def _part_unit(context, part_job):
         return None
 
 
-def _charts_unit(rows, drawn=None, keys=(), behind: bool = False):
+def _charts_unit(rows, drawn=None, keys=()):
     """The summary charts drawn from their rows (rcdoc.note.overview.overview_rows;
-    those in ``drawn`` by their ``keys`` are taken from it: page.overview_charts).
-
-    ``behind``: nothing waits for them soon (a rebuild's charts on pages of their
-    own, rendered last), so this worker lowers its scheduling priority for good:
-    the three processes then at work share two cores (on the machines the
-    figures in the README were measured on) in favour of the two that the rebuild
-    waits for, the command's front matter and the stage's drawing."""
-    if behind:
-        _yield_cores()
+    those in ``drawn`` by their ``keys`` are taken from it: page.overview_charts)."""
     from rcdoc.note.page import overview_charts
     return overview_charts(rows, drawn, keys)
-
-
-def _yield_cores() -> None:
-    # os.nice raises the niceness of this process alone; it cannot be undone
-    # without privileges, so only a worker of one rebuild's pool asks for it.
-    try:
-        now = os.getpriority(os.PRIO_PROCESS, 0)
-        if now < _BEHIND:
-            os.nice(_BEHIND - now)
-    except (AttributeError, OSError):     # no such call on this system: as it was
-        pass
-
-
-# The niceness of a worker whose work nothing waits for: Linux then gives it about a
-# tenth of the weight of a process at niceness 0 (the scheduler's weight table).
-_BEHIND = 10
 
 
 def _appendix_unit(context, part_job):
