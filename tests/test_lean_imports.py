@@ -272,11 +272,15 @@ from ziamath.mathfont import MathFont
 print("pyplot", "matplotlib.pyplot" in sys.modules, "mpl backend",
       "schemdraw.backends.mpl" in sys.modules)
 print("default font read", type(zm.loadedfonts["default"]) is MathFont,
-      "escapes", "ziamath.escapes" in sys.modules)
+      "escapes", "ziamath.escapes" in sys.modules, "tex", "latex2mathml" in sys.modules)
 print(svg)
 print(ziamath.Math.fromlatex(r"f_c = \frac{1}{2 \pi R C}").svg())
 print(ziamath.Text("gain $A_v$ at 1 kHz", size=12).svg())
 print(ziamath.Math.fromlatex(r"x \le 3 \cdot 10^{-3} \pm \Omega").svg())
+# The operator names ziamath declares as it starts, declared as its LaTeX reader loads.
+print(ziamath.Math.fromlatex(r"\tg x + \th y").svg())
+import latex2mathml.commands
+print(latex2mathml.commands.FUNCTIONS)
 import ziamath.escapes
 print(ziamath.escapes.unescape("<mn>-1</mn><mo>&times;</mo><mi>&alpha;</mi>"))
 print("default font read", type(zm.loadedfonts["default"]) is MathFont)
@@ -285,13 +289,13 @@ print("default font read", type(zm.loadedfonts["default"]) is MathFont)
 
 def test_schemdraw_and_ziamath_with_parts_left_out_draw_the_same():
     lean, plain = _both(SCHEMATIC)
-    # schemdraw's matplotlib backend (and pyplot) left out; ziamath's math font and
-    # escapes read only when math is drawn: the schematic, formulas (escapes and
+    # schemdraw's matplotlib backend (and pyplot) left out; ziamath's math font,
+    # escapes and LaTeX reader loaded only when math is drawn: the schematic, formulas (escapes and
     # signs among them) and text with math alike.
     assert lean.splitlines()[:2] == ["pyplot False mpl backend False",
-                                     "default font read False escapes False"]
+                                     "default font read False escapes False tex False"]
     assert plain.splitlines()[:2] == ["pyplot True mpl backend True",
-                                      "default font read True escapes True"]
+                                      "default font read True escapes True tex True"]
     assert lean.splitlines()[2:] == plain.splitlines()[2:]
     assert lean.count("<path") > 10 and lean.endswith("default font read True\n")
 

@@ -52,6 +52,12 @@ bench/imports.py, some of it is for things the note never asks for:
   imported: 0.1 s. Schematic labels are plain text, outlined with a text font
   through ziafont. Here the font is read on its first use (a math expression),
   and ``unescape`` is a function that imports the escapes on its first call.
+  It also imports its LaTeX reader (``ziamath.tex``, with latex2mathml, which
+  reads its own distribution's metadata and, through xml.sax.saxutils, loads
+  urllib.request, http.client and ssl: 0.02 s of the fork server's preload,
+  on a one-value rebuild's path to the stage's drawing). Here ``tex2mml`` is
+  a function that imports it on its first call, and the operator names
+  ziamath declares as it starts are declared as the reader loads.
 
 What it must not do: change a value or a byte of the note. Each step applies
 only to the library version it was written for (read from the installed
@@ -107,6 +113,8 @@ def install() -> None:
     if _version_is(*_SCHEMDRAW):
         _around("schemdraw", _without_mpl_backend)
     if _version_is(*_ZIAMATH):
+        _around("ziamath", _deferred_tex)
+        _around("ziamath.tex", _declared_operators)
         _around("ziamath.zmath", _deferred_math_font)
 
 
@@ -431,6 +439,44 @@ def _unescape(xmlstr):
     """ziamath.escapes.unescape, imported on its first call."""
     from ziamath.escapes import unescape
     return unescape(xmlstr)
+
+
+# Operator names ziamath declares (declareoperator) before its LaTeX reader is loaded:
+# declared, in order, as it loads (_declared_operators).
+_OPERATORS: list[str] = []
+
+
+def _tex2mml(tex, inline=False):
+    """ziamath.tex.tex2mml, imported on its first call."""
+    from ziamath.tex import tex2mml
+    return tex2mml(tex, inline=inline)
+
+
+def _declareoperator(name):
+    """ziamath.tex.declareoperator: kept for the LaTeX reader until it is loaded."""
+    real = sys.modules.get("ziamath.tex")
+    if real is None or getattr(real, "declareoperator", _declareoperator) is _declareoperator:
+        _OPERATORS.append(name)
+    else:
+        real.declareoperator(name)
+
+
+@contextlib.contextmanager
+def _deferred_tex(module):
+    """The ziamath package (and ziamath.zmath as it runs) imports ``tex2mml`` and
+    ``declareoperator`` by name from ziamath.tex, and declares ten operator names
+    as it starts: a stand-in module holding functions that import the real one on
+    the first formula, and keep the declarations for it."""
+    with _stand_in("ziamath.tex", tex2mml=_tex2mml, declareoperator=_declareoperator):
+        yield
+
+
+@contextlib.contextmanager
+def _declared_operators(module):
+    """ziamath.tex loaded for real: the operator names declared before, in order."""
+    yield
+    while _OPERATORS:
+        module.declareoperator(_OPERATORS.pop(0))
 
 
 @contextlib.contextmanager
