@@ -147,7 +147,7 @@ def _early_front(project: Project, results, part_job, note_parts: dict,
                            stage_contexts=[stage_head(r) for r in results])
     front = front_context(context, part_job[1])
     _render_note_part(cover_context(front, part_job[1]), "cover", part_job, note_parts)
-    _render_note_part(front, "front", part_job, note_parts)
+    _render_front(front, part_job, note_parts)
     if any(c["image"] for c in charts):
         apart = charts_context(context)
         if apart is not None:
@@ -204,6 +204,19 @@ def _render_note_part(context, part: str, part_job, note_parts: dict) -> None:
         _quiet_renderer()
         note_parts[part] = render_part(context, part, template_dirs=dirs,
                                        project_dir=project_dir, source_date_epoch=epoch, key=key)
+    except Exception:  # noqa: BLE001 - rendered again, and reported, in write_outputs
+        pass
+
+
+def _render_front(front, part_job, note_parts: dict) -> None:
+    """The front part (or its pages: rcdoc.note.front_pages) into ``note_parts``
+    unless the ones there serve; a failure is left to write_outputs."""
+    from rcdoc.note.front_pages import front_parts
+    _head, dirs, project_dir, epoch, _key = part_job
+    try:
+        _quiet_renderer()
+        front_parts(front, note_parts, dict(template_dirs=dirs, project_dir=project_dir,
+                                            source_date_epoch=epoch, fetcher=None))
     except Exception:  # noqa: BLE001 - rendered again, and reported, in write_outputs
         pass
 

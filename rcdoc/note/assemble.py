@@ -170,7 +170,8 @@ def _bookmarks(tree) -> list:
 def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = (),
                 fetcher=None, project_dir: Path | None = None,
                 source_date_epoch: int | None = None, key: str | None = None,
-                page_count: int = 0, image_cache: dict | None = None) -> dict:
+                page_count: int = 0, image_cache: dict | None = None,
+                written=None):
     """One part of the note as a plain dict: ``pdf`` (bytes), ``pages``,
     ``bookmarks`` (weasyprint's tree in PDF points), ``anchors`` (name ->
     (page, x, y)), ``links`` (internal links: (page, target, rect)), ``key`` and
@@ -178,6 +179,10 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
 
     Internal links are taken out of the part's PDF (their targets are in other
     parts) and recorded in ``links``; assemble() puts them back.
+
+    ``written`` (the laid-out weasyprint document -> a list of such dicts, made
+    with ``laid_out``): what is returned instead, each dict with its
+    ``missing_glyphs`` (rcdoc.note.front_pages writes a part per page).
     """
     if fetcher is None:
         fetcher = _fetcher(template_dirs, project_dir)
@@ -200,17 +205,23 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
     # @font-face fonts: not in /tmp; the shipped templates have none (one configuration).
     with font_scratch.closed(project_dir, shared=shipped) as fonts, \
             glyphs.collecting() as missing:
-        part = _laid_out(html_class(string=html, base_url=str(base) + os.sep,
-                                    url_fetcher=fetcher).render(
+        document = html_class(string=html, base_url=str(base) + os.sep,
+                              url_fetcher=fetcher).render(
             cache=report.figure_images(figures, cache), font_config=fonts,
-            stylesheets=[sheet] if sheet is not None else None), key, source_date_epoch)
+            stylesheets=[sheet] if sheet is not None else None)
+        if written is not None:
+            parts = written(document)
+        else:
+            parts = [laid_out(document, key, source_date_epoch)]
     # Kept with the part (a worker's, a cached one): the command says which they were.
-    part["missing_glyphs"] = "".join(sorted(missing))
-    return part
+    for one in parts:
+        one["missing_glyphs"] = "".join(sorted(missing))
+    return parts if written is not None else parts[0]
 
 
-def _laid_out(document, key, source_date_epoch) -> dict:
-    """render_part's dict from weasyprint's laid-out document."""
+def laid_out(document, key, source_date_epoch) -> dict:
+    """render_part's dict from weasyprint's laid-out document (or a copy of some
+    of its pages, ``document.copy``)."""
     scale = 0.75  # CSS px -> PDF pt, as weasyprint writes them (zoom 1)
     links, anchors = [], {}
     for i, page in enumerate(document.pages):
@@ -305,14 +316,16 @@ def render_note(context: Mapping, *, template_dirs: Sequence[Path] = (),
                 project_dir: Path | None = None, source_date_epoch: int | None = None,
                 stage_parts: Sequence[dict | None] | None = None,
                 stage_keys: Sequence[str | None] | None = None,
-                note_parts: dict | None = None) -> tuple[bytes, list]:
+                note_parts: dict | None = None, front=None) -> tuple[bytes, list]:
     """The whole note as PDF bytes, from parts. ``stage_parts`` (one per stage,
     or None where a part is missing) are used where their key equals the one in
     ``stage_keys``; the others are rendered here. ``note_parts`` (name -> part)
     holds the appendix and page-number parts of the last build: each is used
     when its key (its context, templates, date, renderer) is unchanged, and the
-    parts used are put back in it (to be cached). Returns the bytes and the
-    stage parts used (to be cached)."""
+    parts used are put back in it (to be cached). ``front`` (front context,
+    ``note_parts``, the render's keywords -> parts): the front part's pages
+    (rcdoc.note.front_pages.front_parts), else the front is one part. Returns
+    the bytes and the stage parts used (to be cached)."""
     stages = list(context.get("stages") or [])
     fetcher = _fetcher(template_dirs, project_dir)   # one fetcher for this render
     kw = dict(template_dirs=template_dirs, project_dir=project_dir,
@@ -326,7 +339,8 @@ def render_note(context: Mapping, *, template_dirs: Sequence[Path] = (),
         used.append(have)
     front_ctx = front_context(context, template_dirs)
     cover = _reused(note_parts, "cover", cover_context(front_ctx, template_dirs), kw)
-    parts = [cover, _reused(note_parts, "front", front_ctx, kw)]
+    parts = [cover, *(front(front_ctx, note_parts, kw) if front is not None
+                      else [_reused(note_parts, "front", front_ctx, kw)])]
     charts = charts_context(context)
     if charts is not None:
         parts.append(_reused(note_parts, "overview", charts, kw))

@@ -10,7 +10,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from pathlib import Path
 
-from rcdoc.note import assemble, report
+from rcdoc.note import assemble, front_pages, report
 
 
 def render_pdf(context: dict, out_path: Path, *, template_dirs: Sequence[Path] = (),
@@ -22,7 +22,8 @@ def render_pdf(context: dict, out_path: Path, *, template_dirs: Sequence[Path] =
     ``stage_parts`` are stage parts made earlier (by the build's workers or its
     cache), used where their key equals ``stage_keys``; ``note_parts`` the
     appendix and page-number parts of the last build, reused where unchanged
-    and updated with the ones used (rcdoc.note.assemble.render_note). Returns the stage parts
+    and updated with the ones used (rcdoc.note.assemble.render_note; a long summary
+    one part per page, rcdoc.note.front_pages). Returns the stage parts
     used (None when rendered as one document). ``source_date_epoch`` (seconds,
     UTC) dates the PDF; without it ``SOURCE_DATE_EPOCH`` is used, and without
     that the PDF carries no dates.
@@ -33,7 +34,7 @@ def render_pdf(context: dict, out_path: Path, *, template_dirs: Sequence[Path] =
         pdf_bytes, used = assemble.render_note(
             context, template_dirs=template_dirs, project_dir=project_dir,
             source_date_epoch=epoch, stage_parts=stage_parts, stage_keys=stage_keys,
-            note_parts=note_parts)
+            note_parts=note_parts, front=front_pages.front_parts)
         report.write_note(out_path, pdf_bytes)
         return used
     report.render_document(context, out_path, template_dirs=template_dirs,

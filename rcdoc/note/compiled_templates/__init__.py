@@ -31,13 +31,13 @@ JINJA2 = '3.1.6'
 SETTINGS = "('ImmutableSandboxedEnvironment', '{%', '%}', '{{', '}}', '{#', '#}', None, None, True, True, '\\n', True, True, True, True, False, [], ['abs', 'attr', 'batch', 'capitalize', 'center', 'count', 'd', 'default', 'dictsort', 'e', 'escape', 'figure', 'filesizeformat', 'first', 'float', 'forceescape', 'format', 'groupby', 'indent', 'int', 'items', 'join', 'keep_units', 'last', 'layout_rows', 'length', 'list', 'lower', 'map', 'max', 'min', 'pprint', 'random', 'reject', 'rejectattr', 'replace', 'reverse', 'round', 'safe', 'select', 'selectattr', 'slice', 'sort', 'string', 'striptags', 'sum', 'title', 'tojson', 'trim', 'truncate', 'unique', 'upper', 'urlencode', 'urlize', 'wordcount', 'wordwrap', 'xmlattr'], ['!=', '<', '<=', '==', '>', '>=', 'boolean', 'callable', 'defined', 'divisibleby', 'eq', 'equalto', 'escaped', 'even', 'false', 'filter', 'float', 'ge', 'greaterthan', 'gt', 'in', 'integer', 'iterable', 'le', 'lessthan', 'lower', 'lt', 'mapping', 'ne', 'none', 'number', 'numeric', 'odd', 'sameas', 'sequence', 'string', 'test', 'true', 'undefined', 'upper', 'verdict'])"
 TEMPLATES: dict[str, tuple[str, str]] = {
     '_appendix.html': ('t__appendix_html', 'a09a0f68a730be7459e2c1394601dd3eb9761aee'),
-    '_blocks.html': ('t__blocks_html', '2624b00439e46965698ccf596e8d8d04b0cc424b'),
+    '_blocks.html': ('t__blocks_html', '2b0c948dd90c9ffc2bf9f6d735c91eb67f2ebe1c'),
     '_changes.html': ('t__changes_html', '18ce67c6b96b5576184c3dd87e52ecf6d232b9bc'),
     '_cover.html': ('t__cover_html', 'b069c775d4ef4d0f9493597b18cb1269155a8dff'),
     '_overview.html': ('t__overview_html', '83a17aa31ded8e14913e0b1a7cc2c9be0a6f1453'),
     '_stage.html': ('t__stage_html', 'c3414c2b5b9f55f81cfc8cfbb8318e00e2e7bad3'),
-    '_summary.html': ('t__summary_html', '101b87e2f43417ee8fc6d7a2848e9fd8b94744d2'),
-    'note.css': ('t_note_css', 'aa3c6bdb2102def72dad34ba3b572a407c01d847'),
+    '_summary.html': ('t__summary_html', 'aa860ad7cb342551585e6c9b461a129abff76864'),
+    'note.css': ('t_note_css', '823fb26f96e81abff51eb7f418fd56db6e866e6f'),
     'note.html': ('t_note_html', 'f39b63a9f265a89edb2b86c18e69c44a6e6a3b36'),
 }
 # END GENERATED

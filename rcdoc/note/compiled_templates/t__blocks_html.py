@@ -140,11 +140,15 @@ def root(context, missing=missing, environment=environment):
     context.exported_vars.add('cell')
     context.vars['cell'] = l_0_cell = Macro(environment, macro, 'cell', ('value', 'kind', 'lines'), False, False, False, context.eval_ctx.autoescape)
     yield '\n'
-    def macro(l_1_columns, l_1_rows, l_1_link_ids, l_1_label_width):
+    def macro(l_1_columns, l_1_rows, l_1_link_ids, l_1_label_width, l_1_page):
         t_13 = []
+        l_1_kinds = resolve('kinds')
+        l_1_shares = resolve('shares')
         l_1_column_kinds = resolve('column_kinds')
+        l_1_plain = resolve('plain')
+        l_1_linked = resolve('linked')
         l_1_column_widths = resolve('column_widths')
-        l_1_plain = l_1_kinds = l_1_linked = l_1_shares = l_1_row_kinds = l_1_row_lines = missing
+        l_1_first = l_1_row_kinds = l_1_row_lines = missing
         if l_1_columns is missing:
             l_1_columns = undefined("parameter 'columns' was not provided", name='columns')
         if l_1_rows is missing:
@@ -153,18 +157,27 @@ def root(context, missing=missing, environment=environment):
             l_1_link_ids = None
         if l_1_label_width is missing:
             l_1_label_width = 0
+        if l_1_page is missing:
+            l_1_page = None
         pass
-        l_1_plain = environment.call(context, (undefined(name='column_kinds') if l_1_column_kinds is missing else l_1_column_kinds), l_1_columns, l_1_rows)
-        l_1_kinds = (undefined(name='plain') if l_1_plain is missing else l_1_plain)
-        if ((l_1_label_width and l_1_rows) and (t_6(environment, t_5(context, t_5(context, t_5(context, l_1_rows, 'first'), 'string'), 'length')) <= l_1_label_width)):
+        l_1_first = (environment.getattr(l_1_page, 'first') if l_1_page else 0)
+        if l_1_page:
             pass
-            l_1_kinds = ([t_8(markup_join((environment.getitem((undefined(name='kinds') if l_1_kinds is missing else l_1_kinds), 0), ' nw', )))] + (undefined(name='kinds') if l_1_kinds is missing else l_1_kinds)[1:])
-        l_1_linked = ((not t_10(l_1_link_ids)) and (t_4(l_1_link_ids) > 0))
-        l_1_shares = environment.call(context, (undefined(name='column_widths') if l_1_column_widths is missing else l_1_column_widths), l_1_columns, l_1_rows, (undefined(name='kinds') if l_1_kinds is missing else l_1_kinds), (undefined(name='linked') if l_1_linked is missing else l_1_linked))
-        if ((not (undefined(name='shares') if l_1_shares is missing else l_1_shares)) and ((undefined(name='kinds') if l_1_kinds is missing else l_1_kinds) != (undefined(name='plain') if l_1_plain is missing else l_1_plain))):
+            l_1_kinds = environment.getattr(l_1_page, 'kinds')
+            l_1_shares = environment.getattr(l_1_page, 'widths')
+        else:
             pass
+            l_1_plain = environment.call(context, (undefined(name='column_kinds') if l_1_column_kinds is missing else l_1_column_kinds), l_1_columns, l_1_rows)
             l_1_kinds = (undefined(name='plain') if l_1_plain is missing else l_1_plain)
+            if ((l_1_label_width and l_1_rows) and (t_6(environment, t_5(context, t_5(context, t_5(context, l_1_rows, 'first'), 'string'), 'length')) <= l_1_label_width)):
+                pass
+                l_1_kinds = ([t_8(markup_join((environment.getitem((undefined(name='kinds') if l_1_kinds is missing else l_1_kinds), 0), ' nw', )))] + (undefined(name='kinds') if l_1_kinds is missing else l_1_kinds)[1:])
+            l_1_linked = ((not t_10(l_1_link_ids)) and (t_4(l_1_link_ids) > 0))
             l_1_shares = environment.call(context, (undefined(name='column_widths') if l_1_column_widths is missing else l_1_column_widths), l_1_columns, l_1_rows, (undefined(name='kinds') if l_1_kinds is missing else l_1_kinds), (undefined(name='linked') if l_1_linked is missing else l_1_linked))
+            if ((not (undefined(name='shares') if l_1_shares is missing else l_1_shares)) and ((undefined(name='kinds') if l_1_kinds is missing else l_1_kinds) != (undefined(name='plain') if l_1_plain is missing else l_1_plain))):
+                pass
+                l_1_kinds = (undefined(name='plain') if l_1_plain is missing else l_1_plain)
+                l_1_shares = environment.call(context, (undefined(name='column_widths') if l_1_column_widths is missing else l_1_column_widths), l_1_columns, l_1_rows, (undefined(name='kinds') if l_1_kinds is missing else l_1_kinds), (undefined(name='linked') if l_1_linked is missing else l_1_linked))
         l_1_row_kinds = (environment.getattr((undefined(name='shares') if l_1_shares is missing else l_1_shares), 'row_kinds') if (undefined(name='shares') if l_1_shares is missing else l_1_shares) else None)
         l_1_row_lines = (environment.getattr((undefined(name='shares') if l_1_shares is missing else l_1_shares), 'row_lines') if (undefined(name='shares') if l_1_shares is missing else l_1_shares) else None)
         t_13.append(
@@ -219,8 +232,13 @@ def root(context, missing=missing, environment=environment):
             ))
         l_2_loop = l_2_column = missing
         t_13.append(
-            '</tr>\n  </thead>\n  <tbody>\n',
+            '</tr>\n  </thead>\n  <tbody>',
         )
+        if ((undefined(name='first') if l_1_first is missing else l_1_first) % 2):
+            pass
+            t_13.append(
+                '<tr style="display: none"></tr>',
+            )
         l_2_loop = missing
         for l_2_row, l_2_loop in LoopContext(l_1_rows, undefined):
             l_2_row_id = l_2_cell_kinds = l_2_cell_lines = missing
@@ -228,9 +246,9 @@ def root(context, missing=missing, environment=environment):
             pass
             l_2_row_id = (environment.getitem(l_1_link_ids, environment.getattr(l_2_loop, 'index0')) if (l_1_link_ids and (environment.getattr(l_2_loop, 'index0') < t_4(l_1_link_ids))) else None)
             _loop_vars['row_id'] = l_2_row_id
-            l_2_cell_kinds = (environment.getitem((undefined(name='row_kinds') if l_1_row_kinds is missing else l_1_row_kinds), environment.getattr(l_2_loop, 'index0')) if (undefined(name='row_kinds') if l_1_row_kinds is missing else l_1_row_kinds) else (undefined(name='kinds') if l_1_kinds is missing else l_1_kinds))
+            l_2_cell_kinds = (environment.getitem((undefined(name='row_kinds') if l_1_row_kinds is missing else l_1_row_kinds), ((undefined(name='first') if l_1_first is missing else l_1_first) + environment.getattr(l_2_loop, 'index0'))) if (undefined(name='row_kinds') if l_1_row_kinds is missing else l_1_row_kinds) else (undefined(name='kinds') if l_1_kinds is missing else l_1_kinds))
             _loop_vars['cell_kinds'] = l_2_cell_kinds
-            l_2_cell_lines = (environment.getitem((undefined(name='row_lines') if l_1_row_lines is missing else l_1_row_lines), environment.getattr(l_2_loop, 'index0')) if (undefined(name='row_lines') if l_1_row_lines is missing else l_1_row_lines) else None)
+            l_2_cell_lines = (environment.getitem((undefined(name='row_lines') if l_1_row_lines is missing else l_1_row_lines), ((undefined(name='first') if l_1_first is missing else l_1_first) + environment.getattr(l_2_loop, 'index0'))) if (undefined(name='row_lines') if l_1_row_lines is missing else l_1_row_lines) else None)
             _loop_vars['cell_lines'] = l_2_cell_lines
             t_13.append(
                 '    <tr>',
@@ -263,7 +281,7 @@ def root(context, missing=missing, environment=environment):
         )
         return concat(t_13)
     context.exported_vars.add('data_table')
-    context.vars['data_table'] = l_0_data_table = Macro(environment, macro, 'data_table', ('columns', 'rows', 'link_ids', 'label_width'), False, False, False, context.eval_ctx.autoescape)
+    context.vars['data_table'] = l_0_data_table = Macro(environment, macro, 'data_table', ('columns', 'rows', 'link_ids', 'label_width', 'page'), False, False, False, context.eval_ctx.autoescape)
     yield '\n'
     def macro(l_1_block, l_1_width):
         t_14 = []
@@ -419,5 +437,5 @@ def root(context, missing=missing, environment=environment):
     context.vars['blocks'] = l_0_blocks = Macro(environment, macro, 'blocks', ('items',), False, False, False, context.eval_ctx.autoescape)
 
 blocks = {}
-debug_info = '3=78&4=87&5=91&6=96&8=100&11=121&12=127&16=143&19=157&20=158&21=159&22=161&26=162&27=163&29=164&30=166&31=167&35=168&36=169&37=173&38=181&40=202&43=225&44=229&45=231&46=233&48=239&49=242&50=246&52=254&61=268&62=277&63=280&64=289&65=292&69=306&70=314&71=322&72=331&73=334&77=348&79=356&80=363&81=368&86=379&87=384&88=387&90=391&91=392&93=395&94=399&95=402&96=406&97=409&98=413'
+debug_info = '3=78&4=87&5=91&6=96&8=100&11=121&12=127&16=143&21=163&22=164&23=166&24=167&26=170&27=171&28=172&29=174&33=175&34=176&36=177&37=179&38=180&43=181&44=182&45=186&46=194&48=215&52=237&53=243&54=247&55=249&56=251&58=257&59=260&60=264&62=272&71=286&72=295&73=298&74=307&75=310&79=324&80=332&81=340&82=349&83=352&87=366&89=374&90=381&91=386&96=397&97=402&98=405&100=409&101=410&103=413&104=417&105=420&106=424&107=427&108=431'
 # jinja2 3.1.6's code of templates/_blocks.html, written by tools/compile_templates.py: do not edit.
