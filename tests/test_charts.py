@@ -9,6 +9,8 @@ them, so the tests check the SVG, not the curves.
 from __future__ import annotations
 
 import re
+import subprocess
+import sys
 import xml.etree.ElementTree as ET
 
 import matplotlib
@@ -493,3 +495,26 @@ def test_invisible_time_band_has_no_legend_entry():
     wide = charts_time.time_response("wide", t, y, band=(y - 0.05, y + 0.05))
     assert thin.count(palette.BAND_OUTER) == 1, "the thin band's fill only, no legend patch"
     assert wide.count(palette.BAND_OUTER) > 1, "the visible band has its legend patch"
+
+
+def test_the_default_style_is_matplotlibs_own_without_its_style_module():
+    # charts._default_style sets what matplotlib.style.use("default") sets (its list of
+    # parameters a style leaves alone included), and drawing a chart does not load
+    # matplotlib.style (it reads every shipped style sheet as it loads).
+    code = ("import sys, matplotlib\n"
+            "from rcdoc.note import charts\n"
+            "with charts._styled('probe'):\n"
+            "    pass\n"
+            "print('matplotlib.style' in sys.modules)\n"
+            "import matplotlib.style\n"
+            "assert charts.STYLE_BLACKLIST == frozenset(matplotlib.style._STYLE_BLACKLIST)\n"
+            "with matplotlib.rc_context():\n"
+            "    charts._default_style()\n"
+            "    mine = {k: matplotlib.rcParams._get(k) for k in matplotlib.rcParams}\n"
+            "with matplotlib.style.context('default'):\n"
+            "    theirs = {k: matplotlib.rcParams._get(k) for k in matplotlib.rcParams}\n"
+            "assert mine.keys() == theirs.keys() and len(mine) > 300\n"
+            "print(sorted(k for k in mine if repr(mine[k]) != repr(theirs[k])))\n")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         check=True).stdout.split("\n")
+    assert out[:2] == ["False", "[]"]

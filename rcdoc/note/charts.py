@@ -31,7 +31,6 @@ from collections.abc import Iterator
 
 import matplotlib
 import matplotlib.axis
-import matplotlib.style
 import numpy as np
 from cycler import cycler
 from matplotlib import ticker
@@ -138,29 +137,41 @@ _STYLE: dict = {}     # the rcParams _styled sets (all but the salt), as validat
 PAUSE_GC = True
 
 
-def _style_blacklist() -> set:
-    """The rcParams a style leaves alone (matplotlib's list; its own copy if that moves)."""
-    names = getattr(matplotlib.style, "_STYLE_BLACKLIST", None)
-    if names is None:
-        names = {"interactive", "backend", "webagg.port", "webagg.address", "webagg.port_retries",
-                 "webagg.open_in_browser", "backend_fallback", "toolbar", "timezone",
-                 "figure.max_open_warning", "figure.raise_window", "savefig.directory",
-                 "tk.window_focus", "docstring.hardcopy", "date.epoch"}
-    return set(names)
+#: The rcParams a style leaves alone: matplotlib 3.11's list (matplotlib.style
+#: _STYLE_BLACKLIST; tests/test_charts.py compares the two).
+STYLE_BLACKLIST = frozenset({
+    "interactive", "backend", "webagg.port", "webagg.address", "webagg.port_retries",
+    "webagg.open_in_browser", "backend_fallback", "toolbar", "timezone",
+    "figure.max_open_warning", "figure.raise_window", "savefig.directory",
+    "tk.window_focus", "docstring.hardcopy", "date.epoch"})
+
+
+def _default_style() -> None:
+    """What matplotlib.style.use("default") sets: matplotlib's shipped defaults but
+    the parameters a style leaves alone. Here without importing matplotlib.style,
+    which reads every style sheet matplotlib ships as it loads (7 ms of each
+    drawing process's start, on a one-value rebuild's path to its drawing)."""
+    from matplotlib import _api
+    with _api.suppress_matplotlib_deprecation_warning():
+        style = {k: matplotlib.rcParamsDefault[k] for k in matplotlib.rcParamsDefault
+                 if k not in STYLE_BLACKLIST}
+    matplotlib.rcParams.update(style)
 
 
 @contextlib.contextmanager
 def _styled(fig_id: str) -> Iterator[None]:
     """matplotlib's shipped defaults (ignoring matplotlibrc) with the note's style on top.
 
-    The values are those of matplotlib.style.context("default") and
-    rc_context(_base_style(...)), taken once and then set without validating
+    The values are those of matplotlib.style.context("default") (_default_style)
+    and rc_context(_base_style(...)), taken once and then set without validating
     them again for every chart (that cost as much as drawing a few lines)."""
     if not _STYLE:
-        with matplotlib.style.context("default"), matplotlib.rc_context(_base_style("")):
-            keys = set(matplotlib.rcParamsDefault) - _style_blacklist()
-            keys |= set(_base_style(""))
-            _STYLE.update({k: matplotlib.rcParams._get(k) for k in sorted(keys)})
+        with matplotlib.rc_context():
+            _default_style()
+            with matplotlib.rc_context(_base_style("")):
+                keys = set(matplotlib.rcParamsDefault) - STYLE_BLACKLIST
+                keys |= set(_base_style(""))
+                _STYLE.update({k: matplotlib.rcParams._get(k) for k in sorted(keys)})
     rc = matplotlib.rcParams
     saved = {k: rc._get(k) for k in _STYLE}
     # No cyclic garbage collection while a chart is drawn: matplotlib's artists and
