@@ -19,7 +19,9 @@ bench/imports.py, some of it is for things the note never asks for:
   does not use: 0.15 s; its text module imports fontTools' WOFF2 reader (with
   the glyph tables: 0.02 s) for ``@font-face`` fonts in that format. Here the
   subsetter and the WOFF2 reader are loaded by ``importlib.util.LazyLoader``
-  (their code runs on their first attribute read), and
+  (their code runs on their first attribute read; set up as weasyprint loads,
+  since setting them up imports fontTools.ttLib, which a process that only
+  draws never needs), and
   ``instantiateVariableFont`` is a function that imports the instancer on its
   first call and hands it the same arguments.
 - matplotlib 3.11 imports its 3D toolkit (``mpl_toolkits.mplot3d``) with its
@@ -102,8 +104,9 @@ def install() -> None:
     _DONE.append(True)
     if _version_is(*_WEASYPRINT):
         _around("weasyprint.html", _deferred_sheets)
-        _lazy("fontTools.subset")
-        _lazy("fontTools.ttLib.woff2")
+        # As weasyprint loads: setting them up imports fontTools.ttLib (8 ms), which
+        # a process that only draws (the pool's fork server of a build) never needs.
+        _around("weasyprint", _font_tools_on_first_use)
         _around("weasyprint.pdf.fonts", _deferred_instancer)
         if _version_is(*_CFFI):
             _around("weasyprint.text.ffi", _prebuilt_ffi)
@@ -179,6 +182,15 @@ def _lazy(name: str) -> None:
     spec.loader.exec_module(module)
     parent, _, child = name.rpartition(".")
     setattr(sys.modules[parent], child, module)
+
+
+@contextlib.contextmanager
+def _font_tools_on_first_use(module):
+    """While weasyprint loads: fontTools' subsetter and WOFF2 reader loaded by
+    LazyLoader (their code runs on their first attribute read)."""
+    _lazy("fontTools.subset")
+    _lazy("fontTools.ttLib.woff2")
+    yield
 
 
 def _deferred(cls):
