@@ -123,6 +123,28 @@ def test_font_subsetter_loaded_on_first_use_subsets_the_same():
     assert "Subsetter" in lean
 
 
+GLYPH_LIST = r'''
+import rcdoc.note.renderer_libs
+import matplotlib.dviread
+print(type(sys.modules["fontTools.agl"]).__name__)
+# Read as matplotlib's DVI reader reads it.
+agl = matplotlib.dviread.fontTools.agl
+print(agl.toUnicode("Omega"), agl.toUnicode("uni2126"), agl.toUnicode("mu"), len(agl.AGL2UV))
+print(sorted(n for n in dir(agl) if not n.startswith("__")))
+import fontTools.agl
+print(fontTools.agl is agl, sys.modules["fontTools.agl"] is agl)
+'''
+
+
+def test_glyph_list_loaded_on_first_use_reads_the_same():
+    lean, plain = _both(GLYPH_LIST)
+    # matplotlib's DVI reader imports it; its table is read on the first look-up.
+    assert lean.splitlines()[0] == "_LazyModule" and plain.splitlines()[0] == "module"
+    assert lean.splitlines()[1:] == plain.splitlines()[1:]
+    assert lean.splitlines()[1].split()[:2] == ["\u2126", "\u2126"]   # both the ohm sign
+    assert lean.splitlines()[-1] == "True True"
+
+
 WOFF2 = r'''
 import hashlib, io, os
 os.environ["SOURCE_DATE_EPOCH"] = "1700000000"    # fontTools stamps head.modified

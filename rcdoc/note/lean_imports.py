@@ -28,6 +28,12 @@ bench/imports.py, some of it is for things the note never asks for:
   projections: the note draws no 3D axes. Here that import fails quietly while
   ``matplotlib.projections`` is imported (matplotlib expects it may: the 3D
   projection is then not registered; its warning is not shown).
+- matplotlib 3.11's DVI reader (for TeX's output, which the note never gives
+  matplotlib) imports fontTools' Adobe glyph list, a table of 4500 glyph names
+  read as it loads (7 ms of each drawing process's start). Here the list is
+  loaded by LazyLoader once the reader has loaded (the reader's ``import`` meets
+  a stand-in: an import statement reads a module's ``__spec__``, which would
+  load a lazy one at once).
 - matplotlib 3.11 writes the docstring of each artist class's ``set`` as the
   class is made: the accepted values of every setter, read from the setter's
   docstring (``ArtistInspector.get_valid_values``), again for every class that
@@ -112,6 +118,7 @@ def install() -> None:
             _around("weasyprint.text.ffi", _prebuilt_ffi)
     if _version_is(*_MATPLOTLIB):
         _around("matplotlib.projections", _without_3d)
+        _around("matplotlib.dviread", _glyph_list_on_first_use)
         _around("matplotlib.artist", _artist_docs_kept)
     if _version_is(*_SCHEMDRAW):
         _around("schemdraw", _without_mpl_backend)
@@ -438,6 +445,16 @@ def _read_once(name: str, real):
 
     read.__name__, read.__doc__ = real.__name__, real.__doc__
     return read
+
+
+@contextlib.contextmanager
+def _glyph_list_on_first_use(module):
+    """matplotlib.dviread imports fontTools.agl and reads it only in a function:
+    a stand-in while it loads, then the list itself by LazyLoader (the package's
+    attribute, which the reader's functions read, and sys.modules)."""
+    with _stand_in("fontTools.agl"):
+        yield
+    _lazy("fontTools.agl")
 
 
 @contextlib.contextmanager
