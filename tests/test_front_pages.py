@@ -152,3 +152,16 @@ def test_what_stays_one_part(tmp_path):
     bare = _front(70)
     bare["summary"]["rows"][5]["id"] = None
     assert len(front_parts(bare, {}, KW)) == 1
+
+
+def test_pages_whose_rows_cannot_be_told_stay_one_part(monkeypatch):
+    # Where the links do not tell a page's rows, the table is one part, and the
+    # next build lays it out whole again at once (one render, not a page first).
+    import rcdoc.note.front_pages as front_pages
+    monkeypatch.setattr(front_pages, "_rows_by_page", lambda part, table: {})
+    note_parts: dict = {}
+    parts = front_parts(_front(70), note_parts, KW)
+    assert len(parts) == 1 and parts[0]["pages"] >= 3 and "rows" not in parts[0]
+    rendered = _rendering(monkeypatch)
+    again = front_parts(_front(70, changed=40), note_parts, KW)
+    assert rendered == [("front", 0, 70)] and len(again) == 1

@@ -122,7 +122,9 @@ def _rows_by_page(part: dict, table: _Table) -> dict[int, list[int]]:
 
 
 def _whole(front: Mapping, table: _Table, kw: Mapping) -> list[dict]:
-    """Every page of the table laid out whole, each its own part."""
+    """Every page of the table laid out whole, each its own part; or one part of
+    them all, without rows (so that the next build lays it out whole again at
+    once), where a page's rows cannot be told by their links."""
     def written(document) -> list[dict]:
         epoch = kw["source_date_epoch"]
         parts = [assemble.laid_out(document.copy([page]), None, epoch)
@@ -145,14 +147,8 @@ def _whole(front: Mapping, table: _Table, kw: Mapping) -> list[dict]:
             part["key"] = _page_key(front, table, first, last, kw)
         return parts
 
-    parts = assemble.render_part(_page_context(front, table, 0, len(table.rows)), "front",
-                                 written=written, **kw)
-    if len(parts) == 1 and "rows" not in parts[0]:      # not placed row by row: one part
-        parts[0]["key"] = assemble.context_key(front, "front", template_dirs=kw["template_dirs"],
-                                               source_date_epoch=kw["source_date_epoch"],
-                                               project_dir=kw["project_dir"])
-        parts[0]["rows"] = (0, len(table.rows) - 1)
-    return parts
+    return assemble.render_part(_page_context(front, table, 0, len(table.rows)), "front",
+                                written=written, **kw)
 
 
 def _kept_pages(front: Mapping, table: _Table, last_build, kw: Mapping) -> list[dict] | None:
