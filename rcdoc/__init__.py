@@ -7,3 +7,9 @@ pass/fail checks against the stated requirements.
 """
 
 __version__ = "0.1.0"
+
+# Before any data class or named tuple of rcdoc's is made: their methods' code
+# compiled ahead (rcdoc.code_cache).
+from rcdoc import code_cache as _code_cache  # noqa: E402
+
+_code_cache.install()

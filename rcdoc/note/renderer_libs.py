@@ -48,3 +48,9 @@ lean_imports.install()
 
 with _no_library_search():
     import weasyprint  # noqa: E402,F401 - the import this module exists for
+
+# cssselect2 (imported by weasyprint) compiles each CSS selector's test with eval:
+# those of the note's sheets are compiled ahead (rcdoc.code_cache).
+from rcdoc import code_cache  # noqa: E402
+
+code_cache.install_selectors()
