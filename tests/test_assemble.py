@@ -109,6 +109,27 @@ def test_metadata_and_identifier_survive_assembly(note):
     assert reader.trailer["/ID"][0] == report.pdf_identifier("Loft controller", "B").decode()
 
 
+def test_second_identifier_is_the_files_own_hash(note):
+    # ISO 32000-1 §14.4: the second identifier changes with the file's content.
+    # rcdoc.note.join writes the first 16 bytes of the SHA-256 of the file as written
+    # with qpdf's placeholder in its place (same length: no offset moves).
+    import hashlib
+    import re
+
+    from rcdoc.note import join
+    pdf = note[0]
+    found = re.findall(rb"/ID ?\[<([0-9a-f]+)> ?<([0-9a-f]{32})>\]", pdf)
+    assert len(found) == 1
+    second = found[0][1]
+    assert pypdf.PdfReader(io.BytesIO(pdf)).trailer["/ID"][1].original_bytes.hex().encode() == second
+    placeholder = pdf.replace(b"<" + second + b">", join._PLACEHOLDER)
+    assert hashlib.sha256(placeholder).hexdigest()[:32].encode() == second
+    # Another content, another identifier; no placeholder, or two: qpdf's own hash.
+    assert join._with_content_id(placeholder + b"%") != pdf
+    assert join._with_content_id(b"%PDF no placeholder") is None
+    assert join._with_content_id(join._PLACEHOLDER * 2) is None
+
+
 def test_template_fingerprint_and_overridden_note_html(tmp_path):
     tpl = tmp_path / "tpl"
     tpl.mkdir()
