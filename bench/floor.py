@@ -21,7 +21,9 @@ c  big    one rc-lowpass stage with a step drive at 200 000 samples (`check`
 d  build  a cold 40-stage build (the analysed kinds in turn, 2000 samples)
           with --jobs 2, wall and CPU, and a rebuild after one part value
           changed from that build's output folder; k rounds of the two,
-          interleaved, the best of each kept.
+          interleaved, the best of each kept. First, how much two busy
+          processes slow each other on this machine (a fixed loop's CPU time,
+          two at once against one alone): the builds' branches run side by side.
 e  render the note's render (write_outputs of the example board, analysed and
           drawn beforehand, serial, the garbage collector set as the command sets
           it) against a floor: the distinct PNG images taken out of the note's own
@@ -412,6 +414,8 @@ def section_build(tmp: Path, stages: int, samples: int, k: int = 1) -> Path:
         run = measure(["build", str(path), "-o", str(out), "--jobs", "2", "--quiet"], tmp)
         warm = run if warm is None or run["wall"] < warm["wall"] else warm
     name = f"{stages} stages, {samples} samples, --jobs 2"
+    row("d", "two busy processes: each one's CPU for a fixed loop, against it alone",
+        f"{contention(k):.2f}x")
     row("d", f"cold build, {name}, best of {k}   [target < 30 s wall]",
         f"{cold['wall']:.1f} s wall, {cold['cpu']:.1f} s CPU, {cold['tree_mib']:.0f} MiB peak (all)")
     row("d", f"rebuild after one value change (stage {stages // 2}), best of {k}",
@@ -421,6 +425,28 @@ def section_build(tmp: Path, stages: int, samples: int, k: int = 1) -> Path:
     pdf = out / "board40.pdf"
     row("d", f"{stages}-stage note PDF size   [target < 6 MB]", f"{pdf.stat().st_size / 1e6:.2f} MB")
     return pdf
+
+
+# A fixed pure-Python loop; prints its own CPU seconds.
+SPIN = ("import time\nt = time.process_time()\nx = 0\n"
+        "for i in range(6_000_000):\n    x += i * i\nprint(time.process_time() - t)")
+
+
+def contention(k: int) -> float:
+    """The CPU seconds of SPIN run by two processes at once (their mean) against
+    SPIN run alone, the best of k each, interleaved. 1.0: each of two busy
+    processes runs at full speed; above it, the machine's cores slow each other
+    (shared by the host, or threads of one core): a build's two busy branches
+    then overlap for less than twice the work of one."""
+    def run(n: int) -> list[float]:
+        procs = [subprocess.Popen([sys.executable, "-c", SPIN], stdout=subprocess.PIPE, text=True)
+                 for _ in range(n)]
+        return [float(p.communicate()[0]) for p in procs]
+    alone = both = math.inf
+    for _ in range(k):
+        alone = min(alone, run(1)[0])
+        both = min(both, sum(run(2)) / 2)
+    return both / alone
 
 
 # ---- e: the note's render against a floor ----------------------------------------
