@@ -419,7 +419,7 @@ def section_build(tmp: Path, stages: int, samples: int, k: int = 1) -> Path:
     row("d", f"cold build, {name}, best of {k}   [target < 30 s wall]",
         f"{cold['wall']:.1f} s wall, {cold['cpu']:.1f} s CPU, {cold['tree_mib']:.0f} MiB peak (all)")
     row("d", f"rebuild after one value change (stage {stages // 2}), best of {k}",
-        f"{warm['wall']:.1f} s wall, {warm['cpu']:.1f} s CPU, {warm['tree_mib']:.0f} MiB peak (all)")
+        f"{warm['wall']:.2f} s wall, {warm['cpu']:.2f} s CPU, {warm['tree_mib']:.0f} MiB peak (all)")
     row("d", "rebuild / cold, wall   [target < 10 %]", f"{100 * warm['wall'] / cold['wall']:.1f} %")
     row("d", "rebuild / cold, CPU", f"{100 * warm['cpu'] / cold['cpu']:.1f} %")
     pdf = out / "board40.pdf"
