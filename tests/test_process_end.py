@@ -268,3 +268,37 @@ def test_a_worker_killed_mid_run_ends_the_command_in_one_line(tmp_path, monkeypa
     assert status == cli.EXIT_BROKEN == 3
     assert err.count("\n") == 1 and "worker process ended abruptly" in err
     assert "Traceback" not in err and not (tmp_path / "out").exists()
+
+
+def test_what_lives_to_the_end_is_kept_only_where_the_process_skips_its_teardown(monkeypatch):
+    # rcdoc.teardown: nothing is kept in a process that tears down as usual (rcdoc
+    # used from Python, this test process); once the command says it ends without
+    # teardown, the last object handed over is kept, and only that one.
+    from rcdoc import teardown
+    monkeypatch.setattr(teardown, "_KEPT", None)
+    first, second = object(), object()
+    assert teardown.keep(first) is False and teardown._KEPT is None
+    teardown.skip()
+    assert teardown.keep(first) is True and teardown._KEPT == [first]
+    assert teardown.keep(second) is True and teardown._KEPT == [second]
+
+
+def test_the_joined_note_is_kept_by_the_command_not_by_a_library_caller(monkeypatch, tmp_path):
+    # The join's document: freed at once where the process tears down as usual,
+    # kept to the end in the command (whose process ends without teardown).
+    import pikepdf
+
+    from rcdoc import teardown
+    from rcdoc.note import join
+    blank = pikepdf.Pdf.new()
+    blank.add_blank_page()
+    buf = tmp_path / "blank.pdf"
+    blank.save(buf)
+    part = {"pdf": buf.read_bytes(), "pages": 1, "bookmarks": [], "anchors": {}, "links": []}
+    monkeypatch.setattr(teardown, "_KEPT", None)
+    one = join.join([part], None, info=None, pdf_id=b"0" * 32)
+    assert teardown._KEPT is None
+    teardown.skip()
+    two = join.join([part], None, info=None, pdf_id=b"0" * 32)
+    assert len(teardown._KEPT) == 1 and isinstance(teardown._KEPT[0], pikepdf.Pdf)
+    assert one == two          # the same bytes either way

@@ -362,10 +362,12 @@ def main(argv: list[str] | None = None) -> int:
 
 def entry() -> None:
     """The ``rcdoc`` command (and ``python -m rcdoc``): main, then the process ends."""
+    from rcdoc import teardown
     from rcdoc.commands import forked_server
     from rcdoc.commands.collector import tune
     forked_server.remember_start()
     tune()
+    teardown.skip()         # _leave ends the process: what lives to the end is not freed
     _leave(main())
 
 

@@ -26,6 +26,8 @@ from typing import Mapping, Sequence
 import pikepdf
 from pikepdf import Array, Dictionary, Name, OutlineItem, PageLocation, Pdf, String
 
+from rcdoc import teardown
+
 __all__ = ["join", "document_info"]
 
 
@@ -137,3 +139,6 @@ def join(parts: Sequence[dict], numbers: dict | None, *, info: Mapping | None,
         for src in sources:
             src.close()
         out.close()
+        # Where the process ends without teardown (the rcdoc command), the joined
+        # document's objects are not freed one by one first (rcdoc.teardown).
+        teardown.keep(out)

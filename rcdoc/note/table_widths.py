@@ -26,6 +26,7 @@ What it must not do: read the system's fonts or anything the user gave.
 from __future__ import annotations
 
 import functools
+import itertools
 import re
 import struct
 from collections.abc import Sequence
@@ -119,9 +120,16 @@ def _font_tools_advances(path: Path) -> dict[int, float]:
 def text_width(text: str, size: float = _SIZE, bold: bool = False, wide: bool = True) -> float:
     """Width of ``text`` on one line in pt (DejaVu Sans at ``size``, the sum of
     its advances); ``wide``: erring wide (for the narrowest widths)."""
+    return _em(text, bold) * size + (_EPS if wide else 0.0)
+
+
+@functools.lru_cache(maxsize=16384)
+def _em(text: str, bold: bool) -> float:
+    """The sum of ``text``'s advances in em, left to right. Kept per text: a note
+    measures the same cell texts for each table they are in, and a rebuild's
+    summary twice (as the front matter is rendered, and as the note is joined)."""
     table, missing = _advances(bold)
-    em = sum(table.get(ord(ch), missing) for ch in text)
-    return em * size + (_EPS if wide else 0.0)
+    return sum(map(table.get, map(ord, text), itertools.repeat(missing)))
 
 
 def _pieces(text: str, joint: str = "\u00a0") -> list[str]:
