@@ -106,6 +106,43 @@ def test_positions_survive_crlf_literal_strings_and_a_single_inline_check():
     assert lines["stage[2].parts.r"] == 10
 
 
+def _random_toml(rnd) -> tuple[str, dict[str, int]]:
+    """A TOML text made of stages (arrays of tables) whose keys are preceded by
+    every kind of value the scanner must step over (strings of the four kinds, with
+    escapes, quotes and line breaks inside; arrays; inline tables; comments), and
+    the line the text puts each stage and probe key on: the scanner's answer is
+    checked against where the text was written, not against another scanner."""
+    values = ['"a \\" b # [x]"', "'c:\\\\d'", '"""two\nlines "quoted" \\"""\n"""',
+              "'''lit ''\n[[stage]]'''", "4.7e3", "[1, [2, 3], { k = \"]\" }]",
+              "{ a = 1, b = 'x}', c = [\"#\"] }", '"\\\\"']
+    rows, where, stage = ["[board]", 'name = "B"'], {}, 0
+    for _ in range(rnd.randint(1, 6)):
+        stage += 1
+        rows.append(rnd.choice(["[[stage]]", "[[ stage ]]  # a stage"]))
+        where[f"stage[{stage}]"] = len(rows)
+        for k in range(rnd.randint(0, 4)):
+            rows.append(rnd.choice(["", "# [[stage]] in a comment", "  "]))
+            value = rnd.choice(values)
+            rows.extend(f"k{k} = {value}".split("\n"))     # a value may span lines
+        rows.append(f"probe{stage} = 1")
+        where[f"stage[{stage}].probe{stage}"] = len(rows)
+    return "\n".join(rows) + "\n", where
+
+
+def test_positions_of_random_texts_are_where_they_were_written():
+    # Source: the texts' own construction (each probe's line is counted as the text
+    # is made); tomllib accepts every text (common practice: a reader's positions are
+    # checked on texts the parser takes).
+    import random
+    import tomllib
+    rnd = random.Random(20261204)
+    for _ in range(300):
+        text, where = _random_toml(rnd)
+        tomllib.loads(text)
+        lines = key_lines(text)
+        assert {k: lines.get(k) for k in where} == where, text
+
+
 def test_positions_of_a_broken_text_keep_what_came_before():
     lines = key_lines("[[stage]]\nid = \"a\"\n[[stage.check]]\nmetric = \"unterminated\n")
     assert lines["stage[1]"] == 1 and lines["stage[1].check[1]"] == 3
