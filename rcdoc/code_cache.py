@@ -15,7 +15,7 @@ the text. ``install`` puts, in each of those three modules, an ``exec`` or
 ``eval`` of its own before the built-in one: for a text the file holds, it
 runs the filed code object, which is the object ``compile`` makes from that
 text (the same Python: the file starts with the interpreter's bytecode magic
-number; the same mode; the same file name, ``<string>``; none of the three
+number, as a module's cached bytecode does; the same mode; the same file name, ``<string>``; none of the three
 modules imports from ``__future__``, so no compiler flag is inherited); any
 other text, or a code object, goes to the built-in as before.
 
