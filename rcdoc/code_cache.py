@@ -36,7 +36,7 @@ import sys
 import zlib
 from pathlib import Path
 
-__all__ = ["install", "install_selectors", "key", "FILE"]
+__all__ = ["install", "install_selectors", "key", "dumps", "FILE"]
 
 FILE = Path(__file__).resolve().parent / "_code_cache.bin"
 # The modules whose run-time compiling goes through here, and how each compiles.
@@ -70,6 +70,14 @@ def _read(path: Path) -> dict:
     except (OSError, ValueError, EOFError, TypeError, zlib.error):
         return {}
     return table if isinstance(table, dict) else {}
+
+
+def dumps(table: dict) -> bytes:
+    """The file's bytes for ``table`` (key -> code object), as ``_read`` reads them:
+    this interpreter's magic number, then the table marshalled (in key order, so
+    that the same texts give the same bytes) and compressed."""
+    ordered = {k: table[k] for k in sorted(table)}
+    return importlib.util.MAGIC_NUMBER + zlib.compress(marshal.dumps(ordered), 9)
 
 
 def _filed(mode: str, source) -> object:

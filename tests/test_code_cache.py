@@ -132,6 +132,9 @@ def test_a_file_of_another_python_or_none_is_no_file(tmp_path):
     good = tmp_path / "good.bin"
     good.write_bytes(importlib.util.MAGIC_NUMBER + body)
     assert code_cache._read(good) == table
+    written = tmp_path / "written.bin"          # what the tool writes reads back
+    written.write_bytes(code_cache.dumps(table))
+    assert code_cache._read(written) == table
     other = tmp_path / "other.bin"
     other.write_bytes(b"\x00\x01\r\n" + body)
     assert code_cache._read(other) == {}

@@ -21,12 +21,9 @@ from __future__ import annotations
 import argparse
 import builtins
 import importlib
-import importlib.util
-import marshal
 import pkgutil
 import sys
 import tempfile
-import zlib
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -66,11 +63,6 @@ def recorded() -> dict[bytes, object]:
     return seen
 
 
-def blob(table: dict[bytes, object]) -> bytes:
-    ordered = {k: table[k] for k in sorted(table)}
-    return importlib.util.MAGIC_NUMBER + zlib.compress(marshal.dumps(ordered), 9)
-
-
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--check", action="store_true",
@@ -78,13 +70,13 @@ def main(argv=None) -> int:
     args = ap.parse_args(argv)
     sys.path.insert(0, str(ROOT))
     table = recorded()
-    from rcdoc.code_cache import FILE, _read
+    from rcdoc.code_cache import FILE, _read, dumps
     if args.check:
         have = _read(FILE)
         missing = [k for k in table if k not in have]
         print(f"{len(table) - len(missing)} of {len(table)} texts filed in {FILE.name}")
         return 1 if missing else 0
-    FILE.write_bytes(blob(table))
+    FILE.write_bytes(dumps(table))
     print(f"wrote {FILE.relative_to(ROOT)}: {len(table)} code objects")
     return 0
 
