@@ -38,7 +38,7 @@ from pathlib import Path
 from rcdoc.note import renderer_libs  # noqa: F401 - weasyprint, without ctypes' library search
 import weasyprint
 
-from rcdoc.note import fast_layout, font_scratch, glyphs, note_html, pdf_images, report
+from rcdoc.note import deflate, fast_layout, font_scratch, glyphs, note_html, pdf_images, report
 from rcdoc.note.overview import own_pages
 
 __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "font_subsetter",
@@ -46,7 +46,8 @@ __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "
            "appendix_context", "front_context", "charts_context"]
 
 # Bump when what a part holds changes.
-_PART_FORMAT = "rcdoc-note-part-3"   # 2: charts as indexed images; 3: missing_glyphs
+# 2: charts as indexed images; 3: missing_glyphs; 4: streams at deflate level 6
+_PART_FORMAT = "rcdoc-note-part-4"
 
 
 def can_assemble(template_dirs: Sequence[Path] = ()) -> bool:
@@ -187,6 +188,7 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
     if fetcher is None:
         fetcher = _fetcher(template_dirs, project_dir)
     fast_layout.install()                   # weasyprint 70's short paths, same PDF
+    deflate.install()                       # page streams at zlib's default level
     ctx = {**context, "part": part}
     if part == "numbers":
         ctx["page_count"] = page_count
