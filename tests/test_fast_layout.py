@@ -327,3 +327,68 @@ def test_each_line_is_shaped_once_and_drawn_the_same(general, monkeypatch):
             assert 0 < again < redrawn
         else:
             assert again == 0
+
+
+# Pages of every kind CSS Paged Media 3 selects (:first, :left, :right, :blank,
+# named pages, nth()), margin boxes reading the page counters and strings that
+# change from page to page, margins of other sizes: styles are handed out again
+# only where the same rules cascade onto two page types.
+_PAGES = """<html><head><style>
+@page { size: 200px 260px; margin: 30px 20px;
+        @top-left { content: string(t) } @bottom-right { content: counter(page) " / " counter(pages) } }
+@page :first { margin-top: 50px; @top-left { content: none } }
+@page :left { @bottom-left { content: "left " counter(page); width: 40% } }
+@page :right { margin-right: 35px }
+@page :blank { @top-center { content: "blank" } }
+@page :nth(4) { @top-right { content: "fourth"; color: red } }
+@page wide { size: 300px 200px; margin: 10px; @top-left { content: "wide: " string(t) } }
+@page wide:nth(2 of wide) { margin-left: 40px }
+h1 { string-set: t content(); font: 12px sans-serif; break-before: right }
+.w { page: wide }
+p { font: 10px/1.3 sans-serif; margin: 0 0 4px }
+</style></head><body>
+""" + "".join(f"<h1>Chapter {i}</h1>" + "<p>Line of text in the chapter.</p>" * (5 + 7 * i)
+              + ("<section class='w'>" + "<p>On a wide page.</p>" * 30 + "</section>"
+                 if i == 1 else "") for i in range(3)) + "</body></html>"
+
+
+def test_page_styles_are_shared_only_where_the_same_rules_apply(general):
+    reference_doc = weasyprint.HTML(string=_PAGES).render()
+    reference = reference_doc.write_pdf()
+    assert len(reference_doc.pages) >= 10
+    assert fast_layout.install()
+    document = weasyprint.HTML(string=_PAGES).render()
+    assert _boxes(document) == _boxes(reference_doc)
+    assert document.write_pdf() == reference
+    # Fewer page styles than pages, more than one (first, left, right, blank, nth,
+    # wide pages differ), and each page's margin boxes carry its own page's styles.
+    pages = [page._page_box for page in document.pages]
+    distinct = {id(page.style) for page in pages}
+    assert 5 <= len(distinct) < len(pages)
+    for a, b in zip(pages, [page._page_box for page in reference_doc.pages]):
+        assert a.page_type == b.page_type
+        for prop in ("margin_top", "margin_right", "margin_left", "width", "height"):
+            assert getattr(a, prop) == getattr(b, prop)
+
+
+def test_a_stage_part_computes_its_page_styles_once(general):
+    ctx = make_context()
+    part = {**assemble._head(ctx), "stages": ctx["stages"] * 3}     # a page break each
+    assert fast_layout.install()
+    made = []
+    from weasyprint.css import StyleFor
+    own = StyleFor.set_computed_styles
+
+    def counting(self, element, *args, **kwargs):
+        if not hasattr(element, "tag"):         # a page type, not an element
+            made.append(element)
+        return own(self, element, *args, **kwargs)
+
+    StyleFor.set_computed_styles = counting
+    try:
+        out = assemble.render_part(part, "stage", source_date_epoch=EPOCH)
+    finally:
+        StyleFor.set_computed_styles = own
+    assert out["pages"] >= 5
+    # The first page's styles and the others' once: not a set per page.
+    assert len({page_type.index for page_type in made}) == 2

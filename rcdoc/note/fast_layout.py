@@ -24,6 +24,12 @@ percentages a twelfth, the flow tests a twenty-fifth):
   five methods for the box's float and position; here the two styles are read
   once.
 - ``text.line_break.strut`` (a line's height and baseline) is kept per style.
+- ``layout.page.set_page_type_computed_styles`` made styles for every page
+  and its 16 margin boxes, each computed property by property again (the page
+  type holds the page's index); here a page type onto which the same @page
+  rules cascade the same values takes the styles of the first such page. (The
+  example's note: the styles of 27 page types instead of 65, 486 styles
+  instead of 1 170; 2.4 % fewer instructions in its render, cachegrind.)
 - ``text.line_break.Layout.setup`` made a Pango context and a font
   description for every piece of text, and again to draw it; here both are
   kept per font configuration (a context per direction and language, a
@@ -104,12 +110,57 @@ def _replacements() -> list:
     for module in (line_break, computed_values, units, inline):
         if module.__dict__.get("strut") is line_break.strut:
             replaced.append((module, "strut", kept_strut))
+    replaced.append((page, "set_page_type_computed_styles", _shared_page_styles(page)))
     resolve = _resolve_percentages(percent)
     # Each layout module imported the function by name: each name is replaced.
     for module in (percent, absolute, block, column, floats, grid, inline, page, table):
         if module.__dict__.get("resolve_percentages") is percent.resolve_percentages:
             replaced.append((module, "resolve_percentages", resolve))
     return replaced
+
+
+def _shared_page_styles(page):
+    """layout.page.set_page_type_computed_styles with the styles of an earlier
+    page type handed out again where the same @page rules gave the same cascaded
+    values to the page and each of its margin boxes.
+
+    weasyprint's page type holds the page's index, so every page had styles of
+    its own, computed property by property as its 16 margin boxes were made and
+    resolved (1 170 styles for the example's 65 pages). Two page types that the
+    same declarations cascade onto compute the same values (a computed style is
+    made of its cascaded values, its parent's style, the root's and the base URL
+    alone, as weasyprint shares element styles); what the layout writes into a
+    page's styles (the propagated overflow, the page counters made standard) is
+    the same on every page and gives the same style when written again."""
+    general = page.set_page_type_computed_styles
+
+    def set_page_type_computed_styles(page_type, html, style_for):
+        style_for.add_page_declarations(page_type)
+        mine = {pseudo: cascaded for (element, pseudo), cascaded
+                in style_for.get_cascaded_styles().items() if element == page_type}
+        seen = style_for.__dict__.setdefault("_rcdoc_page_styles", [])
+        base_url = html.base_url
+        for cascades, url, styles in seen:
+            if url == base_url and cascades == mine:
+                computed = style_for.get_computed_styles()
+                for pseudo, style in styles.items():
+                    computed[page_type, pseudo] = style
+                return
+        # As weasyprint's own: the page inherits from the root element, its margin
+        # boxes from the page.
+        style_for.set_computed_styles(page_type, root=html.etree_element,
+                                      parent=html.etree_element, base_url=base_url)
+        for pseudo in mine:
+            if pseudo:
+                style_for.set_computed_styles(page_type, pseudo_type=pseudo,
+                                              root=html.etree_element, parent=page_type,
+                                              base_url=base_url)
+        computed = style_for.get_computed_styles()
+        seen.append((mine, base_url, {pseudo: computed[page_type, pseudo]
+                                      for pseudo in (None, *mine) if (page_type, pseudo) in computed}))
+
+    set_page_type_computed_styles.__doc__ = general.__doc__
+    return set_page_type_computed_styles
 
 
 def _computed_missing(general):
