@@ -68,6 +68,55 @@ def test_the_trimmed_sheet_drops_the_pseudo_element_styles_and_nothing_else():
             assert sa[name] == sb[name], (a.tag, name)
 
 
+# What the user-agent rules written one selector per element name style (HTML
+# Living Standard, 15.3 rendering: lists nested in lists, the dir attribute,
+# hidden table parts, the rules and frame attributes of tables).
+_IS_RULES = """<html><body>
+<ul><li>a<ol><li>b<ul dir="rtl"><li>c<menu><li>d</li></menu></li></ul></li></ol></li></ul>
+<div dir="ltr"><dir><li>e</li></dir><div dir="rtl"><ul dir="ltr" class="x"><li>f</li></ul>
+<dl><dt>t</dt><dd>g<dl><dd>h</dd></dl></dd></dl></div></div>
+<table rules="all" frame="box"><thead><tr><th>H</th></tr></thead>
+<tbody><tr><td>1</td></tr><tr hidden="hidden"><td>2</td></tr></tbody></table>
+<table rules="rows"><tr><td>3</td><td hidden="hidden">4</td></tr></table>
+<p hidden="hidden">gone</p><p>kept</p></body></html>"""
+
+
+def test_rules_written_per_element_name_give_the_same_styles_and_pdf():
+    from weasyprint.css.properties import INITIAL_VALUES
+
+    sheet = note_html.trimmed_sheet()
+    assert sheet is not None
+    # The eleven rules are filed under element names: none is left to be tried
+    # on every element but the plain attribute and link rules.
+    others = [s for s in sheet.matcher.other_selectors]
+    assert len(others) <= 6, len(others)
+    full = weasyprint.HTML(string=_IS_RULES)
+    trimmed = note_html.NoteHTML(string=_IS_RULES)
+    fs, ts = get_all_computed_styles(full), get_all_computed_styles(trimmed)
+    names = sorted(INITIAL_VALUES)
+    checked = 0
+    for a, b in zip(full.etree_element.iter(), trimmed.etree_element.iter()):
+        assert a.tag == b.tag
+        sa, sb = fs(a), ts(b)
+        if sa is None:
+            assert sb is None
+            continue
+        assert [(n, repr(sa[n])) for n in names] == [(n, repr(sb[n])) for n in names], a.tag
+        checked += 1
+    assert checked > 30
+    # The rules do apply here: nested lists lose their margins, rtl lists pad right,
+    # hidden rows collapse, ruled tables have black cell borders.
+    ul_rtl = trimmed.etree_element.find(".//ul[@dir='rtl']")
+    assert ts(ul_rtl)["padding_right"].value == 40 and ts(ul_rtl)["margin_top"].value == 0
+    row = trimmed.etree_element.find(".//tr[@hidden]")
+    assert ts(row)["visibility"] == "collapse"
+    ruled = ts(trimmed.etree_element.find(".//td"))["border_top_color"]
+    plain = note_html.NoteHTML(string="<table><tr><td>x</td></tr></table>")
+    assert ruled != get_all_computed_styles(plain)(plain.etree_element.find(".//td"))[
+        "border_top_color"]
+    assert full.write_pdf() == trimmed.write_pdf()
+
+
 def test_template_folder_with_a_shipped_name_keeps_the_whole_sheet(tmp_path):
     # A replaced template may use footnotes: weasyprint's own sheet for it.
     assert note_html.html_class([], SHIPPED) is note_html.NoteHTML
