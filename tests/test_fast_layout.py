@@ -371,6 +371,24 @@ def test_page_styles_are_shared_only_where_the_same_rules_apply(general):
             assert getattr(a, prop) == getattr(b, prop)
 
 
+def test_page_styles_read_before_the_first_page_size_are_not_shared(general):
+    # The first page's style is read before its size is known: its font size in
+    # viewport units is then read against A4 (weasyprint's css/units.py), its
+    # margin text larger than on the next pages though their rules are the same.
+    html = ("<html><head><style>@page { size: 400px 300px; margin: max(40px, 1em);"
+            " font-size: 3vw; @top-center { content: 'the same on each page' } }"
+            " body { font: 10px 'DejaVu Sans' }</style></head><body>"
+            + "<p>filler line</p>" * 80 + "</body></html>")
+    reference = weasyprint.HTML(string=html).render()
+    assert fast_layout.install()
+    fast = weasyprint.HTML(string=html).render()
+    assert len(fast.pages) >= 4
+    assert _boxes(fast) == _boxes(reference)
+    assert fast.write_pdf() == reference.write_pdf()
+    sizes = [p._page_box.style["font_size"] for p in fast.pages]
+    assert sizes[0] != sizes[1] == sizes[-1]
+
+
 def test_a_stage_part_computes_its_page_styles_once(general):
     ctx = make_context()
     part = {**assemble._head(ctx), "stages": ctx["stages"] * 3}     # a page break each
@@ -390,5 +408,6 @@ def test_a_stage_part_computes_its_page_styles_once(general):
     finally:
         StyleFor.set_computed_styles = own
     assert out["pages"] >= 5
-    # The first page's styles and the others' once: not a set per page.
+    # The first page's styles, the second's, and the others' no more: not a set
+    # per page (the first page's are made before its size is known).
     assert len({page_type.index for page_type in made}) == 2
