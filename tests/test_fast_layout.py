@@ -1,5 +1,5 @@
 """Tests of rcdoc.note.fast_layout: shorter paths through weasyprint 70's
-computed styles, used lengths and flow tests.
+computed styles, used lengths, flow tests and the placing of lines.
 
 The reference is weasyprint itself (its own functions, put back with
 ``fast_layout.uninstall``): every computed property of every element, every
@@ -15,6 +15,7 @@ and CSS Generated Content for Paged Media (``position: running()``,
 
 from __future__ import annotations
 
+import collections
 import copy
 
 import pytest
@@ -64,6 +65,8 @@ around the floated box more than once, and once more.<span class="fn">A footnote
 <table class="sep"><tr><td>a</td><td>b</td></tr></table>
 <ul><li>item</li><li dir="rtl">בּ item</li></ul>
 <p dir="rtl">abc! (1) x</p><p>abc! (1) x</p><p lang="tr">fi ﬁ İi</p>
+<p style="margin-inline-start: 9px; padding-inline-end: 3px">left, right</p>
+<p dir="rtl" style="margin-inline-start: 9px; padding-inline-end: 3px">right, left</p>
 <section class="named"><p>On a named page.</p></section>
 <p lang="de">Straße <span style="font-language-override: 'TRK'">fi</span>
 <span style="font: italic small-caps 300 1e-2px serif">tiny</span>
@@ -225,6 +228,21 @@ def test_parts_and_whole_note_are_the_same_bytes_as_with_weasyprints_own(
     assert (tmp_path / "fast.pdf").read_bytes() == (tmp_path / "own.pdf").read_bytes()
 
 
+def _laid_out(document) -> list:
+    """Every box laid out in ``document`` (an absolute box's own box)."""
+    out = []
+
+    def walk(box):
+        box = getattr(box, "_box", box)        # an absolute box's placeholder
+        out.append(box)
+        for child in getattr(box, "children", ()) or ():
+            walk(child)
+
+    for page in document.pages:
+        walk(page._page_box)
+    return out
+
+
 def test_kept_answers_are_weasyprints_own(general):
     # The used lengths and line struts kept per style are read again at later calls
     # (table cells and their lines share styles): each kept one is weasyprint's own
@@ -238,18 +256,8 @@ def test_kept_answers_are_weasyprints_own(general):
     assert fast_layout.install()
     document = weasyprint.HTML(string=html).render()
     assert _boxes(document) == reference
-    styles = {}
-
-    def walk(box):
-        box = getattr(box, "_box", box)        # an absolute box's placeholder
-        styles[id(box.style)] = box
-        for child in getattr(box, "children", ()) or ():
-            walk(child)
-
-    for page in document.pages:
-        walk(page._page_box)
     struts = used = 0
-    for box in styles.values():
+    for box in {id(box.style): box for box in _laid_out(document)}.values():
         kept = box.style.__dict__.get("_rcdoc_strut")
         if kept is not None:
             struts += 1
@@ -263,6 +271,201 @@ def test_kept_answers_are_weasyprints_own(general):
             own_resolve(fresh, (width, height))
             assert lengths == {name: getattr(fresh, name) for name in lengths}
     assert struts > 10 and used > 20
+
+
+# Used lengths every way CSS 2.1 §10 and CSS Box Sizing 3 give them, in boxes that
+# share styles across containing blocks of other sizes: percentages of widths and
+# of auto and fixed heights (0 % of an infinite maximum height is NaN), calc(),
+# min() and max(), border-box and padding-box sizing, percentages on pages and
+# margin boxes, collapsed and separate table borders, floats beside lines (left,
+# right, in cells), right-to-left blocks and cells, and containing blocks placed
+# by fractions of a pixel (sums in another order give other floats).
+_EDGES = """<html><head><style>
+@page { size: 333.3px 444.4px; margin: 3% 1.7% 2.9% 5%;
+        @top-left { content: "head"; width: 33.3%; padding: 1% } }
+body { font: 8px/1.3 "DejaVu Sans"; margin: 0.1px 0.2px; padding: 0.3px 0.7px;
+       border-left: 0.35px solid }
+div { margin-left: 0.1px; padding-left: 0.2px; border-left: 0.45px solid }
+.w1 { width: 33.3333% } .w2 { width: 71.7%; margin-right: 3.3% }
+.h { height: 61.1px } .hp { height: 37% } .hc { height: calc(40% + 1.1px) }
+td { padding: 1.5% 2px 0.7% 3.3%; border: 0.6px solid; height: 10%; min-height: 5%;
+     max-height: 0% }
+td.c { padding: calc(1% + 0.4px) min(3%, 2px) max(0.1px, 2%) 0; width: calc(50% - 1.1px) }
+td.bb { box-sizing: border-box; width: 40%; padding: 1px 2%; border: 1.3px solid }
+td.pb { box-sizing: padding-box; height: 30px; padding: 0.9px 0; max-width: 80% }
+table { border-collapse: collapse } table.sep { border-collapse: separate;
+        border-spacing: 0.5px 1.5px }
+.rtl { direction: rtl } .fl { float: left; width: 20%; height: 2.5em }
+.fr { float: right; width: 15%; margin: 0.3px } .ib { display: inline-block; width: 30%;
+      padding: 2%; min-width: calc(10% + 1px) }
+.mh { min-height: 12%; max-height: 80%; height: 50%; margin: 1% 2% }
+</style></head><body>
+""" + "".join(f"""<div class="{w}{h}">
+<p>Lines in a block of its own width, long enough to wrap at least twice over here.</p>
+<table class="{t}"><tr><td>a cell</td><td class="c">a calc cell with words</td>
+<td class="bb">border box</td><td class="pb">padding box</td></tr>
+<tr><td class="rtl">עברית abc</td><td colspan="3">spanning <span class="ib">ib</span></td></tr>
+</table>
+<p><span class="fl">left float</span>Text beside a float to the left, and more text
+to wrap below it.<span class="fr">right</span> Then a line or two more than that.</p>
+<div class="rtl mh"><p>abc right to left, lines long enough to wrap, ! (1) x</p>
+<span class="fr">float in rtl</span><p>another line</p></div>
+</div>""" for w, h, t in (("w1", " h", ""), ("w2", " hp", "sep"), ("w1", " hc", "sep"),
+                            ("w2", "", ""))) + "</body></html>"
+
+
+def _checking(patch, name, check) -> list:
+    """Each short path installed as ``name`` wrapped: ``check(short, own, args,
+    kwargs)`` runs at each call and returns (the call's result, a record)."""
+    records = []
+    for owner, attribute, own in fast_layout._SAVED:
+        if attribute == name:
+            short = owner.__dict__[name]
+
+            def checked(*args, _short=short, _own=own, **kwargs):
+                result, record = check(_short, _own, args, kwargs)
+                records.append(record)
+                return result
+
+            patch.setattr(owner, name, checked)
+    return records
+
+
+def _same_used_lengths(short, own, args, kwargs):
+    # weasyprint's own on a copy of the box as it was before the call
+    box, before = args[0], copy.copy(args[0])
+    short(*args, **kwargs)
+    own(before, *args[1:], **kwargs)
+    assert ([repr(getattr(box, name, None)) for name in _LENGTHS]
+            == [repr(getattr(before, name, None)) for name in _LENGTHS]), type(box)
+    return None, type(box).__name__
+
+
+def _same_place(short, own, args, kwargs):
+    context, box = args[:2]
+    mine, theirs = short(*args, **kwargs), own(*args, **kwargs)
+    assert repr(mine) == repr(theirs), (type(box), kwargs)
+    return mine, (type(box).__name__, bool(context.excluded_shapes),
+                  args[2].style["direction"])
+
+
+@pytest.mark.parametrize("html", [_EDGES, _HTML], ids=["edges", "features"])
+def test_every_call_is_answered_as_weasyprint_answers(general, monkeypatch, html):
+    # Each call of the short paths, in a whole layout: the box's used lengths and the
+    # line's place are the ones weasyprint's own functions give at that call.
+    reference = weasyprint.HTML(string=html).render()
+    assert fast_layout.install()
+    with monkeypatch.context() as patch:
+        resolved = _checking(patch, "resolve_percentages", _same_used_lengths)
+        placed = _checking(patch, "avoid_collisions", _same_place)
+        document = weasyprint.HTML(string=html).render()
+    assert _boxes(document) == _boxes(reference)
+    assert document.write_pdf() == reference.write_pdf()
+    assert {"TableCellBox", "LineBox", "PageBox", "MarginBox"} <= set(resolved)
+    kinds = set(placed)
+    assert ("LineBox", False, "ltr") in kinds and ("LineBox", True, "ltr") in kinds
+    if html is _EDGES:
+        # lines beside floats and without, in right-to-left blocks too
+        assert {("LineBox", False, "rtl"), ("LineBox", True, "rtl")} <= kinds
+        # answers kept for styles met in containing blocks of several sizes
+        kept = [len(box.style.__dict__.get("_rcdoc_used", ()))
+                for box in {id(box.style): box for box in _laid_out(document)}.values()]
+        assert sum(kept) > 20 and max(kept) >= 2
+
+
+def test_a_line_is_placed_by_weasyprints_arithmetic(general):
+    # Lengths whose sums depend on their order, margins the lines of documents do
+    # not have: each of the short path's operations is weasyprint's, in its order.
+    import random
+    from weasyprint.formatting_structure import boxes
+    from weasyprint.layout import float as floats
+    own = floats.avoid_collisions
+    assert fast_layout.install()
+    short = floats.avoid_collisions
+    assert short is not own
+    root = weasyprint.HTML(string="<p dir=rtl>x</p><p>y</p>").render().pages[0]._page_box
+    blocks = root.children[0].children[0].children       # the two paragraphs
+    assert [b.style["direction"] for b in blocks] == ["rtl", "ltr"]
+    context = type("Context", (), {"excluded_shapes": []})()
+    rng = random.Random(70)
+    for trial in range(400):
+        block = blocks[trial % 2].copy()
+        line = boxes.LineBox.anonymous_from(blocks[rng.randrange(2)], [])   # any direction
+        for box in (block, line):
+            for name in _LENGTHS:
+                setattr(box, name, rng.choice([0, 1, -0.0, 1e16])
+                        + rng.random() * 10 ** rng.randint(-3, 3))
+        for outer in (False, True):
+            args = (context, line, block, outer)
+            assert repr(short(*args)) == repr(own(*args))
+
+
+# Lines in blocks and in cells of tables of three widths, with percentages, and
+# no float: the lines of a paragraph share a style and a containing block.
+_PLAIN = """<html><head><style>
+@page { size: 300px 400px; margin: 10px } body { font: 8px/1.2 "DejaVu Sans" }
+td { padding: 1% 2px; border: 0.5px solid } td.p { width: 30% }
+p { margin: 0 0 2px } p.h { height: 40% }
+</style></head><body>""" + "".join(
+    f"<div style='width: {w}px'><p class=h>{'A paragraph of lines to wrap. ' * 12}</p>"
+    f"<table><tr><td class=p>{'cell text ' * 8}</td><td>more cell text</td></tr>"
+    "<tr><td>a</td><td class=p>b</td></tr></table></div>" for w in (150, 200.5, 280) * 2
+) + "</body></html>"
+
+
+def _counted(patch) -> collections.Counter:
+    """Calls of weasyprint's own avoid_collisions, by kind of box, where the short
+    path hands a case on to it, and of its adjust_box_sizing, which the used
+    lengths' short path calls twice for each box it computes (not copies)."""
+    from weasyprint import layout
+    calls = collections.Counter()
+    for home, name, which in ((layout.float, "avoid_collisions", 1),
+                              (layout.percent, "adjust_box_sizing", None)):
+        own = home.__dict__[name]
+
+        def counted(*args, _name=name, _own=own, _which=which, **kwargs):
+            calls[_name, None if _which is None else type(args[_which]).__name__] += 1
+            return _own(*args, **kwargs)
+
+        for module in vars(layout).values():
+            if getattr(module, "__dict__", {}).get(name) is own:
+                patch.setattr(module, name, counted)
+    return calls
+
+
+@pytest.mark.parametrize("extra, line_beside_a_float", [
+    ("", False), ("<p><span style='float: left'>float</span> beside it</p>", True),
+], ids=["plain", "float"])
+def test_the_short_paths_are_taken(general, monkeypatch, extra, line_beside_a_float):
+    html = _PLAIN.replace("</body>", extra + "</body>")
+    reference = weasyprint.HTML(string=html).write_pdf()
+    with monkeypatch.context() as patch:
+        calls = _counted(patch)
+        assert fast_layout.install()            # the short paths hand on to the counted
+        try:
+            with monkeypatch.context() as wrap:     # undone before the uninstall
+                resolved = _checking(wrap, "resolve_percentages",
+                                     lambda short, own, args, kw: (short(*args, **kw), 1))
+                placed = _checking(wrap, "avoid_collisions",
+                                   lambda short, own, args, kw: (short(*args, **kw), 1))
+                document = weasyprint.HTML(string=html).render()
+                pdf = document.write_pdf()
+        finally:
+            fast_layout.uninstall()
+    from weasyprint.layout import block, float as floats, inline
+    assert {block.resolve_percentages.__module__, inline.avoid_collisions.__module__,
+            floats.avoid_collisions.__module__} == {"weasyprint.layout.percent",
+                                                    "weasyprint.layout.float"}
+    assert pdf == reference
+    # Lines placed by weasyprint's own code only beside the float; the tables'
+    # wrappers (not lines) always.
+    lines = sum(1 for b in _laid_out(document) if type(b).__name__ == "LineBox")
+    assert lines > 20 and len(placed) >= 3 * lines
+    assert calls["avoid_collisions", "LineBox"] == (3 if line_beside_a_float else 0)
+    assert calls["avoid_collisions", "BlockBox"] >= 6 + line_beside_a_float  # + the float
+    # Most boxes copy used lengths kept for their style and containing block.
+    computed = calls["adjust_box_sizing", None] / 2
+    assert 0 < computed < len(resolved) / 2
 
 
 # Text whose drawing needs a layout other than the measured one, or that Pango
