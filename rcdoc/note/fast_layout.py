@@ -52,10 +52,8 @@ percentages a twelfth, the flow tests a twenty-fifth):
   as before. (For the example's note, 4 864 Pango layouts instead of 7 942;
   its render 2.39 s of CPU against 2.49 s, best of fourteen, interleaved.)
 
-Installed with these, for the same weasyprint: rcdoc.note.fast_paint (the
-backgrounds of boxes that paint none placed at once, a line's glyphs written
-from one read of Pango's glyph array) and rcdoc.note.fast_margins (a page's
-margin boxes copied from an earlier page that shows the same ones).
+Installed with these: fast_paint (backgrounds, a line's glyphs), fast_margins
+(running heads and feet) and fast_tables (collapsed borders), of rcdoc.note.
 
 What it must not do: change a value. ``install`` patches nothing for another
 weasyprint than 70.0 (those functions may differ there) and says so by
@@ -124,9 +122,10 @@ def _replacements() -> list:
         if module.__dict__.get("strut") is line_break.strut:
             replaced.append((module, "strut", kept_strut))
     replaced.append((page, "set_page_type_computed_styles", _shared_page_styles(page)))
-    from rcdoc.note import fast_margins, fast_paint
+    from rcdoc.note import fast_margins, fast_paint, fast_tables
     replaced.extend(fast_paint.replacements())      # backgrounds placed, text drawn
     replaced.extend(fast_margins.replacements())    # running heads and feet copied
+    replaced.extend(fast_tables.replacements())     # collapsed borders resolved
     from weasyprint.layout import flex, replaced as replaced_boxes
     shorter = {"resolve_percentages": (percent, _resolve_percentages(percent)),
                "avoid_collisions": (floats, _avoid_collisions(floats, boxes))}
