@@ -271,101 +271,36 @@ def _copied(box):
     return box
 
 
+# The sixteen margin boxes in weasyprint 70's order: each side's three (its
+# prefix, whether it is vertical, its suffixes), then the four corners.
+_SIDES = (("top", False, ("left", "center", "right")),
+          ("bottom", False, ("left", "center", "right")),
+          ("left", True, ("top", "middle", "bottom")),
+          ("right", True, ("top", "middle", "bottom")))
+_CORNERS = ("@top-left-corner", "@top-right-corner", "@bottom-left-corner",
+            "@bottom-right-corner")
+_KEYWORDS = tuple(f"@{prefix}-{suffix}" for prefix, _, suffixes in _SIDES
+                  for suffix in suffixes) + _CORNERS
+_NOT_GENERATED = ("normal", "inhibit", "none")
+
+
 def _make_margin_boxes(page_module, own):
     """make_margin_boxes with kept styles and laid-out boxes (see the module's
     docstring); its body weasyprint 70's own, in the same order."""
-    from weasyprint.formatting_structure import boxes, build
-
-    sides = (("top", False, ("left", "center", "right")),
-             ("bottom", False, ("left", "center", "right")),
-             ("left", True, ("top", "middle", "bottom")),
-             ("right", True, ("top", "middle", "bottom")))
-    corners = ("@top-left-corner", "@top-right-corner", "@bottom-left-corner",
-               "@bottom-right-corner")
-    keywords = tuple(f"@{prefix}-{suffix}" for prefix, _, suffixes in sides
-                     for suffix in suffixes) + corners
-    not_generated = ("normal", "inhibit", "none")
 
     def make_margin_boxes(context, page, state):
         kept = context.__dict__.get(_KEPT)
         if kept is None:
             kept = context.__dict__[_KEPT] = _Kept()
-        styles = _margin_styles(kept, context, page, keywords)
+        styles = _margin_styles(kept, context, page, _KEYWORDS)
         if styles is None:
             counts["general"] += 1
             yield from own(context, page, state)
             return
-        anonymous = page.style.anonymous_style
-        # weasyprint's module functions, read when called (as its own code reads
-        # them): rcdoc.note.fast_layout replaces resolve_percentages.
-        resolve_percentages = page_module.resolve_percentages
-        standardize = page_module._standardize_page_based_counters
-
-        def make_box(at_keyword, containing_block):
-            # weasyprint's make_box, with the style chosen above.
-            style = styles[at_keyword]
-            if style is None:
-                # doesn't affect counters
-                style = anonymous
-            standardize(style, at_keyword)
-            box = boxes.MarginBox(at_keyword, style)
-            box.is_generated = style["content"] not in not_generated
-            if box.is_generated:
-                # @margins mustn't manipulate page-context counters
-                margin_state = copy.deepcopy(state)
-                quote_depth, counter_values, counter_scopes, _page_groups = margin_state
-                counter_scopes.append(set())
-                build.update_counters(margin_state, box.style)
-                box.children = build.content_to_boxes(
-                    box.style, box, quote_depth, counter_values,
-                    context.get_image_from_uri, context.target_collector,
-                    context.counter_style, context, page)
-                box.process_whitespace()
-                box.process_text_transform()
-                box = build.create_anonymous_boxes(box)
-            resolve_percentages(box, containing_block)
-            if not box.is_generated:
-                box.width = box.height = 0
-                for side in ("top", "right", "bottom", "left"):
-                    box._reset_spacing(side)
-            return box
-
-        margin_top = page.margin_top
-        margin_bottom = page.margin_bottom
-        margin_left = page.margin_left
-        margin_right = page.margin_right
-        max_box_width = page.border_width()
-        max_box_height = page.border_height()
-        page_end_x = margin_left + max_box_width
-        page_end_y = margin_top + max_box_height
-        side_places = (((max_box_width, margin_top), margin_left, 0),
-                       ((max_box_width, margin_bottom), margin_left, page_end_y),
-                       ((margin_left, max_box_height), 0, margin_top),
-                       ((margin_right, max_box_height), page_end_x, margin_top))
-        corner_places = ((margin_left, margin_top, 0, 0),
-                         (margin_right, margin_top, page_end_x, 0),
-                         (margin_left, margin_bottom, 0, page_end_y),
-                         (margin_right, margin_bottom, page_end_x, page_end_y))
-        blocks = [place[0] for place in side_places for _ in range(3)]
-        blocks += [(width, height) for width, height, _, _ in corner_places]
-
-        # The generated boxes built, in weasyprint's order; a box not generated
-        # has no size nor spacing (make_box), only its style's counters put
-        # right: it is built below only to lay the others out.
-        built = []
-        for at_keyword, containing_block in zip(keywords, blocks):
-            style = styles[at_keyword] or anonymous
-            standardize(style, at_keyword)
-            if style["content"] in not_generated:
-                built.append(None)
-            else:
-                built.append(make_box(at_keyword, containing_block))
+        margins = _PageMargins(page_module, context, page, state, styles)
+        built = margins.build()
         try:
-            key = ((margin_top, margin_bottom, margin_left, margin_right, max_box_width,
-                    max_box_height),
-                   tuple(False if box is None else
-                         _signature(box, (box.style, box.style.anonymous_style))
-                         for box in built))
+            key = margins.key(built)
         except _Uncacheable:
             # (Their content is built again there: for it alone, weasyprint's
             # messages on it, such as a target-counter()'s missing anchor, twice.)
@@ -375,30 +310,143 @@ def _make_margin_boxes(page_module, own):
         laid_out = kept.boxes.get(key)
         if laid_out is None:
             counts["laid_out"] += 1
-            every = [make_box(at_keyword, containing_block) if box is None else box
-                     for box, at_keyword, containing_block in zip(built, keywords, blocks)]
-            laid_out = _lay_out(context, page, every, side_places, corner_places)
+            laid_out = margins.lay_out(built)
             # This page draws the boxes laid out (their lines' Pango layouts as
             # measured); copies are kept, for the pages that show the same.
             kept.boxes[key] = [_copied(box) for box in laid_out]
             yield from laid_out
             return
         counts["reused"] += 1
-        generated = [box for box in built if box is not None]
-        for box, original in zip(generated, laid_out, strict=True):
-            copied = _copied(original)
-            copied.cached_counter_values = box.cached_counter_values
-            yield copied
+        yield from _copies(built, laid_out)
 
-    def _lay_out(context, page, every, side_places, corner_places):
-        # The rest of weasyprint's make_margin_boxes: the boxes' sizes and
-        # places, then their content's layout.
-        compute_variable_dimension = page_module.compute_variable_dimension
-        compute_fixed_dimension = page_module.compute_fixed_dimension
-        margin_box_content_layout = page_module.margin_box_content_layout
+    make_margin_boxes.__doc__ = own.__doc__
+    make_margin_boxes._rcdoc_own = own
+    return make_margin_boxes
+
+
+def _copies(built: list, laid_out: list):
+    """Copies of an earlier page's laid-out boxes, one for each of this page's
+    generated boxes, with this page's counters (which the key leaves out)."""
+    generated = [box for box in built if box is not None]
+    for box, original in zip(generated, laid_out, strict=True):
+        copied = _copied(original)
+        copied.cached_counter_values = box.cached_counter_values
+        yield copied
+
+
+class _PageMargins:
+    """One page's margin boxes, built and laid out as weasyprint 70's
+    make_margin_boxes does it, with the margin styles chosen beforehand
+    (``_margin_styles``)."""
+
+    def __init__(self, page_module, context, page, state, styles: dict):
+        """The page's styles, the functions of weasyprint's it calls, and the
+        containing blocks and places of its margin boxes."""
+        self.page_module = page_module
+        self.context, self.page, self.state, self.styles = context, page, state, styles
+        self.anonymous = page.style.anonymous_style
+        # weasyprint's module functions, read when called (as its own code reads
+        # them): rcdoc.note.fast_layout replaces resolve_percentages.
+        self.resolve_percentages = page_module.resolve_percentages
+        self.standardize = page_module._standardize_page_based_counters
+        margin_top, margin_bottom = page.margin_top, page.margin_bottom
+        margin_left, margin_right = page.margin_left, page.margin_right
+        max_box_width = page.border_width()
+        max_box_height = page.border_height()
+        self.sizes = (margin_top, margin_bottom, margin_left, margin_right, max_box_width,
+                      max_box_height)
+        page_end_x = margin_left + max_box_width
+        page_end_y = margin_top + max_box_height
+        # Each side's (containing block, position_x, position_y), each corner's
+        # (width, height, position_x, position_y), as weasyprint places them.
+        self.side_places = (((max_box_width, margin_top), margin_left, 0),
+                            ((max_box_width, margin_bottom), margin_left, page_end_y),
+                            ((margin_left, max_box_height), 0, margin_top),
+                            ((margin_right, max_box_height), page_end_x, margin_top))
+        self.corner_places = ((margin_left, margin_top, 0, 0),
+                              (margin_right, margin_top, page_end_x, 0),
+                              (margin_left, margin_bottom, 0, page_end_y),
+                              (margin_right, margin_bottom, page_end_x, page_end_y))
+        # Each margin box's containing block, in _KEYWORDS' order.
+        self.blocks = [place[0] for place in self.side_places for _ in range(3)]
+        self.blocks += [(width, height) for width, height, _, _ in self.corner_places]
+
+    def make_box(self, at_keyword, containing_block):
+        """weasyprint's make_box, with the style chosen beforehand."""
+        from weasyprint.formatting_structure import boxes, build
+
+        style = self.styles[at_keyword]
+        if style is None:
+            # doesn't affect counters
+            style = self.anonymous
+        self.standardize(style, at_keyword)
+        box = boxes.MarginBox(at_keyword, style)
+        box.is_generated = style["content"] not in _NOT_GENERATED
+        if box.is_generated:
+            # @margins mustn't manipulate page-context counters
+            context = self.context
+            margin_state = copy.deepcopy(self.state)
+            quote_depth, counter_values, counter_scopes, _page_groups = margin_state
+            counter_scopes.append(set())
+            build.update_counters(margin_state, box.style)
+            box.children = build.content_to_boxes(
+                box.style, box, quote_depth, counter_values,
+                context.get_image_from_uri, context.target_collector,
+                context.counter_style, context, self.page)
+            box.process_whitespace()
+            box.process_text_transform()
+            box = build.create_anonymous_boxes(box)
+        self.resolve_percentages(box, containing_block)
+        if not box.is_generated:
+            box.width = box.height = 0
+            for side in ("top", "right", "bottom", "left"):
+                box._reset_spacing(side)
+        return box
+
+    def build(self) -> list:
+        """The generated boxes built, in weasyprint's order, None for the others.
+
+        A box not generated has no size nor spacing (make_box), only its
+        style's counters put right: it is built (``lay_out``) only to lay the
+        others out."""
+        built = []
+        styles, anonymous, standardize = self.styles, self.anonymous, self.standardize
+        for at_keyword, containing_block in zip(_KEYWORDS, self.blocks):
+            style = styles[at_keyword] or anonymous
+            standardize(style, at_keyword)
+            if style["content"] in _NOT_GENERATED:
+                built.append(None)
+            else:
+                built.append(self.make_box(at_keyword, containing_block))
+        return built
+
+    def key(self, built: list) -> tuple:
+        """What the built boxes' layout depends on: the page's margins and
+        size, and each box's signature (False where none is generated);
+        raises _Uncacheable for a box the copies may not stand for."""
+        return (self.sizes,
+                tuple(False if box is None else
+                      _signature(box, (box.style, box.style.anonymous_style))
+                      for box in built))
+
+    def lay_out(self, built: list) -> list:
+        """The rest of weasyprint's make_margin_boxes: the boxes not generated
+        built, the boxes' sizes and places, then their content's layout."""
+        every = [self.make_box(at_keyword, containing_block) if box is None else box
+                 for box, at_keyword, containing_block in zip(built, _KEYWORDS, self.blocks)]
+        generated_boxes = self._placed_sides(every) + self._placed_corners(every)
+        layout = self.page_module.margin_box_content_layout
+        return [layout(self.context, self.page, box) for box in generated_boxes]
+
+    def _placed_sides(self, every: list) -> list:
+        """The generated boxes of the four sides, sized and placed, as
+        weasyprint does it: each side's three together."""
+        compute_variable_dimension = self.page_module.compute_variable_dimension
+        compute_fixed_dimension = self.page_module.compute_fixed_dimension
+        context = self.context
         generated_boxes = []
         for index, ((prefix, vertical, _), (containing_block, position_x, position_y)) in (
-                enumerate(zip(sides, side_places))):
+                enumerate(zip(_SIDES, self.side_places))):
             side_boxes = every[3 * index:3 * index + 3]
             if vertical:
                 fixed_outer, variable_outer = containing_block
@@ -420,8 +468,15 @@ def _make_margin_boxes(page_module, own):
                 compute_fixed_dimension(context, box, fixed_outer, not vertical,
                                         prefix in ("top", "left"))
                 generated_boxes.append(box)
+        return generated_boxes
+
+    def _placed_corners(self, every: list) -> list:
+        """The generated corner boxes, sized and placed, as weasyprint does it."""
+        compute_fixed_dimension = self.page_module.compute_fixed_dimension
+        context = self.context
+        generated_boxes = []
         for box, at_keyword, (cb_width, cb_height, position_x, position_y) in zip(
-                every[12:], corners, corner_places):
+                every[12:], _CORNERS, self.corner_places):
             if not box.is_generated:
                 continue
             box.position_x = position_x
@@ -429,8 +484,4 @@ def _make_margin_boxes(page_module, own):
             compute_fixed_dimension(context, box, cb_height, True, "top" in at_keyword)
             compute_fixed_dimension(context, box, cb_width, False, "left" in at_keyword)
             generated_boxes.append(box)
-        return [margin_box_content_layout(context, page, box) for box in generated_boxes]
-
-    make_margin_boxes.__doc__ = own.__doc__
-    make_margin_boxes._rcdoc_own = own
-    return make_margin_boxes
+        return generated_boxes
