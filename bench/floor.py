@@ -539,10 +539,10 @@ def section_render(tmp: Path, samples: int, k: int) -> None:
     if proc.returncode != 0:
         raise SystemExit(f"render failed:\n{proc.stderr[-3000:]}")
     r = json.loads(proc.stdout.strip().splitlines()[-1])
-    row("e", f"example note render, write_outputs, serial ({r['pages']} pages)", f"{r['note']:.1f} s CPU")
+    row("e", f"example note render, write_outputs, serial ({r['pages']} pages)", f"{r['note']:.2f} s CPU")
     row("e", f"floor: same PNGs, minimal HTML, weasyprint ({r['floor_pages']} pages)",
-        f"{r['floor']:.1f} s CPU")
-    row("e", "note render / floor   [target <= 2]", f"{r['note'] / r['floor']:.1f}x")
+        f"{r['floor']:.2f} s CPU")
+    row("e", "note render / floor   [target <= 2]", f"{r['note'] / r['floor']:.2f}x")
     row("e", "example note PDF size", f"{r['mb']:.2f} MB")
 
 

@@ -1,0 +1,103 @@
+"""Bench: the instructions the example note's render takes, this tree against a git
+revision, counted by valgrind's cachegrind.
+
+What it is for: CPU seconds of a render move by several percent between runs
+of the same code on a shared machine, more than most single changes to the
+renderer save; an instruction count moves by a few tenths of a percent. It is
+not a time (a zlib level or a cache miss costs differently from a Python
+bytecode), so a change that it shows is confirmed in seconds by section e of
+bench/floor.py; but it says at once whether a change to the renderer's short
+paths helps, and by how much.
+
+For each tree (REV exported with `git archive`, and this one), two fresh
+processes under cachegrind, PYTHONHASHSEED=0: one loads the example board and
+analyses and draws it (rcdoc.commands.build.analyse_project, serial), the
+other does the same and then writes the note (write_outputs). The render's
+instructions are the difference. Printed: both trees' counts and the ratio.
+Four processes of about a minute each; two run at once.
+
+Needs valgrind (Debian's valgrind package); writes only into a temporary folder.
+Run:  python bench/instructions.py [--against REV] [--samples N] [--board FILE]
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import re
+import shutil
+import subprocess
+import sys
+import tempfile
+from concurrent.futures import ThreadPoolExecutor
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+EXAMPLE = ROOT / "projects" / "greenhouse-controller.toml"
+
+# argv: tree, board, samples, out folder ("" to stop after the analysis).
+SCRIPT = r'''
+import sys
+from pathlib import Path
+sys.path.insert(0, sys.argv[1])
+from rcdoc.commands.build import analyse_project, write_outputs
+from rcdoc.commands.collector import tune
+from rcdoc.kinds import load_project
+tune()
+project = load_project(sys.argv[2], samples=int(sys.argv[3]))
+outcome = analyse_project(project, jobs=1, draw=True)
+if sys.argv[4]:
+    write_outputs(outcome, Path(sys.argv[4]))
+'''
+
+
+def export(rev: str, into: Path) -> Path:
+    """The rcdoc package and templates of git revision ``rev``, in ``into``."""
+    archive = subprocess.run(["git", "-C", str(ROOT), "archive", rev, "rcdoc", "templates"],
+                             check=True, capture_output=True).stdout
+    into.mkdir(parents=True, exist_ok=True)
+    subprocess.run(["tar", "-x", "-C", str(into)], input=archive, check=True)
+    return into
+
+
+def count(tree: Path, board: Path, samples: int, out: str) -> int:
+    """Instructions of one process (cachegrind's "I refs")."""
+    env = dict(os.environ, PYTHONHASHSEED="0", PYTHONPATH=str(tree))
+    proc = subprocess.run(
+        ["valgrind", "--tool=cachegrind", "--cache-sim=no", "--cachegrind-out-file=/dev/null",
+         sys.executable, "-c", SCRIPT, str(tree), str(board), str(samples), out],
+        capture_output=True, text=True, env=env, cwd=tree)
+    found = re.search(r"I\s+refs:\s+([\d,]+)", proc.stderr)
+    if proc.returncode != 0 or found is None:
+        raise SystemExit(f"the run under cachegrind failed:\n{proc.stderr[-3000:]}")
+    return int(found.group(1).replace(",", ""))
+
+
+def main(argv=None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--against", default="HEAD", help="git revision to compare with (HEAD)")
+    ap.add_argument("--samples", type=int, default=200)
+    ap.add_argument("--board", default=str(EXAMPLE))
+    args = ap.parse_args(argv)
+    if shutil.which("valgrind") is None:
+        raise SystemExit("valgrind is not installed (Debian: apt-get install valgrind)")
+    board = Path(args.board).resolve()
+    with tempfile.TemporaryDirectory(prefix="rcdoc-instructions-") as tmp:
+        trees = {args.against: export(args.against, Path(tmp) / "rev"), "this tree": ROOT}
+        jobs = [(name, tree, out) for name, tree in trees.items()
+                for out in ("", str(Path(tmp) / f"out-{len(name)}-{tree.name}"))]
+        with ThreadPoolExecutor(max_workers=2) as pool:
+            counts = list(pool.map(lambda job: count(job[1], board, args.samples, job[2]), jobs))
+    render = {}
+    for (name, _, out), n in zip(jobs, counts):
+        render[name] = render.get(name, 0) + (n if out else -n)
+    print(f"{'tree':<24}{'render, instructions':>24}")
+    for name, n in render.items():
+        print(f"{name:<24}{n / 1e9:>22.3f} G")
+    rev, here = render[args.against], render["this tree"]
+    print(f"{args.against} / this tree: {rev / here:.3f}")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
