@@ -49,6 +49,7 @@ weasyprint's own, on the example board's note and on hostile HTML.
 from __future__ import annotations
 
 import struct
+from typing import Any, NamedTuple
 
 from rcdoc.note import renderer_libs  # noqa: F401 - weasyprint, without ctypes' library search
 import weasyprint  # noqa: E402 - after renderer_libs
@@ -162,6 +163,25 @@ def _box_backgrounds(background):
     return layout_box_backgrounds
 
 
+# PangoGlyphInfo: glyph (guint32), geometry (width, x_offset, y_offset: gint32),
+# attr (a guint of bit fields, not read).
+_GLYPH_INFO = struct.Struct("=8sii4x")      # glyph and width as one key
+_UNPACK_GLYPHS = _GLYPH_INFO.iter_unpack
+_GLYPH_AND_WIDTH = struct.Struct("=Ii").unpack
+_LAST = 2 ** 16 - 1             # the greatest glyph number for a missing character
+
+
+class _Needs(NamedTuple):
+    """What writing a run's glyphs reads from weasyprint's draw.text module and
+    Pango, read once by _first_line; a tuple, unpacked into locals once a run."""
+    buffer: Any         # ffi.buffer
+    pango: Any
+    empty: int          # PANGO_GLYPH_EMPTY
+    unknown: int        # PANGO_GLYPH_UNKNOWN_FLAG
+    from_units: float
+    logger: Any
+
+
 def _first_line(text):
     """draw.text.draw_first_line with each run's glyphs unpacked at once, or
     None where Pango's glyph structure is not the one unpacked here."""
@@ -169,20 +189,15 @@ def _first_line(text):
     from weasyprint.text.fonts import get_pango_font_key
 
     general = text.draw_first_line
-    ffi, pango, LOGGER, FROM_UNITS = text.ffi, text.pango, text.LOGGER, text.FROM_UNITS
-    # PangoGlyphInfo: glyph (guint32), geometry (width, x_offset, y_offset: gint32),
-    # attr (a guint of bit fields, not read).
-    glyph_info = struct.Struct("=8sii4x")      # glyph and width as one key
-    size = glyph_info.size
-    if (ffi.sizeof("PangoGlyphInfo") != size or ffi.offsetof("PangoGlyphInfo", "geometry") != 4
+    ffi, pango = text.ffi, text.pango
+    if (ffi.sizeof("PangoGlyphInfo") != _GLYPH_INFO.size
+            or ffi.offsetof("PangoGlyphInfo", "geometry") != 4
             or ffi.sizeof("PangoGlyph") != 4 or ffi.sizeof("PangoGlyphUnit") != 4):
         return None
-    unpack = glyph_info.iter_unpack
-    glyph_and_width_of = struct.Struct("=Ii").unpack
-    NULL = ffi.NULL
-    EMPTY, UNKNOWN = pango.PANGO_GLYPH_EMPTY, pango.PANGO_GLYPH_UNKNOWN_FLAG
-    assert EMPTY + 1 == UNKNOWN     # below EMPTY: neither (one test per glyph)
-    LAST = 2 ** 16 - 1              # the greatest glyph number for a missing character
+    needs = _Needs(ffi.buffer, pango, pango.PANGO_GLYPH_EMPTY,
+                   pango.PANGO_GLYPH_UNKNOWN_FLAG, text.FROM_UNITS, text.LOGGER)
+    assert needs.empty + 1 == needs.unknown     # below EMPTY: neither (one test per glyph)
+    null = ffi.NULL
     old_pango = pango.pango_version() < 14802
     add_font = Stream.add_font
 
@@ -198,156 +213,197 @@ def _first_line(text):
         layout = textbox.pango_layout
         pango.pango_layout_set_single_paragraph_mode(layout.layout, True)
         first_line, _ = layout.get_first_line()
-
         # The runs and their fonts, before anything is written: where a line is
         # drawn the general way, nothing has been done twice (setting the mode and
         # reading the first line again change nothing).
-        fonts = stream._fonts
-        runs = []
-        previous = None
-        run = first_line.runs[0]
-        while run != NULL:
-            glyph_item = run.data
-            run = run.next
-            pango_font = glyph_item.item.analysis.font
-            if pango_font == previous:
-                runs.append((glyph_item, None, None, 0))
-                continue
-            previous = pango_font
-            if runs:
-                key, _, font_size = get_pango_font_key(pango_font)
-                font = fonts.get(key)
-                if font is None:        # made here, its log records would come early
-                    return general(stream, textbox, text_overflow, block_ellipsis, matrix)
-            else:                       # the first thing the general code does too
-                font, font_size = stream.add_font(pango_font)
-            if font.bitmap or font.png or font.svg or font.colr:
-                return general(stream, textbox, text_overflow, block_ellipsis, matrix)
-            if old_pango:
-                font_size = style["font_size"]
-            runs.append((glyph_item, pango_font, font, font_size))
-
-        stream.set_text_matrix(*matrix.values)
-        string = ""
-        utf8_text = None
-        for glyph_item, new_pango_font, new_font, new_size in runs:
-            if new_pango_font is not None:
-                pango_font, font, font_size = new_pango_font, new_font, new_size
-                widths, to_unicode = font.widths, font.to_unicode
-                kept = font.__dict__.get("_rcdoc_operators")
-                if kept is None:
-                    kept = font.__dict__["_rcdoc_operators"] = {}
-                operators = kept.get(font_size)
-                if operators is None:
-                    operators = kept[font_size] = {}
-                known = operators.get
-                if string:
-                    stream.show_text(string)
-                string = ""
-                stream.set_font_size(font.hash, font_size)
-            glyph_string = glyph_item.glyphs
-            num_glyphs = glyph_string.num_glyphs
-            clusters = None
-            parts = [string, "<"]
-            append = parts.append
-            glyphs = unpack(ffi.buffer(glyph_string.glyphs, num_glyphs * size)) \
-                if num_glyphs > 0 else ()
-            for i, (glyph_and_width, x_offset, y_offset) in enumerate(glyphs):
-                if not (x_offset or y_offset):
-                    # Drawn before by this font at this size, with this width.
-                    written = known(glyph_and_width)
-                    if written is not None:
-                        append(written)
-                        continue
-                glyph_id, width = glyph_and_width_of(glyph_and_width)
-                # Its width and text are the font's for good once drawn: its
-                # operators are kept. Not for a missing character (the general
-                # code logs each, and writes over the width of its glyph number,
-                # one past the font's glyphs or 65535 at most), nor with offsets.
-                keep = glyph_id < LAST and not (x_offset or y_offset)
-                if glyph_id >= EMPTY:
-                    # Display zero-width empty glyph.
-                    if glyph_id == EMPTY:
-                        append(f">{-width / font_size}<")
-                        continue
-                    # Display .notdef and log warning for missing glyphs.
-                    if glyph_id & UNKNOWN:
-                        codepoint = glyph_id - UNKNOWN
-                        LOGGER.warning(
-                            '.notdef glyph rendered for Unicode string unsupported by '
-                            'fonts: "%s" (U+%04X)', chr(codepoint), codepoint)
-                        glyph_id = font.get_unused_glyph_id(codepoint)
-                        widths[glyph_id] = round(width * 1000 * FROM_UNITS / font_size)
-                        if 0 not in widths:
-                            widths[0] = widths[glyph_id]
-
-                # The glyph's text, for the ToUnicode map: the first time the font
-                # draws the glyph (the same bytes the general code slices).
-                if glyph_id not in to_unicode:
-                    item = glyph_item.item
-                    if clusters is None:
-                        clusters = ffi.unpack(glyph_string.log_clusters, num_glyphs)
-                    t1 = clusters[i]
-                    if item.analysis.level % 2:  # rtl
-                        t2 = item.length if i == 0 else clusters[i - 1]
-                    else:
-                        t2 = item.length if i == num_glyphs - 1 else clusters[i + 1]
-                    if not utf8_text:
-                        utf8_text = layout.text.encode()
-                    offset = item.offset
-                    to_unicode[glyph_id] = utf8_text[offset + t1:offset + t2].decode()
-
-                offset = x_offset / font_size
-                if y_offset:
-                    # Raised or lowered (marks): its own text operators, as the
-                    # general code writes them.
-                    rise = y_offset / 1000
-                    string = "".join(parts)
-                    if string[-1] == "<":
-                        string = string[:-1]
-                    else:
-                        string += ">"
-                    if string:
-                        stream.show_text(string)
-                    stream.set_text_rise(-rise)
-                    string = ""
-                    if offset:
-                        string = f"{-offset}"
-                    string += f"<{glyph_id:04x}>"
-                    stream.show_text(string)
-                    stream.set_text_rise(0)
-                    parts = ["<"]
-                    append = parts.append
-                    written = ""
-                else:
-                    written = f">{-offset}<{glyph_id:04x}" if offset else f"{glyph_id:04x}"
-
-                # Get glyph logical widths.
-                logical_width = widths.get(glyph_id)
-                if logical_width is None:
-                    pango.pango_font_get_glyph_extents(
-                        pango_font, glyph_id, stream.ink_rect, stream.logical_rect)
-                    logical_width = widths[glyph_id] = round(
-                        stream.logical_rect.width * 1000 * FROM_UNITS / font_size)
-
-                # Set kerning, word spacing, letter spacing.
-                kerning = logical_width + offset - width * 1000 * FROM_UNITS / font_size
-                if kerning:
-                    written += f">{int(kerning)}<"
-                append(written)
-                # (The x advance the general code adds up is read by emoji alone.)
-                if keep:
-                    operators[glyph_and_width] = written
-
-            # Close the last glyphs list, remove if empty.
-            string = "".join(parts)
-            if string[-1] == "<":
-                string = string[:-1]
-            else:
-                string += ">"
-
-        stream.show_text(string)
+        runs = _line_runs(stream, first_line, style, null, old_pango, get_pango_font_key)
+        if runs is None:
+            return general(stream, textbox, text_overflow, block_ellipsis, matrix)
+        _write_runs(stream, runs, layout, matrix, needs)
         return []
 
     draw_first_line.__doc__ = general.__doc__
     return draw_first_line
+
+
+def _line_runs(stream, first_line, style, null, old_pango, get_pango_font_key):
+    """A line's runs, as (glyph item, Pango font, font, font size), the fonts
+    given where they change (None and 0 in a run drawn in the one before's); or
+    None where the line is to be drawn the general way (a font drawn from
+    images or a bitmap font, or, after the first run, a font the document has
+    not used yet). The first run's font is added to the stream, the first
+    thing the general code does too."""
+    fonts = stream._fonts
+    runs = []
+    previous = None
+    run = first_line.runs[0]
+    while run != null:
+        glyph_item = run.data
+        run = run.next
+        pango_font = glyph_item.item.analysis.font
+        if pango_font == previous:
+            runs.append((glyph_item, None, None, 0))
+            continue
+        previous = pango_font
+        if runs:
+            key, _, font_size = get_pango_font_key(pango_font)
+            font = fonts.get(key)
+            if font is None:        # made here, its log records would come early
+                return None
+        else:
+            font, font_size = stream.add_font(pango_font)
+        if font.bitmap or font.png or font.svg or font.colr:
+            return None
+        if old_pango:
+            font_size = style["font_size"]
+        runs.append((glyph_item, pango_font, font, font_size))
+    return runs
+
+
+def _write_runs(stream, runs, layout, matrix, needs):
+    """Writes a line's runs (from _line_runs) to the stream: its text matrix,
+    each font and size where it changes, and the glyphs' text operators, shown
+    in the general code's calls."""
+    stream.set_text_matrix(*matrix.values)
+    string = ""
+    for glyph_item, new_pango_font, new_font, new_size in runs:
+        if new_pango_font is not None:
+            # The operators kept for this font at this size (see _write_run).
+            kept = new_font.__dict__.get("_rcdoc_operators")
+            if kept is None:
+                kept = new_font.__dict__["_rcdoc_operators"] = {}
+            operators = kept.get(new_size)
+            if operators is None:
+                operators = kept[new_size] = {}
+            face = (new_pango_font, new_font, new_size, new_font.widths,
+                    new_font.to_unicode, operators)
+            if string:
+                stream.show_text(string)
+            string = ""
+            stream.set_font_size(new_font.hash, new_size)
+        string = _write_run(stream, glyph_item, string, face, layout, needs)
+    stream.show_text(string)
+
+
+def _write_run(stream, glyph_item, string, face, layout, needs):
+    """Writes one run's glyphs, in ``face`` (Pango font, font, size, the font's
+    widths and ToUnicode text, the operators kept): returns the text operators
+    still to show, ``string`` (what came before, in the same font) followed by
+    the run's glyph lists; what comes before a raised or lowered glyph is shown
+    with it."""
+    pango_font, font, font_size, widths, to_unicode, operators = face
+    buffer, pango, EMPTY, UNKNOWN, FROM_UNITS, LOGGER = needs
+    known = operators.get
+    glyph_and_width_of, LAST = _GLYPH_AND_WIDTH, _LAST     # locals in the loop
+    glyph_string = glyph_item.glyphs
+    num_glyphs = glyph_string.num_glyphs
+    parts = [string, "<"]
+    append = parts.append
+    glyphs = _UNPACK_GLYPHS(buffer(glyph_string.glyphs, num_glyphs * _GLYPH_INFO.size)) \
+        if num_glyphs > 0 else ()
+    for i, (glyph_and_width, x_offset, y_offset) in enumerate(glyphs):
+        if not (x_offset or y_offset):
+            # Drawn before by this font at this size, with this width.
+            written = known(glyph_and_width)
+            if written is not None:
+                append(written)
+                continue
+        glyph_id, width = glyph_and_width_of(glyph_and_width)
+        # Its width and text are the font's for good once drawn: its operators
+        # are kept. Not for a missing character (the general code logs each,
+        # and writes over the width of its glyph number, one past the font's
+        # glyphs or 65535 at most), nor with offsets.
+        keep = glyph_id < LAST and not (x_offset or y_offset)
+        if glyph_id >= EMPTY:
+            # Display zero-width empty glyph.
+            if glyph_id == EMPTY:
+                append(f">{-width / font_size}<")
+                continue
+            # Display .notdef and log warning for missing glyphs.
+            if glyph_id & UNKNOWN:
+                glyph_id = _notdef(font, widths, glyph_id - UNKNOWN, width, font_size,
+                                   FROM_UNITS, LOGGER)
+        if glyph_id not in to_unicode:
+            to_unicode[glyph_id] = _glyph_text(glyph_item, i, layout)
+        offset = x_offset / font_size
+        if y_offset:
+            _show_raised(stream, parts, glyph_id, offset, y_offset)
+            written = ""
+        else:
+            written = f">{-offset}<{glyph_id:04x}" if offset else f"{glyph_id:04x}"
+
+        # Get glyph logical widths.
+        logical_width = widths.get(glyph_id)
+        if logical_width is None:
+            pango.pango_font_get_glyph_extents(
+                pango_font, glyph_id, stream.ink_rect, stream.logical_rect)
+            logical_width = widths[glyph_id] = round(
+                stream.logical_rect.width * 1000 * FROM_UNITS / font_size)
+
+        # Set kerning, word spacing, letter spacing.
+        kerning = logical_width + offset - width * 1000 * FROM_UNITS / font_size
+        if kerning:
+            written += f">{int(kerning)}<"
+        append(written)
+        # (The x advance the general code adds up is read by emoji alone.)
+        if keep:
+            operators[glyph_and_width] = written
+    return _closed(parts)
+
+
+def _notdef(font, widths, codepoint, width, font_size, from_units, logger):
+    """The glyph number a character no font has is drawn with (.notdef), as the
+    general code gives it: the character logged, the glyph's width recorded in
+    the font's ``widths`` (and as glyph 0's if that has none)."""
+    logger.warning(
+        '.notdef glyph rendered for Unicode string unsupported by '
+        'fonts: "%s" (U+%04X)', chr(codepoint), codepoint)
+    glyph_id = font.get_unused_glyph_id(codepoint)
+    widths[glyph_id] = round(width * 1000 * from_units / font_size)
+    if 0 not in widths:
+        widths[0] = widths[glyph_id]
+    return glyph_id
+
+
+def _glyph_text(glyph_item, i, layout):
+    """The text the run's glyph ``i`` draws, for the font's ToUnicode map, the
+    first time the font draws the glyph: the bytes the general code slices
+    from the layout's UTF-8 text, from the glyph's cluster to the next one
+    (the one before, right to left) or the run's end."""
+    item = glyph_item.item
+    glyph_string = glyph_item.glyphs
+    clusters = glyph_string.log_clusters
+    t1 = clusters[i]
+    if item.analysis.level % 2:  # rtl
+        t2 = item.length if i == 0 else clusters[i - 1]
+    else:
+        t2 = item.length if i == glyph_string.num_glyphs - 1 else clusters[i + 1]
+    offset = item.offset
+    return layout.text.encode()[offset + t1:offset + t2].decode()
+
+
+def _show_raised(stream, parts, glyph_id, offset, y_offset):
+    """Shows a raised or lowered glyph (a mark) with its own text operators, as
+    the general code writes them, after showing the glyph lists before it
+    (``parts``, left holding a new, empty list)."""
+    rise = y_offset / 1000
+    string = _closed(parts)
+    if string:
+        stream.show_text(string)
+    stream.set_text_rise(-rise)
+    string = ""
+    if offset:
+        string = f"{-offset}"
+    string += f"<{glyph_id:04x}>"
+    stream.show_text(string)
+    stream.set_text_rise(0)
+    parts[:] = ["<"]
+
+
+def _closed(parts):
+    """``parts`` (operators, then glyph lists, the last one open) as one string,
+    the last list closed, or removed if empty."""
+    string = "".join(parts)
+    if string[-1] == "<":
+        return string[:-1]
+    return string + ">"
