@@ -24,6 +24,7 @@ from weasyprint.css.properties import INITIAL_VALUES
 
 from rcdoc.note import assemble, fast_layout, fast_margins, report
 from test_report import EPOCH, make_context
+from weasyprint_own import general  # noqa: F401 - general: a fixture
 
 # Every feature the short paths treat apart, at extremes a template may use:
 # percentages of an auto height, calc() and min(), lengths decades apart,
@@ -78,16 +79,6 @@ _LENGTHS = ("position_x", "position_y", "width", "height", "min_width", "max_wid
             "margin_left", "padding_top", "padding_right", "padding_bottom", "padding_left",
             "border_top_width", "border_right_width", "border_bottom_width",
             "border_left_width")
-
-
-@pytest.fixture()
-def general():
-    """weasyprint's own functions for the test; the short paths back after it."""
-    was = fast_layout.installed()
-    fast_layout.uninstall()
-    yield
-    if was:
-        fast_layout.install()
 
 
 def _boxes(document) -> list[tuple]:

@@ -25,19 +25,9 @@ import weasyprint
 
 from rcdoc.note import assemble, fast_layout, fast_paint
 from test_report import EPOCH, make_context
+from weasyprint_own import LogRecords, counted, general  # noqa: F401 - general: a fixture
 
 _NAMES = ("layout_box_backgrounds", "draw_first_line")
-
-
-@pytest.fixture()
-def general():
-    """weasyprint's own functions for the test (fast_layout may install these
-    short paths too); the short paths back after it."""
-    was = fast_layout.installed()
-    fast_layout.uninstall()
-    yield
-    if was:
-        fast_layout.install()
 
 
 def _owners():
@@ -56,40 +46,25 @@ def _fast_paths():
     own = {name: owner.__dict__[name] for name, owner in owners.items()}
     counts = collections.Counter()
 
-    def counted(function, key):
-        def wrapper(*args, **kwargs):
-            counts[key] += 1
-            return function(*args, **kwargs)
-        return wrapper
-
     try:
         for name, owner in owners.items():
-            setattr(owner, name, counted(own[name], f"{name} general"))
+            setattr(owner, name, counted(counts, own[name], f"{name} general"))
         replaced = fast_paint.replacements()
         assert sorted(name for _, name, _ in replaced) == sorted(_NAMES)
         for owner, name, new in replaced:
             assert owner is owners[name]
-            setattr(owner, name, counted(new, name))
+            setattr(owner, name, counted(counts, new, name))
         yield counts
     finally:
         for name, owner in owners.items():
             setattr(owner, name, own[name])
 
 
-class _Records(logging.Handler):
-    def __init__(self):
-        super().__init__(logging.DEBUG)
-        self.seen = []
-
-    def emit(self, record):
-        self.seen.append((record.levelname, record.getMessage()))
-
-
 def _render(html: str, base_url: str | None = None):
     """The PDF (written twice: the second writing finds the fonts' kept
     operators), each box's background attributes, and weasyprint's log records."""
     logger = logging.getLogger("weasyprint")
-    records = _Records()
+    records = LogRecords()
     logger.addHandler(records)
     try:
         document = weasyprint.HTML(string=html, base_url=base_url).render()

@@ -25,20 +25,10 @@ import weasyprint
 
 from rcdoc.note import assemble, fast_layout, fast_tables
 from test_report import EPOCH, make_context
+from weasyprint_own import LogRecords, counted, general  # noqa: F401 - general: a fixture
 
 _NAME = "collapse_table_borders"
 _SIDES = ("top", "right", "bottom", "left")
-
-
-@pytest.fixture()
-def general():
-    """weasyprint's own functions for the test (fast_layout may install this
-    short path too); the short paths back after it."""
-    was = fast_layout.installed()
-    fast_layout.uninstall()
-    yield
-    if was:
-        fast_layout.install()
 
 
 def _modules():
@@ -57,38 +47,23 @@ def _short_path():
     assert build.__dict__[_NAME] is own
     counts = collections.Counter()
 
-    def counted(function, key):
-        def wrapper(*args, **kwargs):
-            counts[key] += 1
-            return function(*args, **kwargs)
-        return wrapper
-
     try:
         # The short path takes weasyprint's own as it finds it: counted.
-        table.collapse_table_borders = build.collapse_table_borders = counted(own, "general")
+        table.collapse_table_borders = build.collapse_table_borders = counted(counts, own, "general")
         replaced = fast_tables.replacements()
         assert {(owner, name) for owner, name, _ in replaced} == {(table, _NAME), (build, _NAME)}
         for owner, name, new in replaced:
-            setattr(owner, name, counted(new, "short"))
+            setattr(owner, name, counted(counts, new, "short"))
         yield counts
     finally:
         table.collapse_table_borders = build.collapse_table_borders = own
-
-
-class _Records(logging.Handler):
-    def __init__(self):
-        super().__init__(logging.DEBUG)
-        self.seen = []
-
-    def emit(self, record):
-        self.seen.append((record.levelname, record.getMessage()))
 
 
 def _render(html: str):
     """The PDF, every box's border attributes (and each table's grid), and
     weasyprint's log records."""
     logger = logging.getLogger("weasyprint")
-    records = _Records()
+    records = LogRecords()
     logger.addHandler(records)
     try:
         document = weasyprint.HTML(string=html).render()

@@ -1,0 +1,43 @@
+"""What the tests of the renderer's short paths (rcdoc.note.fast_layout and the
+modules it installs: fast_paint, fast_margins, fast_tables) share: weasyprint's
+own functions put back for a test, a counter of calls, and weasyprint's log
+records gathered (the short paths must log what weasyprint's own code logs, in
+the same order)."""
+
+from __future__ import annotations
+
+import logging
+
+import pytest
+
+from rcdoc.note import fast_layout
+
+
+@pytest.fixture()
+def general():
+    """weasyprint's own functions for the test (fast_layout may have installed
+    the short paths); the short paths back after it."""
+    was = fast_layout.installed()
+    fast_layout.uninstall()
+    yield
+    if was:
+        fast_layout.install()
+
+
+def counted(counts, function, key):
+    """``function``, adding one to ``counts[key]`` at each call."""
+    def wrapper(*args, **kwargs):
+        counts[key] += 1
+        return function(*args, **kwargs)
+    return wrapper
+
+
+class LogRecords(logging.Handler):
+    """The (level, message) of every record logged to it, in order."""
+
+    def __init__(self):
+        super().__init__(logging.DEBUG)
+        self.seen = []
+
+    def emit(self, record):
+        self.seen.append((record.levelname, record.getMessage()))
