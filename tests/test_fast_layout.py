@@ -24,7 +24,7 @@ from weasyprint.css.properties import INITIAL_VALUES
 
 from rcdoc.note import assemble, fast_layout, fast_margins, report
 from test_report import EPOCH, make_context
-from weasyprint_own import general  # noqa: F401 - general: a fixture
+from weasyprint_own import general, note_parts, render_parts  # noqa: F401 - general: a fixture
 
 # Every feature the short paths treat apart, at extremes a template may use:
 # percentages of an auto height, calc() and min(), lengths decades apart,
@@ -197,12 +197,10 @@ def test_flow_tests_are_weasyprints_own(general):
 def test_parts_and_whole_note_are_the_same_bytes_as_with_weasyprints_own(
         general, monkeypatch, tmp_path):
     ctx = make_context()          # a failing snubber: its caution box holds a list
-    parts = [("front", ctx), ("stage", {**assemble._head(ctx), "stages": ctx["stages"]}),
-             ("appendix", assemble.appendix_context(ctx, ctx["appendix"]))]
-    kw = dict(source_date_epoch=EPOCH)
+    parts = note_parts(ctx)
 
     def render(name):
-        out = [assemble.render_part(c, p, **kw) for p, c in parts]
+        out = render_parts(parts)
         report.render_document(ctx, tmp_path / name, source_date_epoch=EPOCH)
         return out
 

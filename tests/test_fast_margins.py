@@ -22,8 +22,9 @@ import weasyprint
 from weasyprint.css.computed_values import PHYSICAL_FUNCTIONS
 from weasyprint.css.properties import INITIAL_VALUES
 
-from rcdoc.note import assemble, fast_layout, fast_margins, report
+from rcdoc.note import fast_layout, fast_margins, report
 from test_report import EPOCH, _stage, make_context
+from weasyprint_own import note_parts, render_parts
 
 _IMAGE = ("data:image/svg+xml,%3Csvg xmlns='http://www.w3.org/2000/svg' width='8' "
           "height='8'%3E%3Crect width='8' height='8' fill='red'/%3E%3C/svg%3E")
@@ -261,13 +262,10 @@ def test_note_parts_and_whole_note_are_the_same_bytes_and_reused(
     # A stage of four stages' blocks: pages that show the same running heads.
     blocks = [block for i in range(4) for block in _stage(f"long{i}", "", "pass")["blocks"]]
     long = {**_stage("long", "A long stage", "pass"), "blocks": blocks}
-    parts = [("front", ctx), ("stage", {**assemble._head(ctx), "stages": ctx["stages"]}),
-             ("stage", {**assemble._head(ctx), "stages": [long]}),
-             ("appendix", assemble.appendix_context(ctx, ctx["appendix"]))]
-    kw = dict(source_date_epoch=EPOCH)
+    parts = note_parts(ctx, long)
 
     def render(name):
-        out = [assemble.render_part(c, p, **kw) for p, c in parts]
+        out = render_parts(parts)
         report.render_document(ctx, tmp_path / name, source_date_epoch=EPOCH)
         return out
 

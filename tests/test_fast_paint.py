@@ -23,9 +23,9 @@ import sys
 import pytest
 import weasyprint
 
-from rcdoc.note import assemble, fast_layout, fast_paint
-from test_report import EPOCH, make_context
-from weasyprint_own import LogRecords, counted, general  # noqa: F401 - general: a fixture
+from rcdoc.note import fast_layout, fast_paint
+from test_report import make_context
+from weasyprint_own import LogRecords, counted, general, note_parts, render_parts  # noqa: F401 - general: a fixture
 
 _NAMES = ("layout_box_backgrounds", "draw_first_line")
 
@@ -334,12 +334,10 @@ def test_lines_with_glyphs_drawn_as_images_are_weasyprints_own(general, tmp_path
 @pytest.mark.slow
 def test_example_note_parts_are_weasyprints_own_and_take_the_short_paths(
         general, monkeypatch):
-    ctx = make_context()
-    parts = [("front", ctx), ("stage", {**assemble._head(ctx), "stages": ctx["stages"]}),
-             ("appendix", assemble.appendix_context(ctx, ctx["appendix"]))]
+    parts = note_parts(make_context())
 
     def render():
-        return [assemble.render_part(c, p, source_date_epoch=EPOCH) for p, c in parts]
+        return render_parts(parts)
 
     install = fast_layout.install
     monkeypatch.setattr(fast_layout, "install", lambda: False)   # the renderer asks

@@ -23,9 +23,9 @@ import sys
 import pytest
 import weasyprint
 
-from rcdoc.note import assemble, fast_layout, fast_tables
-from test_report import EPOCH, make_context
-from weasyprint_own import LogRecords, counted, general  # noqa: F401 - general: a fixture
+from rcdoc.note import fast_layout, fast_tables
+from test_report import make_context
+from weasyprint_own import LogRecords, counted, general, note_parts, render_parts  # noqa: F401 - general: a fixture
 
 _NAME = "collapse_table_borders"
 _SIDES = ("top", "right", "bottom", "left")
@@ -456,12 +456,10 @@ def test_example_note_parts_are_weasyprints_own_and_take_the_short_path(
         {"type": "table", "title": "Sweep", "columns": ["Point", "Requirement", "Worst",
                                                       "Verdict"], "rows": rows,
          "note": "Every point of the sweep."}]}
-    parts = [("front", ctx), ("stage", {**assemble._head(ctx), "stages": ctx["stages"]}),
-             ("stage", {**assemble._head(ctx), "stages": [long_stage]}),
-             ("appendix", assemble.appendix_context(ctx, ctx["appendix"]))]
+    parts = note_parts(ctx, long_stage)
 
     def render():
-        return [assemble.render_part(c, p, source_date_epoch=EPOCH) for p, c in parts]
+        return render_parts(parts)
 
     install = fast_layout.install
     monkeypatch.setattr(fast_layout, "install", lambda: False)   # the renderer asks

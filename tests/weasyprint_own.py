@@ -41,3 +41,22 @@ class LogRecords(logging.Handler):
 
     def emit(self, record):
         self.seen.append((record.levelname, record.getMessage()))
+
+
+def note_parts(ctx: dict, *stages: dict) -> list[tuple[str, dict]]:
+    """(part, context) of a note context's front matter, its stages in one part,
+    each of ``stages`` in a part of its own, and its appendix."""
+    from rcdoc.note import assemble
+    head = assemble._head(ctx)
+    return [("front", ctx), ("stage", {**head, "stages": ctx["stages"]}),
+            *(("stage", {**head, "stages": [stage]}) for stage in stages),
+            ("appendix", assemble.appendix_context(ctx, ctx["appendix"]))]
+
+
+def render_parts(parts: list[tuple[str, dict]]) -> list[dict]:
+    """Each of ``parts`` rendered (rcdoc.note.assemble.render_part), at the tests'
+    fixed date."""
+    from rcdoc.note import assemble
+    from test_report import EPOCH
+    return [assemble.render_part(context, part, source_date_epoch=EPOCH)
+            for part, context in parts]
