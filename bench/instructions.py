@@ -84,8 +84,9 @@ def main(argv=None) -> int:
     board = Path(args.board).resolve()
     with tempfile.TemporaryDirectory(prefix="rcdoc-instructions-") as tmp:
         trees = {args.against: export(args.against, Path(tmp) / "rev"), "this tree": ROOT}
-        jobs = [(name, tree, out) for name, tree in trees.items()
-                for out in ("", str(Path(tmp) / f"out-{len(name)}-{tree.name}"))]
+        # Per tree: the analysis alone ("" for no output folder), then with the render.
+        jobs = [(name, tree, out) for i, (name, tree) in enumerate(trees.items())
+                for out in ("", str(Path(tmp) / f"out-{i}"))]
         with ThreadPoolExecutor(max_workers=2) as pool:
             counts = list(pool.map(lambda job: count(job[1], board, args.samples, job[2]), jobs))
     render = {}
