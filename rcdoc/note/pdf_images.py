@@ -95,7 +95,7 @@ def _plain_rgb(extra) -> bool:
 def index_images(_document, pdf: pydyf.PDF) -> None:
     """weasyprint finisher: every opaque RGB image of at most 256 colours in
     ``pdf`` becomes an /Indexed image with the same pixels."""
-    table = np.zeros(1 << 24, dtype=np.uint8)
+    table = None         # 16 MiB: made only for a document with such an image
     for obj in pdf.objects:
         if not isinstance(obj, pydyf.Stream) or obj.compress or not _plain_rgb(obj.extra):
             continue
@@ -103,6 +103,8 @@ def index_images(_document, pdf: pydyf.PDF) -> None:
         if len(obj.stream) != 1:      # not one block of image data: leave it
             continue
         idat = pydyf._to_bytes(obj.stream[0])
+        if table is None:
+            table = np.zeros(1 << 24, dtype=np.uint8)
         done = indexed(width, height, idat, table)
         if done is None:
             continue
