@@ -110,3 +110,15 @@ def test_what_it_does_not_draw_exactly_is_left_to_weasyprint(svg):
     if svg.endswith("</svg>"):
         # pdf_images.svg_image then hands weasyprint's own SVG image to the cache.
         assert not isinstance(pdf_images.svg_image("rcdoc-figure:x", svg), svg_draw.PathFigure)
+
+
+def test_numbers_are_written_as_pydyf_writes_them():
+    # pydyf 0.13's _to_bytes, the reference: a whole float without a point (minus
+    # zero as "0"), any other with six decimals less its trailing zeros.
+    values = [0.0, -0.0, 5.0, -12.0, 1e-7, -1e-7, 0.1, -2.5, 123.4567891, 9.000000000000002,
+              1e15, 2.0 ** 60, 0.0000015, -99.9999996]
+    written = svg_draw._written(["%f"] * len(values), values).split(b"\n")
+    assert written == [pydyf._to_bytes(v) for v in values]
+    assert written[:6] == [b"0", b"0", b"5", b"-12", b"0.", b"-0."]
+    # Operators around the numbers stay as they are.
+    assert svg_draw._written(["0 0 m", "%f %f l", "h"], [1.5, -0.0]) == b"0 0 m\n1.5 0 l\nh"

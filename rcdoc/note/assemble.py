@@ -46,8 +46,9 @@ __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "
            "appendix_context", "front_context", "charts_context"]
 
 # Bump when what a part holds changes.
-# 2: charts as indexed images; 3: missing_glyphs; 4: streams at deflate level 6
-_PART_FORMAT = "rcdoc-note-part-4"
+# 2: charts as indexed images; 3: missing_glyphs; 4: streams at deflate level 6;
+# 5: a schematic's numbers written as pydyf writes them ("0", not "-0")
+_PART_FORMAT = "rcdoc-note-part-5"
 
 
 def can_assemble(template_dirs: Sequence[Path] = ()) -> bool:

@@ -39,17 +39,16 @@ _CAPS = {"round": 1, "square": 2}
 _JOINS = {"round": 1, "bevel": 2}
 
 
-# Numbers are written as pydyf writes them (6 decimals, no trailing zeros), all of a
-# shape at once: one "%f" formatting of the shape's numbers, then two substitutions
-# without group references (a number with no fraction left loses its point, then the
-# others their trailing zeros: "%f" writes exactly six decimals).
-_WHOLE = re.compile(r"\.000000(?=\s)")
-_ZEROS = re.compile("|".join(rf"(?<=\.\d{{{n}}})0{{1,{6 - n}}}(?=\s)" for n in range(1, 6)))
+# Numbers are written as pydyf 0.13 writes them (rcdoc's drawing hands pydyf the
+# operators as bytes): a whole number without a point ("-0.0" as "0"), any other
+# with six decimals less its trailing zeros ("0." for 1e-7). All of a shape's
+# numbers at once: its operators joined into one format, filled in one step.
 
 
 def _written(formats: list[str], numbers: list[float]) -> bytes:
-    text = "\n".join(formats) % tuple(numbers)
-    return _ZEROS.sub("", _WHOLE.sub("", text)).encode("ascii")
+    text = "\n".join(formats).replace("%f", "%s")
+    return (text % tuple([str(int(x)) if x.is_integer() else f"{x:f}".rstrip("0")
+                          for x in numbers])).encode("ascii")
 
 
 _LETTERS = re.compile(r"([MmLlHhVvCcQqAaZz])")
