@@ -28,9 +28,7 @@ percentages a twelfth, the flow tests a twenty-fifth):
   arithmetic on the containing block and the line's margins where there is no
   float to avoid (``context.excluded_shapes`` empty): done so for lines, each
   sum in weasyprint's order. (253 M instructions fewer, 1.2 %, as above.)
-- ``Box.is_in_normal_flow`` and ``Box.establishes_formatting_context`` ask
-  five methods for the box's float and position; here the two styles are read
-  once. ``text.line_break.strut`` (a line's height and baseline) is kept per style.
+- ``text.line_break.strut`` (a line's height and baseline) is kept per style.
 - ``layout.page.set_page_type_computed_styles`` made styles for every page
   and its 16 margin boxes, each computed property by property again (the page
   type holds the page's index); here a page type onto which the same @page
@@ -52,8 +50,13 @@ percentages a twelfth, the flow tests a twenty-fifth):
   as before. (For the example's note, 4 864 Pango layouts instead of 7 942;
   its render 2.39 s of CPU against 2.49 s, best of fourteen, interleaved.)
 
-Installed with these: fast_paint (backgrounds, a line's glyphs), fast_margins
-(running heads and feet) and fast_tables (collapsed borders), of rcdoc.note.
+Installed with these modules of rcdoc.note (``_COMPANIONS``): fast_cascade
+(selector matching kept per element signature), fast_paint
+(backgrounds, a line's glyphs), fast_margins (running heads and feet), fast_flow
+(the flow tests reading a box's float and position once),
+fast_tables (collapsed borders), fast_cells (a cell laid out once where an
+attempt was dropped), fast_collapse (adjoining margins), fast_stacking
+(stacking contexts without copies) and fast_write (pydyf's numbers and streams).
 
 What it must not do: change a value. ``install`` patches nothing for another
 weasyprint than 70.0 (those functions may differ there) and says so by
@@ -64,15 +67,17 @@ byte.
 
 from __future__ import annotations
 
+import importlib
+
 from rcdoc.note import renderer_libs  # noqa: F401 - weasyprint, without ctypes' library search
 import weasyprint  # noqa: E402 - after renderer_libs
 
 __all__ = ["install", "uninstall", "installed"]
-# Measured on the example board's stage parts (one process, interleaved, best of 3):
-# together with the shared font configuration (font_scratch) and the palette put in
-# place (note_html.inline_palette) a stage part renders in a fifth less CPU time.
-# Keeping the used lengths and struts per style: a 40-stage note's front matter 12-17 %
-# less CPU, a stage part 3-5 % (interleaved processes, best of 3, a busy machine).
+_COMPANIONS = ("fast_cascade", "fast_flow", "fast_paint", "fast_margins", "fast_tables",
+               "fast_cells", "fast_collapse", "fast_stacking", "fast_write")
+# Measured (interleaved, best of 3): with the shared font configuration and the palette
+# put in place, a stage part in a fifth less CPU time; used lengths and struts kept per
+# style, a 40-stage note's front matter 12-17 % less, a stage part 3-5 %.
 
 _VERSION = "70.0"
 _SAVED: list = []      # (owner, name, weasyprint's own) while installed
@@ -109,9 +114,7 @@ def _replacements() -> list:
     from weasyprint.layout import (absolute, block, column, float as floats, grid, inline,
                                    page, percent, table)
 
-    replaced = [(ComputedStyle, "__missing__", _computed_missing(ComputedStyle.__missing__)),
-                (boxes.Box, "is_in_normal_flow", _is_in_normal_flow),
-                (boxes.Box, "establishes_formatting_context", _establishes_context(boxes))]
+    replaced = [(ComputedStyle, "__missing__", _computed_missing(ComputedStyle.__missing__))]
     from weasyprint.text import line_break
     replaced.append((line_break.Layout, "setup", _layout_setup(line_break)))
     replaced.extend((line_break.Layout, name, function)
@@ -122,10 +125,8 @@ def _replacements() -> list:
         if module.__dict__.get("strut") is line_break.strut:
             replaced.append((module, "strut", kept_strut))
     replaced.append((page, "set_page_type_computed_styles", _shared_page_styles(page)))
-    from rcdoc.note import fast_margins, fast_paint, fast_tables
-    replaced.extend(fast_paint.replacements())      # backgrounds placed, text drawn
-    replaced.extend(fast_margins.replacements())    # running heads and feet copied
-    replaced.extend(fast_tables.replacements())     # collapsed borders resolved
+    for name in _COMPANIONS:        # modules of their own (see the module's docstring)
+        replaced.extend(importlib.import_module(f"rcdoc.note.{name}").replacements())
     from weasyprint.layout import flex, replaced as replaced_boxes
     shorter = {"resolve_percentages": (percent, _resolve_percentages(percent)),
                "avoid_collisions": (floats, _avoid_collisions(floats, boxes))}
@@ -459,35 +460,6 @@ def _kept_strut(general):
 
     strut.__doc__ = general.__doc__
     return strut
-
-
-_FLOATS = ("left", "right", "inline-start", "inline-end")
-_ABSOLUTE = ("absolute", "fixed")
-
-
-def _is_in_normal_flow(self):
-    """Return whether this box is in normal flow."""
-    style = self.style
-    floated = style["float"]
-    position = style["position"]
-    return not (floated in _FLOATS or position in _ABSOLUTE or position[0] == "running()"
-                or floated == "footnote" or position[0] == "note()")
-
-
-def _establishes_context(boxes):
-    """Box.establishes_formatting_context with the box's styles read once."""
-    BlockBox, BlockContainerBox = boxes.BlockBox, boxes.BlockContainerBox
-
-    def establishes_formatting_context(self):
-        style = self.style
-        return (style["float"] in _FLOATS or style["position"] in _ABSOLUTE
-                or self.is_column
-                or (isinstance(self, BlockContainerBox) and not isinstance(self, BlockBox))
-                or (isinstance(self, BlockBox) and style["overflow"] != "visible")
-                or "flow-root" in style["display"])
-
-    establishes_formatting_context.__doc__ = boxes.Box.establishes_formatting_context.__doc__
-    return establishes_formatting_context
 
 
 def _kept_contexts(line_break):
