@@ -148,6 +148,19 @@ def _path_ops(data: str) -> bytes | None:
     x = y = 0.0
     start = None
     for letter, *args in groups:
+        # The commands of outlined text, absolute and one segment each, first.
+        if letter == "Q" and len(args) == 4:
+            qx, qy, ex, ey = args
+            fmt.append("%f %f %f %f %f %f c")
+            out += (qx * 2 / 3 + x / 3, qy * 2 / 3 + y / 3,
+                    qx * 2 / 3 + ex / 3, qy * 2 / 3 + ey / 3, ex, ey)
+            x, y = ex, ey
+            continue
+        if letter == "L" and len(args) == 2:
+            fmt.append("%f %f l")
+            out += args
+            x, y = args
+            continue
         kind = letter.upper()
         need = _ARGS[kind]
         if need == 0:
