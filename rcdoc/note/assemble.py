@@ -47,7 +47,7 @@ __all__ = ["can_assemble", "templates_fingerprint", "chunk_key", "chunk_keys", "
 
 # Bump when what a part holds changes.
 # 2: charts as indexed images; 3: missing_glyphs; 4: streams at deflate level 6;
-# 5: a schematic's numbers written as pydyf writes them ("0", not "-0")
+# 5: a schematic's numbers written as pydyf writes them ("0", not "-0"), streams at level 4
 _PART_FORMAT = "rcdoc-note-part-5"
 
 
@@ -189,7 +189,7 @@ def render_part(context: Mapping, part: str, *, template_dirs: Sequence[Path] = 
     if fetcher is None:
         fetcher = _fetcher(template_dirs, project_dir)
     fast_layout.install()                   # weasyprint 70's short paths, same PDF
-    deflate.install()                       # page streams at zlib's default level
+    deflate.install()                       # page streams at deflate level 4
     ctx = {**context, "part": part}
     if part == "numbers":
         ctx["page_count"] = page_count

@@ -1,23 +1,28 @@
-"""The deflate level of the page streams weasyprint writes: zlib's default (6)
-instead of pydyf's 9.
+"""The deflate level of the page streams weasyprint writes: 4 instead of
+pydyf's 9.
 
 What it is for: pydyf 0.13 compresses every stream it writes (the pages'
 drawing operators, font programs, the ToUnicode maps) with
 ``zlib.compressobj(level=9)``. On the note's pages, text operators for the
-most part, level 9 looks much harder for matches for little gain: measured on
-the example board's note (its render, interleaved, best of four), level 6 took
-0.10 s less CPU of 2.33 s for a PDF 0.2 % larger (1 496 354 bytes against
-1 492 885); level 1 saved only 0.02 s more for a PDF 6 % larger.
+most part, the higher levels look much harder for matches for little gain.
+Measured on the streams of the example board's note (175 streams, 2.63 MB
+before compression; zlib alone, best of five, on a slow run of the machine):
+level 9 took 145 ms for 514 KB, level 6 (zlib's default, this module's
+level until then) 87 ms for 518 KB, level 5 59 ms for 524 KB, level 4 43 ms
+for 543 KB, level 3 38 ms for 576 KB, level 1 30 ms for 606 KB. Level 4, the
+lowest that still defers a match to look for a longer one, is the knee:
+half of level 6's time for a note 1.7 % larger (the charts' images, most of
+a note's bytes, are not compressed again: rcdoc.note.pdf_images hands their
+PNG rows over as they are).
 
 How: pydyf reads ``zlib`` from its module's namespace when a stream is
-written; ``install`` puts there a stand-in whose ``compressobj`` uses level 6
-where level 9 is asked and is zlib's own otherwise. The charts' images are not
-compressed again (rcdoc.note.pdf_images hands their PNG rows over as they are).
+written; ``install`` puts there a stand-in whose ``compressobj`` uses level
+``LEVEL`` where level 9 is asked and is zlib's own otherwise.
 
 What it must not do: change anything but the level (the same streams, read
 back, give the same bytes: tests/test_deflate.py) or touch zlib for any other
 module. A part's cache key names the format (rcdoc.note.assemble._PART_FORMAT),
-so parts written at the old level are not mixed with new ones.
+so parts written at another level are not mixed with new ones.
 """
 
 from __future__ import annotations
@@ -27,7 +32,7 @@ import zlib
 
 __all__ = ["LEVEL", "install", "installed", "uninstall"]
 
-LEVEL = 6
+LEVEL = 4
 _PYDYF_LEVEL = 9          # what pydyf 0.13's Stream.data asks for
 
 
@@ -42,7 +47,7 @@ _STAND_IN.compressobj = _compressobj
 
 
 def install() -> None:
-    """Level 6 for the streams pydyf writes from now on in this process."""
+    """Level ``LEVEL`` for the streams pydyf writes from now on in this process."""
     import pydyf
     pydyf.zlib = _STAND_IN
 

@@ -581,7 +581,7 @@ def render_document(context: dict, out_path: Path, *, template_dirs: Sequence[Pa
     html_class = note_html.html_class(template_dirs, search_path[-1])
     document = html_class(string=html, base_url=str(base) + os.sep, url_fetcher=fetcher)
     fast_layout.install()                   # weasyprint 70's short paths, same PDF
-    deflate.install()                       # page streams at zlib's default level
+    deflate.install()                       # page streams at deflate level 4
     pdf_id = pdf_identifier(str(board.get("name", "")), str(board.get("revision", "")))
 
     with _font_timestamp(source_date_epoch or 0), font_scratch.closed(project_dir) as fonts:
