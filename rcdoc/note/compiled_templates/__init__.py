@@ -37,7 +37,7 @@ TEMPLATES: dict[str, tuple[str, str]] = {
     '_overview.html': ('t__overview_html', '83a17aa31ded8e14913e0b1a7cc2c9be0a6f1453'),
     '_stage.html': ('t__stage_html', 'c3414c2b5b9f55f81cfc8cfbb8318e00e2e7bad3'),
     '_summary.html': ('t__summary_html', 'aa860ad7cb342551585e6c9b461a129abff76864'),
-    'note.css': ('t_note_css', '289f1d5ea488a09edd4b524fce2cbb4f2c9ab65e'),
+    'note.css': ('t_note_css', 'd2a5407e082202271c7726595f495d3bbcdb135d'),
     'note.html': ('t_note_html', 'f39b63a9f265a89edb2b86c18e69c44a6e6a3b36'),
 }
 # END GENERATED
