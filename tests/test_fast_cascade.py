@@ -30,7 +30,7 @@ from weasyprint.css.properties import INITIAL_VALUES
 
 from rcdoc.note import fast_cascade, fast_layout
 from test_report import make_context
-from weasyprint_own import LogRecords, counted, general, note_parts, render_parts  # noqa: F401 - general: a fixture
+from weasyprint_own import LogRecords, counted, general, long_table_stage, note_parts, render_parts  # noqa: F401 - general: a fixture
 
 
 def _css():
@@ -392,13 +392,7 @@ def test_example_note_parts_are_weasyprints_own(general, monkeypatch):
     ctx = make_context()
     # And a stage with a long table (striped rows, its last row bordered: the
     # note's :nth-child and :last-child rules), as the example board's sweeps give.
-    rows = [[f"point {i}", "≤ 1 dB", f"{i / 7:.2f} dB", "fail" if i % 9 == 4 else "pass"]
-            for i in range(70)]
-    long_stage = {**ctx["stages"][0], "id": "long", "blocks": [
-        {"type": "table", "title": "Sweep", "columns": ["Point", "Requirement", "Worst",
-                                                      "Verdict"], "rows": rows,
-         "note": "Every point of the sweep."}]}
-    parts = note_parts(ctx, long_stage)
+    parts = note_parts(ctx, long_table_stage(ctx))
 
     def render():
         with _Styled() as styled:

@@ -25,7 +25,7 @@ import weasyprint
 
 from rcdoc.note import fast_layout, fast_tables
 from test_report import make_context
-from weasyprint_own import LogRecords, counted, general, note_parts, render_parts  # noqa: F401 - general: a fixture
+from weasyprint_own import LogRecords, counted, general, long_table_stage, note_parts, render_parts  # noqa: F401 - general: a fixture
 
 _NAME = "collapse_table_borders"
 _SIDES = ("top", "right", "bottom", "left")
@@ -450,13 +450,7 @@ def test_example_note_parts_are_weasyprints_own_and_take_the_short_path(
     ctx = make_context()
     # And a stage with a long table (split over pages, striped, its last row
     # bordered), as the example board's sweeps give.
-    rows = [[f"point {i}", "≤ 1 dB", f"{i / 7:.2f} dB", "fail" if i % 9 == 4 else "pass"]
-            for i in range(70)]
-    long_stage = {**ctx["stages"][0], "id": "long", "blocks": [
-        {"type": "table", "title": "Sweep", "columns": ["Point", "Requirement", "Worst",
-                                                      "Verdict"], "rows": rows,
-         "note": "Every point of the sweep."}]}
-    parts = note_parts(ctx, long_stage)
+    parts = note_parts(ctx, long_table_stage(ctx))
 
     def render():
         return render_parts(parts)

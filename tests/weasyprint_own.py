@@ -43,6 +43,18 @@ class LogRecords(logging.Handler):
         self.seen.append((record.levelname, record.getMessage()))
 
 
+def long_table_stage(ctx: dict) -> dict:
+    """The first stage of a note context with one long table instead of its blocks
+    (split over pages, its rows striped and its last row bordered by the note's
+    CSS), as the example board's sweeps give."""
+    rows = [[f"point {i}", "≤ 1 dB", f"{i / 7:.2f} dB", "fail" if i % 9 == 4 else "pass"]
+            for i in range(70)]
+    return {**ctx["stages"][0], "id": "long", "blocks": [
+        {"type": "table", "title": "Sweep", "columns": ["Point", "Requirement", "Worst",
+                                                      "Verdict"], "rows": rows,
+         "note": "Every point of the sweep."}]}
+
+
 def note_parts(ctx: dict, *stages: dict) -> list[tuple[str, dict]]:
     """(part, context) of a note context's front matter, its stages in one part,
     each of ``stages`` in a part of its own, and its appendix."""
