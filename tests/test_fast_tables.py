@@ -17,7 +17,6 @@ from __future__ import annotations
 
 import collections
 import contextlib
-import logging
 import sys
 
 import pytest
@@ -25,7 +24,7 @@ import weasyprint
 
 from rcdoc.note import fast_layout, fast_tables
 from test_report import make_context
-from weasyprint_own import LogRecords, counted, general, long_table_stage, note_parts, render_parts  # noqa: F401 - general: a fixture
+from weasyprint_own import counted, general, long_table_stage, note_parts, render_parts, rendered, same_parts  # noqa: F401 - general: a fixture
 
 _NAME = "collapse_table_borders"
 _SIDES = ("top", "right", "bottom", "left")
@@ -62,15 +61,7 @@ def _short_path():
 def _render(html: str):
     """The PDF, every box's border attributes (and each table's grid), and
     weasyprint's log records."""
-    logger = logging.getLogger("weasyprint")
-    records = LogRecords()
-    logger.addHandler(records)
-    try:
-        document = weasyprint.HTML(string=html).render()
-        pdf = document.write_pdf()
-    finally:
-        logger.removeHandler(records)
-    return pdf, _box_attributes(document), records.seen, len(document.pages)
+    return rendered(html, _box_attributes)
 
 
 def _widths(box) -> tuple:
@@ -467,10 +458,7 @@ def test_example_note_parts_are_weasyprints_own_and_take_the_short_path(
             assert fast_layout.installed()
     finally:
         fast_layout.uninstall()     # before the short path is taken away
-    for fast in (alone, with_layout):
-        for a, b in zip(fast, reference, strict=True):
-            assert a["pages"] == b["pages"] >= 1
-            assert a["pdf"] == b["pdf"]
+    same_parts((alone, with_layout), reference)
     # The parts' collapsed tables (the stages' checks, the sweep) all went the
     # short way; the sweep over more than one page.
     assert counts["short"] >= 3 and counts["general"] == 0

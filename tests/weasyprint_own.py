@@ -43,6 +43,30 @@ class LogRecords(logging.Handler):
         self.seen.append((record.levelname, record.getMessage()))
 
 
+def rendered(html: str, attributes, **options) -> tuple:
+    """The PDF of ``html``, ``attributes(document)`` (what a test compares of
+    the laid-out boxes), weasyprint's log records and the page count."""
+    import weasyprint
+    logger = logging.getLogger("weasyprint")
+    records = LogRecords()
+    logger.addHandler(records)
+    try:
+        document = weasyprint.HTML(string=html, **options).render()
+        pdf = document.write_pdf()
+    finally:
+        logger.removeHandler(records)
+    return pdf, attributes(document), records.seen, len(document.pages)
+
+
+def same_parts(runs: tuple, reference: list) -> None:
+    """Each of ``runs`` (render_parts outputs) has the reference's pages and
+    PDF bytes, part by part."""
+    for run in runs:
+        for a, b in zip(run, reference, strict=True):
+            assert a["pages"] == b["pages"] >= 1
+            assert a["pdf"] == b["pdf"]
+
+
 def long_table_stage(ctx: dict) -> dict:
     """The first stage of a note context with one long table instead of its blocks
     (split over pages, its rows striped and its last row bordered by the note's
