@@ -51,12 +51,12 @@ percentages a twelfth, the flow tests a twenty-fifth):
   its render 2.39 s of CPU against 2.49 s, best of fourteen, interleaved.)
 
 Installed with these modules of rcdoc.note (``_COMPANIONS``): fast_cascade
-(selector matching kept per element signature), fast_paint
-(backgrounds, a line's glyphs), fast_margins (running heads and feet), fast_flow
-(the flow tests reading a box's float and position once),
-fast_tables (collapsed borders), fast_cells (a cell laid out once where an
-attempt was dropped), fast_collapse (adjoining margins), fast_stacking
-(stacking contexts without copies) and fast_write (pydyf's numbers and streams).
+(selector matching kept per element signature), fast_flow (the flow tests
+reading a box's float and position once), fast_paint (backgrounds, a line's
+glyphs), fast_margins (running heads and feet), fast_tables (collapsed
+borders), fast_cells (a cell laid out once where an attempt was dropped),
+fast_collapse (adjoining margins), fast_stacking (stacking contexts without
+copies) and fast_write (pydyf's numbers and streams).
 
 What it must not do: change a value. ``install`` patches nothing for another
 weasyprint than 70.0 (those functions may differ there) and says so by
