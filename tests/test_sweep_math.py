@@ -352,6 +352,47 @@ def test_band_percentiles_from_the_row_before_are_numpys(dtype):
                           np.percentile(shuffled, (5.0, 95.0), axis=1))
 
 
+def test_band_percentiles_through_ties_are_numpys(monkeypatch):
+    # A first-order low-pass's phase in float32 degrees saturates towards -90 deg
+    # above the corner: thousands of samples share a value (ties with the
+    # candidates' lowest or highest value). Those rows are still answered from the
+    # candidates (spread._tied_pair) instead of a partition of the whole row; and
+    # rows of a few repeated values with a value inside the candidates' range that
+    # is not a candidate fall back. Reference: numpy.percentile, linear method, and
+    # np.sort, bit for bit.
+    from rcdoc.analysis import spread
+    rng = np.random.default_rng(5)
+    n = 20000
+    tau = 1e-3 * rng.uniform(0.95, 1.05, n) * rng.uniform(0.99, 1.01, n)
+    f = np.logspace(-1, 5, 301)
+    phase = np.degrees(-np.arctan(2 * np.pi * f[:, None] * tau[None, :])).astype(np.float32)
+    assert len(np.unique(phase[-1])) < n // 10           # the ties this is about
+    calls = []
+    real = np.argpartition
+    monkeypatch.setattr(np, "argpartition", lambda *a, **k: calls.append(1) or real(*a, **k))
+    sorted_rows = np.sort(phase, axis=1)
+    for j in (int(np.floor((n - 1) * 0.05)), int(np.floor((n - 1) * 0.95))):
+        calls.clear()
+        lo, hi = spread._order_pairs(phase, j)
+        assert np.array_equal(lo, sorted_rows[:, j]) and np.array_equal(hi, sorted_rows[:, j + 1])
+        assert len(calls) <= 3                     # the first row, and hardly any other
+    assert np.array_equal(spread.row_percentiles(phase, (5.0, 95.0)),
+                          np.percentile(phase, (5.0, 95.0), axis=1))
+    # Few distinct values drifting from row to row, so that ranks move among ties and
+    # values other than the candidates' fall inside their range.
+    for seed in range(6):
+        r = np.random.default_rng(seed)
+        base = r.integers(0, 40, 3000).astype(float)
+        rows = np.stack([np.floor(base + r.normal(0.0, 0.3 * k, base.size)) for k in range(60)])
+        q = (5.0, 50.0, 95.0)
+        assert np.array_equal(spread.row_percentiles(rows, q), np.percentile(rows, q, axis=1))
+        s_rows = np.sort(rows, axis=1)
+        for j in (149, 1499, 2849):
+            pair = spread._order_pairs(rows, j)
+            if pair is not None:
+                assert np.array_equal(pair[0], s_rows[:, j]) and np.array_equal(pair[1], s_rows[:, j + 1])
+
+
 # The sweep's gain and phase in real arithmetic (Response.sweep_db, sweep_phase: each
 # of H's numerator and denominator one real quadratic in ω) against the complex sweep
 # they replace and against scipy.signal.freqs of the textbook transfer functions:

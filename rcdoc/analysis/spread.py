@@ -193,16 +193,23 @@ def _order_pairs(rows: np.ndarray, j: int) -> tuple[np.ndarray, np.ndarray] | No
         row = rows[i]
         if cand is not None:
             vals = row[cand]
-            below = np.count_nonzero(row < vals.min())
-            upto = np.count_nonzero(row <= vals.max())
-            if upto - below == cand.size and below <= j and j + 1 < upto:
-                order = np.argsort(vals, kind="stable")
-                k = j - below
-                lo[i], hi[i] = vals[order[k]], vals[order[k + 1]]
-                a, b = k - _WINDOW, k + 1 + _WINDOW
-                if a >= 0 and b < cand.size:
-                    cand = cand[order[a:b + 1]]
-                    continue
+            low, top = vals.min(), vals.max()
+            below = np.count_nonzero(row < low)
+            upto = np.count_nonzero(row <= top)
+            if below <= j and j + 1 < upto:
+                if upto - below == cand.size:
+                    order = np.argsort(vals, kind="stable")
+                    k = j - below
+                    lo[i], hi[i] = vals[order[k]], vals[order[k + 1]]
+                    a, b = k - _WINDOW, k + 1 + _WINDOW
+                    if a >= 0 and b < cand.size:
+                        cand = cand[order[a:b + 1]]
+                        continue
+                else:
+                    pair = _tied_pair(row, vals, low, top, below, upto, j)
+                    if pair is not None:      # the candidates stay: the ranks are among them
+                        lo[i], hi[i] = pair
+                        continue
         full += 1
         if full > 32 and 2 * full > i:         # the order does not carry over: partition
             return None
@@ -210,6 +217,28 @@ def _order_pairs(rows: np.ndarray, j: int) -> tuple[np.ndarray, np.ndarray] | No
         lo[i], hi[i] = row[idx[j]], row[idx[j + 1]]
         cand = idx[first:last + 1]
     return lo, hi
+
+
+def _tied_pair(row, vals, low, top, below: int, upto: int, j: int):
+    """Order statistics j and j + 1 of ``row`` where the candidates ``vals`` (lowest
+    ``low``, highest ``top``; ``below`` values of the row under ``low``, ``upto`` up
+    to ``top``) are not every value in [low, top] but the others tie with ``low``
+    or ``top`` (a saturated phase in float32 repeats values): the row's values in
+    that range, sorted, are then every copy of ``low``, the candidates strictly
+    between, sorted, and every copy of ``top``. None where some other value lies
+    between (two more counts tell)."""
+    if low == top:                    # every value in range is that one
+        return low, low
+    inner = np.sort(vals[(vals > low) & (vals < top)])
+    at_low = np.count_nonzero(row <= low) - below
+    if np.count_nonzero(row < top) - below - at_low != inner.size:
+        return None
+    def at(k):                        # the k-th value (0-based) from ``below`` on
+        if k < at_low:
+            return low
+        k -= at_low
+        return inner[k] if k < inner.size else top
+    return at(j - below), at(j + 1 - below)
 
 
 def row_percentiles(rows: np.ndarray, q: tuple[float, ...], overwrite: bool = False) -> np.ndarray:
