@@ -146,6 +146,87 @@ def test_transposed_copy_is_numpys():
     assert t.flags.c_contiguous and np.array_equal(t, np.degrees(a).astype(np.float32).T)
 
 
+def test_degrees_is_numpys():
+    # numpy's rad2deg is x·(180/π) with the constant rounded once (numpy's npy_math);
+    # sweep_math.degrees multiplies by that constant: the same numbers, bit for bit.
+    rng = np.random.default_rng(9)
+    a = rng.standard_normal(100000) * 10.0 ** rng.uniform(-300, 300, 100000)
+    a[:6] = [0.0, -0.0, np.inf, -np.inf, np.nan, 5e-324]
+    got, ref = sweep_math.degrees(a), np.degrees(a)
+    assert np.array_equal(got, ref, equal_nan=True)
+    assert np.array_equal(np.signbit(got), np.signbit(ref))
+    b = np.clip(a, -1e36, 1e36).reshape(400, 250)      # within float32's range
+    assert np.array_equal(transposed(b, np.float32, sweep_math.degrees),
+                          np.degrees(b).astype(np.float32).T, equal_nan=True)
+
+
+def test_unwrap_corrections_of_a_narrow_phase_skip_the_steps():
+    # A phase whose span is under π cannot step by π: no row to correct, as numpy.unwrap
+    # leaves it; one with a step just over π takes the steps (and still agrees).
+    rng = np.random.default_rng(2)
+    p = rng.uniform(-1.5, 1.5, (50, 40))
+    rows, k = sweep_math.unwrap_corrections(p)
+    assert rows.size == 0 and k.shape == (0, 40)
+    assert np.array_equal(sweep_math.unwrapped(p, rows, k), np.unwrap(p, axis=1))
+    q = p.copy()
+    q[3, 7:9] = [math.pi - 1.4, -1.45]
+    rows, k = sweep_math.unwrap_corrections(q)
+    assert list(rows) == [3]
+    assert np.array_equal(sweep_math.unwrapped(q, rows, k), np.unwrap(q, axis=1))
+
+
+@pytest.mark.parametrize("cap", ["10 nF", "1 pF", "100 mF"])
+def test_first_order_sweep_is_the_general_quadratics(tmp_path, monkeypatch, cap):
+    # One real pole and no zero (c2 = 0 in every row): the gain and phase are made
+    # without the terms in c2 (response._Quadratic.linear) and the phase in three
+    # passes. The same numbers, bit for bit, as the general quadratic arithmetic; rows
+    # whose gain has its sign flipped (g·conj(D) in the left half-plane) take the
+    # general path within their block.
+    from rcdoc.analysis import response
+    ev, _ = evaluator(tmp_path, "rc-lowpass", cap)
+    quads = ev.response._quadratics()
+    assert quads[0] is None and quads[1].linear
+    gain, phase = ev.gain_db, ev.phase_rad
+    fresh = Evaluator(ev.stage, ev.network, ev.values, ev.freqs_hz, ev.passband, ev.char_hz)
+    fresh.response._quadratics()[1].linear = False
+    assert np.array_equal(fresh.gain_db, gain) and np.array_equal(fresh.phase_rad, phase)
+    flipped = Evaluator(ev.stage, ev.network, ev.values, ev.freqs_hz, ev.passband, ev.char_hz)
+    flipped.response.gain[[0, 5, 200]] *= -1
+    general = Evaluator(ev.stage, ev.network, ev.values, ev.freqs_hz, ev.passband, ev.char_hz)
+    general.response.gain[[0, 5, 200]] *= -1
+    general.response._quadratics()[1].linear = False
+    assert np.array_equal(flipped.phase_rad, general.phase_rad)
+    assert np.allclose(np.abs(flipped.phase_rad[5] - phase[5]), math.pi)
+    assert response._right_half(np.array([1.0, 2.0])) and not any(
+        response._right_half(np.array(v)) for v in ([1.0, 0.0], [1.0, np.nan], [np.inf]))
+
+
+def test_squared_modulus_products_are_the_factor_by_factor_ones():
+    # noise._abs2_product makes an unscaled product's first factor in place; against
+    # the product formed factor by factor from 1 (the arithmetic it replaces), bit
+    # for bit: real and complex values, scaled and not, none, one or two of them.
+    from rcdoc.analysis.noise import _abs2_product
+    rng = np.random.default_rng(4)
+    w = 2 * np.pi * np.logspace(0, 6, 31)[None, :]
+    sigma = 1e3
+    real = -rng.uniform(1e-6, 1e-3, (20, 2)) + 0j
+    pair = -rng.uniform(1e-6, 1e-3, 20) + 1j * rng.uniform(1e-6, 1e-3, 20)
+    cplx = np.stack([pair, np.conj(pair)], axis=1)
+    for eig in (real[:, :0], real[:, :1], real, cplx):
+        for scale in (None, rng.uniform(0.5, 2.0, 20)):
+            ref = np.ones((20, w.shape[1])) if scale is None else np.repeat(scale[:, None], 31, 1)
+            for k in range(eig.shape[1]):
+                e = eig[:, k]
+                a = 1.0 - sigma * e
+                if not np.any(e.imag):
+                    t = np.multiply(w, (e.real * e.real)[:, None]) * w + (a.real * a.real)[:, None]
+                else:
+                    t = np.square(np.multiply(w, -e.imag[:, None]) + a.real[:, None]) \
+                        + np.square(np.multiply(w, e.real[:, None]) + a.imag[:, None])
+                ref = ref * t
+            assert np.array_equal(_abs2_product(sigma, scale, eig, w), ref)
+
+
 def sallen_key_corner(v, i, near):
     """Row ``i``'s -3 dB corner of the unity-gain Sallen-Key low-pass: scipy.signal.freqs
     of 1/(s²·R1R2C1C2 + s·C2(R1 + R2) + 1) (the standard unity-gain result) and

@@ -243,7 +243,7 @@ def _gather_spread(s: _Setup, g: _Gathered, ev: Evaluator, mc_idx: np.ndarray) -
         # Kept as float32, one frequency per contiguous row (the percentiles select
         # along rows); degrees computed in double and rounded once, as before.
         g.gains.append(spread.transposed(gain[:room], np.float32))
-        g.phases.append(spread.transposed(ph[:room], np.float32, np.degrees))
+        g.phases.append(spread.transposed(ph[:room], np.float32, sweep_math.degrees))
     drive = s.stage.drive
     shown = {} if drive is None else {"step": (ev.step, 0.0)}
     if drive is not None and drive.kind == "pwm":

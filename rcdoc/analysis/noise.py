@@ -164,10 +164,13 @@ def _pz_psd(pencil: _Pencil, terms: list, w: np.ndarray, psd: np.ndarray) -> Non
     with np.errstate(all="ignore"):
         for ss in _pz_blocks(samples, psd.shape[1]):
             ws = w[ss] if w.ndim == 2 else w[None, :]
-            acc = np.empty((psd[ss].shape[0], psd.shape[1]))
-            acc[...] = flat[ss, None]
-            for scale, zeros in shaped:
-                acc += _abs2_product(pencil.sigma, scale[ss], zeros[ss], ws)
+            if shaped:
+                acc = np.empty((psd[ss].shape[0], psd.shape[1]))
+                acc[...] = flat[ss, None]
+                for scale, zeros in shaped:
+                    acc += _abs2_product(pencil.sigma, scale[ss], zeros[ss], ws)
+            else:                    # the flat sum, broadcast: the same quotients
+                acc = flat[ss, None]
             np.divide(acc, _abs2_product(pencil.sigma, None, pencil.poles[ss], ws), out=psd[ss])
 
 
@@ -177,28 +180,34 @@ def _abs2_product(sigma: float, scale: np.ndarray | None, eig: np.ndarray,
     ``scale`` (s,) or None for 1: the squared modulus of _Pencil.product without its
     complex products. With a = 1 − σe, a factor is (a_r − ω·e_i)² + (a_i + ω·e_r)²,
     for a real e a_r² + e_r²·ω² (one term each: no cancellation of large terms)."""
-    rows = eig.shape[0]
+    rows, n = eig.shape
     acc = np.empty((rows, w.shape[-1]))
-    acc[...] = 1.0 if scale is None else scale[:, None]
-    tmp = np.empty_like(acc)
-    tmp2 = None
-    for k in range(eig.shape[1]):
+    if scale is not None or n == 0:
+        acc[...] = 1.0 if scale is None else scale[:, None]
+    tmp = tmp2 = None
+    for k in range(n):
+        # An unscaled product's first factor is made in ``acc`` itself (1·x is x).
+        first = k == 0 and scale is None
+        if not first and tmp is None:
+            tmp = np.empty_like(acc)
+        t = acc if first else tmp
         e = eig[:, k]
         a = 1.0 - sigma * e
         if not np.any(e.imag):
-            np.multiply(w, (e.real * e.real)[:, None], out=tmp)
-            tmp *= w
-            tmp += (a.real * a.real)[:, None]
+            np.multiply(w, (e.real * e.real)[:, None], out=t)
+            t *= w
+            t += (a.real * a.real)[:, None]
         else:
             tmp2 = np.empty_like(acc) if tmp2 is None else tmp2
-            np.multiply(w, -e.imag[:, None], out=tmp)
-            tmp += a.real[:, None]
-            tmp *= tmp
+            np.multiply(w, -e.imag[:, None], out=t)
+            t += a.real[:, None]
+            t *= t
             np.multiply(w, e.real[:, None], out=tmp2)
             tmp2 += a.imag[:, None]
             tmp2 *= tmp2
-            tmp += tmp2
-        acc *= tmp
+            t += tmp2
+        if not first:
+            acc *= t
     return acc
 
 

@@ -112,6 +112,15 @@ class Response:
         sign = np.sign(self.gain)[:, None]          # 0 where g is: np.angle(0) = 0
 
         def block(num, den, ss, x, w, o):
+            if num is None and den.linear and _right_half(sign[ss, 0] * den.c0[ss]):
+                # One real pole, g·conj(D) = g·(c0 − j·c1·ω) in the right half-plane:
+                # angle_of's quotient (−g·c1·ω)/(g·c0) is (−c1·ω)/c0 (signs are
+                # exact), its arctangent needs no half-turn, and every quotient is
+                # finite or ±inf (c0 > 0): the same numbers in three passes.
+                np.multiply.outer(-den.c1[ss], w, out=o)
+                o /= den.c0[ss, None]
+                np.arctan(o, out=o)
+                return
             re, im = den.parts(ss, x, w)
             np.negative(im, out=im)                 # conj(D)
             if num is not None:
@@ -287,6 +296,12 @@ class Rows:
         return out, d, dd
 
 
+def _right_half(re: np.ndarray) -> bool:
+    """Every real part positive and finite (NaN is not)."""
+    with np.errstate(invalid="ignore"):
+        return bool(np.all((re > 0) & (re < np.inf)))
+
+
 class _Quadratic:
     """Π_k (1 + (jω − σ)·e_k) over at most two e_k per row, real or a conjugate pair:
     with a_k = 1 − σ·e_k it is c0 − c2·ω² + j·c1·ω, c0 = a1·a2, c1 = a1·e2 + a2·e1,
@@ -294,9 +309,12 @@ class _Quadratic:
     factored form's: near a pole of quality Q both lose about Q units in the last
     place (the real part's cancellation in one, 1 + (jω − σ)·e's in the other)."""
 
-    def __init__(self, c0: np.ndarray, c1: np.ndarray, c2: np.ndarray):
+    def __init__(self, c0: np.ndarray, c1: np.ndarray, c2: np.ndarray, linear: bool = False):
+        """``linear``: c2 is zero in every row (one e each), so the terms in c2 are
+        left out: c0 − 0·ω² is c0 exactly (ω² finite), the same numbers."""
         self.c0, self.c1, self.c2 = c0, c1, c2
         self.c1sq = c1 * c1
+        self.linear = linear
 
     @classmethod
     def of(cls, sigma: float, eig: np.ndarray, ok: np.ndarray) -> "_Quadratic | None":
@@ -313,7 +331,7 @@ class _Quadratic:
                 if np.any((e.imag != 0) & ok):
                     return None
                 e = np.where(ok, e.real, 0.0)
-                return cls(1.0 - sigma * e, e, np.zeros(rows))
+                return cls(1.0 - sigma * e, e, np.zeros(rows), linear=True)
             e1, e2 = eig[:, 0], eig[:, 1]
             fits = ((e1.imag == 0) & (e2.imag == 0)) | (e2 == np.conj(e1))
             if not np.all(fits | ~ok):
@@ -324,6 +342,10 @@ class _Quadratic:
 
     def squared(self, ss: slice, x: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
         """|value|² = (c0 − c2·x)² + c1²·x for the rows ``ss``, x = ω²: (s, F)."""
+        if self.linear:                   # c0² + c1²·x (a sum in either order: the same)
+            out = np.multiply.outer(self.c1sq[ss], x, out=out)
+            out += np.square(self.c0[ss])[:, None]
+            return out
         out = np.multiply.outer(self.c2[ss], x, out=out)
         np.subtract(self.c0[ss, None], out, out=out)
         np.square(out, out=out)

@@ -34,6 +34,16 @@ def db(h: np.ndarray) -> np.ndarray:
     return out
 
 
+_DEG_PER_RAD = 180.0 / math.pi
+
+
+def degrees(x: np.ndarray) -> np.ndarray:
+    """np.degrees(x): numpy's rad2deg is x·(180/π) with that constant rounded once,
+    so a multiplication by it gives the same numbers, in less than half the time
+    (measured: numpy's degrees loop is not vectorised as its multiply is)."""
+    return np.multiply(x, _DEG_PER_RAD)
+
+
 def angle(h: np.ndarray) -> np.ndarray:
     """np.angle(h) (principal value in [−π, π]): angle_of its real and imaginary parts."""
     h = np.asarray(h, dtype=complex)
@@ -74,9 +84,13 @@ def unwrap_corrections(p: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     other rows are unchanged.
 
     Same operations as numpy's unwrap (period 2π, discontinuity π), evaluated
-    only at the steps of at least π; a phase that never jumps costs one diff
-    and one comparison.
+    only at the steps of at least π; a phase whose span is under π costs its
+    minimum and maximum, and one that never jumps one diff and one comparison.
     """
+    if p.size and p.max() - p.min() < math.pi:
+        # No step can reach half a turn (a rounded difference never exceeds the
+        # rounded span: rounding is monotone); NaN fails this test.
+        return np.zeros(0, dtype=np.intp), np.zeros((0, p.shape[1]))
     dd = np.diff(p, axis=1)
     big = np.abs(dd, out=dd) >= math.pi                # |step| in place: one array fewer
     rows = np.flatnonzero(big.any(axis=1))
