@@ -19,6 +19,7 @@ import numpy as np
 
 from rcdoc.errors import ProjectError
 from rcdoc.analysis.assembly import SOURCE, System, _element_values, assemble
+from rcdoc.analysis import small_linalg
 from rcdoc.analysis.network import Network
 from rcdoc.analysis.treecoords import admittance_spread, driven_system
 
@@ -180,7 +181,7 @@ def _inverse(A: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     Ae = Ae / c
     with np.errstate(all="ignore"):
         try:
-            inv = np.linalg.inv(Ae)
+            inv = small_linalg.inv(Ae)
         except np.linalg.LinAlgError:       # an exactly singular row: estimate row by row
             inv = np.full_like(Ae, np.nan)
             sv = np.linalg.svd(Ae, compute_uv=False)
@@ -238,12 +239,12 @@ class _Pencil:
             return
         self.found = None
         with np.errstate(all="ignore"):
-            self.poles = np.linalg.eigvals(self.A_inv @ self.C)
+            self.poles = small_linalg.eigvals(self.A_inv @ self.C)
 
     def solve_rows(self, rows: np.ndarray) -> None:
         """The eigenvalues of A⁻¹C of the rows ``rows`` (an index array) solved for."""
         with np.errstate(all="ignore"):
-            self.poles[rows] = np.linalg.eigvals(self.A_inv[rows] @ self.C[rows])
+            self.poles[rows] = small_linalg.eigvals(self.A_inv[rows] @ self.C[rows])
 
     def zpk(self, o: int, r0: np.ndarray, r1: np.ndarray | None, eigen: bool | float = True):
         """Gain x_o(σ) (S,), zeros as eigenvalues e (S, n) and usable rows for x_o of
@@ -264,10 +265,10 @@ class _Pencil:
             return x_sigma, none, ok
         with np.errstate(all="ignore"):
             if eigen is not True and ok[0]:
-                first = np.linalg.eigvals(Ao_inv[0] @ Co[0])
+                first = small_linalg.eigvals(Ao_inv[0] @ Co[0])
                 if np.all(np.abs(first) <= 1e-16 * eigen):
                     return x_sigma, none, ok
-            zeros = np.linalg.eigvals(Ao_inv @ Co)
+            zeros = small_linalg.eigvals(Ao_inv @ Co)
         return x_sigma, zeros, ok
 
     def product(self, gain: np.ndarray | None, eig: np.ndarray, jw: np.ndarray) -> np.ndarray:

@@ -18,6 +18,7 @@ from typing import Mapping
 
 import numpy as np
 
+from rcdoc.analysis import small_linalg
 from rcdoc.analysis.network import Network
 from rcdoc.analysis.treecoords import characteristic_rate, natural_pencil
 
@@ -106,7 +107,7 @@ def poles(network: Network, values: Mapping[str, np.ndarray], rate: float | None
         if np.any(good):
             idx = np.flatnonzero(todo)[good]
             K = np.linalg.solve(A[good], C[idx])
-            lam[idx] = _to_poles(np.linalg.eigvals(K), np.full(idx.size, sigma))
+            lam[idx] = _to_poles(small_linalg.eigvals(K), np.full(idx.size, sigma))
             todo[idx] = False
         if not np.any(todo):
             break
