@@ -596,7 +596,7 @@ def main(argv=None) -> int:
         if "a" in args.sections:
             section_sweep(tmp, n, 50 if q else 200, k)
         if "b" in args.sections:
-            section_check(tmp, n, 20 if q else 100, min(k, 2))
+            section_check(tmp, n, 20 if q else 100, k)
         if "d" in args.sections:
             section_build(tmp, 10 if q else 40, 300 if q else 2000, k)
         if "e" in args.sections:

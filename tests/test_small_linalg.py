@@ -30,6 +30,11 @@ def test_edges_and_other_shapes_go_to_numpy():
         X = M.copy()
         X[4, 0, 0] = bad
         assert not small_linalg._plain(X)
+    zeros = M.copy()
+    zeros[[1, 3], 0, 0] = [0.0, -0.0]               # eigenvalues 0 and -0, as numpy's
+    got, ref = small_linalg.eigvals(zeros), np.linalg.eigvals(zeros)
+    assert small_linalg._plain(zeros, zero=True)
+    assert np.array_equal(got, ref) and np.array_equal(np.signbit(got), np.signbit(ref))
     singular = M.copy()
     singular[2, 0, 0] = 0.0
     with pytest.raises(np.linalg.LinAlgError):

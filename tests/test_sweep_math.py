@@ -146,6 +146,29 @@ def test_transposed_copy_is_numpys():
     assert t.flags.c_contiguous and np.array_equal(t, np.degrees(a).astype(np.float32).T)
 
 
+def test_finite_rows_are_numpys():
+    # np.all(np.isfinite(y), axis=1) (numpy): with every value finite, with an
+    # infinity, a NaN, infinities of both signs in one row (their sum is NaN), finite
+    # values whose sum overflows, complex values and no rows or no columns at all.
+    rng = np.random.default_rng(6)
+    y = rng.standard_normal((30, 17))
+    cases = [y]
+    for r, c, v in ((3, 4, np.inf), (5, 0, np.nan), (7, 16, -np.inf)):
+        z = y.copy()
+        z[r, c] = v
+        cases.append(z)
+    both = y.copy()
+    both[2, :2] = [np.inf, -np.inf]
+    big = y.copy()
+    big[:, 0] = 1e308
+    cases += [both, big, y * (1 + 1j), np.zeros((0, 5)), np.zeros((4, 0))]
+    cplx = y * (1 + 1j)
+    cplx[9, 9] = complex(1, np.nan)
+    cases.append(cplx)
+    for z in cases:
+        assert np.array_equal(sweep_math.finite_rows(z), np.all(np.isfinite(z), axis=1))
+
+
 def test_degrees_is_numpys():
     # numpy's rad2deg is x·(180/π) with the constant rounded once (numpy's npy_math);
     # sweep_math.degrees multiplies by that constant: the same numbers, bit for bit.

@@ -20,6 +20,7 @@ import numpy as np
 from rcdoc.errors import ProjectError
 from rcdoc.analysis.assembly import SOURCE, System, _element_values, assemble
 from rcdoc.analysis import small_linalg
+from rcdoc.analysis.sweep_math import finite_rows
 from rcdoc.analysis.network import Network
 from rcdoc.analysis.treecoords import admittance_spread, driven_system
 
@@ -313,7 +314,7 @@ def _ac_fast(system: System, f: np.ndarray, out: int) -> np.ndarray:
         for ss in _pz_blocks(system.samples, f.size):
             H[ss] = pencil.product(gain[ss], zeros[ss], jw)
             H[ss] /= pencil.product(None, pencil.poles[ss], jw)
-    ok &= np.all(np.isfinite(H), axis=1)
+    ok &= finite_rows(H)
     if not np.all(ok):
         H[~ok] = _direct(system, f, ~ok, lambda X: X[..., out])
     return H

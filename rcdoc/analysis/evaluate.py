@@ -381,7 +381,7 @@ class Evaluator(PartStresses):
             if ok.any():
                 result = compute(values, slice(None) if every else ok)
             for y in result.values():
-                y[~np.all(np.isfinite(y), axis=1)] = np.nan
+                y[~sweep_math.finite_rows(y)] = np.nan
         if every:
             return result
         out = {n: np.full((self.rows, widths[n]), np.nan) for n in names}

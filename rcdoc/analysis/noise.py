@@ -19,6 +19,7 @@ from rcdoc.errors import ProjectError
 from rcdoc.analysis.assembly import System, _element_values
 from rcdoc.analysis.ac import _Pencil, _freqs, _pz_blocks, _solutions, conditioned
 from rcdoc.analysis.network import Network
+from rcdoc.analysis.sweep_math import finite_rows
 
 __all__ = ["BOLTZMANN_J_PER_K", "output_noise_psd", "resonant_columns", "integration_grid"]
 
@@ -143,7 +144,7 @@ def output_noise_psd(
         zeros = zeros[:, np.any(zeros != 0, axis=0)]
         terms.append((np.abs(gain) ** 2 / r, zeros))
     _pz_psd(pencil, terms, w, psd)
-    ok &= np.all(np.isfinite(psd), axis=1)
+    ok &= finite_rows(psd)
     if not np.all(ok):
         idx = np.flatnonzero(~ok)
         if f.ndim == 2:

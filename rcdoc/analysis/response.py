@@ -167,7 +167,7 @@ class Response:
         """``out`` (the rows ``rows``) with the rows the zero-pole-gain form does not
         serve (ac's rule, or a result that is not finite) replaced by their direct
         solution, or by ``of`` of it."""
-        ok = self.ok[rows] & np.all(np.isfinite(out), axis=1)
+        ok = self.ok[rows] & sweep_math.finite_rows(out)
         if not np.all(ok):
             which = np.arange(self.system.samples)[rows][~ok]
             h = _direct(self.system, f, which, lambda X: X[..., self.out])

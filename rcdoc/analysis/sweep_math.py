@@ -34,6 +34,17 @@ def db(h: np.ndarray) -> np.ndarray:
     return out
 
 
+def finite_rows(y: np.ndarray) -> np.ndarray:
+    """np.all(np.isfinite(y), axis=1): every row at once where the whole array's sum
+    is finite (a sum is finite only if every term is; one pass, no boolean array),
+    else row by row (a sum that overflows decides nothing)."""
+    with np.errstate(over="ignore", invalid="ignore"):
+        total = np.add.reduce(y, axis=None)
+    if np.isfinite(total):
+        return np.ones(y.shape[0], dtype=bool)
+    return np.all(np.isfinite(y), axis=1)
+
+
 _DEG_PER_RAD = 180.0 / math.pi
 
 
