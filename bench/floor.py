@@ -32,6 +32,10 @@ e  render the note's render (write_outputs of the example board, analysed and
 p  profile cProfile of the check path (one case of b's board, in process):
           the top entries by cumulative time inside rcdoc.
 
+The floors run in this process with the C heap kept as rcdoc's commands keep
+it (rcdoc.commands.allocator: large arrays without fresh page faults each
+time), so that a ratio compares the code, not the allocator's setting.
+
 --quick shrinks every size (and k) to try the script; its ratios are not the
 issue's. Writes only into a temporary folder. Run:
     python bench/floor.py [--quick] [--repeats K] [sections...]
@@ -589,6 +593,7 @@ def main(argv=None) -> int:
     # would otherwise compile the modules changed since their .pyc was written.
     import compileall
     compileall.compile_dir(str(ROOT / "rcdoc"), quiet=1)
+    import rcdoc.commands     # noqa: F401  (keeps the C heap here too: the module docstring)
     with tempfile.TemporaryDirectory(prefix="rcdoc-floor-") as name:
         tmp = Path(name)
         if "c" in args.sections:     # first: nothing else has run in a child yet
