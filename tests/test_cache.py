@@ -71,9 +71,9 @@ def _counting(monkeypatch):
     calls = []
     real = workers.analyse_stage
 
-    def counted(stage, analysis):
+    def counted(stage, analysis, **kw):
         calls.append(stage.id)
-        return real(stage, analysis)
+        return real(stage, analysis, **kw)
     monkeypatch.setattr(workers, "analyse_stage", counted)
     return calls
 
@@ -206,11 +206,11 @@ def test_failed_build_writes_no_cache(tmp_path, monkeypatch):
     path.write_text(PROJECT, encoding="utf-8")
     p = load_project(str(path))
 
-    def broken(stage, analysis):
+    def broken(stage, analysis, **kw):
         from rcdoc.errors import ProjectError
         if stage.id == "hp":
             raise ProjectError("made to fail")
-        return real(stage, analysis)
+        return real(stage, analysis, **kw)
     real = workers.analyse_stage
     monkeypatch.setattr(workers, "analyse_stage", broken)
     out = tmp_path / "out"

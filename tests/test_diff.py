@@ -341,7 +341,7 @@ def test_diff_reads_and_fills_the_build_cache(tmp_path, monkeypatch):
     calls = []
     real = rcdoc.commands.workers.analyse_stage
     monkeypatch.setattr(rcdoc.commands.workers, "analyse_stage",
-                        lambda st, a: calls.append(st.id) or real(st, a))
+                        lambda st, a, **kw: calls.append(st.id) or real(st, a, **kw))
     old = write(tmp_path / "old.toml", "A", "4k7")
     new = write(tmp_path / "new.toml", "B", "5k1")
     assert main(["diff", str(old), str(new), "--samples", "30", "--jobs", "1"]) == 0

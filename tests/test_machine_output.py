@@ -266,7 +266,7 @@ def count_analyses(monkeypatch):
     calls = []
     real = rcdoc.commands.workers.analyse_stage
     monkeypatch.setattr(rcdoc.commands.workers, "analyse_stage",
-                        lambda stage, analysis: calls.append(stage.id) or real(stage, analysis))
+                        lambda stage, analysis, **kw: calls.append(stage.id) or real(stage, analysis, **kw))
     return calls
 
 

@@ -161,6 +161,7 @@ def test_finite_rows_are_numpys():
     both[2, :2] = [np.inf, -np.inf]
     big = y.copy()
     big[:, 0] = 1e308
+    big[4, 1] = 1e308                                # a finite row whose sum overflows
     cases += [both, big, y * (1 + 1j), np.zeros((0, 5)), np.zeros((4, 0))]
     cplx = y * (1 + 1j)
     cplx[9, 9] = complex(1, np.nan)

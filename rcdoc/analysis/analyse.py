@@ -14,24 +14,24 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
+from rcdoc.analysis import bode as bodemod
 from rcdoc.analysis import checks as checkmod
 from rcdoc.analysis.alternatives import stage_alternatives
 from rcdoc.analysis import engine
 from rcdoc.input import parts as partmodels
 from rcdoc.analysis import spread
-from rcdoc.analysis import sweep_math, worstcase
+from rcdoc.analysis import worstcase
 from rcdoc.analysis import poles as polemod
-from rcdoc.analysis.evaluate import Evaluator, db, sweep_for
+from rcdoc.analysis.evaluate import Evaluator, sweep_for
 from rcdoc.analysis.surroundings import fixed_values
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input.model import Analysis, Stage
 from rcdoc.analysis.network import GROUND, Network
 from rcdoc.analysis.phasor_choice import phasor_frequency
-from rcdoc.analysis.results import (MetricResult, PartRow, PartStress, Phasors, ResponseBand,
+from rcdoc.analysis.results import (MetricResult, PartRow, PartStress, Phasors,
                                     StageResult, Waveform, param_of)
 
 WAVE_POINTS = 400            # time-response points kept for the figures
-BAND_PERCENTILES = (5.0, 95.0)
 _STRESS = {"R": "resistor_power", "C": "capacitor_voltage"}
 
 
@@ -79,18 +79,38 @@ def _metric_requests(stage: Stage, offered: tuple[str, ...], kind) -> list[Reque
     return out
 
 
-def analyse_stage(stage: Stage, analysis: Analysis, kind) -> StageResult:
+def analyse_stage(stage: Stage, analysis: Analysis, kind, bode: bool = True) -> StageResult:
     """Analyse one stage with its kind's own analysis or the standard network analysis.
 
     ``kind`` is the stage's kind module (rcdoc.kinds.KINDS; passed in: the
     analysis does not know the kinds). Stages analysed as networks also get their preferred-value
     alternatives, judged with a reduced Monte Carlo (rcdoc.analysis.alternatives).
+    ``bode`` False leaves the Bode band out (``complete`` adds it: rcdoc.analysis.bode).
     """
     custom = getattr(kind, "analyse", None)
     if custom is not None:           # kinds with their own analysis (snubbers)
-        return custom(stage, analysis)
-    result = analyse_network(stage, analysis, kind=kind)
+        return custom(stage, analysis, bode=bode)
+    result = analyse_network(stage, analysis, kind=kind, bode=bode)
     return replace(result, alternatives=stage_alternatives(result, analysis, kind))
+
+
+def complete(result: StageResult, analysis: Analysis, kind) -> StageResult:
+    """``result`` with the Bode band its analysis left out (``bode_pending``): the same
+    set-up, chunks and rows as that analysis, the band alone gathered from them, so
+    the same numbers as an analysis that gathered it. Other results as they are."""
+    if not result.bode_pending:
+        return result
+    s = _setup(result.stage, analysis, kind, getattr(kind, "EVALUATOR", Evaluator))
+    band = bodemod.Gathering()
+    h_nominal = None
+    for start, rows, _, _, ev in _chunks(s, _wc_context(s).line_batch()):
+        unstable = ev.unstable       # first, as the metrics ask for it (poles solved once)
+        if start == 0:
+            h_nominal = ev.h_row(0)
+        sel = _stable_mc(rows, s.batch, unstable)
+        if sel is not None:
+            band.add(ev, sel, h_nominal)
+    return replace(result, band=band.band(h_nominal), bode_pending=False)
 
 
 @dataclass
@@ -141,9 +161,7 @@ class _Gathered:
     """Per-chunk results collected over the whole batch."""
 
     values: list = field(default_factory=list)        # per request: list of chunk arrays
-    gains: list = field(default_factory=list)
-    phases: list = field(default_factory=list)
-    band_env: "_Envelope" = None
+    bode: "bodemod.Gathering | None" = None              # None: the Bode band is left out
     wave_env: dict = None
     cap_peaks: dict = field(default_factory=dict)
     res_powers: dict = field(default_factory=dict)
@@ -154,8 +172,7 @@ class _Gathered:
     nominal: "_Nominal" = None
 
     def __post_init__(self):
-        self.band_env = _Envelope()
-        self.wave_env = {"step": _Envelope(), "pwm": _Envelope()}
+        self.wave_env = {"step": bodemod.Envelope(), "pwm": bodemod.Envelope()}
 
 
 @dataclass(frozen=True)
@@ -182,13 +199,11 @@ def _wc_context(s: _Setup) -> worstcase.Context:
                              s.char_hz, s.t_hot_k, s.time_s, fixed_values(s.stage), s.evaluator)
 
 
-def _gather(s: _Setup) -> _Gathered:
-    """Evaluate the batch chunk by chunk: metrics, response bands, waveforms, stresses.
-    The worst case's walks through the nominal (worstcase.line_rows) ride along as
-    extra rows of the last chunk: their metrics only (``line``), no march of their own."""
-    g = _Gathered(values=[[] for _ in s.requests])
+def _chunks(s: _Setup, walks):
+    """(first row, rows, n, tail, Evaluator) of each chunk of the batch; the worst
+    case's walks through the nominal (worstcase.line_rows) ride along as extra rows
+    of the last chunk (``tail``), after its ``n`` rows of the batch."""
     batch = s.batch
-    walks = _wc_context(s).line_batch()
     step = spread.chunk_rows(len(s.freqs))
     for start in range(0, batch.rows, step):
         rows = slice(start, min(start + step, batch.rows))
@@ -196,7 +211,29 @@ def _gather(s: _Setup) -> _Gathered:
         tail = walks is not None and rows.stop == batch.rows
         if tail:
             vals = {k: np.concatenate([v, walks[k]]) for k, v in vals.items()}
-        ev = s.evaluate(vals)
+        yield start, rows, n, tail, s.evaluate(vals)
+
+
+def _stable_mc(rows: slice, batch: spread.Batch, unstable: np.ndarray):
+    """The chunk's stable Monte Carlo rows: a slice where they run on, else an index
+    array; None where there is none."""
+    mc_idx = _mc_rows(rows, batch)
+    if mc_idx is not None:
+        mc_idx = mc_idx[~unstable[mc_idx]]
+    if mc_idx is None or not mc_idx.size:
+        return None
+    span = mc_idx[-1] + 1 - mc_idx[0] == mc_idx.size
+    return slice(mc_idx[0], mc_idx[-1] + 1) if span else mc_idx
+
+
+def _gather(s: _Setup, with_bode: bool = True) -> _Gathered:
+    """Evaluate the batch chunk by chunk: metrics, response bands (without
+    ``with_bode``, the Bode band is left out), waveforms, stresses. The walks' rows
+    of the last chunk give their metrics only (``line``), no march of their own."""
+    g = _Gathered(values=[[] for _ in s.requests],
+                  bode=bodemod.Gathering() if with_bode else None)
+    walks = _wc_context(s).line_batch()
+    for start, rows, n, tail, ev in _chunks(s, walks):
         for k, (name, at, chk) in enumerate(s.requests):
             y = np.asarray(ev.metric(name, chk, at_hz=at), dtype=float)
             g.values[k].append(y[:n])
@@ -207,11 +244,11 @@ def _gather(s: _Setup) -> _Gathered:
             # Row 0 of the first chunk is the nominal design (the bands refer to it).
             g.h_nominal = ev.h_row(0)
         # Spread bands of the response over the stable Monte Carlo rows only.
-        mc_idx = _mc_rows(rows, batch)
-        if mc_idx is not None:
-            mc_idx = mc_idx[~ev.unstable[mc_idx]]
-        if mc_idx is not None and mc_idx.size:
-            _gather_spread(s, g, ev, mc_idx)
+        sel = _stable_mc(rows, s.batch, ev.unstable)
+        if sel is not None:
+            if g.bode is not None:
+                g.bode.add(ev, sel, g.h_nominal)
+            _gather_waves(s, g, ev, sel)
         if s.stage.drive is not None:
             for role, pk in ev.capacitor_peaks().items():
                 g.cap_peaks.setdefault(role, []).append(pk[:n])
@@ -226,27 +263,14 @@ def _gather(s: _Setup) -> _Gathered:
     return g
 
 
-def _gather_spread(s: _Setup, g: _Gathered, ev: Evaluator, mc_idx: np.ndarray) -> None:
-    """Add a chunk's stable Monte Carlo rows to the Bode band and the waveform bands."""
-    # Views where the rows run on (no unstable row among them), and the phase's
-    # extremes taken in radians: degrees are a monotone scaling (the same numbers).
-    span = mc_idx[-1] + 1 - mc_idx[0] == mc_idx.size
-    sel = slice(mc_idx[0], mc_idx[-1] + 1) if span else mc_idx
-    gain, raw = ev.gain_db[sel], ev.phase_unwrapped[sel]
-    lo, hi = raw.min(axis=0), raw.max(axis=0)
-    ph = sweep_math.near_reference(raw, g.h_nominal, lo, hi)
-    if ph is not raw:
-        lo, hi = ph.min(axis=0), ph.max(axis=0)
-    g.band_env.merge(gain.min(axis=0), gain.max(axis=0), np.degrees(lo), np.degrees(hi))
-    room = spread.band_samples(gain.shape[1]) - sum(x.shape[1] for x in g.gains)
-    if room > 0:
-        # Kept as float32, one frequency per contiguous row (the percentiles select
-        # along rows); degrees computed in double and rounded once, as before.
-        g.gains.append(spread.transposed(gain[:room], np.float32))
-        g.phases.append(spread.transposed(ph[:room], np.float32, sweep_math.degrees))
+def _gather_waves(s: _Setup, g: _Gathered, ev: Evaluator, sel) -> None:
+    """Add a chunk's stable Monte Carlo rows ``sel`` to the waveform bands."""
     drive = s.stage.drive
-    shown = {} if drive is None else {"step": (ev.step, 0.0)}
-    if drive is not None and drive.kind == "pwm":
+    if drive is None:
+        return
+    mc_idx = np.arange(sel.start, sel.stop) if isinstance(sel, slice) else sel
+    shown = {"step": (ev.step, 0.0)}
+    if drive.kind == "pwm":
         # Ripple about each sample's own mean: the DC spread would hide it.
         y = ev.pwm_probes[s.network.output]
         shown["pwm"] = (y, y[mc_idx].mean(axis=1, keepdims=True))
@@ -323,18 +347,8 @@ def _waveforms(s: _Setup, g: _Gathered, nominal_unstable: bool):
     return step, pwm
 
 
-def _response_band(g: _Gathered) -> ResponseBand:
-    if not g.gains:                  # no stable sample: the band shrinks to the nominal curve
-        g0 = db(g.h_nominal)[:, None].astype(np.float32)
-        p0 = np.degrees(np.unwrap(np.angle(g.h_nominal)))[:, None].astype(np.float32)
-        g.gains, g.phases = [g0], [p0]
-        g.band_env.add(g0.T, p0.T)
-        return replace(_band(g.gains, g.phases, g.band_env), drawn=0)
-    return _band(g.gains, g.phases, g.band_env)
-
-
 def analyse_network(stage: Stage, analysis: Analysis, kind,
-                    evaluator=Evaluator) -> StageResult:
+                    evaluator=Evaluator, bode: bool = True) -> StageResult:
     """The standard analysis of a stage as a linear network; the spine.
 
     Steps: set-up (network, batch of rows: nominal, Monte Carlo, sensitivity
@@ -343,15 +357,17 @@ def analyse_network(stage: Stage, analysis: Analysis, kind,
     part stresses), then per metric the worst case (corners, walks, interior
     search: worstcase.Context) and sensitivities, the verdicts of the checks
     and ratings, the waveforms and phasors of the nominal. A kind with metrics
-    of its own passes an Evaluator subclass as ``evaluator``.
+    of its own passes an Evaluator subclass as ``evaluator`` (and names it
+    ``EVALUATOR``, for ``complete``). ``bode`` False leaves the Bode band out
+    (``bode_pending``): nothing but the response chart reads it.
     """
     s = _setup(stage, analysis, kind, evaluator)
-    g = _gather(s)
+    g = _gather(s, with_bode=bode)
     metrics = _metric_results(s, g)
     batch = s.batch
     unstable_rows = np.concatenate(g.unstable)
     nominal_unstable = bool(unstable_rows[0])
-    band = _response_band(g)
+    band = g.bode.band(g.h_nominal) if g.bode is not None else None
     step, pwm = _waveforms(s, g, nominal_unstable)
     corner = next((m.nominal for m in metrics if m.name in ("corner", "f0")
                    and math.isfinite(m.nominal)), s.char_hz)
@@ -368,7 +384,7 @@ def analyse_network(stage: Stage, analysis: Analysis, kind,
                        stresses=part_stresses(stage, batch, g.cap_peaks, g.res_powers,
                                               g.res_pulses),
                        samples_unstable=int(unstable_rows[batch.mc].sum()),
-                       unstable_poles=offending)
+                       unstable_poles=offending, bode_pending=g.bode is None)
 
 
 def _mc_rows(rows: slice, batch: spread.Batch):
@@ -378,39 +394,7 @@ def _mc_rows(rows: slice, batch: spread.Batch):
     return np.arange(lo - rows.start, hi - rows.start)
 
 
-class _Envelope:
-    """Running minimum and maximum over chunks (for bands over every sample)."""
-
-    def __init__(self):
-        self.lo = self.hi = self.plo = self.phi = None
-
-    def add(self, a, b):
-        self.merge(a.min(axis=0), a.max(axis=0), *((None, None) if b is None else
-                                                    (b.min(axis=0), b.max(axis=0))))
-
-    def merge(self, amin, amax, bmin=None, bmax=None):
-        """Add one chunk's extremes (rows reduced already)."""
-        self.lo = amin if self.lo is None else np.minimum(self.lo, amin)
-        self.hi = amax if self.hi is None else np.maximum(self.hi, amax)
-        if bmin is not None:
-            self.plo = bmin if self.plo is None else np.minimum(self.plo, bmin)
-            self.phi = bmax if self.phi is None else np.maximum(self.phi, bmax)
-
-
-def _band(gains, phases, env: _Envelope) -> ResponseBand:
-    # On the float32 copies the band keeps: a drawn band needs no more digits,
-    # and the selection runs over half the bytes (spread.row_percentiles:
-    # np.percentile's values, by a faster selection).
-    g = np.concatenate(gains, axis=1)          # (frequencies, samples)
-    p = np.concatenate(phases, axis=1)
-    g_lo, g_hi = spread.row_percentiles(g, BAND_PERCENTILES, overwrite=True).astype(float)
-    p_lo, p_hi = spread.row_percentiles(p, BAND_PERCENTILES, overwrite=True).astype(float)
-    return ResponseBand(gain_min=env.lo, gain_max=env.hi, gain_lo=g_lo, gain_hi=g_hi,
-                        phase_min=env.plo, phase_max=env.phi, phase_lo=p_lo, phase_hi=p_hi,
-                        drawn=g.shape[1])
-
-
-def _wave(t, nominal, env: _Envelope, mean=None, input=None) -> Waveform:
+def _wave(t, nominal, env: bodemod.Envelope, mean=None, input=None) -> Waveform:
     idx = np.linspace(0, len(t) - 1, WAVE_POINTS).astype(int)
     if env.lo is None:               # every Monte Carlo sample unstable: the nominal alone
         env.add(nominal[idx][None], None)

@@ -309,6 +309,9 @@ class StageResult(_ReadOnlyAgain):
     kind_result: KindResult | None = None
     samples_unstable: int = 0            # Monte Carlo samples with a pole at Re s >= 0
     unstable_poles: tuple = ()           # the nominal's offending poles (rad/s), empty if stable
+    # The Bode band was left out (an analysis for check or diff, which draw nothing);
+    # rcdoc.kinds.complete_bode adds it, the same numbers, before the stage is drawn.
+    bode_pending: bool = False
 
     def __post_init__(self):
         for name in ("metrics", "verdicts", "ratings", "parts", "assumptions", "unstable_poles"):

@@ -35,14 +35,18 @@ def db(h: np.ndarray) -> np.ndarray:
 
 
 def finite_rows(y: np.ndarray) -> np.ndarray:
-    """np.all(np.isfinite(y), axis=1): every row at once where the whole array's sum
-    is finite (a sum is finite only if every term is; one pass, no boolean array),
-    else row by row (a sum that overflows decides nothing)."""
-    with np.errstate(over="ignore", invalid="ignore"):
-        total = np.add.reduce(y, axis=None)
-    if np.isfinite(total):
+    """np.all(np.isfinite(y), axis=1) for a 2-D ``y``: each row's sum (a product with
+    ones, which BLAS takes in one pass, a third of numpy's own sum here) is finite
+    only if every term is, and the rows whose sum is not (an infinity, a NaN, or
+    finite values whose sum overflows) are looked at value by value."""
+    if y.shape[1] == 0:
         return np.ones(y.shape[0], dtype=bool)
-    return np.all(np.isfinite(y), axis=1)
+    with np.errstate(over="ignore", invalid="ignore"):
+        ok = np.isfinite(y @ np.ones(y.shape[1]))
+    if not ok.all():
+        bad = np.flatnonzero(~ok)
+        ok[bad] = np.all(np.isfinite(y[bad]), axis=1)
+    return ok
 
 
 _DEG_PER_RAD = 180.0 / math.pi

@@ -181,9 +181,9 @@ def _serially(project, todo, todraw, draw: bool, front: bool, settle, results, c
     for i in todo:
         if progress:
             progress(stages[i].id)
-        settle(i, _stage_unit(stages[i], project, draw))
+        settle(i, _stage_unit(stages[i], project, draw, bode=draw))
     for i in todraw:
-        contexts[i], parts[i] = _draw_unit(results[i], project)
+        results[i], contexts[i], parts[i] = _draw_unit(results[i], project)
     return (schedule.summary_charts(results, note_parts),) if draw and front else None
 
 

@@ -82,7 +82,7 @@ def one_beside_front(shared: WorkerPool, project: Project, i: int, part_job, set
             raise box["error"]
         drawing = box["futures"][0]
         if apart:       # the stage's part here, the charts in the worker that drew the stage
-            context, _ = drawing.result()
+            _, context, _ = drawing.result()
             charting = shared.executor().submit(_charts_unit, rows, drawn, keys)
             box["futures"].append(charting)
             stage_part = _part_unit(context, part_job)
@@ -96,7 +96,7 @@ def one_beside_front(shared: WorkerPool, project: Project, i: int, part_job, set
             charts = box["futures"][1].result()
             _file_charts(note_parts, keys, charts)
             _early_front(project, results, part_job, note_parts, charts)
-            context, _ = drawing.result()
+            _, context, _ = drawing.result()
             stage_part = _part_unit(context, part_job)
     except BaseException as exc:
         handing.join()
@@ -266,7 +266,8 @@ def run_pool(shared: WorkerPool, project, draw, work, part_jobs, progress, settl
             _analyse_while_starting(pool, project, todo, futures, mine)
         else:
             for i in todo:
-                futures[i] = pool.submit(_stage_unit, stages[i], project, draw, part_jobs[i])
+                futures[i] = pool.submit(_stage_unit, stages[i], project, draw, part_jobs[i],
+                                         bode=draw)
         redone = {i: pool.submit(_part_unit, contexts[i], part_jobs[i]) for i in redo}
         drawn = {i: pool.submit(_draw_unit, results[i], project, part_jobs[i])
                  for i in todraw}
@@ -280,7 +281,7 @@ def run_pool(shared: WorkerPool, project, draw, work, part_jobs, progress, settl
         for i in redo:
             parts[i] = redone[i].result()
         for i in todraw:
-            contexts[i], parts[i] = drawn[i].result()
+            results[i], contexts[i], parts[i] = drawn[i].result()
         made = extra["appendix"].result() if extra else None
     except BaseException as exc:
         # Ctrl-C ends the running workers too, in WorkerPool.__exit__.

@@ -29,22 +29,24 @@ from rcdoc.input.model import Project, Stage
 __all__ = ["WorkerPool"]
 
 
-def analyse_stage(stage: Stage, analysis):
+def analyse_stage(stage: Stage, analysis, bode: bool = True):
     """rcdoc.kinds.analyse_stage, imported when first needed: the command imports
     this module to start the pool's fork server before it loads the analysis."""
     from rcdoc.kinds import analyse_stage as analyse
-    return analyse(stage, analysis)
+    return analyse(stage, analysis, bode=bode)
 
 
-def _stage_unit(stage: Stage, project: Project, draw: bool, part_job=None):
+def _stage_unit(stage: Stage, project: Project, draw: bool, part_job=None, bode: bool = True):
     """One unit of work, in this process or a worker: analyse (and draw) one stage,
     and with ``part_job`` render its part of the note (rcdoc.note.assemble).
+    ``bode`` False (check, diff: nothing is drawn) leaves the Bode band out; a
+    build's analysis that another unit draws keeps it.
 
     A ProjectError comes back as plain data: its location would not survive pickling.
     """
     try:
         t0 = time.perf_counter()
-        result = analyse_stage(stage, project.analysis)
+        result = analyse_stage(stage, project.analysis, bode=bode or draw)
         context = None
         if draw:
             from rcdoc.note.page import stage_context
@@ -57,16 +59,20 @@ def _stage_unit(stage: Stage, project: Project, draw: bool, part_job=None):
 
 def _draw_unit(result, project: Project, part_job=None):
     """Draw (and render the part of) a stage whose analysis came from the cache,
-    filed there by ``rcdoc check`` or ``diff``, which do not draw."""
+    filed there by ``rcdoc check`` or ``diff``, which do not draw: its Bode band is
+    added first (rcdoc.kinds.complete_bode). Returns (result, context, part)."""
+    from rcdoc.kinds import complete_bode
     from rcdoc.note.page import stage_context
+    result = complete_bode(result, project.analysis)
     context = stage_context(result, project)
-    return context, _part_unit(context, part_job)
+    return result, context, _part_unit(context, part_job)
 
 
 def _timed_draw_unit(result, project: Project, part_job):
-    """_draw_unit of a stage just analysed by another unit, with its seconds."""
+    """_draw_unit of a stage just analysed by another unit: (context, part, seconds)."""
     t0 = time.perf_counter()
-    return (*_draw_unit(result, project, part_job), time.perf_counter() - t0)
+    _, context, part = _draw_unit(result, project, part_job)
+    return context, part, time.perf_counter() - t0
 
 
 def _part_unit(context, part_job):

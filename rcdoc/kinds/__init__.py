@@ -97,9 +97,15 @@ def load_project(file, **kw):
     return _project.load_project(file, kinds=KINDS, metrics=METRICS, **kw)
 
 
-def analyse_stage(stage, analysis):
-    """rcdoc.analysis.analyse.analyse_stage with the stage's kind looked up here."""
-    return _analyse.analyse_stage(stage, analysis, kind_of(stage))
+def analyse_stage(stage, analysis, bode: bool = True):
+    """rcdoc.analysis.analyse.analyse_stage with the stage's kind looked up here
+    (``bode`` False: the Bode band left out, for commands that draw nothing)."""
+    return _analyse.analyse_stage(stage, analysis, kind_of(stage), bode=bode)
+
+
+def complete_bode(result, analysis):
+    """rcdoc.analysis.analyse.complete: the Bode band a result was analysed without."""
+    return _analyse.complete(result, analysis, kind_of(result.stage))
 
 
 for _info in sorted(pkgutil.iter_modules(__path__), key=lambda m: m.name):

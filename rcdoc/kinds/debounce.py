@@ -200,7 +200,9 @@ def _ratings(stage, batch, arrays):
     return out
 
 
-def analyse(stage, analysis):
+def analyse(stage, analysis, bode: bool = True):
+    # ``bode``: a kind's analyse takes it (rcdoc.analysis.analyse.analyse_stage); this
+    # kind draws no Bode band, so it changes nothing here.
     from rcdoc.analysis.analyse import StageResult, _assumptions, _part_rows
     batch, rising, falling = threshold_batch(stage, analysis)
     arrays = evaluate(stage, batch.values, rising, falling)

@@ -172,10 +172,15 @@ class SampledEvaluator(Evaluator):
         return phys.input_current(self.sampled, self.sampled_state)
 
 
-def analyse(stage, analysis):
+# The Evaluator of this kind's network analysis (rcdoc.analysis.analyse.complete reads it).
+EVALUATOR = SampledEvaluator
+
+
+def analyse(stage, analysis, bode: bool = True):
     from rcdoc.analysis.analyse import analyse_network
     from rcdoc.analysis.spread import build_batch
-    result = analyse_network(stage, analysis, sys.modules[__name__], evaluator=SampledEvaluator)
+    result = analyse_network(stage, analysis, sys.modules[__name__], evaluator=EVALUATOR,
+                             bode=bode)
     nominal = build_batch(stage, analysis, samples=0).take(slice(0, 1))
     conv = stage.options["converter"]
     curves = phys.curves(params_for(stage, nominal), float(nominal["c"][0]), conv["pin_c"])

@@ -299,7 +299,9 @@ def propose(stage) -> dict[str, Part]:
 # analysis
 
 
-def analyse(stage, analysis):
+def analyse(stage, analysis, bode: bool = True):
+    # ``bode``: a kind's analyse takes it (rcdoc.analysis.analyse.analyse_stage); this
+    # kind draws no Bode band, so it changes nothing here.
     from rcdoc.analysis.analyse import MetricResult, StageResult, _assumptions, _part_rows
     proposed = not stage.parts
     if proposed:

@@ -208,6 +208,9 @@ def histogram_figures(r: StageResult) -> list[dict]:
 
 
 def stage_context(r: StageResult, project: Project) -> dict:
+    if r.bode_pending:         # a caller's slip, not the user's: say which step was missed
+        raise RuntimeError(f"stage {r.stage.id!r} is drawn from an analysis without its Bode "
+                           "band: rcdoc.kinds.complete_bode adds it first")
     from rcdoc.note import schematic as sch
     from rcdoc.note.blocks import assumptions, draw_all
     st = r.stage
