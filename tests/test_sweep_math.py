@@ -123,6 +123,30 @@ def test_phase_at_marks_is_the_unwrap_it_replaces(tmp_path, kind, cap):
     assert np.array_equal(ev.phase_unwrapped, np.unwrap(ev.phase_rad, axis=1))
 
 
+@pytest.mark.parametrize("cap", ["10 nF", "1 pF", "100 mF"])
+def test_first_order_phase_at_marks_without_the_sweep(tmp_path, cap):
+    # A first-order low-pass's phase never wraps (Response.never_wraps): a mark's phase
+    # takes the one swept point before it, not the whole sweep. The same numbers as
+    # np.unwrap over the swept points up to the mark and the mark (old_phase), bit
+    # for bit; a row the zero-pole-gain form does not serve, a second-order or a
+    # high-pass response take the whole sweep.
+    ev, _ = evaluator(tmp_path, "rc-lowpass", cap)
+    f = ev.freqs_hz
+    marks = [f[0], f[5] * 1.01, f[150], f[150] * 1.013, f[-1], f[-1] * 2]
+    assert ev.response.never_wraps()
+    got = [ev.phase(at) for at in marks]
+    assert "phase_rad" not in ev.__dict__                  # no sweep of the phase
+    ref = Evaluator(ev.stage, ev.network, ev.values, ev.freqs_hz, ev.passband, ev.char_hz)
+    for at, g in zip(marks, got):
+        assert np.array_equal(g, old_phase(ref, at)), at
+    ev.response.ok = ev.response.ok.copy()
+    ev.response.ok[3] = False
+    assert not ev.response.never_wraps()
+    for kind, c in (("sallen-key-lowpass", "20 nF"), ("rc-highpass", "10 nF")):
+        other, _ = evaluator(tmp_path, kind, c)
+        assert not other.response.never_wraps()
+
+
 def test_angle_is_numpys_angle():
     rng = np.random.default_rng(3)
     h = (rng.standard_normal((200, 50)) + 1j * rng.standard_normal((200, 50))) \

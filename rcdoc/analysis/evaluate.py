@@ -592,8 +592,23 @@ def _unwrapped_phase(ev: Evaluator, at_hz: float) -> np.ndarray:
     n = int(np.count_nonzero(f >= at_hz if high else f <= at_hz))
     if n == 0:
         return np.degrees(ph_mark)
-    p, rows, k = ev.phase_wraps(high)
+    before, k_before = _phase_before(ev, n, high)
+    return np.degrees(sweep_math.unwrapped_at(ph_mark, before, k_before))
+
+
+def _phase_before(ev: Evaluator, n: int, high: bool) -> tuple[np.ndarray, np.ndarray]:
+    """The principal phase at the n-th swept point from the passband end and np.unwrap's
+    running correction there, per row. Where no row's phase can step by half a turn
+    (Response.never_wraps: a first-order low-pass) and the sweep's phase is not at
+    hand, the correction is zero and that one point is swept alone: the same
+    arithmetic, element by element, as the whole sweep's (whose wraps are then none)."""
     k_before = np.zeros(ev.rows)
+    if "phase_rad" not in ev.__dict__ and ev.response.never_wraps():
+        col = len(ev.freqs_hz) - n if high else n - 1
+        one = ev.response.sweep_phase(ev.freqs_hz[col:col + 1])
+        if one is not None:
+            return one[:, 0], k_before
+    p, rows, k = ev.phase_wraps(high)
     k_before[rows] = k[:, n - 1]
-    return np.degrees(sweep_math.unwrapped_at(ph_mark, p[:, n - 1], k_before))
+    return p[:, n - 1], k_before
 

@@ -131,6 +131,20 @@ class Response:
             o[...] = sweep_math.angle_of(re, im)
         return self._real_sweep(freqs_hz, block, sweep_math.angle)
 
+    def never_wraps(self) -> bool:
+        """No row's swept phase steps by half a turn (np.unwrap corrects nothing): every
+        row has one real pole and no finite zero (a first-order low-pass), is served by
+        the zero-pole-gain form, and has g·c0 > 0 and a finite c1. Each phase is then
+        the arctangent of (−c1·ω)/c0, of one sign over the sweep (ω > 0), so within a
+        quarter turn of its neighbours, and finite (sweep_phase's first-order path)."""
+        quads = self._quadratics()
+        if quads is None or quads[0] is not None or not quads[1].linear:
+            return False
+        den = quads[1]
+        with np.errstate(invalid="ignore"):
+            return bool(np.all(self.ok)) and bool(np.all(np.isfinite(den.c1))) \
+                and _right_half(np.sign(self.gain) * den.c0)
+
     def _real_sweep(self, freqs_hz: np.ndarray, block, of) -> np.ndarray | None:
         """(S, F) filled by ``block(num, den, rows, ω², ω, out)`` over cache-sized blocks
         of rows, the rows the form does not serve patched with ``of`` of their direct
