@@ -16,7 +16,7 @@ import numpy as np
 
 from rcdoc.analysis import engine
 from rcdoc.analysis import poles as polemod
-from rcdoc.analysis import sweep_math
+from rcdoc.analysis import mark_phase, sweep_math
 from rcdoc.analysis.sweep_math import db
 from rcdoc.analysis.noise import integration_grid, resonant_columns
 from rcdoc.analysis.response import Response
@@ -345,7 +345,7 @@ class Evaluator(PartStresses):
 
     def phase(self, at_hz: float) -> np.ndarray:
         """Phase unwrapped along the sweep from the passband, read at the mark."""
-        return _unwrapped_phase(self, float(at_hz))
+        return mark_phase.unwrapped_phase(self, float(at_hz))
 
     def group_delay(self, at_hz: float) -> np.ndarray:
         # τ = −dφ/dω by a central difference; the ratio avoids phase wrapping.
@@ -574,41 +574,3 @@ def _dominant_pair(p: np.ndarray):
     pj = p[rows, j]
     w0 = np.where(has, np.abs(pj), np.nan)      # p·p̄ = |p|²
     return w0, np.where(has, 2 * np.abs(pj.real), np.nan)
-
-
-def _unwrapped_phase(ev: Evaluator, at_hz: float) -> np.ndarray:
-    """Phase (degrees) at ``at_hz``, continuous along the sweep from the passband end.
-
-    The sweep's points up to the mark (from the low end for a low-pass or
-    band-pass, from the high end for a high-pass) are unwrapped, the mark's
-    value is joined to its nearest swept neighbour, and the whole is shifted
-    by whole turns so that the passband end reads within ±180°: the last value
-    of np.unwrap over those points and the mark, from the chunk's corrections
-    (sweep_math.unwrapped_at; the sweep rises, so the points are a prefix).
-    """
-    f = ev.freqs_hz
-    ph_mark = np.angle(ev.h_at(at_hz))
-    high = ev.passband == "high"
-    n = int(np.count_nonzero(f >= at_hz if high else f <= at_hz))
-    if n == 0:
-        return np.degrees(ph_mark)
-    before, k_before = _phase_before(ev, n, high)
-    return np.degrees(sweep_math.unwrapped_at(ph_mark, before, k_before))
-
-
-def _phase_before(ev: Evaluator, n: int, high: bool) -> tuple[np.ndarray, np.ndarray]:
-    """The principal phase at the n-th swept point from the passband end and np.unwrap's
-    running correction there, per row. Where no row's phase can step by half a turn
-    (Response.never_wraps: a first-order low-pass) and the sweep's phase is not at
-    hand, the correction is zero and that one point is swept alone: the same
-    arithmetic, element by element, as the whole sweep's (whose wraps are then none)."""
-    k_before = np.zeros(ev.rows)
-    if "phase_rad" not in ev.__dict__ and ev.response.never_wraps():
-        col = len(ev.freqs_hz) - n if high else n - 1
-        one = ev.response.sweep_phase(ev.freqs_hz[col:col + 1])
-        if one is not None:
-            return one[:, 0], k_before
-    p, rows, k = ev.phase_wraps(high)
-    k_before[rows] = k[:, n - 1]
-    return p[:, n - 1], k_before
-
