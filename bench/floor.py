@@ -43,10 +43,18 @@ issue's. Writes only into a temporary folder. Run:
 
 from __future__ import annotations
 
+import os
+
+# One BLAS thread, set before numpy loads, as rcdoc's commands set it
+# (rcdoc/commands/__init__.py): BLAS's idle threads spin after each call, and that
+# CPU would count against whatever this process times next (the floors included).
+for _name in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS",
+              "BLIS_NUM_THREADS", "VECLIB_MAXIMUM_THREADS"):
+    os.environ.setdefault(_name, "1")
+
 import argparse
 import json
 import math
-import os
 import subprocess
 import sys
 import tempfile

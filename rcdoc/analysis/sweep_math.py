@@ -35,14 +35,15 @@ def db(h: np.ndarray) -> np.ndarray:
 
 
 def finite_rows(y: np.ndarray) -> np.ndarray:
-    """np.all(np.isfinite(y), axis=1) for a 2-D ``y``: each row's sum (a product with
-    ones, which BLAS takes in one pass, a third of numpy's own sum here) is finite
-    only if every term is, and the rows whose sum is not (an infinity, a NaN, or
-    finite values whose sum overflows) are looked at value by value."""
+    """np.all(np.isfinite(y), axis=1) for a 2-D ``y``: each row's sum (einsum's, one
+    pass without a boolean array, and without BLAS, whose threads would spin in a
+    process that did not keep it to one) is finite only if every term is, and the
+    rows whose sum is not (an infinity, a NaN, or finite values whose sum
+    overflows) are looked at value by value."""
     if y.shape[1] == 0:
         return np.ones(y.shape[0], dtype=bool)
     with np.errstate(over="ignore", invalid="ignore"):
-        ok = np.isfinite(y @ np.ones(y.shape[1]))
+        ok = np.isfinite(np.einsum("ij->i", y))
     if not ok.all():
         bad = np.flatnonzero(~ok)
         ok[bad] = np.all(np.isfinite(y[bad]), axis=1)
