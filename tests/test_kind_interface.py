@@ -177,6 +177,10 @@ def test_unregistered_kind_is_unknown(tmp_path):
     ({"ROLES": ["r1", "r2", "c"]}, "ROLES must be a tuple of strings"),
     ({"build": None}, r"build\(\) is missing"),
     ({"metrics": lambda options, drive: ("corner", "sparkle")}, "metrics\\(\\) names 'sparkle'"),
+    # A kind's own analysis takes the Bode flag (rcdoc.analysis.analyse.analyse_stage
+    # passes it); a kind's Evaluator is one.
+    ({"analyse": lambda stage, analysis: None}, "must take a 'bode' keyword"),
+    ({"EVALUATOR": dict}, "EVALUATOR must be a subclass"),
 ])
 def test_registration_refuses_a_kind_missing_the_interface(overrides, message):
     mod = divider_kind(**overrides)

@@ -16,9 +16,11 @@ the kind registry or a kind object. The conveniences here (``load_project``,
 from __future__ import annotations
 
 import importlib
+import inspect
 import pkgutil
 
 from rcdoc.analysis import analyse as _analyse
+from rcdoc.analysis.evaluate import Evaluator
 from rcdoc.analysis.metrics import METRICS
 from rcdoc.input import project as _project
 from rcdoc.input.model import Drive
@@ -56,6 +58,14 @@ def check_kind(module) -> None:
     for name in _FUNCTIONS + (("analyse",) if hasattr(module, "analyse") else ()):
         if not callable(getattr(module, name, None)):
             raise KindError(f"{who}: {name}() is missing")
+    if hasattr(module, "analyse") and not _takes_bode(module.analyse):
+        raise KindError(f"{who}: analyse() must take a 'bode' keyword "
+                        "(analyse(stage, analysis, bode=True))")
+    evaluator = getattr(module, "EVALUATOR", None)
+    if evaluator is not None and not (isinstance(evaluator, type)
+                                      and issubclass(evaluator, Evaluator)):
+        raise KindError(f"{who}: EVALUATOR must be a subclass of "
+                        "rcdoc.analysis.evaluate.Evaluator")
     _check_metric_names(module, who, "HEADLINE", module.HEADLINE)
     for drive in _PROBE_DRIVES:
         try:
@@ -63,6 +73,16 @@ def check_kind(module) -> None:
         except Exception as exc:      # noqa: BLE001 - reported with the module's name
             raise KindError(f"{who}: metrics({{}}, {drive}) raised {exc!r}") from exc
         _check_metric_names(module, who, "metrics()", offered)
+
+
+def _takes_bode(fn) -> bool:
+    """Whether ``fn`` can be called with a ``bode`` keyword."""
+    try:
+        params = inspect.signature(fn).parameters.values()
+    except (TypeError, ValueError):       # a callable without a signature: leave it be
+        return True
+    return any(p.name == "bode" and p.kind in (p.POSITIONAL_OR_KEYWORD, p.KEYWORD_ONLY)
+               or p.kind is p.VAR_KEYWORD for p in params)
 
 
 def _check_metric_names(module, who: str, where: str, names) -> None:

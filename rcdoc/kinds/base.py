@@ -43,6 +43,9 @@ class KindModule(Protocol):
     def build(self, stage: Stage) -> Network: ...
     def characteristic_hz(self, stage: Stage) -> float: ...
     def schematic(self, stage: Stage): ...
+    # Optional: ``analyse(stage, analysis, bode=True) -> StageResult``, a kind's own
+    # analysis (``bode``: whether to gather the Bode band), and ``EVALUATOR``, the
+    # Evaluator subclass it hands analyse_network (rcdoc.analysis.analyse.complete).
 
 
 def no_options(table: dict, path: str) -> dict:
