@@ -25,7 +25,8 @@ BAND_PERCENTILES = (5.0, 95.0)
 
 
 class Envelope:
-    """Running minimum and maximum over chunks (for bands over every sample)."""
+    """Running minimum and maximum over chunks (for bands over every sample: the Bode
+    band's outer band here, the time responses' bands in rcdoc.analysis.analyse)."""
 
     def __init__(self):
         self.lo = self.hi = self.plo = self.phi = None
