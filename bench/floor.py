@@ -28,7 +28,10 @@ e  render the note's render (write_outputs of the example board, analysed and
           drawn beforehand, serial, the garbage collector set as the command sets
           it) against a floor: the distinct PNG images taken out of the note's own
           PDF, spread over as many pages in minimal HTML, rendered by weasyprint
-          directly in the same process. (d prints the 40-stage PDF's size.)
+          directly in the same process. Each is timed after a full collection, so
+          that each pays for collecting its own garbage, not for what the
+          analysis, the drawing or the other render left. (d prints the
+          40-stage PDF's size.)
 p  profile cProfile of the check path (one case of b's board, in process):
           the top entries by cumulative time inside rcdoc.
 
@@ -468,7 +471,7 @@ def contention(k: int) -> float:
 # garbage collector is set as the rcdoc command sets its own (collector.tune), for
 # the note and the floor alike: the note's render is measured as the command runs it.
 RENDER = r'''
-import json, sys, time
+import gc, json, sys, time
 from pathlib import Path
 sys.path.insert(0, sys.argv[1])
 import floor as bench
@@ -483,11 +486,13 @@ for rep in range(k):
     if fresh is not None:   # write_outputs files the parts it rendered: start each repeat cold
         outcome.parts[:] = fresh
     outcome.note_parts.clear()   # the appendix and page-number parts too
+    gc.collect()                 # each side pays for its own garbage, not the other's
     t0 = time.process_time()
     pdf = bench.write_note(outcome, tmp / f"note-{rep}")
     note.append(time.process_time() - t0)
     if pages is None:
         html, pages = bench.floor_html(pdf, tmp / "floor")
+    gc.collect()
     t0 = time.process_time()
     floor_pages = bench.render_floor(html, tmp / "floor")
     fl.append(time.process_time() - t0)
@@ -613,7 +618,7 @@ def main(argv=None) -> int:
         if "d" in args.sections:
             section_build(tmp, 10 if q else 40, 300 if q else 2000, k)
         if "e" in args.sections:
-            section_render(tmp, 200, 1 if q else 2)
+            section_render(tmp, 200, 1 if q else max(k, 2))
         if "p" in args.sections:
             section_profile(tmp, n)
     print(f"\n{'':2s}{'sec':3s} {'what':64s} value")
