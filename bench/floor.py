@@ -46,31 +46,29 @@ issue's. Writes only into a temporary folder. Run:
 
 from __future__ import annotations
 
-import os
-
-# One BLAS thread, set before numpy loads, as rcdoc's commands set it
-# (rcdoc/commands/__init__.py): BLAS's idle threads spin after each call, and that
-# CPU would count against whatever this process times next (the floors included).
-for _name in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS",
-              "BLIS_NUM_THREADS", "VECLIB_MAXIMUM_THREADS"):
-    os.environ.setdefault(_name, "1")
-
 import argparse
 import json
 import math
+import os
 import subprocess
 import sys
 import tempfile
 import time
 from pathlib import Path
 
-import numpy as np
-import scipy.optimize as so     # imported here: not timed inside the loop's first run
-import scipy.signal as sg
-
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 sys.path.insert(0, str(ROOT / "bench"))
+
+# This tree's commands package, before numpy loads: one BLAS thread (BLAS's idle
+# threads spin after each call, and that CPU would count against whatever this
+# process times next, the floors included) and the C heap kept, as the commands
+# run (rcdoc/commands/__init__.py).
+import rcdoc.commands  # noqa: E402,F401
+
+import numpy as np  # noqa: E402
+import scipy.optimize as so  # noqa: E402  (here: not timed inside the loop's first run)
+import scipy.signal as sg  # noqa: E402
 
 EXAMPLE = ROOT / "projects" / "greenhouse-controller.toml"
 ROWS: list[tuple[str, str, str]] = []          # (section, what, value) for the table
@@ -606,7 +604,6 @@ def main(argv=None) -> int:
     # would otherwise compile the modules changed since their .pyc was written.
     import compileall
     compileall.compile_dir(str(ROOT / "rcdoc"), quiet=1)
-    import rcdoc.commands     # noqa: F401  (keeps the C heap here too: the module docstring)
     with tempfile.TemporaryDirectory(prefix="rcdoc-floor-") as name:
         tmp = Path(name)
         if "c" in args.sections:     # first: nothing else has run in a child yet

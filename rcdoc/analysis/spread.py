@@ -206,7 +206,7 @@ def _order_pairs(rows: np.ndarray, j: int) -> tuple[np.ndarray, np.ndarray] | No
                         cand = cand[order[a:b + 1]]
                         continue
                 else:
-                    pair = _tied_pair(row, vals, low, top, below, upto, j)
+                    pair = _tied_pair(row, vals, low, top, below, j)
                     if pair is not None:      # the candidates stay: the ranks are among them
                         lo[i], hi[i] = pair
                         continue
@@ -219,10 +219,10 @@ def _order_pairs(rows: np.ndarray, j: int) -> tuple[np.ndarray, np.ndarray] | No
     return lo, hi
 
 
-def _tied_pair(row, vals, low, top, below: int, upto: int, j: int):
+def _tied_pair(row, vals, low, top, below: int, j: int):
     """Order statistics j and j + 1 of ``row`` where the candidates ``vals`` (lowest
-    ``low``, highest ``top``; ``below`` values of the row under ``low``, ``upto`` up
-    to ``top``) are not every value in [low, top] but the others tie with ``low``
+    ``low``, highest ``top``; ``below`` values of the row under ``low``) are not
+    every value in [low, top] but the others tie with ``low``
     or ``top`` (a saturated phase in float32 repeats values): the row's values in
     that range, sorted, are then every copy of ``low``, the candidates strictly
     between, sorted, and every copy of ``top``. None where some other value lies
